@@ -1,0 +1,78 @@
+#pragma once
+// Harmonic analysis: Cartesian Hessian, mass weighting, exact removal of rigid-body
+// motions, and the normal modes.
+//
+// Identity maintained by HarmonicResult: with B the 3N×(3N−r) orthonormal basis of
+// the vibrational subspace of mass-weighted Cartesian space (r = 6, or 5 if linear),
+// F = M^{-1/2} H M^{-1/2} the mass-weighted Hessian, and L = mass_weighted_modes,
+//   L = B·U, (BᵀFB)·U = U·Λ, LᵀL = I, eigenvalues = diag(Λ) ascending.
+// Normal coordinates Q (Å·Da^{1/2}) relate to Cartesians by x = x_eq + M^{-1/2} L Q.
+#include <Eigen/Dense>
+#include <string>
+#include <vector>
+
+#include "core/molecule.hpp"
+#include "potential/potential.hpp"
+
+namespace overtone {
+
+struct HessianOptions {
+  // Use the potential's analytic Hessian when it has one.
+  bool prefer_analytic = true;
+  // Central-difference step for gradients, Å. Balances truncation error
+  // (∝ step², third derivatives) against round-off in the gradient (∝ ε_grad/step);
+  // 0.005 Å suits force fields evaluated in double precision.
+  double finite_difference_step_angstrom = 0.005;
+};
+
+struct HessianResult {
+  Eigen::MatrixXd hessian;            // kcal/mol/Å², symmetrized
+  std::string method;                 // "analytic" or "central differences of gradients"
+  std::size_t gradient_evaluations = 0;
+  double asymmetry = 0.0;             // largest |H_ij − H_ji| before symmetrizing, kcal/mol/Å²
+};
+
+// Throws Error on size mismatch or a non-finite Hessian.
+HessianResult compute_hessian(const Potential& potential, const Eigen::VectorXd& coordinates_angstrom,
+                              const HessianOptions& options = {});
+
+struct NormalModeOptions {
+  // A molecule is linear when the smallest principal moment of inertia is below this
+  // fraction of the largest (dimensionless).
+  double linearity_tolerance = 1e-8;
+  // Frequencies below this magnitude (cm⁻¹) that are negative are imaginary and warned
+  // about only if their magnitude exceeds this threshold; smaller ones are noise.
+  double imaginary_warning_cm1 = 1.0;
+};
+
+struct HarmonicResult {
+  Eigen::VectorXd coordinates_angstrom;   // 3N geometry the analysis was done at
+  Eigen::VectorXd masses_da;              // N
+  bool linear = false;
+  int rigid_body_count = 6;               // 6, or 5 for a linear molecule
+  Eigen::MatrixXd cartesian_hessian;      // kcal/mol/Å²
+  Eigen::MatrixXd vibrational_basis;      // B, 3N × (3N−r), orthonormal
+  Eigen::VectorXd eigenvalues;            // kcal/mol/(Å² Da), ascending
+  Eigen::VectorXd frequencies_cm1;        // signed: negative means imaginary; ascending
+  Eigen::MatrixXd mass_weighted_modes;    // L, 3N × (3N−r), orthonormal columns
+  Eigen::MatrixXd cartesian_displacements;  // columns M^{-1/2} L_k normalized to unit length
+  Eigen::VectorXd reduced_masses_da;      // 1 / |M^{-1/2} L_k|²
+  Eigen::VectorXd force_constants_mdyn_per_angstrom;  // λ_k μ_k in mdyn/Å
+  Eigen::VectorXd rigid_body_eigenvalues; // of the unprojected F restricted to rigid-body space, kcal/mol/(Å² Da)
+  std::vector<std::string> warnings;
+
+  std::size_t mode_count() const { return static_cast<std::size_t>(frequencies_cm1.size()); }
+};
+
+// Mass-weights, projects and diagonalizes the given Cartesian Hessian at the given
+// geometry. Throws Error on inconsistent sizes or non-positive masses.
+HarmonicResult analyze_normal_modes(const Eigen::VectorXd& coordinates_angstrom,
+                                    const Eigen::VectorXd& masses_da, const Eigen::MatrixXd& cartesian_hessian,
+                                    const NormalModeOptions& options = {});
+
+// Orthonormal basis (3N×r) of the rigid-body motions (translations, rotations) in
+// mass-weighted Cartesian space at the given geometry; r = 5 for linear molecules.
+Eigen::MatrixXd rigid_body_basis(const Eigen::VectorXd& coordinates_angstrom, const Eigen::VectorXd& masses_da,
+                                 double linearity_tolerance, bool* is_linear = nullptr);
+
+}  // namespace overtone

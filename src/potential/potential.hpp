@@ -1,0 +1,65 @@
+#pragma once
+// One interface for every potential energy surface.
+//
+// Contract: coordinates are a 3N vector in Å (atom-major, the atom order of the
+// Molecule the potential was built for); energies are in kcal/mol relative to an
+// arbitrary zero; gradients in kcal/mol/Å are dE/dx (not forces); Hessians in
+// kcal/mol/Å² are symmetric. Every public evaluation is counted so that stages can
+// report how many evaluations they used.
+#include <Eigen/Dense>
+#include <cstddef>
+#include <memory>
+#include <string>
+
+#include "core/molecule.hpp"
+
+namespace overtone {
+
+struct EvaluationCounts {
+  std::size_t energies = 0;    // energy-only evaluations
+  std::size_t gradients = 0;   // energy+gradient evaluations
+  std::size_t hessians = 0;    // analytic Hessian evaluations
+};
+
+class Potential {
+ public:
+  virtual ~Potential() = default;
+
+  // Short human-readable name, e.g. "MMFF94 (Open Babel)" or the file's title.
+  virtual std::string description() const = 0;
+  virtual std::size_t atom_count() const = 0;
+  virtual bool has_analytic_hessian() const { return false; }
+
+  double energy(const Eigen::VectorXd& x) const {
+    check_size(x);
+    ++counts_.energies;
+    return compute_energy(x);
+  }
+  // Returns the energy; writes dE/dx into gradient (resized to 3N).
+  double energy_and_gradient(const Eigen::VectorXd& x, Eigen::VectorXd& gradient) const {
+    check_size(x);
+    ++counts_.gradients;
+    gradient.resize(x.size());
+    return compute_energy_and_gradient(x, gradient);
+  }
+  // Analytic Hessian; throws Error when has_analytic_hessian() is false.
+  Eigen::MatrixXd hessian(const Eigen::VectorXd& x) const {
+    check_size(x);
+    ++counts_.hessians;
+    return compute_hessian(x);
+  }
+
+  const EvaluationCounts& counts() const { return counts_; }
+  void reset_counts() const { counts_ = {}; }
+
+ protected:
+  virtual double compute_energy(const Eigen::VectorXd& x) const = 0;
+  virtual double compute_energy_and_gradient(const Eigen::VectorXd& x, Eigen::VectorXd& gradient) const = 0;
+  virtual Eigen::MatrixXd compute_hessian(const Eigen::VectorXd& x) const;
+
+ private:
+  void check_size(const Eigen::VectorXd& x) const;
+  mutable EvaluationCounts counts_;
+};
+
+}  // namespace overtone
