@@ -2,10 +2,11 @@
 // Harmonic analysis: Cartesian Hessian, mass weighting, exact removal of rigid-body
 // motions, and the normal modes.
 //
-// Identity maintained by HarmonicResult: with B the 3N×(3N−r) orthonormal basis of
-// the vibrational subspace of mass-weighted Cartesian space (r = 6, or 5 if linear),
+// Identity maintained by HarmonicResult: with R the 3N×r orthonormal basis of rigid-body
+// motions in mass-weighted Cartesian space (r = 6, or 5 if linear), P = I − RRᵀ,
 // F = M^{-1/2} H M^{-1/2} the mass-weighted Hessian, and L = mass_weighted_modes,
-//   L = B·U, (BᵀFB)·U = U·Λ, LᵀL = I, eigenvalues = diag(Λ) ascending.
+//   (PFP)·L = L·Λ, RᵀL = 0, LᵀL = I, eigenvalues = diag(Λ) ascending.
+// Each column of L has its largest-magnitude component positive (a fixed sign).
 // Normal coordinates Q (Å·Da^{1/2}) relate to Cartesians by x = x_eq + M^{-1/2} L Q.
 #include <Eigen/Dense>
 #include <string>
@@ -51,7 +52,7 @@ struct HarmonicResult {
   bool linear = false;
   int rigid_body_count = 6;               // 6, or 5 for a linear molecule
   Eigen::MatrixXd cartesian_hessian;      // kcal/mol/Å²
-  Eigen::MatrixXd vibrational_basis;      // B, 3N × (3N−r), orthonormal
+  Eigen::MatrixXd rigid_body_basis;       // R, 3N × r, orthonormal (mass-weighted)
   Eigen::VectorXd eigenvalues;            // kcal/mol/(Å² Da), ascending
   Eigen::VectorXd frequencies_cm1;        // signed: negative means imaginary; ascending
   Eigen::MatrixXd mass_weighted_modes;    // L, 3N × (3N−r), orthonormal columns

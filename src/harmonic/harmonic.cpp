@@ -1,0 +1,182 @@
+#include "harmonic/harmonic.hpp"
+
+#include <algorithm>
+#include <cmath>
+#include <string>
+
+#include <fmt/format.h>
+
+#include "core/error.hpp"
+#include "core/units.hpp"
+
+namespace overtone {
+
+namespace {
+
+void require_finite(const Eigen::MatrixXd& matrix, const std::string& what) {
+  if (!matrix.allFinite()) throw Error(what + " contains non-finite entries (nan or inf)");
+}
+
+Eigen::Vector3d center_of_mass(const Eigen::VectorXd& x, const Eigen::VectorXd& masses) {
+  Eigen::Vector3d center = Eigen::Vector3d::Zero();
+  for (Eigen::Index i = 0; i < masses.size(); ++i) center += masses[i] * x.segment<3>(3 * i);
+  return center / masses.sum();
+}
+
+}  // namespace
+
+HessianResult compute_hessian(const Potential& potential, const Eigen::VectorXd& coordinates_angstrom,
+                              const HessianOptions& options) {
+  if (!(options.finite_difference_step_angstrom > 0.0))
+    throw Error(fmt::format("hessian option finite_difference_step_angstrom must be positive, got {}",
+                            options.finite_difference_step_angstrom));
+  const Eigen::Index n = coordinates_angstrom.size();
+  HessianResult result;
+  if (options.prefer_analytic && potential.has_analytic_hessian()) {
+    result.hessian = potential.hessian(coordinates_angstrom);
+    result.method = "analytic";
+  } else {
+    // Column k is dg/dx_k by central differences of analytic gradients: error O(h²)
+    // from third derivatives plus O(ε_g/h) from gradient round-off.
+    const double step = options.finite_difference_step_angstrom;
+    result.hessian.resize(n, n);
+    Eigen::VectorXd displaced = coordinates_angstrom;
+    Eigen::VectorXd gradient_plus, gradient_minus;
+    for (Eigen::Index k = 0; k < n; ++k) {
+      displaced[k] = coordinates_angstrom[k] + step;
+      potential.energy_and_gradient(displaced, gradient_plus);
+      displaced[k] = coordinates_angstrom[k] - step;
+      potential.energy_and_gradient(displaced, gradient_minus);
+      displaced[k] = coordinates_angstrom[k];
+      result.hessian.col(k) = (gradient_plus - gradient_minus) / (2.0 * step);
+    }
+    result.gradient_evaluations = static_cast<std::size_t>(2 * n);
+    result.method = "central differences of gradients";
+  }
+  if (result.hessian.rows() != n || result.hessian.cols() != n)
+    throw Error(fmt::format("hessian has shape {}x{}, expected {}x{}", result.hessian.rows(),
+                            result.hessian.cols(), n, n));
+  require_finite(result.hessian, "the hessian");
+  result.asymmetry = (result.hessian - result.hessian.transpose()).cwiseAbs().maxCoeff();
+  result.hessian = 0.5 * (result.hessian + result.hessian.transpose()).eval();
+  return result;
+}
+
+Eigen::MatrixXd rigid_body_basis(const Eigen::VectorXd& x, const Eigen::VectorXd& masses,
+                                 double linearity_tolerance, bool* is_linear) {
+  const Eigen::Index atoms = masses.size();
+  const Eigen::Vector3d center = center_of_mass(x, masses);
+  Eigen::Matrix3d inertia = Eigen::Matrix3d::Zero();
+  for (Eigen::Index i = 0; i < atoms; ++i) {
+    const Eigen::Vector3d r = x.segment<3>(3 * i) - center;
+    inertia += masses[i] * (r.squaredNorm() * Eigen::Matrix3d::Identity() - r * r.transpose());
+  }
+  const Eigen::SelfAdjointEigenSolver<Eigen::Matrix3d> principal(inertia);
+  const double largest_moment = principal.eigenvalues().maxCoeff();
+
+  // Translations and rotations about principal axes through the centre of mass are
+  // mutually orthogonal in mass-weighted space, so normalizing them gives R exactly.
+  std::vector<Eigen::VectorXd> vectors;
+  for (int axis = 0; axis < 3; ++axis) {
+    Eigen::VectorXd translation = Eigen::VectorXd::Zero(3 * atoms);
+    for (Eigen::Index i = 0; i < atoms; ++i) translation[3 * i + axis] = std::sqrt(masses[i]);
+    vectors.push_back(translation.normalized());
+  }
+  int rotations = 0;
+  for (int axis = 0; axis < 3; ++axis) {
+    const double moment = principal.eigenvalues()[axis];
+    if (atoms < 2 || moment <= linearity_tolerance * largest_moment) continue;
+    const Eigen::Vector3d direction = principal.eigenvectors().col(axis);
+    Eigen::VectorXd rotation(3 * atoms);
+    for (Eigen::Index i = 0; i < atoms; ++i)
+      rotation.segment<3>(3 * i) = std::sqrt(masses[i]) * direction.cross(x.segment<3>(3 * i) - center);
+    vectors.push_back(rotation.normalized());
+    ++rotations;
+  }
+  if (is_linear) *is_linear = atoms >= 2 && rotations == 2;
+  Eigen::MatrixXd basis(3 * atoms, static_cast<Eigen::Index>(vectors.size()));
+  for (std::size_t k = 0; k < vectors.size(); ++k) basis.col(static_cast<Eigen::Index>(k)) = vectors[k];
+  return basis;
+}
+
+HarmonicResult analyze_normal_modes(const Eigen::VectorXd& coordinates_angstrom, const Eigen::VectorXd& masses_da,
+                                    const Eigen::MatrixXd& cartesian_hessian, const NormalModeOptions& options) {
+  const Eigen::Index atoms = masses_da.size();
+  const Eigen::Index n = 3 * atoms;
+  if (atoms < 2) throw Error(fmt::format("a vibrational analysis needs at least 2 atoms, got {}", atoms));
+  if (coordinates_angstrom.size() != n)
+    throw Error(fmt::format("geometry has {} coordinates, expected {} for {} atoms", coordinates_angstrom.size(),
+                            n, atoms));
+  if (cartesian_hessian.rows() != n || cartesian_hessian.cols() != n)
+    throw Error(fmt::format("hessian is {}x{}, expected {}x{}", cartesian_hessian.rows(), cartesian_hessian.cols(),
+                            n, n));
+  for (Eigen::Index i = 0; i < atoms; ++i)
+    if (!(masses_da[i] > 0.0)) throw Error(fmt::format("atom {} has non-positive mass {} Da", i + 1, masses_da[i]));
+  if (!(options.linearity_tolerance > 0.0 && options.linearity_tolerance < 1.0))
+    throw Error(fmt::format("normal-mode option linearity_tolerance must lie in (0, 1), got {}",
+                            options.linearity_tolerance));
+  require_finite(cartesian_hessian, "the hessian");
+
+  HarmonicResult result;
+  result.coordinates_angstrom = coordinates_angstrom;
+  result.masses_da = masses_da;
+  result.cartesian_hessian = cartesian_hessian;
+
+  Eigen::VectorXd inverse_sqrt_mass(n);
+  for (Eigen::Index i = 0; i < n; ++i) inverse_sqrt_mass[i] = 1.0 / std::sqrt(masses_da[i / 3]);
+  const Eigen::MatrixXd mass_weighted =
+      inverse_sqrt_mass.asDiagonal() * cartesian_hessian * inverse_sqrt_mass.asDiagonal();
+
+  result.rigid_body_basis = rigid_body_basis(coordinates_angstrom, masses_da, options.linearity_tolerance,
+                                             &result.linear);
+  const Eigen::MatrixXd& rigid = result.rigid_body_basis;
+  const Eigen::Index r = rigid.cols();
+  result.rigid_body_count = static_cast<int>(r);
+  const Eigen::Index vib = n - r;
+  if (vib < 1) throw Error("the molecule has no vibrational degrees of freedom");
+
+  // PFP by rank-r updates (O(n² r), no dense n³ products). Adding σRRᵀ with σ above
+  // the spectrum of PFP lifts the rigid-body directions to the top, so the lowest
+  // n − r eigenpairs are exactly the vibrations, whatever their sign.
+  const Eigen::MatrixXd f_rigid = mass_weighted * rigid;                 // n×r
+  const Eigen::MatrixXd rigid_block = rigid.transpose() * f_rigid;       // r×r
+  Eigen::MatrixXd projected = mass_weighted;
+  projected.noalias() -= rigid * f_rigid.transpose();
+  projected.noalias() -= f_rigid * rigid.transpose();
+  projected.noalias() += rigid * (rigid_block * rigid.transpose());
+  const double spectral_bound = mass_weighted.cwiseAbs().rowwise().sum().maxCoeff();  // Gershgorin
+  const double lift = 2.0 * spectral_bound + 1.0;
+  projected.noalias() += lift * rigid * rigid.transpose();
+  projected = 0.5 * (projected + projected.transpose()).eval();
+
+  const Eigen::SelfAdjointEigenSolver<Eigen::MatrixXd> solver(projected);
+  if (solver.info() != Eigen::Success) throw Error("the symmetric eigensolver failed on the mass-weighted hessian");
+  result.eigenvalues = solver.eigenvalues().head(vib);
+  result.mass_weighted_modes = solver.eigenvectors().leftCols(vib);
+  result.rigid_body_eigenvalues = Eigen::SelfAdjointEigenSolver<Eigen::MatrixXd>(rigid_block).eigenvalues();
+
+  result.frequencies_cm1.resize(vib);
+  result.reduced_masses_da.resize(vib);
+  result.force_constants_mdyn_per_angstrom.resize(vib);
+  result.cartesian_displacements.resize(n, vib);
+  for (Eigen::Index k = 0; k < vib; ++k) {
+    auto mode = result.mass_weighted_modes.col(k);
+    Eigen::Index largest = 0;
+    mode.cwiseAbs().maxCoeff(&largest);
+    if (mode[largest] < 0.0) mode *= -1.0;
+    const Eigen::VectorXd cartesian = inverse_sqrt_mass.asDiagonal() * mode;
+    const double squared_norm = cartesian.squaredNorm();
+    result.cartesian_displacements.col(k) = cartesian / std::sqrt(squared_norm);
+    result.reduced_masses_da[k] = 1.0 / squared_norm;
+    result.frequencies_cm1[k] = units::wavenumber_cm1_from_eigenvalue(result.eigenvalues[k]);
+    result.force_constants_mdyn_per_angstrom[k] = result.eigenvalues[k] * result.reduced_masses_da[k] *
+                                                  units::mdyn_per_angstrom_per_kcal_mol_per_angstrom2;
+    if (result.frequencies_cm1[k] < -options.imaginary_warning_cm1)
+      result.warnings.push_back(fmt::format(
+          "mode with imaginary frequency {:.2f}i cm-1: the geometry is not a minimum of this potential",
+          -result.frequencies_cm1[k]));
+  }
+  return result;
+}
+
+}  // namespace overtone
