@@ -9,7 +9,7 @@ namespace overtone {
 
 struct Atom {
   int atomic_number = 0;
-  int mass_number = 0;         // 0 means the element's natural-abundance average mass
+  int mass_number = 0;         // 0: the element's most abundant isotope (the usual choice for spectra)
   double mass_da = 0.0;        // the mass used in the vibrational analysis
   int formal_charge = 0;
   Eigen::Vector3d position_angstrom = Eigen::Vector3d::Zero();

@@ -1,0 +1,67 @@
+#include "molecule/openbabel_bridge.hpp"
+
+#include <openbabel/atom.h>
+#include <openbabel/bond.h>
+#include <openbabel/elements.h>
+#include <openbabel/obiter.h>
+
+#include <fmt/format.h>
+
+#include "core/error.hpp"
+
+namespace overtone {
+
+Molecule molecule_from_openbabel(OpenBabel::OBMol& mol) {
+  Molecule molecule;
+  molecule.title = mol.GetTitle();
+  molecule.total_charge = mol.GetTotalCharge();
+  molecule.spin_multiplicity = static_cast<int>(mol.GetTotalSpinMultiplicity());
+  int index = 0;
+  FOR_ATOMS_OF_MOL(ob_atom, mol) {
+    ++index;
+    Atom atom;
+    atom.atomic_number = static_cast<int>(ob_atom->GetAtomicNum());
+    if (atom.atomic_number < 1)
+      throw Error(fmt::format("atom {} has an element symbol Open Babel does not know", index));
+    const unsigned isotope = ob_atom->GetIsotope();
+    atom.mass_number = static_cast<int>(isotope);
+    atom.mass_da = OpenBabel::OBElements::GetExactMass(static_cast<unsigned>(atom.atomic_number), isotope);
+    if (!(atom.mass_da > 0.0))
+      throw Error(fmt::format("atom {}: there is no isotope {}{} in Open Babel's isotope table", index, isotope,
+                              element_symbol(atom.atomic_number)));
+    atom.formal_charge = ob_atom->GetFormalCharge();
+    atom.position_angstrom = {ob_atom->GetX(), ob_atom->GetY(), ob_atom->GetZ()};
+    molecule.atoms.push_back(atom);
+  }
+  FOR_BONDS_OF_MOL(ob_bond, mol) {
+    Bond bond;
+    bond.first = static_cast<int>(ob_bond->GetBeginAtomIdx()) - 1;
+    bond.second = static_cast<int>(ob_bond->GetEndAtomIdx()) - 1;
+    bond.order = static_cast<int>(ob_bond->GetBondOrder());
+    molecule.bonds.push_back(bond);
+  }
+  return molecule;
+}
+
+void openbabel_from_molecule(const Molecule& molecule, OpenBabel::OBMol& mol) {
+  mol.Clear();
+  mol.BeginModify();
+  for (const auto& atom : molecule.atoms) {
+    OpenBabel::OBAtom* ob_atom = mol.NewAtom();
+    ob_atom->SetAtomicNum(static_cast<unsigned>(atom.atomic_number));
+    if (atom.mass_number > 0) ob_atom->SetIsotope(static_cast<unsigned>(atom.mass_number));
+    ob_atom->SetFormalCharge(atom.formal_charge);
+    ob_atom->SetVector(atom.position_angstrom.x(), atom.position_angstrom.y(), atom.position_angstrom.z());
+  }
+  for (const auto& bond : molecule.bonds)
+    mol.AddBond(bond.first + 1, bond.second + 1, bond.order);
+  mol.EndModify();
+  if (molecule.bonds.empty() && molecule.atoms.size() > 1) {
+    mol.ConnectTheDots();
+    mol.PerceiveBondOrders();
+  }
+  mol.SetTotalCharge(molecule.total_charge);
+  mol.SetTotalSpinMultiplicity(static_cast<unsigned>(molecule.spin_multiplicity));
+}
+
+}  // namespace overtone

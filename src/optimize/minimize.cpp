@@ -1,0 +1,167 @@
+#include "optimize/minimize.hpp"
+
+#include <LBFGS.h>
+
+#include <cmath>
+#include <stdexcept>
+
+#include <fmt/format.h>
+
+#include "core/error.hpp"
+#include "harmonic/harmonic.hpp"
+
+namespace overtone {
+
+namespace {
+
+void check_options(const MinimizeOptions& o) {
+  auto positive = [](double value, const char* name) {
+    if (!(value > 0.0)) throw Error(fmt::format("minimize option {} must be positive, got {}", name, value));
+  };
+  positive(o.rms_gradient_tolerance, "rms_gradient_tolerance");
+  positive(o.lbfgs_rms_gradient_target, "lbfgs_rms_gradient_target");
+  positive(o.newton_max_atom_step_angstrom, "newton_max_atom_step_angstrom");
+  positive(o.hessian_step_angstrom, "hessian_step_angstrom");
+  if (o.lbfgs_max_iterations < 0 || o.newton_max_steps < 0 || o.lbfgs_memory < 1)
+    throw Error("minimize options lbfgs_max_iterations and newton_max_steps must be non-negative and "
+                "lbfgs_memory positive");
+}
+
+double rms(const Eigen::VectorXd& g) { return g.norm() / std::sqrt(static_cast<double>(g.size())); }
+
+double largest_atom_move(const Eigen::VectorXd& step) {
+  double largest = 0.0;
+  for (Eigen::Index i = 0; i + 2 < step.size(); i += 3) largest = std::max(largest, step.segment<3>(i).norm());
+  return largest;
+}
+
+}  // namespace
+
+std::string to_string(MinimizeStatus status) {
+  switch (status) {
+    case MinimizeStatus::converged: return "converged";
+    case MinimizeStatus::not_converged: return "not converged";
+    case MinimizeStatus::saddle_point: return "saddle point";
+  }
+  return "unknown";
+}
+
+MinimizeResult minimize(const Potential& potential, const Eigen::VectorXd& start_angstrom,
+                        const MinimizeOptions& options) {
+  check_options(options);
+  const EvaluationCounts before = potential.counts();
+  const Eigen::Index n = start_angstrom.size();
+  MinimizeResult result;
+  result.rms_gradient_tolerance = options.rms_gradient_tolerance;
+  Eigen::VectorXd x = start_angstrom;
+  Eigen::VectorXd gradient;
+  double energy = potential.energy_and_gradient(x, gradient);
+  if (!std::isfinite(energy) || !gradient.allFinite())
+    throw Error("the potential gives a non-finite energy or gradient at the starting geometry");
+
+  // Stage 1: L-BFGS down to the hand-over gradient.
+  if (rms(gradient) > options.lbfgs_rms_gradient_target && options.lbfgs_max_iterations > 0) {
+    LBFGSpp::LBFGSParam<double> parameters;
+    parameters.m = options.lbfgs_memory;
+    // This L-BFGS version stops at |g| < ε·max(1, |x|); scale ε so that the test is on
+    // the rms gradient at the starting |x| (Newton steps own the final criterion).
+    parameters.epsilon = options.lbfgs_rms_gradient_target * std::sqrt(static_cast<double>(n)) /
+                         std::max(1.0, x.norm());
+    parameters.max_iterations = options.lbfgs_max_iterations;
+    parameters.max_linesearch = 60;
+    LBFGSpp::LBFGSSolver<double> solver(parameters);
+    auto objective = [&](const Eigen::VectorXd& trial, Eigen::VectorXd& trial_gradient) {
+      return potential.energy_and_gradient(trial, trial_gradient);
+    };
+    Eigen::VectorXd trial = x;
+    double trial_energy = energy;
+    try {
+      result.lbfgs_iterations = solver.minimize(objective, trial, trial_energy);
+    } catch (const std::exception&) {
+      // Line-search failure near round-off: keep the best point and let Newton finish.
+      result.lbfgs_iterations = options.lbfgs_max_iterations;
+    }
+    Eigen::VectorXd trial_gradient;
+    const double final_energy = potential.energy_and_gradient(trial, trial_gradient);
+    if (std::isfinite(final_energy) && trial_gradient.allFinite() && final_energy <= energy) {
+      x = trial;
+      energy = final_energy;
+      gradient = trial_gradient;
+    }
+  }
+
+  // Stage 2: Newton steps in the space orthogonal to rigid-body motions (unit masses).
+  const Eigen::VectorXd unit_masses = Eigen::VectorXd::Ones(n / 3);
+  HessianOptions hessian_options;
+  hessian_options.finite_difference_step_angstrom = options.hessian_step_angstrom;
+  int negative_directions = 0;
+  for (int step = 0; step < options.newton_max_steps && rms(gradient) > options.rms_gradient_tolerance; ++step) {
+    const Eigen::MatrixXd hessian = compute_hessian(potential, x, hessian_options).hessian;
+    const Eigen::MatrixXd rigid = rigid_body_basis(x, unit_masses, NormalModeOptions{}.linearity_tolerance);
+    const Eigen::MatrixXd projector =
+        Eigen::MatrixXd::Identity(n, n) - rigid * rigid.transpose();
+    const Eigen::SelfAdjointEigenSolver<Eigen::MatrixXd> solver(projector * hessian * projector);
+    // Order by |λ| descending is not needed: skip the r directions with largest rigid overlap.
+    Eigen::VectorXd newton_step = Eigen::VectorXd::Zero(n);
+    negative_directions = 0;
+    const Eigen::VectorXd projected_gradient = projector * gradient;
+    for (Eigen::Index k = 0; k < n; ++k) {
+      const Eigen::VectorXd v = solver.eigenvectors().col(k);
+      if ((rigid.transpose() * v).squaredNorm() > 0.5) continue;
+      const double curvature = solver.eigenvalues()[k];
+      if (curvature < options.negative_curvature_threshold) ++negative_directions;
+      const double magnitude = std::max(std::abs(curvature), 1e-6);
+      newton_step -= (v.dot(projected_gradient) / magnitude) * v;
+    }
+    const double move = largest_atom_move(newton_step);
+    if (move > options.newton_max_atom_step_angstrom) newton_step *= options.newton_max_atom_step_angstrom / move;
+    // Accept the full step if it lowers the gradient or the energy; otherwise halve.
+    bool accepted = false;
+    for (int halving = 0; halving < 8 && !accepted; ++halving) {
+      Eigen::VectorXd trial_gradient;
+      const Eigen::VectorXd trial = x + newton_step;
+      const double trial_energy = potential.energy_and_gradient(trial, trial_gradient);
+      if (std::isfinite(trial_energy) && trial_gradient.allFinite() &&
+          (rms(trial_gradient) < rms(gradient) || trial_energy < energy)) {
+        x = trial;
+        energy = trial_energy;
+        gradient = trial_gradient;
+        accepted = true;
+      } else {
+        newton_step *= 0.5;
+      }
+    }
+    ++result.newton_steps;
+    if (!accepted) break;
+  }
+
+  result.coordinates_angstrom = x;
+  result.energy_kcal_mol = energy;
+  result.rms_gradient = rms(gradient);
+  result.max_gradient = gradient.cwiseAbs().maxCoeff();
+  result.negative_curvature_directions = negative_directions;
+  const EvaluationCounts& after = potential.counts();
+  result.energy_evaluations = after.energies - before.energies;
+  result.gradient_evaluations = after.gradients - before.gradients;
+  result.hessian_evaluations = after.hessians - before.hessians;
+
+  if (result.rms_gradient > options.rms_gradient_tolerance) {
+    result.status = MinimizeStatus::not_converged;
+    result.message = fmt::format(
+        "optimization stopped with rms gradient {:.2e} kcal/mol/Å above the criterion {:.1e} after {} L-BFGS "
+        "iterations and {} Newton steps",
+        result.rms_gradient, options.rms_gradient_tolerance, result.lbfgs_iterations, result.newton_steps);
+  } else if (negative_directions > 0) {
+    result.status = MinimizeStatus::saddle_point;
+    result.message = fmt::format("stationary point with {} direction(s) of negative curvature: a saddle point, "
+                                 "not a minimum",
+                                 negative_directions);
+  } else {
+    result.status = MinimizeStatus::converged;
+    result.message = fmt::format("converged: rms gradient {:.2e} kcal/mol/Å (criterion {:.1e})",
+                                 result.rms_gradient, options.rms_gradient_tolerance);
+  }
+  return result;
+}
+
+}  // namespace overtone

@@ -1,0 +1,24 @@
+#include "potential/make_potential.hpp"
+
+#include <filesystem>
+
+#include <fmt/format.h>
+
+#include "core/error.hpp"
+#include "potential/openbabel_potential.hpp"
+#include "potential/valence_force_field.hpp"
+
+namespace overtone {
+
+std::unique_ptr<Potential> make_potential(const std::string& name_or_path, const Molecule& molecule) {
+  if (!canonical_openbabel_force_field(name_or_path).empty())
+    return std::make_unique<OpenBabelPotential>(name_or_path, molecule);
+  std::error_code ec;
+  if (!std::filesystem::exists(name_or_path, ec))
+    throw Error(fmt::format("'{}' is neither a force field (MMFF94, MMFF94s, UFF, GAFF, Ghemical) nor an "
+                            "existing potential file",
+                            name_or_path));
+  return load_valence_force_field(name_or_path, molecule);
+}
+
+}  // namespace overtone

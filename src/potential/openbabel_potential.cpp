@@ -1,0 +1,149 @@
+#include "potential/openbabel_potential.hpp"
+
+#include <openbabel/atom.h>
+#include <openbabel/forcefield.h>
+#include <openbabel/mol.h>
+#include <openbabel/oberror.h>
+
+#include <algorithm>
+#include <cctype>
+#include <sstream>
+
+#include <fmt/format.h>
+
+#include "core/error.hpp"
+#include "core/units.hpp"
+#include "molecule/openbabel_bridge.hpp"
+
+namespace overtone {
+
+namespace {
+
+std::string lower(std::string text) {
+  for (auto& c : text) c = static_cast<char>(std::tolower(static_cast<unsigned char>(c)));
+  return text;
+}
+
+double kcal_mol_per_openbabel_unit(const std::string& unit, const std::string& name) {
+  if (unit == "kcal/mol") return 1.0;
+  if (unit == "kJ/mol") return units::kcal_mol_per_kj_mol;
+  throw Error(fmt::format("force field {} reports energies in '{}', which this program does not convert", name,
+                          unit));
+}
+
+}  // namespace
+
+const std::vector<std::string>& supported_openbabel_force_fields() {
+  static const std::vector<std::string> names{"MMFF94", "MMFF94s", "UFF", "GAFF", "Ghemical"};
+  return names;
+}
+
+std::string canonical_openbabel_force_field(const std::string& name) {
+  for (const auto& known : supported_openbabel_force_fields())
+    if (lower(known) == lower(name)) return known;
+  return {};
+}
+
+OpenBabelPotential::OpenBabelPotential(const std::string& force_field_name, const Molecule& molecule,
+                                       const OpenBabelPotentialOptions& options)
+    : options_(options) {
+  name_ = canonical_openbabel_force_field(force_field_name);
+  if (name_.empty())
+    throw Error(fmt::format("'{}' is not a supported force field; choose one of MMFF94, MMFF94s, UFF, GAFF, "
+                            "Ghemical or give a potential file",
+                            force_field_name));
+  if (!(options_.out_of_plane_difference_step_angstrom > 0.0))
+    throw Error(fmt::format("out_of_plane_difference_step_angstrom must be positive, got {}",
+                            options_.out_of_plane_difference_step_angstrom));
+  atom_count_ = molecule.atom_count();
+  if (atom_count_ == 0) throw Error("cannot set up a force field for a molecule without atoms");
+
+  std::ostringstream log;
+  OpenBabel::obErrorLog.SetOutputStream(&log);
+  OpenBabel::obErrorLog.SetOutputLevel(OpenBabel::obWarning);
+
+  OpenBabel::OBForceField* prototype = OpenBabel::OBForceField::FindForceField(name_);
+  if (!prototype) throw Error(fmt::format("open babel on this machine does not provide the {} force field", name_));
+  field_.reset(prototype->MakeNewInstance());
+  mol_ = std::make_unique<OpenBabel::OBMol>();
+  openbabel_from_molecule(molecule, *mol_);
+  if (!field_->Setup(*mol_)) {
+    std::string detail = log.str();
+    const auto start = detail.find_first_not_of("=* \n");
+    detail = start == std::string::npos ? "" : detail.substr(start, detail.find('\n', start) - start);
+    std::string elements;
+    for (const auto& atom : molecule.atoms) elements += element_symbol(atom.atomic_number) + " ";
+    throw Error(fmt::format("force field {} cannot assign atom types or parameters to {} ({}){}", name_,
+                            molecule.formula(), elements.substr(0, elements.size() - 1),
+                            detail.empty() ? "" : "; open babel says: " + detail));
+  }
+  kcal_mol_per_unit_ = kcal_mol_per_openbabel_unit(field_->GetUnit(), name_);
+
+  // Atoms taking part in out-of-plane terms: those whose displacement changes the
+  // out-of-plane energy at a generic geometry.
+  const Eigen::VectorXd x = molecule.coordinates();
+  constexpr double probe_angstrom = 0.05;
+  const Eigen::Vector3d probe_direction = Eigen::Vector3d(0.6, -0.48, 0.64).normalized();
+  const double reference = out_of_plane_energy(x);
+  for (std::size_t atom = 0; atom < atom_count_; ++atom) {
+    Eigen::VectorXd displaced = x;
+    displaced.segment<3>(3 * static_cast<Eigen::Index>(atom)) += probe_angstrom * probe_direction;
+    if (out_of_plane_energy(displaced) != reference) out_of_plane_atoms_.push_back(static_cast<int>(atom));
+  }
+}
+
+OpenBabelPotential::~OpenBabelPotential() = default;
+
+std::string OpenBabelPotential::description() const { return name_ + " (Open Babel)"; }
+
+void OpenBabelPotential::load_coordinates(const Eigen::VectorXd& x) const {
+  std::copy(x.data(), x.data() + x.size(), mol_->GetCoordinates());
+  field_->SetCoordinates(*mol_);
+}
+
+double OpenBabelPotential::out_of_plane_energy(const Eigen::VectorXd& x) const {
+  load_coordinates(x);
+  return field_->E_OOP(false) * kcal_mol_per_unit_;
+}
+
+double OpenBabelPotential::compute_energy(const Eigen::VectorXd& x) const {
+  load_coordinates(x);
+  return field_->Energy(false) * kcal_mol_per_unit_;
+}
+
+Eigen::VectorXd OpenBabelPotential::raw_openbabel_gradient(const Eigen::VectorXd& x) const {
+  load_coordinates(x);
+  field_->Energy(true);
+  const double* forces = field_->GetGradientPtr();
+  return -kcal_mol_per_unit_ * Eigen::Map<const Eigen::VectorXd>(forces, x.size());
+}
+
+double OpenBabelPotential::compute_energy_and_gradient(const Eigen::VectorXd& x, Eigen::VectorXd& gradient) const {
+  load_coordinates(x);
+  const double energy = field_->Energy(true) * kcal_mol_per_unit_;
+  double* forces = field_->GetGradientPtr();
+  const Eigen::Index n = x.size();
+  gradient = -kcal_mol_per_unit_ * Eigen::Map<const Eigen::VectorXd>(forces, n);
+  if (out_of_plane_atoms_.empty()) return energy;
+
+  // Remove Open Babel's out-of-plane contribution, then add the differenced one.
+  std::fill(forces, forces + n, 0.0);
+  field_->E_OOP(true);
+  gradient += kcal_mol_per_unit_ * Eigen::Map<const Eigen::VectorXd>(forces, n);
+  const double step = options_.out_of_plane_difference_step_angstrom;
+  Eigen::VectorXd displaced = x;
+  for (const int atom : out_of_plane_atoms_)
+    for (int axis = 0; axis < 3; ++axis) {
+      const Eigen::Index k = 3 * atom + axis;
+      displaced[k] = x[k] + step;
+      const double plus = out_of_plane_energy(displaced);
+      displaced[k] = x[k] - step;
+      const double minus = out_of_plane_energy(displaced);
+      displaced[k] = x[k];
+      gradient[k] += (plus - minus) / (2.0 * step);
+    }
+  load_coordinates(x);
+  return energy;
+}
+
+}  // namespace overtone
