@@ -2,7 +2,6 @@
 // prints what it returns. Every overtone::Error becomes one line on stderr and exit
 // status 1.
 #include <CLI/CLI.hpp>
-
 #include <filesystem>
 #include <fstream>
 #include <iostream>
@@ -30,12 +29,14 @@ struct MoleculeArguments {
 };
 
 void add_molecule_arguments(CLI::App& command, MoleculeArguments& arguments) {
-  command.add_option("MOLECULE", arguments.molecule,
-                     "molecule file (any format Open Babel reads: .xyz .sdf .mol .mol2 .cml .pdb ...) or "
-                     "smiles:STRING")
+  command
+      .add_option("MOLECULE", arguments.molecule,
+                  "molecule file (any format Open Babel reads: .xyz .sdf .mol .mol2 .cml .pdb ...) or "
+                  "smiles:STRING")
       ->required();
-  command.add_option("-p,--potential", arguments.potential,
-                     "force field name (MMFF94, MMFF94s, UFF, GAFF, Ghemical) or potential file")
+  command
+      .add_option("-p,--potential", arguments.potential,
+                  "force field name (MMFF94, MMFF94s, UFF, GAFF, Ghemical) or potential file")
       ->capture_default_str();
   command.add_option("-i,--isotope", arguments.isotopes,
                      "N=A: atom N (1-based, as in the file) gets mass number A; repeatable");

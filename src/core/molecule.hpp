@@ -9,23 +9,23 @@ namespace overtone {
 
 struct Atom {
   int atomic_number = 0;
-  int mass_number = 0;         // 0: the element's most abundant isotope (the usual choice for spectra)
-  double mass_da = 0.0;        // the mass used in the vibrational analysis
+  int mass_number = 0;   // 0: the element's most abundant isotope (the usual choice for spectra)
+  double mass_da = 0.0;  // the mass used in the vibrational analysis
   int formal_charge = 0;
   Eigen::Vector3d position_angstrom = Eigen::Vector3d::Zero();
 };
 
 struct Bond {
-  int first = 0;   // 0-based atom indices
+  int first = 0;  // 0-based atom indices
   int second = 0;
-  int order = 1;   // 1, 2, 3; 5 marks aromatic (as read from the file)
+  int order = 1;  // 1, 2, 3; 5 marks aromatic (as read from the file)
 };
 
 struct Molecule {
   std::string title;
-  std::string source;             // file path or SMILES it came from
+  std::string source;  // file path or SMILES it came from
   std::vector<Atom> atoms;
-  std::vector<Bond> bonds;        // as read or perceived; force fields that type atoms need them
+  std::vector<Bond> bonds;  // as read or perceived; force fields that type atoms need them
   int total_charge = 0;
   int spin_multiplicity = 1;
 

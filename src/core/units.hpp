@@ -18,14 +18,14 @@ namespace overtone::units {
 inline constexpr double pi = 3.14159265358979323846;
 
 // CODATA 2018
-inline constexpr double speed_of_light_m_per_s = 299792458.0;           // exact
-inline constexpr double planck_j_s = 6.62607015e-34;                    // exact
-inline constexpr double avogadro_per_mol = 6.02214076e23;               // exact
-inline constexpr double boltzmann_j_per_k = 1.380649e-23;               // exact
-inline constexpr double atomic_mass_constant_kg = 1.66053906660e-27;    // dalton in kg
+inline constexpr double speed_of_light_m_per_s = 299792458.0;         // exact
+inline constexpr double planck_j_s = 6.62607015e-34;                  // exact
+inline constexpr double avogadro_per_mol = 6.02214076e23;             // exact
+inline constexpr double boltzmann_j_per_k = 1.380649e-23;             // exact
+inline constexpr double atomic_mass_constant_kg = 1.66053906660e-27;  // dalton in kg
 inline constexpr double hartree_j = 4.3597447222071e-18;
 inline constexpr double bohr_m = 0.529177210903e-10;
-inline constexpr double joule_per_thermochemical_calorie = 4.184;       // exact by definition
+inline constexpr double joule_per_thermochemical_calorie = 4.184;  // exact by definition
 
 inline constexpr double hbar_j_s = planck_j_s / (2.0 * pi);
 inline constexpr double angstrom_m = 1e-10;
@@ -37,11 +37,11 @@ inline constexpr double centimetre_m = 1e-2;
 inline constexpr double joule_per_kcal_mol = 1000.0 * joule_per_thermochemical_calorie / avogadro_per_mol;
 inline constexpr double joule_per_kj_mol = 1000.0 / avogadro_per_mol;
 inline constexpr double joule_per_cm1 = planck_j_s * speed_of_light_m_per_s / centimetre_m;
-inline constexpr double cm1_per_kcal_mol = joule_per_kcal_mol / joule_per_cm1;   // ≈ 349.755
+inline constexpr double cm1_per_kcal_mol = joule_per_kcal_mol / joule_per_cm1;  // ≈ 349.755
 inline constexpr double kcal_mol_per_cm1 = 1.0 / cm1_per_kcal_mol;
 inline constexpr double kcal_mol_per_kj_mol = 1.0 / joule_per_thermochemical_calorie;
-inline constexpr double kcal_mol_per_attojoule = attojoule_j / joule_per_kcal_mol;   // ≈ 143.93
-inline constexpr double kcal_mol_per_hartree = hartree_j / joule_per_kcal_mol;       // ≈ 627.51
+inline constexpr double kcal_mol_per_attojoule = attojoule_j / joule_per_kcal_mol;  // ≈ 143.93
+inline constexpr double kcal_mol_per_hartree = hartree_j / joule_per_kcal_mol;      // ≈ 627.51
 inline constexpr double angstrom_per_bohr = bohr_m / angstrom_m;
 
 // The internal time unit, sqrt(Da Å² / (kcal/mol)), in seconds (≈ 48.89 fs).

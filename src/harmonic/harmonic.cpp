@@ -1,10 +1,10 @@
 #include "harmonic/harmonic.hpp"
 
+#include <fmt/format.h>
+
 #include <algorithm>
 #include <cmath>
 #include <string>
-
-#include <fmt/format.h>
 
 #include "core/error.hpp"
 #include "core/units.hpp"
@@ -99,19 +99,22 @@ Eigen::MatrixXd rigid_body_basis(const Eigen::VectorXd& x, const Eigen::VectorXd
   return basis;
 }
 
-HarmonicResult analyze_normal_modes(const Eigen::VectorXd& coordinates_angstrom, const Eigen::VectorXd& masses_da,
-                                    const Eigen::MatrixXd& cartesian_hessian, const NormalModeOptions& options) {
+HarmonicResult analyze_normal_modes(const Eigen::VectorXd& coordinates_angstrom,
+                                    const Eigen::VectorXd& masses_da,
+                                    const Eigen::MatrixXd& cartesian_hessian,
+                                    const NormalModeOptions& options) {
   const Eigen::Index atoms = masses_da.size();
   const Eigen::Index n = 3 * atoms;
   if (atoms < 2) throw Error(fmt::format("a vibrational analysis needs at least 2 atoms, got {}", atoms));
   if (coordinates_angstrom.size() != n)
-    throw Error(fmt::format("geometry has {} coordinates, expected {} for {} atoms", coordinates_angstrom.size(),
-                            n, atoms));
+    throw Error(fmt::format("geometry has {} coordinates, expected {} for {} atoms",
+                            coordinates_angstrom.size(), n, atoms));
   if (cartesian_hessian.rows() != n || cartesian_hessian.cols() != n)
-    throw Error(fmt::format("hessian is {}x{}, expected {}x{}", cartesian_hessian.rows(), cartesian_hessian.cols(),
-                            n, n));
+    throw Error(fmt::format("hessian is {}x{}, expected {}x{}", cartesian_hessian.rows(),
+                            cartesian_hessian.cols(), n, n));
   for (Eigen::Index i = 0; i < atoms; ++i)
-    if (!(masses_da[i] > 0.0)) throw Error(fmt::format("atom {} has non-positive mass {} Da", i + 1, masses_da[i]));
+    if (!(masses_da[i] > 0.0))
+      throw Error(fmt::format("atom {} has non-positive mass {} Da", i + 1, masses_da[i]));
   if (!(options.linearity_tolerance > 0.0 && options.linearity_tolerance < 1.0))
     throw Error(fmt::format("normal-mode option linearity_tolerance must lie in (0, 1), got {}",
                             options.linearity_tolerance));
@@ -127,8 +130,8 @@ HarmonicResult analyze_normal_modes(const Eigen::VectorXd& coordinates_angstrom,
   const Eigen::MatrixXd mass_weighted =
       inverse_sqrt_mass.asDiagonal() * cartesian_hessian * inverse_sqrt_mass.asDiagonal();
 
-  result.rigid_body_basis = rigid_body_basis(coordinates_angstrom, masses_da, options.linearity_tolerance,
-                                             &result.linear);
+  result.rigid_body_basis =
+      rigid_body_basis(coordinates_angstrom, masses_da, options.linearity_tolerance, &result.linear);
   const Eigen::MatrixXd& rigid = result.rigid_body_basis;
   const Eigen::Index r = rigid.cols();
   result.rigid_body_count = static_cast<int>(r);
@@ -138,8 +141,8 @@ HarmonicResult analyze_normal_modes(const Eigen::VectorXd& coordinates_angstrom,
   // PFP by rank-r updates (O(n² r), no dense n³ products). Adding σRRᵀ with σ above
   // the spectrum of PFP lifts the rigid-body directions to the top, so the lowest
   // n − r eigenpairs are exactly the vibrations, whatever their sign.
-  const Eigen::MatrixXd f_rigid = mass_weighted * rigid;                 // n×r
-  const Eigen::MatrixXd rigid_block = rigid.transpose() * f_rigid;       // r×r
+  const Eigen::MatrixXd f_rigid = mass_weighted * rigid;            // n×r
+  const Eigen::MatrixXd rigid_block = rigid.transpose() * f_rigid;  // r×r
   Eigen::MatrixXd projected = mass_weighted;
   projected.noalias() -= rigid * f_rigid.transpose();
   projected.noalias() -= f_rigid * rigid.transpose();
@@ -150,7 +153,8 @@ HarmonicResult analyze_normal_modes(const Eigen::VectorXd& coordinates_angstrom,
   projected = 0.5 * (projected + projected.transpose()).eval();
 
   const Eigen::SelfAdjointEigenSolver<Eigen::MatrixXd> solver(projected);
-  if (solver.info() != Eigen::Success) throw Error("the symmetric eigensolver failed on the mass-weighted hessian");
+  if (solver.info() != Eigen::Success)
+    throw Error("the symmetric eigensolver failed on the mass-weighted hessian");
   result.eigenvalues = solver.eigenvalues().head(vib);
   result.mass_weighted_modes = solver.eigenvectors().leftCols(vib);
   result.rigid_body_eigenvalues = Eigen::SelfAdjointEigenSolver<Eigen::MatrixXd>(rigid_block).eigenvalues();
@@ -171,11 +175,13 @@ HarmonicResult analyze_normal_modes(const Eigen::VectorXd& coordinates_angstrom,
     result.frequencies_cm1[k] = units::wavenumber_cm1_from_eigenvalue(result.eigenvalues[k]);
     result.force_constants_mdyn_per_angstrom[k] = result.eigenvalues[k] * result.reduced_masses_da[k] *
                                                   units::mdyn_per_angstrom_per_kcal_mol_per_angstrom2;
-    if (result.frequencies_cm1[k] < -options.imaginary_warning_cm1)
-      result.warnings.push_back(fmt::format(
-          "mode with imaginary frequency {:.2f}i cm-1: the geometry is not a minimum of this potential",
-          -result.frequencies_cm1[k]));
   }
+  const Eigen::Index imaginary = (result.frequencies_cm1.array() < -options.imaginary_warning_cm1).count();
+  if (imaginary > 0)
+    result.warnings.push_back(fmt::format(
+        "{} mode(s) with imaginary frequency (largest {:.2f}i cm-1): the geometry is not a minimum of this "
+        "potential",
+        imaginary, -result.frequencies_cm1.minCoeff()));
   return result;
 }
 

@@ -1,11 +1,10 @@
 #include "molecule/openbabel_bridge.hpp"
 
+#include <fmt/format.h>
 #include <openbabel/atom.h>
 #include <openbabel/bond.h>
 #include <openbabel/elements.h>
 #include <openbabel/obiter.h>
-
-#include <fmt/format.h>
 
 #include "core/error.hpp"
 
@@ -27,8 +26,8 @@ Molecule molecule_from_openbabel(OpenBabel::OBMol& mol) {
     atom.mass_number = static_cast<int>(isotope);
     atom.mass_da = OpenBabel::OBElements::GetExactMass(static_cast<unsigned>(atom.atomic_number), isotope);
     if (!(atom.mass_da > 0.0))
-      throw Error(fmt::format("atom {}: there is no isotope {}{} in Open Babel's isotope table", index, isotope,
-                              element_symbol(atom.atomic_number)));
+      throw Error(fmt::format("atom {}: there is no isotope {}{} in Open Babel's isotope table", index,
+                              isotope, element_symbol(atom.atomic_number)));
     atom.formal_charge = ob_atom->GetFormalCharge();
     atom.position_angstrom = {ob_atom->GetX(), ob_atom->GetY(), ob_atom->GetZ()};
     molecule.atoms.push_back(atom);
@@ -53,8 +52,7 @@ void openbabel_from_molecule(const Molecule& molecule, OpenBabel::OBMol& mol) {
     ob_atom->SetFormalCharge(atom.formal_charge);
     ob_atom->SetVector(atom.position_angstrom.x(), atom.position_angstrom.y(), atom.position_angstrom.z());
   }
-  for (const auto& bond : molecule.bonds)
-    mol.AddBond(bond.first + 1, bond.second + 1, bond.order);
+  for (const auto& bond : molecule.bonds) mol.AddBond(bond.first + 1, bond.second + 1, bond.order);
   mol.EndModify();
   if (molecule.bonds.empty() && molecule.atoms.size() > 1) {
     mol.ConnectTheDots();

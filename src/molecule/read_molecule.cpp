@@ -1,5 +1,6 @@
 #include "molecule/read_molecule.hpp"
 
+#include <fmt/format.h>
 #include <openbabel/atom.h>
 #include <openbabel/bond.h>
 #include <openbabel/builder.h>
@@ -14,8 +15,6 @@
 #include <fstream>
 #include <regex>
 #include <sstream>
-
-#include <fmt/format.h>
 
 #include "core/error.hpp"
 #include "molecule/openbabel_bridge.hpp"
@@ -32,12 +31,18 @@ class OpenBabelMessages {
     OpenBabel::obErrorLog.SetOutputStream(&sink_);
     OpenBabel::obErrorLog.SetOutputLevel(OpenBabel::obWarning);
   }
+  // The first line that says something (Open Babel frames messages with banner lines).
   std::string first_line() const {
-    std::string text = sink_.str();
-    const auto start = text.find_first_not_of("=* \n");
-    if (start == std::string::npos) return {};
-    text = text.substr(start);
-    return text.substr(0, text.find('\n'));
+    std::istringstream lines(sink_.str());
+    std::string line;
+    while (std::getline(lines, line)) {
+      const auto start = line.find_first_not_of("=* \t");
+      if (start == std::string::npos) continue;
+      line = line.substr(start);
+      if (line.rfind("Open Babel", 0) == 0) continue;
+      return line;
+    }
+    return {};
   }
 
  private:
@@ -55,7 +60,8 @@ void check_readable_file(const std::string& path) {
   namespace fs = std::filesystem;
   std::error_code ec;
   if (!fs::exists(path, ec)) throw Error(fmt::format("molecule file '{}' does not exist", path));
-  if (fs::is_directory(path, ec)) throw Error(fmt::format("'{}' is a directory, expected a molecule file", path));
+  if (fs::is_directory(path, ec))
+    throw Error(fmt::format("'{}' is a directory, expected a molecule file", path));
   std::ifstream probe(path);
   if (!probe) throw Error(fmt::format("molecule file '{}' cannot be opened for reading", path));
   if (fs::file_size(path, ec) == 0) throw Error(fmt::format("molecule file '{}' is empty", path));
@@ -65,9 +71,11 @@ OpenBabel::OBFormat* choose_format(OpenBabel::OBConversion& conversion, const st
                                    const ReadOptions& options, std::string& name) {
   name = options.format.empty() ? extension_of(path) : options.format;
   if (name.empty())
-    throw Error(fmt::format("cannot tell the format of '{}': give the file an extension such as .xyz or .sdf", path));
+    throw Error(
+        fmt::format("cannot tell the format of '{}': give the file an extension such as .xyz or .sdf", path));
   OpenBabel::OBFormat* format = conversion.FindFormat(name);
-  if (!format) throw Error(fmt::format("'{}' is not a molecule format Open Babel can read (file '{}')", name, path));
+  if (!format)
+    throw Error(fmt::format("'{}' is not a molecule format Open Babel can read (file '{}')", name, path));
   return format;
 }
 
@@ -92,9 +100,10 @@ void check_geometry(const Molecule& molecule, double minimum_distance) {
     for (std::size_t j = i + 1; j < molecule.atoms.size(); ++j) {
       const double d = (molecule.atoms[i].position_angstrom - molecule.atoms[j].position_angstrom).norm();
       if (d < minimum_distance)
-        throw Error(fmt::format("atoms {} and {} are {:.3f} Å apart, closer than the physical minimum {:.2f} Å "
-                                "(overlapping atoms in the input?)",
-                                i + 1, j + 1, d, minimum_distance));
+        throw Error(
+            fmt::format("atoms {} and {} are {:.3f} Å apart, closer than the physical minimum {:.2f} Å "
+                        "(overlapping atoms in the input?)",
+                        i + 1, j + 1, d, minimum_distance));
     }
 }
 
@@ -117,9 +126,10 @@ IsotopeChoice parse_isotope_choice(const std::string& text) {
   static const std::regex pattern(R"(\s*(\d+)\s*=\s*(\d+)\s*)");
   std::smatch match;
   if (!std::regex_match(text, match, pattern))
-    throw Error(fmt::format("isotope choice '{}' is not of the form N=A (atom number N, mass number A), "
-                            "e.g. 2=2 for deuterium on atom 2",
-                            text));
+    throw Error(
+        fmt::format("isotope choice '{}' is not of the form N=A (atom number N, mass number A), "
+                    "e.g. 2=2 for deuterium on atom 2",
+                    text));
   IsotopeChoice choice;
   try {
     choice.atom_number = std::stoi(match[1]);
@@ -133,8 +143,8 @@ IsotopeChoice parse_isotope_choice(const std::string& text) {
 void apply_isotopes(Molecule& molecule, const std::vector<IsotopeChoice>& isotopes) {
   for (const auto& choice : isotopes) {
     if (choice.atom_number < 1 || choice.atom_number > static_cast<int>(molecule.atoms.size()))
-      throw Error(fmt::format("isotope choice for atom {}: the molecule has atoms 1 to {}", choice.atom_number,
-                              molecule.atoms.size()));
+      throw Error(fmt::format("isotope choice for atom {}: the molecule has atoms 1 to {}",
+                              choice.atom_number, molecule.atoms.size()));
     Atom& atom = molecule.atoms[static_cast<std::size_t>(choice.atom_number - 1)];
     const double mass = choice.mass_number > 0
                             ? OpenBabel::OBElements::GetExactMass(static_cast<unsigned>(atom.atomic_number),
@@ -181,7 +191,8 @@ ReadResult read_molecule(const std::string& path_or_smiles, const ReadOptions& o
   OpenBabel::OBConversion conversion;
   OpenBabel::OBMol mol;
   if (options.input_is_smiles) {
-    if (path_or_smiles.find_first_not_of(" \t") == std::string::npos) throw Error("the smiles string is empty");
+    if (path_or_smiles.find_first_not_of(" \t") == std::string::npos)
+      throw Error("the smiles string is empty");
     conversion.SetInFormat("smi");
     if (!conversion.ReadString(&mol, path_or_smiles) || mol.NumAtoms() == 0) {
       const std::string detail = messages.first_line();
@@ -206,8 +217,9 @@ ReadResult read_molecule(const std::string& path_or_smiles, const ReadOptions& o
   }
   if (!read_ok || mol.NumAtoms() == 0) {
     const std::string detail = messages.first_line();
-    throw Error(fmt::format("no molecule could be read from '{}' as {}{}", path_or_smiles, format_name,
-                            detail.empty() ? " (is the file in that format?)" : " (open babel: " + detail + ")"));
+    throw Error(
+        fmt::format("no molecule could be read from '{}' as {}{}", path_or_smiles, format_name,
+                    detail.empty() ? " (is the file in that format?)" : " (open babel: " + detail + ")"));
   }
   ReadResult result = finish(mol, path_or_smiles, format_name, options, false, {});
   if (result.molecule.title.empty())

@@ -1,11 +1,10 @@
 #include "optimize/minimize.hpp"
 
 #include <LBFGS.h>
+#include <fmt/format.h>
 
 #include <cmath>
 #include <stdexcept>
-
-#include <fmt/format.h>
 
 #include "core/error.hpp"
 #include "harmonic/harmonic.hpp"
@@ -23,15 +22,17 @@ void check_options(const MinimizeOptions& o) {
   positive(o.newton_max_atom_step_angstrom, "newton_max_atom_step_angstrom");
   positive(o.hessian_step_angstrom, "hessian_step_angstrom");
   if (o.lbfgs_max_iterations < 0 || o.newton_max_steps < 0 || o.lbfgs_memory < 1)
-    throw Error("minimize options lbfgs_max_iterations and newton_max_steps must be non-negative and "
-                "lbfgs_memory positive");
+    throw Error(
+        "minimize options lbfgs_max_iterations and newton_max_steps must be non-negative and "
+        "lbfgs_memory positive");
 }
 
 double rms(const Eigen::VectorXd& g) { return g.norm() / std::sqrt(static_cast<double>(g.size())); }
 
 double largest_atom_move(const Eigen::VectorXd& step) {
   double largest = 0.0;
-  for (Eigen::Index i = 0; i + 2 < step.size(); i += 3) largest = std::max(largest, step.segment<3>(i).norm());
+  for (Eigen::Index i = 0; i + 2 < step.size(); i += 3)
+    largest = std::max(largest, step.segment<3>(i).norm());
   return largest;
 }
 
@@ -39,9 +40,12 @@ double largest_atom_move(const Eigen::VectorXd& step) {
 
 std::string to_string(MinimizeStatus status) {
   switch (status) {
-    case MinimizeStatus::converged: return "converged";
-    case MinimizeStatus::not_converged: return "not converged";
-    case MinimizeStatus::saddle_point: return "saddle point";
+    case MinimizeStatus::converged:
+      return "converged";
+    case MinimizeStatus::not_converged:
+      return "not converged";
+    case MinimizeStatus::saddle_point:
+      return "saddle point";
   }
   return "unknown";
 }
@@ -59,80 +63,102 @@ MinimizeResult minimize(const Potential& potential, const Eigen::VectorXd& start
   if (!std::isfinite(energy) || !gradient.allFinite())
     throw Error("the potential gives a non-finite energy or gradient at the starting geometry");
 
-  // Stage 1: L-BFGS down to the hand-over gradient.
-  if (rms(gradient) > options.lbfgs_rms_gradient_target && options.lbfgs_max_iterations > 0) {
-    LBFGSpp::LBFGSParam<double> parameters;
-    parameters.m = options.lbfgs_memory;
-    // This L-BFGS version stops at |g| < ε·max(1, |x|); scale ε so that the test is on
-    // the rms gradient at the starting |x| (Newton steps own the final criterion).
-    parameters.epsilon = options.lbfgs_rms_gradient_target * std::sqrt(static_cast<double>(n)) /
-                         std::max(1.0, x.norm());
-    parameters.max_iterations = options.lbfgs_max_iterations;
-    parameters.max_linesearch = 60;
-    LBFGSpp::LBFGSSolver<double> solver(parameters);
-    auto objective = [&](const Eigen::VectorXd& trial, Eigen::VectorXd& trial_gradient) {
-      return potential.energy_and_gradient(trial, trial_gradient);
-    };
-    Eigen::VectorXd trial = x;
-    double trial_energy = energy;
-    try {
-      result.lbfgs_iterations = solver.minimize(objective, trial, trial_energy);
-    } catch (const std::exception&) {
-      // Line-search failure near round-off: keep the best point and let Newton finish.
-      result.lbfgs_iterations = options.lbfgs_max_iterations;
-    }
-    Eigen::VectorXd trial_gradient;
-    const double final_energy = potential.energy_and_gradient(trial, trial_gradient);
-    if (std::isfinite(final_energy) && trial_gradient.allFinite() && final_energy <= energy) {
-      x = trial;
-      energy = final_energy;
-      gradient = trial_gradient;
-    }
-  }
-
-  // Stage 2: Newton steps in the space orthogonal to rigid-body motions (unit masses).
   const Eigen::VectorXd unit_masses = Eigen::VectorXd::Ones(n / 3);
   HessianOptions hessian_options;
   hessian_options.finite_difference_step_angstrom = options.hessian_step_angstrom;
   int negative_directions = 0;
-  for (int step = 0; step < options.newton_max_steps && rms(gradient) > options.rms_gradient_tolerance; ++step) {
-    const Eigen::MatrixXd hessian = compute_hessian(potential, x, hessian_options).hessian;
-    const Eigen::MatrixXd rigid = rigid_body_basis(x, unit_masses, NormalModeOptions{}.linearity_tolerance);
-    const Eigen::MatrixXd projector =
-        Eigen::MatrixXd::Identity(n, n) - rigid * rigid.transpose();
-    const Eigen::SelfAdjointEigenSolver<Eigen::MatrixXd> solver(projector * hessian * projector);
-    // Order by |λ| descending is not needed: skip the r directions with largest rigid overlap.
-    Eigen::VectorXd newton_step = Eigen::VectorXd::Zero(n);
-    negative_directions = 0;
-    const Eigen::VectorXd projected_gradient = projector * gradient;
-    for (Eigen::Index k = 0; k < n; ++k) {
-      const Eigen::VectorXd v = solver.eigenvectors().col(k);
-      if ((rigid.transpose() * v).squaredNorm() > 0.5) continue;
-      const double curvature = solver.eigenvalues()[k];
-      if (curvature < options.negative_curvature_threshold) ++negative_directions;
-      const double magnitude = std::max(std::abs(curvature), 1e-6);
-      newton_step -= (v.dot(projected_gradient) / magnitude) * v;
-    }
-    const double move = largest_atom_move(newton_step);
-    if (move > options.newton_max_atom_step_angstrom) newton_step *= options.newton_max_atom_step_angstrom / move;
-    // Accept the full step if it lowers the gradient or the energy; otherwise halve.
-    bool accepted = false;
-    for (int halving = 0; halving < 8 && !accepted; ++halving) {
+  Eigen::VectorXd most_negative_direction;
+
+  for (int attempt = 0;; ++attempt) {
+    // Stage 1: L-BFGS down to the hand-over gradient.
+    if (rms(gradient) > options.lbfgs_rms_gradient_target && options.lbfgs_max_iterations > 0) {
+      LBFGSpp::LBFGSParam<double> parameters;
+      parameters.m = options.lbfgs_memory;
+      // This L-BFGS version stops at |g| < ε·max(1, |x|); scale ε so that the test is on
+      // the rms gradient at the starting |x| (Newton steps own the final criterion).
+      parameters.epsilon =
+          options.lbfgs_rms_gradient_target * std::sqrt(static_cast<double>(n)) / std::max(1.0, x.norm());
+      parameters.max_iterations = options.lbfgs_max_iterations;
+      parameters.max_linesearch = 60;
+      LBFGSpp::LBFGSSolver<double> solver(parameters);
+      int iterations = 0;
+      auto objective = [&](const Eigen::VectorXd& trial, Eigen::VectorXd& trial_gradient) {
+        return potential.energy_and_gradient(trial, trial_gradient);
+      };
+      Eigen::VectorXd trial = x;
+      double trial_energy = energy;
+      try {
+        iterations = solver.minimize(objective, trial, trial_energy);
+      } catch (const std::exception&) {
+        // Line-search failure near round-off: keep the point reached and let Newton finish.
+      }
+      result.lbfgs_iterations += iterations;
       Eigen::VectorXd trial_gradient;
-      const Eigen::VectorXd trial = x + newton_step;
-      const double trial_energy = potential.energy_and_gradient(trial, trial_gradient);
-      if (std::isfinite(trial_energy) && trial_gradient.allFinite() &&
-          (rms(trial_gradient) < rms(gradient) || trial_energy < energy)) {
+      const double final_energy = potential.energy_and_gradient(trial, trial_gradient);
+      if (std::isfinite(final_energy) && trial_gradient.allFinite() && final_energy <= energy) {
         x = trial;
-        energy = trial_energy;
+        energy = final_energy;
         gradient = trial_gradient;
-        accepted = true;
-      } else {
-        newton_step *= 0.5;
       }
     }
-    ++result.newton_steps;
-    if (!accepted) break;
+
+    // Stage 2: Newton steps in the space orthogonal to rigid-body motions (unit masses).
+    for (int step = 0; step < options.newton_max_steps; ++step) {
+      const Eigen::MatrixXd hessian = compute_hessian(potential, x, hessian_options).hessian;
+      const Eigen::MatrixXd rigid = rigid_body_basis(x, unit_masses, NormalModeOptions{}.linearity_tolerance);
+      const Eigen::MatrixXd projector = Eigen::MatrixXd::Identity(n, n) - rigid * rigid.transpose();
+      const Eigen::SelfAdjointEigenSolver<Eigen::MatrixXd> solver(projector * hessian * projector);
+      Eigen::VectorXd newton_step = Eigen::VectorXd::Zero(n);
+      negative_directions = 0;
+      double lowest_curvature = 0.0;
+      const Eigen::VectorXd projected_gradient = projector * gradient;
+      for (Eigen::Index k = 0; k < n; ++k) {
+        const Eigen::VectorXd v = solver.eigenvectors().col(k);
+        if ((rigid.transpose() * v).squaredNorm() > 0.5) continue;  // a rigid-body direction
+        const double curvature = solver.eigenvalues()[k];
+        if (curvature < options.negative_curvature_threshold) {
+          ++negative_directions;
+          if (curvature < lowest_curvature) {
+            lowest_curvature = curvature;
+            most_negative_direction = v;
+          }
+        }
+        // |λ| keeps every step downhill; the floor avoids division by round-off.
+        const double magnitude = std::max(std::abs(curvature), 1e-6);
+        newton_step -= (v.dot(projected_gradient) / magnitude) * v;
+      }
+      if (rms(gradient) <= options.rms_gradient_tolerance) break;  // curvature now known at the final point
+      const double move = largest_atom_move(newton_step);
+      if (move > options.newton_max_atom_step_angstrom)
+        newton_step *= options.newton_max_atom_step_angstrom / move;
+      // Accept the step if it lowers the gradient or the energy; otherwise halve it.
+      bool accepted = false;
+      for (int halving = 0; halving < 8 && !accepted; ++halving) {
+        Eigen::VectorXd trial_gradient;
+        const Eigen::VectorXd trial = x + newton_step;
+        const double trial_energy = potential.energy_and_gradient(trial, trial_gradient);
+        if (std::isfinite(trial_energy) && trial_gradient.allFinite() &&
+            (rms(trial_gradient) < rms(gradient) || trial_energy < energy)) {
+          x = trial;
+          energy = trial_energy;
+          gradient = trial_gradient;
+          accepted = true;
+        } else {
+          newton_step *= 0.5;
+        }
+      }
+      ++result.newton_steps;
+      if (!accepted) break;
+    }
+
+    const bool at_saddle = rms(gradient) <= options.rms_gradient_tolerance && negative_directions > 0;
+    if (!at_saddle || attempt >= options.max_saddle_escapes) break;
+    // Leave the saddle downhill along the most negative curvature direction.
+    ++result.saddle_escapes;
+    const Eigen::VectorXd push = most_negative_direction * (options.saddle_escape_step_angstrom /
+                                                            largest_atom_move(most_negative_direction));
+    x += push;
+    energy = potential.energy_and_gradient(x, gradient);
   }
 
   result.coordinates_angstrom = x;
@@ -153,13 +179,16 @@ MinimizeResult minimize(const Potential& potential, const Eigen::VectorXd& start
         result.rms_gradient, options.rms_gradient_tolerance, result.lbfgs_iterations, result.newton_steps);
   } else if (negative_directions > 0) {
     result.status = MinimizeStatus::saddle_point;
-    result.message = fmt::format("stationary point with {} direction(s) of negative curvature: a saddle point, "
-                                 "not a minimum",
-                                 negative_directions);
+    result.message = fmt::format(
+        "stationary point with {} direction(s) of negative curvature: a saddle point, "
+        "not a minimum",
+        negative_directions);
   } else {
     result.status = MinimizeStatus::converged;
     result.message = fmt::format("converged: rms gradient {:.2e} kcal/mol/Å (criterion {:.1e})",
                                  result.rms_gradient, options.rms_gradient_tolerance);
+    if (result.saddle_escapes > 0)
+      result.message += fmt::format(" after leaving {} saddle point(s) downhill", result.saddle_escapes);
   }
   return result;
 }

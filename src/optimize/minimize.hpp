@@ -25,6 +25,11 @@ struct MinimizeOptions {
   double hessian_step_angstrom = 0.005;
   // Curvature (kcal/mol/Å²) below which a direction counts as negative at the end.
   double negative_curvature_threshold = -1e-3;
+  // On reaching a saddle point, step downhill along the most negative curvature
+  // direction (largest atom move saddle_escape_step_angstrom) and minimize again, at
+  // most max_saddle_escapes times. Symmetric starting structures often stop on one.
+  int max_saddle_escapes = 3;
+  double saddle_escape_step_angstrom = 0.05;
 };
 
 enum class MinimizeStatus { converged, not_converged, saddle_point };
@@ -39,6 +44,7 @@ struct MinimizeResult {
   int lbfgs_iterations = 0;
   int newton_steps = 0;
   int negative_curvature_directions = 0;   // of the last Hessian, rigid-body motions excluded
+  int saddle_escapes = 0;                  // times a saddle point was left downhill
   std::size_t energy_evaluations = 0;
   std::size_t gradient_evaluations = 0;
   std::size_t hessian_evaluations = 0;

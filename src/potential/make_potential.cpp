@@ -1,8 +1,8 @@
 #include "potential/make_potential.hpp"
 
-#include <filesystem>
-
 #include <fmt/format.h>
+
+#include <filesystem>
 
 #include "core/error.hpp"
 #include "potential/openbabel_potential.hpp"
@@ -15,9 +15,10 @@ std::unique_ptr<Potential> make_potential(const std::string& name_or_path, const
     return std::make_unique<OpenBabelPotential>(name_or_path, molecule);
   std::error_code ec;
   if (!std::filesystem::exists(name_or_path, ec))
-    throw Error(fmt::format("'{}' is neither a force field (MMFF94, MMFF94s, UFF, GAFF, Ghemical) nor an "
-                            "existing potential file",
-                            name_or_path));
+    throw Error(
+        fmt::format("'{}' is neither a force field (MMFF94, MMFF94s, UFF, GAFF, Ghemical) nor an "
+                    "existing potential file",
+                    name_or_path));
   return load_valence_force_field(name_or_path, molecule);
 }
 

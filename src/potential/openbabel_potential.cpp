@@ -1,15 +1,19 @@
 #include "potential/openbabel_potential.hpp"
 
+#include <fmt/format.h>
 #include <openbabel/atom.h>
 #include <openbabel/forcefield.h>
+#include <openbabel/generic.h>
 #include <openbabel/mol.h>
 #include <openbabel/oberror.h>
+#include <openbabel/obiter.h>
+#include <openbabel/tokenst.h>
 
 #include <algorithm>
 #include <cctype>
+#include <fstream>
+#include <map>
 #include <sstream>
-
-#include <fmt/format.h>
 
 #include "core/error.hpp"
 #include "core/units.hpp"
@@ -27,8 +31,51 @@ std::string lower(std::string text) {
 double kcal_mol_per_openbabel_unit(const std::string& unit, const std::string& name) {
   if (unit == "kcal/mol") return 1.0;
   if (unit == "kJ/mol") return units::kcal_mol_per_kj_mol;
-  throw Error(fmt::format("force field {} reports energies in '{}', which this program does not convert", name,
-                          unit));
+  throw Error(fmt::format("force field {} reports energies in '{}', which this program does not convert",
+                          name, unit));
+}
+
+struct MmffTypeProperties {
+  int atomic_number = 0;
+  int neighbours = 0;
+};
+
+// MMFF94's atom-type table (mmffprop.par, shipped with Open Babel): element and
+// number of bonded neighbours of each numeric type.
+std::map<int, MmffTypeProperties> read_mmff_type_properties() {
+  std::ifstream stream;
+  OpenBabel::OpenDatafile(stream, "mmffprop.par", "BABEL_DATADIR");
+  std::map<int, MmffTypeProperties> table;
+  std::string line;
+  while (std::getline(stream, line)) {
+    if (line.empty() || line[0] == '*' || line[0] == '$') continue;
+    std::istringstream fields(line);
+    int type = 0;
+    MmffTypeProperties properties;
+    if (fields >> type >> properties.atomic_number >> properties.neighbours) table[type] = properties;
+  }
+  return table;
+}
+
+// Open Babel's MMFF94 falls back to a default type when no rule matches (for example
+// hexavalent sulfur) and then computes energies with unsuitable parameters. A type
+// whose element or neighbour count disagrees with the atom is such a fallback.
+void check_mmff_atom_types(OpenBabel::OBForceField& field, OpenBabel::OBMol& mol, const std::string& name) {
+  static const std::map<int, MmffTypeProperties> table = read_mmff_type_properties();
+  if (table.empty() || !field.GetAtomTypes(mol)) return;
+  FOR_ATOMS_OF_MOL(atom, mol) {
+    auto* data = dynamic_cast<OpenBabel::OBPairData*>(atom->GetData("FFAtomType"));
+    if (!data) continue;
+    const int type = std::atoi(data->GetValue().c_str());
+    const auto found = table.find(type);
+    const int neighbours = static_cast<int>(atom->GetExplicitDegree());
+    if (found == table.end() || found->second.atomic_number != static_cast<int>(atom->GetAtomicNum()) ||
+        found->second.neighbours != neighbours)
+      throw Error(fmt::format(
+          "force field {} has no atom type for atom {} ({} with {} bonded neighbours); "
+          "try UFF or a potential file",
+          name, atom->GetIdx(), element_symbol(static_cast<int>(atom->GetAtomicNum())), neighbours));
+  }
 }
 
 }  // namespace
@@ -49,9 +96,10 @@ OpenBabelPotential::OpenBabelPotential(const std::string& force_field_name, cons
     : options_(options) {
   name_ = canonical_openbabel_force_field(force_field_name);
   if (name_.empty())
-    throw Error(fmt::format("'{}' is not a supported force field; choose one of MMFF94, MMFF94s, UFF, GAFF, "
-                            "Ghemical or give a potential file",
-                            force_field_name));
+    throw Error(
+        fmt::format("'{}' is not a supported force field; choose one of MMFF94, MMFF94s, UFF, GAFF, "
+                    "Ghemical or give a potential file",
+                    force_field_name));
   if (!(options_.out_of_plane_difference_step_angstrom > 0.0))
     throw Error(fmt::format("out_of_plane_difference_step_angstrom must be positive, got {}",
                             options_.out_of_plane_difference_step_angstrom));
@@ -63,7 +111,8 @@ OpenBabelPotential::OpenBabelPotential(const std::string& force_field_name, cons
   OpenBabel::obErrorLog.SetOutputLevel(OpenBabel::obWarning);
 
   OpenBabel::OBForceField* prototype = OpenBabel::OBForceField::FindForceField(name_);
-  if (!prototype) throw Error(fmt::format("open babel on this machine does not provide the {} force field", name_));
+  if (!prototype)
+    throw Error(fmt::format("open babel on this machine does not provide the {} force field", name_));
   field_.reset(prototype->MakeNewInstance());
   mol_ = std::make_unique<OpenBabel::OBMol>();
   openbabel_from_molecule(molecule, *mol_);
@@ -78,6 +127,7 @@ OpenBabelPotential::OpenBabelPotential(const std::string& force_field_name, cons
                             detail.empty() ? "" : "; open babel says: " + detail));
   }
   kcal_mol_per_unit_ = kcal_mol_per_openbabel_unit(field_->GetUnit(), name_);
+  if (name_ == "MMFF94" || name_ == "MMFF94s") check_mmff_atom_types(*field_, *mol_, name_);
 
   // Atoms taking part in out-of-plane terms: those whose displacement changes the
   // out-of-plane energy at a generic geometry.
@@ -118,7 +168,8 @@ Eigen::VectorXd OpenBabelPotential::raw_openbabel_gradient(const Eigen::VectorXd
   return -kcal_mol_per_unit_ * Eigen::Map<const Eigen::VectorXd>(forces, x.size());
 }
 
-double OpenBabelPotential::compute_energy_and_gradient(const Eigen::VectorXd& x, Eigen::VectorXd& gradient) const {
+double OpenBabelPotential::compute_energy_and_gradient(const Eigen::VectorXd& x,
+                                                       Eigen::VectorXd& gradient) const {
   load_coordinates(x);
   const double energy = field_->Energy(true) * kcal_mol_per_unit_;
   double* forces = field_->GetGradientPtr();

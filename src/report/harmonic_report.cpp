@@ -18,8 +18,10 @@ nlohmann::json analysis_to_json(const AnalysisResult& analysis) {
   const auto& harmonic = analysis.harmonic;
   json document;
   document["program"] = {{"name", "overtone"}, {"version", "0.1.0"}};
-  document["units"] = {{"energy", "kcal/mol"},       {"length", "angstrom"},
-                       {"mass", "dalton"},           {"wavenumber", "cm-1"},
+  document["units"] = {{"energy", "kcal/mol"},
+                       {"length", "angstrom"},
+                       {"mass", "dalton"},
+                       {"wavenumber", "cm-1"},
                        {"force_constant", "mdyn/angstrom"}};
   document["molecule"] = {{"title", molecule.title},
                           {"formula", molecule.formula()},
@@ -104,8 +106,9 @@ std::string modes_table(const AnalysisResult& analysis) {
   const auto& molecule = analysis.molecule;
   const auto& harmonic = analysis.harmonic;
   std::string text;
-  text += fmt::format("{} ({}, {} atoms) on {}\n", molecule.title.empty() ? molecule.formula() : molecule.title,
-                      molecule.formula(), molecule.atom_count(), analysis.potential_description);
+  text +=
+      fmt::format("{} ({}, {} atoms) on {}\n", molecule.title.empty() ? molecule.formula() : molecule.title,
+                  molecule.formula(), molecule.atom_count(), analysis.potential_description);
   if (analysis.optimized)
     text += fmt::format("structure: {}; energy {:.6f} kcal/mol\n", analysis.optimization.message,
                         analysis.optimization.energy_kcal_mol);
@@ -119,8 +122,8 @@ std::string modes_table(const AnalysisResult& analysis) {
     const double wavenumber = harmonic.frequencies_cm1[index];
     const std::string shown =
         wavenumber < 0.0 ? fmt::format("{:.2f}i", -wavenumber) : fmt::format("{:.2f}", wavenumber);
-    text += fmt::format("{:>5}  {:>12}  {:>12.4f}  {:>14.4f}\n", k + 1, shown, harmonic.reduced_masses_da[index],
-                        harmonic.force_constants_mdyn_per_angstrom[index]);
+    text += fmt::format("{:>5}  {:>12}  {:>12.4f}  {:>14.4f}\n", k + 1, shown,
+                        harmonic.reduced_masses_da[index], harmonic.force_constants_mdyn_per_angstrom[index]);
   }
   for (const auto& warning : analysis.warnings) text += "warning: " + warning + "\n";
   return text;
