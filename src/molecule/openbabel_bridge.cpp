@@ -4,7 +4,10 @@
 #include <openbabel/atom.h>
 #include <openbabel/bond.h>
 #include <openbabel/elements.h>
+#include <openbabel/oberror.h>
 #include <openbabel/obiter.h>
+
+#include <sstream>
 
 #include "core/error.hpp"
 
@@ -60,6 +63,34 @@ void openbabel_from_molecule(const Molecule& molecule, OpenBabel::OBMol& mol) {
   }
   mol.SetTotalCharge(molecule.total_charge);
   mol.SetTotalSpinMultiplicity(static_cast<unsigned>(molecule.spin_multiplicity));
+}
+
+namespace {
+std::ostringstream& process_log_sink() {
+  static std::ostringstream sink;
+  return sink;
+}
+}  // namespace
+
+OpenBabelLogCapture::OpenBabelLogCapture() {
+  std::ostringstream& sink = process_log_sink();
+  OpenBabel::obErrorLog.SetOutputStream(&sink);
+  OpenBabel::obErrorLog.SetOutputLevel(OpenBabel::obWarning);
+  start_ = sink.str().size();
+}
+
+std::string OpenBabelLogCapture::first_message() const {
+  const std::string text = process_log_sink().str();
+  std::istringstream lines(start_ < text.size() ? text.substr(start_) : std::string());
+  std::string line;
+  while (std::getline(lines, line)) {
+    const auto start = line.find_first_not_of("=* \t");
+    if (start == std::string::npos) continue;
+    line = line.substr(start);
+    if (line.rfind("Open Babel", 0) == 0) continue;
+    return line;
+  }
+  return {};
 }
 
 }  // namespace overtone

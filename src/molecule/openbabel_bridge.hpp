@@ -4,6 +4,8 @@
 // Open Babel types.
 #include <openbabel/mol.h>
 
+#include <string>
+
 #include "core/molecule.hpp"
 
 namespace overtone {
@@ -16,5 +18,19 @@ Molecule molecule_from_openbabel(OpenBabel::OBMol& mol);
 // when the molecule has no bonds, connectivity and orders are perceived from the
 // geometry).
 void openbabel_from_molecule(const Molecule& molecule, OpenBabel::OBMol& mol);
+
+// Open Babel writes warnings and errors to one global log. This keeps them off the
+// user's terminal (nothing below the command line prints) and gives back what was
+// logged while an instance lived, so error messages can quote Open Babel. The sink
+// lives for the whole process because Open Babel keeps a raw pointer to it.
+class OpenBabelLogCapture {
+ public:
+  OpenBabelLogCapture();
+  // The first meaningful line logged since construction (banner lines skipped).
+  std::string first_message() const;
+
+ private:
+  std::size_t start_ = 0;
+};
 
 }  // namespace overtone

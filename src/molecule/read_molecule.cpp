@@ -23,32 +23,6 @@ namespace overtone {
 
 namespace {
 
-// Open Babel reports through a global log; keep it off the user's terminal and
-// return what it said so error messages can carry it.
-class OpenBabelMessages {
- public:
-  OpenBabelMessages() {
-    OpenBabel::obErrorLog.SetOutputStream(&sink_);
-    OpenBabel::obErrorLog.SetOutputLevel(OpenBabel::obWarning);
-  }
-  // The first line that says something (Open Babel frames messages with banner lines).
-  std::string first_line() const {
-    std::istringstream lines(sink_.str());
-    std::string line;
-    while (std::getline(lines, line)) {
-      const auto start = line.find_first_not_of("=* \t");
-      if (start == std::string::npos) continue;
-      line = line.substr(start);
-      if (line.rfind("Open Babel", 0) == 0) continue;
-      return line;
-    }
-    return {};
-  }
-
- private:
-  std::ostringstream sink_;
-};
-
 std::string extension_of(const std::string& path) {
   std::string ext = std::filesystem::path(path).extension().string();
   if (!ext.empty() && ext.front() == '.') ext.erase(0, 1);
@@ -159,7 +133,7 @@ void apply_isotopes(Molecule& molecule, const std::vector<IsotopeChoice>& isotop
 }
 
 std::vector<ReadResult> read_all_molecules(const std::string& path, const ReadOptions& options) {
-  OpenBabelMessages messages;
+  OpenBabelLogCapture messages;
   check_readable_file(path);
   OpenBabel::OBConversion conversion;
   std::string format_name;
@@ -179,7 +153,7 @@ std::vector<ReadResult> read_all_molecules(const std::string& path, const ReadOp
     mol.Clear();
   }
   if (results.empty()) {
-    const std::string detail = messages.first_line();
+    const std::string detail = messages.first_message();
     throw Error(fmt::format("no molecule could be read from '{}' as {}{}", path, format_name,
                             detail.empty() ? "" : " (open babel: " + detail + ")"));
   }
@@ -187,7 +161,7 @@ std::vector<ReadResult> read_all_molecules(const std::string& path, const ReadOp
 }
 
 ReadResult read_molecule(const std::string& path_or_smiles, const ReadOptions& options) {
-  OpenBabelMessages messages;
+  OpenBabelLogCapture messages;
   OpenBabel::OBConversion conversion;
   OpenBabel::OBMol mol;
   if (options.input_is_smiles) {
@@ -195,7 +169,7 @@ ReadResult read_molecule(const std::string& path_or_smiles, const ReadOptions& o
       throw Error("the smiles string is empty");
     conversion.SetInFormat("smi");
     if (!conversion.ReadString(&mol, path_or_smiles) || mol.NumAtoms() == 0) {
-      const std::string detail = messages.first_line();
+      const std::string detail = messages.first_message();
       throw Error(fmt::format("'{}' is not a valid smiles string{}", path_or_smiles,
                               detail.empty() ? "" : " (open babel: " + detail + ")"));
     }
@@ -216,7 +190,7 @@ ReadResult read_molecule(const std::string& path_or_smiles, const ReadOptions& o
     read_ok = conversion.Read(&mol);
   }
   if (!read_ok || mol.NumAtoms() == 0) {
-    const std::string detail = messages.first_line();
+    const std::string detail = messages.first_message();
     throw Error(
         fmt::format("no molecule could be read from '{}' as {}{}", path_or_smiles, format_name,
                     detail.empty() ? " (is the file in that format?)" : " (open babel: " + detail + ")"));

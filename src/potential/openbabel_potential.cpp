@@ -106,20 +106,20 @@ OpenBabelPotential::OpenBabelPotential(const std::string& force_field_name, cons
   atom_count_ = molecule.atom_count();
   if (atom_count_ == 0) throw Error("cannot set up a force field for a molecule without atoms");
 
-  std::ostringstream log;
-  OpenBabel::obErrorLog.SetOutputStream(&log);
-  OpenBabel::obErrorLog.SetOutputLevel(OpenBabel::obWarning);
+  const OpenBabelLogCapture log;
 
   OpenBabel::OBForceField* prototype = OpenBabel::OBForceField::FindForceField(name_);
   if (!prototype)
     throw Error(fmt::format("open babel on this machine does not provide the {} force field", name_));
   field_.reset(prototype->MakeNewInstance());
+  // A new instance starts with an unset log stream and level; silence it explicitly.
+  static std::ostream discard(nullptr);
+  field_->SetLogFile(&discard);
+  field_->SetLogLevel(OBFF_LOGLVL_NONE);
   mol_ = std::make_unique<OpenBabel::OBMol>();
   openbabel_from_molecule(molecule, *mol_);
   if (!field_->Setup(*mol_)) {
-    std::string detail = log.str();
-    const auto start = detail.find_first_not_of("=* \n");
-    detail = start == std::string::npos ? "" : detail.substr(start, detail.find('\n', start) - start);
+    const std::string detail = log.first_message();
     std::string elements;
     for (const auto& atom : molecule.atoms) elements += element_symbol(atom.atomic_number) + " ";
     throw Error(fmt::format("force field {} cannot assign atom types or parameters to {} ({}){}", name_,
