@@ -314,6 +314,22 @@ class Reader {
     fail(&node, "key '" + key + "' must be an array, got " + type_name(node));
   }
 
+  // A required [[key]] array of tables (may be empty only if written as key = []).
+  const toml::array& array_of_tables(const toml::table& parent, const char* key) const {
+    const toml::node& node = require(parent, key, "the top level");
+    const toml::array* array = node.as_array();
+    if (array == nullptr || !array->is_array_of_tables())
+      fail(&node, "'" + std::string(key) + "' must be an array of tables ([[" + key + "]])");
+    return *array;
+  }
+
+  // A required [key] table.
+  const toml::table& table(const toml::table& parent, const char* key) const {
+    const toml::node& node = require(parent, key, "the top level");
+    if (const toml::table* t = node.as_table()) return *t;
+    fail(&node, "'" + std::string(key) + "' must be a table ([" + key + "])");
+  }
+
   std::vector<double> numbers(const toml::node& node, const std::string& key) const {
     std::vector<double> values;
     for (const toml::node& element : array(node, key)) values.push_back(number(element, key));
@@ -376,9 +392,7 @@ ParsedFile parse_file(const std::string& text, const std::string& origin) {
   parsed.source.elements = parsed.elements;
 
   // Units.
-  const toml::node& units_node = reader.require(root, "units", "the top level");
-  const toml::table* units_table = units_node.as_table();
-  if (units_table == nullptr) reader.fail(&units_node, "'units' must be a table");
+  const toml::table* units_table = &reader.table(root, "units");
   reader.check_keys(*units_table, "[units]", {"energy", "length", "angle"});
   const double energy_factor = energy_unit_in_kcal_mol(reader, reader.require(*units_table, "energy", "[units]"));
   const toml::node& length_node = reader.require(*units_table, "length", "[units]");
@@ -394,9 +408,7 @@ ParsedFile parse_file(const std::string& text, const std::string& origin) {
     reader.fail(&angle_node, "unknown angle unit '" + angle_unit + "'; expected degree or radian");
 
   // Source.
-  const toml::node& source_node = reader.require(root, "source", "the top level");
-  const toml::table* source_table = source_node.as_table();
-  if (source_table == nullptr) reader.fail(&source_node, "'source' must be a table");
+  const toml::table* source_table = &reader.table(root, "source");
   reader.check_keys(*source_table, "[source]",
                     {"citation", "status", "notes", "isotopologue", "reported_harmonic_wavenumbers_cm1"});
   parsed.source.citation = reader.string(reader.require(*source_table, "citation", "[source]"), "source.citation");
@@ -415,11 +427,7 @@ ParsedFile parse_file(const std::string& text, const std::string& origin) {
   // Coordinates.
   const int element_count = static_cast<int>(parsed.elements.size());
   std::map<std::string, int> coordinate_index;
-  const toml::node& coordinates_node = reader.require(root, "coordinates", "the top level");
-  const toml::array* coordinate_array = coordinates_node.as_array();
-  if (coordinate_array == nullptr || !coordinate_array->is_array_of_tables())
-    reader.fail(&coordinates_node, "'coordinates' must be an array of tables ([[coordinates]])");
-  for (const toml::node& entry : *coordinate_array) {
+  for (const toml::node& entry : reader.array_of_tables(root, "coordinates")) {
     const toml::table& table = *entry.as_table();
     const std::string context = "a [[coordinates]] entry";
     reader.check_keys(table, context, {"name", "kind", "atoms", "reference"});
@@ -473,11 +481,7 @@ ParsedFile parse_file(const std::string& text, const std::string& origin) {
   };
 
   // Terms.
-  const toml::node& terms_node = reader.require(root, "terms", "the top level");
-  const toml::array* term_array = terms_node.as_array();
-  if (term_array == nullptr || !term_array->is_array_of_tables())
-    reader.fail(&terms_node, "'terms' must be an array of tables ([[terms]])");
-  for (const toml::node& entry : *term_array) {
+  for (const toml::node& entry : reader.array_of_tables(root, "terms")) {
     const toml::table& table = *entry.as_table();
     const std::string context = "a [[terms]] entry";
     const toml::node& kind_node = reader.require(table, "kind", context);

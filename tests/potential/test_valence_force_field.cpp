@@ -250,8 +250,8 @@ TEST(ValenceForceField, AnalyticDerivativesMatchCentralDifferencesForShippedFile
 }
 
 TEST(ValenceForceField, ShippedGeometriesAreStationary) {
-  // The XYZ files are written at the reference geometry of their force field, so the
-  // gradient is round-off of the five-decimal... ten-decimal coordinates (kcal/mol/Å).
+  // The XYZ files are written at the reference geometry of their force field with ten
+  // decimals, so the gradient is only the rounding of the coordinates (kcal/mol/Å).
   constexpr double kStationaryGradient = 1e-5;
   for (const auto& field : shipped_fields) {
     const Molecule molecule = read_example(field.molecule);
