@@ -96,10 +96,18 @@ S linear_bend_squared(const Vec3<S>& a, const Vec3<S>& center, const Vec3<S>& b)
   const Vec3<S> v = b - center;
   const Vec3<S> unit_sum = scaled(u, S(1.0) / norm(u)) + scaled(v, S(1.0) / norm(v));
   const S w = 0.5 * dot(unit_sum, unit_sum);  // = 1 + cos θ, accurate near θ = π
-  if (plain_value(w) < linear_bend_series_limit) {
+  const double w_value = plain_value(w);
+  if (w_value < linear_bend_series_limit) {
+    // Terms kept: the remainder's second derivative in w, bounded by Σ_{k>n} 4 k² (w/2)^{k−2}
+    // (since c_k ≤ 4 · 2^{−k}), must fall below 1e-17; near the linear equilibrium a few
+    // terms suffice, at the switch about 25.
+    int terms = 3;
+    while (terms < linear_bend_series_terms &&
+           4.0 * terms * terms * std::pow(0.5 * w_value, terms - 2) > 1e-17)
+      ++terms;
     const auto& c = linear_bend_series_coefficients();
-    S sum = S(c[linear_bend_series_terms - 1]);
-    for (int n = linear_bend_series_terms - 2; n >= 0; --n) sum = sum * w + c[n];
+    S sum = S(c[terms - 1]);
+    for (int n = terms - 2; n >= 0; --n) sum = sum * w + c[n];
     return sum * w;
   }
   using std::atan2;
