@@ -1,0 +1,581 @@
+#include "anharmonic/force_constants.hpp"
+
+#include <algorithm>
+#include <array>
+#include <cmath>
+#include <map>
+#include <optional>
+#include <set>
+#include <utility>
+
+#include <fmt/format.h>
+
+#include "core/error.hpp"
+#include "core/units.hpp"
+
+namespace overtone {
+
+// ---------------------------------------------------------------------------------------
+// Tensors
+
+ForceConstantTensors::ForceConstantTensors(int mode_count)
+    : mode_count_(mode_count),
+      cubic_(static_cast<std::size_t>(mode_count) * mode_count * mode_count, 0.0) {}
+
+void ForceConstantTensors::set_cubic(int i, int j, int k, double value) {
+  cubic_[index3(i, j, k)] = value;
+  cubic_[index3(i, k, j)] = value;
+  cubic_[index3(j, i, k)] = value;
+  cubic_[index3(j, k, i)] = value;
+  cubic_[index3(k, i, j)] = value;
+  cubic_[index3(k, j, i)] = value;
+}
+
+std::uint64_t ForceConstantTensors::quartic_key(int i, int j, int k, int l) {
+  std::array<int, 4> v{i, j, k, l};
+  std::sort(v.begin(), v.end());
+  // 16 bits per index: mode counts stay far below 65536.
+  return (static_cast<std::uint64_t>(v[0]) << 48) | (static_cast<std::uint64_t>(v[1]) << 32) |
+         (static_cast<std::uint64_t>(v[2]) << 16) | static_cast<std::uint64_t>(v[3]);
+}
+
+double ForceConstantTensors::quartic(int i, int j, int k, int l) const {
+  const auto it = quartic_.find(quartic_key(i, j, k, l));
+  return it == quartic_.end() ? 0.0 : it->second;
+}
+
+bool ForceConstantTensors::has_quartic(int i, int j, int k, int l) const {
+  return quartic_.count(quartic_key(i, j, k, l)) > 0;
+}
+
+void ForceConstantTensors::set_quartic(int i, int j, int k, int l, double value) {
+  quartic_[quartic_key(i, j, k, l)] = value;
+}
+
+std::vector<ForceConstantTensors::CubicEntry> ForceConstantTensors::cubic_entries(double threshold_cm1) const {
+  std::vector<CubicEntry> entries;
+  for (int i = 0; i < mode_count_; ++i)
+    for (int j = i; j < mode_count_; ++j)
+      for (int k = j; k < mode_count_; ++k) {
+        const double value = cubic(i, j, k);
+        if (std::abs(value) > threshold_cm1) entries.push_back({i, j, k, value});
+      }
+  return entries;
+}
+
+std::vector<ForceConstantTensors::QuarticEntry> ForceConstantTensors::quartic_entries(double threshold_cm1) const {
+  std::vector<QuarticEntry> entries;
+  for (const auto& [key, value] : quartic_) {
+    if (!(std::abs(value) > threshold_cm1)) continue;
+    entries.push_back({static_cast<int>(key >> 48), static_cast<int>((key >> 32) & 0xffff),
+                       static_cast<int>((key >> 16) & 0xffff), static_cast<int>(key & 0xffff), value});
+  }
+  std::sort(entries.begin(), entries.end(), [](const QuarticEntry& a, const QuarticEntry& b) {
+    return std::tie(a.i, a.j, a.k, a.l) < std::tie(b.i, b.j, b.k, b.l);
+  });
+  return entries;
+}
+
+std::string to_string(ForceConstantStatus status) {
+  switch (status) {
+    case ForceConstantStatus::ok: return "ok";
+    case ForceConstantStatus::not_a_minimum: return "not_a_minimum";
+  }
+  return "unknown";
+}
+
+void validate(const ForceConstantOptions& options) {
+  if (!(options.step > 0.0 && options.step <= 0.5))
+    throw Error(fmt::format("force-constant option step must lie in (0, 0.5] (dimensionless), got {}", options.step));
+  if (options.full_quartic_max_modes < 0)
+    throw Error(fmt::format("force-constant option full_quartic_max_modes must be non-negative, got {}",
+                            options.full_quartic_max_modes));
+  if (!(options.symmetry_tolerance > 0.0))
+    throw Error(fmt::format("force-constant option symmetry_tolerance must be positive, got {}",
+                            options.symmetry_tolerance));
+  if (!(options.minimum_frequency_cm1 > 0.0))
+    throw Error(fmt::format("force-constant option minimum_frequency_cm1 must be positive (cm-1), got {}",
+                            options.minimum_frequency_cm1));
+}
+
+namespace detail {
+
+// ---------------------------------------------------------------------------------------
+// Normal-coordinate frame
+
+NormalCoordinateFrame::NormalCoordinateFrame(const HarmonicResult& harmonic)
+    : reference(harmonic.coordinates_angstrom), frequencies_cm1(harmonic.frequencies_cm1) {
+  const Eigen::Index n = harmonic.mass_weighted_modes.rows();
+  const Eigen::Index m = harmonic.mass_weighted_modes.cols();
+  to_cartesian.resize(n, m);
+  for (Eigen::Index k = 0; k < m; ++k) {
+    // Q_k = q_k sqrt(ħ/ω_k) with ω_k = sqrt(λ_k) in internal units.
+    const double omega = std::sqrt(std::abs(harmonic.eigenvalues[k]));
+    const double length_per_q = std::sqrt(units::hbar_internal / omega);
+    for (Eigen::Index r = 0; r < n; ++r)
+      to_cartesian(r, k) = harmonic.mass_weighted_modes(r, k) * length_per_q / std::sqrt(harmonic.masses_da[r / 3]);
+  }
+}
+
+Eigen::VectorXd NormalCoordinateFrame::gradient_q(const Eigen::VectorXd& cartesian_gradient) const {
+  return units::cm1_per_kcal_mol * (to_cartesian.transpose() * cartesian_gradient);
+}
+
+Eigen::MatrixXd NormalCoordinateFrame::hessian_q(const Eigen::MatrixXd& cartesian_hessian) const {
+  Eigen::MatrixXd h = units::cm1_per_kcal_mol * (to_cartesian.transpose() * cartesian_hessian * to_cartesian);
+  return 0.5 * (h + h.transpose());
+}
+
+// ---------------------------------------------------------------------------------------
+// Symmetry tests and group averaging
+
+namespace {
+
+// Σ over distinct orderings σ, τ of the index tuple of Π_m R(g)_{σ_m τ_m}, summed over g:
+// |G| times ⟨E, P E⟩ for the symmetrized unit tensor E at that index tuple, which is zero
+// exactly when every invariant symmetric tensor vanishes there.
+template <std::size_t Rank>
+double invariant_overlap(const ModeSymmetry& symmetry, std::array<int, Rank> indices) {
+  std::sort(indices.begin(), indices.end());
+  bool all_one_dimensional = true;
+  const auto sets = symmetry.sets();
+  for (int index : indices)
+    all_one_dimensional =
+        all_one_dimensional && sets[static_cast<std::size_t>(symmetry.degenerate_set[static_cast<std::size_t>(index)])].size() == 1;
+  double total = 0.0;
+  if (all_one_dimensional) {
+    for (const auto& r : symmetry.operations) {
+      double product = 1.0;
+      for (int index : indices) product *= r(index, index);
+      total += product;
+    }
+    return total / static_cast<double>(symmetry.order());
+  }
+  std::vector<std::array<int, Rank>> orderings;
+  std::array<int, Rank> current = indices;
+  do orderings.push_back(current);
+  while (std::next_permutation(current.begin(), current.end()));
+  for (const auto& r : symmetry.operations)
+    for (const auto& sigma : orderings)
+      for (const auto& tau : orderings) {
+        double product = 1.0;
+        for (std::size_t m = 0; m < Rank && product != 0.0; ++m) product *= r(sigma[m], tau[m]);
+        total += product;
+      }
+  return total / (static_cast<double>(symmetry.order()) * static_cast<double>(orderings.size()));
+}
+
+// Zero test for the overlaps above: products of orthogonal matrix entries that are exact
+// to the representation error.
+constexpr double vanishing_overlap = 1e-6;
+
+// Group average of one block of a fully symmetric tensor, the block spanned by the modes
+// of the given sets (each R(g) applied to each index). Returns the block's largest change.
+template <std::size_t Rank, class Get, class Set>
+double average_block(const ModeSymmetry& symmetry, const std::array<std::vector<int>, Rank>& modes, Get get,
+                     Set set) {
+  std::array<int, Rank> sizes{};
+  std::size_t total = 1;
+  for (std::size_t a = 0; a < Rank; ++a) {
+    sizes[a] = static_cast<int>(modes[a].size());
+    total *= modes[a].size();
+  }
+  auto unflatten = [&](std::size_t flat) {
+    std::array<int, Rank> pos{};
+    for (std::size_t a = Rank; a-- > 0;) {
+      pos[a] = static_cast<int>(flat % static_cast<std::size_t>(sizes[a]));
+      flat /= static_cast<std::size_t>(sizes[a]);
+    }
+    return pos;
+  };
+  std::vector<double> block(total), averaged(total, 0.0);
+  for (std::size_t f = 0; f < total; ++f) {
+    const auto pos = unflatten(f);
+    std::array<int, Rank> idx{};
+    for (std::size_t a = 0; a < Rank; ++a) idx[a] = modes[a][static_cast<std::size_t>(pos[a])];
+    block[f] = get(idx);
+  }
+  for (const auto& r : symmetry.operations)
+    for (std::size_t out = 0; out < total; ++out) {
+      const auto po = unflatten(out);
+      double sum = 0.0;
+      for (std::size_t in = 0; in < total; ++in) {
+        if (block[in] == 0.0) continue;
+        const auto pi = unflatten(in);
+        double product = block[in];
+        for (std::size_t a = 0; a < Rank && product != 0.0; ++a)
+          product *= r(modes[a][static_cast<std::size_t>(po[a])], modes[a][static_cast<std::size_t>(pi[a])]);
+        sum += product;
+      }
+      averaged[out] += sum;
+    }
+  double change = 0.0;
+  for (std::size_t f = 0; f < total; ++f) {
+    averaged[f] /= static_cast<double>(symmetry.order());
+    change = std::max(change, std::abs(averaged[f] - block[f]));
+    const auto pos = unflatten(f);
+    std::array<int, Rank> idx{};
+    for (std::size_t a = 0; a < Rank; ++a) idx[a] = modes[a][static_cast<std::size_t>(pos[a])];
+    set(idx, averaged[f]);
+  }
+  return change;
+}
+
+}  // namespace
+
+bool cubic_must_vanish(const ModeSymmetry& symmetry, int i, int j, int k) {
+  return std::abs(invariant_overlap<3>(symmetry, {i, j, k})) < vanishing_overlap;
+}
+
+bool quartic_must_vanish(const ModeSymmetry& symmetry, int i, int j, int k, int l) {
+  return std::abs(invariant_overlap<4>(symmetry, {i, j, k, l})) < vanishing_overlap;
+}
+
+double symmetrize_over_group(ForceConstantTensors& constants, const ModeSymmetry& symmetry) {
+  if (!symmetry.has_group()) return 0.0;
+  const auto sets = symmetry.sets();
+  const int set_count = static_cast<int>(sets.size());
+  double change = 0.0;
+  auto get3 = [&](const std::array<int, 3>& x) { return constants.cubic(x[0], x[1], x[2]); };
+  auto put3 = [&](const std::array<int, 3>& x, double v) { constants.set_cubic(x[0], x[1], x[2], v); };
+  for (int a = 0; a < set_count; ++a)
+    for (int b = a; b < set_count; ++b)
+      for (int c = b; c < set_count; ++c)
+        change = std::max(change, average_block<3>(symmetry, {sets[a], sets[b], sets[c]}, get3, put3));
+  auto get4 = [&](const std::array<int, 4>& x) { return constants.quartic(x[0], x[1], x[2], x[3]); };
+  auto put4 = [&](const std::array<int, 4>& x, double v) { constants.set_quartic(x[0], x[1], x[2], x[3], v); };
+  for (int a = 0; a < set_count; ++a)
+    for (int b = a; b < set_count; ++b)
+      for (int c = b; c < set_count; ++c)
+        for (int d = c; d < set_count; ++d) {
+          bool complete = true;
+          for (int i : sets[a])
+            for (int j : sets[b])
+              for (int k : sets[c])
+                for (int l : sets[d]) complete = complete && constants.has_quartic(i, j, k, l);
+          if (complete)
+            change = std::max(change, average_block<4>(symmetry, {sets[a], sets[b], sets[c], sets[d]}, get4, put4));
+        }
+  return change;
+}
+
+}  // namespace detail
+
+// ---------------------------------------------------------------------------------------
+// Finite differences
+
+namespace {
+
+using Point = std::vector<int>;  // displacement in units of h along each normal coordinate
+
+Point unit_point(int m, std::initializer_list<std::pair<int, int>> entries) {
+  Point p(static_cast<std::size_t>(m), 0);
+  for (const auto& [index, value] : entries) p[static_cast<std::size_t>(index)] += value;
+  return p;
+}
+
+// Normal-coordinate Hessians (and gradients) at displaced points, each computed once and
+// reused through the group: V(Rq) = V(q) gives ∇V(q) = Rᵀ∇V(Rq), ∇²V(q) = Rᵀ∇²V(Rq)R.
+class DisplacedEvaluator {
+ public:
+  DisplacedEvaluator(const Potential& potential, const detail::NormalCoordinateFrame& frame,
+                     const std::vector<Eigen::MatrixXd>* operations, double step)
+      : potential_(potential), frame_(frame), operations_(operations), step_(step),
+        analytic_(potential.has_analytic_hessian()), m_(static_cast<int>(frame.frequencies_cm1.size())) {}
+
+  const Eigen::MatrixXd& hessian(const Point& p) {
+    if (auto it = hessians_.find(p); it != hessians_.end()) return it->second;
+    Eigen::MatrixXd h;
+    if (const auto image = symmetric_image(p, hessians_)) {
+      h = image->first.transpose() * image->second->second * image->first;
+      ++hessians_from_symmetry_;
+    } else if (analytic_) {
+      h = frame_.hessian_q(potential_.hessian(position(p)));
+    } else {
+      h.resize(m_, m_);
+      for (int j = 0; j < m_; ++j) {
+        Point plus = p, minus = p;
+        ++plus[static_cast<std::size_t>(j)];
+        --minus[static_cast<std::size_t>(j)];
+        h.col(j) = (gradient(plus) - gradient(minus)) / (2.0 * step_);
+      }
+      h = 0.5 * (h + h.transpose()).eval();
+    }
+    if (!h.allFinite())
+      throw Error(fmt::format("the potential '{}' gave a non-finite hessian at a displacement of the force-constant "
+                              "scheme",
+                              potential_.description()));
+    return hessians_.emplace(p, std::move(h)).first->second;
+  }
+
+  std::size_t hessian_count() const { return hessians_.size(); }
+  std::size_t hessians_from_symmetry() const { return hessians_from_symmetry_; }
+
+ private:
+  Eigen::VectorXd position(const Point& p) const {
+    Eigen::VectorXd q(m_);
+    for (int k = 0; k < m_; ++k) q[k] = step_ * p[static_cast<std::size_t>(k)];
+    return frame_.cartesian(q);
+  }
+
+  const Eigen::VectorXd& gradient(const Point& p) {
+    if (auto it = gradients_.find(p); it != gradients_.end()) return it->second;
+    Eigen::VectorXd g;
+    if (const auto image = symmetric_image(p, gradients_)) {
+      g = image->first.transpose() * image->second->second;
+    } else {
+      Eigen::VectorXd cartesian;
+      potential_.energy_and_gradient(position(p), cartesian);
+      g = frame_.gradient_q(cartesian);
+      if (!g.allFinite())
+        throw Error(fmt::format("the potential '{}' gave a non-finite gradient at a displacement of the "
+                                "force-constant scheme",
+                                potential_.description()));
+    }
+    return gradients_.emplace(p, std::move(g)).first->second;
+  }
+
+  // An operation g and an already computed point equal to R(g)·p.
+  template <class Map>
+  std::optional<std::pair<Eigen::MatrixXd, typename Map::const_iterator>> symmetric_image(const Point& p,
+                                                                                          const Map& map) const {
+    if (!operations_) return std::nullopt;
+    Eigen::VectorXd v(m_);
+    for (int k = 0; k < m_; ++k) v[k] = p[static_cast<std::size_t>(k)];
+    constexpr double integer_tolerance = 1e-6;  // R is exact to far better than this when used
+    for (std::size_t g = 1; g < operations_->size(); ++g) {
+      const Eigen::VectorXd image = (*operations_)[g] * v;
+      Point key(static_cast<std::size_t>(m_));
+      bool integral = true;
+      for (int k = 0; k < m_ && integral; ++k) {
+        const double rounded = std::round(image[k]);
+        integral = std::abs(image[k] - rounded) < integer_tolerance;
+        key[static_cast<std::size_t>(k)] = static_cast<int>(rounded);
+      }
+      if (!integral || key == p) continue;
+      if (auto it = map.find(key); it != map.end()) return std::make_pair((*operations_)[g], it);
+    }
+    return std::nullopt;
+  }
+
+  const Potential& potential_;
+  const detail::NormalCoordinateFrame& frame_;
+  const std::vector<Eigen::MatrixXd>* operations_;
+  double step_;
+  bool analytic_;
+  int m_;
+  std::map<Point, Eigen::MatrixXd> hessians_;
+  std::map<Point, Eigen::VectorXd> gradients_;
+  std::size_t hessians_from_symmetry_ = 0;
+};
+
+// Running mean and spread of the estimates of one constant.
+struct Estimate {
+  double sum = 0.0;
+  int count = 0;
+  double low = 0.0, high = 0.0;
+  void add(double value) {
+    if (count == 0) low = high = value;
+    low = std::min(low, value);
+    high = std::max(high, value);
+    sum += value;
+    ++count;
+  }
+  double mean() const { return sum / count; }
+  double spread() const { return high - low; }
+};
+
+// Operations with the entries between different sets set to zero and nondegenerate
+// diagonal entries snapped to ±1, so that reused points are exact images.
+std::vector<Eigen::MatrixXd> cleaned_operations(const ModeSymmetry& symmetry) {
+  std::vector<Eigen::MatrixXd> result = symmetry.operations;
+  const auto& set_of = symmetry.degenerate_set;
+  const auto sets = symmetry.sets();
+  for (auto& r : result) {
+    for (Eigen::Index i = 0; i < r.rows(); ++i)
+      for (Eigen::Index j = 0; j < r.cols(); ++j)
+        if (set_of[static_cast<std::size_t>(i)] != set_of[static_cast<std::size_t>(j)]) r(i, j) = 0.0;
+    for (const auto& members : sets)
+      if (members.size() == 1) r(members.front(), members.front()) = r(members.front(), members.front()) < 0.0 ? -1.0 : 1.0;
+  }
+  return result;
+}
+
+}  // namespace
+
+ForceConstantResult compute_force_constants(const Potential& potential, const HarmonicResult& harmonic,
+                                            const ForceConstantOptions& options) {
+  return compute_force_constants(potential, harmonic, trivial_mode_symmetry(harmonic), options);
+}
+
+ForceConstantResult compute_force_constants(const Potential& potential, const HarmonicResult& harmonic,
+                                            const ModeSymmetry& symmetry, const ForceConstantOptions& options) {
+  validate(options);
+  const int m = static_cast<int>(harmonic.mode_count());
+  if (m < 1) throw Error("the harmonic result has no vibrational modes");
+  if (harmonic.coordinates_angstrom.size() != static_cast<Eigen::Index>(3 * potential.atom_count()))
+    throw Error(fmt::format("the harmonic result is for {} coordinates but the potential '{}' has {} atoms",
+                            harmonic.coordinates_angstrom.size(), potential.description(), potential.atom_count()));
+  if (symmetry.mode_count() != static_cast<std::size_t>(m))
+    throw Error(fmt::format("the mode symmetry covers {} modes, expected {}", symmetry.mode_count(), m));
+  for (const auto& r : symmetry.operations)
+    if (r.rows() != m || r.cols() != m)
+      throw Error(fmt::format("a symmetry matrix on the normal coordinates is {}x{}, expected {}x{}", r.rows(),
+                              r.cols(), m, m));
+
+  ForceConstantResult result;
+  result.frequencies_cm1 = harmonic.frequencies_cm1;
+  result.symmetry = symmetry;
+  result.step = options.step;
+  result.constants = ForceConstantTensors(m);
+  for (int k = 0; k < m; ++k)
+    if (!(harmonic.frequencies_cm1[k] >= options.minimum_frequency_cm1)) {
+      result.status = ForceConstantStatus::not_a_minimum;
+      result.message = fmt::format(
+          "mode {} (ascending order) has harmonic wavenumber {:.2f} cm-1, below the {} cm-1 needed for "
+          "dimensionless normal coordinates: the geometry is not a well-defined minimum",
+          k + 1, harmonic.frequencies_cm1[k], options.minimum_frequency_cm1);
+      return result;
+    }
+
+  result.symmetry_used = options.use_symmetry && symmetry.has_group() &&
+                         symmetry.representation_error <= options.symmetry_tolerance;
+  if (options.use_symmetry && symmetry.has_group() && !result.symmetry_used)
+    result.warnings.push_back(fmt::format(
+        "the point group ({}) was not used: its matrices on the normal coordinates deviate by {:.2g}, above the "
+        "tolerance {:.2g} (symmetrize the geometry and Hessian first)",
+        symmetry.point_group.empty() ? "given" : symmetry.point_group, symmetry.representation_error,
+        options.symmetry_tolerance));
+
+  const detail::NormalCoordinateFrame frame(harmonic);
+  const std::vector<Eigen::MatrixXd> operations = cleaned_operations(symmetry);
+  DisplacedEvaluator evaluator(potential, frame, result.symmetry_used ? &operations : nullptr, options.step);
+  const double h = options.step;
+  result.full_quartic = m <= options.full_quartic_max_modes;
+  result.method = potential.has_analytic_hessian() ? "analytic Hessians"
+                                                   : "Hessians from central differences of gradients";
+
+  // Pairs of modes displaced together: all of them for the full quartic field, else only
+  // pairs inside one degenerate set.
+  std::vector<std::pair<int, int>> pairs;
+  for (int k = 0; k < m; ++k)
+    for (int l = k + 1; l < m; ++l)
+      if (result.full_quartic || symmetry.degenerate_set[static_cast<std::size_t>(k)] ==
+                                     symmetry.degenerate_set[static_cast<std::size_t>(l)])
+        pairs.emplace_back(k, l);
+
+  std::vector<Point> points{unit_point(m, {})};
+  for (int k = 0; k < m; ++k) {
+    points.push_back(unit_point(m, {{k, 1}}));
+    points.push_back(unit_point(m, {{k, -1}}));
+  }
+  for (const auto& [k, l] : pairs)
+    for (int sk : {1, -1})
+      for (int sl : {1, -1}) points.push_back(unit_point(m, {{k, sk}, {l, sl}}));
+
+  const EvaluationCounts before = potential.counts();
+  for (const auto& p : points) evaluator.hessian(p);
+  const EvaluationCounts after = potential.counts();
+  result.evaluations.energies = after.energies - before.energies;
+  result.evaluations.gradients = after.gradients - before.gradients;
+  result.evaluations.hessians = after.hessians - before.hessians;
+  result.displaced_hessians = evaluator.hessian_count();
+  result.hessians_from_symmetry = evaluator.hessians_from_symmetry();
+  if (potential.has_analytic_hessian()) {
+    result.naive_evaluations.hessians = points.size();
+  } else {
+    std::set<Point> needed;
+    for (const auto& p : points)
+      for (int j = 0; j < m; ++j)
+        for (int s : {1, -1}) {
+          Point q = p;
+          q[static_cast<std::size_t>(j)] += s;
+          needed.insert(q);
+        }
+    result.naive_evaluations.gradients = needed.size();
+  }
+
+  // Derivative matrices per displaced direction.
+  const Eigen::MatrixXd& center = evaluator.hessian(points.front());
+  std::vector<Eigen::MatrixXd> first(static_cast<std::size_t>(m)), second(static_cast<std::size_t>(m));
+  for (int k = 0; k < m; ++k) {
+    const Eigen::MatrixXd& plus = evaluator.hessian(unit_point(m, {{k, 1}}));
+    const Eigen::MatrixXd& minus = evaluator.hessian(unit_point(m, {{k, -1}}));
+    first[static_cast<std::size_t>(k)] = (plus - minus) / (2.0 * h);
+    second[static_cast<std::size_t>(k)] = (plus - 2.0 * center + minus) / (h * h);
+  }
+  std::map<std::pair<int, int>, Eigen::MatrixXd> mixed;
+  for (const auto& [k, l] : pairs)
+    mixed[{k, l}] = (evaluator.hessian(unit_point(m, {{k, 1}, {l, 1}})) -
+                     evaluator.hessian(unit_point(m, {{k, 1}, {l, -1}})) -
+                     evaluator.hessian(unit_point(m, {{k, -1}, {l, 1}})) +
+                     evaluator.hessian(unit_point(m, {{k, -1}, {l, -1}}))) /
+                    (4.0 * h * h);
+
+  // Cubic: one estimate per distinct index used as the displaced direction.
+  double spread = 0.0;
+  for (int i = 0; i < m; ++i)
+    for (int j = i; j < m; ++j)
+      for (int k = j; k < m; ++k) {
+        Estimate e;
+        const std::array<int, 3> idx{i, j, k};
+        for (int d = 0; d < 3; ++d) {
+          if (d > 0 && idx[d] == idx[d - 1]) continue;
+          const int a = idx[(d + 1) % 3], b = idx[(d + 2) % 3];
+          e.add(first[static_cast<std::size_t>(idx[d])](a, b));
+        }
+        spread = std::max(spread, e.spread());
+        result.constants.set_cubic(i, j, k, e.mean());
+      }
+
+  // Quartic: one estimate per distinct choice of the two displaced indices (a repeated
+  // index from a single displacement, two different ones from a mixed displacement).
+  for (int i = 0; i < m; ++i)
+    for (int j = i; j < m; ++j)
+      for (int k = j; k < m; ++k)
+        for (int l = k; l < m; ++l) {
+          const std::array<int, 4> idx{i, j, k, l};
+          Estimate e;
+          std::set<std::pair<int, int>> used;
+          for (int a = 0; a < 4; ++a)
+            for (int b = a + 1; b < 4; ++b) {
+              const std::pair<int, int> chosen{idx[a], idx[b]};
+              if (!used.insert(chosen).second) continue;
+              std::array<int, 2> rest{};
+              int r = 0;
+              for (int c = 0; c < 4; ++c)
+                if (c != a && c != b) rest[static_cast<std::size_t>(r++)] = idx[c];
+              if (chosen.first == chosen.second) {
+                e.add(second[static_cast<std::size_t>(chosen.first)](rest[0], rest[1]));
+              } else if (const auto it = mixed.find(chosen); it != mixed.end()) {
+                e.add(it->second(rest[0], rest[1]));
+              }
+            }
+          if (e.count == 0) continue;
+          spread = std::max(spread, e.spread());
+          result.constants.set_quartic(i, j, k, l, e.mean());
+        }
+  result.permutation_spread_cm1 = spread;
+
+  if (result.symmetry_used) {
+    result.symmetry_adjustment_cm1 = detail::symmetrize_over_group(result.constants, symmetry);
+    for (int i = 0; i < m; ++i)
+      for (int j = i; j < m; ++j)
+        for (int k = j; k < m; ++k)
+          if (detail::cubic_must_vanish(symmetry, i, j, k)) {
+            result.constants.set_cubic(i, j, k, 0.0);
+            ++result.forbidden_cubic;
+          }
+    for (const auto& entry : result.constants.quartic_entries(-1.0))
+      if (detail::quartic_must_vanish(symmetry, entry.i, entry.j, entry.k, entry.l)) {
+        result.constants.set_quartic(entry.i, entry.j, entry.k, entry.l, 0.0);
+        ++result.forbidden_quartic;
+      }
+  }
+  result.message = fmt::format("{} cubic and {} quartic constants from {} displaced Hessians ({} by symmetry), {}",
+                               m * (m + 1) * (m + 2) / 6, result.constants.quartic_entries(-1.0).size(),
+                               result.displaced_hessians, result.hessians_from_symmetry, result.method);
+  return result;
+}
+
+}  // namespace overtone
