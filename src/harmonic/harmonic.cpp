@@ -59,6 +59,17 @@ HessianResult compute_hessian(const Potential& potential, const Eigen::VectorXd&
   require_finite(result.hessian, "the hessian");
   result.asymmetry = (result.hessian - result.hessian.transpose()).cwiseAbs().maxCoeff();
   result.hessian = 0.5 * (result.hessian + result.hessian.transpose()).eval();
+  if (options.enforce_rigid_body_invariance && n >= 6) {
+    const Eigen::MatrixXd rigid = rigid_body_basis(coordinates_angstrom, Eigen::VectorXd::Ones(n / 3),
+                                                   NormalModeOptions{}.linearity_tolerance);
+    // P H P with P = I − RRᵀ, by rank-r updates.
+    const Eigen::MatrixXd h_rigid = result.hessian * rigid;
+    const Eigen::MatrixXd removed = rigid * h_rigid.transpose() + h_rigid * rigid.transpose() -
+                                    rigid * (rigid.transpose() * h_rigid) * rigid.transpose();
+    result.rigid_body_residual = removed.cwiseAbs().maxCoeff();
+    result.hessian -= removed;
+    result.hessian = 0.5 * (result.hessian + result.hessian.transpose()).eval();
+  }
   return result;
 }
 

@@ -45,13 +45,13 @@ Molecule molecule_from_openbabel(OpenBabel::OBMol& mol) {
   return molecule;
 }
 
-void openbabel_from_molecule(const Molecule& molecule, OpenBabel::OBMol& mol) {
+void openbabel_from_molecule(const Molecule& molecule, OpenBabel::OBMol& mol, bool with_isotopes) {
   mol.Clear();
   mol.BeginModify();
   for (const auto& atom : molecule.atoms) {
     OpenBabel::OBAtom* ob_atom = mol.NewAtom();
     ob_atom->SetAtomicNum(static_cast<unsigned>(atom.atomic_number));
-    if (atom.mass_number > 0) ob_atom->SetIsotope(static_cast<unsigned>(atom.mass_number));
+    if (with_isotopes && atom.mass_number > 0) ob_atom->SetIsotope(static_cast<unsigned>(atom.mass_number));
     ob_atom->SetFormalCharge(atom.formal_charge);
     ob_atom->SetVector(atom.position_angstrom.x(), atom.position_angstrom.y(), atom.position_angstrom.z());
   }

@@ -16,8 +16,9 @@ Molecule molecule_from_openbabel(OpenBabel::OBMol& mol);
 
 // Builds an OBMol with the molecule's atoms, charges and bonds (bond orders as stored;
 // when the molecule has no bonds, connectivity and orders are perceived from the
-// geometry).
-void openbabel_from_molecule(const Molecule& molecule, OpenBabel::OBMol& mol);
+// geometry). Isotopes are left out unless asked for: force-field typing does not
+// depend on mass and Open Babel's typing rules fail on isotope-labelled atoms.
+void openbabel_from_molecule(const Molecule& molecule, OpenBabel::OBMol& mol, bool with_isotopes = false);
 
 // Open Babel writes warnings and errors to one global log. This keeps them off the
 // user's terminal (nothing below the command line prints) and gives back what was

@@ -10,8 +10,8 @@
 namespace overtone {
 
 struct IsotopeChoice {
-  int atom_number = 0;   // 1-based, as in the file
-  int mass_number = 0;   // e.g. 2 for deuterium, 13 for carbon-13
+  int atom_number = 0;  // 1-based, as in the file
+  int mass_number = 0;  // e.g. 2 for deuterium, 13 for carbon-13
 };
 
 // Parses "N=A" (atom number N, mass number A); throws Error with the text if malformed.

@@ -128,6 +128,8 @@ MinimizeResult minimize(const Potential& potential, const Eigen::VectorXd& start
         newton_step -= (v.dot(projected_gradient) / magnitude) * v;
       }
       if (rms(gradient) <= options.rms_gradient_tolerance) break;  // curvature now known at the final point
+      // Negative curvature: leaving downhill along it beats Newton steps on |λ|.
+      if (negative_directions > 0 && attempt < options.max_saddle_escapes) break;
       const double move = largest_atom_move(newton_step);
       if (move > options.newton_max_atom_step_angstrom)
         newton_step *= options.newton_max_atom_step_angstrom / move;
@@ -151,12 +153,14 @@ MinimizeResult minimize(const Potential& potential, const Eigen::VectorXd& start
       if (!accepted) break;
     }
 
-    const bool at_saddle = rms(gradient) <= options.rms_gradient_tolerance && negative_directions > 0;
-    if (!at_saddle || attempt >= options.max_saddle_escapes) break;
-    // Leave the saddle downhill along the most negative curvature direction.
+    if (negative_directions == 0 || attempt >= options.max_saddle_escapes) break;
+    // Leave the saddle (or the region of negative curvature) downhill along the most
+    // negative curvature direction, then minimize again.
     ++result.saddle_escapes;
-    const Eigen::VectorXd push = most_negative_direction * (options.saddle_escape_step_angstrom /
-                                                            largest_atom_move(most_negative_direction));
+    const double sign = most_negative_direction.dot(gradient) > 0.0 ? -1.0 : 1.0;
+    const Eigen::VectorXd push =
+        sign * most_negative_direction *
+        (options.saddle_escape_step_angstrom / largest_atom_move(most_negative_direction));
     x += push;
     energy = potential.energy_and_gradient(x, gradient);
   }

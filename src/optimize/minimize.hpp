@@ -15,10 +15,10 @@
 namespace overtone {
 
 struct MinimizeOptions {
-  double rms_gradient_tolerance = 1e-6;      // kcal/mol/Å, final criterion
-  double lbfgs_rms_gradient_target = 1e-3;   // kcal/mol/Å, hand over to Newton below this
+  double rms_gradient_tolerance = 1e-6;     // kcal/mol/Å, final criterion
+  double lbfgs_rms_gradient_target = 1e-3;  // kcal/mol/Å, hand over to Newton below this
   int lbfgs_max_iterations = 5000;
-  int lbfgs_memory = 8;                      // number of correction pairs
+  int lbfgs_memory = 8;  // number of correction pairs
   int newton_max_steps = 12;
   double newton_max_atom_step_angstrom = 0.1;  // trust radius: largest move of any atom per step
   // Hessian for Newton steps: analytic where available, else this central-difference step.
@@ -39,16 +39,16 @@ struct MinimizeResult {
   std::string message;
   Eigen::VectorXd coordinates_angstrom;
   double energy_kcal_mol = 0.0;
-  double rms_gradient = 0.0;        // kcal/mol/Å
-  double max_gradient = 0.0;        // largest |component|, kcal/mol/Å
+  double rms_gradient = 0.0;  // kcal/mol/Å
+  double max_gradient = 0.0;  // largest |component|, kcal/mol/Å
   int lbfgs_iterations = 0;
   int newton_steps = 0;
-  int negative_curvature_directions = 0;   // of the last Hessian, rigid-body motions excluded
-  int saddle_escapes = 0;                  // times a saddle point was left downhill
+  int negative_curvature_directions = 0;  // of the last Hessian, rigid-body motions excluded
+  int saddle_escapes = 0;                 // times a saddle point was left downhill
   std::size_t energy_evaluations = 0;
   std::size_t gradient_evaluations = 0;
   std::size_t hessian_evaluations = 0;
-  double rms_gradient_tolerance = 0.0;     // the criterion actually used
+  double rms_gradient_tolerance = 0.0;  // the criterion actually used
   bool converged() const { return status == MinimizeStatus::converged; }
 };
 

@@ -5,8 +5,8 @@
 #include <openbabel/elements.h>
 
 #include <cstdio>
-#include <functional>
 #include <fstream>
+#include <functional>
 #include <string>
 
 #include "core/error.hpp"
@@ -70,7 +70,8 @@ TEST(ReadMolecule, SmilesGetsAThreeDimensionalStructureWithHydrogens) {
   EXPECT_TRUE(result.geometry_built_from_smiles);
   EXPECT_EQ(result.molecule.formula(), "CH2O");
   // A real geometry: the C=O bond near its usual length (1.2 Å, common practice).
-  const double bond = (result.molecule.atoms[0].position_angstrom - result.molecule.atoms[1].position_angstrom).norm();
+  const double bond =
+      (result.molecule.atoms[0].position_angstrom - result.molecule.atoms[1].position_angstrom).norm();
   EXPECT_GT(bond, 1.1);
   EXPECT_LT(bond, 1.35);
 }

@@ -60,7 +60,8 @@ TEST(Minimize, LeavesTheSaddleDownhillWhenAllowed) {
   const MinimizeResult result = minimize(*potential, molecule.coordinates());
   EXPECT_TRUE(result.converged()) << result.message;
   EXPECT_GE(result.saddle_escapes, 1);
-  EXPECT_GT(pyramid_height(result.coordinates_angstrom), 0.2);  // a real pyramid (≈0.38 Å in NH3, from memory)
+  EXPECT_GT(pyramid_height(result.coordinates_angstrom),
+            0.2);  // a real pyramid (≈0.38 Å in NH3, from memory)
 }
 
 TEST(Minimize, NonConvergenceIsReportedNotHidden) {
