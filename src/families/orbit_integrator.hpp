@@ -1,0 +1,93 @@
+#pragma once
+// detail: integration of one orbit of H = ½|P|² + V(Q), optionally with the variational
+// equations and the action integral, for the periodic-orbit engine.
+//
+// The orbit is assumed to stay in span(B) (B n×m with orthonormal columns: the fixed
+// space of the spatial symmetry of a family), so it is integrated in reduced coordinates.
+// State variables are scaled to O(1) so that one relative tolerance fits every amplitude:
+//   q = ℓ B â,   p = ω₀ ℓ B b̂,
+// with ℓ a length scale (the harmonic amplitude at the current energy) and ω₀ the
+// family's harmonic angular frequency. The variational equations are integrated for all
+// 2c directions of span(C) × span(C) (C n×c orthonormal; C = B for Newton, C = I for
+// Floquet multipliers) in the same scaling, so the returned transition matrix
+//   Φ̂ = diag(1, 1/ω₀) Φ diag(1, ω₀)
+// is dimensionless and independent of ℓ. The Hessian enters only as CᵀHC, symmetrized,
+// which keeps the variational flow Hamiltonian even with finite-difference Hessians.
+#include <Eigen/Dense>
+#include <cstddef>
+#include <string>
+#include <vector>
+
+#include "families/vibrational_system.hpp"
+
+namespace overtone::detail {
+
+struct OrbitScaling {
+  double length = 1.0;             // ℓ, unit of q
+  double angular_frequency = 1.0;  // ω₀, radians per time unit
+};
+
+struct IntegrationRequest {
+  Eigen::VectorXd scaled_state;    // (â, b̂), 2m
+  double duration = 0.0;           // physical time units, > 0
+  const Eigen::MatrixXd* variational_basis = nullptr;  // C; null: no variational equations
+  int sample_count = 0;            // > 0: record the state at sample_count+1 equally spaced times
+};
+
+struct IntegrationOutcome {
+  bool ok = false;
+  std::string failure;                      // why not ok (escape, step limit, non-finite state)
+  Eigen::VectorXd scaled_state;             // (â, b̂) at the end
+  Eigen::MatrixXd transition;               // Φ̂, 2c × 2c, when requested
+  double momentum_square_integral = 0.0;    // ∫|p|² dt over the duration, physical units
+  std::vector<Eigen::VectorXd> samples;     // scaled states at the sample times (first = start)
+  std::size_t steps = 0;
+  std::size_t rejected_steps = 0;
+  double seconds = 0.0;
+};
+
+struct IntegrationCounters {
+  std::size_t orbit_integrations = 0;        // without variational equations
+  std::size_t variational_integrations = 0;  // with variational equations
+  std::size_t steps = 0;
+  std::size_t rejected_steps = 0;
+  // Time spent in integrations with whole-space variational equations and the number
+  // of periods they covered: the benchmark's unit of cost is their ratio.
+  double full_variational_seconds = 0.0;
+  double full_variational_periods = 0.0;
+};
+
+class OrbitIntegrator {
+ public:
+  // tolerance: relative and absolute error per step of the controlled
+  // Runge–Kutta–Fehlberg 7(8) stepper on the O(1) scaled state.
+  // escape_radius: |q| (unit of q) beyond which the orbit counts as escaped.
+  OrbitIntegrator(const VibrationalSystem& system, Eigen::MatrixXd basis, double tolerance, double escape_radius,
+                  std::size_t max_steps);
+
+  IntegrationOutcome integrate(const IntegrationRequest& request, const OrbitScaling& scaling);
+
+  // Time derivative of the scaled state (â, b̂) at a scaled state.
+  Eigen::VectorXd scaled_velocity(const Eigen::VectorXd& scaled_state, const OrbitScaling& scaling) const;
+  // Full-space coordinates from a scaled state.
+  Eigen::VectorXd positions(const Eigen::VectorXd& scaled_state, const OrbitScaling& scaling) const;
+  Eigen::VectorXd momenta(const Eigen::VectorXd& scaled_state, const OrbitScaling& scaling) const;
+
+  const Eigen::MatrixXd& basis() const { return basis_; }
+  int reduced_dimension() const { return static_cast<int>(basis_.cols()); }
+  IntegrationCounters& counters() { return counters_; }
+  const IntegrationCounters& counters() const { return counters_; }
+  void set_full_period(double period) { period_ = period; }
+
+ private:
+  const VibrationalSystem& system_;
+  Eigen::MatrixXd basis_;
+  double tolerance_;
+  double escape_radius_;
+  std::size_t max_steps_;
+  double step_hint_ = 0.0;     // last accepted step divided by the duration
+  double period_ = 0.0;
+  IntegrationCounters counters_;
+};
+
+}  // namespace overtone::detail

@@ -1,0 +1,944 @@
+#include "families/periodic_orbits.hpp"
+
+#include <algorithm>
+#include <chrono>
+#include <cmath>
+#include <fmt/format.h>
+#include <numeric>
+#include <optional>
+
+#include "core/error.hpp"
+#include "core/units.hpp"
+#include "families/orbit_integrator.hpp"
+
+namespace overtone {
+
+const char* to_string(ContinuationStatus status) {
+  switch (status) {
+    case ContinuationStatus::reached_energy_max: return "reached_energy_max";
+    case ContinuationStatus::escaped: return "escaped";
+    case ContinuationStatus::step_too_small: return "step_too_small";
+    case ContinuationStatus::point_limit: return "point_limit";
+    case ContinuationStatus::start_failed: return "start_failed";
+    case ContinuationStatus::turned_back: return "turned_back";
+  }
+  return "unknown";
+}
+
+const char* to_string(FamilyEventKind kind) {
+  switch (kind) {
+    case FamilyEventKind::fold: return "fold";
+    case FamilyEventKind::stability_lost: return "stability_lost";
+    case FamilyEventKind::stability_gained: return "stability_gained";
+    case FamilyEventKind::period_doubling: return "period_doubling";
+    case FamilyEventKind::branch_point: return "branch_point";
+    case FamilyEventKind::instability_changed: return "instability_changed";
+    case FamilyEventKind::resonance_encounter: return "resonance_encounter";
+    case FamilyEventKind::escape: return "escape";
+  }
+  return "unknown";
+}
+
+namespace {
+
+void require(bool condition, const std::string& field, double value, const char* constraint) {
+  if (!condition) throw Error(fmt::format("continuation option {} = {} must be {}", field, value, constraint));
+}
+
+}  // namespace
+
+void validate(const ContinuationOptions& o) {
+  require(std::isfinite(o.energy_max) && o.energy_max > 0.0, "energy_max", o.energy_max, "a positive energy");
+  require(o.start_energy_fraction > 0.0 && o.start_energy_fraction < 1.0, "start_energy_fraction",
+          o.start_energy_fraction, "in (0, 1)");
+  require(o.integration_tolerance >= 1e-15 && o.integration_tolerance <= 1e-6, "integration_tolerance",
+          o.integration_tolerance, "in [1e-15, 1e-6]");
+  require(o.closure_tolerance > 0.0 && o.closure_tolerance < 1e-2, "closure_tolerance", o.closure_tolerance,
+          "in (0, 1e-2)");
+  require(o.closure_tolerance >= 10.0 * o.integration_tolerance, "closure_tolerance", o.closure_tolerance,
+          "at least 10 times integration_tolerance (Newton cannot beat the integrator)");
+  require(o.max_newton_iterations >= 2, "max_newton_iterations", o.max_newton_iterations, "at least 2");
+  require(o.min_step > 0.0, "min_step", o.min_step, "positive");
+  require(o.initial_step >= o.min_step && o.initial_step <= o.max_step, "initial_step", o.initial_step,
+          "between min_step and max_step");
+  require(o.max_energy_step_fraction > 0.0 && o.max_energy_step_fraction <= 1.0, "max_energy_step_fraction",
+          o.max_energy_step_fraction, "in (0, 1]");
+  require(o.max_points >= 2, "max_points", o.max_points, "at least 2");
+  require(o.samples_per_period >= 16, "samples_per_period", o.samples_per_period, "at least 16");
+  require(o.stability_tolerance > 0.0 && o.stability_tolerance < 0.1, "stability_tolerance", o.stability_tolerance,
+          "in (0, 0.1)");
+  require(o.escape_radius_factor > 1.0, "escape_radius_factor", o.escape_radius_factor, "above 1");
+  require(o.max_period_factor > 1.0, "max_period_factor", o.max_period_factor, "above 1");
+  require(o.max_integration_steps >= 100, "max_integration_steps", static_cast<double>(o.max_integration_steps),
+          "at least 100");
+  require(o.ladder_max_level >= 0, "ladder_max_level", o.ladder_max_level, "non-negative");
+  require(o.ladder_tolerance >= 0.0 && o.ladder_tolerance < 0.1, "ladder_tolerance", o.ladder_tolerance,
+          "in [0, 0.1)");
+}
+
+namespace {
+
+// A point of the family in the system's units, reduced coordinates.
+struct Unknowns {
+  Eigen::VectorXd a;  // Bᵀq(0)
+  Eigen::VectorXd b;  // Bᵀp(0)
+  double period = 0.0;
+  double energy = 0.0;
+};
+
+struct CorrectorSetup {
+  double length = 1.0;                 // ℓ of the scaling used throughout this corrector
+  double time_scale = 1.0;             // t_s: the period enters as τ = T / t_s
+  bool fixed_energy = true;
+  double target_energy = 0.0;
+  Eigen::VectorXd phase_reference;     // scaled (â, b̂)
+  Eigen::VectorXd phase_direction;     // unit, 2m
+  Eigen::VectorXd tangent;             // scaled (â, b̂, τ, Ê): arclength mode only
+  Eigen::VectorXd predicted;
+};
+
+struct CorrectorOutcome {
+  bool converged = false;
+  std::string failure;
+  bool escaped = false;
+  Unknowns solution;
+  double action = 0.0;                 // J of the converged orbit
+  int iterations = 0;
+  int variational_integrations = 0;
+  int orbit_integrations = 0;
+};
+
+// Everything that is computed once per accepted point beyond the corrector.
+struct PointAnalysis {
+  Eigen::MatrixXd reduced_transition;  // Φ̂ on F × F over T/r
+  bool ok = true;
+  std::string failure;
+};
+
+double cubic_hermite_component(double v0, double d0, double v1, double d1, double h, double s) {
+  const double s2 = s * s, s3 = s2 * s;
+  return (2 * s3 - 3 * s2 + 1) * v0 + (s3 - 2 * s2 + s) * h * d0 + (-2 * s3 + 3 * s2) * v1 + (s3 - s2) * h * d1;
+}
+
+// Largest value over t of a norm of a vector function sampled at equally spaced times
+// (spacing h, periodic, values[N] == values[0] not required) with known derivatives:
+// the best sample is refined on the cubic Hermite interpolant of its two neighbouring
+// intervals by golden-section search. The norm is the largest Euclidean norm of the
+// consecutive blocks of block_size components (block_size = length: plain norm).
+double refined_maximum(const std::vector<Eigen::VectorXd>& values, const std::vector<Eigen::VectorXd>& derivatives,
+                       double h, int block_size) {
+  const int count = static_cast<int>(values.size());
+  auto block_norm = [block_size](const Eigen::VectorXd& v) {
+    double best = 0.0;
+    for (Eigen::Index start = 0; start + block_size <= v.size(); start += block_size)
+      best = std::max(best, v.segment(start, block_size).norm());
+    return best;
+  };
+  int best_index = 0;
+  double best_value = -1.0;
+  for (int j = 0; j < count; ++j) {
+    const double value = block_norm(values[j]);
+    if (value > best_value) {
+      best_value = value;
+      best_index = j;
+    }
+  }
+  // On [j−1, j+1] parametrized by x ∈ [−1, 1].
+  const int previous = (best_index - 1 + count) % count;
+  const int next = (best_index + 1) % count;
+  Eigen::VectorXd buffer(values[best_index].size());
+  auto interpolated = [&](double x) {
+    const int left = x < 0.0 ? previous : best_index;
+    const int right = x < 0.0 ? best_index : next;
+    const double s = x < 0.0 ? x + 1.0 : x;
+    for (Eigen::Index k = 0; k < buffer.size(); ++k)
+      buffer(k) = cubic_hermite_component(values[left](k), derivatives[left](k), values[right](k),
+                                          derivatives[right](k), h, s);
+    return block_norm(buffer);
+  };
+  // Coarse scan, then golden section around the best scan point.
+  constexpr int scan = 16;
+  double best_x = 0.0;
+  for (int i = -scan; i <= scan; ++i) {
+    const double x = static_cast<double>(i) / scan;
+    const double value = interpolated(x);
+    if (value > best_value) {
+      best_value = value;
+      best_x = x;
+    }
+  }
+  const double golden = 0.5 * (std::sqrt(5.0) - 1.0);
+  double lo = std::max(-1.0, best_x - 1.0 / scan), hi = std::min(1.0, best_x + 1.0 / scan);
+  double x1 = hi - golden * (hi - lo), x2 = lo + golden * (hi - lo);
+  double f1 = interpolated(x1), f2 = interpolated(x2);
+  for (int iteration = 0; iteration < 40; ++iteration) {
+    if (f1 < f2) {
+      lo = x1;
+      x1 = x2;
+      f1 = f2;
+      x2 = lo + golden * (hi - lo);
+      f2 = interpolated(x2);
+    } else {
+      hi = x2;
+      x2 = x1;
+      f2 = f1;
+      x1 = hi - golden * (hi - lo);
+      f1 = interpolated(x1);
+    }
+  }
+  return std::max({best_value, f1, f2});
+}
+
+Eigen::MatrixXd phase_space_block(const Eigen::MatrixXd& m) {
+  const Eigen::Index n = m.rows(), c = m.cols();
+  Eigen::MatrixXd block = Eigen::MatrixXd::Zero(2 * n, 2 * c);
+  block.topLeftCorner(n, c) = m;
+  block.bottomRightCorner(n, c) = m;
+  return block;
+}
+
+class FamilySolver {
+ public:
+  FamilySolver(const VibrationalSystem& system, const FamilySeed& seed, const ContinuationOptions& options);
+  ContinuationResult run();
+
+ private:
+  double length_for(double energy) const { return std::sqrt(2.0 * energy) / omega_; }
+  double energy_scale(double length) const { return omega_ * omega_ * length * length; }
+  Eigen::VectorXd scaled_state(const Unknowns& u, double length) const;
+  Unknowns unscaled(const Eigen::VectorXd& state, double period, double energy, double length) const;
+  double total_energy(const Eigen::VectorXd& scaled, double length) const;
+
+  CorrectorOutcome correct(const Unknowns& guess, const CorrectorSetup& setup);
+  bool analyze_point(const Unknowns& u, OrbitPoint& point, PointAnalysis& analysis);
+  Eigen::VectorXd tangent_at(const Unknowns& u, const Eigen::MatrixXd& reduced_transition, double length,
+                             double time_scale) const;
+  // The period enters the unknowns relative to the current one, so that an arclength
+  // step changes it by a bounded fraction even where it diverges (near a separatrix).
+  static double time_scale_for(double period) { return period / (2.0 * units::pi); }
+  void classify_multipliers(const Eigen::MatrixXd& monodromy, OrbitPoint& point) const;
+  void detect_events(ContinuationResult& result) const;
+  void build_ladder(ContinuationResult& result);
+  void fill_converted(OrbitPoint& point) const;
+
+  const VibrationalSystem& system_;
+  const FamilySeed& seed_;
+  const ContinuationOptions& options_;
+  UnitConventions units_;
+  int n_ = 0, m_ = 0, r_ = 1;
+  double omega_ = 1.0;
+  Eigen::MatrixXd basis_;           // B
+  Eigen::MatrixXd shift_full_;      // D(g), n × n
+  Eigen::MatrixXd shift_phase_;     // blockdiag(Bᵀ D B, Bᵀ D B), 2m × 2m
+  Eigen::MatrixXd identity_n_;
+  int sample_count_ = 128;
+  double escape_radius_ = 0.0;
+  std::optional<detail::OrbitIntegrator> integrator_;
+  Eigen::MatrixXd hint_;            // Φ̂ (2m × 2m) for chord steps
+  bool have_hint_ = false;
+  std::vector<Unknowns> accepted_;  // parallel to result points
+  std::vector<Eigen::MatrixXd> accepted_transitions_;
+  std::vector<double> accepted_actions_;
+  std::string last_integration_failure_;
+};
+
+FamilySolver::FamilySolver(const VibrationalSystem& system, const FamilySeed& seed, const ContinuationOptions& options)
+    : system_(system), seed_(seed), options_(options), units_(system.units()) {
+  validate(options);
+  n_ = system.dimension();
+  if (n_ < 1) throw Error(fmt::format("vibrational system dimension must be at least 1, got {}", n_));
+  if (seed.linear_mode.size() != n_)
+    throw Error(fmt::format("family seed linear mode has length {}, expected the system dimension {}",
+                            seed.linear_mode.size(), n_));
+  if (!(seed.angular_frequency > 0.0) || !std::isfinite(seed.angular_frequency))
+    throw Error(fmt::format("family seed angular frequency must be positive, got {}", seed.angular_frequency));
+  omega_ = seed.angular_frequency;
+  constexpr double structure_tolerance = 1e-8;  // round-off in bases built by eigensolvers
+  basis_ = seed.invariant_basis.size() == 0 ? Eigen::MatrixXd::Identity(n_, n_) : seed.invariant_basis;
+  if (basis_.rows() != n_ || basis_.cols() < 1 || basis_.cols() > n_)
+    throw Error(fmt::format("family seed invariant basis is {}x{}, expected {} rows and 1..{} columns",
+                            basis_.rows(), basis_.cols(), n_, n_));
+  m_ = static_cast<int>(basis_.cols());
+  const double orthonormality = (basis_.transpose() * basis_ - Eigen::MatrixXd::Identity(m_, m_)).cwiseAbs().maxCoeff();
+  if (orthonormality > structure_tolerance)
+    throw Error(fmt::format("family seed invariant basis is not orthonormal (largest defect {:.3g})", orthonormality));
+  const double mode_norm = seed.linear_mode.norm();
+  if (!(mode_norm > 0.0)) throw Error("family seed linear mode is zero");
+  const Eigen::VectorXcd outside = seed.linear_mode - basis_ * (basis_.transpose() * seed.linear_mode);
+  if (outside.norm() > structure_tolerance * mode_norm * 1e2)
+    throw Error(fmt::format("family seed linear mode lies outside its invariant subspace (relative part {:.3g})",
+                            outside.norm() / mode_norm));
+  r_ = seed.shift_denominator;
+  if (r_ < 1) throw Error(fmt::format("family seed shift denominator must be at least 1, got {}", r_));
+  identity_n_ = Eigen::MatrixXd::Identity(n_, n_);
+  if (seed.shift_matrix.size() == 0) {
+    if (r_ != 1) throw Error(fmt::format("family seed has shift denominator {} but no shift matrix", r_));
+    shift_full_ = identity_n_;
+  } else {
+    if (seed.shift_matrix.rows() != n_ || seed.shift_matrix.cols() != n_)
+      throw Error(fmt::format("family seed shift matrix is {}x{}, expected {}x{}", seed.shift_matrix.rows(),
+                              seed.shift_matrix.cols(), n_, n_));
+    shift_full_ = seed.shift_matrix;
+  }
+  const Eigen::MatrixXd reduced_shift = basis_.transpose() * shift_full_ * basis_;
+  shift_phase_ = phase_space_block(reduced_shift);
+  int denominators = r_;
+  for (const auto& check : seed.checks) {
+    if (check.denominator < 1 || check.matrix.rows() != n_ || check.matrix.cols() != n_)
+      throw Error(fmt::format("trajectory symmetry '{}' needs an {}x{} matrix and a positive denominator", check.label,
+                              n_, n_));
+    denominators = std::lcm(denominators, check.denominator);
+  }
+  sample_count_ = denominators * ((options.samples_per_period + denominators - 1) / denominators);
+  const Eigen::VectorXd frequencies = system.harmonic_angular_frequencies();
+  const double softest = frequencies.size() > 0 ? frequencies.minCoeff() : omega_;
+  if (!(softest > 0.0)) throw Error(fmt::format("harmonic angular frequencies must be positive, got {}", softest));
+  escape_radius_ = options.escape_radius_factor * std::sqrt(2.0 * options.energy_max) / softest;
+  integrator_.emplace(system, basis_, options.integration_tolerance, escape_radius_, options.max_integration_steps);
+}
+
+Eigen::VectorXd FamilySolver::scaled_state(const Unknowns& u, double length) const {
+  Eigen::VectorXd y(2 * m_);
+  y.head(m_) = u.a / length;
+  y.tail(m_) = u.b / (omega_ * length);
+  return y;
+}
+
+Unknowns FamilySolver::unscaled(const Eigen::VectorXd& y, double period, double energy, double length) const {
+  Unknowns u;
+  u.a = length * y.head(m_);
+  u.b = omega_ * length * y.tail(m_);
+  u.period = period;
+  u.energy = energy;
+  return u;
+}
+
+double FamilySolver::total_energy(const Eigen::VectorXd& y, double length) const {
+  const detail::OrbitScaling scaling{length, omega_};
+  const Eigen::VectorXd p = integrator_->momenta(y, scaling);
+  return 0.5 * p.squaredNorm() + system_.potential(integrator_->positions(y, scaling));
+}
+
+CorrectorOutcome FamilySolver::correct(const Unknowns& guess, const CorrectorSetup& setup) {
+  CorrectorOutcome outcome;
+  const double length = setup.length;
+  const detail::OrbitScaling scaling{length, omega_};
+  const double scale = energy_scale(length);
+  const bool arclength = !setup.fixed_energy;
+  const int unknowns = 2 * m_ + (arclength ? 2 : 1);
+  const int equations = 2 * m_ + (arclength ? 3 : 2);
+  Eigen::VectorXd u(unknowns);
+  u.head(2 * m_) = scaled_state(guess, length);
+  u(2 * m_) = guess.period / setup.time_scale;
+  if (arclength) u(2 * m_ + 1) = guess.energy / scale;
+
+  bool fresh = !have_hint_;
+  double previous_norm = std::numeric_limits<double>::infinity();
+  Eigen::VectorXd residual(equations);
+  Eigen::MatrixXd jacobian(equations, unknowns);
+  Eigen::VectorXd gradient;
+  // Broyden's update of the transition-matrix block between chord steps: the shooting
+  // residual's change along the last step corrects the reused Jacobian at no extra
+  // integration, which turns linear chord convergence superlinear.
+  bool have_previous_step = false;
+  Eigen::VectorXd previous_shooting, previous_step, previous_time_column;
+  for (int iteration = 0; iteration < options_.max_newton_iterations; ++iteration) {
+    const double period = u(2 * m_) * setup.time_scale;
+    if (!(period > 0.0) || !std::isfinite(period) ||
+        period > 2.0 * options_.max_period_factor * 2.0 * units::pi / omega_) {
+      outcome.failure = fmt::format("the period left the allowed range (T = {:.6g})", period);
+      outcome.escaped = std::isfinite(period) && period > 0.0;
+      return outcome;
+    }
+    const Eigen::VectorXd y0 = u.head(2 * m_);
+    detail::IntegrationRequest request;
+    request.scaled_state = y0;
+    request.duration = period / r_;
+    request.variational_basis = fresh ? &basis_ : nullptr;
+    integrator_->set_full_period(period);
+    const detail::IntegrationOutcome run = integrator_->integrate(request, scaling);
+    ++outcome.iterations;
+    if (fresh) ++outcome.variational_integrations;
+    else ++outcome.orbit_integrations;
+    if (!run.ok) {
+      outcome.failure = run.failure;
+      outcome.escaped = run.failure.find("escape") != std::string::npos ||
+                        run.failure.find("bound region") != std::string::npos;
+      return outcome;
+    }
+    if (fresh) {
+      hint_ = run.transition;
+      have_hint_ = true;
+    }
+    const Eigen::VectorXd shooting = run.scaled_state - shift_phase_ * y0;
+    if (!fresh && have_previous_step) {
+      const Eigen::VectorXd state_step = previous_step.head(2 * m_);
+      const double step_norm2 = state_step.squaredNorm();
+      if (step_norm2 > 0.0) {
+        const Eigen::VectorXd predicted = (hint_ - shift_phase_) * state_step + previous_time_column * previous_step(2 * m_);
+        hint_ += ((shooting - previous_shooting) - predicted) * state_step.transpose() / step_norm2;
+      }
+    }
+    const double energy = arclength ? u(2 * m_ + 1) * scale : setup.target_energy;
+    residual.head(2 * m_) = shooting;
+    residual(2 * m_) = (total_energy(y0, length) - energy) / scale;
+    residual(2 * m_ + 1) = (y0 - setup.phase_reference).dot(setup.phase_direction);
+    if (arclength) residual(2 * m_ + 2) = (u - setup.predicted).dot(setup.tangent);
+    const double norm = residual.cwiseAbs().maxCoeff();
+    if (!std::isfinite(norm)) {
+      outcome.failure = "the shooting residual became non-finite";
+      return outcome;
+    }
+    if (norm < options_.closure_tolerance) {
+      outcome.converged = true;
+      outcome.solution = unscaled(y0, period, energy, length);
+      outcome.action = r_ * run.momentum_square_integral / (2.0 * units::pi);
+      return outcome;
+    }
+    if (!fresh && iteration > 0 && norm > 0.25 * previous_norm) {
+      // Chord steps stall: refresh the Jacobian at the current iterate.
+      fresh = true;
+      have_previous_step = false;
+      previous_norm = std::numeric_limits<double>::infinity();
+      continue;
+    }
+    if (iteration > 1 && norm > 2.0 * previous_norm) {
+      outcome.failure = fmt::format("newton diverged (residual {:.3g} after {:.3g})", norm, previous_norm);
+      return outcome;
+    }
+    previous_norm = norm;
+    fresh = false;
+
+    jacobian.setZero();
+    jacobian.topLeftCorner(2 * m_, 2 * m_) = hint_ - shift_phase_;
+    jacobian.block(0, 2 * m_, 2 * m_, 1) = integrator_->scaled_velocity(run.scaled_state, scaling) * setup.time_scale / r_;
+    system_.gradient(integrator_->positions(y0, scaling), gradient);
+    jacobian.block(2 * m_, 0, 1, m_) = (basis_.transpose() * gradient).transpose() / (omega_ * omega_ * length);
+    jacobian.block(2 * m_, m_, 1, m_) = y0.tail(m_).transpose();
+    if (arclength) jacobian(2 * m_, 2 * m_ + 1) = -1.0;
+    jacobian.block(2 * m_ + 1, 0, 1, 2 * m_) = setup.phase_direction.transpose();
+    if (arclength) jacobian.row(2 * m_ + 2) = setup.tangent.transpose();
+    const Eigen::VectorXd step = jacobian.colPivHouseholderQr().solve(-residual);
+    if (!step.allFinite()) {
+      outcome.failure = "the newton step was not finite";
+      return outcome;
+    }
+    u += step;
+    have_previous_step = true;
+    previous_shooting = shooting;
+    previous_step = step;
+    previous_time_column = jacobian.block(0, 2 * m_, 2 * m_, 1);
+  }
+  outcome.failure = fmt::format("newton did not converge in {} iterations", options_.max_newton_iterations);
+  return outcome;
+}
+
+Eigen::VectorXd FamilySolver::tangent_at(const Unknowns& point, const Eigen::MatrixXd& reduced_transition,
+                                         double length, double time_scale) const {
+  const detail::OrbitScaling scaling{length, omega_};
+  const Eigen::VectorXd y0 = scaled_state(point, length);
+  const Eigen::VectorXd velocity = integrator_->scaled_velocity(y0, scaling);
+  Eigen::MatrixXd jacobian = Eigen::MatrixXd::Zero(2 * m_ + 2, 2 * m_ + 2);
+  jacobian.topLeftCorner(2 * m_, 2 * m_) = reduced_transition - shift_phase_;
+  // At a solution ẏ(T/r) = D ẏ(0).
+  jacobian.block(0, 2 * m_, 2 * m_, 1) = shift_phase_ * velocity * time_scale / r_;
+  Eigen::VectorXd gradient;
+  system_.gradient(integrator_->positions(y0, scaling), gradient);
+  jacobian.block(2 * m_, 0, 1, m_) = (basis_.transpose() * gradient).transpose() / (omega_ * omega_ * length);
+  jacobian.block(2 * m_, m_, 1, m_) = y0.tail(m_).transpose();
+  jacobian(2 * m_, 2 * m_ + 1) = -1.0;
+  jacobian.block(2 * m_ + 1, 0, 1, 2 * m_) = velocity.normalized().transpose();
+  Eigen::JacobiSVD<Eigen::MatrixXd> svd(jacobian, Eigen::ComputeFullV);
+  return svd.matrixV().col(2 * m_ + 1);
+}
+
+void FamilySolver::classify_multipliers(const Eigen::MatrixXd& monodromy, OrbitPoint& point) const {
+  Eigen::EigenSolver<Eigen::MatrixXd> solver(monodromy, false);
+  std::vector<std::complex<double>> multipliers(solver.eigenvalues().data(),
+                                                solver.eigenvalues().data() + solver.eigenvalues().size());
+  std::sort(multipliers.begin(), multipliers.end(),
+            [](const auto& x, const auto& y) { return std::abs(x) > std::abs(y); });
+  point.floquet_multipliers = multipliers;
+  point.floquet_moduli.clear();
+  for (const auto& mu : multipliers) point.floquet_moduli.push_back(std::abs(mu));
+  // The neutral multipliers: those closest to +1 (the trivial pair of the flow direction
+  // and energy, plus a pair per continuous symmetry).
+  const int neutral = std::min<int>(static_cast<int>(multipliers.size()), 2 + 2 * system_.continuous_symmetry_count());
+  std::vector<int> order(multipliers.size());
+  std::iota(order.begin(), order.end(), 0);
+  std::sort(order.begin(), order.end(), [&](int i, int j) {
+    return std::abs(multipliers[i] - 1.0) < std::abs(multipliers[j] - 1.0);
+  });
+  point.largest_modulus = 1.0;
+  point.unstable_count = point.unstable_negative_real = point.unstable_positive_real = 0;
+  const double threshold = 1.0 + options_.stability_tolerance;
+  for (std::size_t k = static_cast<std::size_t>(neutral); k < order.size(); ++k) {
+    const auto mu = multipliers[order[k]];
+    const double modulus = std::abs(mu);
+    point.largest_modulus = std::max(point.largest_modulus, modulus);
+    if (modulus <= threshold) continue;
+    ++point.unstable_count;
+    if (std::abs(mu.imag()) <= options_.stability_tolerance * modulus) {
+      if (mu.real() < 0.0) ++point.unstable_negative_real;
+      else ++point.unstable_positive_real;
+    }
+  }
+  point.stable = point.unstable_count == 0;
+}
+
+bool FamilySolver::analyze_point(const Unknowns& u, OrbitPoint& point, PointAnalysis& analysis) {
+  const double length = length_for(u.energy);
+  const detail::OrbitScaling scaling{length, omega_};
+  const Eigen::VectorXd y0 = scaled_state(u, length);
+  integrator_->set_full_period(u.period);
+
+  // Whole period with samples.
+  detail::IntegrationRequest sampled;
+  sampled.scaled_state = y0;
+  sampled.duration = u.period;
+  sampled.sample_count = sample_count_;
+  const detail::IntegrationOutcome run = integrator_->integrate(sampled, scaling);
+  ++point.orbit_integrations;
+  if (!run.ok) {
+    analysis.ok = false;
+    analysis.failure = run.failure;
+    return false;
+  }
+  const int count = sample_count_;
+  std::vector<Eigen::VectorXd> q(count), p(count);
+  for (int j = 0; j < count; ++j) {
+    q[j] = integrator_->positions(run.samples[j], scaling);
+    p[j] = integrator_->momenta(run.samples[j], scaling);
+  }
+  const double h = u.period / count;
+  point.amplitude = refined_maximum(q, p, h, n_);
+  const Eigen::VectorXd probe = system_.cartesian_displacement_angstrom(q[0]);
+  if (probe.size() > 0) {
+    std::vector<Eigen::VectorXd> x(count), v(count);
+    for (int j = 0; j < count; ++j) {
+      x[j] = system_.cartesian_displacement_angstrom(q[j]);
+      v[j] = system_.cartesian_displacement_angstrom(p[j]);  // the map is linear: velocities map alike
+    }
+    point.amplitude_angstrom = refined_maximum(x, v, h, 3);
+  }
+  double lowest = std::numeric_limits<double>::infinity(), highest = -lowest;
+  for (int j = 0; j < count; ++j) {
+    const double energy = 0.5 * p[j].squaredNorm() + system_.potential(q[j]);
+    lowest = std::min(lowest, energy);
+    highest = std::max(highest, energy);
+  }
+  point.energy_drift = (highest - lowest) / u.energy;
+  const Eigen::VectorXd q_end = integrator_->positions(run.scaled_state, scaling);
+  const Eigen::VectorXd p_end = integrator_->momenta(run.scaled_state, scaling);
+  point.closure_error = std::max((q_end - q[0]).norm(), (p_end - p[0]).norm() / omega_) / point.amplitude;
+  point.symmetry_residual = 0.0;
+  for (const auto& check : seed_.checks) {
+    const int shift = (count / check.denominator) * check.numerator;
+    for (int j = 0; j < count; ++j) {
+      const int k = (j + shift) % count;
+      const double defect =
+          std::max((check.matrix * q[j] - q[k]).norm(), (check.matrix * p[j] - p[k]).norm() / omega_);
+      point.symmetry_residual = std::max(point.symmetry_residual, defect / point.amplitude);
+    }
+  }
+  point.action = run.momentum_square_integral / (2.0 * units::pi);
+
+  // Variational equations over T/r: the whole space for Floquet multipliers (its
+  // restriction to F is the Jacobian of the next corrector), else only F.
+  detail::IntegrationRequest variational;
+  variational.scaled_state = y0;
+  variational.duration = u.period / r_;
+  const bool whole = options_.compute_floquet || m_ == n_;
+  variational.variational_basis = whole ? &identity_n_ : &basis_;
+  const detail::IntegrationOutcome linear = integrator_->integrate(variational, scaling);
+  ++point.variational_integrations;
+  if (!linear.ok) {
+    analysis.ok = false;
+    analysis.failure = linear.failure;
+    return false;
+  }
+  if (whole) {
+    const Eigen::MatrixXd reduce = phase_space_block(basis_).transpose();  // 2m × 2n
+    analysis.reduced_transition = reduce * linear.transition * reduce.transpose();
+    if (options_.compute_floquet) {
+      const Eigen::MatrixXd shift = phase_space_block(shift_full_);
+      const Eigen::MatrixXd step = shift.transpose() * linear.transition;  // D⁻¹Φ(T/r), D orthogonal
+      Eigen::MatrixXd monodromy = Eigen::MatrixXd::Identity(2 * n_, 2 * n_);
+      for (int k = 0; k < r_; ++k) monodromy = shift * monodromy * step;
+      // monodromy = D^r (D⁻¹Φ)^r, built as D(D(…)(D⁻¹Φ))(D⁻¹Φ); equal because products associate.
+      classify_multipliers(monodromy, point);
+    }
+  } else {
+    analysis.reduced_transition = linear.transition;
+  }
+  hint_ = analysis.reduced_transition;
+  have_hint_ = true;
+  return true;
+}
+
+void FamilySolver::fill_converted(OrbitPoint& point) const {
+  point.angular_frequency = 2.0 * units::pi / point.period;
+  point.energy_cm1 = point.energy * units_.cm1_per_energy;
+  point.frequency_cm1 = point.angular_frequency * units_.cm1_per_angular_frequency;
+  point.period_fs = point.period * units_.fs_per_time;
+  point.action_hbar = point.action / units_.hbar;
+}
+
+}  // namespace
+
+namespace {
+
+ContinuationResult FamilySolver::run() {
+  const auto started = std::chrono::steady_clock::now();
+  ContinuationResult result;
+  result.reduced_dimension = m_;
+  result.shift_denominator = r_;
+  const std::size_t gradients_before = system_.counts().gradients;
+  const double energy_max = options_.energy_max;
+  const double escape_energy = system_.escape_energy();
+  if (energy_max >= escape_energy)
+    result.warnings.push_back(fmt::format(
+        "energy_max {:.6g} cm-1 lies at or above the system's escape energy {:.6g} cm-1; the family ends there",
+        energy_max * units_.cm1_per_energy, escape_energy * units_.cm1_per_energy));
+
+  auto finish = [&](ContinuationStatus status, std::string message) {
+    result.status = status;
+    result.message = std::move(message);
+    detect_events(result);
+    if (!result.points.empty()) build_ladder(result);
+    const auto& counters = integrator_->counters();
+    result.gradient_evaluations = system_.counts().gradients - gradients_before;
+    result.seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - started).count();
+    if (counters.full_variational_periods > 0.0)
+      result.seconds_per_variational_period = counters.full_variational_seconds / counters.full_variational_periods;
+    for (const auto& point : result.points) {
+      result.newton_iterations += point.newton_iterations;
+      result.variational_integrations += point.variational_integrations;
+      result.orbit_integrations += point.orbit_integrations;
+    }
+    return result;
+  };
+
+  // Accepts a converged corrector outcome: analysis, point record, tangent.
+  Eigen::VectorXd tangent;
+  double tangent_length = 1.0;
+  double tangent_time_scale = 1.0;
+  auto accept = [&](const CorrectorOutcome& corrected, int iterations, int variational, int orbits,
+                    std::size_t gradients_at_start, std::chrono::steady_clock::time_point point_started) {
+    OrbitPoint point;
+    point.energy = corrected.solution.energy;
+    point.period = corrected.solution.period;
+    point.newton_iterations = iterations;
+    point.variational_integrations = variational;
+    point.orbit_integrations = orbits;
+    PointAnalysis analysis;
+    if (!analyze_point(corrected.solution, point, analysis)) {
+      last_integration_failure_ = analysis.failure;
+      return false;
+    }
+    const double length = length_for(point.energy);
+    const double time_scale = time_scale_for(point.period);
+    Eigen::VectorXd new_tangent = tangent_at(corrected.solution, analysis.reduced_transition, length, time_scale);
+    if (accepted_.empty()) {
+      if (new_tangent(2 * m_ + 1) < 0.0) new_tangent = -new_tangent;
+    } else {
+      // Orient along the secant from the previous point (both in this point's scaling).
+      const Unknowns& previous = accepted_.back();
+      Eigen::VectorXd secant(2 * m_ + 2);
+      secant.head(2 * m_) = scaled_state(corrected.solution, length) - scaled_state(previous, length);
+      secant(2 * m_) = (corrected.solution.period - previous.period) / time_scale;
+      secant(2 * m_ + 1) = (corrected.solution.energy - previous.energy) / energy_scale(length);
+      if (new_tangent.dot(secant) < 0.0) new_tangent = -new_tangent;
+    }
+    tangent = new_tangent;
+    tangent_length = length;
+    tangent_time_scale = time_scale;
+    point.energy_direction = tangent(2 * m_ + 1) >= 0.0 ? 1 : -1;
+    point.initial_positions = basis_ * corrected.solution.a;
+    point.initial_momenta = basis_ * corrected.solution.b;
+    point.gradient_evaluations = system_.counts().gradients - gradients_at_start;
+    point.seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - point_started).count();
+    fill_converted(point);
+    result.points.push_back(std::move(point));
+    accepted_.push_back(corrected.solution);
+    accepted_transitions_.push_back(analysis.reduced_transition);
+    accepted_actions_.push_back(corrected.action);
+    return true;
+  };
+
+  // ---- first point: Newton from the linear orbit at a small energy ----
+  double start_energy = options_.start_energy_fraction * energy_max;
+  bool started_ok = false;
+  std::string start_failure;
+  for (int attempt = 0; attempt < 4 && !started_ok; ++attempt, start_energy *= 0.1) {
+    const auto point_started = std::chrono::steady_clock::now();
+    const std::size_t gradients_at_start = system_.counts().gradients;
+    const Eigen::VectorXcd& v = seed_.linear_mode;
+    const double amplitude = std::sqrt(2.0 * start_energy) / (omega_ * v.norm());
+    Unknowns guess;
+    guess.a = basis_.transpose() * (amplitude * v.real());
+    guess.b = basis_.transpose() * (-omega_ * amplitude * v.imag());
+    guess.period = 2.0 * units::pi / omega_;
+    guess.energy = start_energy;
+    CorrectorSetup setup;
+    setup.length = length_for(start_energy);
+    setup.time_scale = time_scale_for(guess.period);
+    setup.fixed_energy = true;
+    setup.target_energy = start_energy;
+    setup.phase_reference = scaled_state(guess, setup.length);
+    setup.phase_direction =
+        integrator_->scaled_velocity(setup.phase_reference, {setup.length, omega_}).normalized();
+    have_hint_ = false;
+    const CorrectorOutcome corrected = correct(guess, setup);
+    if (!corrected.converged) {
+      start_failure = corrected.failure;
+      continue;
+    }
+    started_ok = accept(corrected, corrected.iterations, corrected.variational_integrations,
+                        corrected.orbit_integrations, gradients_at_start, point_started);
+    if (!started_ok) start_failure = last_integration_failure_;
+  }
+  if (!started_ok)
+    return finish(ContinuationStatus::start_failed,
+                  fmt::format("no periodic orbit was found near the linear orbit: {}", start_failure));
+  const double first_energy = result.points.front().energy;
+
+  // ---- continuation ----
+  double step = options_.initial_step;
+  int spent_iterations = 0, spent_variational = 0, spent_orbits = 0;
+  auto point_started = std::chrono::steady_clock::now();
+  std::size_t gradients_at_start = system_.counts().gradients;
+  std::string last_failure;
+  bool last_failure_escape = false;
+  while (true) {
+    if (static_cast<int>(result.points.size()) >= options_.max_points)
+      return finish(ContinuationStatus::point_limit,
+                    fmt::format("stopped after {} points at {:.6g} cm-1, below energy_max", result.points.size(),
+                                result.points.back().energy_cm1));
+    const Unknowns& current = accepted_.back();
+    const double length = tangent_length;
+    const double time_scale = tangent_time_scale;
+    const double scale = energy_scale(length);
+    const double energy_rate = tangent(2 * m_ + 1) * scale;  // dE per unit step
+    // Resolution of the backbone: cap the energy change per step.
+    const double energy_cap = options_.max_energy_step_fraction * energy_max;
+    double trial_step = step;
+    if (std::abs(energy_rate) * trial_step > energy_cap) trial_step = energy_cap / std::abs(energy_rate);
+    const bool final_step = energy_rate > 0.0 && current.energy + energy_rate * trial_step >= energy_max;
+    if (final_step) trial_step = (energy_max - current.energy) / energy_rate;
+
+    Eigen::VectorXd current_scaled(2 * m_ + 2);
+    current_scaled.head(2 * m_) = scaled_state(current, length);
+    current_scaled(2 * m_) = current.period / time_scale;
+    current_scaled(2 * m_ + 1) = current.energy / scale;
+    const Eigen::VectorXd predicted = current_scaled + trial_step * tangent;
+    Unknowns guess =
+        unscaled(predicted.head(2 * m_), predicted(2 * m_) * time_scale, predicted(2 * m_ + 1) * scale, length);
+
+    CorrectorSetup setup;
+    setup.length = length;
+    setup.time_scale = time_scale;
+    setup.phase_reference = current_scaled.head(2 * m_);
+    setup.phase_direction = integrator_->scaled_velocity(setup.phase_reference, {length, omega_}).normalized();
+    setup.fixed_energy = final_step;
+    setup.target_energy = energy_max;
+    setup.tangent = tangent;
+    setup.predicted = predicted;
+    if (final_step) guess.energy = energy_max;
+    const CorrectorOutcome corrected = correct(guess, setup);
+    spent_iterations += corrected.iterations;
+    spent_variational += corrected.variational_integrations;
+    spent_orbits += corrected.orbit_integrations;
+    bool accepted = false;
+    if (corrected.converged) {
+      accepted = accept(corrected, spent_iterations, spent_variational, spent_orbits, gradients_at_start,
+                        point_started);
+      if (!accepted) {
+        last_failure = last_integration_failure_;
+        last_failure_escape = true;
+      }
+    } else {
+      last_failure = corrected.failure;
+      last_failure_escape = corrected.escaped;
+    }
+    if (!accepted) {
+      ++result.rejected_steps;
+      // Restore the Jacobian of the last accepted point for the retry.
+      hint_ = accepted_transitions_.back();
+      have_hint_ = true;
+      step = 0.5 * trial_step;
+      if (step < options_.min_step) {
+        const double reached = result.points.back().energy;
+        const bool near_escape = std::isfinite(escape_energy) && reached > 0.9 * escape_energy;
+        if (last_failure_escape || near_escape) {
+          return finish(ContinuationStatus::escaped,
+                        fmt::format("orbits stop closing above {:.6g} cm-1 ({}){}", reached * units_.cm1_per_energy,
+                                    last_failure,
+                                    near_escape ? fmt::format(": the escape energy of the system is {:.6g} cm-1",
+                                                              escape_energy * units_.cm1_per_energy)
+                                                : std::string(": probably a dissociation or barrier")));
+        }
+        return finish(ContinuationStatus::step_too_small,
+                      fmt::format("the corrector failed at the smallest step beyond {:.6g} cm-1: {}",
+                                  reached * units_.cm1_per_energy, last_failure));
+      }
+      continue;
+    }
+    // Step-size control from the corrector's effort (chord steps converge linearly, so a
+    // good predictor still takes three or four).
+    if (corrected.iterations <= 4) step = std::min(options_.max_step, 1.5 * trial_step);
+    else if (corrected.iterations >= 7) step = std::max(options_.min_step, 0.6 * trial_step);
+    else step = std::max(trial_step, std::min(step, options_.max_step));
+    spent_iterations = spent_variational = spent_orbits = 0;
+    point_started = std::chrono::steady_clock::now();
+    gradients_at_start = system_.counts().gradients;
+    if (final_step) return finish(ContinuationStatus::reached_energy_max, "reached energy_max");
+    const double period_limit = options_.max_period_factor * 2.0 * units::pi / omega_;
+    if (result.points.back().period > period_limit)
+      return finish(ContinuationStatus::escaped,
+                    fmt::format("the period grew past {} harmonic periods at {:.6g} cm-1: the orbits approach a "
+                                "separatrix (dissociation or a barrier){}",
+                                options_.max_period_factor, result.points.back().energy_cm1,
+                                std::isfinite(escape_energy)
+                                    ? fmt::format("; the escape energy of the system is {:.6g} cm-1",
+                                                  escape_energy * units_.cm1_per_energy)
+                                    : std::string()));
+    if (result.points.back().energy < first_energy)
+      return finish(ContinuationStatus::turned_back,
+                    "after a fold the family returned below the energy of its first point");
+  }
+}
+
+void FamilySolver::detect_events(ContinuationResult& result) const {
+  const auto& points = result.points;
+  auto add = [&](FamilyEventKind kind, int index, std::string message) {
+    FamilyEvent event;
+    event.kind = kind;
+    event.point_index = index;
+    event.energy = 0.5 * (points[index - 1].energy + points[index].energy);
+    if (kind == FamilyEventKind::fold) event.energy = std::max(points[index - 1].energy, points[index].energy);
+    event.energy_cm1 = event.energy * units_.cm1_per_energy;
+    event.message = std::move(message);
+    result.events.push_back(std::move(event));
+  };
+  for (std::size_t i = 1; i < points.size(); ++i) {
+    const int k = static_cast<int>(i);
+    const OrbitPoint& a = points[i - 1];
+    const OrbitPoint& b = points[i];
+    const std::string bracket =
+        fmt::format("between {:.6g} and {:.6g} cm-1", a.energy_cm1, b.energy_cm1);
+    if (a.energy_direction != b.energy_direction)
+      add(FamilyEventKind::fold, k, fmt::format("the family turns {} in energy {}",
+                                                b.energy_direction < 0 ? "back" : "forward again", bracket));
+    if (b.floquet_multipliers.empty() || a.floquet_multipliers.empty()) continue;
+    if (a.unstable_negative_real != b.unstable_negative_real)
+      add(FamilyEventKind::period_doubling, k, fmt::format("a Floquet multiplier passes through -1 {}", bracket));
+    if (a.unstable_positive_real != b.unstable_positive_real)
+      add(FamilyEventKind::branch_point, k,
+          fmt::format("a non-neutral Floquet multiplier passes through +1 {} (a bifurcating family)", bracket));
+    if (a.stable && !b.stable)
+      add(FamilyEventKind::stability_lost, k,
+          fmt::format("{} multiplier(s) leave the unit circle {}", b.unstable_count, bracket));
+    else if (!a.stable && b.stable)
+      add(FamilyEventKind::stability_gained, k, fmt::format("all multipliers return to the unit circle {}", bracket));
+    else if (a.unstable_count != b.unstable_count)
+      add(FamilyEventKind::instability_changed, k,
+          fmt::format("unstable multipliers change from {} to {} {}", a.unstable_count, b.unstable_count, bracket));
+  }
+  if (result.status == ContinuationStatus::escaped && !points.empty()) {
+    FamilyEvent event;
+    event.kind = FamilyEventKind::escape;
+    event.point_index = static_cast<int>(points.size()) - 1;
+    event.energy = points.back().energy;
+    event.energy_cm1 = points.back().energy_cm1;
+    event.message = result.message;
+    result.events.push_back(std::move(event));
+  }
+}
+
+void FamilySolver::build_ladder(ContinuationResult& result) {
+  const double hbar = units_.hbar;
+  if (!(hbar > 0.0) || !std::isfinite(hbar)) return;
+  // Nodes (J, E, dE/dJ = ω) along the first monotone stretch, starting at the origin.
+  struct Node {
+    double action, energy, slope;
+    int point;  // −1 for the origin
+  };
+  std::vector<Node> nodes{{0.0, 0.0, omega_, -1}};
+  for (std::size_t i = 0; i < result.points.size(); ++i) {
+    const OrbitPoint& point = result.points[i];
+    if (point.energy_direction < 0 || point.action <= nodes.back().action) break;
+    nodes.push_back({point.action, point.energy, point.angular_frequency, static_cast<int>(i)});
+  }
+  std::vector<LadderLevel> levels;
+  for (int n = 0; n <= options_.ladder_max_level; ++n) {
+    const double target = (n + 0.5) * hbar;
+    if (target > nodes.back().action) break;
+    std::size_t k = 1;
+    while (nodes[k].action < target) ++k;
+    const Node& lo = nodes[k - 1];
+    const Node& hi = nodes[k];
+    const double width = hi.action - lo.action;
+    const double s = (target - lo.action) / width;
+    double energy = cubic_hermite_component(lo.energy, lo.slope, hi.energy, hi.slope, width, s);
+    LadderLevel level;
+    level.n = n;
+    double action_error = std::numeric_limits<double>::quiet_NaN();
+    if (options_.ladder_tolerance > 0.0) {
+      // Newton in energy on the family: dJ/dE = T/2π = 1/ω.
+      const Unknowns& upper = accepted_[hi.point];
+      for (int iteration = 0; iteration < 6; ++iteration) {
+        Unknowns guess;
+        if (lo.point < 0) {
+          const double factor = std::sqrt(energy / upper.energy);
+          guess = upper;
+          guess.a *= factor;
+          guess.b *= factor;
+          guess.period = upper.period + (2.0 * units::pi / omega_ - upper.period) * (1.0 - energy / upper.energy);
+        } else {
+          const Unknowns& lower = accepted_[lo.point];
+          const double w = (energy - lower.energy) / (upper.energy - lower.energy);
+          guess.a = (1.0 - w) * lower.a + w * upper.a;
+          guess.b = (1.0 - w) * lower.b + w * upper.b;
+          guess.period = (1.0 - w) * lower.period + w * upper.period;
+        }
+        guess.energy = energy;
+        CorrectorSetup setup;
+        setup.length = length_for(energy);
+        setup.time_scale = time_scale_for(guess.period);
+        setup.fixed_energy = true;
+        setup.target_energy = energy;
+        setup.phase_reference = scaled_state(guess, setup.length);
+        setup.phase_direction =
+            integrator_->scaled_velocity(setup.phase_reference, {setup.length, omega_}).normalized();
+        hint_ = accepted_transitions_[hi.point];
+        have_hint_ = true;
+        const CorrectorOutcome corrected = correct(guess, setup);
+        if (!corrected.converged) break;
+        action_error = corrected.action - target;
+        level.refined = true;
+        if (std::abs(action_error) < options_.ladder_tolerance * hbar) break;
+        energy -= action_error * 2.0 * units::pi / corrected.solution.period;
+        level.refined = false;
+      }
+    }
+    level.energy = energy;
+    level.energy_cm1 = energy * units_.cm1_per_energy;
+    level.action_residual_hbar = std::isfinite(action_error) ? std::abs(action_error) / hbar : 0.0;
+    level.harmonic_transition_cm1 = n * omega_ * units_.cm1_per_angular_frequency;
+    levels.push_back(level);
+  }
+  if (levels.empty()) return;
+  for (auto& level : levels) level.transition_cm1 = level.energy_cm1 - levels.front().energy_cm1;
+  result.ladder = std::move(levels);
+}
+
+}  // namespace
+
+ContinuationResult continue_family(const VibrationalSystem& system, const FamilySeed& seed,
+                                   const ContinuationOptions& options) {
+  FamilySolver solver(system, seed, options);
+  return solver.run();
+}
+
+}  // namespace overtone
