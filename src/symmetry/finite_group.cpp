@@ -232,7 +232,10 @@ Subgroup subgroup_generated_by(const FiniteGroup& group, const std::vector<int>&
   return subgroup;
 }
 
-std::vector<Subgroup> subgroups_up_to_conjugacy(const FiniteGroup& group) {
+namespace {
+
+// Every subgroup as a sorted element list, ordered by size then lexicographically.
+std::vector<std::vector<int>> every_subgroup(const FiniteGroup& group) {
   const int n = group.order();
   // Every subgroup is reached from a cyclic one by joining cyclic subgroups one at a time.
   std::map<ElementSet, std::vector<int>> found;  // element set -> generators used
@@ -269,10 +272,15 @@ std::vector<Subgroup> subgroups_up_to_conjugacy(const FiniteGroup& group) {
   std::sort(all.begin(), all.end(), [](const std::vector<int>& a, const std::vector<int>& b) {
     return a.size() != b.size() ? a.size() < b.size() : a < b;
   });
+  return all;
+}
 
+// Visits the subgroups class by class; visit(representative elements, its conjugates).
+template <typename Visit>
+void for_each_conjugacy_class(const FiniteGroup& group, Visit visit) {
+  const int n = group.order();
   std::map<std::vector<int>, bool> assigned;
-  std::vector<Subgroup> representatives;
-  for (const auto& elements : all) {
+  for (const auto& elements : every_subgroup(group)) {
     if (assigned.count(elements)) continue;
     std::map<std::vector<int>, bool> conjugates;
     for (int g = 0; g < n; ++g) {
@@ -282,13 +290,41 @@ std::vector<Subgroup> subgroups_up_to_conjugacy(const FiniteGroup& group) {
       conjugates[conjugate] = true;
     }
     for (const auto& entry : conjugates) assigned[entry.first] = true;
+    // elements is the smallest of its class: classes are visited in sorted order.
+    visit(elements, conjugates);
+  }
+}
+
+}  // namespace
+
+std::vector<Subgroup> subgroups_up_to_conjugacy(const FiniteGroup& group) {
+  std::vector<Subgroup> representatives;
+  for_each_conjugacy_class(group, [&](const std::vector<int>& elements,
+                                      const std::map<std::vector<int>, bool>& conjugates) {
     Subgroup subgroup;
-    subgroup.elements = elements;  // the smallest of its class: classes are visited in sorted order
+    subgroup.elements = elements;
     subgroup.generators = small_generating_set(group, elements);
     subgroup.conjugate_count = static_cast<int>(conjugates.size());
     representatives.push_back(std::move(subgroup));
-  }
+  });
   return representatives;
+}
+
+std::vector<Subgroup> all_subgroups(const FiniteGroup& group) {
+  std::vector<Subgroup> subgroups;
+  for_each_conjugacy_class(group, [&](const std::vector<int>&, const std::map<std::vector<int>, bool>& conjugates) {
+    for (const auto& entry : conjugates) {
+      Subgroup subgroup;
+      subgroup.elements = entry.first;
+      subgroup.generators = small_generating_set(group, entry.first);
+      subgroup.conjugate_count = static_cast<int>(conjugates.size());
+      subgroups.push_back(std::move(subgroup));
+    }
+  });
+  std::sort(subgroups.begin(), subgroups.end(), [](const Subgroup& a, const Subgroup& b) {
+    return a.elements.size() != b.elements.size() ? a.elements.size() < b.elements.size() : a.elements < b.elements;
+  });
+  return subgroups;
 }
 
 std::vector<OneDimensionalCharacter> one_dimensional_characters(const FiniteGroup& group,

@@ -81,6 +81,10 @@ struct Subgroup {
 // reduced to a small set. Throws Error for an index outside the group.
 Subgroup subgroup_generated_by(const FiniteGroup& group, const std::vector<int>& elements);
 
+// Every subgroup (all conjugates), sorted by order then lexicographically; each with
+// conjugate_count of its class.
+std::vector<Subgroup> all_subgroups(const FiniteGroup& group);
+
 // All subgroups, one representative per conjugacy class (the lexicographically smallest
 // sorted element list of the class), sorted by order then lexicographically by elements.
 std::vector<Subgroup> subgroups_up_to_conjugacy(const FiniteGroup& group);
