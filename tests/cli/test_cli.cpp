@@ -1,0 +1,123 @@
+// The program itself: the main job writes its files with the documented fields, and
+// bad input gives one clear line on stderr and a non-zero exit, never a crash.
+#include <gtest/gtest.h>
+
+#include <algorithm>
+#include <cstdlib>
+#include <filesystem>
+#include <fstream>
+#include <nlohmann/json.hpp>
+#include <sstream>
+#include <string>
+
+namespace {
+
+const std::string source_dir = OVERTONE_SOURCE_DIR;
+const std::string program = OVERTONE_BINARY;
+
+struct ProgramRun {
+  int status = -1;
+  std::string out;
+  std::string err;
+};
+
+std::string slurp(const std::string& path) {
+  std::ifstream in(path);
+  std::stringstream buffer;
+  buffer << in.rdbuf();
+  return buffer.str();
+}
+
+ProgramRun run(const std::string& arguments) {
+  const std::string base = ::testing::TempDir() + "overtone-cli";
+  const std::string command = program + " " + arguments + " >" + base + ".out 2>" + base + ".err";
+  ProgramRun result;
+  const int raw = std::system(command.c_str());
+  result.status = WIFEXITED(raw) ? WEXITSTATUS(raw) : -1;
+  result.out = slurp(base + ".out");
+  result.err = slurp(base + ".err");
+  return result;
+}
+
+std::string write_temp(const std::string& name, const std::string& text) {
+  const std::string path = ::testing::TempDir() + name;
+  std::ofstream(path) << text;
+  return path;
+}
+
+void expect_one_line_error(const ProgramRun& result, const std::string& fragment) {
+  EXPECT_EQ(result.status, 1) << result.err;
+  EXPECT_EQ(result.err.rfind("overtone: error: ", 0), 0u) << result.err;
+  EXPECT_EQ(std::count(result.err.begin(), result.err.end(), '\n'), 1) << result.err;
+  EXPECT_NE(result.err.find(fragment), std::string::npos) << result.err;
+}
+
+TEST(Cli, AnalyzeWritesJsonAndCsvWithTheDocumentedFields) {
+  const std::string out = ::testing::TempDir() + "overtone-analyze";
+  std::filesystem::remove_all(out);
+  const ProgramRun result = run("analyze " + source_dir + "/molecules/water.xyz --potential " + source_dir +
+                                "/potentials/water.toml --out " + out);
+  ASSERT_EQ(result.status, 0) << result.err;
+  const nlohmann::json document = nlohmann::json::parse(slurp(out + "/analysis.json"));
+  ASSERT_EQ(document["atoms"].size(), 3u);
+  for (const auto& atom : document["atoms"]) {
+    EXPECT_TRUE(atom.contains("element"));
+    EXPECT_TRUE(atom.contains("mass_da"));
+    EXPECT_EQ(atom["position_angstrom"].size(), 3u);
+  }
+  EXPECT_TRUE(document["optimization"]["converged"].get<bool>());
+  EXPECT_TRUE(document["optimization"].contains("rms_gradient"));
+  EXPECT_TRUE(document["optimization"].contains("energy"));
+  EXPECT_EQ(document["optimization"]["units"]["energy"], "kcal/mol");
+  ASSERT_EQ(document["modes"].size(), 3u);
+  for (const auto& mode : document["modes"]) {
+    EXPECT_TRUE(mode.contains("number"));
+    EXPECT_GT(mode["frequency_cm1"].get<double>(), 0.0);
+    EXPECT_GT(mode["reduced_mass_da"].get<double>(), 0.0);
+    EXPECT_EQ(mode["displacement"].size(), 3u);
+  }
+  const std::string csv = slurp(out + "/modes.csv");
+  EXPECT_EQ(std::count(csv.begin(), csv.end(), '\n'), 4);  // header + 3 modes
+}
+
+TEST(Cli, ModesPrintsATableAndJsonToStandardOutput) {
+  const ProgramRun table =
+      run("modes " + source_dir + "/molecules/hcl.xyz -p " + source_dir + "/potentials/hcl-morse.toml");
+  ASSERT_EQ(table.status, 0) << table.err;
+  EXPECT_NE(table.out.find("2990.95"), std::string::npos) << table.out;
+  const ProgramRun json = run("modes " + source_dir + "/molecules/hcl.xyz -p " + source_dir +
+                              "/potentials/hcl-morse.toml --json -");
+  ASSERT_EQ(json.status, 0) << json.err;
+  EXPECT_EQ(nlohmann::json::parse(json.out)["modes"].size(), 1u);
+}
+
+TEST(Cli, IsotopeOptionChangesTheMasses) {
+  const ProgramRun result = run("modes " + source_dir + "/molecules/water.xyz -p " + source_dir +
+                                "/potentials/water.toml --isotope 2=2 --isotope 3=2 --json -");
+  ASSERT_EQ(result.status, 0) << result.err;
+  const auto document = nlohmann::json::parse(result.out);
+  EXPECT_EQ(document["atoms"][1]["mass_number"], 2);
+  EXPECT_LT(document["modes"][0]["frequency_cm1"].get<double>(), 3000.0);  // O–D stretches
+}
+
+TEST(Cli, BadInputGivesOneClearLineAndNonZeroExit) {
+  expect_one_line_error(run("modes /no/such/molecule.xyz"), "does not exist");
+  expect_one_line_error(run("modes " + write_temp("empty.xyz", "")), "is empty");
+  expect_one_line_error(run("modes " + write_temp("unknown.xyz", "2\nx\nO 0 0 0\nQq 0 0 1\n")), "element");
+  expect_one_line_error(run("modes " + write_temp("close.xyz", "2\nx\nO 0 0 0\nH 0 0 0.1\n")), "apart");
+  expect_one_line_error(run("modes " + source_dir + "/tests/data/molecules/sulfur-hexafluoride.xyz"),
+                        "no atom type");
+  expect_one_line_error(run("modes " + source_dir + "/molecules/water.xyz --isotope 2=40"), "no isotope 40H");
+  expect_one_line_error(run("modes " + source_dir + "/molecules/water.xyz -p no-such-field"), "neither");
+  expect_one_line_error(
+      run("modes " + source_dir + "/molecules/methane.xyz -p " + source_dir + "/potentials/water.toml"),
+      "atom");
+}
+
+TEST(Cli, UsageErrorsExitNonZero) {
+  EXPECT_NE(run("").status, 0);
+  EXPECT_NE(run("modes").status, 0);
+  EXPECT_NE(run("no-such-command x").status, 0);
+}
+
+}  // namespace
