@@ -2,6 +2,7 @@
 
 #include <algorithm>
 #include <cmath>
+#include <limits>
 #include <map>
 #include <numeric>
 #include <sstream>
@@ -158,10 +159,14 @@ std::vector<FittedOperation> find_operations(const Geometry& geometry, double to
   std::iota(identity.permutation.begin(), identity.permutation.end(), 0);
   add(identity);
 
-  // Reference atom a: the smallest class away from the centre (ties: farther out).
+  // Reference atom a: the smallest class well away from the centre (ties: farther
+  // out); a short lever would make the two-atom frame imprecise.
+  double outermost = 0.0;
+  for (const auto& p : geometry.points) outermost = std::max(outermost, p.norm());
+  const double lever_radius = std::max(minimum_radius, 0.3 * outermost);
   int a = -1;
   for (int i = 0; i < n; ++i) {
-    if (geometry.points[i].norm() <= minimum_radius) continue;
+    if (geometry.points[i].norm() < lever_radius) continue;
     if (a < 0) {
       a = i;
       continue;
@@ -176,7 +181,9 @@ std::vector<FittedOperation> find_operations(const Geometry& geometry, double to
   auto perpendicular = [&](int i) { return (geometry.points[i] - geometry.points[i].dot(axis_a) * axis_a).norm(); };
   double widest = 0.0;
   for (int i = 0; i < n; ++i) widest = std::max(widest, perpendicular(i));
-  if (widest <= minimum_radius) return found;
+  // Nearly linear but not within the tolerance: the small bend still fixes the frame.
+  constexpr double kCollinear = 1e-6;
+  if (widest <= kCollinear) return found;
   // Reference atom b: off the line through a, few candidate image pairs, far from that line.
   const auto& class_a = geometry.classes[geometry.class_of[a]];
   int b = -1;
@@ -205,10 +212,8 @@ std::vector<FittedOperation> find_operations(const Geometry& geometry, double to
       for (int bp : geometry.classes[geometry.class_of[b]]) {
         if (bp == ap || std::abs((geometry.points[bp] - geometry.points[ap]).norm() - reference_distance) > 2 * acceptance)
           continue;
-        if (perpendicular(b) > 0.0 &&
-            (geometry.points[bp] - geometry.points[bp].dot(geometry.points[ap].normalized()) *
-                                       geometry.points[ap].normalized()).norm() <= minimum_radius)
-          continue;
+        const Eigen::Vector3d axis_ap = geometry.points[ap].normalized();
+        if ((geometry.points[bp] - geometry.points[bp].dot(axis_ap) * axis_ap).norm() < 0.5 * perpendicular(b)) continue;
         ++tested;
         const Eigen::Matrix3d image = frame_of(geometry.points[ap], geometry.points[bp], handedness);
         const Eigen::Matrix3d guess = image * reference.transpose();
@@ -351,6 +356,22 @@ std::vector<int> conjugacy_labels(const std::vector<FittedOperation>& ops) {
     ++next;
   }
   return label;
+}
+
+// The abstract group of fitted operations (element k = ops[k]), as signed permutation
+// matrices of the atoms: their products are exact.
+FiniteGroup permutation_group(const std::vector<FittedOperation>& ops) {
+  const int n = static_cast<int>(ops.front().permutation.size());
+  std::vector<Eigen::MatrixXd> matrices;
+  std::vector<std::string> names;
+  for (std::size_t k = 0; k < ops.size(); ++k) {
+    Eigen::MatrixXd m = Eigen::MatrixXd::Zero(n + 1, n + 1);
+    for (int i = 0; i < n; ++i) m(ops[k].permutation[i], i) = 1.0;
+    m(n, n) = ops[k].determinant;  // keeps an operation and its product with a planar mirror apart
+    matrices.push_back(m);
+    names.push_back("op" + std::to_string(k + 1));
+  }
+  return FiniteGroup::from_elements(matrices, names, 0.5);
 }
 
 struct Identification {
@@ -596,6 +617,7 @@ Identification identify(const Geometry& geometry, const std::vector<FittedOperat
 }
 
 struct Candidate {
+  bool realized = true;  // false when the fitted operations could not be matched to exact ones
   PointGroup group;
   Eigen::Matrix3d standard_from_input;
   std::vector<std::vector<int>> permutations;
@@ -632,9 +654,13 @@ Candidate realize(const Geometry& geometry, const std::vector<FittedOperation>& 
       }
       // Distinct operations of a point group differ by far more than this (Frobenius).
       constexpr double kSameOperation = 0.3;
-      if (best_distance > kSameOperation || used[best])
-        throw Error("internal: operation " + c.group.operations[g].name + " of " + c.group.name +
-                    " has no partner among the operations found");
+      if (best_distance > kSameOperation || used[best]) {
+        // The fitted operations are mutually inconsistent (e.g. a nearly linear molecule
+        // whose noise mimics a bend); the caller falls back to subgroups.
+        c.realized = false;
+        c.deviation = std::numeric_limits<double>::infinity();
+        return c;
+      }
       used[best] = 1;
       c.permutations[g] = ops[best].permutation;
     }
@@ -752,38 +778,49 @@ PointGroupResult detect_point_group(const Eigen::VectorXd& coordinates_angstrom,
     const std::vector<FittedOperation> ops = close_operations(geometry, found, acceptance, result.notes);
     result.operations_found = static_cast<int>(ops.size());
     chosen = realize(geometry, ops, acceptance, options.linear_axis_order);
-    if (chosen.deviation > tolerance) {
+    if (!chosen.realized || chosen.deviation > tolerance) {
       // Every operation is within 2·tolerance but the average over the group is not within
       // the tolerance: take the largest subgroup that is (all conjugates tried).
+      // Subgroups of the abstract group of the fitted operations (composition of their
+      // atom permutations), largest first; every conjugate is tried.
       const Candidate whole = chosen;
-      const FiniteGroup full = whole.group.finite_group();
+      // Element k of the abstract group ↔ fitted operation fitted_of[k].
+      std::vector<int> fitted_of(ops.size());
+      FiniteGroup full;
+      if (whole.realized) {
+        full = whole.group.finite_group();  // exact and cheap
+        std::map<OperationKey, int> fitted_index;
+        for (std::size_t k = 0; k < ops.size(); ++k) fitted_index[key_of(ops[k])] = static_cast<int>(k);
+        for (int g = 0; g < full.order(); ++g)
+          fitted_of[g] = fitted_index.at({whole.group.operations[g].proper ? 1 : -1, whole.permutations[g]});
+      } else {
+        full = permutation_group(ops);  // (N+1)-dimensional: only for this rare case
+        std::iota(fitted_of.begin(), fitted_of.end(), 0);
+      }
       const auto subgroups = all_subgroups(full);
-      // Map exact operations to fitted ones through their permutations.
-      std::map<OperationKey, int> fitted_index;
-      for (std::size_t k = 0; k < ops.size(); ++k) fitted_index[key_of(ops[k])] = static_cast<int>(k);
-      const std::string rejected = chosen.group.name;
-      const double rejected_deviation = chosen.deviation;
+      const std::string rejected = whole.group.name;
       bool replaced = false;
-      std::size_t level = subgroups.size();
+      std::size_t level = 0;
       for (auto it = subgroups.rbegin(); it != subgroups.rend(); ++it) {
         if (it->elements.size() == static_cast<std::size_t>(full.order())) continue;
         if (replaced && it->elements.size() < level) break;
         std::vector<FittedOperation> subset;
-        for (int g : it->elements) {
-          const OperationKey key{whole.group.operations[g].proper ? 1 : -1, whole.permutations[g]};
-          subset.push_back(ops[fitted_index.at(key)]);
-        }
+        for (int g : it->elements) subset.push_back(ops[fitted_of[g]]);
         Candidate trial = realize(geometry, subset, acceptance, options.linear_axis_order);
-        if (trial.deviation <= tolerance && (!replaced || trial.deviation < chosen.deviation - 1e-12)) {
+        if (trial.realized && trial.deviation <= tolerance && (!replaced || trial.deviation < chosen.deviation - 1e-12)) {
           chosen = trial;
           replaced = true;
           level = it->elements.size();
         }
       }
       if (!replaced) throw Error("internal: not even C1 fits within the tolerance");
-      result.notes.push_back("operations of " + rejected + " were found within 2×tolerance, but symmetrizing to " +
-                             rejected + " moves an atom by " + format_double(rejected_deviation, 3) +
-                             " Å > tolerance; reduced to the largest subgroup within it, " + chosen.group.name);
+      if (whole.realized)
+        result.notes.push_back("operations of " + rejected + " were found within 2×tolerance, but symmetrizing to " +
+                               rejected + " moves an atom by " + format_double(whole.deviation, 3) +
+                               " Å > tolerance; reduced to the largest subgroup within it, " + chosen.group.name);
+      else
+        result.notes.push_back("the operations found within 2×tolerance are not consistent with one " + rejected +
+                               " frame; reduced to the largest subgroup that is, " + chosen.group.name);
     }
   }
 

@@ -117,12 +117,26 @@ double frame_deviation(const PointGroupResult& group, const Eigen::VectorXd& coo
   return worst;
 }
 
+// Bᵀ·D(g)·B for every operation g.
 std::vector<Eigen::MatrixXd> operation_blocks(const PointGroupResult& group, const Eigen::MatrixXd& basis,
                                               CoordinateFrame frame) {
   std::vector<Eigen::MatrixXd> blocks;
-  for (int g = 0; g < group.group.order(); ++g)
-    blocks.push_back(basis.transpose() * apply_operation(group, g, basis, frame));
+  Eigen::MatrixXd image(basis.rows(), basis.cols());
+  for (int g = 0; g < group.group.order(); ++g) {
+    const Eigen::Matrix3d r = group.operation_matrix(g, frame);
+    const auto& permutation = group.permutations[g];
+    for (int i = 0; i < atom_count(group); ++i)
+      image.middleRows<3>(3 * permutation[i]).noalias() = r * basis.middleRows<3>(3 * i);
+    blocks.push_back(basis.transpose() * image);
+  }
   return blocks;
+}
+
+// Matrices of the operations in a new basis B·U of the same space: Uᵀ·A(g)·U.
+std::vector<Eigen::MatrixXd> change_basis(const std::vector<Eigen::MatrixXd>& blocks, const Eigen::MatrixXd& u) {
+  std::vector<Eigen::MatrixXd> out;
+  for (const auto& a : blocks) out.push_back(u.transpose() * a * u);
+  return out;
 }
 
 Eigen::MatrixXd species_projector(const PointGroup& pg, const Irrep& irrep, const std::vector<Eigen::MatrixXd>& blocks) {
@@ -132,17 +146,16 @@ Eigen::MatrixXd species_projector(const PointGroup& pg, const Irrep& irrep, cons
   return 0.5 * (p + p.transpose());
 }
 
-// Rotates an orthonormal basis of one set (3N×d) into symmetry-adapted partners.
-Eigen::MatrixXd adapt_basis(const PointGroupResult& group, const Eigen::MatrixXd& basis, CoordinateFrame frame,
-                            const Eigen::MatrixXd& original_modes) {
+// Orthogonal U (d×d) that rotates an orthonormal basis B of one set (3N×d, operation
+// matrices `blocks` = Bᵀ·D(g)·B) into symmetry-adapted partners B·U.
+Eigen::MatrixXd adapt_basis(const PointGroupResult& group, const Eigen::MatrixXd& basis,
+                            const std::vector<Eigen::MatrixXd>& blocks, const Eigen::MatrixXd& original_modes) {
   const PointGroup& pg = group.group;
   const int d = static_cast<int>(basis.cols());
+  Eigen::Index largest = 0;
   if (d == 1) {
-    Eigen::MatrixXd b = basis;
-    Eigen::Index largest = 0;
-    b.col(0).cwiseAbs().maxCoeff(&largest);
-    if (b(largest, 0) < 0.0) b *= -1.0;
-    return b;
+    basis.col(0).cwiseAbs().maxCoeff(&largest);
+    return Eigen::MatrixXd::Constant(1, 1, basis(largest, 0) < 0.0 ? -1.0 : 1.0);
   }
   // Operations diagonal in the standard frame commute; their common eigenvectors label partners.
   std::vector<int> diagonal;
@@ -150,7 +163,6 @@ Eigen::MatrixXd adapt_basis(const PointGroupResult& group, const Eigen::MatrixXd
     const Eigen::Matrix3d& r = pg.operations[g].matrix;
     if ((r - Eigen::Matrix3d(r.diagonal().asDiagonal())).cwiseAbs().maxCoeff() < 1e-9) diagonal.push_back(g);
   }
-  const auto blocks = operation_blocks(group, basis, frame);
   Eigen::MatrixXd combination = Eigen::MatrixXd::Zero(d, d);
   for (std::size_t k = 0; k < diagonal.size(); ++k) {
     const Eigen::MatrixXd& a = blocks[diagonal[k]];
@@ -209,13 +221,15 @@ Eigen::MatrixXd adapt_basis(const PointGroupResult& group, const Eigen::MatrixXd
   std::stable_sort(order.begin(), order.end(), [&](int a, int b) { return rank[a] < rank[b]; });
   Eigen::MatrixXd sorted(d, d);
   for (int k = 0; k < d; ++k) sorted.col(k) = u.col(order[k]);
-  Eigen::MatrixXd b = basis * sorted;
   // Signs: partner 1 with its largest component positive; the others so that a
   // reference operation turns partner k−1 positively into partner k (C_n about z for
   // axial groups, C3 about (1,1,1) for cubic ones) where it connects them.
-  Eigen::Index largest = 0;
-  b.col(0).cwiseAbs().maxCoeff(&largest);
-  if (b(largest, 0) < 0.0) b.col(0) *= -1.0;
+  auto flip_to_positive_largest = [&](int k) {
+    const Eigen::VectorXd column = basis * sorted.col(k);
+    column.cwiseAbs().maxCoeff(&largest);
+    if (column(largest) < 0.0) sorted.col(k) *= -1.0;
+  };
+  flip_to_positive_largest(0);
   // Reference: the z-axis operation with the smallest positive turn in the xy plane
   // (C_n, or S_2n where that is finer); for cubic groups the C3 about (1, 1, 1).
   int reference = -1;
@@ -235,27 +249,14 @@ Eigen::MatrixXd adapt_basis(const PointGroupResult& group, const Eigen::MatrixXd
       smallest_turn = 9.0;
     }
   }
-  if (reference >= 0) {
-    Eigen::MatrixXd image = apply_operation(group, reference, b, frame);
-    for (int k = 1; k < d; ++k) {
-      const double turned = b.col(k).dot(image.col(k - 1));
-      bool flip = turned < -1e-6;
-      if (std::abs(turned) <= 1e-6) {
-        b.col(k).cwiseAbs().maxCoeff(&largest);
-        flip = b(largest, k) < 0.0;
-      }
-      if (flip) {
-        b.col(k) *= -1.0;
-        image.col(k) *= -1.0;
-      }
-    }
-  } else {
-    for (int k = 1; k < d; ++k) {
-      b.col(k).cwiseAbs().maxCoeff(&largest);
-      if (b(largest, k) < 0.0) b.col(k) *= -1.0;
-    }
+  for (int k = 1; k < d; ++k) {
+    const double turned = reference >= 0 ? sorted.col(k).dot(blocks[reference] * sorted.col(k - 1)) : 0.0;
+    if (std::abs(turned) <= 1e-6)
+      flip_to_positive_largest(k);
+    else if (turned < 0.0)
+      sorted.col(k) *= -1.0;
   }
-  return b;
+  return sorted;
 }
 
 }  // namespace
@@ -321,7 +322,8 @@ ModeSymmetryResult assign_mode_species(const PointGroupResult& group, const Harm
   }
 
   struct PendingSet {
-    Eigen::MatrixXd basis;
+    Eigen::MatrixXd basis;                   // 3N×d
+    std::vector<Eigen::MatrixXd> blocks;     // basisᵀ·D(g)·basis
     int irrep;
     std::vector<int> cluster;
   };
@@ -353,7 +355,8 @@ ModeSymmetryResult assign_mode_species(const PointGroupResult& group, const Harm
       const Eigen::MatrixXd ordered = part * by_freq.eigenvectors();
       for (int start = 0; start < count; start += dimension) {
         const int width = std::min(dimension, count - start);
-        pending.push_back({cluster_basis * ordered.middleCols(start, width), static_cast<int>(a), cluster});
+        const Eigen::MatrixXd local = ordered.middleCols(start, width);
+        pending.push_back({cluster_basis * local, change_basis(blocks, local), static_cast<int>(a), cluster});
       }
       covered += count;
     }
@@ -411,13 +414,15 @@ ModeSymmetryResult assign_mode_species(const PointGroupResult& group, const Harm
     }
     Eigen::MatrixXd original(modes.rows(), set.modes.size());
     for (std::size_t k = 0; k < set.modes.size(); ++k) original.col(k) = modes.col(set.modes[k]);
-    set.adapted_modes = adapt_basis(group, p.basis, frame, original);
-    set.operation_matrices = operation_blocks(group, set.adapted_modes, frame);
+    const Eigen::MatrixXd rotation = adapt_basis(group, p.basis, p.blocks, original);
+    set.adapted_modes = p.basis * rotation;
+    set.operation_matrices = change_basis(p.blocks, rotation);
     const int d = static_cast<int>(set.adapted_modes.cols());
     for (const auto& a : set.operation_matrices)
       set.invariance_residual =
           std::max(set.invariance_residual, (a.transpose() * a - Eigen::MatrixXd::Identity(d, d)).cwiseAbs().maxCoeff());
-    set.purity = species_projector(pg, irrep, set.operation_matrices).trace() / d;
+    const Eigen::MatrixXd projector = species_projector(pg, irrep, set.operation_matrices);
+    set.purity = projector.trace() / d;
     if (set.purity < 1.0 - options.purity_tolerance || static_cast<int>(set.modes.size()) != d) {
       impure = true;
       result.warnings.push_back("set of " + std::to_string(set.modes.size()) + " mode(s) near " +
@@ -433,12 +438,9 @@ ModeSymmetryResult assign_mode_species(const PointGroupResult& group, const Harm
       ms.display_species = set.display_species;
       ms.ir_active = set.ir_active;
       ms.raman_active = set.raman_active;
-      const Eigen::VectorXd v = modes.col(m);
-      double weight = 0.0;
-      for (int g = 0; g < pg.order(); ++g)
-        weight += projection_weight(pg, irrep) * character(pg, irrep, g) *
-                  v.dot(apply_operation(group, g, v, frame).col(0));
-      ms.purity = weight;
+      // The part of the mode inside its set, projected onto the species.
+      const Eigen::VectorXd inside = set.adapted_modes.transpose() * modes.col(m);
+      ms.purity = inside.dot(projector * inside);
     }
     result.assigned_multiplicities[set.irrep] += 1;
     result.sets.push_back(std::move(set));

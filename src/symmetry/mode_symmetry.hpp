@@ -82,7 +82,7 @@ struct ModeSpecies {
   std::string display_species;  // typographic
   bool ir_active = false;
   bool raman_active = false;
-  double purity = 1.0;   // fraction of this mode vector lying in its species
+  double purity = 1.0;   // fraction of this mode vector lying in its set and species
 };
 
 enum class ModeSymmetryStatus {

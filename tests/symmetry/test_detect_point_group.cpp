@@ -181,6 +181,18 @@ TEST(DetectPointGroup, ClearlyDistortedCopiesGiveTheLowerGroup) {
   }
 }
 
+// Bent beyond the tolerance, a linear molecule takes the group of its bend (closed form):
+// trans-bent acetylene is C2h, cis-bent C2v.
+TEST(DetectPointGroup, SlightlyBentLinearMolecules) {
+  for (const auto& [sign, group] : {std::make_pair(-1.0, "C2h"), std::make_pair(1.0, "C2v")}) {
+    Molecule m = load("acetylene.Dinfh.xyz");
+    m.atoms[2].position_angstrom.x() += 0.05;
+    m.atoms[3].position_angstrom.x() += sign * 0.05;
+    EXPECT_EQ(detect_point_group(m).group.name, group);
+    EXPECT_EQ(detect_point_group(rotated_jiggled_shuffled(m, 9, kJiggle)).group.name, group);
+  }
+}
+
 TEST(DetectPointGroup, IsotopesBreakSymmetry) {
   Molecule hdo = load("water.C2v.xyz");
   apply_isotopes(hdo, {{2, 2}});
