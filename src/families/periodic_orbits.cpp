@@ -220,6 +220,9 @@ class FamilySolver {
   void detect_events(ContinuationResult& result) const;
   void build_ladder(ContinuationResult& result);
   void fill_converted(OrbitPoint& point) const;
+  std::string energy_text(double energy) const {
+    return fmt::format("{:.6g} {}", energy * units_.cm1_per_energy, units_.energy_label);
+  }
 
   const VibrationalSystem& system_;
   const FamilySeed& seed_;
@@ -598,8 +601,8 @@ ContinuationResult FamilySolver::run() {
   const double escape_energy = system_.escape_energy();
   if (energy_max >= escape_energy)
     result.warnings.push_back(fmt::format(
-        "energy_max {:.6g} cm-1 lies at or above the system's escape energy {:.6g} cm-1; the family ends there",
-        energy_max * units_.cm1_per_energy, escape_energy * units_.cm1_per_energy));
+        "energy_max {} lies at or above the system's escape energy {}; the family ends there",
+        energy_text(energy_max), energy_text(escape_energy)));
 
   auto finish = [&](ContinuationStatus status, std::string message) {
     result.status = status;
@@ -713,8 +716,8 @@ ContinuationResult FamilySolver::run() {
   while (true) {
     if (static_cast<int>(result.points.size()) >= options_.max_points)
       return finish(ContinuationStatus::point_limit,
-                    fmt::format("stopped after {} points at {:.6g} cm-1, below energy_max", result.points.size(),
-                                result.points.back().energy_cm1));
+                    fmt::format("stopped after {} points at {}, below energy_max", result.points.size(),
+                                energy_text(result.points.back().energy)));
     const Unknowns& current = accepted_.back();
     const double length = tangent_length;
     const double time_scale = tangent_time_scale;
@@ -772,15 +775,14 @@ ContinuationResult FamilySolver::run() {
         const bool near_escape = std::isfinite(escape_energy) && reached > 0.9 * escape_energy;
         if (last_failure_escape || near_escape) {
           return finish(ContinuationStatus::escaped,
-                        fmt::format("orbits stop closing above {:.6g} cm-1 ({}){}", reached * units_.cm1_per_energy,
-                                    last_failure,
-                                    near_escape ? fmt::format(": the escape energy of the system is {:.6g} cm-1",
-                                                              escape_energy * units_.cm1_per_energy)
+                        fmt::format("orbits stop closing above {} ({}){}", energy_text(reached), last_failure,
+                                    near_escape ? fmt::format(": the escape energy of the system is {}",
+                                                              energy_text(escape_energy))
                                                 : std::string(": probably a dissociation or barrier")));
         }
         return finish(ContinuationStatus::step_too_small,
-                      fmt::format("the corrector failed at the smallest step beyond {:.6g} cm-1: {}",
-                                  reached * units_.cm1_per_energy, last_failure));
+                      fmt::format("the corrector failed at the smallest step beyond {}: {}", energy_text(reached),
+                                  last_failure));
       }
       continue;
     }
@@ -793,15 +795,48 @@ ContinuationResult FamilySolver::run() {
     point_started = std::chrono::steady_clock::now();
     gradients_at_start = system_.counts().gradients;
     if (final_step) return finish(ContinuationStatus::reached_energy_max, "reached energy_max");
+    if (result.points.back().energy > energy_max) {
+      // The arclength corrector overshot energy_max: solve the last point at energy_max
+      // exactly instead, starting from the overshooting orbit.
+      const OrbitPoint overshoot_point = result.points.back();
+      const Unknowns overshoot = accepted_.back();
+      const Eigen::MatrixXd overshoot_transition = accepted_transitions_.back();
+      const double overshoot_action = accepted_actions_.back();
+      result.points.pop_back();
+      accepted_.pop_back();
+      accepted_transitions_.pop_back();
+      accepted_actions_.pop_back();
+      Unknowns guess = overshoot;
+      guess.energy = energy_max;
+      CorrectorSetup setup;
+      setup.length = length_for(energy_max);
+      setup.time_scale = time_scale_for(overshoot.period);
+      setup.fixed_energy = true;
+      setup.target_energy = energy_max;
+      setup.phase_reference = scaled_state(overshoot, setup.length);
+      setup.phase_direction = integrator_->scaled_velocity(setup.phase_reference, {setup.length, omega_}).normalized();
+      hint_ = overshoot_transition;
+      have_hint_ = true;
+      const CorrectorOutcome last = correct(guess, setup);
+      if (last.converged && accept(last, last.iterations, last.variational_integrations, last.orbit_integrations,
+                                   gradients_at_start, point_started))
+        return finish(ContinuationStatus::reached_energy_max, "reached energy_max");
+      result.points.push_back(overshoot_point);
+      accepted_.push_back(overshoot);
+      accepted_transitions_.push_back(overshoot_transition);
+      accepted_actions_.push_back(overshoot_action);
+      result.warnings.push_back(fmt::format("the last point lies slightly above energy_max, at {}",
+                                            energy_text(overshoot.energy)));
+      return finish(ContinuationStatus::reached_energy_max, "reached energy_max");
+    }
     const double period_limit = options_.max_period_factor * 2.0 * units::pi / omega_;
     if (result.points.back().period > period_limit)
       return finish(ContinuationStatus::escaped,
-                    fmt::format("the period grew past {} harmonic periods at {:.6g} cm-1: the orbits approach a "
+                    fmt::format("the period grew past {} harmonic periods at {}: the orbits approach a "
                                 "separatrix (dissociation or a barrier){}",
-                                options_.max_period_factor, result.points.back().energy_cm1,
+                                options_.max_period_factor, energy_text(result.points.back().energy),
                                 std::isfinite(escape_energy)
-                                    ? fmt::format("; the escape energy of the system is {:.6g} cm-1",
-                                                  escape_energy * units_.cm1_per_energy)
+                                    ? fmt::format("; the escape energy of the system is {}", energy_text(escape_energy))
                                     : std::string()));
     if (result.points.back().energy < first_energy)
       return finish(ContinuationStatus::turned_back,
@@ -826,7 +861,7 @@ void FamilySolver::detect_events(ContinuationResult& result) const {
     const OrbitPoint& a = points[i - 1];
     const OrbitPoint& b = points[i];
     const std::string bracket =
-        fmt::format("between {:.6g} and {:.6g} cm-1", a.energy_cm1, b.energy_cm1);
+        fmt::format("between {} and {}", energy_text(a.energy), energy_text(b.energy));
     if (a.energy_direction != b.energy_direction)
       add(FamilyEventKind::fold, k, fmt::format("the family turns {} in energy {}",
                                                 b.energy_direction < 0 ? "back" : "forward again", bracket));

@@ -11,6 +11,7 @@ UnitConventions molecular_unit_conventions() {
   conventions.fs_per_time = units::internal_time_unit_s / units::femtosecond_s;
   conventions.hbar = units::hbar_internal;
   conventions.name = "kcal/mol, Å·Da^½, internal time";
+  conventions.energy_label = "cm-1";
   return conventions;
 }
 

@@ -26,6 +26,9 @@ struct UnitConventions {
   double fs_per_time = 1.0;                // time unit → fs
   double hbar = 1.0;                       // ħ in energy·time units (semiclassical quantization)
   std::string name = "model units";        // says what the converted numbers mean for a model
+  // Unit of the converted energies in messages and reports: "cm-1" for molecules; for a
+  // model whose factors are 1, its own energy unit.
+  std::string energy_label = "energy units";
 };
 
 // The molecular internal units of core/units.hpp: kcal/mol, Å·Da^½, sqrt(Da Å²/(kcal/mol)).
