@@ -2,6 +2,7 @@
 
 #include <algorithm>
 #include <cmath>
+#include <map>
 #include <numeric>
 #include <sstream>
 
@@ -325,10 +326,14 @@ ModeSymmetryResult assign_mode_species(const PointGroupResult& group, const Harm
     Eigen::MatrixXd basis;                   // 3N×d
     std::vector<Eigen::MatrixXd> blocks;     // basisᵀ·D(g)·basis
     int irrep;
-    std::vector<int> cluster;
+    int cluster_index;
+    Eigen::MatrixXd species_part;  // 3N×(copies·d): the cluster's whole part of this species
+    bool shared = false;           // the cluster holds several sets of this species
   };
   std::vector<PendingSet> pending;
-  for (auto& cluster : clusters) {
+  std::vector<std::vector<int>> cluster_species(clusters.size());  // per cluster member: species holding most of it
+  for (std::size_t cluster_index = 0; cluster_index < clusters.size(); ++cluster_index) {
+    auto& cluster = clusters[cluster_index];
     std::sort(cluster.begin(), cluster.end());
     const int c = static_cast<int>(cluster.size());
     Eigen::MatrixXd cluster_basis(modes.rows(), c);
@@ -337,8 +342,15 @@ ModeSymmetryResult assign_mode_species(const PointGroupResult& group, const Harm
     Eigen::VectorXd cluster_frequencies(c);
     for (int k = 0; k < c; ++k) cluster_frequencies[k] = frequencies[cluster[k]];
     int covered = 0;
+    Eigen::VectorXd best_weight = Eigen::VectorXd::Constant(c, -1.0);
+    cluster_species[cluster_index].assign(c, -1);
     for (std::size_t a = 0; a < irreps.size(); ++a) {
       const Eigen::MatrixXd projector = species_projector(pg, irreps[a], blocks);
+      for (int k = 0; k < c; ++k)
+        if (projector(k, k) > best_weight[k]) {
+          best_weight[k] = projector(k, k);
+          cluster_species[cluster_index][k] = static_cast<int>(a);
+        }
       const double weight = projector.trace();
       const int count = static_cast<int>(std::lround(weight));
       if (count < 1) continue;
@@ -356,7 +368,8 @@ ModeSymmetryResult assign_mode_species(const PointGroupResult& group, const Harm
       for (int start = 0; start < count; start += dimension) {
         const int width = std::min(dimension, count - start);
         const Eigen::MatrixXd local = ordered.middleCols(start, width);
-        pending.push_back({cluster_basis * local, change_basis(blocks, local), static_cast<int>(a), cluster});
+        pending.push_back({cluster_basis * local, change_basis(blocks, local), static_cast<int>(a),
+                           static_cast<int>(cluster_index), cluster_basis * part, count > dimension});
       }
       covered += count;
     }
@@ -366,20 +379,43 @@ ModeSymmetryResult assign_mode_species(const PointGroupResult& group, const Harm
                                 " dimensions; the modes do not carry the group's symmetry");
   }
 
-  // Each mode joins the set of its cluster holding most of it.
+  // Members: each mode of a cluster takes the species holding most of it; the modes of
+  // one species are dealt, in frequency order, to that species' sets of the cluster
+  // (also in frequency order), dimension by dimension. Exactly equal frequencies of one
+  // species therefore keep the original modes together rather than an arbitrary basis.
   std::vector<std::vector<int>> members(pending.size());
-  for (int mode = 0; mode < mode_count; ++mode) {
-    int best = -1;
-    double best_overlap = -1.0;
-    for (std::size_t s = 0; s < pending.size(); ++s) {
-      if (std::find(pending[s].cluster.begin(), pending[s].cluster.end(), mode) == pending[s].cluster.end()) continue;
-      const double overlap = (pending[s].basis.transpose() * modes.col(mode)).squaredNorm();
-      if (overlap > best_overlap) {
-        best_overlap = overlap;
-        best = static_cast<int>(s);
-      }
+  for (std::size_t c = 0; c < clusters.size(); ++c) {
+    const auto& cluster = clusters[c];
+    std::map<int, std::vector<int>> modes_of_species;
+    for (std::size_t k = 0; k < cluster.size(); ++k) modes_of_species[cluster_species[c][k]].push_back(cluster[k]);
+    for (auto& [irrep, list] : modes_of_species) {
+      std::stable_sort(list.begin(), list.end(), [&](int a, int b) { return frequencies[a] < frequencies[b]; });
+      std::vector<int> sets;
+      for (std::size_t s = 0; s < pending.size(); ++s)
+        if (pending[s].cluster_index == static_cast<int>(c) && pending[s].irrep == irrep) sets.push_back(static_cast<int>(s));
+      if (sets.empty()) continue;  // reported below as an unassigned mode
+      const std::size_t dimension = static_cast<std::size_t>(irreps[irrep].dimension);
+      for (std::size_t k = 0; k < list.size(); ++k) members[sets[std::min(k / dimension, sets.size() - 1)]].push_back(list[k]);
     }
-    if (best >= 0) members[best].push_back(mode);
+  }
+
+  // Several sets of one species in a cluster (accidental degeneracy): each set spans the
+  // species part of its own member modes, so that members and basis agree even when
+  // the frequencies are exactly equal.
+  for (std::size_t s = 0; s < pending.size(); ++s) {
+    PendingSet& p = pending[s];
+    if (!p.shared || members[s].empty()) continue;
+    Eigen::MatrixXd spanned(modes.rows(), 0);
+    for (int m : members[s]) {
+      Eigen::VectorXd v = p.species_part * (p.species_part.transpose() * modes.col(m));
+      if (spanned.cols() > 0) v -= spanned * (spanned.transpose() * v);
+      if (v.norm() < 1e-6) continue;
+      spanned.conservativeResize(Eigen::NoChange, spanned.cols() + 1);
+      spanned.col(spanned.cols() - 1) = v.normalized();
+    }
+    if (spanned.cols() != p.basis.cols()) continue;  // keep the frequency-ordered basis
+    p.basis = spanned;
+    p.blocks = operation_blocks(group, spanned, frame);
   }
 
   std::vector<int> set_order(pending.size());

@@ -226,6 +226,22 @@ TEST(ModeSymmetry, AdaptedPartnersTransformLikeCoordinates) {
   }
 }
 
+// Accidental degeneracy: all of water's modes given one frequency. Projection separates
+// the two A1 modes from the B2 one, and the A1 modes stay themselves.
+TEST(ModeSymmetry, AccidentalDegeneracyIsSplitByProjection) {
+  Analysis a = analyze_random("water.C2v.xyz");
+  a.harmonic.frequencies_cm1.setConstant(1500.0);
+  a.species = assign_mode_species(a.group, a.harmonic);
+  EXPECT_EQ(a.species.status, ModeSymmetryStatus::Assigned) << a.species.message;
+  ASSERT_EQ(a.species.sets.size(), 3u);
+  for (const auto& set : a.species.sets) {
+    ASSERT_EQ(set.modes.size(), 1u);
+    const Eigen::VectorXd mode = a.harmonic.mass_weighted_modes.col(set.modes[0]);
+    EXPECT_NEAR(std::abs(mode.dot(set.adapted_modes.col(0))), 1.0, kRepresentationTolerance) << set.species;
+  }
+  EXPECT_EQ(a.species.decomposition, "2A1 + B2");
+}
+
 TEST(ModeSymmetry, HarmonicDataInStandardOrientation) {
   // Turn the file away from any standard-looking orientation first.
   Molecule molecule = load("boron_trifluoride.D3h.xyz");
