@@ -18,7 +18,8 @@ void SymmetryOptions::validate() const {
     throw Error("SymmetryOptions::tolerance_angstrom must be positive and finite, got " +
                 std::to_string(tolerance_angstrom));
   if (!(mass_tolerance_da >= 0.0) || !std::isfinite(mass_tolerance_da))
-    throw Error("SymmetryOptions::mass_tolerance_da must be non-negative, got " + std::to_string(mass_tolerance_da));
+    throw Error("SymmetryOptions::mass_tolerance_da must be non-negative, got " +
+                std::to_string(mass_tolerance_da));
   if (linear_axis_order < 4 || linear_axis_order > 60 || linear_axis_order % 2 != 0)
     throw Error("SymmetryOptions::linear_axis_order must be even and between 4 and 60, got " +
                 std::to_string(linear_axis_order));
@@ -51,14 +52,14 @@ using OperationKey = std::pair<int, std::vector<int>>;
 OperationKey key_of(const FittedOperation& op) { return {op.determinant, op.permutation}; }
 
 struct Geometry {
-  Points points;               // centred at the centre of mass
-  std::vector<int> class_of;   // equivalence class: same element, mass and distance from the centre
+  Points points;              // centred at the centre of mass
+  std::vector<int> class_of;  // equivalence class: same element, mass and distance from the centre
   std::vector<std::vector<int>> classes;
   Eigen::VectorXd masses;
 };
 
-Geometry classify_atoms(const Points& points, const std::vector<int>& atomic_numbers, const Eigen::VectorXd& masses,
-                        double tolerance, double mass_tolerance) {
+Geometry classify_atoms(const Points& points, const std::vector<int>& atomic_numbers,
+                        const Eigen::VectorXd& masses, double tolerance, double mass_tolerance) {
   Geometry g;
   g.points = points;
   g.masses = masses;
@@ -118,14 +119,16 @@ std::vector<int> match_atoms(const Geometry& geometry, const Eigen::Matrix3d& r,
   return permutation;
 }
 
-double largest_deviation(const Geometry& geometry, const Eigen::Matrix3d& r, const std::vector<int>& permutation) {
+double largest_deviation(const Geometry& geometry, const Eigen::Matrix3d& r,
+                         const std::vector<int>& permutation) {
   double worst = 0.0;
   for (std::size_t i = 0; i < geometry.points.size(); ++i)
     worst = std::max(worst, (r * geometry.points[i] - geometry.points[permutation[i]]).norm());
   return worst;
 }
 
-Eigen::Matrix3d fit_operation(const Geometry& geometry, const std::vector<int>& permutation, int determinant) {
+Eigen::Matrix3d fit_operation(const Geometry& geometry, const std::vector<int>& permutation,
+                              int determinant) {
   Eigen::Matrix3d covariance = Eigen::Matrix3d::Zero();
   for (std::size_t i = 0; i < geometry.points.size(); ++i)
     covariance += geometry.points[permutation[i]] * geometry.points[i].transpose();
@@ -173,12 +176,15 @@ std::vector<FittedOperation> find_operations(const Geometry& geometry, double to
     }
     const auto size_i = geometry.classes[geometry.class_of[i]].size();
     const auto size_a = geometry.classes[geometry.class_of[a]].size();
-    if (size_i < size_a || (size_i == size_a && geometry.points[i].norm() > geometry.points[a].norm() + acceptance))
+    if (size_i < size_a ||
+        (size_i == size_a && geometry.points[i].norm() > geometry.points[a].norm() + acceptance))
       a = i;
   }
   if (a < 0) return found;
   const Eigen::Vector3d axis_a = geometry.points[a].normalized();
-  auto perpendicular = [&](int i) { return (geometry.points[i] - geometry.points[i].dot(axis_a) * axis_a).norm(); };
+  auto perpendicular = [&](int i) {
+    return (geometry.points[i] - geometry.points[i].dot(axis_a) * axis_a).norm();
+  };
   double widest = 0.0;
   for (int i = 0; i < n; ++i) widest = std::max(widest, perpendicular(i));
   // Nearly linear but not within the tolerance: the small bend still fixes the frame.
@@ -194,7 +200,8 @@ std::vector<FittedOperation> find_operations(const Geometry& geometry, double to
     std::size_t count = 0;
     for (int ap : class_a)
       for (int bp : geometry.classes[geometry.class_of[i]])
-        count += bp != ap && std::abs((geometry.points[bp] - geometry.points[ap]).norm() - distance) <= 2 * acceptance;
+        count += bp != ap &&
+                 std::abs((geometry.points[bp] - geometry.points[ap]).norm() - distance) <= 2 * acceptance;
     if (b < 0 || count < best_count || (count == best_count && perpendicular(i) > perpendicular(b))) {
       b = i;
       best_count = count;
@@ -210,10 +217,13 @@ std::vector<FittedOperation> find_operations(const Geometry& geometry, double to
     const Eigen::Matrix3d reference = frame_of(geometry.points[a], geometry.points[b], 1);
     for (int ap : class_a) {
       for (int bp : geometry.classes[geometry.class_of[b]]) {
-        if (bp == ap || std::abs((geometry.points[bp] - geometry.points[ap]).norm() - reference_distance) > 2 * acceptance)
+        if (bp == ap || std::abs((geometry.points[bp] - geometry.points[ap]).norm() - reference_distance) >
+                            2 * acceptance)
           continue;
         const Eigen::Vector3d axis_ap = geometry.points[ap].normalized();
-        if ((geometry.points[bp] - geometry.points[bp].dot(axis_ap) * axis_ap).norm() < 0.5 * perpendicular(b)) continue;
+        if ((geometry.points[bp] - geometry.points[bp].dot(axis_ap) * axis_ap).norm() <
+            0.5 * perpendicular(b))
+          continue;
         ++tested;
         const Eigen::Matrix3d image = frame_of(geometry.points[ap], geometry.points[bp], handedness);
         const Eigen::Matrix3d guess = image * reference.transpose();
@@ -269,9 +279,9 @@ std::vector<FittedOperation> close_operations(const Geometry& geometry, std::vec
       }
     }
     if (failed) {
-      auto worst = std::max_element(ops.begin() + 1, ops.end(), [](const FittedOperation& p, const FittedOperation& q) {
-        return p.deviation < q.deviation;
-      });
+      auto worst = std::max_element(
+          ops.begin() + 1, ops.end(),
+          [](const FittedOperation& p, const FittedOperation& q) { return p.deviation < q.deviation; });
       notes.push_back("an operation within the tolerance whose products are not was dropped (deviation " +
                       std::to_string(worst->deviation) + " Å)");
       ops.erase(worst);
@@ -311,7 +321,8 @@ bool is_reflection(const FittedOperation& op) {
 }
 
 // Counts atoms on an axis through the centre, and their mass.
-std::pair<int, double> atoms_on_axis(const Geometry& geometry, const Eigen::Vector3d& axis, double acceptance) {
+std::pair<int, double> atoms_on_axis(const Geometry& geometry, const Eigen::Vector3d& axis,
+                                     double acceptance) {
   int count = 0;
   double mass = 0.0;
   for (std::size_t i = 0; i < geometry.points.size(); ++i) {
@@ -324,7 +335,8 @@ std::pair<int, double> atoms_on_axis(const Geometry& geometry, const Eigen::Vect
   return {count, mass};
 }
 
-std::pair<int, double> atoms_in_plane(const Geometry& geometry, const Eigen::Vector3d& normal, double acceptance) {
+std::pair<int, double> atoms_in_plane(const Geometry& geometry, const Eigen::Vector3d& normal,
+                                      double acceptance) {
   int count = 0;
   double mass = 0.0;
   for (std::size_t i = 0; i < geometry.points.size(); ++i)
@@ -408,7 +420,8 @@ Eigen::Matrix3d inertia_frame(const Geometry& geometry) {
   return q;
 }
 
-Identification identify(const Geometry& geometry, const std::vector<FittedOperation>& ops, double acceptance) {
+Identification identify(const Geometry& geometry, const std::vector<FittedOperation>& ops,
+                        double acceptance) {
   Identification id;
   std::vector<int> orders;
   for (const auto& op : ops) orders.push_back(operation_order(op));
@@ -427,7 +440,8 @@ Identification identify(const Geometry& geometry, const std::vector<FittedOperat
   auto axes_of_order = [&](int wanted, bool proper) {
     std::vector<Eigen::Vector3d> axes;
     for (std::size_t k = 0; k < ops.size(); ++k)
-      if (orders[k] == wanted && (ops[k].determinant > 0) == proper) axes.push_back(proper_axis(ops[k].matrix));
+      if (orders[k] == wanted && (ops[k].determinant > 0) == proper)
+        axes.push_back(proper_axis(ops[k].matrix));
     return axes;
   };
   auto best_by_atoms = [&](const std::vector<std::pair<Eigen::Vector3d, std::pair<int, double>>>& options) {
@@ -476,9 +490,9 @@ Identification identify(const Geometry& geometry, const std::vector<FittedOperat
   if (id.family != PointGroupFamily::C1) {
     // Cubic: x, y, z along three perpendicular axes of order 2 (T, Th, I, Ih), of S4 (Td)
     // or of C4 (O, Oh).
-    std::vector<Eigen::Vector3d> axes =
-        id.family == PointGroupFamily::O || id.family == PointGroupFamily::Oh ? axes_of_order(4, true)
-                                                                              : axes_of_order(2, true);
+    std::vector<Eigen::Vector3d> axes = id.family == PointGroupFamily::O || id.family == PointGroupFamily::Oh
+                                            ? axes_of_order(4, true)
+                                            : axes_of_order(2, true);
     const Eigen::Vector3d x = axes.front();
     Eigen::Vector3d y = Eigen::Vector3d::Zero();
     for (const auto& a : axes)
@@ -585,7 +599,8 @@ Identification identify(const Geometry& geometry, const std::vector<FittedOperat
       std::vector<std::size_t> rank(axes.size());
       std::iota(rank.begin(), rank.end(), 0);
       std::stable_sort(rank.begin(), rank.end(), [&](std::size_t p, std::size_t q) {
-        const auto a = atoms_on_axis(geometry, axes[p], acceptance), b = atoms_on_axis(geometry, axes[q], acceptance);
+        const auto a = atoms_on_axis(geometry, axes[p], acceptance),
+                   b = atoms_on_axis(geometry, axes[q], acceptance);
         return a.first > b.first || (a.first == b.first && a.second > b.second + 1e-9);
       });
       if (plane_normal >= 0) {
@@ -598,17 +613,22 @@ Identification identify(const Geometry& geometry, const std::vector<FittedOperat
     }
     bool horizontal_mirror = false;
     for (const auto& op : ops)
-      if (is_reflection(op) && std::abs(proper_axis(op.matrix).dot(principal_axis)) > 0.9) horizontal_mirror = true;
-    id.family = order == 2 * n ? PointGroupFamily::Dn : horizontal_mirror ? PointGroupFamily::Dnh : PointGroupFamily::Dnd;
+      if (is_reflection(op) && std::abs(proper_axis(op.matrix).dot(principal_axis)) > 0.9)
+        horizontal_mirror = true;
+    id.family = order == 2 * n      ? PointGroupFamily::Dn
+                : horizontal_mirror ? PointGroupFamily::Dnh
+                                    : PointGroupFamily::Dnd;
     // x along a perpendicular twofold axis: of the class through more atoms (Dn, Dnh).
     const std::vector<int> labels = conjugacy_labels(ops);
     std::map<int, Eigen::Vector3d> axis_of_class;
     for (std::size_t k = 0; k < ops.size(); ++k) {
       if (ops[k].determinant < 0 || orders[k] != 2) continue;
       const Eigen::Vector3d axis = proper_axis(ops[k].matrix);
-      if (std::abs(axis.dot(principal_axis)) < 0.1 && !axis_of_class.count(labels[k])) axis_of_class[labels[k]] = axis;
+      if (std::abs(axis.dot(principal_axis)) < 0.1 && !axis_of_class.count(labels[k]))
+        axis_of_class[labels[k]] = axis;
     }
-    for (const auto& [label, axis] : axis_of_class) choices.push_back({axis, atoms_on_axis(geometry, axis, acceptance)});
+    for (const auto& [label, axis] : axis_of_class)
+      choices.push_back({axis, atoms_on_axis(geometry, axis, acceptance)});
     id.standard_from_input = frame_from_axes(principal_axis, best_by_atoms(choices));
     return id;
   }
@@ -633,8 +653,8 @@ Candidate realize(const Geometry& geometry, const std::vector<FittedOperation>& 
   Candidate c;
   c.group = make_point_group(id.family, id.axis_order, linear_axis_order);
   if (c.group.order() != static_cast<int>(ops.size()))
-    throw Error("internal: identified " + c.group.name + " of order " + std::to_string(c.group.order()) + " from " +
-                std::to_string(ops.size()) + " operations");
+    throw Error("internal: identified " + c.group.name + " of order " + std::to_string(c.group.order()) +
+                " from " + std::to_string(ops.size()) + " operations");
   Eigen::Matrix3d q = id.standard_from_input;
   const int n = static_cast<int>(geometry.points.size());
   const int order = c.group.order();
@@ -668,7 +688,8 @@ Candidate realize(const Geometry& geometry, const std::vector<FittedOperation>& 
     c.symmetric_standard.assign(n, Eigen::Vector3d::Zero());
     for (int g = 0; g < order; ++g) {
       const Eigen::Matrix3d back = c.group.operations[g].matrix.transpose();
-      for (int i = 0; i < n; ++i) c.symmetric_standard[i] += back * (q * geometry.points[c.permutations[g][i]]);
+      for (int i = 0; i < n; ++i)
+        c.symmetric_standard[i] += back * (q * geometry.points[c.permutations[g][i]]);
     }
     for (auto& p : c.symmetric_standard) p /= order;
     Eigen::Matrix3d covariance = Eigen::Matrix3d::Zero();
@@ -678,7 +699,8 @@ Candidate realize(const Geometry& geometry, const std::vector<FittedOperation>& 
   c.standard_from_input = q;
   c.deviation = 0.0;
   for (int i = 0; i < n; ++i)
-    c.deviation = std::max(c.deviation, (q.transpose() * c.symmetric_standard[i] - geometry.points[i]).norm());
+    c.deviation =
+        std::max(c.deviation, (q.transpose() * c.symmetric_standard[i] - geometry.points[i]).norm());
   return c;
 }
 
@@ -701,7 +723,8 @@ Candidate realize_linear(const Geometry& geometry, const Eigen::Vector3d& axis, 
   }
   for (int i = 0; i < n && centrosymmetric; ++i) centrosymmetric = partner[partner[i]] == i;
   Candidate c;
-  c.group = make_point_group(centrosymmetric ? PointGroupFamily::Dinfh : PointGroupFamily::Cinfv, 1, linear_axis_order);
+  c.group = make_point_group(centrosymmetric ? PointGroupFamily::Dinfh : PointGroupFamily::Cinfv, 1,
+                             linear_axis_order);
   c.standard_from_input = frame_from_axes(axis, any_perpendicular(axis));
   std::vector<int> identity(n);
   std::iota(identity.begin(), identity.end(), 0);
@@ -713,8 +736,9 @@ Candidate realize_linear(const Geometry& geometry, const Eigen::Vector3d& axis, 
     c.symmetric_standard[i] = Eigen::Vector3d(0, 0, z);
   }
   for (int i = 0; i < n; ++i)
-    c.deviation = std::max(c.deviation, (c.standard_from_input.transpose() * c.symmetric_standard[i] -
-                                         geometry.points[i]).norm());
+    c.deviation =
+        std::max(c.deviation,
+                 (c.standard_from_input.transpose() * c.symmetric_standard[i] - geometry.points[i]).norm());
   return c;
 }
 
@@ -727,20 +751,22 @@ std::string format_double(double v, int precision) {
 
 }  // namespace
 
-PointGroupResult detect_point_group(const Eigen::VectorXd& coordinates_angstrom, const std::vector<int>& atomic_numbers,
-                                    const Eigen::VectorXd& masses_da, const SymmetryOptions& options) {
+PointGroupResult detect_point_group(const Eigen::VectorXd& coordinates_angstrom,
+                                    const std::vector<int>& atomic_numbers, const Eigen::VectorXd& masses_da,
+                                    const SymmetryOptions& options) {
   options.validate();
   const int n = static_cast<int>(atomic_numbers.size());
   if (n < 2) throw Error("point-group detection needs at least 2 atoms, got " + std::to_string(n));
   if (coordinates_angstrom.size() != 3 * n)
-    throw Error("coordinate vector has " + std::to_string(coordinates_angstrom.size()) + " entries, expected " +
-                std::to_string(3 * n));
+    throw Error("coordinate vector has " + std::to_string(coordinates_angstrom.size()) +
+                " entries, expected " + std::to_string(3 * n));
   if (masses_da.size() != n)
     throw Error("got " + std::to_string(masses_da.size()) + " masses for " + std::to_string(n) + " atoms");
   if (!coordinates_angstrom.allFinite()) throw Error("coordinates contain a non-finite value");
   for (int i = 0; i < n; ++i)
     if (!(masses_da[i] > 0.0))
-      throw Error("mass of atom " + std::to_string(i + 1) + " must be positive, got " + std::to_string(masses_da[i]));
+      throw Error("mass of atom " + std::to_string(i + 1) + " must be positive, got " +
+                  std::to_string(masses_da[i]));
 
   const double tolerance = options.tolerance_angstrom;
   const double acceptance = 2.0 * tolerance;
@@ -755,7 +781,8 @@ PointGroupResult detect_point_group(const Eigen::VectorXd& coordinates_angstrom,
   result.center_angstrom = center;
   Points points(n);
   for (int i = 0; i < n; ++i) points[i] = coordinates_angstrom.segment<3>(3 * i) - center;
-  const Geometry geometry = classify_atoms(points, atomic_numbers, masses_da, tolerance, options.mass_tolerance_da);
+  const Geometry geometry =
+      classify_atoms(points, atomic_numbers, masses_da, tolerance, options.mass_tolerance_da);
 
   // Linear within the tolerance: every atom within it of the axis of least inertia.
   const Eigen::Matrix3d inertia_axes = inertia_frame(geometry);
@@ -767,14 +794,16 @@ PointGroupResult detect_point_group(const Eigen::VectorXd& coordinates_angstrom,
   if (off_line <= tolerance) {
     chosen = realize_linear(geometry, line, acceptance, options.linear_axis_order, true);
     if (chosen.deviation > tolerance && chosen.group.family == PointGroupFamily::Dinfh) {
-      result.notes.push_back("symmetrizing to D∞h would move an atom by more than the tolerance; reduced to C∞v");
+      result.notes.push_back(
+          "symmetrizing to D∞h would move an atom by more than the tolerance; reduced to C∞v");
       chosen = realize_linear(geometry, line, acceptance, options.linear_axis_order, false);
     }
     result.operations_found = chosen.group.order();
     result.notes.push_back("linear molecule: operations are those of " + chosen.group.finite_name +
                            ", the finite subgroup used for " + chosen.group.display_name);
   } else {
-    const std::vector<FittedOperation> found = find_operations(geometry, tolerance, result.candidate_operations_tested);
+    const std::vector<FittedOperation> found =
+        find_operations(geometry, tolerance, result.candidate_operations_tested);
     const std::vector<FittedOperation> ops = close_operations(geometry, found, acceptance, result.notes);
     result.operations_found = static_cast<int>(ops.size());
     chosen = realize(geometry, ops, acceptance, options.linear_axis_order);
@@ -807,7 +836,8 @@ PointGroupResult detect_point_group(const Eigen::VectorXd& coordinates_angstrom,
         std::vector<FittedOperation> subset;
         for (int g : it->elements) subset.push_back(ops[fitted_of[g]]);
         Candidate trial = realize(geometry, subset, acceptance, options.linear_axis_order);
-        if (trial.realized && trial.deviation <= tolerance && (!replaced || trial.deviation < chosen.deviation - 1e-12)) {
+        if (trial.realized && trial.deviation <= tolerance &&
+            (!replaced || trial.deviation < chosen.deviation - 1e-12)) {
           chosen = trial;
           replaced = true;
           level = it->elements.size();
@@ -815,12 +845,14 @@ PointGroupResult detect_point_group(const Eigen::VectorXd& coordinates_angstrom,
       }
       if (!replaced) throw Error("internal: not even C1 fits within the tolerance");
       if (whole.realized)
-        result.notes.push_back("operations of " + rejected + " were found within 2×tolerance, but symmetrizing to " +
-                               rejected + " moves an atom by " + format_double(whole.deviation, 3) +
-                               " Å > tolerance; reduced to the largest subgroup within it, " + chosen.group.name);
+        result.notes.push_back(
+            "operations of " + rejected + " were found within 2×tolerance, but symmetrizing to " + rejected +
+            " moves an atom by " + format_double(whole.deviation, 3) +
+            " Å > tolerance; reduced to the largest subgroup within it, " + chosen.group.name);
       else
-        result.notes.push_back("the operations found within 2×tolerance are not consistent with one " + rejected +
-                               " frame; reduced to the largest subgroup that is, " + chosen.group.name);
+        result.notes.push_back("the operations found within 2×tolerance are not consistent with one " +
+                               rejected + " frame; reduced to the largest subgroup that is, " +
+                               chosen.group.name);
     }
   }
 
@@ -848,8 +880,8 @@ PointGroupResult detect_point_group(const Eigen::VectorXd& coordinates_angstrom,
   result.notes.push_back("tolerance " + format_double(tolerance, 3) +
                          " Å (largest displacement of an atom by symmetrization), as given; not adapted");
   result.message = "point group " + result.group.name + " (order " + std::to_string(result.group.order()) +
-                   "); largest deviation removed by symmetrization " + format_double(result.max_deviation_angstrom, 3) +
-                   " Å";
+                   "); largest deviation removed by symmetrization " +
+                   format_double(result.max_deviation_angstrom, 3) + " Å";
   return result;
 }
 

@@ -54,20 +54,20 @@ struct PointGroupResult {
   // permutations[g][i] = the atom j onto which operation g moves atom i (R_g·r_i ≈ r_j).
   std::vector<std::vector<int>> permutations;
   // Standard orientation: r_standard = standard_from_input · (r_input − center_angstrom).
-  Eigen::Vector3d center_angstrom = Eigen::Vector3d::Zero();   // centre of mass of the input
+  Eigen::Vector3d center_angstrom = Eigen::Vector3d::Zero();  // centre of mass of the input
   Eigen::Matrix3d standard_from_input = Eigen::Matrix3d::Identity();
-  Eigen::VectorXd input_coordinates_angstrom;         // 3N, as given
-  Eigen::VectorXd symmetrized_coordinates_angstrom;   // 3N, exactly symmetric, input frame
-  Eigen::VectorXd standard_coordinates_angstrom;      // 3N, exactly symmetric, standard frame
+  Eigen::VectorXd input_coordinates_angstrom;        // 3N, as given
+  Eigen::VectorXd symmetrized_coordinates_angstrom;  // 3N, exactly symmetric, input frame
+  Eigen::VectorXd standard_coordinates_angstrom;     // 3N, exactly symmetric, standard frame
   std::vector<int> atomic_numbers;
   Eigen::VectorXd masses_da;
-  double max_deviation_angstrom = 0.0;  // largest |symmetrized − input| over atoms
-  double tolerance_angstrom = 0.0;      // the tolerance the group was accepted with (options value)
+  double max_deviation_angstrom = 0.0;        // largest |symmetrized − input| over atoms
+  double tolerance_angstrom = 0.0;            // the tolerance the group was accepted with (options value)
   std::vector<std::vector<int>> atom_orbits;  // sets of symmetry-equivalent atoms, each sorted
   int candidate_operations_tested = 0;
-  int operations_found = 0;             // before identification (equals the group order unless reduced)
-  std::vector<std::string> notes;       // how the result was reached, e.g. a reduction to a subgroup
-  std::string message;                  // one line, e.g. "point group C2v (order 4); largest deviation removed 0.0012 Å"
+  int operations_found = 0;        // before identification (equals the group order unless reduced)
+  std::vector<std::string> notes;  // how the result was reached, e.g. a reduction to a subgroup
+  std::string message;  // one line, e.g. "point group C2v (order 4); largest deviation removed 0.0012 Å"
 
   // Matrix of operation g in the requested frame (input: Qᵀ·R·Q).
   Eigen::Matrix3d operation_matrix(int g, CoordinateFrame frame = CoordinateFrame::Input) const;
@@ -75,8 +75,9 @@ struct PointGroupResult {
 
 // Throws Error for no atoms, a single atom, mismatched sizes, non-finite coordinates,
 // non-positive masses or invalid options.
-PointGroupResult detect_point_group(const Eigen::VectorXd& coordinates_angstrom, const std::vector<int>& atomic_numbers,
-                                    const Eigen::VectorXd& masses_da, const SymmetryOptions& options = {});
+PointGroupResult detect_point_group(const Eigen::VectorXd& coordinates_angstrom,
+                                    const std::vector<int>& atomic_numbers, const Eigen::VectorXd& masses_da,
+                                    const SymmetryOptions& options = {});
 PointGroupResult detect_point_group(const Molecule& molecule, const SymmetryOptions& options = {});
 
 }  // namespace overtone

@@ -27,8 +27,9 @@ void check_matrices(const std::vector<Eigen::MatrixXd>& matrices, double toleran
                   std::to_string(n) + "×" + std::to_string(n));
     const double deviation = (m.transpose() * m - Eigen::MatrixXd::Identity(n, n)).cwiseAbs().maxCoeff();
     if (!(deviation <= tolerance))
-      throw Error(std::string(what) + " " + std::to_string(k + 1) + " is not orthogonal: largest |MᵀM − I| is " +
-                  std::to_string(deviation) + ", tolerance " + std::to_string(tolerance));
+      throw Error(std::string(what) + " " + std::to_string(k + 1) +
+                  " is not orthogonal: largest |MᵀM − I| is " + std::to_string(deviation) + ", tolerance " +
+                  std::to_string(tolerance));
   }
 }
 
@@ -98,7 +99,8 @@ void FiniteGroup::build_lookup() {
 }
 
 int FiniteGroup::find(const Eigen::MatrixXd& m, double tolerance) const {
-  if (matrices_.empty() || m.rows() != matrices_.front().rows() || m.cols() != matrices_.front().cols()) return -1;
+  if (matrices_.empty() || m.rows() != matrices_.front().rows() || m.cols() != matrices_.front().cols())
+    return -1;
   const double key = key_weights_.cwiseProduct(m).sum();
   const double reach = key_weights_.cwiseAbs().sum() * tolerance;
   auto it = std::lower_bound(lookup_.begin(), lookup_.end(), std::make_pair(key - reach, -1));
@@ -182,8 +184,8 @@ FiniteGroup FiniteGroup::from_elements(const std::vector<Eigen::MatrixXd>& eleme
                                        const std::vector<std::string>& names, double tolerance) {
   check_matrices(elements, tolerance, "element");
   if (names.size() != elements.size())
-    throw Error("got " + std::to_string(names.size()) + " element names for " + std::to_string(elements.size()) +
-                " elements");
+    throw Error("got " + std::to_string(names.size()) + " element names for " +
+                std::to_string(elements.size()) + " elements");
   FiniteGroup group;
   group.tolerance_ = tolerance;
   group.matrices_ = elements;
@@ -238,7 +240,7 @@ namespace {
 std::vector<std::vector<int>> every_subgroup(const FiniteGroup& group) {
   const int n = group.order();
   // Every subgroup is reached from a cyclic one by joining cyclic subgroups one at a time.
-  std::map<ElementSet, std::vector<int>> found;  // element set -> generators used
+  std::map<ElementSet, std::vector<int>> found;    // element set -> generators used
   std::vector<std::pair<ElementSet, int>> cyclic;  // distinct cyclic subgroups with a generator
   for (int a = 0; a < n; ++a) {
     ElementSet set;
@@ -299,30 +301,32 @@ void for_each_conjugacy_class(const FiniteGroup& group, Visit visit) {
 
 std::vector<Subgroup> subgroups_up_to_conjugacy(const FiniteGroup& group) {
   std::vector<Subgroup> representatives;
-  for_each_conjugacy_class(group, [&](const std::vector<int>& elements,
-                                      const std::map<std::vector<int>, bool>& conjugates) {
-    Subgroup subgroup;
-    subgroup.elements = elements;
-    subgroup.generators = small_generating_set(group, elements);
-    subgroup.conjugate_count = static_cast<int>(conjugates.size());
-    representatives.push_back(std::move(subgroup));
-  });
+  for_each_conjugacy_class(
+      group, [&](const std::vector<int>& elements, const std::map<std::vector<int>, bool>& conjugates) {
+        Subgroup subgroup;
+        subgroup.elements = elements;
+        subgroup.generators = small_generating_set(group, elements);
+        subgroup.conjugate_count = static_cast<int>(conjugates.size());
+        representatives.push_back(std::move(subgroup));
+      });
   return representatives;
 }
 
 std::vector<Subgroup> all_subgroups(const FiniteGroup& group) {
   std::vector<Subgroup> subgroups;
-  for_each_conjugacy_class(group, [&](const std::vector<int>&, const std::map<std::vector<int>, bool>& conjugates) {
-    for (const auto& entry : conjugates) {
-      Subgroup subgroup;
-      subgroup.elements = entry.first;
-      subgroup.generators = small_generating_set(group, entry.first);
-      subgroup.conjugate_count = static_cast<int>(conjugates.size());
-      subgroups.push_back(std::move(subgroup));
-    }
-  });
+  for_each_conjugacy_class(group,
+                           [&](const std::vector<int>&, const std::map<std::vector<int>, bool>& conjugates) {
+                             for (const auto& entry : conjugates) {
+                               Subgroup subgroup;
+                               subgroup.elements = entry.first;
+                               subgroup.generators = small_generating_set(group, entry.first);
+                               subgroup.conjugate_count = static_cast<int>(conjugates.size());
+                               subgroups.push_back(std::move(subgroup));
+                             }
+                           });
   std::sort(subgroups.begin(), subgroups.end(), [](const Subgroup& a, const Subgroup& b) {
-    return a.elements.size() != b.elements.size() ? a.elements.size() < b.elements.size() : a.elements < b.elements;
+    return a.elements.size() != b.elements.size() ? a.elements.size() < b.elements.size()
+                                                  : a.elements < b.elements;
   });
   return subgroups;
 }
@@ -343,7 +347,8 @@ std::vector<OneDimensionalCharacter> one_dimensional_characters(const FiniteGrou
 
   std::vector<int> generators = subgroup.generators;
   bool generators_valid = !generators.empty() || order == 1;
-  for (int g : generators) generators_valid = generators_valid && g >= 0 && g < group.order() && position[g] >= 0;
+  for (int g : generators)
+    generators_valid = generators_valid && g >= 0 && g < group.order() && position[g] >= 0;
   if (!generators_valid || closure(group, generators, nullptr) != elements)
     generators = small_generating_set(group, elements);
 

@@ -72,9 +72,9 @@ class FiniteGroup {
 };
 
 struct Subgroup {
-  std::vector<int> elements;      // sorted indices into the parent group
-  std::vector<int> generators;    // a small generating set (indices into the parent group)
-  int conjugate_count = 1;        // number of distinct conjugates g·H·g⁻¹ in the parent
+  std::vector<int> elements;    // sorted indices into the parent group
+  std::vector<int> generators;  // a small generating set (indices into the parent group)
+  int conjugate_count = 1;      // number of distinct conjugates g·H·g⁻¹ in the parent
 };
 
 // Closure of the given elements of the group (indices) into a subgroup; generators are

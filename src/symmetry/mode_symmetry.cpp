@@ -16,8 +16,8 @@ int atom_count(const PointGroupResult& group) { return static_cast<int>(group.at
 
 void check_size(const PointGroupResult& group, Eigen::Index rows, const char* what) {
   if (rows != 3 * atom_count(group))
-    throw Error(std::string(what) + " has " + std::to_string(rows) + " rows, expected 3N = " +
-                std::to_string(3 * atom_count(group)));
+    throw Error(std::string(what) + " has " + std::to_string(rows) +
+                " rows, expected 3N = " + std::to_string(3 * atom_count(group)));
 }
 
 // Projection weight c_Γ = (complex dimension)/|G| of a species.
@@ -53,14 +53,15 @@ std::vector<double> vibrational_characters(const PointGroupResult& group) {
 }
 
 std::vector<int> vibrational_decomposition(const PointGroupResult& group) {
-  const std::vector<double> multiplicities = reduce_representation(group.group, vibrational_characters(group));
+  const std::vector<double> multiplicities =
+      reduce_representation(group.group, vibrational_characters(group));
   std::vector<int> counts;
   for (std::size_t k = 0; k < multiplicities.size(); ++k) {
     const long rounded = std::lround(multiplicities[k]);
     // Multiplicities of a true representation are integers; rounding noise is ~1e-12.
     if (std::abs(multiplicities[k] - rounded) > 1e-6)
-      throw Error("vibrational representation has a non-integer multiplicity " + format_number(multiplicities[k], 8) +
-                  " of " + group.group.character_table.irreps[k].label);
+      throw Error("vibrational representation has a non-integer multiplicity " +
+                  format_number(multiplicities[k], 8) + " of " + group.group.character_table.irreps[k].label);
     counts.push_back(static_cast<int>(rounded));
   }
   return counts;
@@ -72,7 +73,8 @@ Eigen::MatrixXd apply_operation(const PointGroupResult& group, int operation, co
   const Eigen::Matrix3d r = group.operation_matrix(operation, frame);
   const auto& permutation = group.permutations[operation];
   Eigen::MatrixXd out(vectors.rows(), vectors.cols());
-  for (int i = 0; i < atom_count(group); ++i) out.middleRows<3>(3 * permutation[i]) = r * vectors.middleRows<3>(3 * i);
+  for (int i = 0; i < atom_count(group); ++i)
+    out.middleRows<3>(3 * permutation[i]) = r * vectors.middleRows<3>(3 * i);
   return out;
 }
 
@@ -91,7 +93,8 @@ Eigen::MatrixXd symmetrize_cartesian_hessian(const Eigen::MatrixXd& hessian, con
     // (D(g)ᵀ H D(g))_{ij} = R_gᵀ · H_{π(i)π(j)} · R_g.
     for (int i = 0; i < n; ++i)
       for (int j = 0; j < n; ++j)
-        sum.block<3, 3>(3 * i, 3 * j).noalias() += r.transpose() * hessian.block<3, 3>(3 * p[i], 3 * p[j]) * r;
+        sum.block<3, 3>(3 * i, 3 * j).noalias() +=
+            r.transpose() * hessian.block<3, 3>(3 * p[i], 3 * p[j]) * r;
   }
   sum /= order;
   return 0.5 * (sum + sum.transpose());
@@ -100,8 +103,8 @@ Eigen::MatrixXd symmetrize_cartesian_hessian(const Eigen::MatrixXd& hessian, con
 namespace {
 
 // Largest displacement an operation leaves when applied to the geometry in a frame.
-double frame_deviation(const PointGroupResult& group, const Eigen::VectorXd& coordinates, const Eigen::VectorXd& masses,
-                       CoordinateFrame frame) {
+double frame_deviation(const PointGroupResult& group, const Eigen::VectorXd& coordinates,
+                       const Eigen::VectorXd& masses, CoordinateFrame frame) {
   const int n = atom_count(group);
   Eigen::Vector3d center = Eigen::Vector3d::Zero();
   for (int i = 0; i < n; ++i) center += masses[i] * coordinates.segment<3>(3 * i);
@@ -134,13 +137,15 @@ std::vector<Eigen::MatrixXd> operation_blocks(const PointGroupResult& group, con
 }
 
 // Matrices of the operations in a new basis B·U of the same space: Uᵀ·A(g)·U.
-std::vector<Eigen::MatrixXd> change_basis(const std::vector<Eigen::MatrixXd>& blocks, const Eigen::MatrixXd& u) {
+std::vector<Eigen::MatrixXd> change_basis(const std::vector<Eigen::MatrixXd>& blocks,
+                                          const Eigen::MatrixXd& u) {
   std::vector<Eigen::MatrixXd> out;
   for (const auto& a : blocks) out.push_back(u.transpose() * a * u);
   return out;
 }
 
-Eigen::MatrixXd species_projector(const PointGroup& pg, const Irrep& irrep, const std::vector<Eigen::MatrixXd>& blocks) {
+Eigen::MatrixXd species_projector(const PointGroup& pg, const Irrep& irrep,
+                                  const std::vector<Eigen::MatrixXd>& blocks) {
   Eigen::MatrixXd p = Eigen::MatrixXd::Zero(blocks.front().rows(), blocks.front().cols());
   const double weight = projection_weight(pg, irrep);
   for (int g = 0; g < pg.order(); ++g) p += weight * character(pg, irrep, g) * blocks[g];
@@ -150,7 +155,8 @@ Eigen::MatrixXd species_projector(const PointGroup& pg, const Irrep& irrep, cons
 // Orthogonal U (d×d) that rotates an orthonormal basis B of one set (3N×d, operation
 // matrices `blocks` = Bᵀ·D(g)·B) into symmetry-adapted partners B·U.
 Eigen::MatrixXd adapt_basis(const PointGroupResult& group, const Eigen::MatrixXd& basis,
-                            const std::vector<Eigen::MatrixXd>& blocks, const Eigen::MatrixXd& original_modes) {
+                            const std::vector<Eigen::MatrixXd>& blocks,
+                            const Eigen::MatrixXd& original_modes) {
   const PointGroup& pg = group.group;
   const int d = static_cast<int>(basis.cols());
   Eigen::Index largest = 0;
@@ -207,7 +213,8 @@ Eigen::MatrixXd adapt_basis(const PointGroupResult& group, const Eigen::MatrixXd
   };
   std::vector<std::vector<int>> axis_signatures(3);
   for (int axis = 0; axis < 3; ++axis)
-    for (int g : diagonal) axis_signatures[axis].push_back(pg.operations[g].matrix(axis, axis) > 0.0 ? 1 : -1);
+    for (int g : diagonal)
+      axis_signatures[axis].push_back(pg.operations[g].matrix(axis, axis) > 0.0 ? 1 : -1);
   std::vector<int> order(d);
   std::iota(order.begin(), order.end(), 0);
   std::vector<int> rank(d, 3);
@@ -245,7 +252,8 @@ Eigen::MatrixXd adapt_basis(const PointGroupResult& group, const Eigen::MatrixXd
         smallest_turn = turn;
         reference = g;
       }
-    } else if (op.proper && op.axis.dot(body_diagonal) > 1.0 - 1e-9 && op.name == "C₃" && smallest_turn > 9.0) {
+    } else if (op.proper && op.axis.dot(body_diagonal) > 1.0 - 1e-9 && op.name == "C₃" &&
+               smallest_turn > 9.0) {
       reference = g;
       smallest_turn = 9.0;
     }
@@ -272,8 +280,8 @@ ModeSymmetryResult assign_mode_species(const PointGroupResult& group, const Harm
                 std::to_string(options.purity_tolerance));
   const int n = atom_count(group);
   if (harmonic.masses_da.size() != n)
-    throw Error("harmonic analysis has " + std::to_string(harmonic.masses_da.size()) + " atoms, the point group " +
-                std::to_string(n));
+    throw Error("harmonic analysis has " + std::to_string(harmonic.masses_da.size()) +
+                " atoms, the point group " + std::to_string(n));
   for (int i = 0; i < n; ++i)
     if (std::abs(harmonic.masses_da[i] - group.masses_da[i]) > 1e-6)
       throw Error("mass of atom " + std::to_string(i + 1) + " is " + format_number(harmonic.masses_da[i], 8) +
@@ -299,7 +307,8 @@ ModeSymmetryResult assign_mode_species(const PointGroupResult& group, const Harm
     throw Error("the harmonic geometry does not have the symmetry of " + pg.name +
                 " in the detection's input or standard frame (largest displacement " +
                 format_number(std::min(input_deviation, standard_deviation), 3) + " Å, allowed " +
-                format_number(frame_tolerance, 3) + " Å); detect the group on the geometry the modes were computed at");
+                format_number(frame_tolerance, 3) +
+                " Å); detect the group on the geometry the modes were computed at");
   const CoordinateFrame frame = result.frame;
 
   const Eigen::MatrixXd& modes = harmonic.mass_weighted_modes;
@@ -323,15 +332,16 @@ ModeSymmetryResult assign_mode_species(const PointGroupResult& group, const Harm
   }
 
   struct PendingSet {
-    Eigen::MatrixXd basis;                   // 3N×d
-    std::vector<Eigen::MatrixXd> blocks;     // basisᵀ·D(g)·basis
+    Eigen::MatrixXd basis;                // 3N×d
+    std::vector<Eigen::MatrixXd> blocks;  // basisᵀ·D(g)·basis
     int irrep;
     int cluster_index;
     Eigen::MatrixXd species_part;  // 3N×(copies·d): the cluster's whole part of this species
     bool shared = false;           // the cluster holds several sets of this species
   };
   std::vector<PendingSet> pending;
-  std::vector<std::vector<int>> cluster_species(clusters.size());  // per cluster member: species holding most of it
+  std::vector<std::vector<int>> cluster_species(
+      clusters.size());  // per cluster member: species holding most of it
   for (std::size_t cluster_index = 0; cluster_index < clusters.size(); ++cluster_index) {
     auto& cluster = clusters[cluster_index];
     std::sort(cluster.begin(), cluster.end());
@@ -359,11 +369,13 @@ ModeSymmetryResult assign_mode_species(const PointGroupResult& group, const Harm
       const Eigen::MatrixXd part = solver.eigenvectors().rightCols(count);
       const int dimension = irreps[a].dimension;
       if (count % dimension != 0)
-        result.warnings.push_back("modes near " + format_number(cluster_frequencies.mean(), 6) + " cm⁻¹ have " +
-                                  std::to_string(count) + " dimensions of " + irreps[a].label +
-                                  ", not a multiple of its dimension " + std::to_string(dimension));
+        result.warnings.push_back("modes near " + format_number(cluster_frequencies.mean(), 6) +
+                                  " cm⁻¹ have " + std::to_string(count) + " dimensions of " +
+                                  irreps[a].label + ", not a multiple of its dimension " +
+                                  std::to_string(dimension));
       // Several copies of one species in a cluster (accidental degeneracy): split by frequency.
-      Eigen::SelfAdjointEigenSolver<Eigen::MatrixXd> by_freq(part.transpose() * cluster_frequencies.asDiagonal() * part);
+      Eigen::SelfAdjointEigenSolver<Eigen::MatrixXd> by_freq(part.transpose() *
+                                                             cluster_frequencies.asDiagonal() * part);
       const Eigen::MatrixXd ordered = part * by_freq.eigenvectors();
       for (int start = 0; start < count; start += dimension) {
         const int width = std::min(dimension, count - start);
@@ -374,8 +386,9 @@ ModeSymmetryResult assign_mode_species(const PointGroupResult& group, const Harm
       covered += count;
     }
     if (covered != c)
-      result.warnings.push_back("modes near " + format_number(cluster_frequencies.mean(), 6) + " cm⁻¹: projections cover " +
-                                std::to_string(covered) + " of " + std::to_string(c) +
+      result.warnings.push_back("modes near " + format_number(cluster_frequencies.mean(), 6) +
+                                " cm⁻¹: projections cover " + std::to_string(covered) + " of " +
+                                std::to_string(c) +
                                 " dimensions; the modes do not carry the group's symmetry");
   }
 
@@ -387,15 +400,19 @@ ModeSymmetryResult assign_mode_species(const PointGroupResult& group, const Harm
   for (std::size_t c = 0; c < clusters.size(); ++c) {
     const auto& cluster = clusters[c];
     std::map<int, std::vector<int>> modes_of_species;
-    for (std::size_t k = 0; k < cluster.size(); ++k) modes_of_species[cluster_species[c][k]].push_back(cluster[k]);
+    for (std::size_t k = 0; k < cluster.size(); ++k)
+      modes_of_species[cluster_species[c][k]].push_back(cluster[k]);
     for (auto& [irrep, list] : modes_of_species) {
-      std::stable_sort(list.begin(), list.end(), [&](int a, int b) { return frequencies[a] < frequencies[b]; });
+      std::stable_sort(list.begin(), list.end(),
+                       [&](int a, int b) { return frequencies[a] < frequencies[b]; });
       std::vector<int> sets;
       for (std::size_t s = 0; s < pending.size(); ++s)
-        if (pending[s].cluster_index == static_cast<int>(c) && pending[s].irrep == irrep) sets.push_back(static_cast<int>(s));
+        if (pending[s].cluster_index == static_cast<int>(c) && pending[s].irrep == irrep)
+          sets.push_back(static_cast<int>(s));
       if (sets.empty()) continue;  // reported below as an unassigned mode
       const std::size_t dimension = static_cast<std::size_t>(irreps[irrep].dimension);
-      for (std::size_t k = 0; k < list.size(); ++k) members[sets[std::min(k / dimension, sets.size() - 1)]].push_back(list[k]);
+      for (std::size_t k = 0; k < list.size(); ++k)
+        members[sets[std::min(k / dimension, sets.size() - 1)]].push_back(list[k]);
     }
   }
 
@@ -456,14 +473,15 @@ ModeSymmetryResult assign_mode_species(const PointGroupResult& group, const Harm
     const int d = static_cast<int>(set.adapted_modes.cols());
     for (const auto& a : set.operation_matrices)
       set.invariance_residual =
-          std::max(set.invariance_residual, (a.transpose() * a - Eigen::MatrixXd::Identity(d, d)).cwiseAbs().maxCoeff());
+          std::max(set.invariance_residual,
+                   (a.transpose() * a - Eigen::MatrixXd::Identity(d, d)).cwiseAbs().maxCoeff());
     const Eigen::MatrixXd projector = species_projector(pg, irrep, set.operation_matrices);
     set.purity = projector.trace() / d;
     if (set.purity < 1.0 - options.purity_tolerance || static_cast<int>(set.modes.size()) != d) {
       impure = true;
       result.warnings.push_back("set of " + std::to_string(set.modes.size()) + " mode(s) near " +
-                                format_number(set.frequency_cm1, 6) + " cm⁻¹ assigned " + set.species + " with purity " +
-                                format_number(set.purity, 4));
+                                format_number(set.frequency_cm1, 6) + " cm⁻¹ assigned " + set.species +
+                                " with purity " + format_number(set.purity, 4));
     }
     const int index = static_cast<int>(result.sets.size());
     for (int m : set.modes) {

@@ -54,13 +54,13 @@ struct ModeSpeciesOptions {
 };
 
 struct ModeSet {
-  std::vector<int> modes;           // indices of harmonic modes (columns of L), ascending
-  int irrep = -1;                   // index into group.character_table.irreps
-  std::string species;              // ASCII label, e.g. "E", "T2", "Pi_u"
-  std::string display_species;      // typographic label, e.g. "T₂", "Πu"
-  double frequency_cm1 = 0.0;       // mean of the members (signed; negative = imaginary)
+  std::vector<int> modes;             // indices of harmonic modes (columns of L), ascending
+  int irrep = -1;                     // index into group.character_table.irreps
+  std::string species;                // ASCII label, e.g. "E", "T2", "Pi_u"
+  std::string display_species;        // typographic label, e.g. "T₂", "Πu"
+  double frequency_cm1 = 0.0;         // mean of the members (signed; negative = imaginary)
   double frequency_spread_cm1 = 0.0;  // largest minus smallest member frequency
-  double purity = 1.0;              // fraction of the set's span lying in its species
+  double purity = 1.0;                // fraction of the set's span lying in its species
   bool ir_active = false;
   bool raman_active = false;
   // Orthonormal basis of the set in mass-weighted Cartesian space (3N×d, harmonic frame),
@@ -76,13 +76,13 @@ struct ModeSet {
 };
 
 struct ModeSpecies {
-  int set = -1;          // index into ModeSymmetryResult::sets
+  int set = -1;  // index into ModeSymmetryResult::sets
   int irrep = -1;
   std::string species;          // ASCII
   std::string display_species;  // typographic
   bool ir_active = false;
   bool raman_active = false;
-  double purity = 1.0;   // fraction of this mode vector lying in its set and species
+  double purity = 1.0;  // fraction of this mode vector lying in its set and species
 };
 
 enum class ModeSymmetryStatus {
@@ -95,12 +95,12 @@ struct ModeSymmetryResult {
   std::string message;
   std::vector<std::string> warnings;
   CoordinateFrame frame = CoordinateFrame::Input;  // frame in which the harmonic data were found
-  std::vector<ModeSpecies> modes;   // one per harmonic mode, same order
-  std::vector<ModeSet> sets;        // ascending frequency
-  std::vector<int> expected_multiplicities;  // from the geometry (vibrational_decomposition)
-  std::vector<int> assigned_multiplicities;  // counted from the sets
-  std::string decomposition;          // "2A1 + B2"
-  std::string display_decomposition;  // "2A₁ + B₂"
+  std::vector<ModeSpecies> modes;                  // one per harmonic mode, same order
+  std::vector<ModeSet> sets;                       // ascending frequency
+  std::vector<int> expected_multiplicities;        // from the geometry (vibrational_decomposition)
+  std::vector<int> assigned_multiplicities;        // counted from the sets
+  std::string decomposition;                       // "2A1 + B2"
+  std::string display_decomposition;               // "2A₁ + B₂"
 };
 
 // Throws Error when the atom count or masses differ from the detection, or when the

@@ -50,27 +50,48 @@ bool is_dihedral_two(PointGroupFamily f, int n) {
 }
 
 std::string name_for(PointGroupFamily f, int n, bool typographic) {
-  auto num = [&](int k) { return typographic ? detail::subscript_digits(std::to_string(k)) : std::to_string(k); };
+  auto num = [&](int k) {
+    return typographic ? detail::subscript_digits(std::to_string(k)) : std::to_string(k);
+  };
   switch (f) {
-    case PointGroupFamily::C1: return typographic ? "C₁" : "C1";
-    case PointGroupFamily::Cs: return "Cs";
-    case PointGroupFamily::Ci: return "Ci";
-    case PointGroupFamily::Cn: return "C" + num(n);
-    case PointGroupFamily::Cnv: return "C" + num(n) + "v";
-    case PointGroupFamily::Cnh: return "C" + num(n) + "h";
-    case PointGroupFamily::Dn: return "D" + num(n);
-    case PointGroupFamily::Dnh: return "D" + num(n) + "h";
-    case PointGroupFamily::Dnd: return "D" + num(n) + "d";
-    case PointGroupFamily::S2n: return "S" + num(n);
-    case PointGroupFamily::T: return "T";
-    case PointGroupFamily::Td: return "Td";
-    case PointGroupFamily::Th: return "Th";
-    case PointGroupFamily::O: return "O";
-    case PointGroupFamily::Oh: return "Oh";
-    case PointGroupFamily::I: return "I";
-    case PointGroupFamily::Ih: return "Ih";
-    case PointGroupFamily::Cinfv: return typographic ? "C∞v" : "Cinfv";
-    case PointGroupFamily::Dinfh: return typographic ? "D∞h" : "Dinfh";
+    case PointGroupFamily::C1:
+      return typographic ? "C₁" : "C1";
+    case PointGroupFamily::Cs:
+      return "Cs";
+    case PointGroupFamily::Ci:
+      return "Ci";
+    case PointGroupFamily::Cn:
+      return "C" + num(n);
+    case PointGroupFamily::Cnv:
+      return "C" + num(n) + "v";
+    case PointGroupFamily::Cnh:
+      return "C" + num(n) + "h";
+    case PointGroupFamily::Dn:
+      return "D" + num(n);
+    case PointGroupFamily::Dnh:
+      return "D" + num(n) + "h";
+    case PointGroupFamily::Dnd:
+      return "D" + num(n) + "d";
+    case PointGroupFamily::S2n:
+      return "S" + num(n);
+    case PointGroupFamily::T:
+      return "T";
+    case PointGroupFamily::Td:
+      return "Td";
+    case PointGroupFamily::Th:
+      return "Th";
+    case PointGroupFamily::O:
+      return "O";
+    case PointGroupFamily::Oh:
+      return "Oh";
+    case PointGroupFamily::I:
+      return "I";
+    case PointGroupFamily::Ih:
+      return "Ih";
+    case PointGroupFamily::Cinfv:
+      return typographic ? "C∞v" : "Cinfv";
+    case PointGroupFamily::Dinfh:
+      return typographic ? "D∞h" : "Dinfh";
   }
   return "";
 }
@@ -87,25 +108,59 @@ std::vector<Eigen::MatrixXd> generators_for(PointGroupFamily f, int n) {
   const Eigen::Matrix3d c3_diagonal = rotation_about(diagonal, turn / 3);
   std::vector<Eigen::Matrix3d> g;
   switch (f) {
-    case PointGroupFamily::C1: g = {Eigen::Matrix3d::Identity()}; break;
-    case PointGroupFamily::Cs: g = {sigma_h}; break;
-    case PointGroupFamily::Ci: g = {inversion}; break;
-    case PointGroupFamily::Cn: g = {cn}; break;
+    case PointGroupFamily::C1:
+      g = {Eigen::Matrix3d::Identity()};
+      break;
+    case PointGroupFamily::Cs:
+      g = {sigma_h};
+      break;
+    case PointGroupFamily::Ci:
+      g = {inversion};
+      break;
+    case PointGroupFamily::Cn:
+      g = {cn};
+      break;
     case PointGroupFamily::Cnv:
-    case PointGroupFamily::Cinfv: g = {cn, sigma_xz}; break;
-    case PointGroupFamily::Cnh: g = {cn, sigma_h}; break;
-    case PointGroupFamily::Dn: g = {cn, c2x}; break;
+    case PointGroupFamily::Cinfv:
+      g = {cn, sigma_xz};
+      break;
+    case PointGroupFamily::Cnh:
+      g = {cn, sigma_h};
+      break;
+    case PointGroupFamily::Dn:
+      g = {cn, c2x};
+      break;
     case PointGroupFamily::Dnh:
-    case PointGroupFamily::Dinfh: g = {cn, c2x, sigma_h}; break;
-    case PointGroupFamily::Dnd: g = {improper_rotation_about(kZ, turn / (2 * n)), c2x}; break;
-    case PointGroupFamily::S2n: g = {improper_rotation_about(kZ, turn / n)}; break;
-    case PointGroupFamily::T: g = {rotation_about(kZ, turn / 2), c3_diagonal}; break;
-    case PointGroupFamily::Td: g = {improper_rotation_about(kZ, turn / 4), c3_diagonal}; break;
-    case PointGroupFamily::Th: g = {rotation_about(kZ, turn / 2), c3_diagonal, inversion}; break;
-    case PointGroupFamily::O: g = {rotation_about(kZ, turn / 4), c3_diagonal}; break;
-    case PointGroupFamily::Oh: g = {rotation_about(kZ, turn / 4), c3_diagonal, inversion}; break;
-    case PointGroupFamily::I: g = {rotation_about(five_fold, turn / 5), c3_diagonal}; break;
-    case PointGroupFamily::Ih: g = {rotation_about(five_fold, turn / 5), c3_diagonal, inversion}; break;
+    case PointGroupFamily::Dinfh:
+      g = {cn, c2x, sigma_h};
+      break;
+    case PointGroupFamily::Dnd:
+      g = {improper_rotation_about(kZ, turn / (2 * n)), c2x};
+      break;
+    case PointGroupFamily::S2n:
+      g = {improper_rotation_about(kZ, turn / n)};
+      break;
+    case PointGroupFamily::T:
+      g = {rotation_about(kZ, turn / 2), c3_diagonal};
+      break;
+    case PointGroupFamily::Td:
+      g = {improper_rotation_about(kZ, turn / 4), c3_diagonal};
+      break;
+    case PointGroupFamily::Th:
+      g = {rotation_about(kZ, turn / 2), c3_diagonal, inversion};
+      break;
+    case PointGroupFamily::O:
+      g = {rotation_about(kZ, turn / 4), c3_diagonal};
+      break;
+    case PointGroupFamily::Oh:
+      g = {rotation_about(kZ, turn / 4), c3_diagonal, inversion};
+      break;
+    case PointGroupFamily::I:
+      g = {rotation_about(five_fold, turn / 5), c3_diagonal};
+      break;
+    case PointGroupFamily::Ih:
+      g = {rotation_about(five_fold, turn / 5), c3_diagonal, inversion};
+      break;
   }
   return std::vector<Eigen::MatrixXd>(g.begin(), g.end());
 }
@@ -133,7 +188,7 @@ enum class OperationKind { Identity, Rotation, Inversion, Reflection, ImproperRo
 struct OperationInfo {
   OperationKind kind = OperationKind::Identity;
   Eigen::Vector3d axis = Eigen::Vector3d::Zero();  // canonical direction
-  int k = 0, m = 1;                                 // C_m^k or S_m^k
+  int k = 0, m = 1;                                // C_m^k or S_m^k
   std::string decoration_ascii, decoration_text;   // "'", "(xz)", "v", "h", "d"
 };
 
@@ -166,17 +221,24 @@ OperationInfo analyze_operation(const Eigen::Matrix3d& r) {
 }
 
 std::string base_name(const OperationInfo& info, bool typographic) {
-  auto sub = [&](int v) { return typographic ? detail::subscript_digits(std::to_string(v)) : std::to_string(v); };
+  auto sub = [&](int v) {
+    return typographic ? detail::subscript_digits(std::to_string(v)) : std::to_string(v);
+  };
   auto sup = [&](int v) {
     if (v == 1) return std::string();
     return typographic ? detail::superscript_digits(std::to_string(v)) : "^" + std::to_string(v);
   };
   switch (info.kind) {
-    case OperationKind::Identity: return "E";
-    case OperationKind::Inversion: return "i";
-    case OperationKind::Rotation: return "C" + sub(info.m) + sup(info.k);
-    case OperationKind::ImproperRotation: return "S" + sub(info.m) + sup(info.k);
-    case OperationKind::Reflection: return typographic ? "σ" : "sigma";
+    case OperationKind::Identity:
+      return "E";
+    case OperationKind::Inversion:
+      return "i";
+    case OperationKind::Rotation:
+      return "C" + sub(info.m) + sup(info.k);
+    case OperationKind::ImproperRotation:
+      return "S" + sub(info.m) + sup(info.k);
+    case OperationKind::Reflection:
+      return typographic ? "σ" : "sigma";
   }
   return "";
 }
@@ -221,9 +283,9 @@ void decorate(PointGroupFamily family, int n, const std::vector<std::vector<int>
       } else if (op.kind == OperationKind::Reflection) {
         const Eigen::Vector3d& normal = op.axis;
         if (is_dihedral_two(family, n)) {
-          const std::string plane = normal.isApprox(kZ) || parallel(normal, kZ)   ? "(xy)"
-                                    : parallel(normal, kY)                         ? "(xz)"
-                                                                                   : "(yz)";
+          const std::string plane = normal.isApprox(kZ) || parallel(normal, kZ) ? "(xy)"
+                                    : parallel(normal, kY)                      ? "(xz)"
+                                                                                : "(yz)";
           set(plane, plane);
         } else if (family == PointGroupFamily::Cnv && n == 2) {
           if (parallel(normal, kY))
@@ -258,7 +320,8 @@ void decorate(PointGroupFamily family, int n, const std::vector<std::vector<int>
 std::tuple<int, int, int, int, std::string> class_key(PointGroupFamily family, const OperationInfo& op) {
   const bool axial = is_axial(family);
   switch (op.kind) {
-    case OperationKind::Identity: return {0, 0, 0, 0, ""};
+    case OperationKind::Identity:
+      return {0, 0, 0, 0, ""};
     case OperationKind::Rotation: {
       const bool on_axis = axial && parallel(op.axis, kZ);
       if (on_axis) return {1, 0, op.k * kMaxDenominator / op.m, 0, ""};
@@ -266,15 +329,17 @@ std::tuple<int, int, int, int, std::string> class_key(PointGroupFamily family, c
       const std::string rank = d == "(y)" ? "1" : d == "(x)" ? "2" : d;  // C2(z), C2(y), C2(x)
       return {1, 1, -op.m, op.k, rank};
     }
-    case OperationKind::Inversion: return {2, 0, 0, 0, ""};
-    case OperationKind::ImproperRotation: return {3, 0, -op.m, op.k, ""};
+    case OperationKind::Inversion:
+      return {2, 0, 0, 0, ""};
+    case OperationKind::ImproperRotation:
+      return {3, 0, -op.m, op.k, ""};
     case OperationKind::Reflection: {
       const std::string& d = op.decoration_ascii;
-      const int rank = d == "_h" || d == "(xy)"                 ? 0
+      const int rank = d == "_h" || d == "(xy)"                    ? 0
                        : d == "_v" || d == "_v(xz)" || d == "(xz)" ? 1
-                       : d == "_v'(yz)" || d == "(yz)"            ? 2
-                       : d == "_d"                                ? 3
-                                                                  : 4;
+                       : d == "_v'(yz)" || d == "(yz)"             ? 2
+                       : d == "_d"                                 ? 3
+                                                                   : 4;
       return {4, rank, 0, 0, d};
     }
   }
@@ -283,8 +348,8 @@ std::tuple<int, int, int, int, std::string> class_key(PointGroupFamily family, c
 
 // ---- character table -------------------------------------------------------------
 
-std::vector<std::vector<std::complex<double>>> irreducible_characters(const FiniteGroup& group,
-                                                                      const std::vector<std::vector<int>>& classes) {
+std::vector<std::vector<std::complex<double>>> irreducible_characters(
+    const FiniteGroup& group, const std::vector<std::vector<int>>& classes) {
   const int r = static_cast<int>(classes.size());
   const int order = group.order();
   std::vector<int> class_of(order);
@@ -327,7 +392,8 @@ std::vector<std::vector<std::complex<double>>> irreducible_characters(const Fini
     for (int a = 0; a < r && valid; ++a)
       for (int b = 0; b < r && valid; ++b) {
         std::complex<double> sum = 0.0;
-        for (int k = 0; k < r; ++k) sum += static_cast<double>(classes[k].size()) * table[a][k] * std::conj(table[b][k]);
+        for (int k = 0; k < r; ++k)
+          sum += static_cast<double>(classes[k].size()) * table[a][k] * std::conj(table[b][k]);
         valid = std::abs(sum - (a == b ? static_cast<double>(order) : 0.0)) < kOrthogonality * order;
       }
     if (valid) {
@@ -345,20 +411,25 @@ std::vector<std::vector<std::complex<double>>> irreducible_characters(const Fini
 }
 
 struct LabelParts {
-  std::string letter;   // A, B, E, T, G, H
-  int number = 0;       // subscript; 0 for none
-  int parity = 0;       // 0 none, 1 g, 2 u, 3 ′, 4 ″
-  int lambda = -1;      // linear groups: Λ
-  int sigma_sign = 0;   // linear Σ: +1 / −1
+  std::string letter;  // A, B, E, T, G, H
+  int number = 0;      // subscript; 0 for none
+  int parity = 0;      // 0 none, 1 g, 2 u, 3 ′, 4 ″
+  int lambda = -1;     // linear groups: Λ
+  int sigma_sign = 0;  // linear Σ: +1 / −1
 };
 
 std::string letter_for_dimension(int d) {
   switch (d) {
-    case 1: return "A";
-    case 2: return "E";
-    case 3: return "T";
-    case 4: return "G";
-    case 5: return "H";
+    case 1:
+      return "A";
+    case 2:
+      return "E";
+    case 3:
+      return "T";
+    case 4:
+      return "G";
+    case 5:
+      return "H";
   }
   return "X" + std::to_string(d);
 }
@@ -406,7 +477,8 @@ PointGroup make_point_group(PointGroupFamily family, int axis_order, int linear_
   static std::mutex mutex;
   static std::map<std::tuple<int, int, int>, PointGroup> cache;
   const bool linear = family == PointGroupFamily::Cinfv || family == PointGroupFamily::Dinfh;
-  const auto key = std::make_tuple(static_cast<int>(family), linear ? 0 : axis_order, linear ? linear_axis_order : 0);
+  const auto key =
+      std::make_tuple(static_cast<int>(family), linear ? 0 : axis_order, linear ? linear_axis_order : 0);
   {
     std::lock_guard<std::mutex> lock(mutex);
     const auto it = cache.find(key);
@@ -435,8 +507,8 @@ PointGroup build_point_group(PointGroupFamily family, int axis_order, int linear
       break;
     case PointGroupFamily::S2n:
       if (n < 4 || n % 2 != 0 || n > 2 * kMaxAxisOrder)
-        throw Error("S_2n needs an even subscript between 4 and " + std::to_string(2 * kMaxAxisOrder) + ", got " +
-                    std::to_string(n));
+        throw Error("S_2n needs an even subscript between 4 and " + std::to_string(2 * kMaxAxisOrder) +
+                    ", got " + std::to_string(n));
       break;
     case PointGroupFamily::Cinfv:
     case PointGroupFamily::Dinfh:
@@ -448,10 +520,9 @@ PointGroup build_point_group(PointGroupFamily family, int axis_order, int linear
     default:
       n = 1;
   }
-  const PointGroupFamily finite_family =
-      family == PointGroupFamily::Cinfv ? PointGroupFamily::Cnv
-      : family == PointGroupFamily::Dinfh ? PointGroupFamily::Dnh
-                                          : family;
+  const PointGroupFamily finite_family = family == PointGroupFamily::Cinfv   ? PointGroupFamily::Cnv
+                                         : family == PointGroupFamily::Dinfh ? PointGroupFamily::Dnh
+                                                                             : family;
 
   PointGroup pg;
   pg.family = family;
@@ -461,7 +532,8 @@ PointGroup build_point_group(PointGroupFamily family, int axis_order, int linear
   pg.display_name = name_for(family, n, true);
   pg.finite_name = name_for(finite_family, n, false);
 
-  const FiniteGroup raw = FiniteGroup::generated_by(generators_for(finite_family, n), {}, kExactTolerance, 2000);
+  const FiniteGroup raw =
+      FiniteGroup::generated_by(generators_for(finite_family, n), {}, kExactTolerance, 2000);
   std::vector<OperationInfo> info;
   for (int a = 0; a < raw.order(); ++a) info.push_back(analyze_operation(raw.matrix(a)));
   const auto raw_classes = raw.conjugacy_classes();
@@ -475,7 +547,8 @@ PointGroup build_point_group(PointGroupFamily family, int axis_order, int linear
     });
   std::stable_sort(sorted_classes.begin(), sorted_classes.end(),
                    [&](const std::vector<int>& a, const std::vector<int>& b) {
-                     return class_key(finite_family, info[a.front()]) < class_key(finite_family, info[b.front()]);
+                     return class_key(finite_family, info[a.front()]) <
+                            class_key(finite_family, info[b.front()]);
                    });
 
   std::vector<std::string> used_labels;
@@ -566,7 +639,8 @@ PointGroup build_point_group(PointGroupFamily family, int axis_order, int linear
           break;
         }
       }
-      if (irrep.rows.size() != 2) throw Error("internal: complex irreducible character without its conjugate");
+      if (irrep.rows.size() != 2)
+        throw Error("internal: complex irreducible character without its conjugate");
     }
     for (int k = 0; k < class_count; ++k)
       irrep.characters.push_back(irrep.pair ? 2.0 * complex_table[a][k].real() : complex_table[a][k].real());
@@ -586,7 +660,8 @@ PointGroup build_point_group(PointGroupFamily family, int axis_order, int linear
     if (op.axis.isZero() || !parallel(op.axis, kZ)) continue;
     OperationInfo i = analyze_operation(op.matrix);
     if (op.proper) proper_order = std::max(proper_order, i.m);
-    if (!op.proper && i.kind == OperationKind::ImproperRotation) improper_order = std::max(improper_order, i.m);
+    if (!op.proper && i.kind == OperationKind::ImproperRotation)
+      improper_order = std::max(improper_order, i.m);
   }
   int principal = -1, principal_order = 1;
   if (is_axial(finite_family)) {
@@ -660,22 +735,28 @@ PointGroup build_point_group(PointGroupFamily family, int axis_order, int linear
   for (std::size_t a = 0; a < parts.size(); ++a) {
     if (parts[a].letter != "E" || !is_axial(finite_family)) continue;
     int same = 0;
-    for (std::size_t b = 0; b < parts.size(); ++b) same += parts[b].letter == "E" && parts[b].parity == parts[a].parity;
+    for (std::size_t b = 0; b < parts.size(); ++b)
+      same += parts[b].letter == "E" && parts[b].parity == parts[a].parity;
     if (same < 2 && !linear) parts[a].number = 0;
   }
 
   auto parity_suffix = [](int parity, bool typographic) -> std::string {
     switch (parity) {
-      case 1: return "g";
-      case 2: return "u";
-      case 3: return typographic ? "′" : "'";
-      case 4: return typographic ? "″" : "''";
+      case 1:
+        return "g";
+      case 2:
+        return "u";
+      case 3:
+        return typographic ? "′" : "'";
+      case 4:
+        return typographic ? "″" : "''";
     }
     return "";
   };
   auto mulliken = [&](const LabelParts& p, bool typographic) {
     std::string label = p.letter;
-    if (p.number > 0) label += typographic ? detail::subscript_digits(std::to_string(p.number)) : std::to_string(p.number);
+    if (p.number > 0)
+      label += typographic ? detail::subscript_digits(std::to_string(p.number)) : std::to_string(p.number);
     return label + parity_suffix(p.parity, typographic);
   };
 
@@ -687,7 +768,8 @@ PointGroup build_point_group(PointGroupFamily family, int axis_order, int linear
     if (linear)
       return std::make_tuple(px, x.lambda, -x.sigma_sign, x.number, x.letter) <
              std::make_tuple(py, y.lambda, -y.sigma_sign, y.number, y.letter);
-    return std::make_tuple(px, letter_rank(x.letter), x.number) < std::make_tuple(py, letter_rank(y.letter), y.number);
+    return std::make_tuple(px, letter_rank(x.letter), x.number) <
+           std::make_tuple(py, letter_rank(y.letter), y.number);
   });
 
   // Projection onto a species uses c·Σ_g χ(g)·D(g) with c = (complex dimension)/|G|.
@@ -698,14 +780,18 @@ PointGroup build_point_group(PointGroupFamily family, int axis_order, int linear
       return a;
     };
     const Eigen::Matrix3d xx = sym(0, 0), yy = sym(1, 1), zz = sym(2, 2);
-    return std::vector<std::pair<std::string, Eigen::Matrix3d>>{
-        {"x²", xx},           {"y²", yy},
-        {"z²", zz},           {"x²+y²", xx + yy},
-        {"x²−y²", xx - yy},   {"x²+y²+z²", xx + yy + zz},
-        {"2z²−x²−y²", 2 * zz - xx - yy}, {"xy", sym(0, 1)},
-        {"xz", sym(0, 2)},    {"yz", sym(1, 2)}};
+    return std::vector<std::pair<std::string, Eigen::Matrix3d>>{{"x²", xx},
+                                                                {"y²", yy},
+                                                                {"z²", zz},
+                                                                {"x²+y²", xx + yy},
+                                                                {"x²−y²", xx - yy},
+                                                                {"x²+y²+z²", xx + yy + zz},
+                                                                {"2z²−x²−y²", 2 * zz - xx - yy},
+                                                                {"xy", sym(0, 1)},
+                                                                {"xz", sym(0, 2)},
+                                                                {"yz", sym(1, 2)}};
   }();
-  const std::vector<std::string> quadratic_display_order = {"x²+y²+z²", "x²+y²", "x²", "y²", "z²",
+  const std::vector<std::string> quadratic_display_order = {"x²+y²+z²",  "x²+y²", "x²", "y²", "z²",
                                                             "2z²−x²−y²", "x²−y²", "xy", "xz", "yz"};
   constexpr double kMembership = 1e-8;
 
@@ -740,7 +826,8 @@ PointGroup build_point_group(PointGroupFamily family, int axis_order, int linear
       table.complex_characters.push_back(complex_table[row]);
     }
 
-    const double weight = (irrep.complex_pair ? irrep.dimension / 2 : irrep.dimension) / static_cast<double>(order);
+    const double weight =
+        (irrep.complex_pair ? irrep.dimension / 2 : irrep.dimension) / static_cast<double>(order);
     Eigen::Matrix3d vector_projector = Eigen::Matrix3d::Zero(), axial_projector = Eigen::Matrix3d::Zero();
     for (int g = 0; g < order; ++g) {
       const Eigen::Matrix3d& r = pg.operations[g].matrix;
@@ -787,11 +874,13 @@ PointGroup build_point_group(PointGroupFamily family, int axis_order, int linear
 
 PointGroup make_point_group(const std::string& name, int linear_axis_order) {
   static const std::map<std::string, PointGroupFamily> fixed = {
-      {"C1", PointGroupFamily::C1},    {"Cs", PointGroupFamily::Cs},       {"Ci", PointGroupFamily::Ci},
-      {"T", PointGroupFamily::T},      {"Td", PointGroupFamily::Td},       {"Th", PointGroupFamily::Th},
-      {"O", PointGroupFamily::O},      {"Oh", PointGroupFamily::Oh},       {"I", PointGroupFamily::I},
-      {"Ih", PointGroupFamily::Ih},    {"Cinfv", PointGroupFamily::Cinfv}, {"Dinfh", PointGroupFamily::Dinfh},
-      {"C∞v", PointGroupFamily::Cinfv}, {"D∞h", PointGroupFamily::Dinfh}};
+      {"C1", PointGroupFamily::C1},       {"Cs", PointGroupFamily::Cs},
+      {"Ci", PointGroupFamily::Ci},       {"T", PointGroupFamily::T},
+      {"Td", PointGroupFamily::Td},       {"Th", PointGroupFamily::Th},
+      {"O", PointGroupFamily::O},         {"Oh", PointGroupFamily::Oh},
+      {"I", PointGroupFamily::I},         {"Ih", PointGroupFamily::Ih},
+      {"Cinfv", PointGroupFamily::Cinfv}, {"Dinfh", PointGroupFamily::Dinfh},
+      {"C∞v", PointGroupFamily::Cinfv},   {"D∞h", PointGroupFamily::Dinfh}};
   const auto it = fixed.find(name);
   if (it != fixed.end()) return make_point_group(it->second, 1, linear_axis_order);
   const auto unknown = [&] {
@@ -822,8 +911,8 @@ PointGroup make_point_group(const std::string& name, int linear_axis_order) {
 
 std::vector<double> reduce_representation(const PointGroup& group, const std::vector<double>& characters) {
   if (static_cast<int>(characters.size()) != group.order())
-    throw Error("representation has " + std::to_string(characters.size()) + " characters, expected one per operation (" +
-                std::to_string(group.order()) + ")");
+    throw Error("representation has " + std::to_string(characters.size()) +
+                " characters, expected one per operation (" + std::to_string(group.order()) + ")");
   std::vector<double> multiplicities;
   for (const auto& irrep : group.character_table.irreps) {
     double overlap = 0.0, norm = 0.0;

@@ -33,13 +33,33 @@
 
 namespace overtone {
 
-enum class PointGroupFamily { C1, Cs, Ci, Cn, Cnv, Cnh, Dn, Dnh, Dnd, S2n, T, Td, Th, O, Oh, I, Ih, Cinfv, Dinfh };
+enum class PointGroupFamily {
+  C1,
+  Cs,
+  Ci,
+  Cn,
+  Cnv,
+  Cnh,
+  Dn,
+  Dnh,
+  Dnd,
+  S2n,
+  T,
+  Td,
+  Th,
+  O,
+  Oh,
+  I,
+  Ih,
+  Cinfv,
+  Dinfh
+};
 
 struct SymmetryOperation {
-  std::string name;           // typographic, e.g. "C₃²", "σv", "S₄³", "C₂′", "i"
-  std::string ascii_name;     // e.g. "C3^2", "sigma_v", "S4^3", "C2'", "i"
+  std::string name;        // typographic, e.g. "C₃²", "σv", "S₄³", "C₂′", "i"
+  std::string ascii_name;  // e.g. "C3^2", "sigma_v", "S4^3", "C2'", "i"
   Eigen::Matrix3d matrix = Eigen::Matrix3d::Identity();  // acts on column vectors, standard orientation
-  bool proper = true;         // det = +1
+  bool proper = true;                                    // det = +1
   // Axis of the rotation part: for proper R the rotation axis, for improper R the axis
   // of −R (the normal of a mirror plane, the axis of an S_n); zero for E and i.
   Eigen::Vector3d axis = Eigen::Vector3d::Zero();
@@ -52,14 +72,14 @@ struct Irrep {
   // For linear groups: the label of the finite stand-in group (e.g. "E1u" for "Pi_u");
   // otherwise equal to label.
   std::string finite_label;
-  int dimension = 1;          // real dimension (2 for a merged complex pair)
-  bool complex_pair = false;  // a real E made of two complex-conjugate 1-D irreps
-  std::vector<double> characters;                  // real characters per class
-  std::vector<std::string> linear_functions;       // subset of "x", "y", "z"
-  std::vector<std::string> rotations;              // subset of "Rx", "Ry", "Rz"
-  std::vector<std::string> quadratic_functions;    // typographic, e.g. "x²+y²", "z²", "xy"
-  bool ir_active = false;     // carries x, y or z
-  bool raman_active = false;  // carries a quadratic function
+  int dimension = 1;                             // real dimension (2 for a merged complex pair)
+  bool complex_pair = false;                     // a real E made of two complex-conjugate 1-D irreps
+  std::vector<double> characters;                // real characters per class
+  std::vector<std::string> linear_functions;     // subset of "x", "y", "z"
+  std::vector<std::string> rotations;            // subset of "Rx", "Ry", "Rz"
+  std::vector<std::string> quadratic_functions;  // typographic, e.g. "x²+y²", "z²", "xy"
+  bool ir_active = false;                        // carries x, y or z
+  bool raman_active = false;                     // carries a quadratic function
 };
 
 struct CharacterTable {
@@ -74,12 +94,12 @@ struct CharacterTable {
 };
 
 struct PointGroup {
-  std::string name;           // ASCII: "C2v", "D6h", "Td", "S8", "Dinfh", "Cinfv"
-  std::string display_name;   // typographic: "C₂v", "D₆h", "Td", "S₈", "D∞h", "C∞v"
+  std::string name;          // ASCII: "C2v", "D6h", "Td", "S8", "Dinfh", "Cinfv"
+  std::string display_name;  // typographic: "C₂v", "D₆h", "Td", "S₈", "D∞h", "C∞v"
   PointGroupFamily family = PointGroupFamily::C1;
-  int axis_order = 1;         // n of Cn, Cnv, Dnh, ...; 2n of S2n; m of the stand-in for linear groups
+  int axis_order = 1;  // n of Cn, Cnv, Dnh, ...; 2n of S2n; m of the stand-in for linear groups
   bool linear = false;
-  std::string finite_name;    // name of the finite group the operations form (e.g. "D8h" for "Dinfh")
+  std::string finite_name;  // name of the finite group the operations form (e.g. "D8h" for "Dinfh")
   std::vector<SymmetryOperation> operations;  // operations[0] is E
   std::vector<std::vector<int>> classes;      // operation indices; classes[0] = {0}
   CharacterTable character_table;

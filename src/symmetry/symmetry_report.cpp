@@ -64,8 +64,9 @@ std::string orientation_convention(const PointGroup& g) {
                                : "principal axis z; x in a σv plane";
     case PointGroupFamily::Dn:
     case PointGroupFamily::Dnh:
-      return g.axis_order == 2 ? "z along the C₂ through most atoms; planar molecules: x perpendicular to the plane"
-                               : "principal axis z; x along a C₂′ (the class through more atoms)";
+      return g.axis_order == 2
+                 ? "z along the C₂ through most atoms; planar molecules: x perpendicular to the plane"
+                 : "principal axis z; x along a C₂′ (the class through more atoms)";
     case PointGroupFamily::Dnd:
       return "principal axis z; x along a C₂′";
     case PointGroupFamily::T:
@@ -119,7 +120,8 @@ std::string format_symmetry_report(const PointGroupResult& result, const ModeSym
         const SymmetryOperation& op = g.operations[k];
         std::string axis = "—";
         if (!op.axis.isZero())
-          axis = "(" + fixed(op.axis.x(), 3) + ", " + fixed(op.axis.y(), 3) + ", " + fixed(op.axis.z(), 3) + ")";
+          axis =
+              "(" + fixed(op.axis.x(), 3) + ", " + fixed(op.axis.y(), 3) + ", " + fixed(op.axis.z(), 3) + ")";
         std::vector<int> images(result.permutations[k].begin(), result.permutations[k].end());
         out << "  " << pad_left(std::to_string(k + 1), 3) << "  " << pad_right(op.name, 9) << "  "
             << pad_right(table.class_labels[op.class_index], 11) << "  " << pad_right(axis, 24) << "  "
@@ -132,11 +134,11 @@ std::string format_symmetry_report(const PointGroupResult& result, const ModeSym
   }
 
   if (options.show_character_table) {
-    out << "\nCharacter table of " << (g.linear ? g.finite_name + " with the species of " + g.display_name
-                                                : g.display_name)
-        << "\n";
+    out << "\nCharacter table of "
+        << (g.linear ? g.finite_name + " with the species of " + g.display_name : g.display_name) << "\n";
     std::size_t label_width = 4;
-    for (const auto& irrep : table.irreps) label_width = std::max(label_width, display_width(irrep.display_label));
+    for (const auto& irrep : table.irreps)
+      label_width = std::max(label_width, display_width(irrep.display_label));
     std::vector<std::size_t> widths;
     for (std::size_t c = 0; c < table.class_labels.size(); ++c) {
       std::size_t w = display_width(table.class_labels[c]);
@@ -177,7 +179,8 @@ std::string format_symmetry_report(const PointGroupResult& result, const ModeSym
     if (table.irreps[k].ir_active) ir[k] = counts[k];
     if (table.irreps[k].raman_active) raman[k] = counts[k];
   }
-  out << "\nVibrational representation (from the geometry: 3N displacements minus translations and rotations)\n";
+  out << "\nVibrational representation (from the geometry: 3N displacements minus translations and "
+         "rotations)\n";
   out << "  Γvib = " << format_decomposition(g, counts, true) << "   (" << mode_total << " modes)\n";
   out << "  IR active: " << format_decomposition(g, ir, true) << "\n";
   out << "  Raman active: " << format_decomposition(g, raman, true) << "\n";
@@ -190,10 +193,10 @@ std::string format_symmetry_report(const PointGroupResult& result, const ModeSym
       const ModeSet& set = modes->sets[s];
       std::vector<std::string> members;
       for (int m : set.modes) members.push_back(std::to_string(m + 1));
-      out << "  " << pad_left(std::to_string(s + 1), 5) << "  " << pad_left(fixed(set.frequency_cm1, 2), 15) << "  "
-          << pad_right(set.display_species, 7) << "  " << pad_right(join(members, ","), 13) << "  "
-          << pad_right(set.ir_active ? "yes" : "no", 3) << " " << pad_right(set.raman_active ? "yes" : "no", 5) << "  "
-          << fixed(set.purity, 4) << "\n";
+      out << "  " << pad_left(std::to_string(s + 1), 5) << "  " << pad_left(fixed(set.frequency_cm1, 2), 15)
+          << "  " << pad_right(set.display_species, 7) << "  " << pad_right(join(members, ","), 13) << "  "
+          << pad_right(set.ir_active ? "yes" : "no", 3) << " "
+          << pad_right(set.raman_active ? "yes" : "no", 5) << "  " << fixed(set.purity, 4) << "\n";
     }
     out << "  " << modes->message << "\n";
     for (const auto& warning : modes->warnings) out << "  warning: " << warning << "\n";

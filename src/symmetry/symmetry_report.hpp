@@ -12,7 +12,7 @@
 namespace overtone {
 
 struct SymmetryReportOptions {
-  bool show_operations = true;       // the table of operations with axes and atom permutations
+  bool show_operations = true;  // the table of operations with axes and atom permutations
   bool show_character_table = true;
   // Operations tables are long for large groups; beyond this many operations only the
   // classes are listed.

@@ -82,9 +82,10 @@ void expect_exactly_symmetric(const PointGroupResult& r) {
   const int n = static_cast<int>(r.atomic_numbers.size());
   for (int g = 0; g < r.group.order(); ++g) {
     for (auto frame : {CoordinateFrame::Standard, CoordinateFrame::Input}) {
-      const Eigen::VectorXd& x =
-          frame == CoordinateFrame::Standard ? r.standard_coordinates_angstrom : r.symmetrized_coordinates_angstrom;
-      const Eigen::Vector3d c = frame == CoordinateFrame::Standard ? Eigen::Vector3d::Zero() : r.center_angstrom;
+      const Eigen::VectorXd& x = frame == CoordinateFrame::Standard ? r.standard_coordinates_angstrom
+                                                                    : r.symmetrized_coordinates_angstrom;
+      const Eigen::Vector3d c =
+          frame == CoordinateFrame::Standard ? Eigen::Vector3d::Zero() : r.center_angstrom;
       const Eigen::Matrix3d m = r.operation_matrix(g, frame);
       for (int i = 0; i < n; ++i) {
         const Eigen::Vector3d image = m * (x.segment<3>(3 * i) - c) + c;
@@ -102,14 +103,17 @@ TEST(DetectPointGroup, MoleculeFilesGiveTheirGroupAndVibrations) {
     EXPECT_EQ(r.group.name, e.group);
     EXPECT_LT(r.max_deviation_angstrom, kFileSymmetry);
     EXPECT_EQ(r.tolerance_angstrom, SymmetryOptions{}.tolerance_angstrom);
-    if (std::string(e.vibrations).size() > 0) EXPECT_EQ(vibrations(r), e.vibrations);
+    if (std::string(e.vibrations).size() > 0) {
+      EXPECT_EQ(vibrations(r), e.vibrations);
+    }
     // The name in the file is the expected group.
     EXPECT_NE(std::string(e.file).find(std::string(".") + e.group + "."), std::string::npos);
     expect_exactly_symmetric(r);
     // Vibrational count 3N − 6 (3N − 5 linear) from the characters.
     int dimension = 0;
     const auto counts = vibrational_decomposition(r);
-    for (std::size_t k = 0; k < counts.size(); ++k) dimension += counts[k] * r.group.character_table.irreps[k].dimension;
+    for (std::size_t k = 0; k < counts.size(); ++k)
+      dimension += counts[k] * r.group.character_table.irreps[k].dimension;
     EXPECT_EQ(dimension, 3 * static_cast<int>(r.atomic_numbers.size()) - (r.group.linear ? 5 : 6));
   }
 }
@@ -140,7 +144,9 @@ TEST(DetectPointGroup, RotatedJiggledAndReorderedCopiesKeepTheGroup) {
       EXPECT_LE(r.max_deviation_angstrom, r.tolerance_angstrom);
       // Per-atom noise is at most √3·kJiggle; symmetrization removes about that much.
       EXPECT_LE(r.max_deviation_angstrom, std::sqrt(3.0) * kJiggle + 1e-3);
-      if (std::string(e.vibrations).size() > 0) EXPECT_EQ(vibrations(r), e.vibrations);
+      if (std::string(e.vibrations).size() > 0) {
+        EXPECT_EQ(vibrations(r), e.vibrations);
+      }
       expect_exactly_symmetric(r);
     }
   }
@@ -149,7 +155,8 @@ TEST(DetectPointGroup, RotatedJiggledAndReorderedCopiesKeepTheGroup) {
 TEST(DetectPointGroup, TightToleranceRejectsNoisyCopies) {
   SymmetryOptions tight;
   tight.tolerance_angstrom = 1e-4;
-  const PointGroupResult r = detect_point_group(rotated_jiggled_shuffled(load("methane.Td.xyz"), 7, kJiggle), tight);
+  const PointGroupResult r =
+      detect_point_group(rotated_jiggled_shuffled(load("methane.Td.xyz"), 7, kJiggle), tight);
   EXPECT_NE(r.group.name, "Td");
   EXPECT_EQ(r.tolerance_angstrom, 1e-4);
 }
@@ -163,12 +170,18 @@ struct Distortion {
 
 TEST(DetectPointGroup, ClearlyDistortedCopiesGiveTheLowerGroup) {
   const std::vector<Distortion> cases = {
-      {"water.C2v.xyz", 0, 2, "Cs"},           {"ammonia.C3v.xyz", 0, 3, "Cs"},
-      {"methane.Td.xyz", 0, 4, "C3v"},         {"carbon_dioxide.Dinfh.xyz", 0, 2, "Cinfv"},
-      {"acetylene.Dinfh.xyz", 1, 3, "Cinfv"},  {"boron_trifluoride.D3h.xyz", 0, 3, "C2v"},
-      {"formaldehyde.C2v.xyz", 0, 3, "Cs"},    {"ethylene.D2h.xyz", 0, 2, "Cs"},
-      {"benzene.D6h.xyz", 0, 6, "C2v"},        {"sulfur_hexafluoride.Oh.xyz", 0, 1, "C4v"},
-      {"ethane_staggered.D3d.xyz", 0, 1, "C3v"}, {"allene.D2d.xyz", 0, 1, "C2v"},
+      {"water.C2v.xyz", 0, 2, "Cs"},
+      {"ammonia.C3v.xyz", 0, 3, "Cs"},
+      {"methane.Td.xyz", 0, 4, "C3v"},
+      {"carbon_dioxide.Dinfh.xyz", 0, 2, "Cinfv"},
+      {"acetylene.Dinfh.xyz", 1, 3, "Cinfv"},
+      {"boron_trifluoride.D3h.xyz", 0, 3, "C2v"},
+      {"formaldehyde.C2v.xyz", 0, 3, "Cs"},
+      {"ethylene.D2h.xyz", 0, 2, "Cs"},
+      {"benzene.D6h.xyz", 0, 6, "C2v"},
+      {"sulfur_hexafluoride.Oh.xyz", 0, 1, "C4v"},
+      {"ethane_staggered.D3d.xyz", 0, 1, "C3v"},
+      {"allene.D2d.xyz", 0, 1, "C2v"},
   };
   for (const auto& c : cases) {
     SCOPED_TRACE(c.file);
@@ -212,13 +225,14 @@ TEST(DetectPointGroup, IsotopesBreakSymmetry) {
 // clusters of four orbits test every family and axis order.
 TEST(DetectPointGroup, SyntheticClustersOfEveryFamily) {
   const std::vector<const char*> names = {
-      "C1",  "Cs",  "Ci",  "C2",  "C3",  "C4",  "C5",  "C6",  "C7",  "C8",  "C2v", "C3v", "C4v", "C5v", "C6v",
-      "C7v", "C8v", "C2h", "C3h", "C4h", "C5h", "C6h", "C8h", "D2",  "D3",  "D4",  "D5",  "D6",  "D7",  "D8",
-      "D2h", "D3h", "D4h", "D5h", "D6h", "D7h", "D8h", "D2d", "D3d", "D4d", "D5d", "D6d", "D8d", "S4",  "S6",
-      "S8",  "S10", "S12", "S16", "T",   "Th",  "Td",  "O",   "Oh",  "I",   "Ih"};
+      "C1",  "Cs",  "Ci",  "C2",  "C3",  "C4",  "C5",  "C6",  "C7",  "C8",  "C2v", "C3v", "C4v", "C5v",
+      "C6v", "C7v", "C8v", "C2h", "C3h", "C4h", "C5h", "C6h", "C8h", "D2",  "D3",  "D4",  "D5",  "D6",
+      "D7",  "D8",  "D2h", "D3h", "D4h", "D5h", "D6h", "D7h", "D8h", "D2d", "D3d", "D4d", "D5d", "D6d",
+      "D8d", "S4",  "S6",  "S8",  "S10", "S12", "S16", "T",   "Th",  "Td",  "O",   "Oh",  "I",   "Ih"};
   // Seeds chosen (by a search over random points) to keep every orbit's atoms apart.
-  const std::vector<Eigen::Vector3d> seeds = {Eigen::Vector3d(0.08, -1.58, -0.26), Eigen::Vector3d(-0.19, 1.78, 2.02),
-                                              Eigen::Vector3d(-2.97, -1.53, 1.81), Eigen::Vector3d(-1.75, 4.49, 0.89)};
+  const std::vector<Eigen::Vector3d> seeds = {
+      Eigen::Vector3d(0.08, -1.58, -0.26), Eigen::Vector3d(-0.19, 1.78, 2.02),
+      Eigen::Vector3d(-2.97, -1.53, 1.81), Eigen::Vector3d(-1.75, 4.49, 0.89)};
   for (const char* name : names) {
     SCOPED_TRACE(name);
     const PointGroup g = make_point_group(name);
@@ -228,7 +242,8 @@ TEST(DetectPointGroup, SyntheticClustersOfEveryFamily) {
       std::vector<Eigen::Vector3d> orbit;
       for (const auto& op : g.operations) {
         const Eigen::Vector3d p = op.matrix * seed;
-        if (std::none_of(orbit.begin(), orbit.end(), [&](const Eigen::Vector3d& q) { return (p - q).norm() < 1e-6; }))
+        if (std::none_of(orbit.begin(), orbit.end(),
+                         [&](const Eigen::Vector3d& q) { return (p - q).norm() < 1e-6; }))
           orbit.push_back(p);
       }
       for (const auto& p : orbit) {
@@ -260,31 +275,35 @@ TEST(DetectPointGroup, SyntheticClustersOfEveryFamily) {
 TEST(DetectPointGroup, StandardOrientation) {
   const PointGroupResult water = detect_point_group(rotated_jiggled_shuffled(load("water.C2v.xyz"), 3, 0.0));
   for (int i = 0; i < 3; ++i) EXPECT_NEAR(water.standard_coordinates_angstrom[3 * i], 0.0, kExactSymmetry);
-  const PointGroupResult ethylene = detect_point_group(rotated_jiggled_shuffled(load("ethylene.D2h.xyz"), 3, 0.0));
+  const PointGroupResult ethylene =
+      detect_point_group(rotated_jiggled_shuffled(load("ethylene.D2h.xyz"), 3, 0.0));
   for (int i = 0; i < 6; ++i) {
     EXPECT_NEAR(ethylene.standard_coordinates_angstrom[3 * i], 0.0, kExactSymmetry);  // plane yz
-    if (ethylene.atomic_numbers[i] == 6) {  // carbons on z
+    if (ethylene.atomic_numbers[i] == 6) {                                            // carbons on z
       EXPECT_NEAR(ethylene.standard_coordinates_angstrom[3 * i + 1], 0.0, kExactSymmetry);
       EXPECT_GT(std::abs(ethylene.standard_coordinates_angstrom[3 * i + 2]), 0.5);
     }
   }
-  const PointGroupResult benzene = detect_point_group(rotated_jiggled_shuffled(load("benzene.D6h.xyz"), 3, 0.0));
+  const PointGroupResult benzene =
+      detect_point_group(rotated_jiggled_shuffled(load("benzene.D6h.xyz"), 3, 0.0));
   int on_x = 0;
   for (int i = 0; i < 12; ++i) {
     EXPECT_NEAR(benzene.standard_coordinates_angstrom[3 * i + 2], 0.0, kExactSymmetry);  // plane xy
     on_x += std::abs(benzene.standard_coordinates_angstrom[3 * i + 1]) < kExactSymmetry;
   }
   EXPECT_EQ(on_x, 4);
-  const PointGroupResult ammonia = detect_point_group(rotated_jiggled_shuffled(load("ammonia.C3v.xyz"), 3, 0.0));
+  const PointGroupResult ammonia =
+      detect_point_group(rotated_jiggled_shuffled(load("ammonia.C3v.xyz"), 3, 0.0));
   for (int i = 0; i < 4; ++i)
     if (ammonia.atomic_numbers[i] == 7) {
       EXPECT_NEAR(ammonia.standard_coordinates_angstrom.segment<2>(3 * i).norm(), 0.0, kExactSymmetry);
     }
   // Standard coordinates are the rotated, centred symmetrized ones.
   for (int i = 0; i < 4; ++i)
-    EXPECT_LT((ammonia.standard_from_input * (ammonia.symmetrized_coordinates_angstrom.segment<3>(3 * i) -
-                                              ammonia.center_angstrom) -
-               ammonia.standard_coordinates_angstrom.segment<3>(3 * i)).norm(),
+    EXPECT_LT((ammonia.standard_from_input *
+                   (ammonia.symmetrized_coordinates_angstrom.segment<3>(3 * i) - ammonia.center_angstrom) -
+               ammonia.standard_coordinates_angstrom.segment<3>(3 * i))
+                  .norm(),
               kExactSymmetry);
 }
 

@@ -34,7 +34,9 @@ Eigen::MatrixXd flip2d() {
 
 const Eigen::Vector3d kZ(0, 0, 1), kDiagonal(1, 1, 1), kFiveFold(0, 1, kGolden);
 
-FiniteGroup d3_in_plane() { return FiniteGroup::generated_by({rotation2d(2 * kPi / 3), flip2d()}, {"C3", "σ"}); }
+FiniteGroup d3_in_plane() {
+  return FiniteGroup::generated_by({rotation2d(2 * kPi / 3), flip2d()}, {"C3", "σ"});
+}
 FiniteGroup cyclic4() { return FiniteGroup::generated_by({rotation(kZ, kPi / 2)}, {"C4"}); }
 FiniteGroup tetrahedral_rotations() {
   return FiniteGroup::generated_by({rotation(kZ, kPi), rotation(kDiagonal, 2 * kPi / 3)});
@@ -62,7 +64,8 @@ void expect_table_consistent(const FiniteGroup& g) {
   for (int a = 0; a < g.order(); ++a) {
     EXPECT_EQ(g.multiply(a, g.inverse(a)), g.identity());
     for (int b = 0; b < g.order(); ++b)
-      EXPECT_LT((g.matrix(g.multiply(a, b)) - g.matrix(a) * g.matrix(b)).cwiseAbs().maxCoeff(), kMatrixTolerance);
+      EXPECT_LT((g.matrix(g.multiply(a, b)) - g.matrix(a) * g.matrix(b)).cwiseAbs().maxCoeff(),
+                kMatrixTolerance);
   }
 }
 
@@ -81,10 +84,10 @@ TEST(FiniteGroup, OrdersAndClassCounts) {
     int order;
     int classes;
   };
-  std::vector<Case> cases = {{d3_in_plane(), 6, 3},          {cyclic4(), 4, 4},
-                             {tetrahedral_rotations(), 12, 4}, {full_tetrahedral(), 24, 5},
-                             {octahedral_full(), 48, 10},     {icosahedral_rotations(), 60, 5},
-                             {icosahedral_full(), 120, 10}};
+  std::vector<Case> cases = {
+      {d3_in_plane(), 6, 3},        {cyclic4(), 4, 4},           {tetrahedral_rotations(), 12, 4},
+      {full_tetrahedral(), 24, 5},  {octahedral_full(), 48, 10}, {icosahedral_rotations(), 60, 5},
+      {icosahedral_full(), 120, 10}};
   for (const auto& c : cases) {
     EXPECT_EQ(c.group.order(), c.order);
     EXPECT_EQ(static_cast<int>(c.group.conjugacy_classes().size()), c.classes) << "order " << c.order;
@@ -180,7 +183,8 @@ TEST(FiniteGroup, SubgroupsUpToConjugacy) {
       for (int g = 0; g < c.group.order(); ++g) {
         bool normalizes = true;
         for (int h : s.elements)
-          normalizes = normalizes && members.count(c.group.multiply(c.group.multiply(g, h), c.group.inverse(g)));
+          normalizes =
+              normalizes && members.count(c.group.multiply(c.group.multiply(g, h), c.group.inverse(g)));
         normalizer += normalizes;
       }
       EXPECT_EQ(s.conjugate_count * normalizer, c.group.order());
@@ -216,9 +220,10 @@ TEST(FiniteGroup, OneDimensionalCharacterCounts) {
     FiniteGroup group;
     int count;
   };
-  std::vector<Case> cases = {{cyclic4(), 4},           {d3_in_plane(), 2},     {tetrahedral_rotations(), 3},
-                             {full_tetrahedral(), 2}, {icosahedral_rotations(), 1}, {octahedral_full(), 4},
-                             {icosahedral_full(), 2}};
+  std::vector<Case> cases = {
+      {cyclic4(), 4},          {d3_in_plane(), 2},           {tetrahedral_rotations(), 3},
+      {full_tetrahedral(), 2}, {icosahedral_rotations(), 1}, {octahedral_full(), 4},
+      {icosahedral_full(), 2}};
   for (const auto& c : cases) {
     std::vector<int> all(c.group.order());
     std::iota(all.begin(), all.end(), 0);
@@ -241,7 +246,9 @@ TEST(FiniteGroup, CharactersOfEverySubgroupAreHomomorphisms) {
     const auto characters = one_dimensional_characters(g, h);
     expect_homomorphisms(g, h, characters);
     // Cyclic subgroups have |H| characters (closed form).
-    if (h.generators.size() == 1) EXPECT_EQ(characters.size(), h.elements.size());
+    if (h.generators.size() == 1) {
+      EXPECT_EQ(characters.size(), h.elements.size());
+    }
   }
 }
 

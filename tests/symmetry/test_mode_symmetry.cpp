@@ -77,12 +77,14 @@ void expect_consistent(const Analysis& a) {
                   kRepresentationTolerance);
       for (int h = 0; h < pg.order(); ++h) {
         const Eigen::MatrixXd product = set.operation_matrices[g] * set.operation_matrices[h];
-        ASSERT_LT((product - set.operation_matrices[f.multiply(g, h)]).cwiseAbs().maxCoeff(), kRepresentationTolerance);
+        ASSERT_LT((product - set.operation_matrices[f.multiply(g, h)]).cwiseAbs().maxCoeff(),
+                  kRepresentationTolerance);
       }
     }
     // The adapted basis spans the same space as the members.
     Eigen::MatrixXd members(set.adapted_modes.rows(), set.modes.size());
-    for (std::size_t k = 0; k < set.modes.size(); ++k) members.col(k) = a.harmonic.mass_weighted_modes.col(set.modes[k]);
+    for (std::size_t k = 0; k < set.modes.size(); ++k)
+      members.col(k) = a.harmonic.mass_weighted_modes.col(set.modes[k]);
     EXPECT_LT((members * members.transpose() - set.adapted_modes * set.adapted_modes.transpose()).norm(),
               kRepresentationTolerance);
   }
@@ -91,10 +93,10 @@ void expect_consistent(const Analysis& a) {
 }
 
 TEST(ModeSymmetry, GenericSymmetricHessiansGiveTheGeometryDecomposition) {
-  for (const char* file : {"water.C2v.xyz", "ammonia.C3v.xyz", "methane.Td.xyz", "carbon_dioxide.Dinfh.xyz",
-                           "acetylene.Dinfh.xyz", "boron_trifluoride.D3h.xyz", "benzene.D6h.xyz",
-                           "sulfur_hexafluoride.Oh.xyz", "boric_acid.C3h.xyz", "allene.D2d.xyz",
-                           "cyclooctasulfur.D4d.xyz", "buckminsterfullerene.Ih.xyz"}) {
+  for (const char* file :
+       {"water.C2v.xyz", "ammonia.C3v.xyz", "methane.Td.xyz", "carbon_dioxide.Dinfh.xyz",
+        "acetylene.Dinfh.xyz", "boron_trifluoride.D3h.xyz", "benzene.D6h.xyz", "sulfur_hexafluoride.Oh.xyz",
+        "boric_acid.C3h.xyz", "allene.D2d.xyz", "cyclooctasulfur.D4d.xyz", "buckminsterfullerene.Ih.xyz"}) {
     SCOPED_TRACE(file);
     expect_consistent(analyze_random(file));
   }
@@ -159,7 +161,8 @@ TEST(ModeSymmetry, ForceFieldHessians) {
     for (bool symmetrize : {false, true}) {
       Analysis a;
       a.group = group;
-      const Eigen::MatrixXd h = symmetrize ? symmetrize_cartesian_hessian(hessian.hessian, group) : hessian.hessian;
+      const Eigen::MatrixXd h =
+          symmetrize ? symmetrize_cartesian_hessian(hessian.hessian, group) : hessian.hessian;
       a.harmonic = analyze_normal_modes(molecule.coordinates(), molecule.masses(), h);
       a.species = assign_mode_species(group, a.harmonic);
       EXPECT_EQ(a.species.status, ModeSymmetryStatus::Assigned) << a.species.message;
@@ -196,7 +199,8 @@ TEST(ModeSymmetry, AdaptedPartnersTransformLikeCoordinates) {
   int c3 = -1, sigma_xz = -1;
   for (int g = 0; g < c3v.order(); ++g) {
     if (c3v.operations[g].name == "C₃") c3 = g;
-    if ((c3v.operations[g].matrix - Eigen::Vector3d(1, -1, 1).asDiagonal().toDenseMatrix()).norm() < 1e-12) sigma_xz = g;
+    if ((c3v.operations[g].matrix - Eigen::Vector3d(1, -1, 1).asDiagonal().toDenseMatrix()).norm() < 1e-12)
+      sigma_xz = g;
   }
   ASSERT_GE(c3, 0);
   ASSERT_GE(sigma_xz, 0);
@@ -205,8 +209,11 @@ TEST(ModeSymmetry, AdaptedPartnersTransformLikeCoordinates) {
     if (set.species != "E") continue;
     Eigen::Matrix2d expected;
     expected << std::cos(third), -std::sin(third), std::sin(third), std::cos(third);
-    EXPECT_LT((set.operation_matrices[c3] - Eigen::MatrixXd(expected)).cwiseAbs().maxCoeff(), kRepresentationTolerance);
-    EXPECT_LT((set.operation_matrices[sigma_xz] - Eigen::MatrixXd(Eigen::Vector2d(1, -1).asDiagonal())).cwiseAbs().maxCoeff(),
+    EXPECT_LT((set.operation_matrices[c3] - Eigen::MatrixXd(expected)).cwiseAbs().maxCoeff(),
+              kRepresentationTolerance);
+    EXPECT_LT((set.operation_matrices[sigma_xz] - Eigen::MatrixXd(Eigen::Vector2d(1, -1).asDiagonal()))
+                  .cwiseAbs()
+                  .maxCoeff(),
               kRepresentationTolerance);
   }
   const Analysis methane = analyze_random("methane.Td.xyz");
@@ -245,7 +252,8 @@ TEST(ModeSymmetry, AccidentalDegeneracyIsSplitByProjection) {
 TEST(ModeSymmetry, HarmonicDataInStandardOrientation) {
   // Turn the file away from any standard-looking orientation first.
   Molecule molecule = load("boron_trifluoride.D3h.xyz");
-  const Eigen::Matrix3d turn = Eigen::AngleAxisd(0.7, Eigen::Vector3d(1, 2, 3).normalized()).toRotationMatrix();
+  const Eigen::Matrix3d turn =
+      Eigen::AngleAxisd(0.7, Eigen::Vector3d(1, 2, 3).normalized()).toRotationMatrix();
   for (auto& atom : molecule.atoms) atom.position_angstrom = turn * atom.position_angstrom;
   const PointGroupResult r = detect_point_group(molecule);
   const Eigen::MatrixXd h = random_invariant_hessian(r, 3, CoordinateFrame::Standard);

@@ -22,17 +22,19 @@ const double kGolden = (1.0 + std::sqrt(5.0)) / 2.0;
 
 struct GroupCase {
   const char* name;
-  int order;  // closed form: |Cn| = n, |Cnv| = |Cnh| = |Dn| = 2n, |Dnh| = |Dnd| = 4n, |S2n| = 2n, T 12, Td/Th/O 24, Oh 48, I 60, Ih 120
+  int order;  // closed form: |Cn| = n, |Cnv| = |Cnh| = |Dn| = 2n, |Dnh| = |Dnd| = 4n, |S2n| = 2n, T 12,
+              // Td/Th/O 24, Oh 48, I 60, Ih 120
 };
 
 const std::vector<GroupCase> kGroups = {
-    {"C1", 1},   {"Cs", 2},   {"Ci", 2},   {"C2", 2},   {"C3", 3},   {"C4", 4},   {"C5", 5},   {"C6", 6},
-    {"C7", 7},   {"C8", 8},   {"C2v", 4},  {"C3v", 6},  {"C4v", 8},  {"C5v", 10}, {"C6v", 12}, {"C8v", 16},
-    {"C2h", 4},  {"C3h", 6},  {"C4h", 8},  {"C5h", 10}, {"C6h", 12}, {"C8h", 16}, {"D2", 4},   {"D3", 6},
-    {"D4", 8},   {"D5", 10},  {"D6", 12},  {"D7", 14},  {"D8", 16},  {"D2h", 8},  {"D3h", 12}, {"D4h", 16},
-    {"D5h", 20}, {"D6h", 24}, {"D8h", 32}, {"D2d", 8},  {"D3d", 12}, {"D4d", 16}, {"D5d", 20}, {"D6d", 24},
-    {"D8d", 32}, {"S4", 4},   {"S6", 6},   {"S8", 8},   {"S10", 10}, {"S12", 12}, {"S16", 16}, {"T", 12},
-    {"Td", 24},  {"Th", 24},  {"O", 24},   {"Oh", 48},  {"I", 60},   {"Ih", 120}, {"Cinfv", 16}, {"Dinfh", 32}};
+    {"C1", 1},   {"Cs", 2},   {"Ci", 2},   {"C2", 2},   {"C3", 3},   {"C4", 4},     {"C5", 5},
+    {"C6", 6},   {"C7", 7},   {"C8", 8},   {"C2v", 4},  {"C3v", 6},  {"C4v", 8},    {"C5v", 10},
+    {"C6v", 12}, {"C8v", 16}, {"C2h", 4},  {"C3h", 6},  {"C4h", 8},  {"C5h", 10},   {"C6h", 12},
+    {"C8h", 16}, {"D2", 4},   {"D3", 6},   {"D4", 8},   {"D5", 10},  {"D6", 12},    {"D7", 14},
+    {"D8", 16},  {"D2h", 8},  {"D3h", 12}, {"D4h", 16}, {"D5h", 20}, {"D6h", 24},   {"D8h", 32},
+    {"D2d", 8},  {"D3d", 12}, {"D4d", 16}, {"D5d", 20}, {"D6d", 24}, {"D8d", 32},   {"S4", 4},
+    {"S6", 6},   {"S8", 8},   {"S10", 10}, {"S12", 12}, {"S16", 16}, {"T", 12},     {"Td", 24},
+    {"Th", 24},  {"O", 24},   {"Oh", 48},  {"I", 60},   {"Ih", 120}, {"Cinfv", 16}, {"Dinfh", 32}};
 
 TEST(PointGroup, OrdersClassesAndOrthogonality) {
   for (const auto& c : kGroups) {
@@ -50,7 +52,8 @@ TEST(PointGroup, OrdersClassesAndOrthogonality) {
     for (const auto& a : table.complex_characters)
       for (const auto& b : table.complex_characters) {
         std::complex<double> sum = 0.0;
-        for (int k = 0; k < classes; ++k) sum += static_cast<double>(table.class_sizes[k]) * a[k] * std::conj(b[k]);
+        for (int k = 0; k < classes; ++k)
+          sum += static_cast<double>(table.class_sizes[k]) * a[k] * std::conj(b[k]);
         const double expected = &a == &b ? g.order() : 0.0;
         EXPECT_NEAR(std::abs(sum - expected), 0.0, kCharacterTolerance * g.order());
       }
@@ -65,7 +68,8 @@ TEST(PointGroup, OrdersClassesAndOrthogonality) {
     // The real table: merged pairs have characters 2·Re χ and norm 2; others norm 1.
     for (const auto& irrep : table.irreps) {
       double norm = 0.0;
-      for (int k = 0; k < classes; ++k) norm += table.class_sizes[k] * irrep.characters[k] * irrep.characters[k];
+      for (int k = 0; k < classes; ++k)
+        norm += table.class_sizes[k] * irrep.characters[k] * irrep.characters[k];
       EXPECT_NEAR(norm / g.order(), irrep.complex_pair ? 2.0 : 1.0, kCharacterTolerance) << irrep.label;
       EXPECT_NEAR(irrep.characters[0], irrep.dimension, kCharacterTolerance);
     }
@@ -75,10 +79,12 @@ TEST(PointGroup, OrdersClassesAndOrthogonality) {
     for (const auto& cls : g.classes) counted += static_cast<int>(cls.size());
     EXPECT_EQ(counted, g.order());
     for (const auto& op : g.operations)
-      EXPECT_LT((op.matrix.transpose() * op.matrix - Eigen::Matrix3d::Identity()).cwiseAbs().maxCoeff(), 1e-12);
+      EXPECT_LT((op.matrix.transpose() * op.matrix - Eigen::Matrix3d::Identity()).cwiseAbs().maxCoeff(),
+                1e-12);
     // Labels are unique.
     for (std::size_t a = 0; a < table.irreps.size(); ++a)
-      for (std::size_t b = a + 1; b < table.irreps.size(); ++b) EXPECT_NE(table.irreps[a].label, table.irreps[b].label);
+      for (std::size_t b = a + 1; b < table.irreps.size(); ++b)
+        EXPECT_NE(table.irreps[a].label, table.irreps[b].label);
   }
 }
 
@@ -134,8 +140,8 @@ TEST(PointGroup, MullikenLabelsMatchTextbook) {
       {"Ih", {"Ag", "T1g", "T2g", "Gg", "Hg", "Au", "T1u", "T2u", "Gu", "Hu"}},
       {"Cinfv", {"Sigma+", "Sigma-", "Pi", "Delta", "Phi", "Gamma(B1)", "Gamma(B2)"}},
       {"Dinfh",
-       {"Sigma_g+", "Sigma_g-", "Pi_g", "Delta_g", "Phi_g", "Gamma_g(B1g)", "Gamma_g(B2g)", "Sigma_u+", "Sigma_u-",
-        "Pi_u", "Delta_u", "Phi_u", "Gamma_u(B1u)", "Gamma_u(B2u)"}},
+       {"Sigma_g+", "Sigma_g-", "Pi_g", "Delta_g", "Phi_g", "Gamma_g(B1g)", "Gamma_g(B2g)", "Sigma_u+",
+        "Sigma_u-", "Pi_u", "Delta_u", "Phi_u", "Gamma_u(B1u)", "Gamma_u(B2u)"}},
   };
   for (const auto& [name, expected] : cases) EXPECT_EQ(labels(make_point_group(name)), expected) << name;
 }
@@ -292,7 +298,8 @@ TEST(PointGroup, RegularRepresentationReduces) {
     const auto counts = reduce_representation(g, regular);
     for (std::size_t k = 0; k < counts.size(); ++k) {
       const Irrep& irrep = g.character_table.irreps[k];
-      EXPECT_NEAR(counts[k], irrep.complex_pair ? irrep.dimension / 2 : irrep.dimension, 1e-9) << name << irrep.label;
+      EXPECT_NEAR(counts[k], irrep.complex_pair ? irrep.dimension / 2 : irrep.dimension, 1e-9)
+          << name << irrep.label;
     }
   }
 }

@@ -8,10 +8,13 @@ namespace overtone {
 namespace {
 
 PointGroupResult detect_file(const std::string& file) {
-  return detect_point_group(read_molecule(std::string(OVERTONE_SOURCE_DIR) + "/tests/data/symmetry/" + file).molecule);
+  return detect_point_group(
+      read_molecule(std::string(OVERTONE_SOURCE_DIR) + "/tests/data/symmetry/" + file).molecule);
 }
 
-bool contains(const std::string& text, const std::string& part) { return text.find(part) != std::string::npos; }
+bool contains(const std::string& text, const std::string& part) {
+  return text.find(part) != std::string::npos;
+}
 
 TEST(SymmetryReport, ShowsGroupTableAndVibrations) {
   const std::string text = format_symmetry_report(detect_file("boron_trifluoride.D3h.xyz"));
