@@ -93,6 +93,8 @@ void validate(const ForceConstantOptions& options) {
   if (!(options.symmetry_tolerance > 0.0))
     throw Error(fmt::format("force-constant option symmetry_tolerance must be positive, got {}",
                             options.symmetry_tolerance));
+  if (!(options.reuse_tolerance > 0.0))
+    throw Error(fmt::format("force-constant option reuse_tolerance must be positive, got {}", options.reuse_tolerance));
   if (!(options.minimum_frequency_cm1 > 0.0))
     throw Error(fmt::format("force-constant option minimum_frequency_cm1 must be positive (cm-1), got {}",
                             options.minimum_frequency_cm1));
@@ -447,9 +449,15 @@ ForceConstantResult compute_force_constants(const Potential& potential, const Ha
         symmetry.point_group.empty() ? "given" : symmetry.point_group, symmetry.representation_error,
         options.symmetry_tolerance));
 
+  result.symmetry_reused_hessians = result.symmetry_used && symmetry.representation_error <= options.reuse_tolerance;
+  if (result.symmetry_used && !result.symmetry_reused_hessians)
+    result.warnings.push_back(fmt::format(
+        "displaced Hessians were not reused through the point group: its matrices on the normal coordinates deviate "
+        "by {:.2g}, above {:.2g} (symmetrize the geometry and Hessian before the harmonic analysis)",
+        symmetry.representation_error, options.reuse_tolerance));
   const detail::NormalCoordinateFrame frame(harmonic);
   const std::vector<Eigen::MatrixXd> operations = cleaned_operations(symmetry);
-  DisplacedEvaluator evaluator(potential, frame, result.symmetry_used ? &operations : nullptr, options.step);
+  DisplacedEvaluator evaluator(potential, frame, result.symmetry_reused_hessians ? &operations : nullptr, options.step);
   const double h = options.step;
   result.full_quartic = m <= options.full_quartic_max_modes;
   result.method = potential.has_analytic_hessian() ? "analytic Hessians"

@@ -90,9 +90,15 @@ struct ForceConstantOptions {
   // operation, to set constants that must vanish to exactly zero and to make degenerate
   // partners consistent.
   bool use_symmetry = true;
-  // The group is used only if its matrices on the normal coordinates are exact to this
-  // (largest deviation, dimensionless; see ModeSymmetry::representation_error).
-  double symmetry_tolerance = 1e-5;
+  // The group is used (averaging, zeroing, species) only if its matrices on the normal
+  // coordinates are exact to this (largest deviation, dimensionless; see
+  // ModeSymmetry::representation_error). Averaging with matrices this far off moves the
+  // constants by about that fraction.
+  double symmetry_tolerance = 1e-3;
+  // Displaced Hessians are reused through an operation only if the matrices are exact to
+  // this: a reused Hessian carries an error of about tolerance·ω into φ ≈ ΔH/(2h), i.e.
+  // 1e-8·4000 cm⁻¹/0.04 = 1e-3 cm⁻¹. A symmetrized geometry and Hessian give ~1e-12.
+  double reuse_tolerance = 1e-8;
   // Modes below this harmonic wavenumber (cm⁻¹), or imaginary ones, make the stage stop
   // with status not_a_minimum: dimensionless coordinates need ω well above zero.
   double minimum_frequency_cm1 = 5.0;
@@ -111,6 +117,7 @@ struct ForceConstantResult {
   bool full_quartic = false;         // all φ_ijkl computed
   ModeSymmetry symmetry;             // the group data used (trivial if none)
   bool symmetry_used = false;        // false if not given, disabled or not exact enough
+  bool symmetry_reused_hessians = false;  // displaced Hessians were reused through the group
 
   std::string method;                // "analytic Hessians" or "Hessians from central differences of gradients"
   double step = 0.0;                 // h actually used (dimensionless)

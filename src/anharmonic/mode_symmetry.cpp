@@ -7,6 +7,7 @@
 #include <fmt/format.h>
 
 #include "core/error.hpp"
+#include "core/units.hpp"
 
 namespace overtone {
 
@@ -56,11 +57,18 @@ void assign_species(ModeSymmetry& symmetry) {
       for (int mode : members) trace += r(mode, mode);
       characters.push_back(trace);
     }
-    const std::string label = detail::species_label(symmetry, characters);
-    // A set must carry exactly one irrep; a sum means the modes were grouped wrongly.
-    if (label.find('+') != std::string::npos || (!label.empty() && std::isdigit(static_cast<unsigned char>(label[0]))))
-      continue;
-    for (int mode : members) symmetry.species[static_cast<std::size_t>(mode)] = label;
+    // A set must carry exactly one irrep once; anything else means the modes were grouped
+    // wrongly, and the species stays unknown.
+    const std::vector<double> multiplicities = detail::irrep_multiplicities(symmetry, characters);
+    int found = -1, total = 0;
+    bool integral = true;
+    for (std::size_t k = 0; k < multiplicities.size(); ++k) {
+      integral = integral && multiplicities[k] == std::round(multiplicities[k]);
+      total += static_cast<int>(std::round(multiplicities[k]));
+      if (multiplicities[k] == 1.0) found = static_cast<int>(k);
+    }
+    if (!integral || total != 1 || found < 0) continue;
+    for (int mode : members) symmetry.species[static_cast<std::size_t>(mode)] = symmetry.irreps[static_cast<std::size_t>(found)].label;
   }
 }
 
@@ -169,6 +177,57 @@ ModeSymmetry mode_symmetry_from_operations(const HarmonicResult& harmonic,
   return symmetry;
 }
 
+SymmetryAdaptedHarmonic adapt_to_point_group(const HarmonicResult& harmonic, const PointGroupResult& group,
+                                             const ModeSymmetryResult& species) {
+  const Eigen::Index n = harmonic.mass_weighted_modes.rows();
+  const int m = static_cast<int>(harmonic.mode_count());
+  if (species.modes.size() != static_cast<std::size_t>(m))
+    throw Error(fmt::format("the mode species cover {} modes, the harmonic result has {}", species.modes.size(), m));
+  if (static_cast<Eigen::Index>(3 * group.permutations.front().size()) != n)
+    throw Error(fmt::format("the point group is for {} atoms, the harmonic result for {}", group.permutations.front().size(),
+                            n / 3));
+  SymmetryAdaptedHarmonic result;
+  HarmonicResult& adapted = result.harmonic;
+  adapted = harmonic;
+  for (const auto& set : species.sets) {
+    if (set.modes.size() < 2 || set.adapted_modes.cols() != static_cast<Eigen::Index>(set.modes.size()) ||
+        set.adapted_modes.rows() != n)
+      continue;
+    for (std::size_t c = 0; c < set.modes.size(); ++c) {
+      const int k = set.modes[c];
+      adapted.mass_weighted_modes.col(k) = set.adapted_modes.col(static_cast<Eigen::Index>(c));
+      Eigen::VectorXd cartesian(n);
+      for (Eigen::Index r = 0; r < n; ++r) cartesian[r] = adapted.mass_weighted_modes(r, k) / std::sqrt(harmonic.masses_da[r / 3]);
+      const double squared_norm = cartesian.squaredNorm();
+      adapted.cartesian_displacements.col(k) = cartesian / std::sqrt(squared_norm);
+      adapted.reduced_masses_da[k] = 1.0 / squared_norm;
+      adapted.force_constants_mdyn_per_angstrom[k] =
+          adapted.eigenvalues[k] * adapted.reduced_masses_da[k] * units::mdyn_per_angstrom_per_kcal_mol_per_angstrom2;
+    }
+  }
+  std::vector<CartesianSymmetryOperation> operations;
+  for (int g = 0; g < group.group.order(); ++g) {
+    CartesianSymmetryOperation op;
+    op.name = group.group.operations[static_cast<std::size_t>(g)].ascii_name;
+    op.matrix = group.operation_matrix(g, species.frame);
+    op.atom_permutation = group.permutations[static_cast<std::size_t>(g)];
+    operations.push_back(op);
+  }
+  std::vector<SpeciesCharacters> irreps;
+  for (const auto& irrep : group.group.character_table.irreps) {
+    SpeciesCharacters characters;
+    characters.label = irrep.label;
+    characters.ir_active = irrep.ir_active;
+    characters.raman_active = irrep.raman_active;
+    for (const auto& op : group.group.operations)
+      characters.characters.push_back(irrep.characters[static_cast<std::size_t>(op.class_index)]);
+    irreps.push_back(characters);
+  }
+  result.symmetry = mode_symmetry_from_operations(adapted, operations, irreps);
+  result.symmetry.point_group = group.group.name;
+  return result;
+}
+
 namespace detail {
 
 double subspace_character(const Eigen::MatrixXd& representation, const Eigen::MatrixXd& basis) {
@@ -205,7 +264,7 @@ std::string species_label(const ModeSymmetry& symmetry, const std::vector<double
     const double count = multiplicities[k];
     if (count != std::round(count) || count < 0.0) return "";
     if (count == 0.0) continue;
-    if (!label.empty()) label += "+";
+    if (!label.empty()) label += " + ";
     if (count > 1.0) label += fmt::format("{}", static_cast<int>(count));
     label += symmetry.irreps[k].label;
   }

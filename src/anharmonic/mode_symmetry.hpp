@@ -17,6 +17,8 @@
 #include <vector>
 
 #include "harmonic/harmonic.hpp"
+#include "symmetry/detect_point_group.hpp"
+#include "symmetry/mode_symmetry.hpp"
 
 namespace overtone {
 
@@ -73,6 +75,20 @@ ModeSymmetry mode_symmetry_from_operations(const HarmonicResult& harmonic,
                                            const std::vector<SpeciesCharacters>& irreps = {},
                                            double block_tolerance = 1e-3);
 
+// The harmonic result with the modes of every degenerate set replaced by the symmetry
+// stage's symmetry-adapted partners (ModeSet::adapted_modes), and the group's action on
+// those modes with the character table (labels in ASCII, e.g. "A1", "Pi_u"). Mode order
+// and frequencies are unchanged; per-mode quantities of replaced modes (Cartesian
+// displacements, reduced masses, force constants) are recomputed. The harmonic geometry
+// must be the symmetrized one the species were assigned at (representation_error tells
+// how exact the group is on the modes). Throws Error when the sizes disagree.
+struct SymmetryAdaptedHarmonic {
+  HarmonicResult harmonic;
+  ModeSymmetry symmetry;
+};
+SymmetryAdaptedHarmonic adapt_to_point_group(const HarmonicResult& harmonic, const PointGroupResult& group,
+                                             const ModeSymmetryResult& species);
+
 namespace detail {
 
 // Character of operation g on the space spanned by the given orthonormal columns of a
@@ -83,7 +99,7 @@ double subspace_character(const Eigen::MatrixXd& representation, const Eigen::Ma
 // operation): (1/|G|) Σ_g χ(g) χ_Γ(g). Rounded to the nearest integer when within 1e-3.
 std::vector<double> irrep_multiplicities(const ModeSymmetry& symmetry, const std::vector<double>& characters);
 
-// "A1", "A1+E", "2A1+B2" from the characters; "" without a character table or when the
+// "A1", "A1 + E", "2A1 + B2" from the characters; "" without a character table or when the
 // decomposition is not integral.
 std::string species_label(const ModeSymmetry& symmetry, const std::vector<double>& characters);
 

@@ -6,10 +6,13 @@
 #include <string>
 #include <vector>
 
+#include "anharmonic/mode_symmetry.hpp"
 #include "harmonic/harmonic.hpp"
 #include "molecule/read_molecule.hpp"
 #include "potential/potential.hpp"
 #include "potential/valence_force_field.hpp"
+#include "symmetry/detect_point_group.hpp"
+#include "symmetry/mode_symmetry.hpp"
 
 namespace overtone::testing {
 
@@ -49,6 +52,35 @@ inline PreparedMolecule prepare(const std::string& molecule_file, const std::str
   p.potential = load_valence_force_field(source_path("potentials/" + potential_file), p.molecule);
   p.harmonic = harmonic_at_minimum(*p.potential, p.molecule.coordinates(), p.molecule.masses());
   p.molecule.set_coordinates(p.harmonic.coordinates_angstrom);
+  return p;
+}
+
+// The same with the point group: the geometry symmetrized by the symmetry stage, polished
+// by Newton steps (which keep an exact symmetry of the potential), the Hessian averaged
+// over the group, species assigned and the degenerate modes rotated into symmetry-adapted
+// partners.
+struct PreparedSymmetricMolecule {
+  Molecule molecule;
+  std::unique_ptr<Potential> potential;
+  PointGroupResult group;
+  ModeSymmetryResult species;
+  SymmetryAdaptedHarmonic adapted;
+};
+
+inline PreparedSymmetricMolecule prepare_symmetric(const std::string& molecule_file, const std::string& potential_file,
+                                                   const std::vector<IsotopeChoice>& isotopes) {
+  ReadOptions options;
+  options.isotopes = isotopes;
+  PreparedSymmetricMolecule p;
+  p.molecule = read_molecule(source_path("molecules/" + molecule_file), options).molecule;
+  p.potential = load_valence_force_field(source_path("potentials/" + potential_file), p.molecule);
+  p.group = detect_point_group(p.molecule);
+  HarmonicResult h = harmonic_at_minimum(*p.potential, p.group.symmetrized_coordinates_angstrom, p.molecule.masses());
+  h = analyze_normal_modes(h.coordinates_angstrom, h.masses_da,
+                           symmetrize_cartesian_hessian(h.cartesian_hessian, p.group));
+  p.species = assign_mode_species(p.group, h);
+  p.adapted = adapt_to_point_group(h, p.group, p.species);
+  p.molecule.set_coordinates(h.coordinates_angstrom);
   return p;
 }
 
