@@ -166,24 +166,63 @@ bool starts_with(const std::string& text, const std::string& prefix) {
   return text.compare(0, prefix.size(), prefix) == 0;
 }
 
-std::string operation_phrase(const std::string& label) {
-  if (starts_with(label, "σ") || starts_with(label, "sigma")) return "the mirror plane " + label;
-  if (starts_with(label, "C")) return "the rotation " + label;
-  if (starts_with(label, "S")) return "the rotoreflection " + label;
-  if (label == "i") return "the inversion centre i";
-  return "the operation " + label;
+// A power such as C₃² or S₄³ (typographic superscript or ASCII ^): prose names the axis
+// by its first power only.
+bool is_higher_power(const std::string& label) {
+  for (const char* mark : {"²", "³", "⁴", "⁵", "⁶", "⁷", "⁸", "⁹", "^"})
+    if (label.find(mark) != std::string::npos) return true;
+  return false;
 }
 
+// Which operation prose should name as the one that shifts the orbit in time: for half a
+// period a mirror plane, then the inversion, then a rotation; for rotating motions a
+// proper rotation first. Lower is preferred.
+int shift_preference(const std::string& label, int denominator) {
+  int kind = 3;
+  if (starts_with(label, "σ") || starts_with(label, "sigma")) kind = denominator == 2 ? 0 : 2;
+  else if (label == "i") kind = 1;
+  else if (starts_with(label, "C")) kind = denominator == 2 ? 2 : 0;
+  else if (starts_with(label, "S")) kind = denominator == 2 ? 3 : 1;
+  return 2 * kind + (is_higher_power(label) ? 1 : 0);
+}
+
+// "the mirror plane σv", or with count > 1 "three mirror planes σv".
+std::string operation_phrase(const std::string& label, int count = 1) {
+  static const char* numbers[] = {"", "one", "two", "three", "four", "five", "six", "seven", "eight", "nine",
+                                  "ten", "eleven", "twelve"};
+  const std::string amount = count <= 1 ? "the" : count <= 12 ? numbers[count] : std::to_string(count);
+  const bool plural = count > 1;
+  if (starts_with(label, "σ") || starts_with(label, "sigma"))
+    return amount + (plural ? " mirror planes " : " mirror plane ") + label;
+  if (starts_with(label, "C")) return amount + (plural ? " rotations " : " rotation ") + label;
+  if (starts_with(label, "S")) return amount + (plural ? " rotoreflections " : " rotoreflection ") + label;
+  if (label == "i") return "the inversion centre i";
+  return amount + (plural ? " operations " : " operation ") + label;
+}
+
+// The non-identity operations, grouped by label (mirror planes first, then rotations,
+// rotoreflections, the rest), as a short list.
 std::string phrase_list(const std::vector<std::string>& labels) {
-  constexpr std::size_t shown = 3;
-  std::vector<std::string> phrases;
-  for (std::size_t k = 0; k < labels.size() && k < shown; ++k) phrases.push_back(operation_phrase(labels[k]));
-  std::string text;
-  for (std::size_t k = 0; k < phrases.size(); ++k) {
-    if (k > 0) text += (k + 1 == phrases.size() && labels.size() <= shown) ? " and " : ", ";
-    text += phrases[k];
+  std::vector<std::pair<std::string, int>> groups;
+  for (const auto& label : labels) {
+    auto found = std::find_if(groups.begin(), groups.end(), [&](const auto& g) { return g.first == label; });
+    if (found == groups.end()) groups.emplace_back(label, 1);
+    else ++found->second;
   }
-  if (labels.size() > shown) text += fmt::format(" and {} more", labels.size() - shown);
+  auto rank = [](const std::string& label) {
+    if (starts_with(label, "σ") || starts_with(label, "sigma")) return 0;
+    if (starts_with(label, "C")) return 1;
+    if (starts_with(label, "S")) return 2;
+    return 3;
+  };
+  std::stable_sort(groups.begin(), groups.end(), [&](const auto& x, const auto& y) { return rank(x.first) < rank(y.first); });
+  constexpr std::size_t shown = 3;
+  std::string text;
+  for (std::size_t k = 0; k < groups.size() && k < shown; ++k) {
+    if (k > 0) text += (k + 1 == std::min(groups.size(), shown) && groups.size() <= shown) ? " and " : ", ";
+    text += operation_phrase(groups[k].first, groups[k].second);
+  }
+  if (groups.size() > shown) text += " and other operations";
   return text;
 }
 
@@ -197,7 +236,7 @@ std::string period_fraction(int numerator, int denominator) {
   return fmt::format("{}/{} of a period", numerator, denominator);
 }
 
-std::string describe(const FamilyType& family, const std::vector<std::string>& kept_generators,
+std::string describe(const FamilyType& family, const std::vector<std::string>& kept_operations,
                      const PhasedElement* shift, bool whole_group_kept, int block_dimension) {
   std::string text;
   if (family.standing) {
@@ -212,12 +251,17 @@ std::string describe(const FamilyType& family, const std::vector<std::string>& k
                           period_fraction(shift->numerator, shift->denominator));
     text += ", carrying vibrational angular momentum";
   }
-  if (whole_group_kept) {
-    text += kept_generators.empty() ? "" : "; every symmetry operation keeps it";
-  } else if (!kept_generators.empty()) {
-    text += (shift != nullptr || !family.standing ? "; it keeps " : " that keeps ") + phrase_list(kept_generators);
+  if (block_dimension == 1) {
+    // A nondegenerate mode: the kept operations are those of its species; naming them
+    // adds nothing.
+    if (whole_group_kept) text += " that every symmetry operation keeps";
+    return text + " (the one family of a nondegenerate mode)";
   }
-  if (block_dimension == 1) text += " (the one family of a nondegenerate mode)";
+  if (whole_group_kept) {
+    text += " that every symmetry operation keeps";
+  } else if (!kept_operations.empty()) {
+    text += (shift != nullptr || !family.standing ? "; it keeps " : " that keeps ") + phrase_list(kept_operations);
+  }
   return text;
 }
 
@@ -450,10 +494,11 @@ FamilyEnumeration enumerate_families(const std::vector<ModeBlock>& blocks, const
       const PhasedElement* shift = nullptr;
       if (r > 1) {
         for (int j = 0; j < h_order; ++j)
-          if (candidate.numerators[j] == static_cast<int>(kernel.size())) {
+          if (candidate.numerators[j] == static_cast<int>(kernel.size()) &&
+              (shift == nullptr || shift_preference(family.subgroup[j].label, r) <
+                                       shift_preference(shift->label, r))) {
             family.seed.shift_matrix = symmetry.matrices[subgroup.elements[j]];
             shift = &family.subgroup[j];
-            break;
           }
       }
       family.seed.linear_mode = v;
@@ -469,9 +514,8 @@ FamilyEnumeration enumerate_families(const std::vector<ModeBlock>& blocks, const
       }
 
       std::vector<std::string> kept;
-      if (kernel.size() > 1)
-        for (const int generator : subgroup_generated_by(group, kernel).generators)
-          if (generator != group.identity()) kept.push_back(labels[generator]);
+      for (const int element : kernel)
+        if (element != group.identity() && !is_higher_power(labels[element])) kept.push_back(labels[element]);
       const bool whole_group_kept = static_cast<int>(kernel.size()) == order && order > 1;
       family.description = describe(family, kept, shift, whole_group_kept, d);
 

@@ -60,9 +60,9 @@ class ScaledEquations {
 }  // namespace
 
 OrbitIntegrator::OrbitIntegrator(const VibrationalSystem& system, Eigen::MatrixXd basis, double tolerance,
-                                 double escape_radius, std::size_t max_steps)
-    : system_(system), basis_(std::move(basis)), tolerance_(tolerance), escape_radius_(escape_radius),
-      max_steps_(max_steps) {}
+                                 double variational_tolerance, double escape_radius, std::size_t max_steps)
+    : system_(system), basis_(std::move(basis)), tolerance_(tolerance), variational_tolerance_(variational_tolerance),
+      escape_radius_(escape_radius), max_steps_(max_steps) {}
 
 Eigen::VectorXd OrbitIntegrator::positions(const Eigen::VectorXd& scaled_state, const OrbitScaling& scaling) const {
   const int m = reduced_dimension();
@@ -106,7 +106,9 @@ IntegrationOutcome OrbitIntegrator::integrate(const IntegrationRequest& request,
   }
 
   ScaledEquations equations(system_, basis_, variational, scaling);
-  auto stepper = odeint::make_controlled(tolerance_, tolerance_, odeint::runge_kutta_fehlberg78<State>());
+  const double tolerance = variational ? variational_tolerance_ : tolerance_;
+  auto stepper = odeint::make_controlled(tolerance, tolerance, odeint::runge_kutta_fehlberg78<State>());
+  double& hint = variational ? variational_step_hint_ : step_hint_;
 
   IntegrationOutcome outcome;
   const double duration = request.duration;
@@ -116,7 +118,7 @@ IntegrationOutcome OrbitIntegrator::integrate(const IntegrationRequest& request,
     outcome.samples.push_back(request.scaled_state);
   }
   double t = 0.0;
-  double dt = step_hint_ > 0.0 ? step_hint_ * duration : duration / 64.0;
+  double dt = hint > 0.0 ? hint * duration : duration / 64.0;
   const double finish_slack = 1e-13 * duration;  // round-off in accumulated times
   bool ok = true;
   for (int target_index = 1; target_index <= targets && ok; ++target_index) {
@@ -152,7 +154,7 @@ IntegrationOutcome OrbitIntegrator::integrate(const IntegrationRequest& request,
     t = target;
     if (ok && request.sample_count > 0) outcome.samples.push_back(Eigen::Map<const Eigen::VectorXd>(x.data(), 2 * m));
   }
-  if (ok && outcome.steps > 0) step_hint_ = dt / duration;
+  if (ok && outcome.steps > 0) hint = dt / duration;
 
   outcome.ok = ok;
   outcome.scaled_state = Eigen::Map<const Eigen::VectorXd>(x.data(), 2 * m);

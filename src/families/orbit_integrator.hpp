@@ -60,10 +60,12 @@ struct IntegrationCounters {
 class OrbitIntegrator {
  public:
   // tolerance: relative and absolute error per step of the controlled
-  // Runge–Kutta–Fehlberg 7(8) stepper on the O(1) scaled state.
+  // Runge–Kutta–Fehlberg 7(8) stepper on the O(1) scaled state; variational_tolerance the
+  // same for integrations with variational equations (their results feed Jacobians and
+  // Floquet multipliers, which need far less accuracy than the orbit itself).
   // escape_radius: |q| (unit of q) beyond which the orbit counts as escaped.
-  OrbitIntegrator(const VibrationalSystem& system, Eigen::MatrixXd basis, double tolerance, double escape_radius,
-                  std::size_t max_steps);
+  OrbitIntegrator(const VibrationalSystem& system, Eigen::MatrixXd basis, double tolerance,
+                  double variational_tolerance, double escape_radius, std::size_t max_steps);
 
   IntegrationOutcome integrate(const IntegrationRequest& request, const OrbitScaling& scaling);
 
@@ -83,9 +85,11 @@ class OrbitIntegrator {
   const VibrationalSystem& system_;
   Eigen::MatrixXd basis_;
   double tolerance_;
+  double variational_tolerance_;
   double escape_radius_;
   std::size_t max_steps_;
-  double step_hint_ = 0.0;     // last accepted step divided by the duration
+  double step_hint_ = 0.0;              // last accepted step / duration, orbit only
+  double variational_step_hint_ = 0.0;  // the same with variational equations
   double period_ = 0.0;
   IntegrationCounters counters_;
 };

@@ -53,6 +53,8 @@ void validate(const ContinuationOptions& o) {
           o.start_energy_fraction, "in (0, 1)");
   require(o.integration_tolerance >= 1e-15 && o.integration_tolerance <= 1e-6, "integration_tolerance",
           o.integration_tolerance, "in [1e-15, 1e-6]");
+  require(o.variational_tolerance >= o.integration_tolerance && o.variational_tolerance <= 1e-6,
+          "variational_tolerance", o.variational_tolerance, "between integration_tolerance and 1e-6");
   require(o.closure_tolerance > 0.0 && o.closure_tolerance < 1e-2, "closure_tolerance", o.closure_tolerance,
           "in (0, 1e-2)");
   require(o.closure_tolerance >= 10.0 * o.integration_tolerance, "closure_tolerance", o.closure_tolerance,
@@ -297,7 +299,8 @@ FamilySolver::FamilySolver(const VibrationalSystem& system, const FamilySeed& se
   const double softest = frequencies.size() > 0 ? frequencies.minCoeff() : omega_;
   if (!(softest > 0.0)) throw Error(fmt::format("harmonic angular frequencies must be positive, got {}", softest));
   escape_radius_ = options.escape_radius_factor * std::sqrt(2.0 * options.energy_max) / softest;
-  integrator_.emplace(system, basis_, options.integration_tolerance, escape_radius_, options.max_integration_steps);
+  integrator_.emplace(system, basis_, options.integration_tolerance, options.variational_tolerance, escape_radius_,
+                      options.max_integration_steps);
 }
 
 Eigen::VectorXd FamilySolver::scaled_state(const Unknowns& u, double length) const {
@@ -611,6 +614,7 @@ ContinuationResult FamilySolver::run() {
     if (!result.points.empty()) build_ladder(result);
     const auto& counters = integrator_->counters();
     result.gradient_evaluations = system_.counts().gradients - gradients_before;
+    result.integration_steps = counters.steps;
     result.seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - started).count();
     if (counters.full_variational_periods > 0.0)
       result.seconds_per_variational_period = counters.full_variational_seconds / counters.full_variational_periods;
@@ -786,9 +790,10 @@ ContinuationResult FamilySolver::run() {
       }
       continue;
     }
-    // Step-size control from the corrector's effort (chord steps converge linearly, so a
-    // good predictor still takes three or four).
-    if (corrected.iterations <= 4) step = std::min(options_.max_step, 1.5 * trial_step);
+    // Step-size control from the corrector's effort: with the predictor's residual
+    // evaluation and Broyden-updated chord steps a comfortable step takes about five
+    // integrations.
+    if (corrected.iterations <= 5) step = std::min(options_.max_step, 1.5 * trial_step);
     else if (corrected.iterations >= 7) step = std::max(options_.min_step, 0.6 * trial_step);
     else step = std::max(trial_step, std::min(step, options_.max_step));
     spent_iterations = spent_variational = spent_orbits = 0;

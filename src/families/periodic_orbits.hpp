@@ -66,6 +66,10 @@ struct ContinuationOptions {
   // Relative and absolute local error per step of the integrator on the O(1)-scaled
   // state (positions / amplitude, momenta / (ω·amplitude)).
   double integration_tolerance = 1e-12;
+  // The same for integrations with variational equations (Newton Jacobians, Floquet
+  // multipliers): errors there slow Newton slightly and move multipliers by about this
+  // much, far below stability_tolerance.
+  double variational_tolerance = 1e-9;
   // Newton stops when every component of the scaled shooting residual (positions and
   // momenta divided by the amplitude and ω·amplitude) and the energy residual divided by
   // the harmonic energy scale ω²·amplitude² are below this. Dimensionless.
@@ -169,6 +173,11 @@ struct FamilyEvent {
   double energy = 0.0;              // estimate, system units
   double energy_cm1 = 0.0;
   std::string message;
+  // resonance_encounter only: the other family (index in FamiliesResult::families) and
+  // the ratio ω_this : ω_other = ratio_numerator : ratio_denominator being passed.
+  int partner_family = -1;
+  int ratio_numerator = 0;
+  int ratio_denominator = 0;
 };
 
 struct LadderLevel {
@@ -195,6 +204,7 @@ struct ContinuationResult {
   int variational_integrations = 0;
   int orbit_integrations = 0;
   int rejected_steps = 0;           // continuation steps retried with a smaller step
+  std::size_t integration_steps = 0;  // accepted integrator steps, all integrations
   std::size_t gradient_evaluations = 0;
   double seconds = 0.0;
   // Mean time of one period with whole-space variational equations (the benchmark's

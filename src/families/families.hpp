@@ -1,0 +1,78 @@
+#pragma once
+// The families stage as one call: enumerate the symmetry-predicted families of every
+// block of normal coordinates, continue each in energy, and flag resonance encounters
+// between families. Works for any VibrationalSystem with a CoordinateSymmetry; the
+// molecular entry point builds both from the harmonic and symmetry stages.
+//
+// Text and CSV renderings: families_report.hpp. Field reference: docs/families.md.
+#include <string>
+#include <vector>
+
+#include "families/family_types.hpp"
+#include "families/molecular_system.hpp"
+#include "families/periodic_orbits.hpp"
+#include "families/vibrational_system.hpp"
+
+namespace overtone {
+
+struct FamiliesOptions {
+  // Energy range of every family, measured from the minimum. Exactly one of the two:
+  // energy_max_cm1 > 0: that energy (cm⁻¹ via the system's UnitConventions);
+  // quanta > 0: (quanta + 1)·ħω of the family's own block, enough for the semiclassical
+  // ladder to reach level `quanta` unless the mode hardens strongly.
+  double energy_max_cm1 = 0.0;
+  double quanta = 0.0;
+  // Continue only the families of blocks containing one of these mode numbers (empty: all).
+  // The other families are still enumerated and reported without backbones.
+  std::vector<int> mode_numbers;
+  bool continue_families = true;         // false: enumeration and resonance threats only
+  EnumerationOptions enumeration;
+  ContinuationOptions continuation;      // energy_max is set per family from the fields above
+  // Resonance encounters between two continued families: their frequency ratio passes
+  // p:q with 1 ≤ p, q ≤ encounter_max_ratio (coprime) at equal energy.
+  int encounter_max_ratio = 3;
+
+  // Throws Error naming the field when a value is out of range (the continuation options
+  // are checked per family, once energy_max is known).
+  void validate() const;
+};
+
+struct FamilyResult {
+  FamilyType type;
+  bool continued = false;                // false: not selected, or continue_families off
+  double energy_max = 0.0;               // system units, the range it was continued to
+  double energy_max_cm1 = 0.0;
+  ContinuationResult backbone;           // empty unless continued
+};
+
+struct FamiliesResult {
+  std::string system_description;
+  UnitConventions units;
+  std::vector<ModeBlock> blocks;
+  std::vector<FamilyResult> families;    // by block (ascending frequency), then larger subgroups first
+  std::vector<std::string> notes;        // model assumptions the report must state
+  std::vector<std::string> warnings;
+  // Totals over all continued families:
+  int points = 0;
+  int newton_iterations = 0;
+  int variational_integrations = 0;
+  int orbit_integrations = 0;
+  std::size_t gradient_evaluations = 0;
+  double seconds = 0.0;
+};
+
+// Throws Error for invalid options or inconsistent system, blocks and symmetry (see
+// enumerate_families and continue_family).
+FamiliesResult compute_families(const VibrationalSystem& system, const std::vector<ModeBlock>& blocks,
+                                const CoordinateSymmetry& symmetry, const FamiliesOptions& options);
+
+// Molecules: the system of MolecularVibrationalSystem, the symmetry of
+// molecular_coordinate_symmetry and the blocks of molecular_mode_blocks (species and
+// report numbers from mode_order, see there). Adds the note that rotation–vibration
+// coupling is neglected.
+FamiliesResult compute_molecular_families(const Potential& potential, const HarmonicResult& harmonic,
+                                          const PointGroupResult& group, const ModeSymmetryResult& species,
+                                          const std::vector<int>& mode_order, const FamiliesOptions& options,
+                                          const MolecularSystemOptions& system_options = {});
+
+}  // namespace overtone

@@ -1,0 +1,104 @@
+#pragma once
+// Molecules as VibrationalSystems, and the symmetry data the families need from the
+// symmetry stage.
+//
+// The Hamiltonian is H = ½|P|² + V(Q) with
+//     V(Q) = E(x_eq + M^{-1/2} L Q) − E(x_eq) − g_eq · M^{-1/2} L Q
+// in the rectilinear vibrational normal coordinates Q (Å·Da^½) of a HarmonicResult
+// (L = mass_weighted_modes). Rotation–vibration coupling is neglected (rectilinear
+// normal coordinates of a non-rotating molecule). The last term removes the residual
+// gradient g_eq of the optimized geometry so that Q = 0 is exactly stationary; its size
+// is reported by residual_gradient_norm().
+#include <Eigen/Dense>
+#include <string>
+#include <vector>
+
+#include "families/family_types.hpp"
+#include "families/vibrational_system.hpp"
+#include "harmonic/harmonic.hpp"
+#include "potential/potential.hpp"
+#include "symmetry/detect_point_group.hpp"
+#include "symmetry/mode_symmetry.hpp"
+
+namespace overtone {
+
+// How Hessian–vector products H·D (D with k columns) are formed.
+enum class HessianProducts {
+  // The cheaper of the two per call, from the cost of one analytic Hessian against
+  // 2·min(k, n) gradients measured once at construction (potentials without an
+  // analytic Hessian always use differences). Results agree to ~1e-7 relative.
+  automatic,
+  analytic,             // the potential's analytic Hessian (Error if it has none)
+  finite_differences,   // central differences of gradients
+};
+
+struct MolecularSystemOptions {
+  HessianProducts hessian_products = HessianProducts::automatic;
+  // Largest atomic displacement (Å) of a central-difference step along a unit normal
+  // coordinate: truncation error ~ step²·|V''''|, round-off ~ ε·|∇V|/step; 1e-3 Å keeps
+  // both near 1e-7 relative for force fields in double precision.
+  double finite_difference_step_angstrom = 1e-3;
+};
+
+class MolecularVibrationalSystem : public VibrationalSystem {
+ public:
+  // Keeps references to potential (must outlive this object); copies what it needs from
+  // harmonic. Throws Error for size mismatches or a harmonic frequency that is not
+  // positive (a saddle point or an unconverged structure).
+  MolecularVibrationalSystem(const Potential& potential, const HarmonicResult& harmonic,
+                             const MolecularSystemOptions& options = {});
+
+  std::string description() const override;
+  int dimension() const override { return static_cast<int>(frequencies_.size()); }
+  Eigen::VectorXd harmonic_angular_frequencies() const override { return frequencies_; }
+  UnitConventions units() const override { return molecular_unit_conventions(); }
+  int continuous_symmetry_count() const override { return linear_ ? 1 : 0; }
+  Eigen::VectorXd cartesian_displacement_angstrom(const Eigen::VectorXd& q) const override;
+
+  // |g_eq projected on the vibrational coordinates|, kcal/mol/(Å·Da^½).
+  double residual_gradient_norm() const { return residual_gradient_.norm(); }
+  // "analytic", "finite differences" or "analytic or finite differences, whichever is
+  // cheaper per call" (automatic with both available).
+  std::string hessian_method() const;
+  // M^{-1/2} L, 3N × n: Cartesian displacement (Å) per unit normal coordinate.
+  const Eigen::MatrixXd& displacement_matrix() const { return displacement_; }
+
+ protected:
+  double compute_potential(const Eigen::VectorXd& q) const override;
+  void compute_gradient(const Eigen::VectorXd& q, Eigen::VectorXd& g) const override;
+  void compute_hessian_times(const Eigen::VectorXd& q, const Eigen::MatrixXd& directions,
+                             Eigen::MatrixXd& out) const override;
+  double hessian_step() const override { return step_; }
+
+ private:
+  const Potential& potential_;
+  Eigen::VectorXd equilibrium_;
+  Eigen::MatrixXd displacement_;      // C = M^{-1/2} L
+  Eigen::VectorXd frequencies_;
+  Eigen::VectorXd residual_gradient_; // Cᵀ g_eq
+  double reference_energy_ = 0.0;
+  bool linear_ = false;
+  bool analytic_available_ = false;
+  // Use the analytic Hessian for k directions when k ≥ analytic_threshold_ (measured).
+  int analytic_threshold_ = 0;
+  double step_ = 1e-3;
+  mutable Eigen::VectorXd cartesian_gradient_;
+};
+
+// The point group acting on the normal coordinates: D(g) = Lᵀ R(g) L with R(g) the action
+// of operation g (matrix and atom permutation) on mass-weighted Cartesian displacements,
+// in the frame where the harmonic data were found. Each D(g) is replaced by the nearest
+// orthogonal matrix (polar factor) to absorb the residual asymmetry of an optimized
+// geometry. For linear molecules the generator of rotations about the molecular axis is
+// added. Throws Error when the sizes disagree or a D(g) is far from orthogonal (the
+// harmonic geometry does not have the group's symmetry).
+CoordinateSymmetry molecular_coordinate_symmetry(const PointGroupResult& group, const HarmonicResult& harmonic,
+                                                 CoordinateFrame frame);
+
+// Blocks of normal coordinates from the symmetry stage's degenerate sets, with species
+// labels and report numbers: mode_order[k] is the harmonic index of reported mode k+1
+// (AnalysisResult::mode_order); empty: numbers are harmonic index + 1.
+std::vector<ModeBlock> molecular_mode_blocks(const ModeSymmetryResult& species, const HarmonicResult& harmonic,
+                                             const std::vector<int>& mode_order = {});
+
+}  // namespace overtone

@@ -1,0 +1,306 @@
+// Families of molecules through the same engine: the molecular adapter (HCl Morse), the
+// predicted family types of ammonia, methane, carbon dioxide and water from their point
+// groups, and the predicted spatio-temporal symmetry checked on computed trajectories.
+#include <gtest/gtest.h>
+
+#include <cmath>
+#include <map>
+#include <tuple>
+
+#include "core/error.hpp"
+#include "families/families.hpp"
+#include "families/families_report.hpp"
+#include "harmonic/harmonic.hpp"
+#include "molecule/read_molecule.hpp"
+#include "potential/make_potential.hpp"
+#include "symmetry/detect_point_group.hpp"
+#include "symmetry/mode_symmetry.hpp"
+
+namespace overtone {
+namespace {
+
+const std::string source_dir = OVERTONE_SOURCE_DIR;
+
+// Morse backbone and ladder through the adapter: the 1e-5 and 0.01 cm⁻¹.
+constexpr double kMorseFrequencyRelative = 1e-5;
+constexpr double kLadderCm1 = 0.01;
+// Trajectory symmetry, closure and energy conservation (dimensionless): Newton stops at
+// 1e-9 and the integrator runs at 1e-12 per step.
+constexpr double kSymmetryResidual = 1e-7;
+constexpr double kClosure = 1e-8;
+constexpr double kEnergyDrift = 1e-9;
+// Newton steps on the analytic Hessian stop at this RMS gradient (kcal/mol/Å): far below
+// what the orbits' forces (~1 kcal/mol/Å) feel.
+constexpr double kMinimumGradient = 1e-9;
+
+struct Prepared {
+  Molecule molecule;
+  std::unique_ptr<Potential> potential;
+  HarmonicResult harmonic;
+  PointGroupResult group;
+  ModeSymmetryResult species;
+};
+
+// The families stage does not link the optimizer; the shipped valence force fields have
+// analytic Hessians, so a few Newton steps (rigid-body directions dropped) find the minimum.
+Eigen::VectorXd newton_minimum(const Potential& potential, Eigen::VectorXd x) {
+  Eigen::VectorXd gradient;
+  for (int iteration = 0; iteration < 30; ++iteration) {
+    potential.energy_and_gradient(x, gradient);
+    if (std::sqrt(gradient.squaredNorm() / gradient.size()) < kMinimumGradient) return x;
+    Eigen::SelfAdjointEigenSolver<Eigen::MatrixXd> solver(potential.hessian(x));
+    const double largest = solver.eigenvalues().cwiseAbs().maxCoeff();
+    Eigen::VectorXd step = Eigen::VectorXd::Zero(x.size());
+    for (Eigen::Index k = 0; k < x.size(); ++k) {
+      const double lambda = solver.eigenvalues()(k);
+      if (std::abs(lambda) > 1e-8 * largest)
+        step -= solver.eigenvectors().col(k) * (solver.eigenvectors().col(k).dot(gradient) / std::abs(lambda));
+    }
+    x += step;
+  }
+  ADD_FAILURE() << "newton did not reach the minimum";
+  return x;
+}
+
+Prepared prepare(const std::string& molecule_file, const std::string& potential_file,
+                 const std::vector<IsotopeChoice>& isotopes = {}) {
+  Prepared p;
+  ReadOptions options;
+  options.isotopes = isotopes;
+  p.molecule = read_molecule(source_dir + "/molecules/" + molecule_file, options).molecule;
+  p.potential = make_potential(source_dir + "/potentials/" + potential_file, p.molecule);
+  p.molecule.set_coordinates(newton_minimum(*p.potential, p.molecule.coordinates()));
+  const Eigen::VectorXd x = p.molecule.coordinates();
+  p.harmonic = analyze_normal_modes(x, p.molecule.masses(), p.potential->hessian(x));
+  p.group = detect_point_group(p.molecule);
+  p.species = assign_mode_species(p.group, p.harmonic);
+  return p;
+}
+
+// Small and quick: one quantum, coarse backbones, no Floquet multipliers.
+FamiliesOptions quick_options() {
+  FamiliesOptions options;
+  options.quanta = 1.0;
+  options.continuation.start_energy_fraction = 0.05;
+  options.continuation.max_energy_step_fraction = 0.34;
+  options.continuation.max_step = 1.0;
+  options.continuation.compute_floquet = false;
+  options.continuation.ladder_max_level = 0;
+  return options;
+}
+
+void expect_orbits_keep_their_symmetry(const FamiliesResult& result) {
+  for (const FamilyResult& family : result.families) {
+    if (!family.continued) continue;
+    EXPECT_EQ(family.backbone.status, ContinuationStatus::reached_energy_max)
+        << family.type.description << ": " << family.backbone.message;
+    EXPECT_GE(family.backbone.points.size(), 3u);
+    for (const OrbitPoint& point : family.backbone.points) {
+      EXPECT_LT(point.symmetry_residual, kSymmetryResidual) << family.type.description << " at " << point.energy_cm1;
+      EXPECT_LT(point.closure_error, kClosure) << family.type.description;
+      EXPECT_LT(point.energy_drift, kEnergyDrift) << family.type.description;
+      EXPECT_GT(point.amplitude_angstrom, 0.0);
+    }
+  }
+}
+
+// Family types of one block as (subgroup order, copies, standing, time-shift denominator).
+using TypeKey = std::tuple<int, int, bool, int>;
+std::multiset<TypeKey> types_of_block(const FamiliesResult& result, int first_mode_number) {
+  std::multiset<TypeKey> keys;
+  for (const FamilyResult& family : result.families)
+    if (family.type.mode_numbers.front() == first_mode_number)
+      keys.insert({static_cast<int>(family.type.subgroup.size()), family.type.copies, family.type.standing,
+                   family.type.seed.shift_denominator});
+  return keys;
+}
+
+TEST(MolecularFamilies, HydrogenChlorideMorseThroughTheMolecularAdapter) {
+  // ¹H³⁵Cl, the isotopologue the shipped potential's constants refer to.
+  const Prepared p = prepare("hcl.xyz", "hcl-morse.toml", {{1, 1}, {2, 35}});
+  // ω_e = 2990.946 cm⁻¹, ω_e x_e = 52.8186 cm⁻¹ (K. P. Huber and G. Herzberg, Constants of
+  // Diatomic Molecules (1979), H³⁵Cl X ¹Σ⁺); D_e = ω_e²/(4 ω_e x_e) for the Morse model.
+  const double omega_e = 2990.946, omega_e_x_e = 52.8186;
+  const double depth = omega_e * omega_e / (4.0 * omega_e_x_e);
+  FamiliesOptions options;
+  options.energy_max_cm1 = 0.5 * depth;
+  const FamiliesResult result =
+      compute_molecular_families(*p.potential, p.harmonic, p.group, p.species, {}, options);
+  ASSERT_EQ(result.families.size(), 1u);
+  const ContinuationResult& backbone = result.families[0].backbone;
+  ASSERT_EQ(backbone.status, ContinuationStatus::reached_energy_max) << backbone.message;
+  const double omega0 = backbone.points.front().frequency_cm1 /
+                        std::sqrt(1.0 - backbone.points.front().energy_cm1 / depth);
+  EXPECT_NEAR(omega0, omega_e, 1e-3);  // the potential reproduces ω_e (its header: to ~1e-9 relative)
+  for (const OrbitPoint& point : backbone.points) {
+    // ω(E) = ω_e sqrt(1 − E/D_e) (Morse, Phys. Rev. 34, 57 (1929)).
+    EXPECT_NEAR(point.frequency_cm1 / (omega_e * std::sqrt(1.0 - point.energy_cm1 / depth)), 1.0,
+                kMorseFrequencyRelative);
+    // The rectilinear stretch of a diatomic is its bond stretch: the H atom moves most.
+    EXPECT_GT(point.amplitude_angstrom, 0.0);
+  }
+  // E_n = ω_e(n+½) − ω_e x_e(n+½)² (Morse 1929): transitions E_n − E_0.
+  auto level = [&](int n) { return omega_e * (n + 0.5) - omega_e_x_e * (n + 0.5) * (n + 0.5); };
+  ASSERT_GE(backbone.ladder.size(), 8u);
+  for (const LadderLevel& rung : backbone.ladder)
+    EXPECT_NEAR(rung.transition_cm1, level(rung.n) - level(0), kLadderCm1) << "n = " << rung.n;
+}
+
+TEST(MolecularFamilies, AmmoniaDegenerateModesHaveThreeTypesWithTheirSymmetry) {
+  const Prepared p = prepare("ammonia.xyz", "ammonia.toml");
+  ASSERT_EQ(p.group.group.name, "C3v");
+  FamiliesOptions options = quick_options();
+  const FamiliesResult result = compute_molecular_families(*p.potential, p.harmonic, p.group, p.species, {}, options);
+  // C3v ≅ D3 acting on E as on R²: the three types of Golubitsky, Stewart and Schaeffer
+  // (1988, ch. XVIII) for dihedral D_n with n odd: rotating (Z̃3: order 3, two senses),
+  // standing in a mirror plane (D1: order 2, three planes), standing that a mirror maps
+  // to itself half a period later (Z̃2: order 2, three copies). 2A1 + 2E: 1+1+3+3 families.
+  ASSERT_EQ(result.families.size(), 8u);
+  const std::multiset<TypeKey> expected = {{3, 2, false, 3}, {2, 3, true, 1}, {2, 3, true, 2}};
+  int degenerate_blocks = 0;
+  for (const ModeBlock& block : result.blocks) {
+    if (block.coordinates.size() == 1) {
+      EXPECT_EQ(types_of_block(result, block.mode_numbers.front()).size(), 1u);
+      continue;
+    }
+    ++degenerate_blocks;
+    EXPECT_EQ(block.species, "E");
+    EXPECT_EQ(types_of_block(result, block.mode_numbers.front()), expected);
+  }
+  EXPECT_EQ(degenerate_blocks, 2);
+  expect_orbits_keep_their_symmetry(result);
+}
+
+TEST(MolecularFamilies, MethaneTripleAndDoubleDegenerateModesHaveTheirPredictedTypes) {
+  const Prepared p = prepare("methane.xyz", "methane.toml");
+  ASSERT_EQ(p.group.group.name, "Td");
+  FamiliesOptions options = quick_options();
+  // Continue the lower T2 block and the E block (the upper T2 block repeats the types).
+  std::vector<int> lower_t2, e_block;
+  for (const ModeSet& set : p.species.sets) {
+    if (set.species == "E") e_block = set.modes;
+    if (set.species == "T2" && lower_t2.empty()) lower_t2 = set.modes;
+  }
+  ASSERT_EQ(lower_t2.size(), 3u);
+  ASSERT_EQ(e_block.size(), 2u);
+  options.mode_numbers = {lower_t2.front() + 1, e_block.front() + 1};
+  const FamiliesResult result = compute_molecular_families(*p.potential, p.harmonic, p.group, p.species, {}, options);
+  // Td acting on T2 (as on the Cartesian x, y, z), twisted isotropy subgroups with a
+  // one-dimensional fixed space, derived by hand from the subgroup lattice of Td (common
+  // practice, no source): standing along a twofold (S4) axis (D2d-type, order 8, 3 axes,
+  // C2 about a perpendicular axis shifts by half a period); standing along a threefold axis
+  // (C3v, 4 axes); rotating about an S4 axis (S4 advancing a quarter period, 3 axes × 2
+  // senses); standing along a twofold direction within a mirror plane (C2v-type, order 4,
+  // 6 directions); rotating about a threefold axis (C3 advancing a third, 4 × 2).
+  const std::multiset<TypeKey> t2 = {{8, 3, true, 2}, {6, 4, true, 1}, {4, 6, false, 4}, {4, 6, true, 2},
+                                     {3, 8, false, 3}};
+  // Td acts on E through Td/D2 ≅ D3: the three dihedral types, each with D2 kept.
+  const std::multiset<TypeKey> e = {{12, 2, false, 3}, {8, 3, true, 1}, {8, 3, true, 2}};
+  int t2_blocks = 0;
+  for (const ModeBlock& block : result.blocks) {
+    if (block.species == "T2") {
+      ++t2_blocks;
+      EXPECT_EQ(types_of_block(result, block.mode_numbers.front()), t2);
+    } else if (block.species == "E") {
+      EXPECT_EQ(types_of_block(result, block.mode_numbers.front()), e);
+    }
+  }
+  EXPECT_EQ(t2_blocks, 2);
+  EXPECT_EQ(result.families.size(), 14u);  // 5 + 5 + 3 + 1
+  int continued = 0;
+  for (const FamilyResult& family : result.families) continued += family.continued ? 1 : 0;
+  EXPECT_EQ(continued, 8);
+  expect_orbits_keep_their_symmetry(result);
+}
+
+TEST(MolecularFamilies, CarbonDioxideBendHasStandingAndRotatingFamiliesAndTheFermiThreat) {
+  const Prepared p = prepare("carbon-dioxide.xyz", "carbon-dioxide.toml");
+  ASSERT_TRUE(p.harmonic.linear);
+  FamiliesOptions options = quick_options();
+  const FamiliesResult result = compute_molecular_families(*p.potential, p.harmonic, p.group, p.species, {}, options);
+  int standing = 0, rotating = 0;
+  for (const FamilyResult& family : result.families) {
+    const FamilyType& type = family.type;
+    if (type.mode_numbers.size() != 2) continue;  // the bend is the only degenerate block
+    // The symmetric stretch lies near twice the bend (Fermi resonance of CO2).
+    const ResonanceThreat* fermi = nullptr;
+    for (const ResonanceThreat& threat : type.resonance_threats)
+      if (threat.order == 2) fermi = &threat;
+    ASSERT_NE(fermi, nullptr) << type.description;
+    EXPECT_LT(std::abs(fermi->detuning_cm1), options.enumeration.resonance_window_cm1);
+    if (type.standing) {
+      ++standing;
+      // One standing bend for all planes through the axis; its second harmonic is
+      // totally symmetric, so the Fermi coupling with the Σg⁺ stretch is allowed.
+      EXPECT_TRUE(type.continuous_copies);
+      EXPECT_TRUE(fermi->symmetry_allowed);
+    } else {
+      ++rotating;
+      // Vibrational angular momentum: the second harmonic of the rotating bend carries
+      // two units of it and cannot couple to the stretch.
+      EXPECT_FALSE(type.continuous_copies);
+      EXPECT_EQ(type.time_reversal, TimeReversal::among_copies);
+      EXPECT_NEAR(type.ellipticity, 1.0, 1e-6);
+      EXPECT_FALSE(fermi->symmetry_allowed);
+    }
+  }
+  EXPECT_EQ(standing, 1);
+  EXPECT_EQ(rotating, 1);
+  EXPECT_EQ(result.families.size(), 4u);
+  expect_orbits_keep_their_symmetry(result);
+  // The report states the linear stand-in and the neglected coupling.
+  const std::string report = families_text_report(result);
+  EXPECT_NE(report.find("rotation-vibration coupling is neglected"), std::string::npos);
+  EXPECT_NE(report.find("allowed by symmetry"), std::string::npos);
+  EXPECT_NE(report.find("forbidden by symmetry"), std::string::npos);
+}
+
+TEST(MolecularFamilies, WaterHasOneFamilyPerNondegenerateMode) {
+  const Prepared p = prepare("water.xyz", "water.toml");
+  FamiliesOptions options = quick_options();
+  options.continue_families = false;
+  options.quanta = 0.0;
+  const FamiliesResult result = compute_molecular_families(*p.potential, p.harmonic, p.group, p.species, {}, options);
+  ASSERT_EQ(result.families.size(), 3u);
+  for (const FamilyResult& family : result.families) {
+    EXPECT_TRUE(family.type.standing);
+    EXPECT_EQ(family.type.copies, 1);
+    EXPECT_FALSE(family.continued);
+    // The antisymmetric stretch (B2) is mapped to itself half a period later by C2.
+    EXPECT_EQ(family.type.seed.shift_denominator, family.type.species == "B2" ? 2 : 1);
+  }
+}
+
+TEST(MolecularFamilies, ReportAndCsvCoverEveryContinuedFamily) {
+  const Prepared p = prepare("water.xyz", "water.toml");
+  FamiliesOptions options = quick_options();
+  options.continuation.compute_floquet = true;
+  options.continuation.ladder_max_level = 2;
+  const FamiliesResult result = compute_molecular_families(*p.potential, p.harmonic, p.group, p.species, {}, options);
+  const std::string report = families_text_report(result);
+  for (std::size_t i = 0; i < result.families.size(); ++i) {
+    EXPECT_NE(report.find("Family " + std::to_string(i + 1) + " - modes"), std::string::npos);
+    const std::string csv = family_points_csv(result, static_cast<int>(i));
+    const auto lines = std::count(csv.begin(), csv.end(), '\n');
+    EXPECT_EQ(lines, static_cast<long>(result.families[i].backbone.points.size()) + 1);
+    EXPECT_EQ(csv.rfind("energy_cm1,frequency_cm1,period_fs,action_hbar,", 0), 0u);
+    EXPECT_NE(family_csv_file_name(result, static_cast<int>(i)).find(".csv"), std::string::npos);
+  }
+  EXPECT_THROW(family_points_csv(result, 99), Error);
+  EXPECT_NE(families_summary(result).find("B2"), std::string::npos);
+}
+
+TEST(MolecularFamilies, OptionsAreChecked) {
+  FamiliesOptions options;
+  EXPECT_THROW(options.validate(), Error);  // neither energy nor quanta
+  options.quanta = 2.0;
+  EXPECT_NO_THROW(options.validate());
+  options.energy_max_cm1 = 100.0;
+  EXPECT_THROW(options.validate(), Error);  // both
+  options.energy_max_cm1 = 0.0;
+  options.encounter_max_ratio = 0;
+  EXPECT_THROW(options.validate(), Error);
+}
+
+}  // namespace
+}  // namespace overtone
