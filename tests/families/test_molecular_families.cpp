@@ -7,6 +7,8 @@
 #include <map>
 #include <tuple>
 
+#include "anharmonic/force_constants.hpp"
+#include "anharmonic/vpt2.hpp"
 #include "core/error.hpp"
 #include "families/families.hpp"
 #include "families/families_report.hpp"
@@ -29,6 +31,11 @@ constexpr double kLadderCm1 = 0.01;
 constexpr double kSymmetryResidual = 1e-7;
 constexpr double kClosure = 1e-8;
 constexpr double kEnergyDrift = 1e-9;
+// Small-amplitude slope of a backbone against 2x_ii/ω_i from the anharmonic stage: the
+// issue asks for a few percent; the fit's own error (cubic term over 0.1 quantum) and the
+// finite-difference force constants (~0.005 cm⁻¹ in x) both stay near 1e-4 (measured
+// agreement 3e-5 for HCl and water).
+constexpr double kSlopeRelative = 1e-3;
 // Newton steps on the analytic Hessian stop at this RMS gradient (kcal/mol/Å): far below
 // what the orbits' forces (~1 kcal/mol/Å) feel.
 constexpr double kMinimumGradient = 1e-9;
@@ -288,6 +295,50 @@ TEST(MolecularFamilies, ReportAndCsvCoverEveryContinuedFamily) {
   }
   EXPECT_THROW(family_points_csv(result, 99), Error);
   EXPECT_NE(families_summary(result).find("B2"), std::string::npos);
+}
+
+// dω/dE at E = 0 from a quadratic least-squares fit of the backbone's ω(E).
+double slope_at_zero(const ContinuationResult& backbone) {
+  const auto& points = backbone.points;
+  Eigen::MatrixXd design(static_cast<Eigen::Index>(points.size()), 3);
+  Eigen::VectorXd values(design.rows());
+  for (Eigen::Index k = 0; k < design.rows(); ++k) {
+    const double e = points[static_cast<std::size_t>(k)].energy_cm1;
+    design.row(k) << 1.0, e, e * e;
+    values(k) = points[static_cast<std::size_t>(k)].frequency_cm1;
+  }
+  return design.colPivHouseholderQr().solve(values)(1);
+}
+
+TEST(MolecularFamilies, SmallAmplitudeSlopesMatchTheAnharmonicityConstants) {
+  // Classical normal form of a nondegenerate, non-resonant mode: E = ωJ + x_ii J² + …
+  // (J in units of ħ), so the family's frequency ω + 2x_ii J has dω/dE → 2x_ii/ω_i as E → 0.
+  // x_ii: the purely vibrational constant of the anharmonic stage (plain VPT2, Nielsen 1951).
+  for (const auto& [molecule, potential, isotopes] :
+       std::vector<std::tuple<std::string, std::string, std::vector<IsotopeChoice>>>{
+           {"hcl.xyz", "hcl-morse.toml", {{1, 1}, {2, 35}}}, {"water.xyz", "water.toml", {}}}) {
+    const Prepared p = prepare(molecule, potential, isotopes);
+    const ForceConstantResult constants = compute_force_constants(*p.potential, p.harmonic);
+    ASSERT_TRUE(constants.ok()) << constants.message;
+    Vpt2Options vpt2_options;
+    vpt2_options.include_coriolis = false;
+    const Vpt2Result vpt2 = run_vpt2(constants, p.harmonic, vpt2_options);
+    FamiliesOptions options;
+    options.quanta = 0.0;
+    options.energy_max_cm1 = 300.0;  // about 0.1 quantum of the softest mode
+    options.continuation.compute_floquet = false;
+    const FamiliesResult result =
+        compute_molecular_families(*p.potential, p.harmonic, p.group, p.species, {}, options);
+    ASSERT_EQ(result.families.size(), static_cast<std::size_t>(p.harmonic.mode_count()));
+    for (const FamilyResult& family : result.families) {
+      const int mode = result.blocks[family.type.block].coordinates.front();
+      const double omega = vpt2.harmonic_cm1(mode);
+      const double expected = 2.0 * vpt2.x_vibrational_plain_cm1(mode, mode) / omega;
+      ASSERT_EQ(family.backbone.status, ContinuationStatus::reached_energy_max) << family.backbone.message;
+      EXPECT_NEAR(slope_at_zero(family.backbone) / expected, 1.0, kSlopeRelative)
+          << molecule << " mode " << mode + 1 << ": x_ii = " << vpt2.x_vibrational_plain_cm1(mode, mode);
+    }
+  }
 }
 
 TEST(MolecularFamilies, OptionsAreChecked) {
