@@ -14,6 +14,8 @@
 #include "pipeline/analysis.hpp"
 #include "potential/make_potential.hpp"
 #include "report/harmonic_report.hpp"
+#include "symmetry/detect_point_group.hpp"
+#include "symmetry/symmetry_report.hpp"
 
 namespace {
 
@@ -26,6 +28,7 @@ struct MoleculeArguments {
   std::string potential = default_force_field;
   std::vector<std::string> isotopes;
   std::string format;
+  double symmetry_tolerance_angstrom = SymmetryOptions{}.tolerance_angstrom;
 };
 
 void add_molecule_arguments(CLI::App& command, MoleculeArguments& arguments) {
@@ -41,6 +44,10 @@ void add_molecule_arguments(CLI::App& command, MoleculeArguments& arguments) {
   command.add_option("-i,--isotope", arguments.isotopes,
                      "N=A: atom N (1-based, as in the file) gets mass number A; repeatable");
   command.add_option("--format", arguments.format, "input format when the file extension does not tell it");
+  command
+      .add_option("--symmetry-tolerance", arguments.symmetry_tolerance_angstrom,
+                  "largest distance (Å) an atom may move when the structure is made exactly symmetric")
+      ->capture_default_str();
 }
 
 ReadResult load_molecule(const MoleculeArguments& arguments) {
@@ -70,7 +77,9 @@ AnalysisResult run_analysis(const MoleculeArguments& arguments) {
   const ReadResult input = load_molecule(arguments);
   for (const auto& warning : input.warnings) std::cerr << "overtone: warning: " << warning << "\n";
   const auto potential = make_potential(arguments.potential, input.molecule);
-  return analyze_molecule(input.molecule, *potential);
+  AnalysisOptions options;
+  options.symmetry.tolerance_angstrom = arguments.symmetry_tolerance_angstrom;
+  return analyze_molecule(input.molecule, *potential, options);
 }
 
 int run_modes(const MoleculeArguments& arguments, const std::string& json_path) {
@@ -100,6 +109,24 @@ int run_analyze(const MoleculeArguments& arguments, const std::string& out_direc
   return 0;
 }
 
+int run_symmetry(const MoleculeArguments& arguments, bool optimize_first) {
+  const ReadResult input = load_molecule(arguments);
+  for (const auto& warning : input.warnings) std::cerr << "overtone: warning: " << warning << "\n";
+  SymmetryOptions options;
+  options.tolerance_angstrom = arguments.symmetry_tolerance_angstrom;
+  if (!optimize_first) {
+    std::cout << format_symmetry_report(detect_point_group(input.molecule, options));
+    return 0;
+  }
+  const auto potential = make_potential(arguments.potential, input.molecule);
+  AnalysisOptions analysis_options;
+  analysis_options.symmetry = options;
+  const AnalysisResult analysis = analyze_molecule(input.molecule, *potential, analysis_options);
+  if (analysis.optimized) std::cout << "structure: " << analysis.optimization.message << "\n";
+  std::cout << format_symmetry_report(analysis.point_group, &analysis.mode_symmetry);
+  return 0;
+}
+
 }  // namespace
 
 int main(int argc, char** argv) {
@@ -118,6 +145,14 @@ int main(int argc, char** argv) {
   add_molecule_arguments(*analyze, analyze_arguments);
   analyze->add_option("-o,--out", out_directory, "output folder")->capture_default_str();
 
+  MoleculeArguments symmetry_arguments;
+  bool with_modes = false;
+  CLI::App* symmetry = app.add_subcommand(
+      "symmetry", "point group, operations, character table and the species of the vibrations");
+  add_molecule_arguments(*symmetry, symmetry_arguments);
+  symmetry->add_flag("--with-modes", with_modes,
+                     "optimize on the potential first and assign the species of the computed modes");
+
   try {
     app.parse(argc, argv);
   } catch (const CLI::ParseError& error) {
@@ -127,6 +162,7 @@ int main(int argc, char** argv) {
   try {
     if (*modes) return run_modes(modes_arguments, json_path);
     if (*analyze) return run_analyze(analyze_arguments, out_directory);
+    if (*symmetry) return run_symmetry(symmetry_arguments, with_modes);
   } catch (const overtone::Error& error) {
     std::cerr << "overtone: error: " << error.what() << "\n";
     return 1;

@@ -3,12 +3,19 @@
 #include <fmt/format.h>
 
 #include "core/units.hpp"
+#include "symmetry/symmetry_report.hpp"
 
 namespace overtone {
 
 namespace {
 
 nlohmann::json vector3(const Eigen::Vector3d& v) { return nlohmann::json::array({v.x(), v.y(), v.z()}); }
+
+// Right-aligns UTF-8 text to a width in terminal columns.
+std::string pad(const std::string& text, std::size_t width) {
+  const std::size_t shown = display_width(text);
+  return shown >= width ? text : std::string(width - shown, ' ') + text;
+}
 
 }  // namespace
 
@@ -29,6 +36,22 @@ nlohmann::json analysis_to_json(const AnalysisResult& analysis) {
                           {"charge", molecule.total_charge},
                           {"spin_multiplicity", molecule.spin_multiplicity}};
   document["potential"] = {{"description", analysis.potential_description}};
+  if (analysis.symmetry_used) {
+    const PointGroupResult& group = analysis.point_group;
+    document["point_group"] = group.group.name;
+    document["symmetry"] = {
+        {"point_group", group.group.name},
+        {"order", group.group.order()},
+        {"finite_group_used", group.group.finite_name},
+        {"tolerance_angstrom", group.tolerance_angstrom},
+        {"max_deviation_removed_angstrom", group.max_deviation_angstrom},
+        {"vibrational_representation", analysis.mode_symmetry.decomposition},
+        {"species_status",
+         analysis.mode_symmetry.status == ModeSymmetryStatus::Assigned ? "assigned" : "ambiguous"},
+        {"notes", group.notes}};
+  } else {
+    document["point_group"] = nullptr;
+  }
 
   json atoms = json::array();
   for (std::size_t i = 0; i < molecule.atoms.size(); ++i) {
@@ -74,17 +97,24 @@ nlohmann::json analysis_to_json(const AnalysisResult& analysis) {
                           {"rotation_vibration_coupling", "neglected"}};
 
   json modes = json::array();
-  for (std::size_t k = 0; k < analysis.mode_order.size(); ++k) {
-    const int index = analysis.mode_order[k];
+  for (const ModeLabel& label : analysis.modes) {
+    const int index = label.harmonic_index;
     json displacement = json::array();
     for (std::size_t i = 0; i < molecule.atoms.size(); ++i)
       displacement.push_back(vector3(harmonic.cartesian_displacements.col(index).segment<3>(3 * i)));
-    modes.push_back({{"number", k + 1},
-                     {"frequency_cm1", harmonic.frequencies_cm1[index]},
-                     {"imaginary", harmonic.frequencies_cm1[index] < 0.0},
-                     {"reduced_mass_da", harmonic.reduced_masses_da[index]},
-                     {"force_constant_mdyn_angstrom", harmonic.force_constants_mdyn_per_angstrom[index]},
-                     {"displacement", displacement}});
+    json mode = {{"number", label.number},
+                 {"fundamental", label.fundamental},
+                 {"degenerate_set", label.degenerate_set},
+                 {"degeneracy", label.set_size},
+                 {"frequency_cm1", harmonic.frequencies_cm1[index]},
+                 {"imaginary", harmonic.frequencies_cm1[index] < 0.0},
+                 {"reduced_mass_da", harmonic.reduced_masses_da[index]},
+                 {"force_constant_mdyn_angstrom", harmonic.force_constants_mdyn_per_angstrom[index]},
+                 {"species", label.species.empty() ? json(nullptr) : json(label.species)},
+                 {"ir_active", label.activity_known ? json(label.ir_active) : json(nullptr)},
+                 {"raman_active", label.activity_known ? json(label.raman_active) : json(nullptr)},
+                 {"displacement", displacement}};
+    modes.push_back(mode);
   }
   document["modes"] = modes;
   document["warnings"] = analysis.warnings;
@@ -93,11 +123,19 @@ nlohmann::json analysis_to_json(const AnalysisResult& analysis) {
 
 std::string modes_csv(const AnalysisResult& analysis) {
   const auto& harmonic = analysis.harmonic;
-  std::string text = "mode,wavenumber_cm1,reduced_mass_da,force_constant_mdyn_per_angstrom\n";
-  for (std::size_t k = 0; k < analysis.mode_order.size(); ++k) {
-    const int index = analysis.mode_order[k];
-    text += fmt::format("{},{:.4f},{:.6f},{:.6f}\n", k + 1, harmonic.frequencies_cm1[index],
-                        harmonic.reduced_masses_da[index], harmonic.force_constants_mdyn_per_angstrom[index]);
+  std::string text =
+      "mode,fundamental,degenerate_set,species,wavenumber_cm1,reduced_mass_da,force_constant_mdyn_per_"
+      "angstrom,"
+      "ir_active,raman_active\n";
+  auto flag = [](const ModeLabel& label, bool value) -> std::string {
+    return label.activity_known ? (value ? "yes" : "no") : "";
+  };
+  for (const ModeLabel& label : analysis.modes) {
+    const int index = label.harmonic_index;
+    text += fmt::format("{},{},{},{},{:.4f},{:.6f},{:.6f},{},{}\n", label.number, label.fundamental,
+                        label.degenerate_set, label.species, harmonic.frequencies_cm1[index],
+                        harmonic.reduced_masses_da[index], harmonic.force_constants_mdyn_per_angstrom[index],
+                        flag(label, label.ir_active), flag(label, label.raman_active));
   }
   return text;
 }
@@ -114,16 +152,30 @@ std::string modes_table(const AnalysisResult& analysis) {
                         analysis.optimization.energy_kcal_mol);
   else
     text += "structure: analysed as given (no optimization)\n";
-  text += fmt::format("hessian: {}; {} molecule, {} rigid-body motions removed\n\n", analysis.hessian.method,
+  text += fmt::format("hessian: {}; {} molecule, {} rigid-body motions removed\n", analysis.hessian.method,
                       harmonic.linear ? "linear" : "non-linear", harmonic.rigid_body_count);
-  text += fmt::format("{:>5}  {:>12}  {:>12}  {:>14}\n", "mode", "ν̃ / cm⁻¹", "μ / Da", "k / mdyn Å⁻¹");
-  for (std::size_t k = 0; k < analysis.mode_order.size(); ++k) {
-    const int index = analysis.mode_order[k];
+  if (analysis.symmetry_used)
+    text += fmt::format("point group {} (largest deviation removed {:.1e} Å); Γvib = {}\n",
+                        analysis.point_group.group.display_name, analysis.point_group.max_deviation_angstrom,
+                        analysis.mode_symmetry.display_decomposition);
+  text += "\n";
+  text += pad("mode", 5) + "  " + pad("ν", 4) + "  " + pad("species", 8) + "  " + pad("cm⁻¹", 11) + "  " +
+          pad("μ / Da", 9) + "  " + pad("k / mdyn Å⁻¹", 12) + "  " + pad("IR", 3) + "  " + pad("Raman", 5) +
+          "\n";
+  auto activity = [](const ModeLabel& label, bool value) -> std::string {
+    return label.activity_known ? (value ? "yes" : "–") : "?";
+  };
+  for (const ModeLabel& label : analysis.modes) {
+    const int index = label.harmonic_index;
     const double wavenumber = harmonic.frequencies_cm1[index];
     const std::string shown =
         wavenumber < 0.0 ? fmt::format("{:.2f}i", -wavenumber) : fmt::format("{:.2f}", wavenumber);
-    text += fmt::format("{:>5}  {:>12}  {:>12.4f}  {:>14.4f}\n", k + 1, shown,
-                        harmonic.reduced_masses_da[index], harmonic.force_constants_mdyn_per_angstrom[index]);
+    text += pad(std::to_string(label.number), 5) + "  " + pad("ν" + std::to_string(label.fundamental), 4) +
+            "  " + pad(label.display_species.empty() ? "?" : label.display_species, 8) + "  " +
+            pad(shown, 11) + "  " + pad(fmt::format("{:.4f}", harmonic.reduced_masses_da[index]), 9) + "  " +
+            pad(fmt::format("{:.4f}", harmonic.force_constants_mdyn_per_angstrom[index]), 12) + "  " +
+            pad(activity(label, label.ir_active), 3) + "  " + pad(activity(label, label.raman_active), 5) +
+            "\n";
   }
   for (const auto& warning : analysis.warnings) text += "warning: " + warning + "\n";
   return text;
