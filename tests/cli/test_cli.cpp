@@ -1,6 +1,7 @@
 // The program itself: the main job writes its files with the documented fields, and
 // bad input gives one clear line on stderr and a non-zero exit, never a crash.
 #include <gtest/gtest.h>
+#include <unistd.h>
 
 #include <algorithm>
 #include <cstdlib>
@@ -9,6 +10,8 @@
 #include <nlohmann/json.hpp>
 #include <sstream>
 #include <string>
+#include <utility>
+#include <vector>
 
 namespace {
 
@@ -29,7 +32,10 @@ std::string slurp(const std::string& path) {
 }
 
 ProgramRun run(const std::string& arguments) {
-  const std::string base = ::testing::TempDir() + "overtone-cli";
+  // CTest runs tests as parallel processes: give every run its own files.
+  static int counter = 0;
+  const std::string base =
+      ::testing::TempDir() + "overtone-cli-" + std::to_string(getpid()) + "-" + std::to_string(++counter);
   const std::string command = program + " " + arguments + " >" + base + ".out 2>" + base + ".err";
   ProgramRun result;
   const int raw = std::system(command.c_str());
@@ -40,7 +46,7 @@ ProgramRun run(const std::string& arguments) {
 }
 
 std::string write_temp(const std::string& name, const std::string& text) {
-  const std::string path = ::testing::TempDir() + name;
+  const std::string path = ::testing::TempDir() + std::to_string(getpid()) + "-" + name;
   std::ofstream(path) << text;
   return path;
 }
@@ -53,7 +59,7 @@ void expect_one_line_error(const ProgramRun& result, const std::string& fragment
 }
 
 TEST(Cli, AnalyzeWritesJsonAndCsvWithTheDocumentedFields) {
-  const std::string out = ::testing::TempDir() + "overtone-analyze";
+  const std::string out = ::testing::TempDir() + "overtone-analyze-" + std::to_string(getpid());
   std::filesystem::remove_all(out);
   const ProgramRun result = run("analyze " + source_dir + "/molecules/water.xyz --potential " + source_dir +
                                 "/potentials/water.toml --out " + out);
@@ -76,6 +82,13 @@ TEST(Cli, AnalyzeWritesJsonAndCsvWithTheDocumentedFields) {
     EXPECT_GT(mode["reduced_mass_da"].get<double>(), 0.0);
     EXPECT_EQ(mode["displacement"].size(), 3u);
   }
+  // Symmetry fields: C2v water is 2A1 + B2 (Herzberg 1945, from memory), all IR and Raman active.
+  EXPECT_EQ(document["point_group"], "C2v");
+  EXPECT_EQ(document["modes"][0]["species"], "A1");
+  EXPECT_EQ(document["modes"][2]["species"], "B2");
+  EXPECT_TRUE(document["modes"][2]["ir_active"].get<bool>());
+  EXPECT_TRUE(document["modes"][2]["raman_active"].get<bool>());
+  EXPECT_EQ(document["modes"][1]["degenerate_set"], 2);
   const std::string csv = slurp(out + "/modes.csv");
   EXPECT_EQ(std::count(csv.begin(), csv.end(), '\n'), 4);  // header + 3 modes
 }
@@ -112,6 +125,17 @@ TEST(Cli, BadInputGivesOneClearLineAndNonZeroExit) {
   expect_one_line_error(
       run("modes " + source_dir + "/molecules/methane.xyz -p " + source_dir + "/potentials/water.toml"),
       "atom");
+}
+
+TEST(Cli, SymmetryCommandWorksOnEveryShippedMolecule) {
+  // Expected groups: common practice, no source.
+  const std::vector<std::pair<std::string, std::string>> expected = {
+      {"hcl", "C∞v"}, {"water", "C₂v"}, {"carbon-dioxide", "D∞h"}, {"ammonia", "C₃v"}, {"methane", "Td"}};
+  for (const auto& [name, group] : expected) {
+    const ProgramRun result = run("symmetry " + source_dir + "/molecules/" + name + ".xyz");
+    ASSERT_EQ(result.status, 0) << result.err;
+    EXPECT_EQ(result.out.rfind("Point group " + group, 0), 0u) << result.out.substr(0, 80);
+  }
 }
 
 TEST(Cli, UsageErrorsExitNonZero) {
