@@ -298,6 +298,21 @@ Vpt2Result run_vpt2(const ForceConstantResult& force_constants, const HarmonicRe
         }
         result.x_coriolis_cm1(i, j) = sum * (omega[i] / omega[j] + omega[j] / omega[i]);
       }
+  // Between degenerate sets the component values depend on the basis within each set and
+  // would break the symmetry of the levels; the set average is the basis-invariant part
+  // (the l-dependent Coriolis terms are neglected).
+  if (options.include_coriolis)
+    for (int s = 0; s < set_count; ++s)
+      for (int t = 0; t < set_count; ++t) {
+        const auto& a = sets[static_cast<std::size_t>(s)].modes;
+        const auto& b = sets[static_cast<std::size_t>(t)].modes;
+        if (s == t || (a.size() == 1 && b.size() == 1)) continue;
+        double mean = 0.0;
+        for (int i : a)
+          for (int j : b) mean += result.x_coriolis_cm1(i, j) / static_cast<double>(a.size() * b.size());
+        for (int i : a)
+          for (int j : b) result.x_coriolis_cm1(i, j) = mean;
+      }
 
   result.x_vibrational_plain_cm1 = detail::anharmonicity_constants(constants, omega);
   const detail::AnharmonicOperator op(constants, omega);
@@ -599,6 +614,20 @@ Vpt2Result run_vpt2(const ForceConstantResult& force_constants, const HarmonicRe
       }
     }
 
+    std::vector<std::string> sublevel_tags(sublevels.size());
+    for (std::size_t v = 0; v < manifolds.size(); ++v) {
+      const auto& subs = sublevels_of_manifold[v];
+      if (subs.size() < 2) continue;
+      for (std::size_t k = 0; k < subs.size(); ++k) {
+        const std::string& species = sublevel_species[static_cast<std::size_t>(subs[k])];
+        const auto repeats = std::count_if(subs.begin(), subs.end(), [&](int other) {
+          return sublevel_species[static_cast<std::size_t>(other)] == species;
+        });
+        sublevel_tags[static_cast<std::size_t>(subs[k])] =
+            species.empty() ? std::to_string(k + 1) : repeats > 1 ? species + "#" + std::to_string(k + 1) : species;
+      }
+    }
+
     // Resonance-corrected states: the whole group, assigned to sublevels by overlap.
     const bool is_polyad = manifolds.size() > 1;
     std::vector<double> corrected(sublevels.size(), std::numeric_limits<double>::quiet_NaN());
@@ -634,6 +663,16 @@ Vpt2Result run_vpt2(const ForceConstantResult& force_constants, const HarmonicRe
       }
     }
 
+    // A sublevel takes part in the resonance only if its corrected state mixes with
+    // another sublevel, or another's mixes into it (a Δ level beside a Σ dyad does not).
+    constexpr double coupled_weight = 1e-6;
+    std::vector<bool> coupled(sublevels.size(), false);
+    if (is_polyad)
+      for (std::size_t s = 0; s < sublevels.size(); ++s)
+        for (std::size_t t = 0; t < sublevels.size(); ++t)
+          if (s != t && composition[s].size() == sublevels.size() && composition[s][t] > coupled_weight)
+            coupled[s] = coupled[t] = true;
+
     // Levels of the line list in this group.
     std::vector<int> group_levels;
     for (std::size_t v = 0; v < manifolds.size(); ++v) {
@@ -661,7 +700,7 @@ Vpt2Result run_vpt2(const ForceConstantResult& force_constants, const HarmonicRe
               level.raman_active = level.raman_active || symmetry.irreps[irrep].raman_active;
             }
         }
-        if (is_polyad) {
+        if (is_polyad && coupled[static_cast<std::size_t>(subs[k])]) {
           level.resonance_corrected_cm1 = corrected[static_cast<std::size_t>(subs[k])];
           level.polyad = static_cast<int>(result.polyads.size());
           const auto& weights = composition[static_cast<std::size_t>(subs[k])];
@@ -670,8 +709,11 @@ Vpt2Result run_vpt2(const ForceConstantResult& force_constants, const HarmonicRe
             const auto& other_subs = sublevels_of_manifold[static_cast<std::size_t>(other.manifold)];
             const int other_index = static_cast<int>(std::find(other_subs.begin(), other_subs.end(), static_cast<int>(t)) -
                                                      other_subs.begin());
-            if (weights[t] > 0.0)
-              level.mixing.push_back({manifolds[static_cast<std::size_t>(other.manifold)], other_index, weights[t]});
+            constexpr double negligible_weight = 1e-10;  // below round-off of the eigenvectors' squares
+            if (weights[t] > negligible_weight)
+              level.mixing.push_back({manifolds[static_cast<std::size_t>(other.manifold)], other_index,
+                                      static_cast<int>(other_subs.size()), sublevel_species[t], sublevel_tags[t],
+                                      weights[t]});
           }
           std::sort(level.mixing.begin(), level.mixing.end(),
                     [](const LevelComponent& a, const LevelComponent& b) { return a.weight > b.weight; });
@@ -692,9 +734,24 @@ Vpt2Result run_vpt2(const ForceConstantResult& force_constants, const HarmonicRe
             if (std::find(polyad.resonances.begin(), polyad.resonances.end(), move->resonance) == polyad.resonances.end())
               polyad.resonances.push_back(move->resonance);
       std::sort(polyad.resonances.begin(), polyad.resonances.end());
+      // Partners: line-list levels of the polyad that appear in each other's mixing.
+      auto weight_of = [&](const VibrationalLevel& in, const VibrationalLevel& of) {
+        for (const auto& c : in.mixing)
+          if (c.set_quanta == of.set_quanta && c.sublevel == of.sublevel) return c.weight;
+        return 0.0;
+      };
       for (int level : group_levels)
-        for (int other : group_levels)
-          if (other != level) result.levels[static_cast<std::size_t>(level)].partners.push_back(other);
+        for (int other : group_levels) {
+          auto& a = result.levels[static_cast<std::size_t>(level)];
+          const auto& b = result.levels[static_cast<std::size_t>(other)];
+          if (other != level && a.in_polyad() && b.in_polyad() &&
+              (weight_of(a, b) > coupled_weight || weight_of(b, a) > coupled_weight))
+            a.partners.push_back(other);
+        }
+      std::vector<int> members;
+      for (int level : group_levels)
+        if (result.levels[static_cast<std::size_t>(level)].in_polyad()) members.push_back(level);
+      polyad.levels = members;
       if (polyad.truncated) {
         result.status = Vpt2Status::polyad_truncated;
         result.warnings.push_back(fmt::format(

@@ -113,6 +113,11 @@ struct Resonance {
 struct LevelComponent {
   std::vector<int> set_quanta;   // quanta per set
   int sublevel = 0;              // which sublevel of that manifold (see VibrationalLevel)
+  int sublevel_count = 1;        // sublevels of that manifold
+  std::string species;           // of that sublevel; "" without a character table
+  // Distinguishes the sublevel within its manifold: "" when there is only one, else the
+  // species, with "#k" appended when that species occurs more than once, or just "k".
+  std::string tag;
   double weight = 0.0;           // squared coefficient, summed over degenerate partners; Σ = 1
 };
 
