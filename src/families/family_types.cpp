@@ -501,7 +501,10 @@ FamilyEnumeration enumerate_families(const std::vector<ModeBlock>& blocks, const
             shift = &family.subgroup[j];
           }
       }
-      family.seed.linear_mode = v;
+      // With numerically built matrices (finite-difference Hessians) v lies in Fix(K) only
+      // to ~1e-6; the projection makes the seed consistent.
+      family.seed.linear_mode =
+          family.seed.invariant_basis.cast<Complex>() * (family.seed.invariant_basis.transpose().cast<Complex>() * v);
       family.seed.angular_frequency = block.angular_frequency;
       for (const PhasedElement& element : family.subgroup) {
         if (element.element == group.identity()) continue;

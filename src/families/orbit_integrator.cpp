@@ -4,6 +4,7 @@
 #include <boost/numeric/odeint.hpp>
 #include <chrono>
 #include <cmath>
+#include <map>
 
 namespace overtone::detail {
 
@@ -181,6 +182,95 @@ IntegrationOutcome OrbitIntegrator::integrate(const IntegrationRequest& request,
     }
   }
   return outcome;
+}
+
+bool interpolated_transition(const VibrationalSystem& system, const InterpolatedTransitionRequest& request,
+                             Eigen::MatrixXd& transition, std::size_t& steps) {
+  namespace odeint = boost::numeric::odeint;
+  transition.resize(0, 0);
+  steps = 0;
+  const auto& samples = *request.positions;
+  const int count = static_cast<int>(samples.size());
+  const Eigen::MatrixXd& basis = *request.variational_basis;
+  const int c = static_cast<int>(basis.cols());
+  constexpr int stencil = 8;        // 8-point Lagrange: error ~ (ωh)⁸/8! of the Hessian's scale
+  constexpr int before = stencil / 2 - 1;
+  const double node_spacing = request.spacing * request.node_stride;
+  const int last_interval = static_cast<int>(std::ceil(request.duration / node_spacing - 1e-9));
+  const int first_node = -before - 1, last_node = last_interval + stencil / 2 + 1;  // one spare each side for the test
+  if (count < 2 * stencil) return false;
+
+  // Nodes beyond the period wrap onto earlier samples (the orbit is periodic); each
+  // sample's Hessian is evaluated once.
+  std::vector<Eigen::MatrixXd> nodes;
+  nodes.reserve(static_cast<std::size_t>(last_node - first_node + 1));
+  std::map<int, std::size_t> evaluated;
+  Eigen::MatrixXd columns;
+  for (int k = first_node; k <= last_node; ++k) {
+    const int index = ((k * request.node_stride) % count + count) % count;
+    const auto found = evaluated.find(index);
+    if (found != evaluated.end()) {
+      nodes.push_back(nodes[found->second]);
+      continue;
+    }
+    system.hessian_times(samples[static_cast<std::size_t>(index)], basis, columns);
+    Eigen::MatrixXd projected = basis.transpose() * columns;
+    evaluated[index] = nodes.size();
+    nodes.push_back(0.5 * (projected + projected.transpose()));
+  }
+  auto node = [&](int k) -> const Eigen::MatrixXd& { return nodes[static_cast<std::size_t>(k - first_node)]; };
+  auto weights = [](double x, int start, const std::vector<int>& abscissae, std::vector<double>& w) {
+    w.assign(abscissae.size(), 1.0);
+    for (std::size_t i = 0; i < abscissae.size(); ++i)
+      for (std::size_t j = 0; j < abscissae.size(); ++j)
+        if (i != j) w[i] *= (x - (start + abscissae[j])) / static_cast<double>(abscissae[i] - abscissae[j]);
+  };
+
+  // Leave-one-out test at every node with four neighbours on each side: predict it from
+  // them (an estimate, pessimistic by about (9/4)^4, of the error between nodes).
+  double scale = 0.0;
+  for (const auto& h : nodes) scale = std::max(scale, h.cwiseAbs().maxCoeff());
+  if (!(scale > 0.0) || !std::isfinite(scale)) return false;
+  const std::vector<int> around = {-4, -3, -2, -1, 1, 2, 3, 4};
+  std::vector<double> w;
+  for (int k = first_node + 4; k <= last_node - 4; ++k) {
+    weights(static_cast<double>(k), k, around, w);
+    Eigen::MatrixXd predicted = Eigen::MatrixXd::Zero(c, c);
+    for (std::size_t i = 0; i < around.size(); ++i) predicted += w[i] * node(k + around[i]);
+    if ((predicted - node(k)).cwiseAbs().maxCoeff() > request.interpolation_tolerance * scale) return false;
+  }
+
+  using State = std::vector<double>;
+  const double omega = request.angular_frequency;
+  const Eigen::Index block = static_cast<Eigen::Index>(c) * 2 * c;
+  const std::vector<int> offsets = {0, 1, 2, 3, 4, 5, 6, 7};
+  Eigen::MatrixXd hessian(c, c);
+  std::vector<double> lagrange;
+  auto equations = [&](const State& x, State& dxdt, double t) {
+    const double position = t / node_spacing;
+    const int start = std::max(first_node + 1, std::min(static_cast<int>(std::floor(position)) - before,
+                                                         last_node - 1 - (stencil - 1)));
+    weights(position, start, offsets, lagrange);
+    hessian.setZero();
+    for (int i = 0; i < stencil; ++i) hessian += lagrange[static_cast<std::size_t>(i)] * node(start + i);
+    Eigen::Map<const Eigen::MatrixXd> X(x.data(), c, 2 * c), Y(x.data() + block, c, 2 * c);
+    Eigen::Map<Eigen::MatrixXd> dX(dxdt.data(), c, 2 * c), dY(dxdt.data() + block, c, 2 * c);
+    dX = omega * Y;
+    dY.noalias() = hessian * X;
+    dY *= -1.0 / omega;
+  };
+  State x(static_cast<std::size_t>(2 * block), 0.0);
+  {
+    Eigen::Map<Eigen::MatrixXd> X(x.data(), c, 2 * c), Y(x.data() + block, c, 2 * c);
+    X.leftCols(c).setIdentity();
+    Y.rightCols(c).setIdentity();
+  }
+  auto stepper = odeint::make_controlled(request.tolerance, request.tolerance, odeint::runge_kutta_fehlberg78<State>());
+  steps = odeint::integrate_adaptive(stepper, equations, x, 0.0, request.duration, node_spacing);
+  transition.resize(2 * c, 2 * c);
+  transition.topRows(c) = Eigen::Map<const Eigen::MatrixXd>(x.data(), c, 2 * c);
+  transition.bottomRows(c) = Eigen::Map<const Eigen::MatrixXd>(x.data() + block, c, 2 * c);
+  return transition.allFinite();
 }
 
 }  // namespace overtone::detail

@@ -57,6 +57,29 @@ struct IntegrationCounters {
   double full_variational_periods = 0.0;
 };
 
+// The variational equations along an orbit that is already known at equally spaced
+// samples: the projected Hessian CᵀH(q)C (symmetrized) is evaluated at every
+// node_stride-th sample covering [0, duration] (with a margin; the sample list is
+// periodic) and interpolated by 8-point Lagrange polynomials, and only the linear
+// equations X̂' = ω₀Ŷ, Ŷ' = −(CᵀHC/ω₀)X̂ are integrated (same scaling as OrbitIntegrator).
+// This needs (duration/spacing)/node_stride Hessian products instead of one per stage of
+// every integrator step. Returns false (and leaves transition empty) when a
+// leave-one-out test of the interpolation errs by more than interpolation_tolerance
+// relative to the largest Hessian entry, or when the samples do not cover the margin;
+// the caller then integrates directly.
+struct InterpolatedTransitionRequest {
+  const std::vector<Eigen::VectorXd>* positions = nullptr;  // q at t_j = j·spacing, j = 0..N−1, periodic in N
+  double spacing = 0.0;
+  double duration = 0.0;
+  int node_stride = 1;
+  const Eigen::MatrixXd* variational_basis = nullptr;       // C, n × c
+  double angular_frequency = 1.0;                           // ω₀ of the scaling
+  double tolerance = 1e-9;                                  // integrator, per step
+  double interpolation_tolerance = 1e-7;
+};
+bool interpolated_transition(const VibrationalSystem& system, const InterpolatedTransitionRequest& request,
+                             Eigen::MatrixXd& transition, std::size_t& steps);
+
 class OrbitIntegrator {
  public:
   // tolerance: relative and absolute error per step of the controlled
