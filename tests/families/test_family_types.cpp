@@ -89,6 +89,27 @@ TEST(FamilyTypes, HenonHeilesOrbitsKeepTheirPredictedSymmetry) {
   }
 }
 
+TEST(FamilyTypes, HenonHeilesMirrorFamilyEscapesAtTheSaddleEnergy) {
+  const HenonHeiles system;
+  const FamilyEnumeration enumeration = enumerate_families(
+      blocks_by_frequency(system.harmonic_angular_frequencies()), henon_heiles_symmetry(), system.units());
+  ContinuationOptions options;
+  options.energy_max = 0.2;
+  int escaped = 0;
+  for (const FamilyType& family : enumeration.families) {
+    // The standing oscillation on a mirror line runs into a saddle of V at E = 1/6
+    // (closed form: V(0, 1) = 1/2 − 1/3); its period diverges there.
+    if (!(family.standing && family.seed.shift_denominator == 1)) continue;
+    const ContinuationResult result = continue_family(system, family.seed, options);
+    EXPECT_EQ(result.status, ContinuationStatus::escaped) << result.message;
+    EXPECT_NEAR(result.points.back().energy, 1.0 / 6.0, 1e-4);
+    ASSERT_FALSE(result.events.empty());
+    EXPECT_EQ(result.events.back().kind, FamilyEventKind::escape);
+    ++escaped;
+  }
+  EXPECT_EQ(escaped, 1);
+}
+
 TEST(FamilyTypes, InterpolatedAndDirectVariationalEquationsAgree) {
   const HenonHeiles system;
   const FamilyEnumeration enumeration = enumerate_families(
