@@ -177,9 +177,26 @@ FamiliesResult compute_molecular_families(const Potential& potential, const Harm
                                           const std::vector<int>& mode_order, const FamiliesOptions& options,
                                           const MolecularSystemOptions& system_options) {
   const MolecularVibrationalSystem system(potential, harmonic, system_options);
-  const CoordinateSymmetry symmetry = molecular_coordinate_symmetry(group, harmonic, species.frame);
   const std::vector<ModeBlock> blocks = molecular_mode_blocks(species, harmonic, mode_order);
+  std::string fallback;
+  CoordinateSymmetry symmetry;
+  try {
+    symmetry = molecular_coordinate_symmetry(group, harmonic, species.frame);
+    // Enumeration alone is cheap; it also checks that every block is invariant.
+    enumerate_families(blocks, symmetry, molecular_unit_conventions(), options.enumeration);
+  } catch (const Error& error) {
+    // The group does not act cleanly on these normal modes (a loose minimum, an
+    // ambiguous species assignment): continue without symmetry so that nondegenerate
+    // modes still get their families, and say so.
+    fallback = error.what();
+    symmetry = trivial_symmetry(system.dimension());
+  }
   FamiliesResult result = compute_families(system, blocks, symmetry, options);
+  if (!fallback.empty())
+    result.warnings.push_back("the point group was not used for the families (" + fallback +
+                              "); degenerate modes get no predicted families");
+  if (species.status != ModeSymmetryStatus::Assigned)
+    result.warnings.push_back("the mode species are ambiguous (" + species.message + "); family labels may be wrong");
   result.notes.push_back(
       "rotation-vibration coupling is neglected: the orbits are those of H = P^2/2 + V(Q) in the rectilinear normal "
       "coordinates of the non-rotating molecule");

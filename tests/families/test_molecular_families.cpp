@@ -278,6 +278,33 @@ TEST(MolecularFamilies, WaterHasOneFamilyPerNondegenerateMode) {
   }
 }
 
+TEST(MolecularFamilies, WithoutAUsableGroupNondegenerateModesKeepTheirFamilies) {
+  Prepared p = prepare("ammonia.xyz", "ammonia.toml");
+  // Mix one partner of the lower E pair with the umbrella mode by a small rotation: the
+  // modes stay orthonormal but the E block is no longer mapped onto itself by C3v.
+  int umbrella = -1, partner = -1;
+  for (const ModeSet& set : p.species.sets) {
+    if (set.species == "A1" && umbrella < 0) umbrella = set.modes.front();
+    if (set.species == "E" && partner < 0) partner = set.modes.front();
+  }
+  ASSERT_GE(umbrella, 0);
+  ASSERT_GE(partner, 0);
+  const double angle = 0.05;
+  const Eigen::VectorXd a = p.harmonic.mass_weighted_modes.col(umbrella);
+  const Eigen::VectorXd b = p.harmonic.mass_weighted_modes.col(partner);
+  p.harmonic.mass_weighted_modes.col(umbrella) = std::cos(angle) * a - std::sin(angle) * b;
+  p.harmonic.mass_weighted_modes.col(partner) = std::sin(angle) * a + std::cos(angle) * b;
+  FamiliesOptions options;
+  options.continue_families = false;
+  const FamiliesResult result = compute_molecular_families(*p.potential, p.harmonic, p.group, p.species, {}, options);
+  EXPECT_EQ(result.families.size(), 2u);  // the two A1 modes; no prediction for the E pairs
+  for (const FamilyResult& family : result.families) EXPECT_EQ(family.type.mode_numbers.size(), 1u);
+  bool explained = false;
+  for (const std::string& warning : result.warnings)
+    explained = explained || warning.find("point group was not used") != std::string::npos;
+  EXPECT_TRUE(explained);
+}
+
 TEST(MolecularFamilies, ReportAndCsvCoverEveryContinuedFamily) {
   const Prepared p = prepare("water.xyz", "water.toml");
   FamiliesOptions options = quick_options();
