@@ -1,8 +1,8 @@
 #include "anharmonic/amplitude_scan.hpp"
 
-#include <cmath>
-
 #include <fmt/format.h>
+
+#include <cmath>
 
 #include "anharmonic/force_constants.hpp"
 #include "core/error.hpp"
@@ -14,12 +14,15 @@ AmplitudeScanResult scan_normal_coordinates(const Potential& potential, const Ha
                                             const AmplitudeScanOptions& options) {
   if (!(options.max_quanta > 0.0))
     throw Error(fmt::format("amplitude-scan option max_quanta must be positive, got {}", options.max_quanta));
-  if (options.points < 2) throw Error(fmt::format("amplitude-scan option points must be at least 2, got {}", options.points));
+  if (options.points < 2)
+    throw Error(fmt::format("amplitude-scan option points must be at least 2, got {}", options.points));
   if (!(options.tolerance_cm1 >= 0.0))
-    throw Error(fmt::format("amplitude-scan option tolerance_cm1 must be non-negative, got {}", options.tolerance_cm1));
+    throw Error(fmt::format("amplitude-scan option tolerance_cm1 must be non-negative, got {}",
+                            options.tolerance_cm1));
   if (harmonic.coordinates_angstrom.size() != static_cast<Eigen::Index>(3 * potential.atom_count()))
     throw Error(fmt::format("the harmonic result has {} coordinates but the potential '{}' has {} atoms",
-                            harmonic.coordinates_angstrom.size(), potential.description(), potential.atom_count()));
+                            harmonic.coordinates_angstrom.size(), potential.description(),
+                            potential.atom_count()));
   const detail::NormalCoordinateFrame frame(harmonic);
   const int m = static_cast<int>(harmonic.mode_count());
   const double q_max = std::sqrt(2.0 * options.max_quanta + 1.0);
@@ -39,7 +42,8 @@ AmplitudeScanResult scan_normal_coordinates(const Potential& potential, const Ha
         double energy_cm1 = 0.0;
         std::string refused;
         try {
-          energy_cm1 = (potential.energy(frame.cartesian(displacement)) - reference) * units::cm1_per_kcal_mol;
+          energy_cm1 =
+              (potential.energy(frame.cartesian(displacement)) - reference) * units::cm1_per_kcal_mol;
         } catch (const Error& e) {
           refused = e.what();
         }
@@ -72,13 +76,15 @@ AmplitudeScanResult scan_normal_coordinates(const Potential& potential, const Ha
   result.energy_evaluations = potential.counts().energies - before;
   result.turns_over = !result.findings.empty();
   if (!result.turns_over) {
-    result.message = fmt::format("every mode rises monotonically out to {} quanta in both directions", options.max_quanta);
+    result.message =
+        fmt::format("every mode rises monotonically out to {} quanta in both directions", options.max_quanta);
   } else {
     const TurnoverFinding* lowest = &result.findings.front();
     for (const auto& f : result.findings)
       if (f.barrier_cm1 < lowest->barrier_cm1) lowest = &f;
     result.message = fmt::format(
-        "{} of {} mode directions turn over within {} quanta; the lowest barrier is {:.0f} cm-1 above the minimum "
+        "{} of {} mode directions turn over within {} quanta; the lowest barrier is {:.0f} cm-1 above the "
+        "minimum "
         "(mode {} in ascending order, direction {}, about {:.1f} quanta): results above that energy are not "
         "physical",
         result.findings.size(), 2 * m, options.max_quanta, lowest->barrier_cm1, lowest->mode + 1,

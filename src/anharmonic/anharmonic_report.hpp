@@ -22,14 +22,16 @@ std::vector<int> set_numbers_from_mode_order(const Vpt2Result& vpt2, const std::
 std::vector<int> default_set_numbers(const Vpt2Result& vpt2);
 
 struct AnharmonicReportOptions {
-  std::vector<int> set_numbers;   // per set (index into Vpt2Result::sets); empty: default_set_numbers
-  bool ascii = false;             // "v2" and "2v1+v3" instead of "ν₂"-style Greek (CSV keeps its own rule)
+  std::vector<int> set_numbers;  // per set (index into Vpt2Result::sets); empty: default_set_numbers
+  bool ascii = false;            // "v2" and "2v1+v3" instead of "ν₂"-style Greek (CSV keeps its own rule)
 };
 
 // "ν1", "2ν2", "ν1+ν3" (numbers in ascending order); ASCII uses "v".
-std::string level_label(const std::vector<int>& set_quanta, const std::vector<int>& set_numbers, bool ascii = false);
+std::string level_label(const std::vector<int>& set_quanta, const std::vector<int>& set_numbers,
+                        bool ascii = false);
 // "2ν2 / ν1" style description of a resonance's partners.
-std::string resonance_label(const Resonance& resonance, const std::vector<int>& set_numbers, bool ascii = false);
+std::string resonance_label(const Resonance& resonance, const std::vector<int>& set_numbers,
+                            bool ascii = false);
 
 // The line list as CSV text (UTF-8, header row, one row per level sorted by the best
 // position: resonance-corrected where a polyad applies, else anharmonic). Throws Error for

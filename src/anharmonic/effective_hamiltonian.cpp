@@ -32,7 +32,8 @@ double factorial(int n) {
 
 }  // namespace
 
-AnharmonicOperator::AnharmonicOperator(const ForceConstantTensors& constants, const Eigen::VectorXd& frequencies_cm1)
+AnharmonicOperator::AnharmonicOperator(const ForceConstantTensors& constants,
+                                       const Eigen::VectorXd& frequencies_cm1)
     : constants_(constants), omega_(frequencies_cm1) {
   for (const auto& entry : constants.cubic_entries(0.0)) {
     CubicTerm t;
@@ -62,7 +63,8 @@ double AnharmonicOperator::constant(const std::vector<int>& indices) const {
   return constants_.quartic(indices[0], indices[1], indices[2], indices[3]);
 }
 
-double AnharmonicOperator::term(const std::vector<int>& counts, const Quanta& m, const Quanta& n, int rank) const {
+double AnharmonicOperator::term(const std::vector<int>& counts, const Quanta& m, const Quanta& n,
+                                int rank) const {
   std::vector<int> indices;
   for (std::size_t i = 0; i < counts.size(); ++i)
     for (int c = 0; c < counts[i]; ++c) indices.push_back(static_cast<int>(i));
@@ -140,7 +142,8 @@ std::map<Quanta, double> AnharmonicOperator::apply_cubic(const Quanta& n) const 
   return result;
 }
 
-double AnharmonicOperator::second_order(const Quanta& m, const Quanta& n, const std::set<Quanta>& excluded) const {
+double AnharmonicOperator::second_order(const Quanta& m, const Quanta& n,
+                                        const std::set<Quanta>& excluded) const {
   const auto from_m = apply_cubic(m);
   const auto from_n = m == n ? from_m : apply_cubic(n);
   const double em = zeroth_order(m), en = zeroth_order(n);

@@ -1,5 +1,7 @@
 #include "anharmonic/force_constants.hpp"
 
+#include <fmt/format.h>
+
 #include <algorithm>
 #include <array>
 #include <cmath>
@@ -7,8 +9,6 @@
 #include <optional>
 #include <set>
 #include <utility>
-
-#include <fmt/format.h>
 
 #include "core/error.hpp"
 #include "core/units.hpp"
@@ -19,8 +19,7 @@ namespace overtone {
 // Tensors
 
 ForceConstantTensors::ForceConstantTensors(int mode_count)
-    : mode_count_(mode_count),
-      cubic_(static_cast<std::size_t>(mode_count) * mode_count * mode_count, 0.0) {}
+    : mode_count_(mode_count), cubic_(static_cast<std::size_t>(mode_count) * mode_count * mode_count, 0.0) {}
 
 void ForceConstantTensors::set_cubic(int i, int j, int k, double value) {
   cubic_[index3(i, j, k)] = value;
@@ -52,7 +51,8 @@ void ForceConstantTensors::set_quartic(int i, int j, int k, int l, double value)
   quartic_[quartic_key(i, j, k, l)] = value;
 }
 
-std::vector<ForceConstantTensors::CubicEntry> ForceConstantTensors::cubic_entries(double threshold_cm1) const {
+std::vector<ForceConstantTensors::CubicEntry> ForceConstantTensors::cubic_entries(
+    double threshold_cm1) const {
   std::vector<CubicEntry> entries;
   for (int i = 0; i < mode_count_; ++i)
     for (int j = i; j < mode_count_; ++j)
@@ -63,7 +63,8 @@ std::vector<ForceConstantTensors::CubicEntry> ForceConstantTensors::cubic_entrie
   return entries;
 }
 
-std::vector<ForceConstantTensors::QuarticEntry> ForceConstantTensors::quartic_entries(double threshold_cm1) const {
+std::vector<ForceConstantTensors::QuarticEntry> ForceConstantTensors::quartic_entries(
+    double threshold_cm1) const {
   std::vector<QuarticEntry> entries;
   for (const auto& [key, value] : quartic_) {
     if (!(std::abs(value) > threshold_cm1)) continue;
@@ -78,15 +79,18 @@ std::vector<ForceConstantTensors::QuarticEntry> ForceConstantTensors::quartic_en
 
 std::string to_string(ForceConstantStatus status) {
   switch (status) {
-    case ForceConstantStatus::ok: return "ok";
-    case ForceConstantStatus::not_a_minimum: return "not_a_minimum";
+    case ForceConstantStatus::ok:
+      return "ok";
+    case ForceConstantStatus::not_a_minimum:
+      return "not_a_minimum";
   }
   return "unknown";
 }
 
 void validate(const ForceConstantOptions& options) {
   if (!(options.step > 0.0 && options.step <= 0.5))
-    throw Error(fmt::format("force-constant option step must lie in (0, 0.5] (dimensionless), got {}", options.step));
+    throw Error(
+        fmt::format("force-constant option step must lie in (0, 0.5] (dimensionless), got {}", options.step));
   if (options.full_quartic_max_modes < 0)
     throw Error(fmt::format("force-constant option full_quartic_max_modes must be non-negative, got {}",
                             options.full_quartic_max_modes));
@@ -94,7 +98,8 @@ void validate(const ForceConstantOptions& options) {
     throw Error(fmt::format("force-constant option symmetry_tolerance must be positive, got {}",
                             options.symmetry_tolerance));
   if (!(options.reuse_tolerance > 0.0))
-    throw Error(fmt::format("force-constant option reuse_tolerance must be positive, got {}", options.reuse_tolerance));
+    throw Error(fmt::format("force-constant option reuse_tolerance must be positive, got {}",
+                            options.reuse_tolerance));
   if (!(options.minimum_frequency_cm1 > 0.0))
     throw Error(fmt::format("force-constant option minimum_frequency_cm1 must be positive (cm-1), got {}",
                             options.minimum_frequency_cm1));
@@ -115,7 +120,8 @@ NormalCoordinateFrame::NormalCoordinateFrame(const HarmonicResult& harmonic)
     const double omega = std::sqrt(std::abs(harmonic.eigenvalues[k]));
     const double length_per_q = std::sqrt(units::hbar_internal / omega);
     for (Eigen::Index r = 0; r < n; ++r)
-      to_cartesian(r, k) = harmonic.mass_weighted_modes(r, k) * length_per_q / std::sqrt(harmonic.masses_da[r / 3]);
+      to_cartesian(r, k) =
+          harmonic.mass_weighted_modes(r, k) * length_per_q / std::sqrt(harmonic.masses_da[r / 3]);
   }
 }
 
@@ -140,10 +146,10 @@ template <std::size_t Rank>
 double invariant_overlap(const ModeSymmetry& symmetry, std::array<int, Rank> indices) {
   std::sort(indices.begin(), indices.end());
   bool all_one_dimensional = true;
-  const auto sets = symmetry.sets();
+  const auto& set_of = symmetry.degenerate_set;
   for (int index : indices)
-    all_one_dimensional =
-        all_one_dimensional && sets[static_cast<std::size_t>(symmetry.degenerate_set[static_cast<std::size_t>(index)])].size() == 1;
+    all_one_dimensional = all_one_dimensional && std::count(set_of.begin(), set_of.end(),
+                                                            set_of[static_cast<std::size_t>(index)]) == 1;
   double total = 0.0;
   if (all_one_dimensional) {
     for (const auto& r : symmetry.operations) {
@@ -197,20 +203,30 @@ double average_block(const ModeSymmetry& symmetry, const std::array<std::vector<
     for (std::size_t a = 0; a < Rank; ++a) idx[a] = modes[a][static_cast<std::size_t>(pos[a])];
     block[f] = get(idx);
   }
-  for (const auto& r : symmetry.operations)
-    for (std::size_t out = 0; out < total; ++out) {
-      const auto po = unflatten(out);
-      double sum = 0.0;
-      for (std::size_t in = 0; in < total; ++in) {
-        if (block[in] == 0.0) continue;
-        const auto pi = unflatten(in);
-        double product = block[in];
-        for (std::size_t a = 0; a < Rank && product != 0.0; ++a)
-          product *= r(modes[a][static_cast<std::size_t>(po[a])], modes[a][static_cast<std::size_t>(pi[a])]);
-        sum += product;
+  // R(g) applied to one index at a time: Rank·total·d operations per g instead of total².
+  std::array<std::size_t, Rank> stride{};
+  stride[Rank - 1] = 1;
+  for (std::size_t a = Rank - 1; a-- > 0;) stride[a] = stride[a + 1] * static_cast<std::size_t>(sizes[a + 1]);
+  std::vector<double> current(total), next(total);
+  for (const auto& r : symmetry.operations) {
+    current = block;
+    for (std::size_t a = 0; a < Rank; ++a) {
+      std::fill(next.begin(), next.end(), 0.0);
+      const auto& axis_modes = modes[a];
+      for (std::size_t f = 0; f < total; ++f) {
+        if (current[f] == 0.0) continue;
+        const int from = static_cast<int>((f / stride[a]) % static_cast<std::size_t>(sizes[a]));
+        const std::size_t base = f - static_cast<std::size_t>(from) * stride[a];
+        for (int to = 0; to < sizes[a]; ++to) {
+          const double factor =
+              r(axis_modes[static_cast<std::size_t>(to)], axis_modes[static_cast<std::size_t>(from)]);
+          if (factor != 0.0) next[base + static_cast<std::size_t>(to) * stride[a]] += factor * current[f];
+        }
       }
-      averaged[out] += sum;
+      current.swap(next);
     }
+    for (std::size_t f = 0; f < total; ++f) averaged[f] += current[f];
+  }
   double change = 0.0;
   for (std::size_t f = 0; f < total; ++f) {
     averaged[f] /= static_cast<double>(symmetry.order());
@@ -245,7 +261,9 @@ double symmetrize_over_group(ForceConstantTensors& constants, const ModeSymmetry
       for (int c = b; c < set_count; ++c)
         change = std::max(change, average_block<3>(symmetry, {sets[a], sets[b], sets[c]}, get3, put3));
   auto get4 = [&](const std::array<int, 4>& x) { return constants.quartic(x[0], x[1], x[2], x[3]); };
-  auto put4 = [&](const std::array<int, 4>& x, double v) { constants.set_quartic(x[0], x[1], x[2], x[3], v); };
+  auto put4 = [&](const std::array<int, 4>& x, double v) {
+    constants.set_quartic(x[0], x[1], x[2], x[3], v);
+  };
   for (int a = 0; a < set_count; ++a)
     for (int b = a; b < set_count; ++b)
       for (int c = b; c < set_count; ++c)
@@ -256,7 +274,8 @@ double symmetrize_over_group(ForceConstantTensors& constants, const ModeSymmetry
               for (int k : sets[c])
                 for (int l : sets[d]) complete = complete && constants.has_quartic(i, j, k, l);
           if (complete)
-            change = std::max(change, average_block<4>(symmetry, {sets[a], sets[b], sets[c], sets[d]}, get4, put4));
+            change = std::max(change,
+                              average_block<4>(symmetry, {sets[a], sets[b], sets[c], sets[d]}, get4, put4));
         }
   return change;
 }
@@ -282,8 +301,12 @@ class DisplacedEvaluator {
  public:
   DisplacedEvaluator(const Potential& potential, const detail::NormalCoordinateFrame& frame,
                      const std::vector<Eigen::MatrixXd>* operations, double step)
-      : potential_(potential), frame_(frame), operations_(operations), step_(step),
-        analytic_(potential.has_analytic_hessian()), m_(static_cast<int>(frame.frequencies_cm1.size())) {}
+      : potential_(potential),
+        frame_(frame),
+        operations_(operations),
+        step_(step),
+        analytic_(potential.has_analytic_hessian()),
+        m_(static_cast<int>(frame.frequencies_cm1.size())) {}
 
   const Eigen::MatrixXd& hessian(const Point& p) {
     if (auto it = hessians_.find(p); it != hessians_.end()) return it->second;
@@ -304,9 +327,10 @@ class DisplacedEvaluator {
       h = 0.5 * (h + h.transpose()).eval();
     }
     if (!h.allFinite())
-      throw Error(fmt::format("the potential '{}' gave a non-finite hessian at a displacement of the force-constant "
-                              "scheme",
-                              potential_.description()));
+      throw Error(
+          fmt::format("the potential '{}' gave a non-finite hessian at a displacement of the force-constant "
+                      "scheme",
+                      potential_.description()));
     return hessians_.emplace(p, std::move(h)).first->second;
   }
 
@@ -330,17 +354,18 @@ class DisplacedEvaluator {
       potential_.energy_and_gradient(position(p), cartesian);
       g = frame_.gradient_q(cartesian);
       if (!g.allFinite())
-        throw Error(fmt::format("the potential '{}' gave a non-finite gradient at a displacement of the "
-                                "force-constant scheme",
-                                potential_.description()));
+        throw Error(
+            fmt::format("the potential '{}' gave a non-finite gradient at a displacement of the "
+                        "force-constant scheme",
+                        potential_.description()));
     }
     return gradients_.emplace(p, std::move(g)).first->second;
   }
 
   // An operation g and an already computed point equal to R(g)·p.
   template <class Map>
-  std::optional<std::pair<Eigen::MatrixXd, typename Map::const_iterator>> symmetric_image(const Point& p,
-                                                                                          const Map& map) const {
+  std::optional<std::pair<Eigen::MatrixXd, typename Map::const_iterator>> symmetric_image(
+      const Point& p, const Map& map) const {
     if (!operations_) return std::nullopt;
     Eigen::VectorXd v(m_);
     for (int k = 0; k < m_; ++k) v[k] = p[static_cast<std::size_t>(k)];
@@ -398,7 +423,8 @@ std::vector<Eigen::MatrixXd> cleaned_operations(const ModeSymmetry& symmetry) {
       for (Eigen::Index j = 0; j < r.cols(); ++j)
         if (set_of[static_cast<std::size_t>(i)] != set_of[static_cast<std::size_t>(j)]) r(i, j) = 0.0;
     for (const auto& members : sets)
-      if (members.size() == 1) r(members.front(), members.front()) = r(members.front(), members.front()) < 0.0 ? -1.0 : 1.0;
+      if (members.size() == 1)
+        r(members.front(), members.front()) = r(members.front(), members.front()) < 0.0 ? -1.0 : 1.0;
   }
   return result;
 }
@@ -411,19 +437,21 @@ ForceConstantResult compute_force_constants(const Potential& potential, const Ha
 }
 
 ForceConstantResult compute_force_constants(const Potential& potential, const HarmonicResult& harmonic,
-                                            const ModeSymmetry& symmetry, const ForceConstantOptions& options) {
+                                            const ModeSymmetry& symmetry,
+                                            const ForceConstantOptions& options) {
   validate(options);
   const int m = static_cast<int>(harmonic.mode_count());
   if (m < 1) throw Error("the harmonic result has no vibrational modes");
   if (harmonic.coordinates_angstrom.size() != static_cast<Eigen::Index>(3 * potential.atom_count()))
     throw Error(fmt::format("the harmonic result is for {} coordinates but the potential '{}' has {} atoms",
-                            harmonic.coordinates_angstrom.size(), potential.description(), potential.atom_count()));
+                            harmonic.coordinates_angstrom.size(), potential.description(),
+                            potential.atom_count()));
   if (symmetry.mode_count() != static_cast<std::size_t>(m))
     throw Error(fmt::format("the mode symmetry covers {} modes, expected {}", symmetry.mode_count(), m));
   for (const auto& r : symmetry.operations)
     if (r.rows() != m || r.cols() != m)
-      throw Error(fmt::format("a symmetry matrix on the normal coordinates is {}x{}, expected {}x{}", r.rows(),
-                              r.cols(), m, m));
+      throw Error(fmt::format("a symmetry matrix on the normal coordinates is {}x{}, expected {}x{}",
+                              r.rows(), r.cols(), m, m));
 
   ForceConstantResult result;
   result.frequencies_cm1 = harmonic.frequencies_cm1;
@@ -443,21 +471,25 @@ ForceConstantResult compute_force_constants(const Potential& potential, const Ha
   result.symmetry_used = options.use_symmetry && symmetry.has_group() &&
                          symmetry.representation_error <= options.symmetry_tolerance;
   if (options.use_symmetry && symmetry.has_group() && !result.symmetry_used)
-    result.warnings.push_back(fmt::format(
-        "the point group ({}) was not used: its matrices on the normal coordinates deviate by {:.2g}, above the "
-        "tolerance {:.2g} (symmetrize the geometry and Hessian first)",
-        symmetry.point_group.empty() ? "given" : symmetry.point_group, symmetry.representation_error,
-        options.symmetry_tolerance));
+    result.warnings.push_back(
+        fmt::format("the point group ({}) was not used: its matrices on the normal coordinates deviate by "
+                    "{:.2g}, above the "
+                    "tolerance {:.2g} (symmetrize the geometry and Hessian first)",
+                    symmetry.point_group.empty() ? "given" : symmetry.point_group,
+                    symmetry.representation_error, options.symmetry_tolerance));
 
-  result.symmetry_reused_hessians = result.symmetry_used && symmetry.representation_error <= options.reuse_tolerance;
+  result.symmetry_reused_hessians =
+      result.symmetry_used && symmetry.representation_error <= options.reuse_tolerance;
   if (result.symmetry_used && !result.symmetry_reused_hessians)
     result.warnings.push_back(fmt::format(
-        "displaced Hessians were not reused through the point group: its matrices on the normal coordinates deviate "
+        "displaced Hessians were not reused through the point group: its matrices on the normal coordinates "
+        "deviate "
         "by {:.2g}, above {:.2g} (symmetrize the geometry and Hessian before the harmonic analysis)",
         symmetry.representation_error, options.reuse_tolerance));
   const detail::NormalCoordinateFrame frame(harmonic);
   const std::vector<Eigen::MatrixXd> operations = cleaned_operations(symmetry);
-  DisplacedEvaluator evaluator(potential, frame, result.symmetry_reused_hessians ? &operations : nullptr, options.step);
+  DisplacedEvaluator evaluator(potential, frame, result.symmetry_reused_hessians ? &operations : nullptr,
+                               options.step);
   const double h = options.step;
   result.full_quartic = m <= options.full_quartic_max_modes;
   result.method = potential.has_analytic_hessian() ? "analytic Hessians"
@@ -580,9 +612,10 @@ ForceConstantResult compute_force_constants(const Potential& potential, const Ha
         ++result.forbidden_quartic;
       }
   }
-  result.message = fmt::format("{} cubic and {} quartic constants from {} displaced Hessians ({} by symmetry), {}",
-                               m * (m + 1) * (m + 2) / 6, result.constants.quartic_entries(-1.0).size(),
-                               result.displaced_hessians, result.hessians_from_symmetry, result.method);
+  result.message =
+      fmt::format("{} cubic and {} quartic constants from {} displaced Hessians ({} by symmetry), {}",
+                  m * (m + 1) * (m + 2) / 6, result.constants.quartic_entries(-1.0).size(),
+                  result.displaced_hessians, result.hessians_from_symmetry, result.method);
   return result;
 }
 

@@ -14,7 +14,8 @@
 // ±h q_k ± h q_l:
 //   φ_ijk  = [H_ij(+h e_k) − H_ij(−h e_k)] / (2h)
 //   φ_ijkk = [H_ij(+h e_k) − 2 H_ij(0) + H_ij(−h e_k)] / h²
-//   φ_ijkl = [H_ij(+h e_k + h e_l) − H_ij(+h e_k − h e_l) − H_ij(−h e_k + h e_l) + H_ij(−h e_k − h e_l)] / (4h²)
+//   φ_ijkl = [H_ij(+h e_k + h e_l) − H_ij(+h e_k − h e_l) − H_ij(−h e_k + h e_l) + H_ij(−h e_k − h e_l)] /
+//   (4h²)
 // Hessians are analytic where the potential has them; otherwise each H_q comes from
 // central differences of gradients along the normal coordinates with the same step, so
 // the displaced points are shared (2M² + 1 gradients for all cubic and all semi-diagonal
@@ -51,12 +52,12 @@ class ForceConstantTensors {
   void set_quartic(int i, int j, int k, int l, double value);
 
   struct CubicEntry {
-    int i, j, k;       // i ≤ j ≤ k
-    double value;      // cm⁻¹
+    int i, j, k;   // i ≤ j ≤ k
+    double value;  // cm⁻¹
   };
   struct QuarticEntry {
-    int i, j, k, l;    // i ≤ j ≤ k ≤ l
-    double value;      // cm⁻¹
+    int i, j, k, l;  // i ≤ j ≤ k ≤ l
+    double value;    // cm⁻¹
   };
   // Unique constants with |value| > threshold (cm⁻¹), sorted by indices.
   std::vector<CubicEntry> cubic_entries(double threshold_cm1 = 0.0) const;
@@ -112,15 +113,15 @@ struct ForceConstantResult {
   std::string message;
   std::vector<std::string> warnings;
 
-  Eigen::VectorXd frequencies_cm1;   // ω_i, ascending (HarmonicResult order)
-  ForceConstantTensors constants;    // φ in cm⁻¹
-  bool full_quartic = false;         // all φ_ijkl computed
-  ModeSymmetry symmetry;             // the group data used (trivial if none)
-  bool symmetry_used = false;        // false if not given, disabled or not exact enough
+  Eigen::VectorXd frequencies_cm1;        // ω_i, ascending (HarmonicResult order)
+  ForceConstantTensors constants;         // φ in cm⁻¹
+  bool full_quartic = false;              // all φ_ijkl computed
+  ModeSymmetry symmetry;                  // the group data used (trivial if none)
+  bool symmetry_used = false;             // false if not given, disabled or not exact enough
   bool symmetry_reused_hessians = false;  // displaced Hessians were reused through the group
 
-  std::string method;                // "analytic Hessians" or "Hessians from central differences of gradients"
-  double step = 0.0;                 // h actually used (dimensionless)
+  std::string method;  // "analytic Hessians" or "Hessians from central differences of gradients"
+  double step = 0.0;   // h actually used (dimensionless)
 
   // Diagnostics.
   double permutation_spread_cm1 = 0.0;   // largest difference between estimates of one constant
@@ -129,8 +130,8 @@ struct ForceConstantResult {
   std::size_t forbidden_quartic = 0;     // unique computed φ_ijkl that symmetry forces to zero
   std::size_t displaced_hessians = 0;    // normal-coordinate Hessians the scheme needs (incl. the reference)
   std::size_t hessians_from_symmetry = 0;  // of those, obtained from another by a group operation
-  EvaluationCounts evaluations;          // potential evaluations this stage made
-  EvaluationCounts naive_evaluations;    // what the same scheme needs without symmetry
+  EvaluationCounts evaluations;            // potential evaluations this stage made
+  EvaluationCounts naive_evaluations;      // what the same scheme needs without symmetry
 
   bool ok() const { return status == ForceConstantStatus::ok; }
   std::size_t mode_count() const { return static_cast<std::size_t>(frequencies_cm1.size()); }
@@ -154,9 +155,9 @@ namespace detail {
 
 // Conversion between dimensionless normal coordinates and Cartesians at a harmonic result.
 struct NormalCoordinateFrame {
-  Eigen::VectorXd reference;         // x_eq, Å
-  Eigen::MatrixXd to_cartesian;      // 3N × M: x = x_eq + to_cartesian · q (Å per unit q)
-  Eigen::VectorXd frequencies_cm1;   // ω
+  Eigen::VectorXd reference;        // x_eq, Å
+  Eigen::MatrixXd to_cartesian;     // 3N × M: x = x_eq + to_cartesian · q (Å per unit q)
+  Eigen::VectorXd frequencies_cm1;  // ω
 
   explicit NormalCoordinateFrame(const HarmonicResult& harmonic);
   Eigen::VectorXd cartesian(const Eigen::VectorXd& q) const { return reference + to_cartesian * q; }

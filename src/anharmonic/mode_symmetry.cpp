@@ -1,10 +1,10 @@
 #include "anharmonic/mode_symmetry.hpp"
 
+#include <fmt/format.h>
+
 #include <algorithm>
 #include <cmath>
 #include <numeric>
-
-#include <fmt/format.h>
 
 #include "core/error.hpp"
 #include "core/units.hpp"
@@ -41,7 +41,8 @@ std::vector<int> canonical_set_ids(const std::vector<int>& root_of_mode) {
 
 int find_root(std::vector<int>& parent, int i) {
   while (parent[static_cast<std::size_t>(i)] != i) {
-    parent[static_cast<std::size_t>(i)] = parent[static_cast<std::size_t>(parent[static_cast<std::size_t>(i)])];
+    parent[static_cast<std::size_t>(i)] =
+        parent[static_cast<std::size_t>(parent[static_cast<std::size_t>(i)])];
     i = parent[static_cast<std::size_t>(i)];
   }
   return i;
@@ -68,7 +69,9 @@ void assign_species(ModeSymmetry& symmetry) {
       if (multiplicities[k] == 1.0) found = static_cast<int>(k);
     }
     if (!integral || total != 1 || found < 0) continue;
-    for (int mode : members) symmetry.species[static_cast<std::size_t>(mode)] = symmetry.irreps[static_cast<std::size_t>(found)].label;
+    for (int mode : members)
+      symmetry.species[static_cast<std::size_t>(mode)] =
+          symmetry.irreps[static_cast<std::size_t>(found)].label;
   }
 }
 
@@ -76,7 +79,8 @@ void assign_species(ModeSymmetry& symmetry) {
 
 ModeSymmetry trivial_mode_symmetry(const HarmonicResult& harmonic, double degeneracy_tolerance_cm1) {
   if (!(degeneracy_tolerance_cm1 >= 0.0))
-    throw Error(fmt::format("degeneracy tolerance must be non-negative (cm-1), got {}", degeneracy_tolerance_cm1));
+    throw Error(
+        fmt::format("degeneracy tolerance must be non-negative (cm-1), got {}", degeneracy_tolerance_cm1));
   const int m = static_cast<int>(harmonic.mode_count());
   ModeSymmetry symmetry;
   symmetry.operation_names = {"E"};
@@ -84,7 +88,8 @@ ModeSymmetry trivial_mode_symmetry(const HarmonicResult& harmonic, double degene
   std::vector<int> root(static_cast<std::size_t>(m));
   for (int k = 0; k < m; ++k) {
     const bool joins_previous =
-        k > 0 && std::abs(harmonic.frequencies_cm1[k] - harmonic.frequencies_cm1[k - 1]) <= degeneracy_tolerance_cm1;
+        k > 0 &&
+        std::abs(harmonic.frequencies_cm1[k] - harmonic.frequencies_cm1[k - 1]) <= degeneracy_tolerance_cm1;
     root[static_cast<std::size_t>(k)] = joins_previous ? root[static_cast<std::size_t>(k - 1)] : k;
   }
   symmetry.degenerate_set = canonical_set_ids(root);
@@ -94,7 +99,8 @@ ModeSymmetry trivial_mode_symmetry(const HarmonicResult& harmonic, double degene
 
 ModeSymmetry mode_symmetry_from_operations(const HarmonicResult& harmonic,
                                            const std::vector<CartesianSymmetryOperation>& operations,
-                                           const std::vector<SpeciesCharacters>& irreps, double block_tolerance) {
+                                           const std::vector<SpeciesCharacters>& irreps,
+                                           double block_tolerance) {
   const Eigen::MatrixXd& modes = harmonic.mass_weighted_modes;
   const Eigen::Index n = modes.rows();
   const int m = static_cast<int>(modes.cols());
@@ -113,26 +119,30 @@ ModeSymmetry mode_symmetry_from_operations(const HarmonicResult& harmonic,
   for (std::size_t g = 0; g < operations.size(); ++g) {
     const auto& op = operations[g];
     if (static_cast<int>(op.atom_permutation.size()) != atoms)
-      throw Error(fmt::format("operation '{}' permutes {} atoms, expected {}", op.name, op.atom_permutation.size(),
-                              atoms));
+      throw Error(fmt::format("operation '{}' permutes {} atoms, expected {}", op.name,
+                              op.atom_permutation.size(), atoms));
     std::vector<int> sorted = op.atom_permutation;
     std::sort(sorted.begin(), sorted.end());
     for (int a = 0; a < atoms; ++a)
       if (sorted[static_cast<std::size_t>(a)] != a)
         throw Error(fmt::format("operation '{}' has an atom permutation that is not a permutation of 0..{}",
                                 op.name, atoms - 1));
-    const double deviation = (op.matrix.transpose() * op.matrix - Eigen::Matrix3d::Identity()).cwiseAbs().maxCoeff();
+    const double deviation =
+        (op.matrix.transpose() * op.matrix - Eigen::Matrix3d::Identity()).cwiseAbs().maxCoeff();
     if (deviation > orthogonality_tolerance)
-      throw Error(fmt::format("operation '{}' is not orthogonal: largest |MᵀM − I| is {:.3g}, expected below {}",
-                              op.name, deviation, orthogonality_tolerance));
+      throw Error(
+          fmt::format("operation '{}' is not orthogonal: largest |MᵀM − I| is {:.3g}, expected below {}",
+                      op.name, deviation, orthogonality_tolerance));
     // Equivalent atoms have equal masses, so the operation acts on mass-weighted
     // displacements exactly as on Cartesian ones.
     Eigen::MatrixXd image(n, m);
     for (int a = 0; a < atoms; ++a)
-      image.middleRows(3 * op.atom_permutation[static_cast<std::size_t>(a)], 3) = op.matrix * modes.middleRows(3 * a, 3);
+      image.middleRows(3 * op.atom_permutation[static_cast<std::size_t>(a)], 3) =
+          op.matrix * modes.middleRows(3 * a, 3);
     Eigen::MatrixXd r = modes.transpose() * image;
-    const bool is_identity = (op.matrix - Eigen::Matrix3d::Identity()).cwiseAbs().maxCoeff() < orthogonality_tolerance &&
-                             std::is_sorted(op.atom_permutation.begin(), op.atom_permutation.end());
+    const bool is_identity =
+        (op.matrix - Eigen::Matrix3d::Identity()).cwiseAbs().maxCoeff() < orthogonality_tolerance &&
+        std::is_sorted(op.atom_permutation.begin(), op.atom_permutation.end());
     if (is_identity && identity < 0) identity = static_cast<int>(g);
     matrices.push_back(std::move(r));
   }
@@ -169,7 +179,8 @@ ModeSymmetry mode_symmetry_from_operations(const HarmonicResult& harmonic,
     error = std::max(error, (r.transpose() * r - Eigen::MatrixXd::Identity(m, m)).cwiseAbs().maxCoeff());
     for (int i = 0; i < m; ++i)
       for (int j = 0; j < m; ++j)
-        if (symmetry.degenerate_set[static_cast<std::size_t>(i)] != symmetry.degenerate_set[static_cast<std::size_t>(j)])
+        if (symmetry.degenerate_set[static_cast<std::size_t>(i)] !=
+            symmetry.degenerate_set[static_cast<std::size_t>(j)])
           error = std::max(error, std::abs(r(i, j)));
   }
   symmetry.representation_error = error;
@@ -182,10 +193,11 @@ SymmetryAdaptedHarmonic adapt_to_point_group(const HarmonicResult& harmonic, con
   const Eigen::Index n = harmonic.mass_weighted_modes.rows();
   const int m = static_cast<int>(harmonic.mode_count());
   if (species.modes.size() != static_cast<std::size_t>(m))
-    throw Error(fmt::format("the mode species cover {} modes, the harmonic result has {}", species.modes.size(), m));
+    throw Error(
+        fmt::format("the mode species cover {} modes, the harmonic result has {}", species.modes.size(), m));
   if (static_cast<Eigen::Index>(3 * group.permutations.front().size()) != n)
-    throw Error(fmt::format("the point group is for {} atoms, the harmonic result for {}", group.permutations.front().size(),
-                            n / 3));
+    throw Error(fmt::format("the point group is for {} atoms, the harmonic result for {}",
+                            group.permutations.front().size(), n / 3));
   SymmetryAdaptedHarmonic result;
   HarmonicResult& adapted = result.harmonic;
   adapted = harmonic;
@@ -197,12 +209,13 @@ SymmetryAdaptedHarmonic adapt_to_point_group(const HarmonicResult& harmonic, con
       const int k = set.modes[c];
       adapted.mass_weighted_modes.col(k) = set.adapted_modes.col(static_cast<Eigen::Index>(c));
       Eigen::VectorXd cartesian(n);
-      for (Eigen::Index r = 0; r < n; ++r) cartesian[r] = adapted.mass_weighted_modes(r, k) / std::sqrt(harmonic.masses_da[r / 3]);
+      for (Eigen::Index r = 0; r < n; ++r)
+        cartesian[r] = adapted.mass_weighted_modes(r, k) / std::sqrt(harmonic.masses_da[r / 3]);
       const double squared_norm = cartesian.squaredNorm();
       adapted.cartesian_displacements.col(k) = cartesian / std::sqrt(squared_norm);
       adapted.reduced_masses_da[k] = 1.0 / squared_norm;
-      adapted.force_constants_mdyn_per_angstrom[k] =
-          adapted.eigenvalues[k] * adapted.reduced_masses_da[k] * units::mdyn_per_angstrom_per_kcal_mol_per_angstrom2;
+      adapted.force_constants_mdyn_per_angstrom[k] = adapted.eigenvalues[k] * adapted.reduced_masses_da[k] *
+                                                     units::mdyn_per_angstrom_per_kcal_mol_per_angstrom2;
     }
   }
   std::vector<CartesianSymmetryOperation> operations;
@@ -239,7 +252,8 @@ double invariant_multiplicity(const std::vector<double>& characters) {
   return std::accumulate(characters.begin(), characters.end(), 0.0) / static_cast<double>(characters.size());
 }
 
-std::vector<double> irrep_multiplicities(const ModeSymmetry& symmetry, const std::vector<double>& characters) {
+std::vector<double> irrep_multiplicities(const ModeSymmetry& symmetry,
+                                         const std::vector<double>& characters) {
   std::vector<double> result;
   constexpr double integer_tolerance = 1e-3;
   for (const auto& irrep : symmetry.irreps) {
@@ -250,7 +264,8 @@ std::vector<double> irrep_multiplicities(const ModeSymmetry& symmetry, const std
     double norm = 0.0;
     for (double c : irrep.characters) norm += c * c;
     double multiplicity = norm > 0.0 ? sum / norm : 0.0;
-    if (std::abs(multiplicity - std::round(multiplicity)) < integer_tolerance) multiplicity = std::round(multiplicity);
+    if (std::abs(multiplicity - std::round(multiplicity)) < integer_tolerance)
+      multiplicity = std::round(multiplicity);
     result.push_back(multiplicity);
   }
   return result;

@@ -25,22 +25,22 @@ namespace overtone {
 // A point-group operation on Cartesian positions: x_{π(a)} − c = matrix · (x_a − c) for
 // every atom a, with c the centre of mass and π = atom_permutation (0-based).
 struct CartesianSymmetryOperation {
-  std::string name;                  // e.g. "C2", "σv(xz)"; informational
+  std::string name;                                      // e.g. "C2", "σv(xz)"; informational
   Eigen::Matrix3d matrix = Eigen::Matrix3d::Identity();  // orthogonal
-  std::vector<int> atom_permutation;                      // atom a is carried onto atom atom_permutation[a]
+  std::vector<int> atom_permutation;                     // atom a is carried onto atom atom_permutation[a]
 };
 
 // One irreducible representation (or a real pair of complex-conjugate ones) with its
 // character under each operation of ModeSymmetry::operations, in the same order.
 struct SpeciesCharacters {
-  std::string label;                 // Mulliken label, e.g. "A1", "B2", "E'", "Pi_u"
-  std::vector<double> characters;    // one per operation
-  bool ir_active = false;            // carries x, y or z
-  bool raman_active = false;         // carries a quadratic function
+  std::string label;               // Mulliken label, e.g. "A1", "B2", "E'", "Pi_u"
+  std::vector<double> characters;  // one per operation
+  bool ir_active = false;          // carries x, y or z
+  bool raman_active = false;       // carries a quadratic function
 };
 
 struct ModeSymmetry {
-  std::string point_group;                  // e.g. "C2v"; empty when unknown
+  std::string point_group;  // e.g. "C2v"; empty when unknown
   std::vector<std::string> operation_names;
   std::vector<Eigen::MatrixXd> operations;  // R(g), M × M, identity first
   std::vector<SpeciesCharacters> irreps;    // may be empty: then no species are assigned

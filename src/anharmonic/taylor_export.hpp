@@ -19,16 +19,14 @@ namespace overtone {
 //              (quartic constants that were not computed contribute nothing).
 // The molecule supplies the elements (its atoms must match the harmonic result's).
 // Throws Error for a force-constant result that is not ok or mismatched sizes.
-TaylorExpansionData taylor_expansion_from_force_constants(const ForceConstantResult& force_constants,
-                                                          const HarmonicResult& harmonic, const Molecule& molecule,
-                                                          ExpansionCoordinates coordinates,
-                                                          const std::string& title = "",
-                                                          double reference_energy_kcal_mol = 0.0);
+TaylorExpansionData taylor_expansion_from_force_constants(
+    const ForceConstantResult& force_constants, const HarmonicResult& harmonic, const Molecule& molecule,
+    ExpansionCoordinates coordinates, const std::string& title = "", double reference_energy_kcal_mol = 0.0);
 
 struct TaylorExportOptions {
   ExpansionCoordinates coordinates = ExpansionCoordinates::normal;
-  std::string title;                 // written into the file; empty: the molecule's formula
-  ForceConstantOptions force_constants;   // all φ_ijkl are requested whatever its limit says
+  std::string title;                     // written into the file; empty: the molecule's formula
+  ForceConstantOptions force_constants;  // all φ_ijkl are requested whatever its limit says
   TaylorWriteOptions write;
 };
 

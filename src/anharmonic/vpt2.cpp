@@ -1,12 +1,12 @@
 #include "anharmonic/vpt2.hpp"
 
+#include <fmt/format.h>
+
 #include <algorithm>
 #include <cmath>
 #include <map>
 #include <numeric>
 #include <set>
-
-#include <fmt/format.h>
 
 #include "anharmonic/effective_hamiltonian.hpp"
 #include "core/error.hpp"
@@ -16,34 +16,44 @@ namespace overtone {
 
 std::string to_string(Vpt2Status status) {
   switch (status) {
-    case Vpt2Status::ok: return "ok";
-    case Vpt2Status::polyad_truncated: return "polyad_truncated";
+    case Vpt2Status::ok:
+      return "ok";
+    case Vpt2Status::polyad_truncated:
+      return "polyad_truncated";
   }
   return "unknown";
 }
 
 std::string to_string(ResonanceKind kind) {
   switch (kind) {
-    case ResonanceKind::fermi_1: return "fermi-1";
-    case ResonanceKind::fermi_2: return "fermi-2";
-    case ResonanceKind::darling_dennison: return "darling-dennison";
+    case ResonanceKind::fermi_1:
+      return "fermi-1";
+    case ResonanceKind::fermi_2:
+      return "fermi-2";
+    case ResonanceKind::darling_dennison:
+      return "darling-dennison";
   }
   return "unknown";
 }
 
 std::string to_string(LevelKind kind) {
   switch (kind) {
-    case LevelKind::fundamental: return "fundamental";
-    case LevelKind::overtone: return "overtone";
-    case LevelKind::combination: return "combination";
-    case LevelKind::other: return "other";
+    case LevelKind::fundamental:
+      return "fundamental";
+    case LevelKind::overtone:
+      return "overtone";
+    case LevelKind::combination:
+      return "combination";
+    case LevelKind::other:
+      return "other";
   }
   return "unknown";
 }
 
 void validate(const Vpt2Options& options) {
   auto positive = [](double value, const char* name, const char* unit) {
-    if (!(value > 0.0)) throw Error(fmt::format("vpt2 option {} must be positive ({}), got {}", name, unit, value));
+    if (!(value > 0.0))
+      throw Error(fmt::format("vpt2 option {} must be positive ({}), got {}", name, unit, value));
   };
   positive(options.fermi_gap_cm1, "fermi_gap_cm1", "cm-1");
   positive(options.fermi_criterion_cm1, "fermi_criterion_cm1", "cm-1");
@@ -51,9 +61,11 @@ void validate(const Vpt2Options& options) {
   positive(options.darling_dennison_coupling_cm1, "darling_dennison_coupling_cm1", "cm-1");
   positive(options.level_degeneracy_tolerance_cm1, "level_degeneracy_tolerance_cm1", "cm-1");
   if (options.polyad_max_quanta < 2)
-    throw Error(fmt::format("vpt2 option polyad_max_quanta must be at least 2, got {}", options.polyad_max_quanta));
+    throw Error(
+        fmt::format("vpt2 option polyad_max_quanta must be at least 2, got {}", options.polyad_max_quanta));
   if (options.polyad_max_states < 2)
-    throw Error(fmt::format("vpt2 option polyad_max_states must be at least 2, got {}", options.polyad_max_states));
+    throw Error(
+        fmt::format("vpt2 option polyad_max_states must be at least 2, got {}", options.polyad_max_states));
 }
 
 namespace detail {
@@ -77,7 +89,8 @@ Eigen::MatrixXd anharmonicity_constants(const ForceConstantTensors& constants, c
   for (int i = 0; i < m; ++i)
     for (int j = i + 1; j < m; ++j) {
       double value = constants.quartic(i, i, j, j) / 4.0;
-      for (int k = 0; k < m; ++k) value -= constants.cubic(i, i, k) * constants.cubic(j, j, k) / (4.0 * omega[k]);
+      for (int k = 0; k < m; ++k)
+        value -= constants.cubic(i, i, k) * constants.cubic(j, j, k) / (4.0 * omega[k]);
       for (int k = 0; k < m; ++k) {
         const double phi = constants.cubic(i, j, k);
         if (phi == 0.0) continue;
@@ -125,7 +138,8 @@ void coriolis_constants(const HarmonicResult& harmonic, std::vector<Eigen::Matri
   const Eigen::MatrixXd& l = harmonic.mass_weighted_modes;
   const Eigen::Index m = l.cols();
   Eigen::MatrixXd rotated(l.rows(), m);
-  for (Eigen::Index a = 0; a < atoms; ++a) rotated.middleRows(3 * a, 3) = axes.transpose() * l.middleRows(3 * a, 3);
+  for (Eigen::Index a = 0; a < atoms; ++a)
+    rotated.middleRows(3 * a, 3) = axes.transpose() * l.middleRows(3 * a, 3);
   zeta.assign(3, Eigen::MatrixXd::Zero(m, m));
   for (int alpha = 0; alpha < 3; ++alpha) {
     const int beta = (alpha + 1) % 3, gamma = (alpha + 2) % 3;
@@ -158,7 +172,8 @@ namespace {
 using detail::Quanta;
 
 // All component states of a manifold: the quanta of each set distributed over its modes.
-std::vector<Quanta> manifold_states(const std::vector<int>& set_quanta, const std::vector<DegenerateSet>& sets, int m) {
+std::vector<Quanta> manifold_states(const std::vector<int>& set_quanta,
+                                    const std::vector<DegenerateSet>& sets, int m) {
   std::vector<Quanta> states{Quanta(static_cast<std::size_t>(m), 0)};
   for (std::size_t s = 0; s < sets.size(); ++s) {
     const int v = set_quanta[s];
@@ -172,7 +187,8 @@ std::vector<Quanta> manifold_states(const std::vector<int>& set_quanta, const st
         if (index + 1 == modes.size()) {
           counts[index] = left;
           Quanta state = base;
-          for (std::size_t c = 0; c < modes.size(); ++c) state[static_cast<std::size_t>(modes[c])] = counts[c];
+          for (std::size_t c = 0; c < modes.size(); ++c)
+            state[static_cast<std::size_t>(modes[c])] = counts[c];
           next.push_back(state);
           return;
         }
@@ -290,7 +306,9 @@ Vpt2Result run_vpt2(const ForceConstantResult& force_constants, const HarmonicRe
   if (options.include_coriolis)
     for (int i = 0; i < m; ++i)
       for (int j = 0; j < m; ++j) {
-        if (result.set_of_mode[static_cast<std::size_t>(i)] == result.set_of_mode[static_cast<std::size_t>(j)]) continue;
+        if (result.set_of_mode[static_cast<std::size_t>(i)] ==
+            result.set_of_mode[static_cast<std::size_t>(j)])
+          continue;
         double sum = 0.0;
         for (int alpha = 0; alpha < 3; ++alpha) {
           const double z = result.coriolis_zeta[static_cast<std::size_t>(alpha)](i, j);
@@ -319,10 +337,12 @@ Vpt2Result run_vpt2(const ForceConstantResult& force_constants, const HarmonicRe
 
   // Characters of the sets (and of their squares) under each operation.
   const std::size_t order = group_known ? symmetry.order() : 1;
-  std::vector<std::vector<double>> chi(static_cast<std::size_t>(set_count)), chi_square(static_cast<std::size_t>(set_count));
+  std::vector<std::vector<double>> chi(static_cast<std::size_t>(set_count)),
+      chi_square(static_cast<std::size_t>(set_count));
   for (int s = 0; s < set_count; ++s)
     for (std::size_t g = 0; g < order; ++g) {
-      const Eigen::MatrixXd& r = group_known ? symmetry.operations[g] : Eigen::MatrixXd::Identity(m, m).eval();
+      const Eigen::MatrixXd& r =
+          group_known ? symmetry.operations[g] : Eigen::MatrixXd::Identity(m, m).eval();
       const Eigen::MatrixXd r2 = r * r;
       double c = 0.0, c2 = 0.0;
       for (int mode : sets[static_cast<std::size_t>(s)].modes) {
@@ -382,16 +402,17 @@ Vpt2Result run_vpt2(const ForceConstantResult& force_constants, const HarmonicRe
   for (int s = 0; s < set_count; ++s)
     for (int t = 0; t < set_count; ++t) {
       if (s == t) continue;
-      const double gap = 2.0 * sets[static_cast<std::size_t>(s)].harmonic_cm1 - sets[static_cast<std::size_t>(t)].harmonic_cm1;
+      const double gap = 2.0 * sets[static_cast<std::size_t>(s)].harmonic_cm1 -
+                         sets[static_cast<std::size_t>(t)].harmonic_cm1;
       if (std::abs(gap) > options.fermi_gap_cm1) continue;
       Resonance r;
       r.kind = ResonanceKind::fermi_1;
       r.sets = {s, t};
       r.gap_cm1 = gap;
       r.coupling_cm1 = first_order_coupling(unit({{s, 2}}), unit({{t, 1}}));
-      r.symmetry_allowed =
-          average([&](std::size_t g) { return symmetric_square(s, g) * chi[static_cast<std::size_t>(t)][g]; }) >
-          multiplicity_threshold;
+      r.symmetry_allowed = average([&](std::size_t g) {
+                             return symmetric_square(s, g) * chi[static_cast<std::size_t>(t)][g];
+                           }) > multiplicity_threshold;
       fermi_flag(r);
       result.resonances.push_back(r);
     }
@@ -399,7 +420,8 @@ Vpt2Result run_vpt2(const ForceConstantResult& force_constants, const HarmonicRe
     for (int t = s + 1; t < set_count; ++t)
       for (int u = 0; u < set_count; ++u) {
         if (u == s || u == t) continue;
-        const double gap = sets[static_cast<std::size_t>(s)].harmonic_cm1 + sets[static_cast<std::size_t>(t)].harmonic_cm1 -
+        const double gap = sets[static_cast<std::size_t>(s)].harmonic_cm1 +
+                           sets[static_cast<std::size_t>(t)].harmonic_cm1 -
                            sets[static_cast<std::size_t>(u)].harmonic_cm1;
         if (std::abs(gap) > options.fermi_gap_cm1) continue;
         Resonance r;
@@ -408,7 +430,8 @@ Vpt2Result run_vpt2(const ForceConstantResult& force_constants, const HarmonicRe
         r.gap_cm1 = gap;
         r.coupling_cm1 = first_order_coupling(unit({{s, 1}, {t, 1}}), unit({{u, 1}}));
         r.symmetry_allowed = average([&](std::size_t g) {
-                               return chi[static_cast<std::size_t>(s)][g] * chi[static_cast<std::size_t>(t)][g] *
+                               return chi[static_cast<std::size_t>(s)][g] *
+                                      chi[static_cast<std::size_t>(t)][g] *
                                       chi[static_cast<std::size_t>(u)][g];
                              }) > multiplicity_threshold;
         fermi_flag(r);
@@ -416,8 +439,8 @@ Vpt2Result run_vpt2(const ForceConstantResult& force_constants, const HarmonicRe
       }
   for (int s = 0; s < set_count; ++s)
     for (int t = s + 1; t < set_count; ++t) {
-      const double gap =
-          2.0 * sets[static_cast<std::size_t>(s)].harmonic_cm1 - 2.0 * sets[static_cast<std::size_t>(t)].harmonic_cm1;
+      const double gap = 2.0 * sets[static_cast<std::size_t>(s)].harmonic_cm1 -
+                         2.0 * sets[static_cast<std::size_t>(t)].harmonic_cm1;
       if (std::abs(gap) > options.darling_dennison_gap_cm1) continue;
       Resonance r;
       r.kind = ResonanceKind::darling_dennison;
@@ -425,8 +448,9 @@ Vpt2Result run_vpt2(const ForceConstantResult& force_constants, const HarmonicRe
       r.gap_cm1 = gap;
       r.coupling_cm1 = second_order_coupling(unit({{s, 2}}), unit({{t, 2}}));
       r.criterion_value = r.coupling_cm1;
-      r.symmetry_allowed =
-          average([&](std::size_t g) { return symmetric_square(s, g) * symmetric_square(t, g); }) > multiplicity_threshold;
+      r.symmetry_allowed = average([&](std::size_t g) {
+                             return symmetric_square(s, g) * symmetric_square(t, g);
+                           }) > multiplicity_threshold;
       r.flagged = options.treat_resonances && r.coupling_cm1 >= options.darling_dennison_coupling_cm1 &&
                   (r.symmetry_allowed || !options.require_symmetry_allowed);
       result.resonances.push_back(r);
@@ -445,8 +469,9 @@ Vpt2Result run_vpt2(const ForceConstantResult& force_constants, const HarmonicRe
     const int sa = set_of[static_cast<std::size_t>(a)], sb = set_of[static_cast<std::size_t>(b)];
     return resonant_sets.count({std::min(sa, sb), std::max(sa, sb), set_of[static_cast<std::size_t>(c)]}) > 0;
   };
-  result.x_vibrational_cm1 = resonant_sets.empty() ? result.x_vibrational_plain_cm1
-                                                   : detail::anharmonicity_constants(constants, omega, resonant);
+  result.x_vibrational_cm1 = resonant_sets.empty()
+                                 ? result.x_vibrational_plain_cm1
+                                 : detail::anharmonicity_constants(constants, omega, resonant);
   result.x_cm1 = result.x_vibrational_cm1 + result.x_coriolis_cm1;
 
   // Moves between manifolds made by the flagged resonances (set-quanta differences).
@@ -459,7 +484,8 @@ Vpt2Result run_vpt2(const ForceConstantResult& force_constants, const HarmonicRe
   for (std::size_t k = 0; k < result.resonances.size(); ++k) {
     const auto& r = result.resonances[k];
     if (!r.flagged) continue;
-    if (r.kind == ResonanceKind::fermi_1) moves.push_back({unit({{r.sets[0], 2}, {r.sets[1], -1}}), static_cast<int>(k), true});
+    if (r.kind == ResonanceKind::fermi_1)
+      moves.push_back({unit({{r.sets[0], 2}, {r.sets[1], -1}}), static_cast<int>(k), true});
     if (r.kind == ResonanceKind::fermi_2)
       moves.push_back({unit({{r.sets[0], 1}, {r.sets[1], 1}, {r.sets[2], -1}}), static_cast<int>(k), true});
     if (r.kind == ResonanceKind::darling_dennison)
@@ -483,7 +509,8 @@ Vpt2Result run_vpt2(const ForceConstantResult& force_constants, const HarmonicRe
   for (int s = 0; s < set_count; ++s) wanted.push_back({unit({{s, 1}}), LevelKind::fundamental});
   for (int s = 0; s < set_count; ++s) wanted.push_back({unit({{s, 2}}), LevelKind::overtone});
   for (int s = 0; s < set_count; ++s)
-    for (int t = s + 1; t < set_count; ++t) wanted.push_back({unit({{s, 1}, {t, 1}}), LevelKind::combination});
+    for (int t = s + 1; t < set_count; ++t)
+      wanted.push_back({unit({{s, 1}, {t, 1}}), LevelKind::combination});
 
   // Closure of each wanted manifold under the flagged moves: the groups to diagonalize.
   std::map<std::vector<int>, int> group_of;
@@ -553,7 +580,8 @@ Vpt2Result run_vpt2(const ForceConstantResult& force_constants, const HarmonicRe
     for (Eigen::Index a = 0; a < size; ++a) {
       h(a, a) = detail::term_value(omega, result.x_cm1, states[static_cast<std::size_t>(a)]);
       for (Eigen::Index b = a + 1; b < size; ++b) {
-        const int va = manifold_of_state[static_cast<std::size_t>(a)], vb = manifold_of_state[static_cast<std::size_t>(b)];
+        const int va = manifold_of_state[static_cast<std::size_t>(a)],
+                  vb = manifold_of_state[static_cast<std::size_t>(b)];
         const Quanta& sa = states[static_cast<std::size_t>(a)];
         const Quanta& sb = states[static_cast<std::size_t>(b)];
         double value = 0.0;
@@ -574,20 +602,23 @@ Vpt2Result run_vpt2(const ForceConstantResult& force_constants, const HarmonicRe
     for (std::size_t v = 0; v < manifolds.size(); ++v) {
       std::vector<int> rows;
       for (Eigen::Index a = 0; a < size; ++a)
-        if (manifold_of_state[static_cast<std::size_t>(a)] == static_cast<int>(v)) rows.push_back(static_cast<int>(a));
+        if (manifold_of_state[static_cast<std::size_t>(a)] == static_cast<int>(v))
+          rows.push_back(static_cast<int>(a));
       Eigen::MatrixXd block(static_cast<Eigen::Index>(rows.size()), static_cast<Eigen::Index>(rows.size()));
       for (std::size_t i = 0; i < rows.size(); ++i)
         for (std::size_t j = 0; j < rows.size(); ++j)
           block(static_cast<Eigen::Index>(i), static_cast<Eigen::Index>(j)) = h(rows[i], rows[j]);
       const Eigen::SelfAdjointEigenSolver<Eigen::MatrixXd> solver(block);
-      for (const auto& cluster : cluster_eigenvalues(solver.eigenvalues(), options.level_degeneracy_tolerance_cm1)) {
+      for (const auto& cluster :
+           cluster_eigenvalues(solver.eigenvalues(), options.level_degeneracy_tolerance_cm1)) {
         Sublevel sub;
         sub.manifold = static_cast<int>(v);
         sub.vectors = Eigen::MatrixXd::Zero(size, static_cast<Eigen::Index>(cluster.size()));
         for (std::size_t c = 0; c < cluster.size(); ++c) {
           sub.energy += solver.eigenvalues()[cluster[c]] / static_cast<double>(cluster.size());
           for (std::size_t i = 0; i < rows.size(); ++i)
-            sub.vectors(rows[i], static_cast<Eigen::Index>(c)) = solver.eigenvectors()(static_cast<Eigen::Index>(i), cluster[c]);
+            sub.vectors(rows[i], static_cast<Eigen::Index>(c)) =
+                solver.eigenvectors()(static_cast<Eigen::Index>(i), cluster[c]);
         }
         sublevels_of_manifold[v].push_back(static_cast<int>(sublevels.size()));
         sublevels.push_back(std::move(sub));
@@ -608,7 +639,8 @@ Vpt2Result run_vpt2(const ForceConstantResult& force_constants, const HarmonicRe
       }
       for (std::size_t k = 0; k < sublevels.size(); ++k) {
         std::vector<double> characters;
-        for (const auto& d : representation) characters.push_back(detail::subspace_character(d, sublevels[k].vectors));
+        for (const auto& d : representation)
+          characters.push_back(detail::subspace_character(d, sublevels[k].vectors));
         sublevel_species[k] = detail::species_label(symmetry, characters);
         sublevel_multiplicities[k] = detail::irrep_multiplicities(symmetry, characters);
       }
@@ -623,8 +655,10 @@ Vpt2Result run_vpt2(const ForceConstantResult& force_constants, const HarmonicRe
         const auto repeats = std::count_if(subs.begin(), subs.end(), [&](int other) {
           return sublevel_species[static_cast<std::size_t>(other)] == species;
         });
-        sublevel_tags[static_cast<std::size_t>(subs[k])] =
-            species.empty() ? std::to_string(k + 1) : repeats > 1 ? species + "#" + std::to_string(k + 1) : species;
+        sublevel_tags[static_cast<std::size_t>(subs[k])] = species.empty() ? std::to_string(k + 1)
+                                                           : repeats > 1
+                                                               ? species + "#" + std::to_string(k + 1)
+                                                               : species;
       }
     }
 
@@ -635,29 +669,35 @@ Vpt2Result run_vpt2(const ForceConstantResult& force_constants, const HarmonicRe
     if (is_polyad) {
       const Eigen::SelfAdjointEigenSolver<Eigen::MatrixXd> solver(h);
       const auto clusters = cluster_eigenvalues(solver.eigenvalues(), options.level_degeneracy_tolerance_cm1);
-      Eigen::MatrixXd overlap(static_cast<Eigen::Index>(clusters.size()), static_cast<Eigen::Index>(sublevels.size()));
+      Eigen::MatrixXd overlap(static_cast<Eigen::Index>(clusters.size()),
+                              static_cast<Eigen::Index>(sublevels.size()));
       for (std::size_t c = 0; c < clusters.size(); ++c)
         for (std::size_t s = 0; s < sublevels.size(); ++s) {
           double w = 0.0;
-          for (int e : clusters[c]) w += (sublevels[s].vectors.transpose() * solver.eigenvectors().col(e)).squaredNorm();
-          overlap(static_cast<Eigen::Index>(c), static_cast<Eigen::Index>(s)) = w / static_cast<double>(clusters[c].size());
+          for (int e : clusters[c])
+            w += (sublevels[s].vectors.transpose() * solver.eigenvectors().col(e)).squaredNorm();
+          overlap(static_cast<Eigen::Index>(c), static_cast<Eigen::Index>(s)) =
+              w / static_cast<double>(clusters[c].size());
         }
       // Greedy one-to-one assignment, largest overlap first, equal degeneracy preferred.
       std::vector<std::tuple<double, int, int>> pairs;
       for (std::size_t c = 0; c < clusters.size(); ++c)
         for (std::size_t s = 0; s < sublevels.size(); ++s) {
           const bool same_size = static_cast<Eigen::Index>(clusters[c].size()) == sublevels[s].vectors.cols();
-          pairs.emplace_back((same_size ? 1.0 : 0.0) + overlap(static_cast<Eigen::Index>(c), static_cast<Eigen::Index>(s)),
-                             static_cast<int>(c), static_cast<int>(s));
+          pairs.emplace_back(
+              (same_size ? 1.0 : 0.0) + overlap(static_cast<Eigen::Index>(c), static_cast<Eigen::Index>(s)),
+              static_cast<int>(c), static_cast<int>(s));
         }
-      std::sort(pairs.begin(), pairs.end(), [](const auto& a, const auto& b) { return std::get<0>(a) > std::get<0>(b); });
+      std::sort(pairs.begin(), pairs.end(),
+                [](const auto& a, const auto& b) { return std::get<0>(a) > std::get<0>(b); });
       std::vector<bool> cluster_used(clusters.size(), false), sublevel_used(sublevels.size(), false);
       for (const auto& [score, c, s] : pairs) {
         if (cluster_used[static_cast<std::size_t>(c)] || sublevel_used[static_cast<std::size_t>(s)]) continue;
         cluster_used[static_cast<std::size_t>(c)] = sublevel_used[static_cast<std::size_t>(s)] = true;
         double energy = 0.0;
         for (int e : clusters[static_cast<std::size_t>(c)]) energy += solver.eigenvalues()[e];
-        corrected[static_cast<std::size_t>(s)] = energy / static_cast<double>(clusters[static_cast<std::size_t>(c)].size());
+        corrected[static_cast<std::size_t>(s)] =
+            energy / static_cast<double>(clusters[static_cast<std::size_t>(c)].size());
         for (std::size_t t = 0; t < sublevels.size(); ++t)
           composition[static_cast<std::size_t>(s)].push_back(overlap(c, static_cast<Eigen::Index>(t)));
       }
@@ -676,7 +716,8 @@ Vpt2Result run_vpt2(const ForceConstantResult& force_constants, const HarmonicRe
     // Levels of the line list in this group.
     std::vector<int> group_levels;
     for (std::size_t v = 0; v < manifolds.size(); ++v) {
-      const auto found = std::find_if(wanted.begin(), wanted.end(), [&](const auto& w) { return w.first == manifolds[v]; });
+      const auto found =
+          std::find_if(wanted.begin(), wanted.end(), [&](const auto& w) { return w.first == manifolds[v]; });
       if (found == wanted.end()) continue;
       const auto& subs = sublevels_of_manifold[v];
       for (std::size_t k = 0; k < subs.size(); ++k) {
@@ -688,7 +729,8 @@ Vpt2Result run_vpt2(const ForceConstantResult& force_constants, const HarmonicRe
         level.sublevel_count = static_cast<int>(subs.size());
         level.degeneracy = static_cast<int>(sub.vectors.cols());
         for (int s = 0; s < set_count; ++s)
-          level.harmonic_cm1 += manifolds[v][static_cast<std::size_t>(s)] * sets[static_cast<std::size_t>(s)].harmonic_cm1;
+          level.harmonic_cm1 +=
+              manifolds[v][static_cast<std::size_t>(s)] * sets[static_cast<std::size_t>(s)].harmonic_cm1;
         level.anharmonic_cm1 = sub.energy;
         level.species = sublevel_species[static_cast<std::size_t>(subs[k])];
         const auto& multiplicities = sublevel_multiplicities[static_cast<std::size_t>(subs[k])];
@@ -707,13 +749,13 @@ Vpt2Result run_vpt2(const ForceConstantResult& force_constants, const HarmonicRe
           for (std::size_t t = 0; t < weights.size(); ++t) {
             const Sublevel& other = sublevels[t];
             const auto& other_subs = sublevels_of_manifold[static_cast<std::size_t>(other.manifold)];
-            const int other_index = static_cast<int>(std::find(other_subs.begin(), other_subs.end(), static_cast<int>(t)) -
-                                                     other_subs.begin());
+            const int other_index = static_cast<int>(
+                std::find(other_subs.begin(), other_subs.end(), static_cast<int>(t)) - other_subs.begin());
             constexpr double negligible_weight = 1e-10;  // below round-off of the eigenvectors' squares
             if (weights[t] > negligible_weight)
               level.mixing.push_back({manifolds[static_cast<std::size_t>(other.manifold)], other_index,
-                                      static_cast<int>(other_subs.size()), sublevel_species[t], sublevel_tags[t],
-                                      weights[t]});
+                                      static_cast<int>(other_subs.size()), sublevel_species[t],
+                                      sublevel_tags[t], weights[t]});
           }
           std::sort(level.mixing.begin(), level.mixing.end(),
                     [](const LevelComponent& a, const LevelComponent& b) { return a.weight > b.weight; });
@@ -731,7 +773,8 @@ Vpt2Result run_vpt2(const ForceConstantResult& force_constants, const HarmonicRe
       for (std::size_t a = 0; a < manifolds.size(); ++a)
         for (std::size_t b = a + 1; b < manifolds.size(); ++b)
           if (const Move* move = connecting_move(manifolds[a], manifolds[b]))
-            if (std::find(polyad.resonances.begin(), polyad.resonances.end(), move->resonance) == polyad.resonances.end())
+            if (std::find(polyad.resonances.begin(), polyad.resonances.end(), move->resonance) ==
+                polyad.resonances.end())
               polyad.resonances.push_back(move->resonance);
       std::sort(polyad.resonances.begin(), polyad.resonances.end());
       // Partners: line-list levels of the polyad that appear in each other's mixing.
@@ -765,14 +808,17 @@ Vpt2Result run_vpt2(const ForceConstantResult& force_constants, const HarmonicRe
   std::vector<int> order_index(result.levels.size());
   std::iota(order_index.begin(), order_index.end(), 0);
   auto rank = [&](const VibrationalLevel& level) {
-    const auto it = std::find_if(wanted.begin(), wanted.end(), [&](const auto& w) { return w.first == level.set_quanta; });
+    const auto it = std::find_if(wanted.begin(), wanted.end(),
+                                 [&](const auto& w) { return w.first == level.set_quanta; });
     return std::make_pair(static_cast<int>(it - wanted.begin()), level.sublevel);
   };
   std::stable_sort(order_index.begin(), order_index.end(), [&](int a, int b) {
-    return rank(result.levels[static_cast<std::size_t>(a)]) < rank(result.levels[static_cast<std::size_t>(b)]);
+    return rank(result.levels[static_cast<std::size_t>(a)]) <
+           rank(result.levels[static_cast<std::size_t>(b)]);
   });
   std::vector<int> new_position(result.levels.size());
-  for (std::size_t k = 0; k < order_index.size(); ++k) new_position[static_cast<std::size_t>(order_index[k])] = static_cast<int>(k);
+  for (std::size_t k = 0; k < order_index.size(); ++k)
+    new_position[static_cast<std::size_t>(order_index[k])] = static_cast<int>(k);
   std::vector<VibrationalLevel> sorted;
   for (int k : order_index) sorted.push_back(result.levels[static_cast<std::size_t>(k)]);
   for (auto& level : sorted)
@@ -800,7 +846,8 @@ Vpt2Result run_vpt2(const ForceConstantResult& force_constants, const HarmonicRe
     if (singles != 1 || pairs != 1) continue;
     double cross = 0.0;
     for (int c = 0; c < m; ++c)
-      if (set_of[static_cast<std::size_t>(c)] != s) cross += 0.5 * (result.x_cm1(c, modes[0]) + result.x_cm1(c, modes[1]));
+      if (set_of[static_cast<std::size_t>(c)] != s)
+        cross += 0.5 * (result.x_cm1(c, modes[0]) + result.x_cm1(c, modes[1]));
     DegenerateSetConstants constants_of_set;
     constants_of_set.set = s;
     constants_of_set.g_cm1 = (pair - single) / 4.0;
@@ -811,8 +858,9 @@ Vpt2Result run_vpt2(const ForceConstantResult& force_constants, const HarmonicRe
   std::size_t flagged = 0;
   for (const auto& r : result.resonances) flagged += r.flagged ? 1 : 0;
   if (result.message.empty())
-    result.message = fmt::format("{} levels, {} resonance candidates ({} flagged), {} polyads", result.levels.size(),
-                                 result.resonances.size(), flagged, result.polyads.size());
+    result.message =
+        fmt::format("{} levels, {} resonance candidates ({} flagged), {} polyads", result.levels.size(),
+                    result.resonances.size(), flagged, result.polyads.size());
   return result;
 }
 

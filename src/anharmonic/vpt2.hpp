@@ -88,13 +88,13 @@ enum class ResonanceKind { fermi_1, fermi_2, darling_dennison };
 std::string to_string(ResonanceKind kind);  // "fermi-1", "fermi-2", "darling-dennison"
 
 enum class LevelKind { fundamental, overtone, combination, other };
-std::string to_string(LevelKind kind);      // "fundamental", "overtone", "combination", "other"
+std::string to_string(LevelKind kind);  // "fundamental", "overtone", "combination", "other"
 
 // One degenerate set of modes (a single mode when nondegenerate).
 struct DegenerateSet {
-  std::vector<int> modes;        // harmonic indices (ascending wavenumber order)
-  double harmonic_cm1 = 0.0;     // ω of the set (mean of its modes)
-  std::string species;           // "" without a character table
+  std::vector<int> modes;     // harmonic indices (ascending wavenumber order)
+  double harmonic_cm1 = 0.0;  // ω of the set (mean of its modes)
+  std::string species;        // "" without a character table
 };
 
 struct Resonance {
@@ -106,38 +106,38 @@ struct Resonance {
   double coupling_cm1 = 0.0;     // W (≥ 0)
   double criterion_value = 0.0;  // Fermi: W⁴/|Δ|³ in cm⁻¹; Darling–Dennison: W in cm⁻¹
   bool symmetry_allowed = true;
-  bool flagged = false;          // treated (deperturbed and diagonalized in a polyad)
+  bool flagged = false;  // treated (deperturbed and diagonalized in a polyad)
 };
 
 // Weight of one zeroth-order (deperturbed) level in a resonance-corrected state.
 struct LevelComponent {
-  std::vector<int> set_quanta;   // quanta per set
-  int sublevel = 0;              // which sublevel of that manifold (see VibrationalLevel)
-  int sublevel_count = 1;        // sublevels of that manifold
-  std::string species;           // of that sublevel; "" without a character table
+  std::vector<int> set_quanta;  // quanta per set
+  int sublevel = 0;             // which sublevel of that manifold (see VibrationalLevel)
+  int sublevel_count = 1;       // sublevels of that manifold
+  std::string species;          // of that sublevel; "" without a character table
   // Distinguishes the sublevel within its manifold: "" when there is only one, else the
   // species, with "#k" appended when that species occurs more than once, or just "k".
   std::string tag;
-  double weight = 0.0;           // squared coefficient, summed over degenerate partners; Σ = 1
+  double weight = 0.0;  // squared coefficient, summed over degenerate partners; Σ = 1
 };
 
 struct VibrationalLevel {
   LevelKind kind = LevelKind::other;
-  std::vector<int> set_quanta;   // quanta per set (index = set)
-  int sublevel = 0;              // 0, 1, … by ascending deperturbed energy within the manifold
-  int sublevel_count = 1;        // sublevels of this manifold (> 1 for split degenerate levels)
+  std::vector<int> set_quanta;  // quanta per set (index = set)
+  int sublevel = 0;             // 0, 1, … by ascending deperturbed energy within the manifold
+  int sublevel_count = 1;       // sublevels of this manifold (> 1 for split degenerate levels)
   int degeneracy = 1;
-  std::string species;           // upper-state species; "" without a character table
-  bool activity_known = false;   // IR/Raman activity needs the character table
+  std::string species;          // upper-state species; "" without a character table
+  bool activity_known = false;  // IR/Raman activity needs the character table
   bool ir_active = false;
   bool raman_active = false;
-  double harmonic_cm1 = 0.0;     // Σ ω v
-  double anharmonic_cm1 = 0.0;   // VPT2, deperturbed where a resonance is flagged
+  double harmonic_cm1 = 0.0;    // Σ ω v
+  double anharmonic_cm1 = 0.0;  // VPT2, deperturbed where a resonance is flagged
   // Position after diagonalizing the resonance polyad; NaN when no flagged resonance
   // touches this level.
   double resonance_corrected_cm1 = std::numeric_limits<double>::quiet_NaN();
-  int polyad = -1;               // index into Vpt2Result::polyads, −1 if none
-  std::vector<int> partners;     // other levels (indices into Vpt2Result::levels) in the polyad
+  int polyad = -1;                     // index into Vpt2Result::polyads, −1 if none
+  std::vector<int> partners;           // other levels (indices into Vpt2Result::levels) in the polyad
   std::vector<LevelComponent> mixing;  // composition of the resonance-corrected state
   bool in_polyad() const { return polyad >= 0; }
 };
@@ -162,24 +162,25 @@ struct Vpt2Result {
   std::string message;
   std::vector<std::string> warnings;
 
-  Eigen::VectorXd harmonic_cm1;           // ω per mode (ascending, harmonic order)
-  std::vector<DegenerateSet> sets;              // degenerate sets, in order of their first mode
-  std::vector<int> set_of_mode;           // set index per mode
+  Eigen::VectorXd harmonic_cm1;     // ω per mode (ascending, harmonic order)
+  std::vector<DegenerateSet> sets;  // degenerate sets, in order of their first mode
+  std::vector<int> set_of_mode;     // set index per mode
   std::string point_group;
 
   // Anharmonicity constants per mode (component form, symmetric M × M), cm⁻¹.
-  Eigen::MatrixXd x_cm1;                  // total = vibrational + Coriolis
-  Eigen::MatrixXd x_vibrational_cm1;      // deperturbed (flagged resonant terms removed)
+  Eigen::MatrixXd x_cm1;              // total = vibrational + Coriolis
+  Eigen::MatrixXd x_vibrational_cm1;  // deperturbed (flagged resonant terms removed)
   Eigen::MatrixXd x_coriolis_cm1;
   Eigen::MatrixXd x_vibrational_plain_cm1;  // nothing removed (plain VPT2)
   std::vector<DegenerateSetConstants> degenerate_constants;
 
-  Eigen::Vector3d rotational_constants_cm1 = Eigen::Vector3d::Zero();  // B_α, ascending moment; 0 = skipped axis
+  Eigen::Vector3d rotational_constants_cm1 =
+      Eigen::Vector3d::Zero();                 // B_α, ascending moment; 0 = skipped axis
   std::vector<Eigen::MatrixXd> coriolis_zeta;  // ζ^α (M × M), α over the principal axes
 
-  std::vector<Resonance> resonances;      // all candidates within the gap thresholds
+  std::vector<Resonance> resonances;  // all candidates within the gap thresholds
   std::vector<Polyad> polyads;
-  std::vector<VibrationalLevel> levels;   // fundamentals, overtones, binary combinations
+  std::vector<VibrationalLevel> levels;  // fundamentals, overtones, binary combinations
 
   bool ok() const { return status == Vpt2Status::ok; }
 };

@@ -1,5 +1,8 @@
 #include "potential/taylor_expansion_potential.hpp"
 
+#include <fmt/format.h>
+#include <toml++/toml.h>
+
 #include <algorithm>
 #include <cctype>
 #include <cmath>
@@ -7,9 +10,6 @@
 #include <map>
 #include <set>
 #include <sstream>
-
-#include <fmt/format.h>
-#include <toml++/toml.h>
 
 #include "core/error.hpp"
 #include "core/units.hpp"
@@ -27,7 +27,8 @@ double energy_factor(const std::string& unit, const std::string& where) {
   if (unit == "kJ/mol") return units::kcal_mol_per_kj_mol;
   if (unit == "aJ") return units::kcal_mol_per_attojoule;
   if (unit == "cm-1") return units::kcal_mol_per_cm1;
-  throw Error(fmt::format("{}: energy unit '{}' is not one of hartree, kcal/mol, kJ/mol, aJ, cm-1", where, unit));
+  throw Error(
+      fmt::format("{}: energy unit '{}' is not one of hartree, kcal/mol, kJ/mol, aJ, cm-1", where, unit));
 }
 
 double length_factor(const std::string& unit, const std::string& where) {
@@ -42,7 +43,8 @@ int atomic_number_of(const std::string& symbol, const std::string& where) {
     if (known.size() != symbol.size()) continue;
     bool same = true;
     for (std::size_t c = 0; c < known.size(); ++c)
-      same = same && std::tolower(static_cast<unsigned char>(known[c])) == std::tolower(static_cast<unsigned char>(symbol[c]));
+      same = same && std::tolower(static_cast<unsigned char>(known[c])) ==
+                         std::tolower(static_cast<unsigned char>(symbol[c]));
     if (same) return z;
   }
   throw Error(fmt::format("{}: unknown element symbol '{}'", where, symbol));
@@ -115,7 +117,8 @@ TaylorExpansionData parse_taylor_expansion(const std::string& toml_text, const s
   try {
     root = toml::parse(toml_text, origin);
   } catch (const toml::parse_error& e) {
-    throw Error(fmt::format("{}: not valid TOML at line {}: {}", origin, e.source().begin.line, e.description()));
+    throw Error(
+        fmt::format("{}: not valid TOML at line {}: {}", origin, e.source().begin.line, e.description()));
   }
   const Reader r{root, origin};
   const toml::node_view<const toml::node> top{root};
@@ -140,9 +143,10 @@ TaylorExpansionData parse_taylor_expansion(const std::string& toml_text, const s
   else
     r.fail("coordinates", "must be \"cartesian\" or \"normal\", got \"" + coordinates + "\"");
 
-  const double to_kcal = energy_factor(r.string_at("units.energy", top["units"]["energy"]), origin + ": key 'units.energy'");
-  const double to_angstrom =
-      length_factor(top["units"]["length"].value_or(std::string("angstrom")), origin + ": key 'units.length'");
+  const double to_kcal =
+      energy_factor(r.string_at("units.energy", top["units"]["energy"]), origin + ": key 'units.energy'");
+  const double to_angstrom = length_factor(top["units"]["length"].value_or(std::string("angstrom")),
+                                           origin + ": key 'units.length'");
 
   // Reference geometry.
   const toml::array& elements = r.array("reference.elements", top["reference"]["elements"]);
@@ -155,13 +159,16 @@ TaylorExpansionData parse_taylor_expansion(const std::string& toml_text, const s
   if (atoms < 1) r.fail("reference.elements", "is empty");
   const toml::array& positions = r.array("reference.positions", top["reference"]["positions"]);
   if (static_cast<int>(positions.size()) != atoms)
-    r.fail("reference.positions", fmt::format("has {} rows, expected one [x, y, z] per element ({})", positions.size(), atoms));
+    r.fail("reference.positions",
+           fmt::format("has {} rows, expected one [x, y, z] per element ({})", positions.size(), atoms));
   data.reference_angstrom.resize(3 * atoms);
   for (int a = 0; a < atoms; ++a) {
     const toml::array* row = positions[static_cast<std::size_t>(a)].as_array();
-    if (!row || row->size() != 3) r.fail("reference.positions", fmt::format("row {} must be [x, y, z]", a + 1));
+    if (!row || row->size() != 3)
+      r.fail("reference.positions", fmt::format("row {} must be [x, y, z]", a + 1));
     for (int c = 0; c < 3; ++c)
-      data.reference_angstrom[3 * a + c] = r.number("reference.positions", *row->get(static_cast<std::size_t>(c))) * to_angstrom;
+      data.reference_angstrom[3 * a + c] =
+          r.number("reference.positions", *row->get(static_cast<std::size_t>(c))) * to_angstrom;
   }
   if (const toml::array* masses = top["reference"]["masses_da"].as_array()) {
     if (static_cast<int>(masses->size()) != atoms)
@@ -169,14 +176,16 @@ TaylorExpansionData parse_taylor_expansion(const std::string& toml_text, const s
     data.masses_da.resize(atoms);
     for (int a = 0; a < atoms; ++a) {
       data.masses_da[a] = r.number("reference.masses_da", *masses->get(static_cast<std::size_t>(a)));
-      if (!(data.masses_da[a] > 0.0)) r.fail("reference.masses_da", fmt::format("entry {} must be positive", a + 1));
+      if (!(data.masses_da[a] > 0.0))
+        r.fail("reference.masses_da", fmt::format("entry {} must be positive", a + 1));
     }
   }
-  if (const auto energy = top["reference"]["energy"].value<double>()) data.reference_energy_kcal_mol = *energy * to_kcal;
+  if (const auto energy = top["reference"]["energy"].value<double>())
+    data.reference_energy_kcal_mol = *energy * to_kcal;
 
   std::set<std::string> seen;
-  auto read_list = [&](const std::string& key, const toml::node_view<const toml::node>& node, int order, int variable_count,
-                       double scale) {
+  auto read_list = [&](const std::string& key, const toml::node_view<const toml::node>& node, int order,
+                       int variable_count, double scale) {
     if (!node) return;
     for (const auto& entry : r.array(key, node)) {
       const toml::array* row = entry.as_array();
@@ -209,7 +218,8 @@ TaylorExpansionData parse_taylor_expansion(const std::string& toml_text, const s
     read_list("cartesian.second", table["second"], 2, n, to_kcal / std::pow(to_angstrom, 2));
     read_list("cartesian.third", table["third"], 3, n, to_kcal / std::pow(to_angstrom, 3));
     read_list("cartesian.fourth", table["fourth"], 4, n, to_kcal / std::pow(to_angstrom, 4));
-    if (!table["second"]) r.fail("cartesian.second", "is missing: the expansion needs its second derivatives");
+    if (!table["second"])
+      r.fail("cartesian.second", "is missing: the expansion needs its second derivatives");
   } else {
     if (data.masses_da.size() == 0) r.fail("reference.masses_da", "is required for coordinates = \"normal\"");
     const auto table = top["normal"];
@@ -232,9 +242,11 @@ TaylorExpansionData parse_taylor_expansion(const std::string& toml_text, const s
         r.fail(key + ".displacement", fmt::format("must have one [dx, dy, dz] per atom ({})", atoms));
       for (int a = 0; a < atoms; ++a) {
         const toml::array* row = displacement[static_cast<std::size_t>(a)].as_array();
-        if (!row || row->size() != 3) r.fail(key + ".displacement", fmt::format("row {} must be [dx, dy, dz]", a + 1));
+        if (!row || row->size() != 3)
+          r.fail(key + ".displacement", fmt::format("row {} must be [dx, dy, dz]", a + 1));
         for (int c = 0; c < 3; ++c)
-          data.mode_displacements(3 * a + c, k) = r.number(key + ".displacement", *row->get(static_cast<std::size_t>(c)));
+          data.mode_displacements(3 * a + c, k) =
+              r.number(key + ".displacement", *row->get(static_cast<std::size_t>(c)));
       }
       if (data.mode_displacements.col(k).norm() == 0.0) r.fail(key + ".displacement", "is zero");
     }
@@ -266,7 +278,8 @@ bool is_taylor_expansion_file(const std::string& path) {
   }
 }
 
-std::unique_ptr<Potential> load_taylor_expansion_potential(const std::string& path, const Molecule& molecule) {
+std::unique_ptr<Potential> load_taylor_expansion_potential(const std::string& path,
+                                                           const Molecule& molecule) {
   return load_taylor_expansion_potential(path, molecule, TaylorExpansionOptions{});
 }
 
@@ -282,10 +295,12 @@ TaylorExpansionPotential::TaylorExpansionPotential(TaylorExpansionData data, con
                                                    const TaylorExpansionOptions& options)
     : data_(std::move(data)), options_(options) {
   if (!(options_.hole_depth_cm1 > 0.0))
-    throw Error(fmt::format("taylor-expansion option hole_depth_cm1 must be positive, got {}", options_.hole_depth_cm1));
+    throw Error(fmt::format("taylor-expansion option hole_depth_cm1 must be positive, got {}",
+                            options_.hole_depth_cm1));
   if (!(options_.superposition_tolerance_angstrom > 0.0))
-    throw Error(fmt::format("taylor-expansion option superposition_tolerance_angstrom must be positive, got {}",
-                            options_.superposition_tolerance_angstrom));
+    throw Error(
+        fmt::format("taylor-expansion option superposition_tolerance_angstrom must be positive, got {}",
+                    options_.superposition_tolerance_angstrom));
   if (!(options_.mode_orthogonality_tolerance > 0.0))
     throw Error(fmt::format("taylor-expansion option mode_orthogonality_tolerance must be positive, got {}",
                             options_.mode_orthogonality_tolerance));
@@ -295,12 +310,15 @@ TaylorExpansionPotential::TaylorExpansionPotential(TaylorExpansionData data, con
     throw Error(fmt::format("{}: reference geometry has {} coordinates, expected {}", name,
                             data_.reference_angstrom.size(), 3 * atoms));
   if (static_cast<int>(molecule.atom_count()) != atoms)
-    throw Error(fmt::format("{} is for {} atoms but the molecule has {}", name, atoms, molecule.atom_count()));
+    throw Error(
+        fmt::format("{} is for {} atoms but the molecule has {}", name, atoms, molecule.atom_count()));
   for (int a = 0; a < atoms; ++a)
-    if (molecule.atoms[static_cast<std::size_t>(a)].atomic_number != data_.atomic_numbers[static_cast<std::size_t>(a)])
-      throw Error(fmt::format("{}: atom {} is {} in the expansion but {} in the molecule (atoms must come in the same order)",
-                              name, a + 1, element_symbol(data_.atomic_numbers[static_cast<std::size_t>(a)]),
-                              element_symbol(molecule.atoms[static_cast<std::size_t>(a)].atomic_number)));
+    if (molecule.atoms[static_cast<std::size_t>(a)].atomic_number !=
+        data_.atomic_numbers[static_cast<std::size_t>(a)])
+      throw Error(fmt::format(
+          "{}: atom {} is {} in the expansion but {} in the molecule (atoms must come in the same order)",
+          name, a + 1, element_symbol(data_.atomic_numbers[static_cast<std::size_t>(a)]),
+          element_symbol(molecule.atoms[static_cast<std::size_t>(a)].atomic_number)));
 
   // Fixed superposition of the molecule's frame onto the file's (mass-weighted Kabsch).
   const Eigen::VectorXd weights = molecule.masses();
@@ -332,14 +350,16 @@ TaylorExpansionPotential::TaylorExpansionPotential(TaylorExpansionData data, con
     }
   }
   if (worst > options_.superposition_tolerance_angstrom)
-    throw Error(fmt::format("{}: the molecule does not match the expansion's reference geometry: after superposition "
-                            "atom {} is {:.3f} Å away (limit {} Å)",
-                            name, worst_atom + 1, worst, options_.superposition_tolerance_angstrom));
+    throw Error(
+        fmt::format("{}: the molecule does not match the expansion's reference geometry: after superposition "
+                    "atom {} is {:.3f} Å away (limit {} Å)",
+                    name, worst_atom + 1, worst, options_.superposition_tolerance_angstrom));
   Eigen::MatrixXd rigid = Eigen::MatrixXd::Zero(3 * atoms, 3 * atoms);
   Eigen::VectorXd shift(3 * atoms);
   for (int a = 0; a < atoms; ++a) {
     rigid.block<3, 3>(3 * a, 3 * a) = rotation;
-    shift.segment<3>(3 * a) = c_reference - rotation * c_molecule - data_.reference_angstrom.segment<3>(3 * a);
+    shift.segment<3>(3 * a) =
+        c_reference - rotation * c_molecule - data_.reference_angstrom.segment<3>(3 * a);
   }
 
   // Expansion variables.
@@ -349,13 +369,16 @@ TaylorExpansionPotential::TaylorExpansionPotential(TaylorExpansionData data, con
     to_variables = Eigen::MatrixXd::Identity(3 * atoms, 3 * atoms);
     for (const auto& d : derivatives)
       for (int i : d.indices)
-        if (i < 0 || i >= 3 * atoms) throw Error(fmt::format("{}: a cartesian derivative index lies outside 1..{}", name, 3 * atoms));
+        if (i < 0 || i >= 3 * atoms)
+          throw Error(fmt::format("{}: a cartesian derivative index lies outside 1..{}", name, 3 * atoms));
   } else {
     const int m = static_cast<int>(data_.frequencies_cm1.size());
-    if (data_.masses_da.size() != atoms) throw Error(fmt::format("{}: normal coordinates need one mass per atom", name));
+    if (data_.masses_da.size() != atoms)
+      throw Error(fmt::format("{}: normal coordinates need one mass per atom", name));
     if (data_.mode_displacements.rows() != 3 * atoms || data_.mode_displacements.cols() != m)
-      throw Error(fmt::format("{}: mode displacements are {}x{}, expected {}x{}", name, data_.mode_displacements.rows(),
-                              data_.mode_displacements.cols(), 3 * atoms, m));
+      throw Error(fmt::format("{}: mode displacements are {}x{}, expected {}x{}", name,
+                              data_.mode_displacements.rows(), data_.mode_displacements.cols(), 3 * atoms,
+                              m));
     Eigen::VectorXd sqrt_mass(3 * atoms);
     for (int r = 0; r < 3 * atoms; ++r) sqrt_mass[r] = std::sqrt(data_.masses_da[r / 3]);
     Eigen::MatrixXd l = sqrt_mass.asDiagonal() * data_.mode_displacements;
@@ -364,31 +387,37 @@ TaylorExpansionPotential::TaylorExpansionPotential(TaylorExpansionData data, con
         (rigid_body_vectors(data_.reference_angstrom, data_.masses_da).transpose() * l).cwiseAbs().maxCoeff();
     const Eigen::MatrixXd gram = l.transpose() * l;
     const double gram_error = (gram - Eigen::MatrixXd::Identity(m, m)).cwiseAbs().maxCoeff();
-    if (rigid_overlap > options_.mode_orthogonality_tolerance || gram_error > options_.mode_orthogonality_tolerance)
-      throw Error(fmt::format("{}: the mode vectors (mass-weighted) are not orthonormal vibrations: overlap with "
-                              "translations/rotations {:.2g}, with each other {:.2g} (limit {})",
-                              name, rigid_overlap, gram_error, options_.mode_orthogonality_tolerance));
+    if (rigid_overlap > options_.mode_orthogonality_tolerance ||
+        gram_error > options_.mode_orthogonality_tolerance)
+      throw Error(
+          fmt::format("{}: the mode vectors (mass-weighted) are not orthonormal vibrations: overlap with "
+                      "translations/rotations {:.2g}, with each other {:.2g} (limit {})",
+                      name, rigid_overlap, gram_error, options_.mode_orthogonality_tolerance));
     const Eigen::SelfAdjointEigenSolver<Eigen::MatrixXd> gram_solver(gram);
     l = l * gram_solver.operatorInverseSqrt();  // Löwdin: the nearest orthonormal set
     to_variables.resize(m, 3 * atoms);
     for (int k = 0; k < m; ++k) {
       const double omega = data_.frequencies_cm1[k] / units::cm1_per_internal_angular_frequency;
-      to_variables.row(k) = std::sqrt(omega / units::hbar_internal) * (sqrt_mass.asDiagonal() * l.col(k)).transpose();
+      to_variables.row(k) =
+          std::sqrt(omega / units::hbar_internal) * (sqrt_mass.asDiagonal() * l.col(k)).transpose();
     }
     for (const auto& d : derivatives) {
       if (d.indices.size() < 3)
-        throw Error(fmt::format("{}: a normal-coordinate expansion lists only cubic and quartic constants", name));
+        throw Error(
+            fmt::format("{}: a normal-coordinate expansion lists only cubic and quartic constants", name));
       for (int i : d.indices)
         if (i < 0 || i >= m) throw Error(fmt::format("{}: a mode index lies outside 1..{}", name, m));
     }
-    for (int k = 0; k < m; ++k) derivatives.push_back({{k, k}, data_.frequencies_cm1[k] * units::kcal_mol_per_cm1});
+    for (int k = 0; k < m; ++k)
+      derivatives.push_back({{k, k}, data_.frequencies_cm1[k] * units::kcal_mol_per_cm1});
   }
   transform_ = to_variables * rigid;
   offset_ = to_variables * shift;
 
   for (const auto& d : derivatives) {
     if (d.indices.empty() || d.indices.size() > 4)
-      throw Error(fmt::format("{}: derivatives must be of order 1 to 4, got order {}", name, d.indices.size()));
+      throw Error(
+          fmt::format("{}: derivatives must be of order 1 to 4, got order {}", name, d.indices.size()));
     std::map<int, int> powers;
     for (int i : d.indices) ++powers[i];
     Term t{{}, d.value};
@@ -411,7 +440,8 @@ TaylorExpansionPotential::TaylorExpansionPotential(TaylorExpansionData data, con
     const double lambda = solver.eigenvalues()[k];
     if (lambda > 1e-8 * largest) lowering += 0.5 * std::pow(solver.eigenvectors().col(k).dot(g0), 2) / lambda;
   }
-  hole_threshold_ = data_.reference_energy_kcal_mol - lowering - options_.hole_depth_cm1 * units::kcal_mol_per_cm1;
+  hole_threshold_ =
+      data_.reference_energy_kcal_mol - lowering - options_.hole_depth_cm1 * units::kcal_mol_per_cm1;
 }
 
 std::string TaylorExpansionPotential::description() const {
@@ -466,12 +496,15 @@ void TaylorExpansionPotential::guard(double energy, const Eigen::VectorXd& x) co
   if (!options_.guard_holes || energy >= hole_threshold_) return;
   const Eigen::VectorXd displacement = x - reference_in_molecule_frame();
   double largest = 0.0;
-  for (Eigen::Index a = 0; a < displacement.size() / 3; ++a) largest = std::max(largest, displacement.segment<3>(3 * a).norm());
+  for (Eigen::Index a = 0; a < displacement.size() / 3; ++a)
+    largest = std::max(largest, displacement.segment<3>(3 * a).norm());
   throw Error(fmt::format(
-      "{} fell {:.0f} cm-1 below its minimum at a geometry where an atom has moved {:.3f} Å from the reference: "
+      "{} fell {:.0f} cm-1 below its minimum at a geometry where an atom has moved {:.3f} Å from the "
+      "reference: "
       "the quartic surface has turned over (a hole) and results there would be meaningless; stay at smaller "
       "amplitude or energy",
-      description(), (hole_threshold_ - energy) * units::cm1_per_kcal_mol + options_.hole_depth_cm1, largest));
+      description(), (hole_threshold_ - energy) * units::cm1_per_kcal_mol + options_.hole_depth_cm1,
+      largest));
 }
 
 double TaylorExpansionPotential::compute_energy(const Eigen::VectorXd& x) const {
@@ -480,7 +513,8 @@ double TaylorExpansionPotential::compute_energy(const Eigen::VectorXd& x) const 
   return energy;
 }
 
-double TaylorExpansionPotential::compute_energy_and_gradient(const Eigen::VectorXd& x, Eigen::VectorXd& gradient) const {
+double TaylorExpansionPotential::compute_energy_and_gradient(const Eigen::VectorXd& x,
+                                                             Eigen::VectorXd& gradient) const {
   Eigen::VectorXd g = Eigen::VectorXd::Zero(transform_.rows());
   const double energy = evaluate(variables(x), &g, nullptr);
   guard(energy, x);
@@ -521,16 +555,20 @@ std::string write_taylor_expansion(const TaylorExpansionData& data, const Taylor
   std::string out;
   out += "# Taylor expansion of a potential energy surface to fourth order, for Overtone.\n";
   out += "# Format: docs/taylor-expansion-format.md. Every value is a derivative of the energy;\n";
-  out += normal ? "# here with respect to dimensionless normal coordinates q (cubic: phi_ijk, quartic: phi_ijkl).\n"
-                : "# here with respect to Cartesian coordinates (index 3*(atom-1) + axis, axis x=1, y=2, z=3).\n";
+  out +=
+      normal
+          ? "# here with respect to dimensionless normal coordinates q (cubic: phi_ijk, quartic: phi_ijkl).\n"
+          : "# here with respect to Cartesian coordinates (index 3*(atom-1) + axis, axis x=1, y=2, z=3).\n";
   out += fmt::format("format = {}\nversion = {}\n", quoted(format_name), format_version);
   if (!data.title.empty()) out += "title = " + quoted(data.title) + "\n";
   if (!data.source.empty()) out += "source = " + quoted(data.source) + "\n";
   out += fmt::format("coordinates = {}\n\n", quoted(normal ? "normal" : "cartesian"));
-  out += fmt::format("[units]\nenergy = {}\nlength = {}\n\n", quoted(options.energy_unit), quoted(options.length_unit));
+  out += fmt::format("[units]\nenergy = {}\nlength = {}\n\n", quoted(options.energy_unit),
+                     quoted(options.length_unit));
 
   out += "[reference]\nelements = [";
-  for (int a = 0; a < atoms; ++a) out += (a ? ", " : "") + quoted(element_symbol(data.atomic_numbers[static_cast<std::size_t>(a)]));
+  for (int a = 0; a < atoms; ++a)
+    out += (a ? ", " : "") + quoted(element_symbol(data.atomic_numbers[static_cast<std::size_t>(a)]));
   out += "]\n";
   if (data.masses_da.size() == atoms) {
     out += "masses_da = [";
@@ -572,14 +610,17 @@ std::string write_taylor_expansion(const TaylorExpansionData& data, const Taylor
     const int m = static_cast<int>(data.frequencies_cm1.size());
     out += "[normal]\n";
     for (const auto& d : data.derivatives)
-      if (d.indices.size() < 3) throw Error("a normal-coordinate expansion holds only cubic and quartic derivatives");
+      if (d.indices.size() < 3)
+        throw Error("a normal-coordinate expansion holds only cubic and quartic derivatives");
     write_list("cubic", 3, 1.0 / to_kcal);
     write_list("quartic", 4, 1.0 / to_kcal);
     for (int k = 0; k < m; ++k) {
-      out += fmt::format("\n[[normal.modes]]\nfrequency_cm1 = {}\ndisplacement = [\n", number(data.frequencies_cm1[k]));
+      out += fmt::format("\n[[normal.modes]]\nfrequency_cm1 = {}\ndisplacement = [\n",
+                         number(data.frequencies_cm1[k]));
       for (int a = 0; a < atoms; ++a)
         out += fmt::format("  [{}, {}, {}],\n", number(data.mode_displacements(3 * a, k)),
-                           number(data.mode_displacements(3 * a + 1, k)), number(data.mode_displacements(3 * a + 2, k)));
+                           number(data.mode_displacements(3 * a + 1, k)),
+                           number(data.mode_displacements(3 * a + 2, k)));
       out += "]\n";
     }
   } else {

@@ -47,11 +47,11 @@ struct ExpansionDerivative {
 // Everything a file holds, in internal units.
 struct TaylorExpansionData {
   std::string title;
-  std::string source;                     // free text: where the constants come from
+  std::string source;  // free text: where the constants come from
   ExpansionCoordinates coordinates = ExpansionCoordinates::cartesian;
   std::vector<int> atomic_numbers;
-  Eigen::VectorXd masses_da;              // N; required for normal coordinates, may be empty otherwise
-  Eigen::VectorXd reference_angstrom;     // 3N, x_ref
+  Eigen::VectorXd masses_da;           // N; required for normal coordinates, may be empty otherwise
+  Eigen::VectorXd reference_angstrom;  // 3N, x_ref
   double reference_energy_kcal_mol = 0.0;
   // Normal coordinates only: ω_k (cm⁻¹) and the Cartesian displacement pattern of each
   // mode (3N × M, any normalization; orthonormalized after mass weighting).
@@ -114,7 +114,7 @@ class TaylorExpansionPotential : public Potential {
   TaylorExpansionData data_;
   TaylorExpansionOptions options_;
   std::vector<Term> terms_;
-  Eigen::MatrixXd transform_;   // u = transform_ · x + offset_
+  Eigen::MatrixXd transform_;  // u = transform_ · x + offset_
   Eigen::VectorXd offset_;
   double hole_threshold_ = 0.0;
 };

@@ -16,7 +16,9 @@
 
 namespace overtone::testing {
 
-inline std::string source_path(const std::string& relative) { return std::string(OVERTONE_SOURCE_DIR) + "/" + relative; }
+inline std::string source_path(const std::string& relative) {
+  return std::string(OVERTONE_SOURCE_DIR) + "/" + relative;
+}
 
 struct PreparedMolecule {
   Molecule molecule;
@@ -27,7 +29,8 @@ struct PreparedMolecule {
 // Newton steps on the analytic Hessian (pseudo-inverse without the rigid-body null space)
 // from a geometry already near the minimum, until the largest gradient component is below
 // 1e-10 kcal/mol/Å, then the harmonic analysis there.
-inline HarmonicResult harmonic_at_minimum(const Potential& potential, Eigen::VectorXd x, const Eigen::VectorXd& masses) {
+inline HarmonicResult harmonic_at_minimum(const Potential& potential, Eigen::VectorXd x,
+                                          const Eigen::VectorXd& masses) {
   for (int step = 0; step < 20; ++step) {
     Eigen::VectorXd g;
     potential.energy_and_gradient(x, g);
@@ -37,7 +40,8 @@ inline HarmonicResult harmonic_at_minimum(const Potential& potential, Eigen::Vec
     Eigen::VectorXd shift = Eigen::VectorXd::Zero(x.size());
     for (Eigen::Index k = 0; k < x.size(); ++k)
       if (std::abs(solver.eigenvalues()[k]) > 1e-8 * largest)
-        shift += solver.eigenvectors().col(k) * (solver.eigenvectors().col(k).dot(g) / solver.eigenvalues()[k]);
+        shift +=
+            solver.eigenvectors().col(k) * (solver.eigenvectors().col(k).dot(g) / solver.eigenvalues()[k]);
     x -= shift;
   }
   return analyze_normal_modes(x, masses, potential.hessian(x));
@@ -67,7 +71,8 @@ struct PreparedSymmetricMolecule {
   SymmetryAdaptedHarmonic adapted;
 };
 
-inline PreparedSymmetricMolecule prepare_symmetric(const std::string& molecule_file, const std::string& potential_file,
+inline PreparedSymmetricMolecule prepare_symmetric(const std::string& molecule_file,
+                                                   const std::string& potential_file,
                                                    const std::vector<IsotopeChoice>& isotopes) {
   ReadOptions options;
   options.isotopes = isotopes;
@@ -75,7 +80,8 @@ inline PreparedSymmetricMolecule prepare_symmetric(const std::string& molecule_f
   p.molecule = read_molecule(source_path("molecules/" + molecule_file), options).molecule;
   p.potential = load_valence_force_field(source_path("potentials/" + potential_file), p.molecule);
   p.group = detect_point_group(p.molecule);
-  HarmonicResult h = harmonic_at_minimum(*p.potential, p.group.symmetrized_coordinates_angstrom, p.molecule.masses());
+  HarmonicResult h =
+      harmonic_at_minimum(*p.potential, p.group.symmetrized_coordinates_angstrom, p.molecule.masses());
   h = analyze_normal_modes(h.coordinates_angstrom, h.masses_da,
                            symmetrize_cartesian_hessian(h.cartesian_hessian, p.group));
   p.species = assign_mode_species(p.group, h);

@@ -50,7 +50,8 @@ class GradientOnly : public Potential {
 
 double largest_difference(const ForceConstantTensors& a, const ForceConstantTensors& b) {
   double worst = 0.0;
-  for (const auto& e : a.cubic_entries(-1.0)) worst = std::max(worst, std::abs(e.value - b.cubic(e.i, e.j, e.k)));
+  for (const auto& e : a.cubic_entries(-1.0))
+    worst = std::max(worst, std::abs(e.value - b.cubic(e.i, e.j, e.k)));
   for (const auto& e : a.quartic_entries(-1.0)) {
     EXPECT_TRUE(b.has_quartic(e.i, e.j, e.k, e.l));
     worst = std::max(worst, std::abs(e.value - b.quartic(e.i, e.j, e.k, e.l)));

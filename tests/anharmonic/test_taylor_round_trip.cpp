@@ -27,8 +27,8 @@ constexpr double frequency_tolerance_cm1 = 1e-6;
 // amplified by 1/h²: 1e-12·4000/4e-4 ≈ 1e-5 cm⁻¹ at most.
 constexpr double constant_tolerance_cm1 = 1e-4;
 
-void expect_round_trip(const std::string& molecule, const std::string& field, const std::vector<IsotopeChoice>& isotopes,
-                       ExpansionCoordinates coordinates) {
+void expect_round_trip(const std::string& molecule, const std::string& field,
+                       const std::vector<IsotopeChoice>& isotopes, ExpansionCoordinates coordinates) {
   const auto original = prepare(molecule, field, isotopes);
   ForceConstantOptions full;
   full.full_quartic_max_modes = 100;
@@ -37,11 +37,13 @@ void expect_round_trip(const std::string& molecule, const std::string& field, co
 
   TaylorExportOptions export_options;
   export_options.coordinates = coordinates;
-  const std::string text = export_taylor_expansion(*original.potential, original.harmonic, original.molecule, export_options);
+  const std::string text =
+      export_taylor_expansion(*original.potential, original.harmonic, original.molecule, export_options);
   const TaylorExpansionPotential reread(parse_taylor_expansion(text, "exported " + field), original.molecule);
 
-  const HarmonicResult harmonic = analyze_normal_modes(original.harmonic.coordinates_angstrom, original.harmonic.masses_da,
-                                                       reread.hessian(original.harmonic.coordinates_angstrom));
+  const HarmonicResult harmonic =
+      analyze_normal_modes(original.harmonic.coordinates_angstrom, original.harmonic.masses_da,
+                           reread.hessian(original.harmonic.coordinates_angstrom));
   ASSERT_EQ(harmonic.mode_count(), original.harmonic.mode_count());
   for (Eigen::Index k = 0; k < harmonic.frequencies_cm1.size(); ++k)
     EXPECT_NEAR(harmonic.frequencies_cm1[k], original.harmonic.frequencies_cm1[k], frequency_tolerance_cm1);
@@ -61,7 +63,8 @@ TEST(TaylorRoundTrip, WaterInCartesians) {
 }
 
 TEST(TaylorRoundTrip, CarbonDioxideInNormalCoordinates) {
-  expect_round_trip("carbon-dioxide.xyz", "carbon-dioxide.toml", {{1, 16}, {2, 12}, {3, 16}}, ExpansionCoordinates::normal);
+  expect_round_trip("carbon-dioxide.xyz", "carbon-dioxide.toml", {{1, 16}, {2, 12}, {3, 16}},
+                    ExpansionCoordinates::normal);
 }
 
 TEST(AmplitudeScan, CubicExpansionOfAMorseOscillatorTurnsOverWhereExpected) {

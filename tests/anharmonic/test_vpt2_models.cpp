@@ -114,8 +114,17 @@ TEST(Vpt2ClosedForm, AnharmonicityConstantsEqualVanVleckSums) {
   const detail::AnharmonicOperator op(fc.constants, w);
   const detail::Quanta ground{0, 0, 0};
   const double e0 = op.element(ground, ground, {ground});
-  for (const detail::Quanta& n : std::vector<detail::Quanta>{
-           {1, 0, 0}, {0, 1, 0}, {0, 0, 1}, {2, 0, 0}, {0, 2, 0}, {0, 0, 2}, {1, 1, 0}, {1, 0, 1}, {0, 1, 1}, {1, 1, 1}, {3, 0, 1}})
+  for (const detail::Quanta& n : std::vector<detail::Quanta>{{1, 0, 0},
+                                                             {0, 1, 0},
+                                                             {0, 0, 1},
+                                                             {2, 0, 0},
+                                                             {0, 2, 0},
+                                                             {0, 0, 2},
+                                                             {1, 1, 0},
+                                                             {1, 0, 1},
+                                                             {0, 1, 1},
+                                                             {1, 1, 1},
+                                                             {3, 0, 1}})
     EXPECT_NEAR(op.element(n, n, {n}) - e0, detail::term_value(w, x, n), algebra_tolerance_cm1)
         << "state " << n[0] << n[1] << n[2];
 }
@@ -146,8 +155,16 @@ TEST(Vpt2ClosedForm, DeperturbedConstantsEqualSumsWithoutResonantPartners) {
   };
   const detail::Quanta ground{0, 0, 0};
   const double e0 = op.element(ground, ground, partners(ground));
-  for (const detail::Quanta& n : std::vector<detail::Quanta>{
-           {1, 0, 0}, {0, 1, 0}, {0, 0, 1}, {2, 0, 0}, {0, 2, 0}, {0, 0, 2}, {1, 1, 0}, {1, 0, 1}, {0, 1, 1}, {2, 1, 1}})
+  for (const detail::Quanta& n : std::vector<detail::Quanta>{{1, 0, 0},
+                                                             {0, 1, 0},
+                                                             {0, 0, 1},
+                                                             {2, 0, 0},
+                                                             {0, 2, 0},
+                                                             {0, 0, 2},
+                                                             {1, 1, 0},
+                                                             {1, 0, 1},
+                                                             {0, 1, 1},
+                                                             {2, 1, 1}})
     EXPECT_NEAR(op.element(n, n, partners(n)) - e0, detail::term_value(w, x, n), algebra_tolerance_cm1)
         << "state " << n[0] << n[1] << n[2];
 }
@@ -246,7 +263,8 @@ TEST(Vpt2Exact, FermiPolyadReproducesExactDyad) {
   ASSERT_EQ(dyad.size(), 2u);
   std::vector<double> polyad{find_level(treated, {2, 0}).resonance_corrected_cm1,
                              find_level(treated, {0, 1}).resonance_corrected_cm1};
-  std::vector<double> unperturbed{find_level(plain, {2, 0}).anharmonic_cm1, find_level(plain, {0, 1}).anharmonic_cm1};
+  std::vector<double> unperturbed{find_level(plain, {2, 0}).anharmonic_cm1,
+                                  find_level(plain, {0, 1}).anharmonic_cm1};
   std::sort(polyad.begin(), polyad.end());
   std::sort(unperturbed.begin(), unperturbed.end());
   // Without a resonance treatment the small denominator spoils both levels by far more

@@ -25,6 +25,9 @@ constexpr double morse_tolerance_cm1 = 0.01;
 // Re-evaluating the same field in another frame or atom order: finite-difference round-off
 // of displaced Hessians (1e-12·ω/h²) and rotated mode signs only.
 constexpr double invariance_tolerance_cm1 = 1e-5;
+// The full scheme averages further estimates (from mixed displacements) into φ_iijj; they
+// differ by the O(h²) truncation error, 1e-3 cm⁻¹ at most on these levels.
+constexpr double estimate_tolerance_cm1 = 1e-3;
 
 const std::vector<IsotopeChoice> h2_16o{{1, 16}, {2, 1}, {3, 1}};
 const std::vector<IsotopeChoice> c12_o16{{1, 16}, {2, 12}, {3, 16}};
@@ -57,7 +60,8 @@ class MorseDiatomic : public Potential {
     const double dv = 2 * depth_ * (1 - e) * width_ * e;
     const double d2v = 2 * depth_ * width_ * width_ * e * (2 * e - 1);
     const Eigen::Vector3d u = d / r;
-    const Eigen::Matrix3d block = d2v * u * u.transpose() + dv / r * (Eigen::Matrix3d::Identity() - u * u.transpose());
+    const Eigen::Matrix3d block =
+        d2v * u * u.transpose() + dv / r * (Eigen::Matrix3d::Identity() - u * u.transpose());
     Eigen::MatrixXd h(6, 6);
     h << block, -block, -block, block;
     return h;
@@ -92,8 +96,8 @@ TEST(Vpt2Morse, ClosedFormAnharmonicityForAnotherMorseOscillator) {
   const Eigen::Vector2d masses(1.00782503, 18.99840316);
   const HarmonicResult harmonic = analyze_normal_modes(x, masses, morse.hessian(x));
   const double mu = masses[0] * masses[1] / masses.sum();
-  const double omega_cm1 =
-      std::sqrt(2.0 * depth_cm1 * units::kcal_mol_per_cm1 * width * width / mu) * units::cm1_per_internal_angular_frequency;
+  const double omega_cm1 = std::sqrt(2.0 * depth_cm1 * units::kcal_mol_per_cm1 * width * width / mu) *
+                           units::cm1_per_internal_angular_frequency;
   EXPECT_NEAR(harmonic.frequencies_cm1[0], omega_cm1, 1e-6 * omega_cm1);
   const auto analytic = run_vpt2(compute_force_constants(morse, harmonic), harmonic);
   EXPECT_NEAR(analytic.x_cm1(0, 0), -omega_cm1 * omega_cm1 / (4.0 * depth_cm1), morse_tolerance_cm1);
@@ -175,7 +179,8 @@ TEST(Vpt2Water, AnharmonicityConstantsAgreeWithPublishedOnes) {
   EXPECT_TRUE(vpt2.resonances.empty() || !vpt2.resonances.front().flagged);
   // Harmonic order: bend (0), symmetric stretch (1), antisymmetric stretch (2).
   const int stretch = 1, bend = 0, antisymmetric = 2;
-  const double published[3][3] = {{-42.576, -15.933, -165.824}, {-15.933, -16.813, -20.332}, {-165.824, -20.332, -47.566}};
+  const double published[3][3] = {
+      {-42.576, -15.933, -165.824}, {-15.933, -16.813, -20.332}, {-165.824, -20.332, -47.566}};
   const int index[3] = {stretch, bend, antisymmetric};
   constexpr double water_tolerance_cm1 = 8.0;
   for (int a = 0; a < 3; ++a)
@@ -194,17 +199,21 @@ TEST(Vpt2Water, AnharmonicityConstantsAgreeWithPublishedOnes) {
 
 TEST(Vpt2Invariance, RotatedAndReorderedWaterGivesTheSameConstants) {
   const auto original = prepare("water.xyz", "water.toml", h2_16o);
-  const auto vpt2 = run_vpt2(compute_force_constants(*original.potential, original.harmonic), original.harmonic);
+  const auto vpt2 =
+      run_vpt2(compute_force_constants(*original.potential, original.harmonic), original.harmonic);
   // Rotate and translate the molecule and swap the two hydrogen atoms (the field is
   // written per O–H bond, so the swap exchanges its two stretch coordinates).
   ReadOptions read;
   read.isotopes = h2_16o;
   Molecule moved = read_molecule(testing::source_path("molecules/water.xyz"), read).molecule;
   std::swap(moved.atoms[1], moved.atoms[2]);
-  const Eigen::Matrix3d rotation = Eigen::AngleAxisd(2.1, Eigen::Vector3d(0.3, -1.0, 0.4).normalized()).toRotationMatrix();
-  for (auto& atom : moved.atoms) atom.position_angstrom = rotation * atom.position_angstrom + Eigen::Vector3d(1.0, 2.0, -3.0);
+  const Eigen::Matrix3d rotation =
+      Eigen::AngleAxisd(2.1, Eigen::Vector3d(0.3, -1.0, 0.4).normalized()).toRotationMatrix();
+  for (auto& atom : moved.atoms)
+    atom.position_angstrom = rotation * atom.position_angstrom + Eigen::Vector3d(1.0, 2.0, -3.0);
   const auto potential = load_valence_force_field(testing::source_path("potentials/water.toml"), moved);
-  const HarmonicResult harmonic = testing::harmonic_at_minimum(*potential, moved.coordinates(), moved.masses());
+  const HarmonicResult harmonic =
+      testing::harmonic_at_minimum(*potential, moved.coordinates(), moved.masses());
   const auto other = run_vpt2(compute_force_constants(*potential, harmonic), harmonic);
   EXPECT_LT((vpt2.x_cm1 - other.x_cm1).cwiseAbs().maxCoeff(), invariance_tolerance_cm1);
   EXPECT_LT((vpt2.x_coriolis_cm1 - other.x_coriolis_cm1).cwiseAbs().maxCoeff(), invariance_tolerance_cm1);
@@ -220,7 +229,8 @@ TEST(Vpt2Invariance, SymmetryAdaptedAndPlainRoutesAgree) {
   const auto symmetric = run_vpt2(fc, with.adapted.harmonic);
   ForceConstantOptions plain;
   plain.use_symmetry = false;
-  const auto fc_plain = compute_force_constants(*with.potential, with.adapted.harmonic, with.adapted.symmetry, plain);
+  const auto fc_plain =
+      compute_force_constants(*with.potential, with.adapted.harmonic, with.adapted.symmetry, plain);
   const auto without = run_vpt2(fc_plain, with.adapted.harmonic);
   ASSERT_EQ(symmetric.levels.size(), without.levels.size());
   std::vector<double> a, b;
@@ -232,11 +242,36 @@ TEST(Vpt2Invariance, SymmetryAdaptedAndPlainRoutesAgree) {
   // 2ν of the T2 bend splits into A1 + E + T2 ([T2]² = A1 + E + T2 in Td, Cotton 1990).
   int t2_overtone_sublevels = 0;
   for (const auto& level : symmetric.levels)
-    if (level.kind == LevelKind::overtone && symmetric.sets[static_cast<std::size_t>(
-                                                 std::find(level.set_quanta.begin(), level.set_quanta.end(), 2) -
-                                                 level.set_quanta.begin())].species == "T2")
+    if (level.kind == LevelKind::overtone &&
+        symmetric
+                .sets[static_cast<std::size_t>(
+                    std::find(level.set_quanta.begin(), level.set_quanta.end(), 2) -
+                    level.set_quanta.begin())]
+                .species == "T2")
       t2_overtone_sublevels += level.degeneracy;
   EXPECT_EQ(t2_overtone_sublevels, 2 * 6);  // two T2 sets, six states each
+}
+
+TEST(Vpt2Invariance, SemiDiagonalQuarticFieldGivesTheSameLevels) {
+  // The line list needs quartic constants with a repeated index, plus those with four
+  // different indices inside pairs of one degenerate set (the combination levels of two
+  // degenerate sets); the reduced scheme computes exactly these, so methane's levels must
+  // not change when the full quartic field is left out.
+  const auto methane = prepare_symmetric("methane.xyz", "methane.toml", {});
+  ForceConstantOptions reduced;
+  reduced.full_quartic_max_modes = 0;
+  const auto full_fc =
+      compute_force_constants(*methane.potential, methane.adapted.harmonic, methane.adapted.symmetry);
+  const auto reduced_fc = compute_force_constants(*methane.potential, methane.adapted.harmonic,
+                                                  methane.adapted.symmetry, reduced);
+  ASSERT_TRUE(full_fc.full_quartic);
+  ASSERT_FALSE(reduced_fc.full_quartic);
+  EXPECT_LT(reduced_fc.evaluations.hessians, full_fc.evaluations.hessians);
+  const auto full = run_vpt2(full_fc, methane.adapted.harmonic);
+  const auto partial = run_vpt2(reduced_fc, methane.adapted.harmonic);
+  ASSERT_EQ(full.levels.size(), partial.levels.size());
+  for (std::size_t k = 0; k < full.levels.size(); ++k)
+    EXPECT_NEAR(full.levels[k].anharmonic_cm1, partial.levels[k].anharmonic_cm1, estimate_tolerance_cm1);
 }
 
 TEST(Vpt2LineList, CsvHasOneRowPerLevelWithDocumentedColumns) {
@@ -249,9 +284,10 @@ TEST(Vpt2LineList, CsvHasOneRowPerLevelWithDocumentedColumns) {
   std::istringstream lines(csv);
   std::string header;
   std::getline(lines, header);
-  EXPECT_EQ(header,
-            "label,kind,quanta,sublevel,degeneracy,species,ir_active,raman_active,harmonic_cm1,anharmonic_cm1,"
-            "resonance_corrected_cm1,best_estimate_cm1,polyad,partners,mixing");
+  EXPECT_EQ(
+      header,
+      "label,kind,quanta,sublevel,degeneracy,species,ir_active,raman_active,harmonic_cm1,anharmonic_cm1,"
+      "resonance_corrected_cm1,best_estimate_cm1,polyad,partners,mixing");
   std::size_t rows = 0;
   bool saw_dyad_row = false;
   for (std::string line; std::getline(lines, line);) {

@@ -69,12 +69,13 @@ TEST(TaylorExpansionPotential, CartesianTermsFollowTheTaylorConvention) {
   Eigen::VectorXd x = data.reference_angstrom;
   x[0] += 0.01;
   const double u = 0.01;
-  const double expected = -3.5 + 0.2 * u + 0.5 * 500.0 * u * u - 900.0 / 6.0 * u * u * u + 2000.0 / 24.0 * u * u * u * u;
+  const double expected =
+      -3.5 + 0.2 * u + 0.5 * 500.0 * u * u - 900.0 / 6.0 * u * u * u + 2000.0 / 24.0 * u * u * u * u;
   EXPECT_NEAR(potential.energy(x), expected, same_value_tolerance);
   Eigen::VectorXd y = data.reference_angstrom;
-  y[3] += 0.02;  // u₄
+  y[3] += 0.02;   // u₄
   y[5] += -0.03;  // u₆
-  y[6] += 0.01;  // u₇
+  y[6] += 0.01;   // u₇
   const double u4 = 0.02, u6 = -0.03, u7 = 0.01;
   const double expected_y = -3.5 + 0.5 * (450.0 * u4 * u4 + 400.0 * u6 * u6 + 450.0 * u7 * u7) +
                             20.0 * u4 * u7 + 0.5 * 300.0 * u4 * u6 * u6 + 500.0 / 4.0 * u4 * u4 * u6 * u6;
@@ -124,11 +125,13 @@ TEST(TaylorExpansionPotential, MoleculeInAnotherFrameSeesTheSameSurface) {
   const Molecule molecule = molecule_for(data);
   const TaylorExpansionPotential reference_frame(data, molecule);
   // The same molecule rotated and translated: the loader superimposes it once.
-  const Eigen::Matrix3d rotation = Eigen::AngleAxisd(0.7, Eigen::Vector3d(1, 2, -1).normalized()).toRotationMatrix();
+  const Eigen::Matrix3d rotation =
+      Eigen::AngleAxisd(0.7, Eigen::Vector3d(1, 2, -1).normalized()).toRotationMatrix();
   const Eigen::Vector3d translation(3.0, -1.0, 0.5);
   auto moved = [&](const Eigen::VectorXd& x) {
     Eigen::VectorXd y(x.size());
-    for (Eigen::Index a = 0; a < x.size() / 3; ++a) y.segment<3>(3 * a) = rotation * x.segment<3>(3 * a) + translation;
+    for (Eigen::Index a = 0; a < x.size() / 3; ++a)
+      y.segment<3>(3 * a) = rotation * x.segment<3>(3 * a) + translation;
     return y;
   };
   Molecule turned = molecule;
@@ -138,7 +141,9 @@ TEST(TaylorExpansionPotential, MoleculeInAnotherFrameSeesTheSameSurface) {
     const Eigen::VectorXd x = displaced(data.reference_angstrom, 0.05, seed);
     EXPECT_NEAR(reference_frame.energy(x), other_frame.energy(moved(x)), same_value_tolerance);
   }
-  EXPECT_LT((other_frame.reference_in_molecule_frame() - moved(data.reference_angstrom)).cwiseAbs().maxCoeff(), 1e-9);
+  EXPECT_LT(
+      (other_frame.reference_in_molecule_frame() - moved(data.reference_angstrom)).cwiseAbs().maxCoeff(),
+      1e-9);
 }
 
 // A diatomic in normal coordinates: one mode along the bond.
@@ -154,7 +159,8 @@ TaylorExpansionData diatomic_normal(double cubic_cm1, double quartic_cm1) {
   data.mode_displacements = Eigen::MatrixXd::Zero(6, 1);
   data.mode_displacements(2, 0) = -1.0 / data.masses_da[0];  // centre of mass fixed
   data.mode_displacements(5, 0) = 1.0 / data.masses_da[1];
-  data.derivatives = {{{0, 0, 0}, cubic_cm1 * units::kcal_mol_per_cm1}, {{0, 0, 0, 0}, quartic_cm1 * units::kcal_mol_per_cm1}};
+  data.derivatives = {{{0, 0, 0}, cubic_cm1 * units::kcal_mol_per_cm1},
+                      {{0, 0, 0, 0}, quartic_cm1 * units::kcal_mol_per_cm1}};
   return data;
 }
 
