@@ -13,8 +13,8 @@ namespace {
 
 std::string modes_text(const std::vector<int>& numbers) { return fmt::format("{}", fmt::join(numbers, ",")); }
 
-std::string copies_text(const FamilyType& type) {
-  if (type.continuous_copies) return "one per orientation about the axis";
+std::string copies_text(const FamilyType& type, bool short_form = false) {
+  if (type.continuous_copies) return short_form ? "all orientations" : "one per orientation about the axis";
   std::string text = std::to_string(type.copies);
   if (type.time_reversal == TimeReversal::among_copies) text += " (both senses)";
   else if (type.time_reversal == TimeReversal::separate_partner) text += " + time-reversed";
@@ -49,7 +49,7 @@ std::string families_summary(const FamiliesResult& result) {
     const FamilyType& type = family.type;
     out << fmt::format("{:>3}  modes {:<8} {:<8} {:<9} copies {:<12} {}\n", i + 1, modes_text(type.mode_numbers),
                        type.species.empty() ? "-" : type.species, type.standing ? "standing" : "rotating",
-                       copies_text(type), family.continued ? to_string(family.backbone.status) : "not continued");
+                       copies_text(type, true), family.continued ? to_string(family.backbone.status) : "not continued");
   }
   return out.str();
 }
@@ -64,7 +64,7 @@ std::string families_text_report(const FamiliesResult& result) {
                      result.units.energy_label == "cm-1" ? "fs" : "time units");
   for (const auto& warning : result.warnings) out << "  warning: " << warning << "\n";
   out << "\n";
-  out << fmt::format("{:>3}  {:<9} {:<8} {:<9} {:>5}  {:<26} {:>6}  {:>10} {:>10} {:>10}  {}\n", "#", "modes",
+  out << fmt::format("{:>3}  {:<9} {:<8} {:<9} {:>5}  {:<18} {:>6}  {:>10} {:>10} {:>10}  {}\n", "#", "modes",
                      "species", "motion", "|H|", "copies", "points", "omega(0)", "omega(max)", "E max", "status");
   for (std::size_t i = 0; i < result.families.size(); ++i) {
     const FamilyResult& family = result.families[i];
@@ -72,14 +72,14 @@ std::string families_text_report(const FamiliesResult& result) {
     const auto& points = family.backbone.points;
     const std::string status = family.continued ? to_string(family.backbone.status) : "not continued";
     if (points.empty()) {
-      out << fmt::format("{:>3}  {:<9} {:<8} {:<9} {:>5}  {:<26} {:>6}  {:>10} {:>10} {:>10}  {}\n", i + 1,
+      out << fmt::format("{:>3}  {:<9} {:<8} {:<9} {:>5}  {:<18} {:>6}  {:>10} {:>10} {:>10}  {}\n", i + 1,
                          modes_text(type.mode_numbers), type.species.empty() ? "-" : type.species,
-                         type.standing ? "standing" : "rotating", type.subgroup.size(), copies_text(type), 0, "-", "-",
+                         type.standing ? "standing" : "rotating", type.subgroup.size(), copies_text(type, true), 0, "-", "-",
                          "-", status);
     } else {
-      out << fmt::format("{:>3}  {:<9} {:<8} {:<9} {:>5}  {:<26} {:>6}  {:>10.2f} {:>10.2f} {:>10.1f}  {}\n", i + 1,
+      out << fmt::format("{:>3}  {:<9} {:<8} {:<9} {:>5}  {:<18} {:>6}  {:>10.2f} {:>10.2f} {:>10.1f}  {}\n", i + 1,
                          modes_text(type.mode_numbers), type.species.empty() ? "-" : type.species,
-                         type.standing ? "standing" : "rotating", type.subgroup.size(), copies_text(type),
+                         type.standing ? "standing" : "rotating", type.subgroup.size(), copies_text(type, true),
                          points.size(), points.front().frequency_cm1, points.back().frequency_cm1,
                          points.back().energy_cm1, status);
     }
