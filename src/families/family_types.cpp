@@ -506,6 +506,7 @@ FamilyEnumeration enumerate_families(const std::vector<ModeBlock>& blocks, const
       family.seed.linear_mode =
           family.seed.invariant_basis.cast<Complex>() * (family.seed.invariant_basis.transpose().cast<Complex>() * v);
       family.seed.angular_frequency = block.angular_frequency;
+      family.seed.block_dimension = d;
       for (const PhasedElement& element : family.subgroup) {
         if (element.element == group.identity()) continue;
         TrajectorySymmetry check;

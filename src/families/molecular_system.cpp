@@ -35,6 +35,7 @@ MolecularVibrationalSystem::MolecularVibrationalSystem(const Potential& potentia
   for (Eigen::Index i = 0; i < cartesian; ++i) inverse_sqrt_mass(i) = 1.0 / std::sqrt(harmonic.masses_da(i / 3));
   displacement_ = inverse_sqrt_mass.asDiagonal() * harmonic.mass_weighted_modes;
   linear_ = harmonic.linear;
+  if (linear_) axial_generator_ = axial_rotation_generator(harmonic);
   analytic_available_ = potential.has_analytic_hessian();
   if (options.hessian_products == HessianProducts::analytic && !analytic_available_)
     throw Error("analytic Hessian products were requested but the potential '" + potential.description() +
@@ -134,22 +135,30 @@ CoordinateSymmetry molecular_coordinate_symmetry(const PointGroupResult& group, 
     symmetry.matrices.push_back(nearest_orthogonal(d));
     symmetry.labels.push_back(group.group.operations[g].name);
   }
-  if (harmonic.linear) {
-    // The molecular axis: the direction of largest spread of the atoms.
-    const Eigen::Index atoms = harmonic.coordinates_angstrom.size() / 3;
-    Eigen::MatrixXd positions(atoms, 3);
-    for (Eigen::Index a = 0; a < atoms; ++a) positions.row(a) = harmonic.coordinates_angstrom.segment<3>(3 * a);
-    const Eigen::MatrixXd centred = positions.rowwise() - positions.colwise().mean();
-    Eigen::JacobiSVD<Eigen::MatrixXd> svd(centred, Eigen::ComputeFullV);
-    const Eigen::Vector3d axis = svd.matrixV().col(0);
-    Eigen::Matrix3d cross;
-    cross << 0.0, -axis.z(), axis.y(), axis.z(), 0.0, -axis.x(), -axis.y(), axis.x(), 0.0;
-    Eigen::MatrixXd turned(modes.rows(), n);
-    for (Eigen::Index a = 0; a < atoms; ++a) turned.middleRows(3 * a, 3) = cross * modes.middleRows(3 * a, 3);
-    const Eigen::MatrixXd j = modes.transpose() * turned;
-    symmetry.axial_generator = 0.5 * (j - j.transpose());
-  }
+  if (harmonic.linear) symmetry.axial_generator = axial_rotation_generator(harmonic);
   return symmetry;
+}
+
+Eigen::MatrixXd axial_rotation_generator(const HarmonicResult& harmonic) {
+  const Eigen::MatrixXd& modes = harmonic.mass_weighted_modes;
+  // The molecular axis: the direction of largest spread of the atoms.
+  const Eigen::Index atoms = harmonic.coordinates_angstrom.size() / 3;
+  Eigen::MatrixXd positions(atoms, 3);
+  for (Eigen::Index a = 0; a < atoms; ++a) positions.row(a) = harmonic.coordinates_angstrom.segment<3>(3 * a);
+  const Eigen::MatrixXd centred = positions.rowwise() - positions.colwise().mean();
+  Eigen::JacobiSVD<Eigen::MatrixXd> svd(centred, Eigen::ComputeFullV);
+  const Eigen::Vector3d axis = svd.matrixV().col(0);
+  Eigen::Matrix3d cross;
+  cross << 0.0, -axis.z(), axis.y(), axis.z(), 0.0, -axis.x(), -axis.y(), axis.x(), 0.0;
+  Eigen::MatrixXd turned(modes.rows(), modes.cols());
+  for (Eigen::Index a = 0; a < atoms; ++a) turned.middleRows(3 * a, 3) = cross * modes.middleRows(3 * a, 3);
+  const Eigen::MatrixXd j = modes.transpose() * turned;
+  return 0.5 * (j - j.transpose());
+}
+
+std::vector<Eigen::MatrixXd> MolecularVibrationalSystem::symmetry_generators() const {
+  if (!linear_) return {};
+  return {axial_generator_};
 }
 
 std::vector<ModeBlock> molecular_mode_blocks(const ModeSymmetryResult& species, const HarmonicResult& harmonic,

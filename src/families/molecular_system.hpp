@@ -52,7 +52,8 @@ class MolecularVibrationalSystem : public VibrationalSystem {
   int dimension() const override { return static_cast<int>(frequencies_.size()); }
   Eigen::VectorXd harmonic_angular_frequencies() const override { return frequencies_; }
   UnitConventions units() const override { return molecular_unit_conventions(); }
-  int continuous_symmetry_count() const override { return linear_ ? 1 : 0; }
+  // Linear molecules: the rotation about the molecular axis.
+  std::vector<Eigen::MatrixXd> symmetry_generators() const override;
   Eigen::VectorXd cartesian_displacement_angstrom(const Eigen::VectorXd& q) const override;
 
   // |g_eq projected on the vibrational coordinates|, kcal/mol/(Å·Da^½).
@@ -78,6 +79,7 @@ class MolecularVibrationalSystem : public VibrationalSystem {
   Eigen::VectorXd residual_gradient_; // Cᵀ g_eq
   double reference_energy_ = 0.0;
   bool linear_ = false;
+  Eigen::MatrixXd axial_generator_;   // linear molecules only
   bool analytic_available_ = false;
   // Use the analytic Hessian for k directions when k ≥ analytic_threshold_ (measured).
   int analytic_threshold_ = 0;
@@ -94,6 +96,10 @@ class MolecularVibrationalSystem : public VibrationalSystem {
 // harmonic geometry does not have the group's symmetry).
 CoordinateSymmetry molecular_coordinate_symmetry(const PointGroupResult& group, const HarmonicResult& harmonic,
                                                  CoordinateFrame frame);
+
+// Generator of rotations about the molecular axis acting on the normal coordinates,
+// Lᵀ(I ⊗ [a]×)L with a the axis of the (linear) harmonic geometry; antisymmetric n × n.
+Eigen::MatrixXd axial_rotation_generator(const HarmonicResult& harmonic);
 
 // Blocks of normal coordinates from the symmetry stage's degenerate sets, with species
 // labels and report numbers: mode_order[k] is the harmonic index of reported mode k+1

@@ -69,6 +69,8 @@ void validate(const ContinuationOptions& o) {
   require(o.variational_nodes_per_period >= 0, "variational_nodes_per_period", o.variational_nodes_per_period,
           "non-negative");
   require(o.samples_per_period >= 16, "samples_per_period", o.samples_per_period, "at least 16");
+  require(o.partner_resolution >= 0.0 && o.partner_resolution < 0.5, "partner_resolution", o.partner_resolution,
+          "in [0, 0.5)");
   require(o.stability_tolerance > 0.0 && o.stability_tolerance < 0.1, "stability_tolerance", o.stability_tolerance,
           "in (0, 0.1)");
   require(o.escape_radius_factor > 1.0, "escape_radius_factor", o.escape_radius_factor, "above 1");
@@ -220,7 +222,9 @@ class FamilySolver {
   // The period enters the unknowns relative to the current one, so that an arclength
   // step changes it by a bounded fraction even where it diverges (near a separatrix).
   static double time_scale_for(double period) { return period / (2.0 * units::pi); }
-  void classify_multipliers(const Eigen::MatrixXd& monodromy, OrbitPoint& point) const;
+  // monodromy in scaled coordinates at the orbit's initial state (q, p).
+  void classify_multipliers(const Eigen::MatrixXd& monodromy, const Eigen::VectorXd& q, const Eigen::VectorXd& p,
+                            double length, OrbitPoint& point) const;
   void detect_events(ContinuationResult& result) const;
   void build_ladder(ContinuationResult& result);
   void fill_converted(OrbitPoint& point) const;
@@ -461,29 +465,79 @@ Eigen::VectorXd FamilySolver::tangent_at(const Unknowns& point, const Eigen::Mat
   return svd.matrixV().col(2 * m_ + 1);
 }
 
-void FamilySolver::classify_multipliers(const Eigen::MatrixXd& monodromy, OrbitPoint& point) const {
-  Eigen::EigenSolver<Eigen::MatrixXd> solver(monodromy, false);
-  std::vector<std::complex<double>> multipliers(solver.eigenvalues().data(),
-                                                solver.eigenvalues().data() + solver.eigenvalues().size());
-  std::sort(multipliers.begin(), multipliers.end(),
-            [](const auto& x, const auto& y) { return std::abs(x) > std::abs(y); });
-  point.floquet_multipliers = multipliers;
+void FamilySolver::classify_multipliers(const Eigen::MatrixXd& monodromy, const Eigen::VectorXd& q,
+                                        const Eigen::VectorXd& p, double length, OrbitPoint& point) const {
+  // The neutral multipliers at +1 form Jordan blocks that round-off splits by
+  // ~sqrt(ε); they are removed exactly instead. In scaled phase-space coordinates
+  // (q/ℓ, p/(ω₀ℓ)), with H and each conserved momentum L = pᵀGq of a continuous
+  // symmetry G: W = {v ⊥ ∇H, ∇L} is invariant under M, and so are the flow direction f
+  // and the symmetry directions g = (Gq, Gp), which lie in W. On an orthonormal basis U
+  // of W ∩ {f, g}^⊥ the quotient map is UᵀMU, whose eigenvalues are the non-neutral
+  // multipliers. (For a rotating orbit g ∥ f and ∇L ∥ ∇H; the two neutral multipliers
+  // this leaves are then the two closest to +1.)
+  const int n = n_;
+  const Eigen::VectorXd qs = q / length, ps = p / (omega_ * length);
+  Eigen::VectorXd gradient;
+  system_.gradient(q, gradient);
+  std::vector<Eigen::VectorXd> constraints;
+  auto add = [&](const Eigen::VectorXd& top, const Eigen::VectorXd& bottom) {
+    Eigen::VectorXd v(2 * n);
+    v << top, bottom;
+    constraints.push_back(v);
+  };
+  add(length * gradient, omega_ * omega_ * length * length * ps);            // ∇H
+  add(omega_ * ps, -gradient / (omega_ * length));                            // f
+  // A continuous symmetry that leaves the orbit itself unchanged (a linear molecule's
+  // stretching orbit under rotation about the axis) has no neutral pair.
+  int moving_symmetries = 0;
+  const double state_norm = std::sqrt(qs.squaredNorm() + ps.squaredNorm());
+  for (const Eigen::MatrixXd& g : system_.symmetry_generators()) {
+    Eigen::VectorXd direction(2 * n);
+    direction << g * qs, g * ps;
+    constexpr double invariance_tolerance = 1e-8;  // relative; a rotated orbit differs at O(1) otherwise
+    if (direction.norm() <= invariance_tolerance * state_norm) continue;
+    ++moving_symmetries;
+    add(g.transpose() * ps, g * qs);  // ∇L
+    add(g * qs, g * ps);              // symmetry direction
+  }
+  Eigen::MatrixXd stacked(2 * n, static_cast<Eigen::Index>(constraints.size()));
+  for (std::size_t k = 0; k < constraints.size(); ++k) {
+    const double norm = constraints[k].norm();
+    stacked.col(static_cast<Eigen::Index>(k)) = norm > 0.0 ? Eigen::VectorXd(constraints[k] / norm) : constraints[k];
+  }
+  Eigen::JacobiSVD<Eigen::MatrixXd> svd(stacked, Eigen::ComputeFullU);
+  constexpr double rank_tolerance = 1e-6;  // directions closer than this to dependent count once
+  int rank = 0;
+  for (Eigen::Index k = 0; k < svd.singularValues().size(); ++k)
+    if (svd.singularValues()(k) > rank_tolerance * svd.singularValues()(0)) ++rank;
+  const Eigen::MatrixXd complement = svd.matrixU().rightCols(2 * n - rank);
+  const Eigen::MatrixXd reduced = complement.transpose() * monodromy * complement;
+
+  std::vector<std::complex<double>> nontrivial;
+  if (reduced.rows() > 0) {  // one degree of freedom has only the neutral pair
+    Eigen::EigenSolver<Eigen::MatrixXd> solver(reduced, false);
+    nontrivial.assign(solver.eigenvalues().data(), solver.eigenvalues().data() + solver.eigenvalues().size());
+  }
+  const int total_neutral = 2 + 2 * moving_symmetries;
+  const int leftover = std::max(0, std::min(static_cast<int>(nontrivial.size()), total_neutral - rank));
+  std::sort(nontrivial.begin(), nontrivial.end(),
+            [](const auto& x, const auto& y) { return std::abs(x - 1.0) < std::abs(y - 1.0); });
+  std::vector<std::complex<double>> all(static_cast<std::size_t>(rank), std::complex<double>(1.0, 0.0));
+  all.insert(all.end(), nontrivial.begin(), nontrivial.begin() + leftover);  // neutral, as computed
+  const std::vector<std::complex<double>> free_multipliers(nontrivial.begin() + leftover, nontrivial.end());
+  all.insert(all.end(), free_multipliers.begin(), free_multipliers.end());
+  std::sort(all.begin(), all.end(), [](const auto& x, const auto& y) { return std::abs(x) > std::abs(y); });
+  point.floquet_multipliers = all;
   point.floquet_moduli.clear();
-  for (const auto& mu : multipliers) point.floquet_moduli.push_back(std::abs(mu));
-  // The neutral multipliers: those closest to +1 (the trivial pair of the flow direction
-  // and energy, plus a pair per continuous symmetry).
-  const int neutral = std::min<int>(static_cast<int>(multipliers.size()), 2 + 2 * system_.continuous_symmetry_count());
-  std::vector<int> order(multipliers.size());
-  std::iota(order.begin(), order.end(), 0);
-  std::sort(order.begin(), order.end(), [&](int i, int j) {
-    return std::abs(multipliers[i] - 1.0) < std::abs(multipliers[j] - 1.0);
-  });
+  for (const auto& mu : all) point.floquet_moduli.push_back(std::abs(mu));
+
   point.largest_modulus = 1.0;
   point.unstable_count = point.unstable_negative_real = point.unstable_positive_real = 0;
+  point.multipliers_near_one = 0;
   const double threshold = 1.0 + options_.stability_tolerance;
-  for (std::size_t k = static_cast<std::size_t>(neutral); k < order.size(); ++k) {
-    const auto mu = multipliers[order[k]];
+  for (const auto& mu : free_multipliers) {
     const double modulus = std::abs(mu);
+    if (std::abs(mu - 1.0) < options_.partner_resolution) ++point.multipliers_near_one;
     point.largest_modulus = std::max(point.largest_modulus, modulus);
     if (modulus <= threshold) continue;
     ++point.unstable_count;
@@ -601,7 +655,7 @@ bool FamilySolver::analyze_point(const Unknowns& u, OrbitPoint& point, PointAnal
       Eigen::MatrixXd monodromy = Eigen::MatrixXd::Identity(2 * n_, 2 * n_);
       for (int k = 0; k < r_; ++k) monodromy = shift * monodromy * step;
       // monodromy = D^r (D⁻¹Φ)^r, built as D(D(…)(D⁻¹Φ))(D⁻¹Φ); equal because products associate.
-      classify_multipliers(monodromy, point);
+      classify_multipliers(monodromy, q[0], p[0], length, point);
     }
   } else {
     analysis.reduced_transition = transition;
@@ -890,10 +944,25 @@ void FamilySolver::detect_events(ContinuationResult& result) const {
     event.message = std::move(message);
     result.events.push_back(std::move(event));
   };
+  // Degenerate blocks: the first point where the partner multipliers have left +1.
+  std::size_t resolved_from = 0;
+  if (seed_.block_dimension >= 2) {
+    while (resolved_from < points.size() && points[resolved_from].multipliers_near_one > 0) ++resolved_from;
+  }
+  bool suppressed = false;
   for (std::size_t i = 1; i < points.size(); ++i) {
     const int k = static_cast<int>(i);
     const OrbitPoint& a = points[i - 1];
     const OrbitPoint& b = points[i];
+    const bool unresolved = i <= resolved_from && seed_.block_dimension >= 2 && !b.floquet_multipliers.empty();
+    if (unresolved && a.unstable_count != b.unstable_count && a.unstable_negative_real == b.unstable_negative_real) {
+      suppressed = true;
+      if (a.energy_direction != b.energy_direction)
+        add(FamilyEventKind::fold, k, fmt::format("the family turns {} in energy between {} and {}",
+                                                  b.energy_direction < 0 ? "back" : "forward again",
+                                                  energy_text(a.energy), energy_text(b.energy)));
+      continue;
+    }
     const std::string bracket =
         fmt::format("between {} and {}", energy_text(a.energy), energy_text(b.energy));
     if (a.energy_direction != b.energy_direction)
@@ -914,6 +983,12 @@ void FamilySolver::detect_events(ContinuationResult& result) const {
       add(FamilyEventKind::instability_changed, k,
           fmt::format("unstable multipliers change from {} to {} {}", a.unstable_count, b.unstable_count, bracket));
   }
+  if (suppressed)
+    result.warnings.push_back(fmt::format(
+        "below {} the multipliers of the degenerate partner motion lie within {} of +1 and their stability is not "
+        "resolved; stability changes there are not reported",
+        energy_text(resolved_from < points.size() ? points[resolved_from].energy : points.back().energy),
+        options_.partner_resolution));
   if (result.status == ContinuationStatus::escaped && !points.empty()) {
     FamilyEvent event;
     event.kind = FamilyEventKind::escape;

@@ -55,6 +55,10 @@ struct FamilySeed {
   Eigen::MatrixXd shift_matrix;
   int shift_denominator = 1;        // r ≥ 1
   std::vector<TrajectorySymmetry> checks;  // verified on the trajectory at every point
+  // Dimension of the block of equal harmonic frequencies the family belongs to. For d ≥ 2
+  // the partner motions start with multipliers at +1, whose stability at the smallest
+  // energies is below numerical resolution (see ContinuationOptions::partner_resolution).
+  int block_dimension = 1;
 };
 
 struct ContinuationOptions {
@@ -99,6 +103,12 @@ struct ContinuationOptions {
   bool measure_reference_cost = false;
   // A multiplier with modulus above 1 + stability_tolerance is unstable (dimensionless).
   double stability_tolerance = 1e-6;
+  // Families of degenerate blocks: until every non-neutral multiplier is at least this far
+  // from +1, the partner motions' multipliers are still emerging from the double
+  // multiplier at +1 of the linear limit and their stability is not resolved (round-off
+  // splits a double multiplier by ~sqrt(1e-10)); stability changes there are not reported
+  // as events (a warning says up to which energy). Dimensionless.
+  double partner_resolution = 1e-3;
   // An orbit whose |Q| exceeds this many times the harmonic amplitude at energy_max of
   // the softest coordinate is counted as escaped (dimensionless).
   double escape_radius_factor = 20.0;
@@ -153,6 +163,7 @@ struct OrbitPoint {
   int unstable_negative_real = 0;   // of those: real and negative (period-doubling side)
   int unstable_positive_real = 0;   // of those: real and positive (branch-point side)
   bool stable = true;               // no unstable multiplier
+  int multipliers_near_one = 0;     // non-neutral multipliers within partner_resolution of +1
   // Continuation data:
   int energy_direction = 1;         // sign of dE along the family's tangent (−1 after a fold)
   Eigen::VectorXd initial_positions;  // Q(0), full space

@@ -16,6 +16,7 @@
 #include <cstddef>
 #include <limits>
 #include <string>
+#include <vector>
 
 namespace overtone {
 
@@ -72,9 +73,12 @@ class VibrationalSystem {
   // Energy above which bounded motion may cease (dissociation, a barrier); +∞ when
   // unknown. Continuation stops there with an escape status.
   virtual double escape_energy() const { return std::numeric_limits<double>::infinity(); }
-  // Number of continuous symmetries of H (a linear molecule's rotation about its axis:
-  // 1). Each adds a pair of neutral Floquet multipliers at +1 that stability tests skip.
-  virtual int continuous_symmetry_count() const { return 0; }
+  // Generators G (n × n, antisymmetric) of continuous symmetries exp(αG) of H acting on
+  // the coordinates, e.g. a linear molecule's rotation about its axis. Each adds a
+  // conserved momentum PᵀGQ and a pair of neutral Floquet multipliers at +1, which the
+  // stability analysis removes.
+  virtual std::vector<Eigen::MatrixXd> symmetry_generators() const { return {}; }
+  int continuous_symmetry_count() const { return static_cast<int>(symmetry_generators().size()); }
   // Cartesian displacement (3N, Å, atom-major) for normal coordinates q when the system
   // is a molecule; an empty vector otherwise.
   virtual Eigen::VectorXd cartesian_displacement_angstrom(const Eigen::VectorXd& q) const;

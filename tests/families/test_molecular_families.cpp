@@ -224,6 +224,9 @@ TEST(MolecularFamilies, CarbonDioxideBendHasStandingAndRotatingFamiliesAndTheFer
   const Prepared p = prepare("carbon-dioxide.xyz", "carbon-dioxide.toml");
   ASSERT_TRUE(p.harmonic.linear);
   FamiliesOptions options = quick_options();
+  options.continuation.compute_floquet = true;
+  options.continuation.max_energy_step_fraction = 0.1;
+  options.continuation.start_energy_fraction = 1e-3;  // below the stretch's instability (~10 cm⁻¹)
   const FamiliesResult result = compute_molecular_families(*p.potential, p.harmonic, p.group, p.species, {}, options);
   int standing = 0, rotating = 0;
   for (const FamilyResult& family : result.families) {
@@ -254,6 +257,25 @@ TEST(MolecularFamilies, CarbonDioxideBendHasStandingAndRotatingFamiliesAndTheFer
   EXPECT_EQ(standing, 1);
   EXPECT_EQ(rotating, 1);
   EXPECT_EQ(result.families.size(), 4u);
+  for (const FamilyResult& family : result.families) {
+    const auto& points = family.backbone.points;
+    if (family.type.species == "Pi_u") {
+      // The bends stay linearly stable up to one quantum; the rotation about the axis
+      // adds a neutral pair that must not be mistaken for an instability.
+      for (const OrbitPoint& point : points) EXPECT_TRUE(point.stable) << family.type.description;
+    } else if (family.type.species == "Sigma_g+") {
+      // ω_stretch ≈ 2ω_bend: the stretching orbit modulates the bend at twice its
+      // frequency and excites it parametrically (the principal instability tongue of the
+      // Mathieu equation, e.g. A. H. Nayfeh and D. T. Mook, Nonlinear Oscillations (1979),
+      // ch. 5, from memory): both bend partners' multipliers pass through −1.
+      bool doubled = false;
+      for (const FamilyEvent& event : family.backbone.events)
+        doubled = doubled || event.kind == FamilyEventKind::period_doubling;
+      EXPECT_TRUE(doubled);
+      EXPECT_TRUE(points.front().stable);
+      EXPECT_EQ(points.back().unstable_count, 2);
+    }
+  }
   expect_orbits_keep_their_symmetry(result);
   // The report states the linear stand-in and the neglected coupling.
   const std::string report = families_text_report(result);
