@@ -77,6 +77,9 @@ void add_resonance_encounters(FamiliesResult& result, int max_ratio) {
       for (int p = 1; p <= max_ratio; ++p)
         for (int q = 1; q <= max_ratio; ++q) {
           if (std::gcd(p, q) != 1) continue;
+          // Families of one block start at the same frequency; their 1:1 crossings are
+          // differences between two motions of one mode, not a resonance.
+          if (p == 1 && q == 1 && result.families[a].type.block == result.families[b].type.block) continue;
           // f = q·ω_this − p·ω_other changes sign where ω_this : ω_other passes p : q.
           double previous_f = 0.0, previous_e = 0.0;
           bool have_previous = false;
