@@ -306,12 +306,21 @@ class DisplacedEvaluator {
         operations_(operations),
         step_(step),
         analytic_(potential.has_analytic_hessian()),
-        m_(static_cast<int>(frame.frequencies_cm1.size())) {}
+        m_(static_cast<int>(frame.frequencies_cm1.size())) {
+    if (!operations_) return;
+    constexpr double exact = 1e-9;  // entries of an exact group matrix that are 0 or ±1
+    for (const auto& r : *operations_)
+      signed_permutation_.push_back((r.array().abs() < exact || (r.array().abs() - 1.0).abs() < exact).all());
+  }
 
   const Eigen::MatrixXd& hessian(const Point& p) {
     if (auto it = hessians_.find(p); it != hessians_.end()) return it->second;
     Eigen::MatrixXd h;
-    if (const auto image = symmetric_image(p, hessians_)) {
+    // A Hessian from central differences carries a truncation error tied to its stencil
+    // along the normal coordinates; only an operation that maps the stencil onto itself (a
+    // signed permutation of the coordinates) carries that error along exactly, so that it
+    // still cancels in the outer differences. Gradients and analytic Hessians are exact.
+    if (const auto image = symmetric_image(p, hessians_, !analytic_)) {
       h = image->first.transpose() * image->second->second * image->first;
       ++hessians_from_symmetry_;
     } else if (analytic_) {
@@ -365,12 +374,13 @@ class DisplacedEvaluator {
   // An operation g and an already computed point equal to R(g)·p.
   template <class Map>
   std::optional<std::pair<Eigen::MatrixXd, typename Map::const_iterator>> symmetric_image(
-      const Point& p, const Map& map) const {
+      const Point& p, const Map& map, bool signed_permutations_only = false) const {
     if (!operations_) return std::nullopt;
     Eigen::VectorXd v(m_);
     for (int k = 0; k < m_; ++k) v[k] = p[static_cast<std::size_t>(k)];
     constexpr double integer_tolerance = 1e-6;  // R is exact to far better than this when used
     for (std::size_t g = 1; g < operations_->size(); ++g) {
+      if (signed_permutations_only && !signed_permutation_[g]) continue;
       const Eigen::VectorXd image = (*operations_)[g] * v;
       Point key(static_cast<std::size_t>(m_));
       bool integral = true;
@@ -394,6 +404,7 @@ class DisplacedEvaluator {
   std::map<Point, Eigen::MatrixXd> hessians_;
   std::map<Point, Eigen::VectorXd> gradients_;
   std::size_t hessians_from_symmetry_ = 0;
+  std::vector<bool> signed_permutation_;
 };
 
 // Running mean and spread of the estimates of one constant.

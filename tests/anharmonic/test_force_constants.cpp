@@ -7,6 +7,7 @@
 
 #include "anharmonic/force_constants.hpp"
 #include "core/error.hpp"
+#include "core/units.hpp"
 #include "molecule_helpers.hpp"
 
 namespace overtone {
@@ -156,6 +157,85 @@ TEST(ForceConstants, CarbonDioxideDegeneratePartnersAreConsistent) {
   plain.use_symmetry = false;
   const auto without = compute_force_constants(*co2.potential, co2.adapted.harmonic, symmetry, plain);
   EXPECT_LT(largest_difference(fc.constants, without.constants), forbidden_tolerance_cm1);
+}
+
+// A three-mode model with the cyclic group C6 acting as a 120° rotation on a degenerate
+// pair (q1, q2) and as −1 on q0: V = ½ω₀q₀² + ½ω(q₁² + q₂²) + κ q₀² Re((q₁ + i q₂)³)
+// + λ (q₁² + q₂²)², in dimensionless coordinates of a single unit-mass "atom". Gradients only.
+class CyclicModel : public Potential {
+ public:
+  explicit CyclicModel(const HarmonicResult& harmonic) : frame_(harmonic) {}
+  std::string description() const override { return "C6 model"; }
+  std::size_t atom_count() const override { return 1; }
+  static constexpr double kappa = 300.0, lambda = 40.0;  // cm⁻¹
+
+ protected:
+  double compute_energy(const Eigen::VectorXd& x) const override {
+    Eigen::VectorXd g;
+    return compute_energy_and_gradient(x, g);
+  }
+  double compute_energy_and_gradient(const Eigen::VectorXd& x, Eigen::VectorXd& gradient) const override {
+    Eigen::Vector3d q;
+    for (int k = 0; k < 3; ++k) q[k] = x[k] / frame_.to_cartesian(k, k);
+    const Eigen::VectorXd& w = frame_.frequencies_cm1;
+    const double r2 = q[1] * q[1] + q[2] * q[2], re3 = q[1] * q[1] * q[1] - 3 * q[1] * q[2] * q[2];
+    const double v =
+        0.5 * w[0] * q[0] * q[0] + 0.5 * w[1] * r2 + kappa * q[0] * q[0] * re3 + lambda * r2 * r2;
+    Eigen::Vector3d dv;
+    dv[0] = w[0] * q[0] + 2 * kappa * q[0] * re3;
+    dv[1] = w[1] * q[1] + kappa * q[0] * q[0] * (3 * q[1] * q[1] - 3 * q[2] * q[2]) + 4 * lambda * r2 * q[1];
+    dv[2] = w[1] * q[2] - kappa * q[0] * q[0] * 6 * q[1] * q[2] + 4 * lambda * r2 * q[2];
+    gradient.resize(3);
+    for (int k = 0; k < 3; ++k) gradient[k] = dv[k] / frame_.to_cartesian(k, k) * units::kcal_mol_per_cm1;
+    return v * units::kcal_mol_per_cm1;
+  }
+
+ private:
+  detail::NormalCoordinateFrame frame_;
+};
+
+TEST(ForceConstants, GradientRouteWithSymmetryMatchesWithout) {
+  // Reusing a Hessian from central differences through an operation that rotates a
+  // degenerate pair by 120° would carry the truncation error tied to its stencil into the
+  // outer differences; gradients may be reused through
+  // any operation. With the group, the constants must be those without it.
+  HarmonicResult harmonic;
+  harmonic.coordinates_angstrom = Eigen::VectorXd::Zero(3);
+  harmonic.masses_da = Eigen::VectorXd::Ones(1);
+  harmonic.frequencies_cm1 = Eigen::Vector3d(1000.0, 1500.0, 1500.0);
+  harmonic.eigenvalues.resize(3);
+  for (int k = 0; k < 3; ++k)
+    harmonic.eigenvalues[k] = units::eigenvalue_from_wavenumber_cm1(harmonic.frequencies_cm1[k]);
+  harmonic.mass_weighted_modes = Eigen::Matrix3d::Identity();
+  const CyclicModel model(harmonic);
+  ModeSymmetry symmetry;
+  symmetry.degenerate_set = {0, 1, 1};
+  symmetry.species = {"", "", ""};
+  for (int k = 0; k < 6; ++k) {
+    Eigen::Matrix3d r = Eigen::Matrix3d::Zero();
+    r(0, 0) = k % 2 == 0 ? 1.0 : -1.0;
+    r.block<2, 2>(1, 1) = Eigen::Rotation2Dd(2.0 * units::pi / 3.0 * k).toRotationMatrix();
+    symmetry.operations.push_back(r);
+    symmetry.operation_names.push_back("g" + std::to_string(k));
+  }
+  // The model's quintic term (∂⁵V = 12κ = 3600 cm⁻¹) makes the plain truncation error
+  // (h²/6)·∂⁵V visible: with h = 0.005 it is 0.015 cm⁻¹, while a wrongly reused Hessian would
+  // err by about 2κh ≈ 3 cm⁻¹.
+  constexpr double model_tolerance_cm1 = 0.05;
+  ForceConstantOptions options;
+  options.step = 0.005;
+  ForceConstantOptions plain = options;
+  plain.use_symmetry = false;
+  const auto with = compute_force_constants(model, harmonic, symmetry, options);
+  const auto without = compute_force_constants(model, harmonic, symmetry, plain);
+  ASSERT_TRUE(with.symmetry_reused_hessians);
+  EXPECT_LT(with.evaluations.gradients, without.evaluations.gradients);
+  EXPECT_LT(with.symmetry_adjustment_cm1, model_tolerance_cm1);
+  EXPECT_LT(largest_difference(with.constants, without.constants), model_tolerance_cm1);
+  // And the model's own constants: φ₁₁₁₁ = 24λ, φ₁₁₂₂ = 8λ (the quintic term adds none).
+  EXPECT_NEAR(with.constants.quartic(1, 1, 1, 1), 24 * CyclicModel::lambda, model_tolerance_cm1);
+  EXPECT_NEAR(with.constants.quartic(1, 1, 2, 2), 8 * CyclicModel::lambda, model_tolerance_cm1);
+  EXPECT_EQ(with.constants.cubic(0, 1, 1), 0.0);  // odd in q₀
 }
 
 TEST(ForceConstants, NotAMinimumIsAStatus) {
