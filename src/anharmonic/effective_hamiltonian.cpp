@@ -118,8 +118,9 @@ double AnharmonicOperator::quartic_element(const Quanta& m, const Quanta& n) con
   return rank_element(m, n, 4, mode_count(), [&](const std::vector<int>& c) { return term(c, m, n, 4); });
 }
 
-std::map<Quanta, double> AnharmonicOperator::apply_cubic(const Quanta& n) const {
-  std::map<Quanta, double> result;
+const std::map<Quanta, double>& AnharmonicOperator::apply_cubic(const Quanta& n) const {
+  if (const auto cached = applied_.find(n); cached != applied_.end()) return cached->second;
+  std::map<Quanta, double>& result = applied_[n];
   for (const auto& t : cubic_terms_) {
     Quanta target = n;
     std::function<void(std::size_t, double)> expand = [&](std::size_t factor, double amplitude) {
@@ -144,8 +145,8 @@ std::map<Quanta, double> AnharmonicOperator::apply_cubic(const Quanta& n) const 
 
 double AnharmonicOperator::second_order(const Quanta& m, const Quanta& n,
                                         const std::set<Quanta>& excluded) const {
-  const auto from_m = apply_cubic(m);
-  const auto from_n = m == n ? from_m : apply_cubic(n);
+  const auto& from_m = apply_cubic(m);
+  const auto& from_n = apply_cubic(n);
   const double em = zeroth_order(m), en = zeroth_order(n);
   double total = 0.0;
   for (const auto& [k, a] : from_m) {

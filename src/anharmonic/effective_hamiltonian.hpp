@@ -31,7 +31,7 @@ class AnharmonicOperator {
   double cubic_element(const Quanta& m, const Quanta& n) const;
   double quartic_element(const Quanta& m, const Quanta& n) const;
   // Every |k⟩ with ⟨k|V₃|n⟩ ≠ 0 and that element.
-  std::map<Quanta, double> apply_cubic(const Quanta& n) const;
+  const std::map<Quanta, double>& apply_cubic(const Quanta& n) const;
   // The Van Vleck second-order term between m and n, intermediates in `excluded` left out.
   double second_order(const Quanta& m, const Quanta& n, const std::set<Quanta>& excluded) const;
   // H_eff(m, n) as in the header comment.
@@ -50,6 +50,8 @@ class AnharmonicOperator {
     double value;                              // φ / Π power!
   };
   std::vector<CubicTerm> cubic_terms_;
+  // apply_cubic results by state: the same states recur in many matrix elements.
+  mutable std::map<Quanta, std::map<Quanta, double>> applied_;
 };
 
 // ⟨a|q^power|b⟩ for one harmonic oscillator, q = (a + a†)/√2.
