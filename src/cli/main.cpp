@@ -6,6 +6,7 @@
 #include <fstream>
 #include <iostream>
 #include <memory>
+#include <optional>
 #include <string>
 #include <vector>
 
@@ -13,6 +14,10 @@
 #include "molecule/read_molecule.hpp"
 #include "pipeline/analysis.hpp"
 #include "potential/make_potential.hpp"
+#include "anharmonic/anharmonic_report.hpp"
+#include "families/families_report.hpp"
+#include "report/anharmonic_json.hpp"
+#include "report/families_json.hpp"
 #include "report/harmonic_report.hpp"
 #include "symmetry/detect_point_group.hpp"
 #include "symmetry/symmetry_report.hpp"
@@ -73,17 +78,25 @@ void write_text(const std::string& path, const std::string& text) {
   if (!out) throw Error("writing '" + path + "' failed");
 }
 
-AnalysisResult run_analysis(const MoleculeArguments& arguments) {
+// The molecule, its potential (which later stages evaluate again) and the analysis.
+struct AnalysedMolecule {
+  std::unique_ptr<Potential> potential;
+  AnalysisResult analysis;
+};
+
+AnalysedMolecule run_analysis(const MoleculeArguments& arguments) {
   const ReadResult input = load_molecule(arguments);
   for (const auto& warning : input.warnings) std::cerr << "overtone: warning: " << warning << "\n";
-  const auto potential = make_potential(arguments.potential, input.molecule);
+  AnalysedMolecule result;
+  result.potential = make_potential(arguments.potential, input.molecule);
   AnalysisOptions options;
   options.symmetry.tolerance_angstrom = arguments.symmetry_tolerance_angstrom;
-  return analyze_molecule(input.molecule, *potential, options);
+  result.analysis = analyze_molecule(input.molecule, *result.potential, options);
+  return result;
 }
 
 int run_modes(const MoleculeArguments& arguments, const std::string& json_path) {
-  const AnalysisResult analysis = run_analysis(arguments);
+  const AnalysisResult analysis = run_analysis(arguments).analysis;
   if (json_path == "-") {
     std::cout << analysis_to_json(analysis).dump(2) << "\n";
     return 0;
@@ -93,19 +106,178 @@ int run_modes(const MoleculeArguments& arguments, const std::string& json_path) 
   return 0;
 }
 
-int run_analyze(const MoleculeArguments& arguments, const std::string& out_directory) {
-  const AnalysisResult analysis = run_analysis(arguments);
+struct FamilyArguments {
+  std::vector<int> fundamentals;  // ν numbers; empty: all
+  double energy_max_cm1 = 0.0;
+  double quanta = 0.0;
+};
+
+constexpr double default_family_quanta = 3.0;  // the first overtones a spectrum usually shows
+
+void add_family_arguments(CLI::App& command, FamilyArguments& arguments) {
+  command.add_option("--mode", arguments.fundamentals,
+                     "continue only the families of fundamental νN (the ν column of the modes table); repeatable");
+  auto* energy = command.add_option("--energy-max", arguments.energy_max_cm1,
+                                    "continue every family up to this energy above the minimum (cm-1)");
+  auto* quanta = command.add_option("--quanta", arguments.quanta,
+                                    "continue each family up to the energy of this many quanta of its own mode "
+                                    "(default 3)");
+  energy->excludes(quanta);
+  quanta->excludes(energy);
+}
+
+FamiliesOptions families_options(const AnalysisResult& analysis, const FamilyArguments& arguments) {
+  FamiliesOptions options;
+  if (arguments.energy_max_cm1 > 0.0) options.energy_max_cm1 = arguments.energy_max_cm1;
+  else options.quanta = arguments.quanta > 0.0 ? arguments.quanta : default_family_quanta;
+  options.mode_numbers = mode_numbers_of_fundamentals(analysis, arguments.fundamentals);
+  // One frequency window for the families' resonance threats and the perturbative Fermi
+  // candidates, so that the two lists can be compared pair by pair.
+  options.enumeration.resonance_window_cm1 = Vpt2Options{}.fermi_gap_cm1;
+  return options;
+}
+
+void create_folder(const std::string& folder) {
   std::error_code ec;
-  std::filesystem::create_directories(out_directory, ec);
-  if (ec) throw Error("cannot create output folder '" + out_directory + "': " + ec.message());
-  const std::string stem = analysis.molecule.title.empty() ? "molecule" : analysis.molecule.title;
+  std::filesystem::create_directories(folder, ec);
+  if (ec) throw Error("cannot create output folder '" + folder + "': " + ec.message());
+}
+
+// One CSV of backbone points per continued family; returns the files written.
+std::vector<std::string> write_family_csvs(const FamiliesResult& families, const std::string& folder) {
+  create_folder(folder);
+  std::vector<std::string> written;
+  for (std::size_t index = 0; index < families.families.size(); ++index) {
+    if (!families.families[index].continued) continue;
+    const int family = static_cast<int>(index);
+    const std::string path = (std::filesystem::path(folder) / family_csv_file_name(families, family)).string();
+    write_text(path, family_points_csv(families, family));
+    written.push_back(path);
+  }
+  return written;
+}
+
+void merge_into(nlohmann::json& document, const nlohmann::json& part) {
+  for (auto item = part.begin(); item != part.end(); ++item) document[item.key()] = item.value();
+}
+
+int run_anharmonic(const MoleculeArguments& arguments, const std::string& json_path, const std::string& lines_path) {
+  const AnalysedMolecule analysed = run_analysis(arguments);
+  const AnalysisResult& analysis = analysed.analysis;
+  const Potential& potential = *analysed.potential;
+  const AnharmonicResult anharmonic = analyze_anharmonic(analysis, potential);
+  nlohmann::json document = analysis_to_json(analysis);
+  merge_into(document, anharmonic_to_json(analysis, anharmonic));
+  const AnharmonicReportOptions report_options{anharmonic.set_numbers};
+  if (!lines_path.empty()) write_text(lines_path, line_list_csv(anharmonic.vpt2, report_options));
+  if (json_path == "-") {
+    std::cout << document.dump(2) << "\n";
+    return 0;
+  }
+  std::cout << modes_table(analysis) << "\n" << anharmonic_report(anharmonic.force_constants, anharmonic.vpt2, report_options);
+  if (!json_path.empty()) write_text(json_path, document.dump(2) + "\n");
+  return 0;
+}
+
+int run_families(const MoleculeArguments& arguments, const FamilyArguments& family_arguments,
+                 const std::string& json_path, const std::string& csv_folder) {
+  const AnalysedMolecule analysed = run_analysis(arguments);
+  const AnalysisResult& analysis = analysed.analysis;
+  const Potential& potential = *analysed.potential;
+  const FamiliesResult families = analyze_families(analysis, potential, families_options(analysis, family_arguments));
+  nlohmann::json document = analysis_to_json(analysis);
+  document["families"] = families_to_json(families);
+  document["families_summary"] = families_summary_to_json(families);
+  std::vector<std::string> written;
+  if (!csv_folder.empty()) written = write_family_csvs(families, csv_folder);
+  if (json_path == "-") {
+    std::cout << document.dump(2) << "\n";
+    return 0;
+  }
+  std::cout << modes_table(analysis) << "\n" << families_text_report(families);
+  if (!json_path.empty()) write_text(json_path, document.dump(2) + "\n");
+  if (!written.empty()) std::cout << "\nwrote " << written.size() << " backbone files to " << csv_folder << "\n";
+  return 0;
+}
+
+struct AnalyzeSwitches {
+  bool skip_anharmonic = false;
+  bool skip_families = false;
+};
+
+int run_analyze(const MoleculeArguments& arguments, const FamilyArguments& family_arguments,
+                const AnalyzeSwitches& switches, const std::string& out_directory) {
+  const AnalysedMolecule analysed = run_analysis(arguments);
+  const AnalysisResult& analysis = analysed.analysis;
+  const Potential& potential = *analysed.potential;
+
+  create_folder(out_directory);
   const auto base = std::filesystem::path(out_directory);
-  const std::string json_path = (base / "analysis.json").string();
-  const std::string csv_path = (base / "modes.csv").string();
-  write_text(json_path, analysis_to_json(analysis).dump(2) + "\n");
-  write_text(csv_path, modes_csv(analysis));
+  nlohmann::json document = analysis_to_json(analysis);
+  std::size_t backbone_files = 0;
   std::cout << modes_table(analysis);
-  std::cout << "\nwrote " << json_path << " and " << csv_path << " (" << stem << ")\n";
+
+  // A later stage that cannot run (a saddle point, say) does not discard the harmonic
+  // results: the reason is printed and stored in the JSON document.
+  std::optional<AnharmonicResult> anharmonic;
+  if (!switches.skip_anharmonic) {
+    try {
+      anharmonic = analyze_anharmonic(analysis, potential);
+    } catch (const Error& error) {
+      std::cerr << "overtone: warning: anharmonic stage skipped: " << error.what() << "\n";
+      document["anharmonic_skipped"] = error.what();
+    }
+  }
+  if (anharmonic) {
+    merge_into(document, anharmonic_to_json(analysis, *anharmonic));
+    const AnharmonicReportOptions report_options{anharmonic->set_numbers};
+    write_text((base / "lines.csv").string(), line_list_csv(anharmonic->vpt2, report_options));
+    std::cout << "\n" << anharmonic_report(anharmonic->force_constants, anharmonic->vpt2, report_options);
+  }
+
+  std::optional<FamiliesResult> families;
+  if (!switches.skip_families) {
+    try {
+      families = analyze_families(analysis, potential, families_options(analysis, family_arguments));
+    } catch (const Error& error) {
+      std::cerr << "overtone: warning: families stage skipped: " << error.what() << "\n";
+      document["families_skipped"] = error.what();
+    }
+  }
+  if (families) {
+    document["families"] = families_to_json(*families);
+    document["families_summary"] = families_summary_to_json(*families);
+    backbone_files = write_family_csvs(*families, (base / "families").string()).size();
+    std::cout << "\n" << families_text_report(*families);
+  }
+
+  if (anharmonic && families) {
+    nlohmann::json checks = nlohmann::json::array();
+    std::string text;
+    for (const ResonanceCrossCheck& check : cross_check_resonances(analysis, *anharmonic, *families)) {
+      checks.push_back({{"lower_fundamental", check.lower_fundamental},
+                        {"upper_fundamental", check.upper_fundamental},
+                        {"gap_cm1", check.gap_cm1},
+                        {"perturbative_listed", check.listed_by_perturbative},
+                        {"perturbative_allowed", check.perturbative_allowed},
+                        {"perturbative_flagged", check.perturbative_flagged},
+                        {"families_listed", check.listed_by_families},
+                        {"families_allowed", check.families_allowed},
+                        {"families_of_lower", check.families_of_lower},
+                        {"compared", check.compared},
+                        {"agree", check.agree},
+                        {"summary", check.summary}});
+      text += "  " + check.summary + "\n";
+    }
+    document["resonance_cross_check"] = checks;
+    if (!text.empty()) std::cout << "\nFermi 1:2 resonances, perturbative rule against the families:\n" << text;
+  }
+
+  write_text((base / "analysis.json").string(), document.dump(2) + "\n");
+  write_text((base / "modes.csv").string(), modes_csv(analysis));
+  std::cout << "\nwrote analysis.json, modes.csv" << (anharmonic ? ", lines.csv" : "");
+  if (backbone_files > 0) std::cout << " and " << backbone_files << " backbone files in families/";
+  std::cout << " to " << out_directory << "\n";
   return 0;
 }
 
@@ -140,10 +312,38 @@ int main(int argc, char** argv) {
   modes->add_option("--json", json_path, "write the JSON document to PATH ('-' for standard output)");
 
   MoleculeArguments analyze_arguments;
+  FamilyArguments analyze_family_arguments;
+  AnalyzeSwitches analyze_switches;
   std::string out_directory = "overtone-out";
-  CLI::App* analyze = app.add_subcommand("analyze", "the full analysis; writes analysis.json and modes.csv");
+  CLI::App* analyze = app.add_subcommand(
+      "analyze",
+      "the full analysis: modes, anharmonic levels, families; writes analysis.json, modes.csv, lines.csv and "
+      "families/*.csv");
   add_molecule_arguments(*analyze, analyze_arguments);
+  add_family_arguments(*analyze, analyze_family_arguments);
   analyze->add_option("-o,--out", out_directory, "output folder")->capture_default_str();
+  analyze->add_flag("--no-anharmonic", analyze_switches.skip_anharmonic, "leave out the anharmonic stage");
+  analyze->add_flag("--no-families", analyze_switches.skip_families, "leave out the families stage");
+
+  MoleculeArguments anharmonic_arguments;
+  std::string anharmonic_json_path;
+  std::string lines_path;
+  CLI::App* anharmonic = app.add_subcommand(
+      "anharmonic", "cubic and quartic force constants, VPT2 levels, resonances and the line list");
+  add_molecule_arguments(*anharmonic, anharmonic_arguments);
+  anharmonic->add_option("--json", anharmonic_json_path, "write the JSON document to PATH ('-' for standard output)");
+  anharmonic->add_option("--lines", lines_path, "write the line list (CSV) to PATH");
+
+  MoleculeArguments families_arguments;
+  FamilyArguments family_arguments;
+  std::string families_json_path;
+  std::string csv_folder;
+  CLI::App* families = app.add_subcommand(
+      "families", "symmetry-predicted families of nonlinear normal modes and their backbone curves");
+  add_molecule_arguments(*families, families_arguments);
+  add_family_arguments(*families, family_arguments);
+  families->add_option("--json", families_json_path, "write the JSON document to PATH ('-' for standard output)");
+  families->add_option("--csv", csv_folder, "write one CSV of backbone points per family into this folder");
 
   MoleculeArguments symmetry_arguments;
   bool with_modes = false;
@@ -161,7 +361,9 @@ int main(int argc, char** argv) {
 
   try {
     if (*modes) return run_modes(modes_arguments, json_path);
-    if (*analyze) return run_analyze(analyze_arguments, out_directory);
+    if (*analyze) return run_analyze(analyze_arguments, analyze_family_arguments, analyze_switches, out_directory);
+    if (*anharmonic) return run_anharmonic(anharmonic_arguments, anharmonic_json_path, lines_path);
+    if (*families) return run_families(families_arguments, family_arguments, families_json_path, csv_folder);
     if (*symmetry) return run_symmetry(symmetry_arguments, with_modes);
   } catch (const overtone::Error& error) {
     std::cerr << "overtone: error: " << error.what() << "\n";

@@ -2,9 +2,14 @@
 
 #include <algorithm>
 #include <chrono>
+#include <map>
+#include <cmath>
+#include <fmt/format.h>
 #include <numeric>
 #include <vector>
 
+#include "anharmonic/anharmonic_report.hpp"
+#include "anharmonic/mode_symmetry.hpp"
 #include "core/error.hpp"
 
 namespace overtone {
@@ -74,7 +79,143 @@ std::vector<ModeLabel> label_modes(const AnalysisResult& analysis) {
   return labels;
 }
 
+// The anharmonic and families stages expand the potential about a minimum; anywhere
+// else their numbers would be meaningless.
+void require_minimum(const AnalysisResult& analysis, const std::string& stage) {
+  if (analysis.optimized && !analysis.optimization.converged())
+    throw Error(stage + " needs a minimum, but the optimization did not converge (" +
+                analysis.optimization.message + "); try another potential or a better starting structure");
+  const Eigen::VectorXd& frequencies = analysis.harmonic.frequencies_cm1;
+  if (frequencies.size() == 0) throw Error(stage + " needs vibrational modes, and this molecule has none");
+  if (frequencies.minCoeff() <= 0.0)
+    throw Error(fmt::format("{} needs a minimum, but the structure has an imaginary frequency ({:.1f}i cm-1): "
+                            "it is a saddle point of the potential",
+                            stage, std::abs(frequencies.minCoeff())));
+}
+
+double seconds_between(std::chrono::steady_clock::time_point start, std::chrono::steady_clock::time_point end) {
+  return std::chrono::duration<double>(end - start).count();
+}
+
 }  // namespace
+
+std::vector<int> report_mode_order(const AnalysisResult& analysis) {
+  std::vector<int> order;
+  order.reserve(analysis.modes.size());
+  for (const ModeLabel& mode : analysis.modes) order.push_back(mode.harmonic_index);
+  return order;
+}
+
+std::vector<int> mode_numbers_of_fundamentals(const AnalysisResult& analysis, const std::vector<int>& fundamentals) {
+  std::vector<int> numbers;
+  for (const int fundamental : fundamentals) {
+    const std::size_t before = numbers.size();
+    for (const ModeLabel& mode : analysis.modes)
+      if (mode.fundamental == fundamental) numbers.push_back(mode.number);
+    if (numbers.size() == before) {
+      const int highest = analysis.modes.empty() ? 0 : analysis.modes.back().fundamental;
+      throw Error(fmt::format("there is no fundamental ν{} (this molecule has ν1 to ν{})", fundamental, highest));
+    }
+  }
+  return numbers;
+}
+
+AnharmonicResult analyze_anharmonic(const AnalysisResult& analysis, const Potential& potential,
+                                    const AnharmonicOptions& options) {
+  require_minimum(analysis, "the anharmonic analysis");
+  AnharmonicResult result;
+  const auto start = std::chrono::steady_clock::now();
+  if (analysis.symmetry_used) {
+    SymmetryAdaptedHarmonic adapted =
+        adapt_to_point_group(analysis.harmonic, analysis.point_group, analysis.mode_symmetry);
+    result.harmonic = std::move(adapted.harmonic);
+    result.force_constants =
+        compute_force_constants(potential, result.harmonic, adapted.symmetry, options.force_constants);
+  } else {
+    result.harmonic = analysis.harmonic;
+    result.force_constants = compute_force_constants(potential, result.harmonic, options.force_constants);
+  }
+  if (!result.force_constants.ok())
+    throw Error("the force constants could not be computed: " + result.force_constants.message);
+  const auto middle = std::chrono::steady_clock::now();
+  result.vpt2 = run_vpt2(result.force_constants, result.harmonic, options.vpt2);
+  result.force_constants_s = seconds_between(start, middle);
+  result.vpt2_s = seconds_since(middle);
+  result.set_numbers = set_numbers_from_mode_order(result.vpt2, report_mode_order(analysis));
+  return result;
+}
+
+FamiliesResult analyze_families(const AnalysisResult& analysis, const Potential& potential,
+                                const FamiliesOptions& options) {
+  require_minimum(analysis, "the families of nonlinear normal modes");
+  if (!analysis.symmetry_used)
+    throw Error("the families of nonlinear normal modes need the point group; run the analysis with symmetry");
+  return compute_molecular_families(potential, analysis.harmonic, analysis.point_group, analysis.mode_symmetry,
+                                    report_mode_order(analysis), options);
+}
+
+std::vector<ResonanceCrossCheck> cross_check_resonances(const AnalysisResult& analysis,
+                                                        const AnharmonicResult& anharmonic,
+                                                        const FamiliesResult& families) {
+  std::map<int, int> fundamental_of_number;
+  for (const ModeLabel& mode : analysis.modes) fundamental_of_number[mode.number] = mode.fundamental;
+  auto fundamental_of = [&](const std::vector<int>& mode_numbers) {
+    const auto found = fundamental_of_number.find(mode_numbers.at(0));
+    if (found == fundamental_of_number.end())
+      throw Error("the families were computed for a different numbering of the modes");
+    return found->second;
+  };
+  std::map<std::pair<int, int>, ResonanceCrossCheck> checks;
+  auto check_for = [&](int lower, int upper) -> ResonanceCrossCheck& {
+    ResonanceCrossCheck& check = checks[{lower, upper}];
+    check.lower_fundamental = lower;
+    check.upper_fundamental = upper;
+    return check;
+  };
+  for (const Resonance& resonance : anharmonic.vpt2.resonances) {
+    if (resonance.kind != ResonanceKind::fermi_1) continue;
+    ResonanceCrossCheck& check = check_for(anharmonic.set_numbers.at(static_cast<std::size_t>(resonance.sets[0])),
+                                           anharmonic.set_numbers.at(static_cast<std::size_t>(resonance.sets[1])));
+    check.gap_cm1 = resonance.gap_cm1;
+    check.listed_by_perturbative = true;
+    check.perturbative_allowed = resonance.symmetry_allowed;
+    check.perturbative_flagged = resonance.flagged;
+  }
+  std::map<int, int> family_count;
+  for (const FamilyResult& family : families.families) ++family_count[fundamental_of(family.type.mode_numbers)];
+  for (const FamilyResult& family : families.families) {
+    const int lower = fundamental_of(family.type.mode_numbers);
+    for (const ResonanceThreat& threat : family.type.resonance_threats) {
+      if (threat.order != 2) continue;
+      ResonanceCrossCheck& check = check_for(lower, fundamental_of(threat.partner_mode_numbers));
+      if (!check.listed_by_perturbative) check.gap_cm1 = -threat.detuning_cm1;
+      check.listed_by_families = true;
+      check.families_of_lower = family_count[lower];
+      if (threat.symmetry_allowed) ++check.families_allowed;
+    }
+  }
+  std::vector<ResonanceCrossCheck> result;
+  for (auto& [pair, check] : checks) {
+    check.compared = check.listed_by_perturbative && check.listed_by_families;
+    check.agree = !check.compared || check.perturbative_allowed == (check.families_allowed > 0);
+    const std::string pair_text =
+        fmt::format("2ν{} / ν{} (gap {:.1f} cm-1)", check.lower_fundamental, check.upper_fundamental, check.gap_cm1);
+    const std::string perturbative =
+        check.listed_by_perturbative
+            ? fmt::format("perturbative: {}{}", check.perturbative_allowed ? "allowed" : "forbidden",
+                          check.perturbative_flagged ? ", treated in a polyad" : "")
+            : std::string("perturbative: outside its window");
+    const std::string per_family =
+        check.listed_by_families
+            ? fmt::format("families: allowed for {} of {} family types", check.families_allowed,
+                          check.families_of_lower)
+            : std::string("families: outside their window");
+    check.summary = pair_text + ": " + perturbative + "; " + per_family +
+                    (check.compared ? (check.agree ? "; agree" : "; DISAGREE") : "");
+    result.push_back(check);
+  }
+  return result;
+}
 
 AnalysisResult analyze_molecule(const Molecule& molecule, const Potential& potential,
                                 const AnalysisOptions& options) {

@@ -1,11 +1,15 @@
 #pragma once
-// The main job as one library call: optimize the structure on the chosen potential,
-// then the harmonic analysis (later stages add symmetry, anharmonic constants and
-// families). The command line only formats what this returns.
+// The main job as library calls: analyze_molecule optimizes the structure on the chosen
+// potential, finds the point group and does the harmonic analysis; analyze_anharmonic
+// and analyze_families take its result further. The command line only formats what
+// these return.
 #include <string>
 #include <vector>
 
+#include "anharmonic/force_constants.hpp"
+#include "anharmonic/vpt2.hpp"
 #include "core/molecule.hpp"
+#include "families/families.hpp"
 #include "harmonic/harmonic.hpp"
 #include "optimize/minimize.hpp"
 #include "potential/potential.hpp"
@@ -71,5 +75,65 @@ struct AnalysisResult {
 // converged, saddle point, imaginary frequencies) are reported in the result.
 AnalysisResult analyze_molecule(const Molecule& molecule, const Potential& potential,
                                 const AnalysisOptions& options = {});
+
+// Harmonic index of each reported mode, in report order (AnalysisResult::modes).
+std::vector<int> report_mode_order(const AnalysisResult& analysis);
+
+// Report numbers of the modes of the given fundamentals (ν numbers), for
+// FamiliesOptions::mode_numbers. Throws Error naming a ν number the molecule lacks.
+std::vector<int> mode_numbers_of_fundamentals(const AnalysisResult& analysis, const std::vector<int>& fundamentals);
+
+struct AnharmonicOptions {
+  ForceConstantOptions force_constants;
+  Vpt2Options vpt2;
+};
+
+struct AnharmonicResult {
+  // The harmonic result the constants refer to: the analysis's, with degenerate modes
+  // rotated into symmetry-adapted partners when the point group is known.
+  HarmonicResult harmonic;
+  ForceConstantResult force_constants;
+  Vpt2Result vpt2;
+  std::vector<int> set_numbers;  // ν number of each Vpt2Result::sets entry (report numbering)
+  double force_constants_s = 0.0;
+  double vpt2_s = 0.0;
+};
+
+// Cubic and quartic force constants at the analysed minimum, then VPT2 with resonances.
+// Throws Error when the structure is not a minimum (imaginary or near-zero frequencies,
+// optimization not converged) or the force constants cannot be computed, with the reason.
+AnharmonicResult analyze_anharmonic(const AnalysisResult& analysis, const Potential& potential,
+                                    const AnharmonicOptions& options = {});
+
+// The symmetry-predicted families of nonlinear normal modes of every mode (or of
+// options.mode_numbers, report numbering) and their backbone curves. Throws Error when the
+// structure is not a minimum or the options are invalid; a family whose continuation stops
+// reports why in its result.
+FamiliesResult analyze_families(const AnalysisResult& analysis, const Potential& potential,
+                                const FamiliesOptions& options);
+
+// A Fermi resonance 2ν_lower ≈ ν_upper as the two stages see it: the perturbative
+// symmetry rule (Γ_upper in the symmetric square of Γ_lower) against the families'
+// per-family rule (the second harmonic of the family's motion has a component in the
+// upper set). The two should agree wherever both list the pair; a pair inside only one
+// stage's frequency window is reported with the other side marked absent.
+struct ResonanceCrossCheck {
+  int lower_fundamental = 0;  // ν numbers
+  int upper_fundamental = 0;
+  double gap_cm1 = 0.0;            // 2ω_lower − ω_upper (harmonic)
+  bool listed_by_perturbative = false;
+  bool perturbative_allowed = false;
+  bool perturbative_flagged = false;  // strong enough to be treated in a polyad
+  bool listed_by_families = false;
+  int families_of_lower = 0;          // family types of the lower set
+  int families_allowed = 0;           // of those, how many the symmetry lets drive the upper set
+  bool compared = false;              // listed by both
+  bool agree = true;                  // compared and perturbative_allowed == (families_allowed > 0)
+  std::string summary;                // one line for the report
+};
+
+std::vector<ResonanceCrossCheck> cross_check_resonances(const AnalysisResult& analysis,
+                                                        const AnharmonicResult& anharmonic,
+                                                        const FamiliesResult& families);
 
 }  // namespace overtone

@@ -1,0 +1,128 @@
+#include "report/families_json.hpp"
+
+#include <cmath>
+
+namespace overtone {
+
+namespace {
+
+using nlohmann::json;
+
+json number_or_null(double value) { return std::isfinite(value) ? json(value) : json(nullptr); }
+
+std::string phase_text(const PhasedElement& element) {
+  if (element.numerator == 0) return "0";
+  return std::to_string(element.numerator) + "/" + std::to_string(element.denominator);
+}
+
+json phased_elements(const std::vector<PhasedElement>& elements) {
+  json list = json::array();
+  for (const PhasedElement& element : elements)
+    list.push_back({{"operation", element.label}, {"phase", phase_text(element)}});
+  return list;
+}
+
+json threats_to_json(const std::vector<ResonanceThreat>& threats) {
+  json list = json::array();
+  for (const ResonanceThreat& threat : threats)
+    list.push_back({{"partner_modes", threat.partner_mode_numbers},
+                    {"partner_species", threat.partner_species},
+                    {"order", threat.order},
+                    {"detuning_cm1", threat.detuning_cm1},
+                    {"coupling_dimension", threat.coupling_dimension},
+                    {"symmetry_allowed", threat.symmetry_allowed}});
+  return list;
+}
+
+json point_to_json(const OrbitPoint& point) {
+  return {{"energy_cm1", point.energy_cm1},
+          {"frequency_cm1", point.frequency_cm1},
+          {"period_fs", point.period_fs},
+          {"action_hbar", point.action_hbar},
+          {"amplitude_angstrom", number_or_null(point.amplitude_angstrom)},
+          {"amplitude_normal_coordinate", point.amplitude},
+          {"floquet_moduli", point.floquet_moduli},
+          {"stable", point.stable},
+          {"closure_error", point.closure_error},
+          {"energy_drift", point.energy_drift},
+          {"symmetry_residual", point.symmetry_residual}};
+}
+
+json event_to_json(const FamilyEvent& event) {
+  json entry = {{"kind", to_string(event.kind)},
+                {"point_index", event.point_index},
+                {"energy_cm1", event.energy_cm1},
+                {"message", event.message}};
+  if (event.kind == FamilyEventKind::resonance_encounter) {
+    entry["partner_family"] = event.partner_family + 1;
+    entry["ratio"] = std::to_string(event.ratio_numerator) + ":" + std::to_string(event.ratio_denominator);
+  }
+  return entry;
+}
+
+json family_to_json(const FamilyResult& family, int number) {
+  const FamilyType& type = family.type;
+  json entry = {{"family", number},
+                {"mode_numbers", type.mode_numbers},
+                {"species", type.species},
+                {"copies", type.copies},
+                {"continuous_copies", type.continuous_copies},
+                {"time_reversal", to_string(type.time_reversal)},
+                {"standing", type.standing},
+                {"ellipticity", type.ellipticity},
+                {"description", type.description},
+                {"subgroup", phased_elements(type.subgroup)},
+                {"generators", phased_elements(type.generators)},
+                {"resonance_threats", threats_to_json(type.resonance_threats)},
+                {"continued", family.continued}};
+  json points = json::array();
+  json events = json::array();
+  json ladder = json::array();
+  if (family.continued) {
+    const ContinuationResult& backbone = family.backbone;
+    entry["energy_max_cm1"] = family.energy_max_cm1;
+    entry["status"] = to_string(backbone.status);
+    entry["message"] = backbone.message;
+    for (const OrbitPoint& point : backbone.points) points.push_back(point_to_json(point));
+    for (const FamilyEvent& event : backbone.events) events.push_back(event_to_json(event));
+    for (const LadderLevel& level : backbone.ladder)
+      ladder.push_back({{"n", level.n},
+                        {"transition_cm1", level.transition_cm1},
+                        {"harmonic_cm1", level.harmonic_transition_cm1},
+                        {"energy_cm1", level.energy_cm1},
+                        {"refined", level.refined}});
+    entry["cost"] = {{"newton_iterations", backbone.newton_iterations},
+                     {"variational_integrations", backbone.variational_integrations},
+                     {"orbit_integrations", backbone.orbit_integrations},
+                     {"gradient_evaluations", backbone.gradient_evaluations},
+                     {"seconds", backbone.seconds}};
+    entry["warnings"] = backbone.warnings;
+  }
+  entry["points"] = points;
+  entry["events"] = events;
+  entry["ladder"] = ladder;
+  return entry;
+}
+
+}  // namespace
+
+nlohmann::json families_to_json(const FamiliesResult& families) {
+  json list = json::array();
+  for (std::size_t index = 0; index < families.families.size(); ++index)
+    list.push_back(family_to_json(families.families[index], static_cast<int>(index) + 1));
+  return list;
+}
+
+nlohmann::json families_summary_to_json(const FamiliesResult& families) {
+  return {{"system", families.system_description},
+          {"notes", families.notes},
+          {"warnings", families.warnings},
+          {"points", families.points},
+          {"newton_iterations", families.newton_iterations},
+          {"variational_integrations", families.variational_integrations},
+          {"orbit_integrations", families.orbit_integrations},
+          {"gradient_evaluations", families.gradient_evaluations},
+          {"seconds", families.seconds}};
+}
+
+}  // namespace overtone

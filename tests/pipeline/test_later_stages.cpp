@@ -1,0 +1,148 @@
+// The anharmonic and families stages run from the analysis: numbering shared with the
+// modes table, the minimum required, and the Fermi 1:2 resonances of the perturbative
+// stage checked pair by pair against the families' per-family symmetry rule.
+#include <gtest/gtest.h>
+
+#include <unistd.h>
+
+#include <fstream>
+#include <string>
+#include <vector>
+
+#include "core/error.hpp"
+#include "molecule/read_molecule.hpp"
+#include "pipeline/analysis.hpp"
+#include "potential/make_potential.hpp"
+
+namespace overtone {
+namespace {
+
+const std::string source_dir = OVERTONE_SOURCE_DIR;
+
+struct Analysed {
+  Molecule molecule;
+  std::unique_ptr<Potential> potential;
+  AnalysisResult analysis;
+};
+
+Analysed run(const std::string& name, AnalysisOptions options = {}) {
+  Analysed result;
+  result.molecule = read_molecule(source_dir + "/molecules/" + name + ".xyz").molecule;
+  result.potential = make_potential(source_dir + "/potentials/" + name + ".toml", result.molecule);
+  result.analysis = analyze_molecule(result.molecule, *result.potential, options);
+  return result;
+}
+
+// Enumeration only (no continuation), with the perturbative stage's Fermi window so the
+// two stages list the same pairs.
+FamiliesOptions enumeration_only() {
+  FamiliesOptions options;
+  options.quanta = 1.0;
+  options.continue_families = false;
+  options.enumeration.resonance_window_cm1 = Vpt2Options{}.fermi_gap_cm1;
+  return options;
+}
+
+const ResonanceCrossCheck* find_pair(const std::vector<ResonanceCrossCheck>& checks, int lower, int upper) {
+  for (const auto& check : checks)
+    if (check.lower_fundamental == lower && check.upper_fundamental == upper) return &check;
+  return nullptr;
+}
+
+TEST(LaterStages, CarbonDioxideFermiDyadSeenByBothStages) {
+  const Analysed co2 = run("carbon-dioxide");
+  const AnharmonicResult anharmonic = analyze_anharmonic(co2.analysis, *co2.potential);
+  // ν numbers of the sets follow the modes table: ν1 Σg+, ν2 Πu, ν3 Σu+.
+  ASSERT_EQ(anharmonic.set_numbers.size(), 3u);
+  for (std::size_t set = 0; set < anharmonic.vpt2.sets.size(); ++set) {
+    const int first_mode = anharmonic.vpt2.sets[set].modes.front();
+    for (const ModeLabel& mode : co2.analysis.modes)
+      if (mode.harmonic_index == first_mode) EXPECT_EQ(anharmonic.set_numbers[set], mode.fundamental);
+  }
+  const FamiliesResult families = analyze_families(co2.analysis, *co2.potential, enumeration_only());
+  const auto checks = cross_check_resonances(co2.analysis, anharmonic, families);
+  // 2ν2 ≈ ν1 (Fermi 1931): Σg+ is in the symmetric square of Πu (Σg+ + Δg; Herzberg 1945,
+  // from memory). Per family: the standing bend's second harmonic has a Σg+ component;
+  // the rotating bend's (vibrational angular momentum l = ±1) has only l = ±2, Δg
+  // (common practice, no source).
+  const ResonanceCrossCheck* dyad = find_pair(checks, 2, 1);
+  ASSERT_NE(dyad, nullptr);
+  EXPECT_TRUE(dyad->compared);
+  EXPECT_TRUE(dyad->perturbative_allowed);
+  EXPECT_TRUE(dyad->perturbative_flagged);
+  EXPECT_EQ(dyad->families_of_lower, 2);
+  EXPECT_EQ(dyad->families_allowed, 1);
+  EXPECT_TRUE(dyad->agree) << dyad->summary;
+}
+
+TEST(LaterStages, MethaneAndAmmoniaResonanceRulesAgree) {
+  // Td: [E²] = A1 + E, so 2ν2 (E) couples to ν1 (A1) but not to ν3 (T2); C3v: [E²] = A1 + E
+  // (symmetric squares from the character tables, Herzberg 1945, from memory).
+  const Analysed methane = run("methane");
+  const AnharmonicResult anharmonic = analyze_anharmonic(methane.analysis, *methane.potential);
+  const FamiliesResult families = analyze_families(methane.analysis, *methane.potential, enumeration_only());
+  const auto checks = cross_check_resonances(methane.analysis, anharmonic, families);
+  const ResonanceCrossCheck* forbidden = find_pair(checks, 2, 3);
+  ASSERT_NE(forbidden, nullptr);
+  EXPECT_TRUE(forbidden->compared);
+  EXPECT_FALSE(forbidden->perturbative_allowed);
+  EXPECT_EQ(forbidden->families_allowed, 0);
+  const ResonanceCrossCheck* allowed = find_pair(checks, 2, 1);
+  ASSERT_NE(allowed, nullptr);
+  EXPECT_TRUE(allowed->perturbative_allowed);
+  EXPECT_GT(allowed->families_allowed, 0);
+  for (const auto& check : checks) EXPECT_TRUE(check.agree) << check.summary;
+
+  const Analysed ammonia = run("ammonia");
+  const AnharmonicResult nh3 = analyze_anharmonic(ammonia.analysis, *ammonia.potential);
+  const FamiliesResult nh3_families = analyze_families(ammonia.analysis, *ammonia.potential, enumeration_only());
+  int compared = 0;
+  for (const auto& check : cross_check_resonances(ammonia.analysis, nh3, nh3_families)) {
+    EXPECT_TRUE(check.agree) << check.summary;
+    compared += check.compared ? 1 : 0;
+  }
+  EXPECT_GT(compared, 0);
+}
+
+TEST(LaterStages, ModeSelectionUsesTheNuNumbersOfTheModesTable) {
+  const Analysed methane = run("methane");
+  // CH4: ν1 A1 is mode 1, ν2 E modes 2–3, ν3 T2 modes 4–6, ν4 T2 modes 7–9.
+  EXPECT_EQ(mode_numbers_of_fundamentals(methane.analysis, {3}), (std::vector<int>{4, 5, 6}));
+  EXPECT_EQ(mode_numbers_of_fundamentals(methane.analysis, {1, 2}), (std::vector<int>{1, 2, 3}));
+  EXPECT_THROW(mode_numbers_of_fundamentals(methane.analysis, {5}), Error);
+
+  const Analysed water = run("water");
+  FamiliesOptions options;
+  options.quanta = 1.0;
+  options.mode_numbers = mode_numbers_of_fundamentals(water.analysis, {2});
+  const FamiliesResult families = analyze_families(water.analysis, *water.potential, options);
+  ASSERT_EQ(families.families.size(), 3u);  // one per nondegenerate mode
+  for (const FamilyResult& family : families.families) {
+    EXPECT_EQ(family.continued, family.type.mode_numbers == std::vector<int>{2});
+    if (family.continued) EXPECT_EQ(family.backbone.status, ContinuationStatus::reached_energy_max);
+  }
+}
+
+TEST(LaterStages, AnUnconvergedStructureIsRefusedWithItsReason) {
+  // A stretched water molecule and an optimizer allowed almost no steps.
+  const std::string path = ::testing::TempDir() + "overtone-stretched-water-" + std::to_string(::getpid()) + ".xyz";
+  std::ofstream(path) << "3\nstretched water\nO 0 0 0\nH 0 0.9 0.9\nH 0 -0.9 0.9\n";
+  Analysed water;
+  water.molecule = read_molecule(path).molecule;
+  water.potential = make_potential(source_dir + "/potentials/water.toml", water.molecule);
+  AnalysisOptions options;
+  options.minimize.lbfgs_max_iterations = 1;
+  options.minimize.newton_max_steps = 0;
+  water.analysis = analyze_molecule(water.molecule, *water.potential, options);
+  ASSERT_FALSE(water.analysis.optimization.converged());
+  try {
+    analyze_anharmonic(water.analysis, *water.potential);
+    FAIL() << "expected an error";
+  } catch (const Error& error) {
+    EXPECT_NE(std::string(error.what()).find("did not converge"), std::string::npos) << error.what();
+  }
+  EXPECT_THROW(analyze_families(water.analysis, *water.potential, enumeration_only()), Error);
+}
+
+}  // namespace
+}  // namespace overtone
