@@ -138,6 +138,71 @@ TEST(Cli, SymmetryCommandWorksOnEveryShippedMolecule) {
   }
 }
 
+const std::vector<std::string> shipped_examples = {"hcl", "water", "carbon-dioxide", "ammonia", "methane"};
+
+std::string example_arguments(const std::string& name) {
+  const std::string potential = name == "hcl" ? "hcl-morse" : name;
+  return source_dir + "/molecules/" + name + ".xyz -p " + source_dir + "/potentials/" + potential + ".toml";
+}
+
+TEST(Cli, AnharmonicWorksOnEveryShippedExampleAndWritesTheLineList) {
+  for (const auto& name : shipped_examples) {
+    const std::string lines = write_temp(name + "-lines.csv", "");
+    const ProgramRun result = run("anharmonic " + example_arguments(name) + " --lines " + lines);
+    ASSERT_EQ(result.status, 0) << name << ": " << result.err;
+    EXPECT_NE(result.out.find("VPT2"), std::string::npos) << name;
+    const std::string csv = slurp(lines);
+    EXPECT_EQ(csv.rfind("label,kind,quanta,", 0), 0u) << name;
+    EXPECT_GE(std::count(csv.begin(), csv.end(), '\n'), 2) << name;
+  }
+  const ProgramRun json = run("anharmonic " + example_arguments("water") + " --json -");
+  ASSERT_EQ(json.status, 0) << json.err;
+  const auto document = nlohmann::json::parse(json.out);
+  for (const char* key : {"modes", "force_constants", "anharmonicity", "levels", "resonances"})
+    EXPECT_TRUE(document.contains(key)) << key;
+  // Water: fundamentals, overtones and binary combinations of 3 modes: 3 + 3 + 3 levels.
+  EXPECT_EQ(document["levels"].size(), 9u);
+}
+
+TEST(Cli, FamiliesWorksOnEveryShippedExampleAndWritesBackbones) {
+  for (const auto& name : shipped_examples) {
+    // The polyatomic examples with degenerate modes: one mode, to keep the suite quick.
+    const std::string selection = (name == "ammonia" || name == "methane") ? " --mode 1" : "";
+    const ProgramRun result = run("families " + example_arguments(name) + " --quanta 1" + selection);
+    ASSERT_EQ(result.status, 0) << name << ": " << result.err;
+    EXPECT_NE(result.out.find("reached_energy_max"), std::string::npos) << name << result.out;
+  }
+  const std::string folder = ::testing::TempDir() + "overtone-backbones-" + std::to_string(getpid());
+  std::filesystem::remove_all(folder);
+  const ProgramRun json =
+      run("families " + example_arguments("carbon-dioxide") + " --quanta 1 --json - --csv " + folder);
+  ASSERT_EQ(json.status, 0) << json.err;
+  const auto document = nlohmann::json::parse(json.out);
+  // CO2: one family each for ν1 and ν3; the bend's standing and rotating families.
+  ASSERT_EQ(document["families"].size(), 4u);
+  int files = 0;
+  for (const auto& entry : std::filesystem::directory_iterator(folder)) files += entry.path().extension() == ".csv";
+  EXPECT_EQ(files, 4);
+}
+
+TEST(Cli, AnalyzeIncludesTheAnharmonicAndFamiliesStages) {
+  const std::string out = ::testing::TempDir() + "overtone-analyze-all-" + std::to_string(getpid());
+  std::filesystem::remove_all(out);
+  const ProgramRun result = run("analyze " + example_arguments("carbon-dioxide") + " --quanta 1 --out " + out);
+  ASSERT_EQ(result.status, 0) << result.err;
+  const auto document = nlohmann::json::parse(slurp(out + "/analysis.json"));
+  for (const char* key : {"modes", "levels", "resonances", "families", "resonance_cross_check"})
+    EXPECT_TRUE(document.contains(key)) << key;
+  EXPECT_TRUE(std::filesystem::exists(out + "/lines.csv"));
+  EXPECT_TRUE(std::filesystem::exists(out + "/families"));
+  EXPECT_NE(result.out.find("2ν2 / ν1"), std::string::npos) << result.out;
+}
+
+TEST(Cli, FamilyOptionsAreChecked) {
+  expect_one_line_error(run("families " + example_arguments("water") + " --mode 7"), "no fundamental ν7");
+  EXPECT_NE(run("families " + example_arguments("water") + " --quanta 1 --energy-max 100").status, 0);
+}
+
 TEST(Cli, UsageErrorsExitNonZero) {
   EXPECT_NE(run("").status, 0);
   EXPECT_NE(run("modes").status, 0);
