@@ -15,6 +15,7 @@
 #include "pipeline/analysis.hpp"
 #include "potential/make_potential.hpp"
 #include "anharmonic/anharmonic_report.hpp"
+#include "anharmonic/taylor_export.hpp"
 #include "families/families_report.hpp"
 #include "report/anharmonic_json.hpp"
 #include "report/families_json.hpp"
@@ -161,7 +162,8 @@ void merge_into(nlohmann::json& document, const nlohmann::json& part) {
   for (auto item = part.begin(); item != part.end(); ++item) document[item.key()] = item.value();
 }
 
-int run_anharmonic(const MoleculeArguments& arguments, const std::string& json_path, const std::string& lines_path) {
+int run_anharmonic(const MoleculeArguments& arguments, const std::string& json_path, const std::string& lines_path,
+                   const std::string& taylor_path) {
   const AnalysedMolecule analysed = run_analysis(arguments);
   const AnalysisResult& analysis = analysed.analysis;
   const Potential& potential = *analysed.potential;
@@ -170,6 +172,12 @@ int run_anharmonic(const MoleculeArguments& arguments, const std::string& json_p
   merge_into(document, anharmonic_to_json(analysis, anharmonic));
   const AnharmonicReportOptions report_options{anharmonic.set_numbers};
   if (!lines_path.empty()) write_text(lines_path, line_list_csv(anharmonic.vpt2, report_options));
+  if (!taylor_path.empty()) {
+    const TaylorExpansionData expansion = taylor_expansion_from_force_constants(
+        anharmonic.force_constants, anharmonic.harmonic, analysis.molecule, ExpansionCoordinates::normal,
+        analysis.molecule.title + " (quartic force field of " + analysis.potential_description + ")");
+    write_text(taylor_path, write_taylor_expansion(expansion));
+  }
   if (json_path == "-") {
     std::cout << document.dump(2) << "\n";
     return 0;
@@ -333,6 +341,9 @@ int main(int argc, char** argv) {
   add_molecule_arguments(*anharmonic, anharmonic_arguments);
   anharmonic->add_option("--json", anharmonic_json_path, "write the JSON document to PATH ('-' for standard output)");
   anharmonic->add_option("--lines", lines_path, "write the line list (CSV) to PATH");
+  std::string taylor_path;
+  anharmonic->add_option("--export-taylor", taylor_path,
+                         "write the quartic force field as a Taylor-expansion potential file (normal coordinates)");
 
   MoleculeArguments families_arguments;
   FamilyArguments family_arguments;
@@ -362,7 +373,7 @@ int main(int argc, char** argv) {
   try {
     if (*modes) return run_modes(modes_arguments, json_path);
     if (*analyze) return run_analyze(analyze_arguments, analyze_family_arguments, analyze_switches, out_directory);
-    if (*anharmonic) return run_anharmonic(anharmonic_arguments, anharmonic_json_path, lines_path);
+    if (*anharmonic) return run_anharmonic(anharmonic_arguments, anharmonic_json_path, lines_path, taylor_path);
     if (*families) return run_families(families_arguments, family_arguments, families_json_path, csv_folder);
     if (*symmetry) return run_symmetry(symmetry_arguments, with_modes);
   } catch (const overtone::Error& error) {

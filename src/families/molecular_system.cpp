@@ -29,6 +29,9 @@ MolecularVibrationalSystem::MolecularVibrationalSystem(const Potential& potentia
       throw Error(fmt::format("mode {} has a non-positive force constant (wavenumber {:.2f} cm-1): periodic-orbit "
                               "families need a minimum",
                               k + 1, harmonic.frequencies_cm1(k)));
+  if (!(options.escape_energy_cm1 > 0.0))
+    throw Error(fmt::format("escape_energy_cm1 must be positive, got {}", options.escape_energy_cm1));
+  escape_energy_ = options.escape_energy_cm1 / molecular_unit_conventions().cm1_per_energy;
   equilibrium_ = harmonic.coordinates_angstrom;
   frequencies_ = harmonic.eigenvalues.cwiseSqrt();
   Eigen::VectorXd inverse_sqrt_mass(cartesian);

@@ -10,6 +10,7 @@
 // gradient g_eq of the optimized geometry so that Q = 0 is exactly stationary; its size
 // is reported by residual_gradient_norm().
 #include <Eigen/Dense>
+#include <limits>
 #include <string>
 #include <vector>
 
@@ -38,6 +39,10 @@ struct MolecularSystemOptions {
   // coordinate: truncation error ~ step²·|V''''|, round-off ~ ε·|∇V|/step; 1e-3 Å keeps
   // both near 1e-7 relative for force fields in double precision.
   double finite_difference_step_angstrom = 1e-3;
+  // Lowest energy above the minimum (cm⁻¹) at which the surface is known to turn over,
+  // e.g. from scan_normal_coordinates; a continuation that fails close below it is
+  // reported as an escape over that barrier. Infinity: none known.
+  double escape_energy_cm1 = std::numeric_limits<double>::infinity();
 };
 
 class MolecularVibrationalSystem : public VibrationalSystem {
@@ -70,6 +75,7 @@ class MolecularVibrationalSystem : public VibrationalSystem {
   void compute_hessian_times(const Eigen::VectorXd& q, const Eigen::MatrixXd& directions,
                              Eigen::MatrixXd& out) const override;
   double hessian_step() const override { return step_; }
+  double escape_energy() const override { return escape_energy_; }
 
  private:
   const Potential& potential_;
@@ -84,6 +90,7 @@ class MolecularVibrationalSystem : public VibrationalSystem {
   // Use the analytic Hessian for k directions when k ≥ analytic_threshold_ (measured).
   int analytic_threshold_ = 0;
   double step_ = 1e-3;
+  double escape_energy_ = std::numeric_limits<double>::infinity();  // system units
   mutable Eigen::VectorXd cartesian_gradient_;
 };
 

@@ -1,5 +1,7 @@
 #include "families/orbit_integrator.hpp"
 
+#include "core/error.hpp"
+
 #include <algorithm>
 #include <boost/numeric/odeint.hpp>
 #include <chrono>
@@ -127,7 +129,17 @@ IntegrationOutcome OrbitIntegrator::integrate(const IntegrationRequest& request,
     while (target - t > finish_slack) {
       double trial = std::min(dt, target - t);
       const bool clipped = trial < dt;
-      if (stepper.try_step(equations, x, t, trial) == odeint::success) {
+      odeint::controlled_step_result step_result = odeint::fail;
+      try {
+        step_result = stepper.try_step(equations, x, t, trial);
+      } catch (const Error& refusal) {
+        // A potential that refuses a point (the hole guard of a Taylor expansion that has
+        // turned over) ends this orbit like an escape, with the potential's reason.
+        ok = false;
+        outcome.failure = std::string("escape: the potential refused to evaluate the orbit (") + refusal.what() + ")";
+        break;
+      }
+      if (step_result == odeint::success) {
         ++outcome.steps;
         if (!clipped) dt = trial;
         Eigen::Map<const Eigen::VectorXd> a(x.data(), m);

@@ -8,6 +8,7 @@
 #include <numeric>
 #include <vector>
 
+#include "anharmonic/amplitude_scan.hpp"
 #include "anharmonic/anharmonic_report.hpp"
 #include "anharmonic/mode_symmetry.hpp"
 #include "core/error.hpp"
@@ -150,8 +151,32 @@ FamiliesResult analyze_families(const AnalysisResult& analysis, const Potential&
   require_minimum(analysis, "the families of nonlinear normal modes");
   if (!analysis.symmetry_used)
     throw Error("the families of nonlinear normal modes need the point group; run the analysis with symmetry");
-  return compute_molecular_families(potential, analysis.harmonic, analysis.point_group, analysis.mode_symmetry,
-                                    report_mode_order(analysis), options);
+  // Quartic force fields and Taylor expansions often turn over at large amplitude; a
+  // scan along every normal coordinate says where, before a backbone runs into it, and
+  // lets a continuation that fails just below the lowest barrier be called an escape.
+  const Eigen::VectorXd& frequencies = analysis.harmonic.frequencies_cm1;
+  const double top_energy_cm1 =
+      options.energy_max_cm1 > 0.0 ? options.energy_max_cm1 : (options.quanta + 1.0) * frequencies.maxCoeff();
+  AmplitudeScanOptions scan_options;
+  scan_options.max_quanta = std::max(scan_options.max_quanta, top_energy_cm1 / frequencies.minCoeff());
+  const AmplitudeScanResult scan = scan_normal_coordinates(potential, analysis.harmonic, scan_options);
+  MolecularSystemOptions system_options;
+  if (scan.turns_over) system_options.escape_energy_cm1 = scan.lowest_barrier_cm1;
+  FamiliesResult result =
+      compute_molecular_families(potential, analysis.harmonic, analysis.point_group, analysis.mode_symmetry,
+                                 report_mode_order(analysis), options, system_options);
+  for (const TurnoverFinding& finding : scan.findings) {
+    if (finding.barrier_cm1 > top_energy_cm1) continue;
+    int fundamental = 0;
+    for (const ModeLabel& mode : analysis.modes)
+      if (mode.harmonic_index == finding.mode) fundamental = mode.fundamental;
+    result.warnings.push_back(fmt::format(
+        "the potential turns over along ν{} ({} direction) {:.0f} cm-1 above the minimum{}, inside the requested "
+        "energy range: families that reach it stop there (escape), and nothing beyond it is meaningful",
+        fundamental, finding.direction > 0 ? "positive" : "negative", finding.barrier_cm1,
+        finding.hole ? " and falls into a hole" : ""));
+  }
+  return result;
 }
 
 std::vector<ResonanceCrossCheck> cross_check_resonances(const AnalysisResult& analysis,

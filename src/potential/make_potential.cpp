@@ -6,6 +6,7 @@
 
 #include "core/error.hpp"
 #include "potential/openbabel_potential.hpp"
+#include "potential/taylor_expansion_potential.hpp"
 #include "potential/valence_force_field.hpp"
 
 namespace overtone {
@@ -19,6 +20,7 @@ std::unique_ptr<Potential> make_potential(const std::string& name_or_path, const
         fmt::format("'{}' is neither a force field (MMFF94, MMFF94s, UFF, GAFF, Ghemical) nor an "
                     "existing potential file",
                     name_or_path));
+  if (is_taylor_expansion_file(name_or_path)) return load_taylor_expansion_potential(name_or_path, molecule);
   return load_valence_force_field(name_or_path, molecule);
 }
 

@@ -198,6 +198,33 @@ TEST(Cli, AnalyzeIncludesTheAnharmonicAndFamiliesStages) {
   EXPECT_NE(result.out.find("2ν2 / ν1"), std::string::npos) << result.out;
 }
 
+TEST(Cli, ExportedTaylorExpansionIsAPotentialForEveryCommand) {
+  const std::string taylor = write_temp("water-taylor.toml", "");
+  const ProgramRun exported = run("anharmonic " + example_arguments("water") + " --export-taylor " + taylor +
+                                  " --json -");
+  ASSERT_EQ(exported.status, 0) << exported.err;
+  const auto original = nlohmann::json::parse(exported.out);
+  const std::string water = source_dir + "/molecules/water.xyz -p " + taylor;
+  const ProgramRun again = run("anharmonic " + water + " --json -");
+  ASSERT_EQ(again.status, 0) << again.err;
+  const auto reread = nlohmann::json::parse(again.out);
+  // The expansion is the quartic force field itself: harmonic wavenumbers and VPT2
+  // levels come back to the precision of the written constants (17 digits) and the
+  // re-optimization (rms gradient 1e-6 kcal/mol/Å moves ω by far less than 1e-3 cm⁻¹).
+  constexpr double round_trip_cm1 = 1e-3;
+  ASSERT_EQ(reread["levels"].size(), original["levels"].size());
+  for (std::size_t k = 0; k < original["modes"].size(); ++k)
+    EXPECT_NEAR(reread["modes"][k]["frequency_cm1"].get<double>(), original["modes"][k]["frequency_cm1"].get<double>(),
+                round_trip_cm1);
+  for (std::size_t k = 0; k < original["levels"].size(); ++k)
+    EXPECT_NEAR(reread["levels"][k]["anharmonic_cm1"].get<double>(),
+                original["levels"][k]["anharmonic_cm1"].get<double>(), round_trip_cm1);
+  const ProgramRun families = run("families " + water + " --quanta 1");
+  ASSERT_EQ(families.status, 0) << families.err;
+  EXPECT_NE(families.out.find("reached_energy_max"), std::string::npos);
+  EXPECT_EQ(run("symmetry " + source_dir + "/molecules/water.xyz --with-modes -p " + taylor).status, 0);
+}
+
 TEST(Cli, FamilyOptionsAreChecked) {
   expect_one_line_error(run("families " + example_arguments("water") + " --mode 7"), "no fundamental ν7");
   EXPECT_NE(run("families " + example_arguments("water") + " --quanta 1 --energy-max 100").status, 0);

@@ -5,14 +5,18 @@
 
 #include <unistd.h>
 
+#include <algorithm>
+#include <cmath>
 #include <fstream>
 #include <string>
 #include <vector>
 
+#include "anharmonic/taylor_export.hpp"
 #include "core/error.hpp"
 #include "molecule/read_molecule.hpp"
 #include "pipeline/analysis.hpp"
 #include "potential/make_potential.hpp"
+#include "potential/taylor_expansion_potential.hpp"
 
 namespace overtone {
 namespace {
@@ -142,6 +146,44 @@ TEST(LaterStages, AnUnconvergedStructureIsRefusedWithItsReason) {
     EXPECT_NE(std::string(error.what()).find("did not converge"), std::string::npos) << error.what();
   }
   EXPECT_THROW(analyze_families(water.analysis, *water.potential, enumeration_only()), Error);
+}
+
+TEST(LaterStages, ATurnedOverExpansionStopsTheFamilyWithAClearReason) {
+  // The H³⁵Cl Morse oscillator expanded to third order only, V(q) = ½ωq² + φ₃q³/6 in
+  // dimensionless q, has a barrier of height (2/3)ω³/φ₃² at q = −2ω/φ₃ (closed form) and
+  // falls into a hole beyond it. A family asked to go above the barrier must stop below it,
+  // and the stage must say that the surface turns over.
+  ReadOptions read;
+  read.isotopes = {{1, 1}, {2, 35}};
+  const Molecule molecule = read_molecule(source_dir + "/molecules/hcl.xyz", read).molecule;
+  const auto morse = make_potential(source_dir + "/potentials/hcl-morse.toml", molecule);
+  const AnalysisResult morse_analysis = analyze_molecule(molecule, *morse);
+  const AnharmonicResult anharmonic = analyze_anharmonic(morse_analysis, *morse);
+  TaylorExpansionData data = taylor_expansion_from_force_constants(
+      anharmonic.force_constants, anharmonic.harmonic, morse_analysis.molecule, ExpansionCoordinates::normal);
+  data.derivatives.erase(std::remove_if(data.derivatives.begin(), data.derivatives.end(),
+                                        [](const ExpansionDerivative& d) { return d.indices.size() == 4; }),
+                         data.derivatives.end());
+  const TaylorExpansionPotential cubic(data, morse_analysis.molecule);
+  const AnalysisResult analysis = analyze_molecule(morse_analysis.molecule, cubic);
+  const double omega = anharmonic.force_constants.frequencies_cm1[0];
+  const double phi3 = anharmonic.force_constants.constants.cubic(0, 0, 0);
+  const double barrier_cm1 = 2.0 / 3.0 * std::pow(omega, 3) / (phi3 * phi3);
+
+  FamiliesOptions options;
+  options.energy_max_cm1 = 1.3 * barrier_cm1;
+  const FamiliesResult families = analyze_families(analysis, cubic, options);
+  ASSERT_EQ(families.families.size(), 1u);
+  const ContinuationResult& backbone = families.families[0].backbone;
+  EXPECT_EQ(backbone.status, ContinuationStatus::escaped) << backbone.message;
+  ASSERT_FALSE(backbone.points.empty());
+  EXPECT_LT(backbone.points.back().energy_cm1, barrier_cm1);
+  // It got most of the way: near a barrier the period diverges (a separatrix).
+  EXPECT_GT(backbone.points.back().energy_cm1, 0.8 * barrier_cm1);
+  bool warned = false;
+  for (const std::string& warning : families.warnings)
+    warned = warned || warning.find("turns over along ν1") != std::string::npos;
+  EXPECT_TRUE(warned);
 }
 
 }  // namespace
