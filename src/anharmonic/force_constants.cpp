@@ -159,18 +159,20 @@ double invariant_overlap(const ModeSymmetry& symmetry, std::array<int, Rank> ind
     }
     return total / static_cast<double>(symmetry.order());
   }
+  // Reordering the positions of a term maps the distinct orderings τ onto themselves, so
+  // every σ contributes the same sum as the sorted tuple: σ is fixed, which divides the
+  // work by the number of orderings (up to Rank!).
   std::vector<std::array<int, Rank>> orderings;
   std::array<int, Rank> current = indices;
   do orderings.push_back(current);
   while (std::next_permutation(current.begin(), current.end()));
   for (const auto& r : symmetry.operations)
-    for (const auto& sigma : orderings)
-      for (const auto& tau : orderings) {
-        double product = 1.0;
-        for (std::size_t m = 0; m < Rank && product != 0.0; ++m) product *= r(sigma[m], tau[m]);
-        total += product;
-      }
-  return total / (static_cast<double>(symmetry.order()) * static_cast<double>(orderings.size()));
+    for (const auto& tau : orderings) {
+      double product = 1.0;
+      for (std::size_t m = 0; m < Rank && product != 0.0; ++m) product *= r(indices[m], tau[m]);
+      total += product;
+    }
+  return total / static_cast<double>(symmetry.order());
 }
 
 // Zero test for the overlaps above: products of orthogonal matrix entries that are exact
