@@ -1031,9 +1031,19 @@ void FamilySolver::build_ladder(ContinuationResult& result) {
     if (options_.ladder_tolerance > 0.0) {
       // Newton in energy on the family: dJ/dE = T/2π = 1/ω.
       const Unknowns& upper = accepted_[hi.point];
+      // After the first solve the energy moves by a small correction only: starting from
+      // the orbit just found, the corrector needs one or two integrations instead of
+      // restarting from the interpolation between the accepted points.
+      Unknowns previous;
+      bool have_previous = false;
       for (int iteration = 0; iteration < 6; ++iteration) {
         Unknowns guess;
-        if (lo.point < 0) {
+        if (have_previous) {
+          const double factor = std::sqrt(energy / previous.energy);
+          guess = previous;
+          guess.a *= factor;
+          guess.b *= factor;
+        } else if (lo.point < 0) {
           const double factor = std::sqrt(energy / upper.energy);
           guess = upper;
           guess.a *= factor;
@@ -1059,6 +1069,8 @@ void FamilySolver::build_ladder(ContinuationResult& result) {
         have_hint_ = true;
         const CorrectorOutcome corrected = correct(guess, setup);
         if (!corrected.converged) break;
+        previous = corrected.solution;
+        have_previous = true;
         action_error = corrected.action - target;
         level.refined = true;
         if (std::abs(action_error) < options_.ladder_tolerance * hbar) break;
