@@ -140,12 +140,66 @@ OpenBabelPotential::OpenBabelPotential(const std::string& force_field_name, cons
   const Eigen::VectorXd x = molecule.coordinates();
   constexpr double probe_angstrom = 0.05;
   const Eigen::Vector3d probe_direction = Eigen::Vector3d(0.6, -0.48, 0.64).normalized();
-  const double reference = out_of_plane_energy(x);
+  const double reference = openbabel_out_of_plane_energy(x);
   for (std::size_t atom = 0; atom < atom_count_; ++atom) {
     Eigen::VectorXd displaced = x;
     displaced.segment<3>(3 * static_cast<Eigen::Index>(atom)) += probe_angstrom * probe_direction;
-    if (out_of_plane_energy(displaced) != reference) out_of_plane_atoms_.push_back(static_cast<int>(atom));
+    if (openbabel_out_of_plane_energy(displaced) != reference)
+      out_of_plane_atoms_.push_back(static_cast<int>(atom));
   }
+  if (!out_of_plane_atoms_.empty()) set_up_out_of_plane_model(x);
+  load_coordinates(x);  // leave Open Babel at the input geometry, not the last probe
+}
+
+void OpenBabelPotential::set_up_out_of_plane_model(const Eigen::VectorXd& x) {
+  using detail::OutOfPlaneForm;
+  OutOfPlaneForm form;
+  if (name_ == "MMFF94" || name_ == "MMFF94s")
+    form = OutOfPlaneForm::squared_wilson_angle;
+  else if (name_ == "UFF")
+    form = OutOfPlaneForm::cosine_series;
+  else {
+    // The model covers only MMFF94's and UFF's forms; GAFF and Ghemical keep the
+    // differenced gradient they have always had.
+    out_of_plane_note_ = name_ + "'s out-of-plane terms have no fitted model; differenced";
+    return;
+  }
+  if (!options_.analytic_out_of_plane) {
+    out_of_plane_note_ = "analytic out-of-plane gradient turned off by option; differenced";
+    return;
+  }
+  // Candidate centres: atoms in out-of-plane terms with exactly three neighbours. A
+  // candidate without terms of its own (a neighbour of a real centre) fits to zero.
+  std::vector<detail::OutOfPlaneCentre> centres;
+  for (const int atom : out_of_plane_atoms_) {
+    OpenBabel::OBAtom* centre = mol_->GetAtom(atom + 1);
+    if (centre->GetExplicitDegree() != 3) continue;
+    detail::OutOfPlaneCentre entry;
+    entry.atom = atom;
+    int k = 0;
+    FOR_NBORS_OF_ATOM(neighbour, centre) entry.neighbours[k++] = static_cast<int>(neighbour->GetIdx()) - 1;
+    centres.push_back(entry);
+  }
+  if (centres.empty()) {
+    out_of_plane_note_ =
+        "no atom in out-of-plane terms has three neighbours, so the model does not apply; differenced";
+    return;
+  }
+  const detail::OutOfPlaneFit fit = detail::fit_out_of_plane_model(
+      form, centres, x, [this](const Eigen::VectorXd& y) { return openbabel_out_of_plane_energy(y); });
+  out_of_plane_fit_residual_ = fit.relative_residual;
+  if (!fit.accepted) {
+    out_of_plane_note_ = fit.reason + "; differenced";
+    return;
+  }
+  out_of_plane_model_ = std::make_unique<detail::OutOfPlaneModel>(fit.model);
+}
+
+double OpenBabelPotential::modelled_out_of_plane_energy(const Eigen::VectorXd& x) const {
+  if (!out_of_plane_model_)
+    throw Error(fmt::format("the {} potential has no analytic out-of-plane model ({})", name_,
+                            out_of_plane_note_.empty() ? "no out-of-plane terms" : out_of_plane_note_));
+  return out_of_plane_model_->energy(x);
 }
 
 OpenBabelPotential::~OpenBabelPotential() = default;
@@ -157,7 +211,7 @@ void OpenBabelPotential::load_coordinates(const Eigen::VectorXd& x) const {
   field_->SetCoordinates(*mol_);
 }
 
-double OpenBabelPotential::out_of_plane_energy(const Eigen::VectorXd& x) const {
+double OpenBabelPotential::openbabel_out_of_plane_energy(const Eigen::VectorXd& x) const {
   load_coordinates(x);
   return field_->E_OOP(false) * kcal_mol_per_unit_;
 }
@@ -186,19 +240,24 @@ double OpenBabelPotential::compute_energy_and_gradient(const Eigen::VectorXd& x,
   gradient = -kcal_mol_per_unit_ * Eigen::Map<const Eigen::VectorXd>(forces, n);
   if (out_of_plane_atoms_.empty()) return energy;
 
-  // Remove Open Babel's out-of-plane contribution, then add the differenced one.
+  // Remove Open Babel's out-of-plane contribution, then add the model's or the
+  // differenced one.
   std::fill(forces, forces + n, 0.0);
   field_->E_OOP(true);
   gradient += kcal_mol_per_unit_ * Eigen::Map<const Eigen::VectorXd>(forces, n);
+  if (out_of_plane_model_) {
+    out_of_plane_model_->add_gradient(x, gradient);
+    return energy;
+  }
   const double step = options_.out_of_plane_difference_step_angstrom;
   Eigen::VectorXd displaced = x;
   for (const int atom : out_of_plane_atoms_)
     for (int axis = 0; axis < 3; ++axis) {
       const Eigen::Index k = 3 * atom + axis;
       displaced[k] = x[k] + step;
-      const double plus = out_of_plane_energy(displaced);
+      const double plus = openbabel_out_of_plane_energy(displaced);
       displaced[k] = x[k] - step;
-      const double minus = out_of_plane_energy(displaced);
+      const double minus = openbabel_out_of_plane_energy(displaced);
       displaced[k] = x[k];
       gradient[k] += (plus - minus) / (2.0 * step);
     }

@@ -7,13 +7,25 @@
 // are converted here. Its analytic gradient of the out-of-plane term disagrees with the
 // energy for MMFF94 and UFF (measured: errors of order 10% of that term's gradient at
 // trigonal centres), which would make a tight optimization and a finite-difference
-// Hessian inconsistent with the energy. That term's gradient is therefore replaced by
-// central differences of the out-of-plane energy alone, over the atoms that take part
-// in out-of-plane terms; every other term keeps its analytic gradient.
+// Hessian inconsistent with the energy. That term's gradient is therefore replaced;
+// every other term keeps its analytic gradient.
+//
+// For MMFF94, MMFF94s and UFF the out-of-plane energy is linear in one or two
+// parameters per three-coordinate centre times geometry functions of the Wilson angles
+// (detail_out_of_plane_model.hpp). Those parameters are fitted once, at construction,
+// to Open Babel's own out-of-plane energy at randomly displaced geometries and checked
+// at fresh ones; when the check passes, the out-of-plane gradient is the model's exact
+// analytic one. Otherwise (a term of another form, an unusual centre), and for GAFF and
+// Ghemical, it is central differences of Open Babel's out-of-plane energy over the
+// atoms that take part in out-of-plane terms, which costs two energy calls per
+// coordinate (each an OpenMP parallel region in Open Babel, measured at 1.5–4 µs apiece even on
+// one thread).
+// out_of_plane_gradient_note() says which, and why.
 #include <memory>
 #include <string>
 #include <vector>
 
+#include "potential/detail_out_of_plane_model.hpp"
 #include "potential/potential.hpp"
 
 namespace OpenBabel {
@@ -27,6 +39,9 @@ struct OpenBabelPotentialOptions {
   // Central-difference step (Å) for the out-of-plane energy gradient: truncation error
   // ∝ step², round-off ∝ ε·E_oop/step; 1e-5 Å keeps both below 1e-9 kcal/mol/Å.
   double out_of_plane_difference_step_angstrom = 1e-5;
+  // Use the fitted analytic out-of-plane model where its check passes; false always
+  // differences (for comparisons and as an escape should the model ever be doubted).
+  bool analytic_out_of_plane = true;
 };
 
 class OpenBabelPotential final : public Potential {
@@ -40,8 +55,21 @@ class OpenBabelPotential final : public Potential {
   std::string description() const override;
   std::size_t atom_count() const override { return atom_count_; }
   const std::string& force_field_name() const { return name_; }
-  // Number of atoms whose out-of-plane gradient is taken by differences.
+  // Number of atoms that take part in out-of-plane terms (their gradient is corrected).
   std::size_t out_of_plane_atom_count() const { return out_of_plane_atoms_.size(); }
+  // True when the out-of-plane gradient comes from the fitted analytic model.
+  bool out_of_plane_is_analytic() const { return out_of_plane_model_ != nullptr; }
+  // Why the out-of-plane gradient is differenced; empty when it is analytic or there
+  // are no out-of-plane terms.
+  const std::string& out_of_plane_gradient_note() const { return out_of_plane_note_; }
+  // Largest |model − Open Babel| out-of-plane energy at the fit's check geometries,
+  // relative to the largest out-of-plane energy there (0 without a fit).
+  double out_of_plane_fit_residual() const { return out_of_plane_fit_residual_; }
+  // Open Babel's out-of-plane energy alone, kcal/mol.
+  double openbabel_out_of_plane_energy(const Eigen::VectorXd& x) const;
+  // The fitted model's out-of-plane energy, kcal/mol; throws Error when there is no
+  // model (out_of_plane_is_analytic() is false).
+  double modelled_out_of_plane_energy(const Eigen::VectorXd& x) const;
 
   // The force field's own analytic gradient without the out-of-plane correction,
   // kcal/mol/Å (for tests that check Open Babel against its energy).
@@ -53,7 +81,7 @@ class OpenBabelPotential final : public Potential {
 
  private:
   void load_coordinates(const Eigen::VectorXd& x) const;
-  double out_of_plane_energy(const Eigen::VectorXd& x) const;
+  void set_up_out_of_plane_model(const Eigen::VectorXd& x);
 
   std::string name_;
   std::size_t atom_count_ = 0;
@@ -62,6 +90,9 @@ class OpenBabelPotential final : public Potential {
   std::unique_ptr<OpenBabel::OBMol> mol_;
   std::unique_ptr<OpenBabel::OBForceField> field_;
   std::vector<int> out_of_plane_atoms_;
+  std::unique_ptr<detail::OutOfPlaneModel> out_of_plane_model_;
+  std::string out_of_plane_note_;
+  double out_of_plane_fit_residual_ = 0.0;
 };
 
 // The force-field names Open Babel provides that this project supports, as spelled
