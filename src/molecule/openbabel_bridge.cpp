@@ -6,12 +6,15 @@
 #include <openbabel/elements.h>
 #include <openbabel/oberror.h>
 #include <openbabel/obiter.h>
+#include <omp.h>
 
 #include <sstream>
 
 #include "core/error.hpp"
 
 namespace overtone {
+
+void run_openbabel_on_one_thread() { omp_set_num_threads(1); }
 
 Molecule molecule_from_openbabel(OpenBabel::OBMol& mol) {
   Molecule molecule;

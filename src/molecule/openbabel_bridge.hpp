@@ -20,6 +20,12 @@ Molecule molecule_from_openbabel(OpenBabel::OBMol& mol);
 // depend on mass and Open Babel's typing rules fail on isotope-labelled atoms.
 void openbabel_from_molecule(const Molecule& molecule, OpenBabel::OBMol& mol, bool with_isotopes = false);
 
+// Open Babel's force fields run OpenMP parallel loops over a few dozen terms. Thread
+// start-up, barriers and (with more threads than free cores, as under a parallel test
+// run) spin-waiting cost far more than the loops (measured: 83% of instructions in
+// libgomp for acetaldehyde), so every Open Babel force-field call runs on one thread.
+void run_openbabel_on_one_thread();
+
 // Open Babel writes warnings and errors to one global log. This keeps them off the
 // user's terminal (nothing below the command line prints) and gives back what was
 // logged while an instance lived, so error messages can quote Open Babel. The sink

@@ -55,6 +55,7 @@ OpenBabel::OBFormat* choose_format(OpenBabel::OBConversion& conversion, const st
 
 void build_geometry_from_smiles(OpenBabel::OBMol& mol, std::vector<std::string>& warnings) {
   mol.AddHydrogens();
+  run_openbabel_on_one_thread();
   OpenBabel::OBBuilder builder;
   if (!builder.Build(mol)) throw Error("open babel could not build a 3-d structure from the smiles");
   // A rough clean-up so the project's own optimizer starts near a minimum.

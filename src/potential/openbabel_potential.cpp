@@ -9,7 +9,6 @@
 #include <openbabel/obiter.h>
 #include <openbabel/tokenst.h>
 
-#include <omp.h>
 
 #include <algorithm>
 #include <cctype>
@@ -109,10 +108,7 @@ OpenBabelPotential::OpenBabelPotential(const std::string& force_field_name, cons
   if (atom_count_ == 0) throw Error("cannot set up a force field for a molecule without atoms");
 
   const OpenBabelLogCapture log;
-  // Open Babel's force fields run OpenMP parallel loops over a few dozen terms; the
-  // thread start-up and barrier cost dominates (measured: 83% of instructions in
-  // libgomp for acetaldehyde), so keep them on one thread.
-  omp_set_num_threads(1);
+  run_openbabel_on_one_thread();
 
   OpenBabel::OBForceField* prototype = OpenBabel::OBForceField::FindForceField(name_);
   if (!prototype)
