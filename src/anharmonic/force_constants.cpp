@@ -5,9 +5,9 @@
 #include <algorithm>
 #include <array>
 #include <cmath>
-#include <map>
+#include <functional>
 #include <optional>
-#include <set>
+#include <unordered_set>
 #include <utility>
 
 #include "core/error.hpp"
@@ -141,39 +141,66 @@ namespace {
 
 // Σ over distinct orderings σ, τ of the index tuple of Π_m R(g)_{σ_m τ_m}, summed over g:
 // |G| times ⟨E, P E⟩ for the symmetrized unit tensor E at that index tuple, which is zero
-// exactly when every invariant symmetric tensor vanishes there.
-template <std::size_t Rank>
-double invariant_overlap(const ModeSymmetry& symmetry, std::array<int, Rank> indices) {
-  std::sort(indices.begin(), indices.end());
-  bool all_one_dimensional = true;
-  const auto& set_of = symmetry.degenerate_set;
-  for (int index : indices)
-    all_one_dimensional = all_one_dimensional && std::count(set_of.begin(), set_of.end(),
-                                                            set_of[static_cast<std::size_t>(index)]) == 1;
-  double total = 0.0;
-  if (all_one_dimensional) {
-    for (const auto& r : symmetry.operations) {
-      double product = 1.0;
-      for (int index : indices) product *= r(index, index);
-      total += product;
-    }
-    return total / static_cast<double>(symmetry.order());
+// exactly when every invariant symmetric tensor vanishes there. The stage tests every
+// cubic and computed quartic index tuple (~M⁴/24 of them), so what does not depend on the
+// tuple (which modes are nondegenerate) is found once, and the per-tuple work allocates
+// nothing.
+class InvariantOverlap {
+ public:
+  explicit InvariantOverlap(const ModeSymmetry& symmetry)
+      : symmetry_(symmetry), one_dimensional_(symmetry.mode_count(), false) {
+    for (const auto& members : symmetry.sets())
+      if (members.size() == 1) one_dimensional_[static_cast<std::size_t>(members.front())] = true;
   }
-  // Reordering the positions of a term maps the distinct orderings τ onto themselves, so
-  // every σ contributes the same sum as the sorted tuple: σ is fixed, which divides the
-  // work by the number of orderings (up to Rank!).
-  std::vector<std::array<int, Rank>> orderings;
-  std::array<int, Rank> current = indices;
-  do orderings.push_back(current);
-  while (std::next_permutation(current.begin(), current.end()));
-  for (const auto& r : symmetry.operations)
-    for (const auto& tau : orderings) {
-      double product = 1.0;
-      for (std::size_t m = 0; m < Rank && product != 0.0; ++m) product *= r(indices[m], tau[m]);
-      total += product;
+
+  template <std::size_t Rank>
+  double operator()(std::array<int, Rank> indices) const {
+    std::sort(indices.begin(), indices.end());
+    bool all_one_dimensional = true;
+    for (int index : indices)
+      all_one_dimensional = all_one_dimensional && one_dimensional_[static_cast<std::size_t>(index)];
+    double total = 0.0;
+    if (all_one_dimensional) {
+      for (const auto& r : symmetry_.operations) {
+        double product = 1.0;
+        for (int index : indices) product *= r(index, index);
+        total += product;
+      }
+      return total / static_cast<double>(symmetry_.order());
     }
-  return total / static_cast<double>(symmetry.order());
-}
+    // Reordering the positions of a term maps the distinct orderings τ onto themselves, so
+    // every σ contributes the same sum as the sorted tuple: σ is fixed, which divides the
+    // work by the number of orderings (up to Rank!). The orderings are kept as positions
+    // in the sorted tuple, so that each R(g) is read only at the Rank² entries among them.
+    constexpr std::size_t most_orderings = Rank == 3 ? 6 : 24;
+    static_assert(Rank == 3 || Rank == 4);
+    std::array<std::array<int, Rank>, most_orderings> orderings{};
+    std::size_t ordering_count = 0;
+    std::array<int, Rank> current = indices;
+    do {
+      for (std::size_t m = 0; m < Rank; ++m)
+        orderings[ordering_count][m] =
+            static_cast<int>(std::find(indices.begin(), indices.end(), current[m]) - indices.begin());
+      ++ordering_count;
+    } while (std::next_permutation(current.begin(), current.end()));
+    std::array<std::array<double, Rank>, Rank> entries{};  // R(g) at (indices[a], indices[b])
+    for (const auto& r : symmetry_.operations) {
+      for (std::size_t a = 0; a < Rank; ++a)
+        for (std::size_t b = 0; b < Rank; ++b) entries[a][b] = r(indices[a], indices[b]);
+      for (std::size_t t = 0; t < ordering_count; ++t) {
+        double product = 1.0;
+        for (std::size_t m = 0; m < Rank && product != 0.0; ++m)
+          product *= entries[m][static_cast<std::size_t>(orderings[t][m])];
+        total += product;
+      }
+    }
+    return total / static_cast<double>(symmetry_.order());
+  }
+
+ private:
+  const ModeSymmetry& symmetry_;
+  std::vector<bool> one_dimensional_;  // per mode: its degenerate set has one member
+};
 
 // Zero test for the overlaps above: products of orthogonal matrix entries that are exact
 // to the representation error.
@@ -241,14 +268,151 @@ double average_block(const ModeSymmetry& symmetry, const std::array<std::vector<
   return change;
 }
 
+// How many independent invariant symmetric tensors a block of degenerate sets carries:
+// the multiplicity of the trivial representation in ⊗_s Sym^{n_s}(set s), with n_s how
+// often set s occurs in the block. It is the sum of InvariantOverlap over the block's
+// constants (the trace of the group average on the block), each term ≥ 0, so a block
+// with none has every constant forbidden — found from |G| products per block instead of
+// a zero test per constant. Characters of symmetric powers come from the power sums
+// p_k = tr(R_s(g)^k) (cycle index of the symmetric group).
+class BlockInvariants {
+ public:
+  explicit BlockInvariants(const ModeSymmetry& symmetry) : order_(symmetry.order()) {
+    for (const auto& members : symmetry.sets()) {
+      const auto d = static_cast<Eigen::Index>(members.size());
+      std::vector<std::array<double, 4>> per_operation;
+      for (const auto& r : symmetry.operations) {
+        Eigen::MatrixXd block(d, d);
+        for (Eigen::Index a = 0; a < d; ++a)
+          for (Eigen::Index b = 0; b < d; ++b)
+            block(a, b) = r(members[static_cast<std::size_t>(a)], members[static_cast<std::size_t>(b)]);
+        std::array<double, 4> power_sums{};
+        Eigen::MatrixXd power = block;
+        for (std::size_t k = 0; k < 4; ++k) {
+          if (k > 0) power = (power * block).eval();
+          power_sums[k] = power.trace();
+        }
+        per_operation.push_back(power_sums);
+      }
+      power_sums_.push_back(std::move(per_operation));
+    }
+  }
+
+  // For set ids in ascending order.
+  template <std::size_t Rank>
+  double count(const std::array<int, Rank>& sorted_sets) const {
+    double total = 0.0;
+    for (std::size_t g = 0; g < order_; ++g) {
+      double product = 1.0;
+      for (std::size_t first = 0; first < Rank;) {
+        std::size_t last = first + 1;
+        while (last < Rank && sorted_sets[last] == sorted_sets[first]) ++last;
+        product *= symmetric_power_character(power_sums_[static_cast<std::size_t>(sorted_sets[first])][g],
+                                             static_cast<int>(last - first));
+        first = last;
+      }
+      total += product;
+    }
+    return total / static_cast<double>(order_);
+  }
+
+ private:
+  static double symmetric_power_character(const std::array<double, 4>& p, int n) {
+    switch (n) {
+      case 1:
+        return p[0];
+      case 2:
+        return (p[0] * p[0] + p[1]) / 2.0;
+      case 3:
+        return (p[0] * p[0] * p[0] + 3.0 * p[0] * p[1] + 2.0 * p[2]) / 6.0;
+      default:
+        return (std::pow(p[0], 4) + 6.0 * p[0] * p[0] * p[1] + 3.0 * p[1] * p[1] + 8.0 * p[0] * p[2] +
+                6.0 * p[3]) /
+               24.0;
+    }
+  }
+
+  std::size_t order_;
+  std::vector<std::vector<std::array<double, 4>>> power_sums_;  // [set][operation]: p_1 … p_4
+};
+
+// The block count above decides "all forbidden" only when the matrices are this close to
+// a true representation: then the count is an integer to about this and each constant's
+// overlap is far below vanishing_overlap. Otherwise every constant is tested on its own.
+constexpr double exact_representation = 1e-8;
+
+// The unique constants of a block (sorted set ids): one mode per position from its set,
+// non-decreasing within a repeated set, so that each index multiset appears once.
+template <std::size_t Rank>
+std::vector<std::array<int, Rank>> block_members(const std::vector<std::vector<int>>& sets,
+                                                 const std::array<int, Rank>& sorted_sets) {
+  std::vector<std::array<int, Rank>> members;
+  std::array<std::size_t, Rank> position{};
+  const auto set_of = [&](std::size_t a) -> const std::vector<int>& {
+    return sets[static_cast<std::size_t>(sorted_sets[a])];
+  };
+  std::function<void(std::size_t)> choose = [&](std::size_t a) {
+    if (a == Rank) {
+      std::array<int, Rank> modes{};
+      for (std::size_t b = 0; b < Rank; ++b) modes[b] = set_of(b)[position[b]];
+      members.push_back(modes);
+      return;
+    }
+    const bool repeated = a > 0 && sorted_sets[a] == sorted_sets[a - 1];
+    for (position[a] = repeated ? position[a - 1] : 0; position[a] < set_of(a).size(); ++position[a])
+      choose(a + 1);
+  };
+  choose(0);
+  return members;
+}
+
+// Group average of one block of sets followed by zeroing its forbidden constants: the
+// block's unique constants are tested (all at once when the block carries no invariant),
+// averaged if the block is complete and not all forbidden, and the forbidden ones set to
+// zero. Returns the change made by the average (for an all-forbidden complete block, its
+// largest magnitude: the average is zero there up to round-off) and counts the forbidden.
+template <std::size_t Rank, class Has, class Get, class Set>
+double symmetrize_and_zero_block(const ModeSymmetry& symmetry, const std::vector<std::vector<int>>& sets,
+                                 const InvariantOverlap& overlap, const BlockInvariants& invariants,
+                                 const std::array<int, Rank>& sorted_sets, Has has, Get get, Set set,
+                                 std::size_t& forbidden) {
+  const bool none_allowed = symmetry.representation_error <= exact_representation &&
+                            invariants.count(sorted_sets) < 0.5;
+  std::vector<std::array<int, Rank>> members = block_members(sets, sorted_sets);
+  const std::size_t member_count = members.size();
+  members.erase(std::remove_if(members.begin(), members.end(), [&](const auto& x) { return !has(x); }),
+                members.end());
+  const bool complete = members.size() == member_count;
+  std::vector<bool> vanishes(members.size());
+  bool all_vanish = true;
+  double largest = 0.0;
+  for (std::size_t e = 0; e < members.size(); ++e) {
+    vanishes[e] = none_allowed || std::abs(overlap(members[e])) < vanishing_overlap;
+    all_vanish = all_vanish && vanishes[e];
+    largest = std::max(largest, std::abs(get(members[e])));
+  }
+  double change = 0.0;
+  if (complete) {
+    std::array<std::vector<int>, Rank> block_sets;
+    for (std::size_t a = 0; a < Rank; ++a) block_sets[a] = sets[static_cast<std::size_t>(sorted_sets[a])];
+    change = all_vanish ? largest : average_block<Rank>(symmetry, block_sets, get, set);
+  }
+  for (std::size_t e = 0; e < members.size(); ++e)
+    if (vanishes[e]) {
+      set(members[e], 0.0);
+      ++forbidden;
+    }
+  return change;
+}
+
 }  // namespace
 
 bool cubic_must_vanish(const ModeSymmetry& symmetry, int i, int j, int k) {
-  return std::abs(invariant_overlap<3>(symmetry, {i, j, k})) < vanishing_overlap;
+  return std::abs(InvariantOverlap(symmetry)(std::array<int, 3>{i, j, k})) < vanishing_overlap;
 }
 
 bool quartic_must_vanish(const ModeSymmetry& symmetry, int i, int j, int k, int l) {
-  return std::abs(invariant_overlap<4>(symmetry, {i, j, k, l})) < vanishing_overlap;
+  return std::abs(InvariantOverlap(symmetry)(std::array<int, 4>{i, j, k, l})) < vanishing_overlap;
 }
 
 double symmetrize_over_group(ForceConstantTensors& constants, const ModeSymmetry& symmetry) {
@@ -270,17 +434,54 @@ double symmetrize_over_group(ForceConstantTensors& constants, const ModeSymmetry
     for (int b = a; b < set_count; ++b)
       for (int c = b; c < set_count; ++c)
         for (int d = c; d < set_count; ++d) {
-          bool complete = true;
-          for (int i : sets[a])
-            for (int j : sets[b])
-              for (int k : sets[c])
-                for (int l : sets[d]) complete = complete && constants.has_quartic(i, j, k, l);
+          const auto members = block_members<4>(sets, {a, b, c, d});
+          const bool complete = std::all_of(members.begin(), members.end(), [&](const auto& x) {
+            return constants.has_quartic(x[0], x[1], x[2], x[3]);
+          });
           if (complete)
             change = std::max(change,
                               average_block<4>(symmetry, {sets[a], sets[b], sets[c], sets[d]}, get4, put4));
         }
   return change;
 }
+
+namespace {
+
+// The stage's group average and zeroing, block by block (blocks are disjoint, so this is
+// the same as averaging everything and then zeroing): equivalent to symmetrize_over_group
+// followed by the zero test of every cubic and computed quartic constant, but blocks
+// without invariants — most of them for large molecules — skip both the per-constant
+// tests and the average. Returns the largest change made by the average.
+double symmetrize_and_zero(ForceConstantTensors& constants, const ModeSymmetry& symmetry,
+                           std::size_t& forbidden_cubic, std::size_t& forbidden_quartic) {
+  const auto sets = symmetry.sets();
+  const int set_count = static_cast<int>(sets.size());
+  const InvariantOverlap overlap(symmetry);
+  const BlockInvariants invariants(symmetry);
+  double change = 0.0;
+  auto has3 = [](const std::array<int, 3>&) { return true; };
+  auto get3 = [&](const std::array<int, 3>& x) { return constants.cubic(x[0], x[1], x[2]); };
+  auto put3 = [&](const std::array<int, 3>& x, double v) { constants.set_cubic(x[0], x[1], x[2], v); };
+  for (int a = 0; a < set_count; ++a)
+    for (int b = a; b < set_count; ++b)
+      for (int c = b; c < set_count; ++c)
+        change = std::max(change, symmetrize_and_zero_block<3>(symmetry, sets, overlap, invariants, {a, b, c},
+                                                               has3, get3, put3, forbidden_cubic));
+  auto has4 = [&](const std::array<int, 4>& x) { return constants.has_quartic(x[0], x[1], x[2], x[3]); };
+  auto get4 = [&](const std::array<int, 4>& x) { return constants.quartic(x[0], x[1], x[2], x[3]); };
+  auto put4 = [&](const std::array<int, 4>& x, double v) {
+    constants.set_quartic(x[0], x[1], x[2], x[3], v);
+  };
+  for (int a = 0; a < set_count; ++a)
+    for (int b = a; b < set_count; ++b)
+      for (int c = b; c < set_count; ++c)
+        for (int d = c; d < set_count; ++d)
+          change = std::max(change, symmetrize_and_zero_block<4>(symmetry, sets, overlap, invariants,
+                                                                 {a, b, c, d}, has4, get4, put4, forbidden_quartic));
+  return change;
+}
+
+}  // namespace
 
 }  // namespace detail
 
@@ -297,6 +498,67 @@ Point unit_point(int m, std::initializer_list<std::pair<int, int>> entries) {
   return p;
 }
 
+// Points have at most a few small nonzero entries, so hashing those is cheap and spreads
+// them well (FNV-1a over index and value).
+struct PointHash {
+  std::size_t operator()(const Point& p) const {
+    std::uint64_t hash = 14695981039346656037ull;
+    for (std::size_t k = 0; k < p.size(); ++k)
+      if (p[k] != 0) {
+        hash ^= (static_cast<std::uint64_t>(k) << 8) ^ static_cast<std::uint64_t>(p[k] & 0xff);
+        hash *= 1099511628211ull;
+      }
+    return static_cast<std::size_t>(hash);
+  }
+};
+
+// An operation on the normal coordinates stored by columns, nonzero entries only. The
+// cleaned R(g) are block-diagonal over the degenerate sets, so a column has at most the
+// size of its set (a single ±1 for a signed permutation): images of sparse points, and
+// gradients and Hessians carried through g, then cost O(set size) per entry instead of
+// O(M) — the dense products dominated the stage for large molecules.
+struct SparseOperation {
+  struct Entry {
+    int row;
+    double value;
+  };
+  std::vector<std::vector<Entry>> columns;
+  bool signed_permutation = false;  // every entry 0 or ±1
+
+  explicit SparseOperation(const Eigen::MatrixXd& r) : columns(static_cast<std::size_t>(r.cols())) {
+    constexpr double exact = 1e-9;  // entries of an exact group matrix that are 0 or ±1
+    signed_permutation = (r.array().abs() < exact || (r.array().abs() - 1.0).abs() < exact).all();
+    for (Eigen::Index k = 0; k < r.cols(); ++k)
+      for (Eigen::Index i = 0; i < r.rows(); ++i)
+        if (r(i, k) != 0.0) columns[static_cast<std::size_t>(k)].push_back({static_cast<int>(i), r(i, k)});
+  }
+
+  // Rᵀ v.
+  Eigen::VectorXd transpose_times(const Eigen::VectorXd& v) const {
+    Eigen::VectorXd result(static_cast<Eigen::Index>(columns.size()));
+    for (std::size_t k = 0; k < columns.size(); ++k) {
+      double sum = 0.0;
+      for (const Entry& e : columns[k]) sum += e.value * v[e.row];
+      result[static_cast<Eigen::Index>(k)] = sum;
+    }
+    return result;
+  }
+
+  // Rᵀ A R.
+  Eigen::MatrixXd congruence(const Eigen::MatrixXd& a) const {
+    const auto m = static_cast<Eigen::Index>(columns.size());
+    Eigen::MatrixXd result(m, m);
+    for (Eigen::Index j = 0; j < m; ++j)
+      for (Eigen::Index i = 0; i < m; ++i) {
+        double sum = 0.0;
+        for (const Entry& ei : columns[static_cast<std::size_t>(i)])
+          for (const Entry& ej : columns[static_cast<std::size_t>(j)]) sum += ei.value * a(ei.row, ej.row) * ej.value;
+        result(i, j) = sum;
+      }
+    return result;
+  }
+};
+
 // Normal-coordinate Hessians (and gradients) at displaced points, each computed once and
 // reused through the group: V(Rq) = V(q) gives ∇V(q) = Rᵀ∇V(Rq), ∇²V(q) = Rᵀ∇²V(Rq)R.
 class DisplacedEvaluator {
@@ -305,14 +567,14 @@ class DisplacedEvaluator {
                      const std::vector<Eigen::MatrixXd>* operations, double step)
       : potential_(potential),
         frame_(frame),
-        operations_(operations),
         step_(step),
         analytic_(potential.has_analytic_hessian()),
-        m_(static_cast<int>(frame.frequencies_cm1.size())) {
-    if (!operations_) return;
-    constexpr double exact = 1e-9;  // entries of an exact group matrix that are 0 or ±1
-    for (const auto& r : *operations_)
-      signed_permutation_.push_back((r.array().abs() < exact || (r.array().abs() - 1.0).abs() < exact).all());
+        m_(static_cast<int>(frame.frequencies_cm1.size())),
+        image_(static_cast<std::size_t>(m_), 0),
+        image_values_(static_cast<std::size_t>(m_), 0.0) {
+    if (!operations) return;
+    operations_.reserve(operations->size());
+    for (const auto& r : *operations) operations_.emplace_back(r);
   }
 
   const Eigen::MatrixXd& hessian(const Point& p) {
@@ -323,17 +585,23 @@ class DisplacedEvaluator {
     // signed permutation of the coordinates) carries that error along exactly, so that it
     // still cancels in the outer differences. Gradients and analytic Hessians are exact.
     if (const auto image = symmetric_image(p, hessians_, !analytic_)) {
-      h = image->first.transpose() * image->second->second * image->first;
+      h = operations_[image->first].congruence(image->second->second);
       ++hessians_from_symmetry_;
     } else if (analytic_) {
       h = frame_.hessian_q(potential_.hessian(position(p)));
     } else {
       h.resize(m_, m_);
+      // −h before +h in each column: the order in which points are computed decides which
+      // of them are obtained through the group (and so the round-off of the constants);
+      // this is the order earlier versions used.
+      Point stencil = p;
       for (int j = 0; j < m_; ++j) {
-        Point plus = p, minus = p;
-        ++plus[static_cast<std::size_t>(j)];
-        --minus[static_cast<std::size_t>(j)];
-        h.col(j) = (gradient(plus) - gradient(minus)) / (2.0 * step_);
+        auto& shifted = stencil[static_cast<std::size_t>(j)];
+        --shifted;
+        const Eigen::VectorXd& minus = gradient(stencil);
+        shifted += 2;
+        h.col(j) = (gradient(stencil) - minus) / (2.0 * step_);
+        --shifted;
       }
       h = 0.5 * (h + h.transpose()).eval();
     }
@@ -349,6 +617,9 @@ class DisplacedEvaluator {
   std::size_t hessians_from_symmetry() const { return hessians_from_symmetry_; }
 
  private:
+  template <class Value>
+  using PointMap = std::unordered_map<Point, Value, PointHash>;
+
   Eigen::VectorXd position(const Point& p) const {
     Eigen::VectorXd q(m_);
     for (int k = 0; k < m_; ++k) q[k] = step_ * p[static_cast<std::size_t>(k)];
@@ -359,7 +630,7 @@ class DisplacedEvaluator {
     if (auto it = gradients_.find(p); it != gradients_.end()) return it->second;
     Eigen::VectorXd g;
     if (const auto image = symmetric_image(p, gradients_)) {
-      g = image->first.transpose() * image->second->second;
+      g = operations_[image->first].transpose_times(image->second->second);
     } else {
       Eigen::VectorXd cartesian;
       potential_.energy_and_gradient(position(p), cartesian);
@@ -373,40 +644,58 @@ class DisplacedEvaluator {
     return gradients_.emplace(p, std::move(g)).first->second;
   }
 
-  // An operation g and an already computed point equal to R(g)·p.
+  // The first operation g (in group order) and an already computed point equal to R(g)·p.
   template <class Map>
-  std::optional<std::pair<Eigen::MatrixXd, typename Map::const_iterator>> symmetric_image(
-      const Point& p, const Map& map, bool signed_permutations_only = false) const {
-    if (!operations_) return std::nullopt;
-    Eigen::VectorXd v(m_);
-    for (int k = 0; k < m_; ++k) v[k] = p[static_cast<std::size_t>(k)];
+  std::optional<std::pair<std::size_t, typename Map::const_iterator>> symmetric_image(
+      const Point& p, const Map& map, bool signed_permutations_only = false) {
+    if (operations_.empty()) return std::nullopt;
+    std::vector<int> displaced;  // the coordinates p moves along
+    for (int k = 0; k < m_; ++k)
+      if (p[static_cast<std::size_t>(k)] != 0) displaced.push_back(k);
     constexpr double integer_tolerance = 1e-6;  // R is exact to far better than this when used
-    for (std::size_t g = 1; g < operations_->size(); ++g) {
-      if (signed_permutations_only && !signed_permutation_[g]) continue;
-      const Eigen::VectorXd image = (*operations_)[g] * v;
-      Point key(static_cast<std::size_t>(m_));
+    for (std::size_t g = 1; g < operations_.size(); ++g) {
+      const SparseOperation& r = operations_[g];
+      if (signed_permutations_only && !r.signed_permutation) continue;
+      // R(g)·p accumulated over the columns of the displaced coordinates; only the rows
+      // those columns reach can be nonzero.
+      touched_.clear();
+      for (int k : displaced)
+        for (const SparseOperation::Entry& e : r.columns[static_cast<std::size_t>(k)]) {
+          auto& value = image_values_[static_cast<std::size_t>(e.row)];
+          if (value == 0.0) touched_.push_back(e.row);
+          value += e.value * p[static_cast<std::size_t>(k)];
+        }
       bool integral = true;
-      for (int k = 0; k < m_ && integral; ++k) {
-        const double rounded = std::round(image[k]);
-        integral = std::abs(image[k] - rounded) < integer_tolerance;
-        key[static_cast<std::size_t>(k)] = static_cast<int>(rounded);
+      for (int row : touched_) {
+        auto& value = image_values_[static_cast<std::size_t>(row)];
+        const double rounded = std::round(value);
+        integral = integral && std::abs(value - rounded) < integer_tolerance;
+        image_[static_cast<std::size_t>(row)] = static_cast<int>(rounded);
+        value = 0.0;
       }
-      if (!integral || key == p) continue;
-      if (auto it = map.find(key); it != map.end()) return std::make_pair((*operations_)[g], it);
+      std::optional<typename Map::const_iterator> found;
+      if (integral && image_ != p)
+        if (auto it = map.find(image_); it != map.end()) found = it;
+      for (int row : touched_) image_[static_cast<std::size_t>(row)] = 0;
+      if (found) return std::make_pair(g, *found);
     }
     return std::nullopt;
   }
 
   const Potential& potential_;
   const detail::NormalCoordinateFrame& frame_;
-  const std::vector<Eigen::MatrixXd>* operations_;
+  std::vector<SparseOperation> operations_;  // empty: no reuse
   double step_;
   bool analytic_;
   int m_;
-  std::map<Point, Eigen::MatrixXd> hessians_;
-  std::map<Point, Eigen::VectorXd> gradients_;
+  PointMap<Eigen::MatrixXd> hessians_;
+  PointMap<Eigen::VectorXd> gradients_;
   std::size_t hessians_from_symmetry_ = 0;
-  std::vector<bool> signed_permutation_;
+  // Scratch for symmetric_image, kept zero between calls: the image point, its unrounded
+  // entries and the rows they occupy.
+  Point image_;
+  std::vector<double> image_values_;
+  std::vector<int> touched_;
 };
 
 // Running mean and spread of the estimates of one constant.
@@ -537,13 +826,13 @@ ForceConstantResult compute_force_constants(const Potential& potential, const Ha
   if (potential.has_analytic_hessian()) {
     result.naive_evaluations.hessians = points.size();
   } else {
-    std::set<Point> needed;
+    std::unordered_set<Point, PointHash> needed;
     for (const auto& p : points)
       for (int j = 0; j < m; ++j)
         for (int s : {1, -1}) {
           Point q = p;
           q[static_cast<std::size_t>(j)] += s;
-          needed.insert(q);
+          needed.insert(std::move(q));
         }
     result.naive_evaluations.gradients = needed.size();
   }
@@ -557,13 +846,18 @@ ForceConstantResult compute_force_constants(const Potential& potential, const Ha
     first[static_cast<std::size_t>(k)] = (plus - minus) / (2.0 * h);
     second[static_cast<std::size_t>(k)] = (plus - 2.0 * center + minus) / (h * h);
   }
-  std::map<std::pair<int, int>, Eigen::MatrixXd> mixed;
-  for (const auto& [k, l] : pairs)
-    mixed[{k, l}] = (evaluator.hessian(unit_point(m, {{k, 1}, {l, 1}})) -
+  // Mixed second differences per displaced pair k < l, found through a dense M×M table
+  // (looked up several times for each of the ~M⁴/24 quartic index tuples).
+  std::vector<Eigen::MatrixXd> mixed;
+  std::vector<int> mixed_of_pair(static_cast<std::size_t>(m) * m, -1);
+  for (const auto& [k, l] : pairs) {
+    mixed_of_pair[static_cast<std::size_t>(k) * m + l] = static_cast<int>(mixed.size());
+    mixed.push_back((evaluator.hessian(unit_point(m, {{k, 1}, {l, 1}})) -
                      evaluator.hessian(unit_point(m, {{k, 1}, {l, -1}})) -
                      evaluator.hessian(unit_point(m, {{k, -1}, {l, 1}})) +
                      evaluator.hessian(unit_point(m, {{k, -1}, {l, -1}}))) /
-                    (4.0 * h * h);
+                    (4.0 * h * h));
+  }
 
   // Cubic: one estimate per distinct index used as the displaced direction.
   double spread = 0.0;
@@ -581,6 +875,7 @@ ForceConstantResult compute_force_constants(const Potential& potential, const Ha
         result.constants.set_cubic(i, j, k, e.mean());
       }
 
+  std::size_t computed_quartics = 0;  // unique φ_ijkl
   // Quartic: one estimate per distinct choice of the two displaced indices (a repeated
   // index from a single displacement, two different ones from a mixed displacement).
   for (int i = 0; i < m; ++i)
@@ -589,45 +884,39 @@ ForceConstantResult compute_force_constants(const Potential& potential, const Ha
         for (int l = k; l < m; ++l) {
           const std::array<int, 4> idx{i, j, k, l};
           Estimate e;
-          std::set<std::pair<int, int>> used;
+          // Distinct chosen pairs (idx is sorted, so each pair comes as first ≤ second).
+          std::array<std::pair<int, int>, 6> used{};
+          int used_count = 0;
           for (int a = 0; a < 4; ++a)
             for (int b = a + 1; b < 4; ++b) {
               const std::pair<int, int> chosen{idx[a], idx[b]};
-              if (!used.insert(chosen).second) continue;
+              if (std::find(used.begin(), used.begin() + used_count, chosen) != used.begin() + used_count)
+                continue;
+              used[static_cast<std::size_t>(used_count++)] = chosen;
               std::array<int, 2> rest{};
               int r = 0;
               for (int c = 0; c < 4; ++c)
                 if (c != a && c != b) rest[static_cast<std::size_t>(r++)] = idx[c];
               if (chosen.first == chosen.second) {
                 e.add(second[static_cast<std::size_t>(chosen.first)](rest[0], rest[1]));
-              } else if (const auto it = mixed.find(chosen); it != mixed.end()) {
-                e.add(it->second(rest[0], rest[1]));
+              } else if (const int pair = mixed_of_pair[static_cast<std::size_t>(chosen.first) * m + chosen.second];
+                         pair >= 0) {
+                e.add(mixed[static_cast<std::size_t>(pair)](rest[0], rest[1]));
               }
             }
           if (e.count == 0) continue;
           spread = std::max(spread, e.spread());
           result.constants.set_quartic(i, j, k, l, e.mean());
+          ++computed_quartics;
         }
   result.permutation_spread_cm1 = spread;
 
-  if (result.symmetry_used) {
-    result.symmetry_adjustment_cm1 = detail::symmetrize_over_group(result.constants, symmetry);
-    for (int i = 0; i < m; ++i)
-      for (int j = i; j < m; ++j)
-        for (int k = j; k < m; ++k)
-          if (detail::cubic_must_vanish(symmetry, i, j, k)) {
-            result.constants.set_cubic(i, j, k, 0.0);
-            ++result.forbidden_cubic;
-          }
-    for (const auto& entry : result.constants.quartic_entries(-1.0))
-      if (detail::quartic_must_vanish(symmetry, entry.i, entry.j, entry.k, entry.l)) {
-        result.constants.set_quartic(entry.i, entry.j, entry.k, entry.l, 0.0);
-        ++result.forbidden_quartic;
-      }
-  }
+  if (result.symmetry_used)
+    result.symmetry_adjustment_cm1 =
+        detail::symmetrize_and_zero(result.constants, symmetry, result.forbidden_cubic, result.forbidden_quartic);
   result.message =
       fmt::format("{} cubic and {} quartic constants from {} displaced Hessians ({} by symmetry), {}",
-                  m * (m + 1) * (m + 2) / 6, result.constants.quartic_entries(-1.0).size(),
+                  m * (m + 1) * (m + 2) / 6, computed_quartics,
                   result.displaced_hessians, result.hessians_from_symmetry, result.method);
   return result;
 }
