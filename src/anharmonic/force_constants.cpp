@@ -145,10 +145,19 @@ namespace {
 // cubic and computed quartic index tuple (~M⁴/24 of them), so what does not depend on the
 // tuple (which modes are nondegenerate) is found once, and the per-tuple work allocates
 // nothing.
+//
+// An ordering τ that moves an index into another degenerate set contributes products of
+// at least two entries of R(g) outside the set blocks, i.e. at most the square of the
+// representation error. Such orderings are skipped when that is negligible against
+// vanishing_overlap (as they always were when every index is nondegenerate), which leaves
+// one or a few orderings for most tuples of different sets.
 class InvariantOverlap {
  public:
   explicit InvariantOverlap(const ModeSymmetry& symmetry)
-      : symmetry_(symmetry), one_dimensional_(symmetry.mode_count(), false) {
+      : symmetry_(symmetry),
+        one_dimensional_(symmetry.mode_count(), false),
+        // skipped terms are then below 24·(1e-6)² ≪ vanishing_overlap
+        within_sets_only_(symmetry.representation_error <= 1e-6) {
     for (const auto& members : symmetry.sets())
       if (members.size() == 1) one_dimensional_[static_cast<std::size_t>(members.front())] = true;
   }
@@ -177,7 +186,15 @@ class InvariantOverlap {
     std::array<std::array<int, Rank>, most_orderings> orderings{};
     std::size_t ordering_count = 0;
     std::array<int, Rank> current = indices;
+    const auto& set_of = symmetry_.degenerate_set;
+    auto keeps_sets = [&](const std::array<int, Rank>& ordering) {
+      for (std::size_t m = 0; m < Rank; ++m)
+        if (set_of[static_cast<std::size_t>(ordering[m])] != set_of[static_cast<std::size_t>(indices[m])])
+          return false;
+      return true;
+    };
     do {
+      if (within_sets_only_ && !keeps_sets(current)) continue;
       for (std::size_t m = 0; m < Rank; ++m)
         orderings[ordering_count][m] =
             static_cast<int>(std::find(indices.begin(), indices.end(), current[m]) - indices.begin());
@@ -200,6 +217,7 @@ class InvariantOverlap {
  private:
   const ModeSymmetry& symmetry_;
   std::vector<bool> one_dimensional_;  // per mode: its degenerate set has one member
+  bool within_sets_only_;              // skip orderings that leave a set (see above)
 };
 
 // Zero test for the overlaps above: products of orthogonal matrix entries that are exact
@@ -233,25 +251,32 @@ double average_block(const ModeSymmetry& symmetry, const std::array<std::vector<
     block[f] = get(idx);
   }
   // R(g) applied to one index at a time: Rank·total·d operations per g instead of total².
+  // Entries are visited in ascending flat order (outer × from × inner), as a flat loop
+  // would, without dividing to find each entry's position; exact zeros of R(g) are
+  // multiplied rather than tested for, which adds nothing.
   std::array<std::size_t, Rank> stride{};
   stride[Rank - 1] = 1;
   for (std::size_t a = Rank - 1; a-- > 0;) stride[a] = stride[a + 1] * static_cast<std::size_t>(sizes[a + 1]);
   std::vector<double> current(total), next(total);
+  std::vector<double> set_block;  // R(g) on the modes of one axis, row-major (to, from)
   for (const auto& r : symmetry.operations) {
     current = block;
     for (std::size_t a = 0; a < Rank; ++a) {
       std::fill(next.begin(), next.end(), 0.0);
       const auto& axis_modes = modes[a];
-      for (std::size_t f = 0; f < total; ++f) {
-        if (current[f] == 0.0) continue;
-        const int from = static_cast<int>((f / stride[a]) % static_cast<std::size_t>(sizes[a]));
-        const std::size_t base = f - static_cast<std::size_t>(from) * stride[a];
-        for (int to = 0; to < sizes[a]; ++to) {
-          const double factor =
-              r(axis_modes[static_cast<std::size_t>(to)], axis_modes[static_cast<std::size_t>(from)]);
-          if (factor != 0.0) next[base + static_cast<std::size_t>(to) * stride[a]] += factor * current[f];
-        }
-      }
+      const auto d = static_cast<std::size_t>(sizes[a]);
+      set_block.resize(d * d);
+      for (std::size_t to = 0; to < d; ++to)
+        for (std::size_t from = 0; from < d; ++from) set_block[to * d + from] = r(axis_modes[to], axis_modes[from]);
+      const std::size_t inner_count = stride[a], outer_count = total / (stride[a] * d);
+      for (std::size_t outer = 0; outer < outer_count; ++outer)
+        for (std::size_t from = 0; from < d; ++from)
+          for (std::size_t inner = 0; inner < inner_count; ++inner) {
+            const std::size_t base = outer * d * inner_count + inner;
+            const double value = current[base + from * inner_count];
+            if (value == 0.0) continue;
+            for (std::size_t to = 0; to < d; ++to) next[base + to * inner_count] += set_block[to * d + from] * value;
+          }
       current.swap(next);
     }
     for (std::size_t f = 0; f < total; ++f) averaged[f] += current[f];
