@@ -267,7 +267,8 @@ double average_block(const ModeSymmetry& symmetry, const std::array<std::vector<
       const auto d = static_cast<std::size_t>(sizes[a]);
       set_block.resize(d * d);
       for (std::size_t to = 0; to < d; ++to)
-        for (std::size_t from = 0; from < d; ++from) set_block[to * d + from] = r(axis_modes[to], axis_modes[from]);
+        for (std::size_t from = 0; from < d; ++from)
+          set_block[to * d + from] = r(axis_modes[to], axis_modes[from]);
       const std::size_t inner_count = stride[a], outer_count = total / (stride[a] * d);
       for (std::size_t outer = 0; outer < outer_count; ++outer)
         for (std::size_t from = 0; from < d; ++from)
@@ -275,7 +276,8 @@ double average_block(const ModeSymmetry& symmetry, const std::array<std::vector<
             const std::size_t base = outer * d * inner_count + inner;
             const double value = current[base + from * inner_count];
             if (value == 0.0) continue;
-            for (std::size_t to = 0; to < d; ++to) next[base + to * inner_count] += set_block[to * d + from] * value;
+            for (std::size_t to = 0; to < d; ++to)
+              next[base + to * inner_count] += set_block[to * d + from] * value;
           }
       current.swap(next);
     }
@@ -401,8 +403,8 @@ double symmetrize_and_zero_block(const ModeSymmetry& symmetry, const std::vector
                                  const InvariantOverlap& overlap, const BlockInvariants& invariants,
                                  const std::array<int, Rank>& sorted_sets, Has has, Get get, Set set,
                                  std::size_t& forbidden) {
-  const bool none_allowed = symmetry.representation_error <= exact_representation &&
-                            invariants.count(sorted_sets) < 0.5;
+  const bool none_allowed =
+      symmetry.representation_error <= exact_representation && invariants.count(sorted_sets) < 0.5;
   std::vector<std::array<int, Rank>> members = block_members(sets, sorted_sets);
   const std::size_t member_count = members.size();
   members.erase(std::remove_if(members.begin(), members.end(), [&](const auto& x) { return !has(x); }),
@@ -501,8 +503,9 @@ double symmetrize_and_zero(ForceConstantTensors& constants, const ModeSymmetry& 
     for (int b = a; b < set_count; ++b)
       for (int c = b; c < set_count; ++c)
         for (int d = c; d < set_count; ++d)
-          change = std::max(change, symmetrize_and_zero_block<4>(symmetry, sets, overlap, invariants,
-                                                                 {a, b, c, d}, has4, get4, put4, forbidden_quartic));
+          change =
+              std::max(change, symmetrize_and_zero_block<4>(symmetry, sets, overlap, invariants, {a, b, c, d},
+                                                            has4, get4, put4, forbidden_quartic));
   return change;
 }
 
@@ -577,7 +580,8 @@ struct SparseOperation {
       for (Eigen::Index i = 0; i < m; ++i) {
         double sum = 0.0;
         for (const Entry& ei : columns[static_cast<std::size_t>(i)])
-          for (const Entry& ej : columns[static_cast<std::size_t>(j)]) sum += ei.value * a(ei.row, ej.row) * ej.value;
+          for (const Entry& ej : columns[static_cast<std::size_t>(j)])
+            sum += ei.value * a(ei.row, ej.row) * ej.value;
         result(i, j) = sum;
       }
     return result;
@@ -924,7 +928,8 @@ ForceConstantResult compute_force_constants(const Potential& potential, const Ha
                 if (c != a && c != b) rest[static_cast<std::size_t>(r++)] = idx[c];
               if (chosen.first == chosen.second) {
                 e.add(second[static_cast<std::size_t>(chosen.first)](rest[0], rest[1]));
-              } else if (const int pair = mixed_of_pair[static_cast<std::size_t>(chosen.first) * m + chosen.second];
+              } else if (const int pair =
+                             mixed_of_pair[static_cast<std::size_t>(chosen.first) * m + chosen.second];
                          pair >= 0) {
                 e.add(mixed[static_cast<std::size_t>(pair)](rest[0], rest[1]));
               }
@@ -937,12 +942,12 @@ ForceConstantResult compute_force_constants(const Potential& potential, const Ha
   result.permutation_spread_cm1 = spread;
 
   if (result.symmetry_used)
-    result.symmetry_adjustment_cm1 =
-        detail::symmetrize_and_zero(result.constants, symmetry, result.forbidden_cubic, result.forbidden_quartic);
+    result.symmetry_adjustment_cm1 = detail::symmetrize_and_zero(
+        result.constants, symmetry, result.forbidden_cubic, result.forbidden_quartic);
   result.message =
       fmt::format("{} cubic and {} quartic constants from {} displaced Hessians ({} by symmetry), {}",
-                  m * (m + 1) * (m + 2) / 6, computed_quartics,
-                  result.displaced_hessians, result.hessians_from_symmetry, result.method);
+                  m * (m + 1) * (m + 2) / 6, computed_quartics, result.displaced_hessians,
+                  result.hessians_from_symmetry, result.method);
   return result;
 }
 
