@@ -4,14 +4,13 @@
 #include <cmath>
 
 #include "anharmonic/anharmonic_report.hpp"
+#include "report/json_values.hpp"
 
 namespace overtone {
 
 namespace {
 
 using nlohmann::json;
-
-json number_or_null(double value) { return std::isfinite(value) ? json(value) : json(nullptr); }
 
 json counts_to_json(const EvaluationCounts& counts) {
   return {{"energies", counts.energies}, {"gradients", counts.gradients}, {"hessians", counts.hessians}};

@@ -2,13 +2,13 @@
 
 #include <cmath>
 
+#include "report/json_values.hpp"
+
 namespace overtone {
 
 namespace {
 
 using nlohmann::json;
-
-json number_or_null(double value) { return std::isfinite(value) ? json(value) : json(nullptr); }
 
 std::string phase_text(const PhasedElement& element) {
   if (element.numerator == 0) return "0";
