@@ -10,13 +10,13 @@
 #include <string>
 #include <vector>
 
+#include "anharmonic/anharmonic_report.hpp"
+#include "anharmonic/taylor_export.hpp"
 #include "core/error.hpp"
+#include "families/families_report.hpp"
 #include "molecule/read_molecule.hpp"
 #include "pipeline/analysis.hpp"
 #include "potential/make_potential.hpp"
-#include "anharmonic/anharmonic_report.hpp"
-#include "anharmonic/taylor_export.hpp"
-#include "families/families_report.hpp"
 #include "report/anharmonic_json.hpp"
 #include "report/families_json.hpp"
 #include "report/harmonic_report.hpp"
@@ -116,21 +116,25 @@ struct FamilyArguments {
 constexpr double default_family_quanta = 3.0;  // the first overtones a spectrum usually shows
 
 void add_family_arguments(CLI::App& command, FamilyArguments& arguments) {
-  command.add_option("--mode", arguments.fundamentals,
-                     "continue only the families of fundamental νN (the ν column of the modes table); repeatable");
+  command.add_option(
+      "--mode", arguments.fundamentals,
+      "continue only the families of fundamental νN (the ν column of the modes table); repeatable");
   auto* energy = command.add_option("--energy-max", arguments.energy_max_cm1,
                                     "continue every family up to this energy above the minimum (cm-1)");
-  auto* quanta = command.add_option("--quanta", arguments.quanta,
-                                    "continue each family up to the energy of this many quanta of its own mode "
-                                    "(default 3)");
+  auto* quanta =
+      command.add_option("--quanta", arguments.quanta,
+                         "continue each family up to the energy of this many quanta of its own mode "
+                         "(default 3)");
   energy->excludes(quanta);
   quanta->excludes(energy);
 }
 
 FamiliesOptions families_options(const AnalysisResult& analysis, const FamilyArguments& arguments) {
   FamiliesOptions options;
-  if (arguments.energy_max_cm1 > 0.0) options.energy_max_cm1 = arguments.energy_max_cm1;
-  else options.quanta = arguments.quanta > 0.0 ? arguments.quanta : default_family_quanta;
+  if (arguments.energy_max_cm1 > 0.0)
+    options.energy_max_cm1 = arguments.energy_max_cm1;
+  else
+    options.quanta = arguments.quanta > 0.0 ? arguments.quanta : default_family_quanta;
   options.mode_numbers = mode_numbers_of_fundamentals(analysis, arguments.fundamentals);
   // One frequency window for the families' resonance threats and the perturbative Fermi
   // candidates, so that the two lists can be compared pair by pair.
@@ -151,7 +155,8 @@ std::vector<std::string> write_family_csvs(const FamiliesResult& families, const
   for (std::size_t index = 0; index < families.families.size(); ++index) {
     if (!families.families[index].continued) continue;
     const int family = static_cast<int>(index);
-    const std::string path = (std::filesystem::path(folder) / family_csv_file_name(families, family)).string();
+    const std::string path =
+        (std::filesystem::path(folder) / family_csv_file_name(families, family)).string();
     write_text(path, family_points_csv(families, family));
     written.push_back(path);
   }
@@ -162,8 +167,8 @@ void merge_into(nlohmann::json& document, const nlohmann::json& part) {
   for (auto item = part.begin(); item != part.end(); ++item) document[item.key()] = item.value();
 }
 
-int run_anharmonic(const MoleculeArguments& arguments, const std::string& json_path, const std::string& lines_path,
-                   const std::string& taylor_path) {
+int run_anharmonic(const MoleculeArguments& arguments, const std::string& json_path,
+                   const std::string& lines_path, const std::string& taylor_path) {
   const AnalysedMolecule analysed = run_analysis(arguments);
   const AnalysisResult& analysis = analysed.analysis;
   const Potential& potential = *analysed.potential;
@@ -182,7 +187,8 @@ int run_anharmonic(const MoleculeArguments& arguments, const std::string& json_p
     std::cout << document.dump(2) << "\n";
     return 0;
   }
-  std::cout << modes_table(analysis) << "\n" << anharmonic_report(anharmonic.force_constants, anharmonic.vpt2, report_options);
+  std::cout << modes_table(analysis) << "\n"
+            << anharmonic_report(anharmonic.force_constants, anharmonic.vpt2, report_options);
   if (!json_path.empty()) write_text(json_path, document.dump(2) + "\n");
   return 0;
 }
@@ -192,7 +198,8 @@ int run_families(const MoleculeArguments& arguments, const FamilyArguments& fami
   const AnalysedMolecule analysed = run_analysis(arguments);
   const AnalysisResult& analysis = analysed.analysis;
   const Potential& potential = *analysed.potential;
-  const FamiliesResult families = analyze_families(analysis, potential, families_options(analysis, family_arguments));
+  const FamiliesResult families =
+      analyze_families(analysis, potential, families_options(analysis, family_arguments));
   nlohmann::json document = analysis_to_json(analysis);
   document["families"] = families_to_json(families);
   document["families_summary"] = families_summary_to_json(families);
@@ -204,7 +211,8 @@ int run_families(const MoleculeArguments& arguments, const FamilyArguments& fami
   }
   std::cout << modes_table(analysis) << "\n" << families_text_report(families);
   if (!json_path.empty()) write_text(json_path, document.dump(2) + "\n");
-  if (!written.empty()) std::cout << "\nwrote " << written.size() << " backbone files to " << csv_folder << "\n";
+  if (!written.empty())
+    std::cout << "\nwrote " << written.size() << " backbone files to " << csv_folder << "\n";
   return 0;
 }
 
@@ -278,7 +286,8 @@ int run_analyze(const MoleculeArguments& arguments, const FamilyArguments& famil
       text += "  " + check.summary + "\n";
     }
     document["resonance_cross_check"] = checks;
-    if (!text.empty()) std::cout << "\nFermi 1:2 resonances, perturbative rule against the families:\n" << text;
+    if (!text.empty())
+      std::cout << "\nFermi 1:2 resonances, perturbative rule against the families:\n" << text;
   }
 
   write_text((base / "analysis.json").string(), document.dump(2) + "\n");
@@ -339,11 +348,13 @@ int main(int argc, char** argv) {
   CLI::App* anharmonic = app.add_subcommand(
       "anharmonic", "cubic and quartic force constants, VPT2 levels, resonances and the line list");
   add_molecule_arguments(*anharmonic, anharmonic_arguments);
-  anharmonic->add_option("--json", anharmonic_json_path, "write the JSON document to PATH ('-' for standard output)");
+  anharmonic->add_option("--json", anharmonic_json_path,
+                         "write the JSON document to PATH ('-' for standard output)");
   anharmonic->add_option("--lines", lines_path, "write the line list (CSV) to PATH");
   std::string taylor_path;
-  anharmonic->add_option("--export-taylor", taylor_path,
-                         "write the quartic force field as a Taylor-expansion potential file (normal coordinates)");
+  anharmonic->add_option(
+      "--export-taylor", taylor_path,
+      "write the quartic force field as a Taylor-expansion potential file (normal coordinates)");
 
   MoleculeArguments families_arguments;
   FamilyArguments family_arguments;
@@ -353,7 +364,8 @@ int main(int argc, char** argv) {
       "families", "symmetry-predicted families of nonlinear normal modes and their backbone curves");
   add_molecule_arguments(*families, families_arguments);
   add_family_arguments(*families, family_arguments);
-  families->add_option("--json", families_json_path, "write the JSON document to PATH ('-' for standard output)");
+  families->add_option("--json", families_json_path,
+                       "write the JSON document to PATH ('-' for standard output)");
   families->add_option("--csv", csv_folder, "write one CSV of backbone points per family into this folder");
 
   MoleculeArguments symmetry_arguments;
@@ -372,8 +384,10 @@ int main(int argc, char** argv) {
 
   try {
     if (*modes) return run_modes(modes_arguments, json_path);
-    if (*analyze) return run_analyze(analyze_arguments, analyze_family_arguments, analyze_switches, out_directory);
-    if (*anharmonic) return run_anharmonic(anharmonic_arguments, anharmonic_json_path, lines_path, taylor_path);
+    if (*analyze)
+      return run_analyze(analyze_arguments, analyze_family_arguments, analyze_switches, out_directory);
+    if (*anharmonic)
+      return run_anharmonic(anharmonic_arguments, anharmonic_json_path, lines_path, taylor_path);
     if (*families) return run_families(families_arguments, family_arguments, families_json_path, csv_folder);
     if (*symmetry) return run_symmetry(symmetry_arguments, with_modes);
   } catch (const overtone::Error& error) {

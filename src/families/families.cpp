@@ -1,9 +1,10 @@
 #include "families/families.hpp"
 
-#include <algorithm>
-#include <cmath>
 #include <fmt/format.h>
+
+#include <algorithm>
 #include <chrono>
+#include <cmath>
 #include <numeric>
 
 #include "core/error.hpp"
@@ -14,20 +15,24 @@ void FamiliesOptions::validate() const {
   const bool by_energy = energy_max_cm1 > 0.0;
   const bool by_quanta = quanta > 0.0;
   if (!std::isfinite(energy_max_cm1) || energy_max_cm1 < 0.0)
-    throw Error(fmt::format("families option energy_max_cm1 = {} must be a non-negative energy", energy_max_cm1));
+    throw Error(
+        fmt::format("families option energy_max_cm1 = {} must be a non-negative energy", energy_max_cm1));
   if (!std::isfinite(quanta) || quanta < 0.0)
     throw Error(fmt::format("families option quanta = {} must be non-negative", quanta));
   if (continue_families && by_energy == by_quanta)
-    throw Error(fmt::format("families options need exactly one of energy_max_cm1 (got {}) and quanta (got {}) to be "
-                            "positive",
-                            energy_max_cm1, quanta));
+    throw Error(
+        fmt::format("families options need exactly one of energy_max_cm1 (got {}) and quanta (got {}) to be "
+                    "positive",
+                    energy_max_cm1, quanta));
   if (encounter_max_ratio < 1)
-    throw Error(fmt::format("families option encounter_max_ratio = {} must be at least 1", encounter_max_ratio));
+    throw Error(
+        fmt::format("families option encounter_max_ratio = {} must be at least 1", encounter_max_ratio));
   if (!(enumeration.resonance_window_cm1 >= 0.0))
     throw Error(fmt::format("families option enumeration.resonance_window_cm1 = {} must be non-negative",
                             enumeration.resonance_window_cm1));
   for (const int k : enumeration.resonance_orders)
-    if (k < 1) throw Error(fmt::format("families option enumeration.resonance_orders contains {}, expected >= 1", k));
+    if (k < 1)
+      throw Error(fmt::format("families option enumeration.resonance_orders contains {}, expected >= 1", k));
 }
 
 namespace {
@@ -102,8 +107,9 @@ void add_resonance_encounters(FamiliesResult& result, int max_ratio) {
               event.partner_family = b;
               event.ratio_numerator = p;
               event.ratio_denominator = q;
-              event.message = fmt::format("the frequency ratio with {} passes {}:{} near {:.6g} {}",
-                                          family_name(result, b), p, q, event.energy_cm1, result.units.energy_label);
+              event.message =
+                  fmt::format("the frequency ratio with {} passes {}:{} near {:.6g} {}",
+                              family_name(result, b), p, q, event.energy_cm1, result.units.energy_label);
               found.push_back(std::move(event));
             }
             previous_f = f;
@@ -138,7 +144,8 @@ FamiliesResult compute_families(const VibrationalSystem& system, const std::vect
   if (!options.mode_numbers.empty()) {
     for (const int number : options.mode_numbers) {
       const bool known = std::any_of(result.blocks.begin(), result.blocks.end(), [&](const ModeBlock& block) {
-        return std::find(block.mode_numbers.begin(), block.mode_numbers.end(), number) != block.mode_numbers.end();
+        return std::find(block.mode_numbers.begin(), block.mode_numbers.end(), number) !=
+               block.mode_numbers.end();
       });
       if (!known) throw Error(fmt::format("mode number {} is not among the system's modes", number));
     }
@@ -155,8 +162,9 @@ FamiliesResult compute_families(const VibrationalSystem& system, const std::vect
       });
     }
     if (selected) {
-      family.energy_max = options.energy_max_cm1 > 0.0 ? options.energy_max_cm1 / result.units.cm1_per_energy
-                                                       : (options.quanta + 1.0) * result.units.hbar * block.angular_frequency;
+      family.energy_max = options.energy_max_cm1 > 0.0
+                              ? options.energy_max_cm1 / result.units.cm1_per_energy
+                              : (options.quanta + 1.0) * result.units.hbar * block.angular_frequency;
       family.energy_max_cm1 = family.energy_max * result.units.cm1_per_energy;
       ContinuationOptions continuation = options.continuation;
       continuation.energy_max = family.energy_max;
@@ -199,21 +207,25 @@ FamiliesResult compute_molecular_families(const Potential& potential, const Harm
     result.warnings.push_back("the point group was not used for the families (" + fallback +
                               "); degenerate modes get no predicted families");
   if (species.status != ModeSymmetryStatus::Assigned)
-    result.warnings.push_back("the mode species are ambiguous (" + species.message + "); family labels may be wrong");
+    result.warnings.push_back("the mode species are ambiguous (" + species.message +
+                              "); family labels may be wrong");
   result.notes.push_back(
-      "rotation-vibration coupling is neglected: the orbits are those of H = P^2/2 + V(Q) in the rectilinear normal "
+      "rotation-vibration coupling is neglected: the orbits are those of H = P^2/2 + V(Q) in the rectilinear "
+      "normal "
       "coordinates of the non-rotating molecule");
   if (harmonic.linear)
-    result.notes.push_back(fmt::format("linear molecule: the finite group {} stands in for {}; families that a "
-                                       "rotation about the axis maps onto each other are reported once",
-                                       group.group.finite_name, group.group.name));
+    result.notes.push_back(
+        fmt::format("linear molecule: the finite group {} stands in for {}; families that a "
+                    "rotation about the axis maps onto each other are reported once",
+                    group.group.finite_name, group.group.name));
   // The removed linear term is harmless when far below the forces of the orbits.
   constexpr double residual_gradient_warning = 1e-3;  // kcal/mol/(Å·Da^½)
   if (system.residual_gradient_norm() > residual_gradient_warning)
-    result.warnings.push_back(fmt::format(
-        "the geometry is not a tight minimum (normal-coordinate gradient {:.3g} kcal/mol/(A Da^1/2)); it was removed "
-        "as a linear term",
-        system.residual_gradient_norm()));
+    result.warnings.push_back(
+        fmt::format("the geometry is not a tight minimum (normal-coordinate gradient {:.3g} kcal/mol/(A "
+                    "Da^1/2)); it was removed "
+                    "as a linear term",
+                    system.residual_gradient_norm()));
   return result;
 }
 

@@ -25,9 +25,9 @@ struct FamiliesOptions {
   // Continue only the families of blocks containing one of these mode numbers (empty: all).
   // The other families are still enumerated and reported without backbones.
   std::vector<int> mode_numbers;
-  bool continue_families = true;         // false: enumeration and resonance threats only
+  bool continue_families = true;  // false: enumeration and resonance threats only
   EnumerationOptions enumeration;
-  ContinuationOptions continuation;      // energy_max is set per family from the fields above
+  ContinuationOptions continuation;  // energy_max is set per family from the fields above
   // Resonance encounters between two continued families: their frequency ratio passes
   // p:q with 1 ≤ p, q ≤ encounter_max_ratio (coprime) at equal energy.
   int encounter_max_ratio = 3;
@@ -39,18 +39,18 @@ struct FamiliesOptions {
 
 struct FamilyResult {
   FamilyType type;
-  bool continued = false;                // false: not selected, or continue_families off
-  double energy_max = 0.0;               // system units, the range it was continued to
+  bool continued = false;   // false: not selected, or continue_families off
+  double energy_max = 0.0;  // system units, the range it was continued to
   double energy_max_cm1 = 0.0;
-  ContinuationResult backbone;           // empty unless continued
+  ContinuationResult backbone;  // empty unless continued
 };
 
 struct FamiliesResult {
   std::string system_description;
   UnitConventions units;
   std::vector<ModeBlock> blocks;
-  std::vector<FamilyResult> families;    // by block (ascending frequency), then larger subgroups first
-  std::vector<std::string> notes;        // model assumptions the report must state
+  std::vector<FamilyResult> families;  // by block (ascending frequency), then larger subgroups first
+  std::vector<std::string> notes;      // model assumptions the report must state
   std::vector<std::string> warnings;
   // Totals over all continued families:
   int points = 0;

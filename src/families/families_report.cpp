@@ -1,8 +1,9 @@
 #include "families/families_report.hpp"
 
+#include <fmt/format.h>
+
 #include <algorithm>
 #include <cmath>
-#include <fmt/format.h>
 #include <sstream>
 
 #include "core/error.hpp"
@@ -16,8 +17,10 @@ std::string modes_text(const std::vector<int>& numbers) { return fmt::format("{}
 std::string copies_text(const FamilyType& type, bool short_form = false) {
   if (type.continuous_copies) return short_form ? "all orientations" : "one per orientation about the axis";
   std::string text = std::to_string(type.copies);
-  if (type.time_reversal == TimeReversal::among_copies) text += " (both senses)";
-  else if (type.time_reversal == TimeReversal::separate_partner) text += " + time-reversed";
+  if (type.time_reversal == TimeReversal::among_copies)
+    text += " (both senses)";
+  else if (type.time_reversal == TimeReversal::separate_partner)
+    text += " + time-reversed";
   return text;
 }
 
@@ -28,7 +31,8 @@ std::string phase_text(const PhasedElement& element) {
 
 const FamilyResult& family_at(const FamiliesResult& result, int index) {
   if (index < 0 || index >= static_cast<int>(result.families.size()))
-    throw Error(fmt::format("family index {} is outside 0..{}", index, static_cast<int>(result.families.size()) - 1));
+    throw Error(
+        fmt::format("family index {} is outside 0..{}", index, static_cast<int>(result.families.size()) - 1));
   return result.families[static_cast<std::size_t>(index)];
 }
 
@@ -47,9 +51,10 @@ std::string families_summary(const FamiliesResult& result) {
   for (std::size_t i = 0; i < result.families.size(); ++i) {
     const FamilyResult& family = result.families[i];
     const FamilyType& type = family.type;
-    out << fmt::format("{:>3}  modes {:<8} {:<8} {:<9} copies {:<12} {}\n", i + 1, modes_text(type.mode_numbers),
-                       type.species.empty() ? "-" : type.species, type.standing ? "standing" : "rotating",
-                       copies_text(type, true), family.continued ? to_string(family.backbone.status) : "not continued");
+    out << fmt::format("{:>3}  modes {:<8} {:<8} {:<9} copies {:<12} {}\n", i + 1,
+                       modes_text(type.mode_numbers), type.species.empty() ? "-" : type.species,
+                       type.standing ? "standing" : "rotating", copies_text(type, true),
+                       family.continued ? to_string(family.backbone.status) : "not continued");
   }
   return out.str();
 }
@@ -65,7 +70,8 @@ std::string families_text_report(const FamiliesResult& result) {
   for (const auto& warning : result.warnings) out << "  warning: " << warning << "\n";
   out << "\n";
   out << fmt::format("{:>3}  {:<9} {:<8} {:<9} {:>5}  {:<18} {:>6}  {:>10} {:>10} {:>10}  {}\n", "#", "modes",
-                     "species", "motion", "|H|", "copies", "points", "omega(0)", "omega(max)", "E max", "status");
+                     "species", "motion", "|H|", "copies", "points", "omega(0)", "omega(max)", "E max",
+                     "status");
   for (std::size_t i = 0; i < result.families.size(); ++i) {
     const FamilyResult& family = result.families[i];
     const FamilyType& type = family.type;
@@ -74,14 +80,14 @@ std::string families_text_report(const FamiliesResult& result) {
     if (points.empty()) {
       out << fmt::format("{:>3}  {:<9} {:<8} {:<9} {:>5}  {:<18} {:>6}  {:>10} {:>10} {:>10}  {}\n", i + 1,
                          modes_text(type.mode_numbers), type.species.empty() ? "-" : type.species,
-                         type.standing ? "standing" : "rotating", type.subgroup.size(), copies_text(type, true), 0, "-", "-",
-                         "-", status);
+                         type.standing ? "standing" : "rotating", type.subgroup.size(),
+                         copies_text(type, true), 0, "-", "-", "-", status);
     } else {
-      out << fmt::format("{:>3}  {:<9} {:<8} {:<9} {:>5}  {:<18} {:>6}  {:>10.2f} {:>10.2f} {:>10.1f}  {}\n", i + 1,
-                         modes_text(type.mode_numbers), type.species.empty() ? "-" : type.species,
-                         type.standing ? "standing" : "rotating", type.subgroup.size(), copies_text(type, true),
-                         points.size(), points.front().frequency_cm1, points.back().frequency_cm1,
-                         points.back().energy_cm1, status);
+      out << fmt::format("{:>3}  {:<9} {:<8} {:<9} {:>5}  {:<18} {:>6}  {:>10.2f} {:>10.2f} {:>10.1f}  {}\n",
+                         i + 1, modes_text(type.mode_numbers), type.species.empty() ? "-" : type.species,
+                         type.standing ? "standing" : "rotating", type.subgroup.size(),
+                         copies_text(type, true), points.size(), points.front().frequency_cm1,
+                         points.back().frequency_cm1, points.back().energy_cm1, status);
     }
   }
 
@@ -93,16 +99,19 @@ std::string families_text_report(const FamiliesResult& result) {
                        type.species.empty() ? "" : " (" + type.species + ")", type.description);
     std::vector<std::string> generators;
     for (const PhasedElement& element : type.generators) generators.push_back(phase_text(element));
-    out << fmt::format("  symmetry: subgroup of order {} generated by {}; linear orbit ellipticity {:.3f}\n",
-                       type.subgroup.size(), generators.empty() ? std::string("the identity") :
-                       fmt::format("{}", fmt::join(generators, ", ")), type.ellipticity);
+    out << fmt::format(
+        "  symmetry: subgroup of order {} generated by {}; linear orbit ellipticity {:.3f}\n",
+        type.subgroup.size(),
+        generators.empty() ? std::string("the identity") : fmt::format("{}", fmt::join(generators, ", ")),
+        type.ellipticity);
     out << fmt::format("  copies: {}; time reversal: {}\n", copies_text(type), to_string(type.time_reversal));
     for (const ResonanceThreat& threat : type.resonance_threats)
-      out << fmt::format("  resonance threat: modes {}{} near {}x this frequency (detuning {:+.1f} {}): {}\n",
-                         modes_text(threat.partner_mode_numbers),
-                         threat.partner_species.empty() ? "" : " (" + threat.partner_species + ")", threat.order,
-                         threat.detuning_cm1, unit,
-                         threat.symmetry_allowed ? "allowed by symmetry for this family" : "forbidden by symmetry");
+      out << fmt::format(
+          "  resonance threat: modes {}{} near {}x this frequency (detuning {:+.1f} {}): {}\n",
+          modes_text(threat.partner_mode_numbers),
+          threat.partner_species.empty() ? "" : " (" + threat.partner_species + ")", threat.order,
+          threat.detuning_cm1, unit,
+          threat.symmetry_allowed ? "allowed by symmetry for this family" : "forbidden by symmetry");
     if (!family.continued) {
       out << "  backbone: not continued\n";
       continue;
@@ -111,18 +120,20 @@ std::string families_text_report(const FamiliesResult& result) {
     for (const auto& warning : backbone.warnings) out << "  warning: " << warning << "\n";
     const auto& points = backbone.points;
     if (points.empty()) continue;
-    out << fmt::format("    {} points from {:.4g} to {:.6g} {}; frequency {:.2f} -> {:.2f} {}; largest amplitude "
-                       "{:.4g}{}\n",
-                       points.size(), points.front().energy_cm1, points.back().energy_cm1, unit,
-                       points.front().frequency_cm1, points.back().frequency_cm1, unit, points.back().amplitude,
-                       std::isnan(points.back().amplitude_angstrom)
-                           ? std::string()
-                           : fmt::format(" (largest atomic displacement {:.4f} A)", points.back().amplitude_angstrom));
-    out << fmt::format("    checks: closure error <= {:.1e}, energy drift <= {:.1e}, trajectory symmetry residual "
-                       "<= {:.1e}\n",
-                       largest(backbone, [](const OrbitPoint& p) { return p.closure_error; }),
-                       largest(backbone, [](const OrbitPoint& p) { return p.energy_drift; }),
-                       largest(backbone, [](const OrbitPoint& p) { return p.symmetry_residual; }));
+    out << fmt::format(
+        "    {} points from {:.4g} to {:.6g} {}; frequency {:.2f} -> {:.2f} {}; largest amplitude "
+        "{:.4g}{}\n",
+        points.size(), points.front().energy_cm1, points.back().energy_cm1, unit,
+        points.front().frequency_cm1, points.back().frequency_cm1, unit, points.back().amplitude,
+        std::isnan(points.back().amplitude_angstrom)
+            ? std::string()
+            : fmt::format(" (largest atomic displacement {:.4f} A)", points.back().amplitude_angstrom));
+    out << fmt::format(
+        "    checks: closure error <= {:.1e}, energy drift <= {:.1e}, trajectory symmetry residual "
+        "<= {:.1e}\n",
+        largest(backbone, [](const OrbitPoint& p) { return p.closure_error; }),
+        largest(backbone, [](const OrbitPoint& p) { return p.energy_drift; }),
+        largest(backbone, [](const OrbitPoint& p) { return p.symmetry_residual; }));
     if (!points.front().floquet_multipliers.empty()) {
       const bool always_stable =
           std::all_of(points.begin(), points.end(), [](const OrbitPoint& p) { return p.stable; });
@@ -133,7 +144,8 @@ std::string families_text_report(const FamiliesResult& result) {
     if (!backbone.events.empty()) {
       out << "  events:\n";
       for (const FamilyEvent& event : backbone.events)
-        out << fmt::format("    {:>10.4g} {}  {}: {}\n", event.energy_cm1, unit, to_string(event.kind), event.message);
+        out << fmt::format("    {:>10.4g} {}  {}: {}\n", event.energy_cm1, unit, to_string(event.kind),
+                           event.message);
     }
     if (!backbone.ladder.empty()) {
       out << "  semiclassical ladder (J = (n + 1/2) hbar along this family):\n";
@@ -141,15 +153,17 @@ std::string families_text_report(const FamiliesResult& result) {
       for (const LadderLevel& level : backbone.ladder) {
         if (level.n == 0) continue;
         out << fmt::format("    {:>3} {:>12.2f} {:>12.2f} {:>+10.2f}{}\n", level.n, level.transition_cm1,
-                           level.harmonic_transition_cm1, level.transition_cm1 - level.harmonic_transition_cm1,
+                           level.harmonic_transition_cm1,
+                           level.transition_cm1 - level.harmonic_transition_cm1,
                            level.refined ? "" : "  (interpolated)");
       }
     }
     const double count = static_cast<double>(points.size());
-    out << fmt::format("  cost: {:.1f} Newton iterations, {:.1f} variational and {:.1f} orbit integrations per "
-                       "point; {} gradients; {:.2f} s\n",
-                       backbone.newton_iterations / count, backbone.variational_integrations / count,
-                       backbone.orbit_integrations / count, backbone.gradient_evaluations, backbone.seconds);
+    out << fmt::format(
+        "  cost: {:.1f} Newton iterations, {:.1f} variational and {:.1f} orbit integrations per "
+        "point; {} gradients; {:.2f} s\n",
+        backbone.newton_iterations / count, backbone.variational_integrations / count,
+        backbone.orbit_integrations / count, backbone.gradient_evaluations, backbone.seconds);
   }
   return out.str();
 }
@@ -158,21 +172,24 @@ std::string family_points_csv(const FamiliesResult& result, int family_index) {
   const FamilyResult& family = family_at(result, family_index);
   std::ostringstream out;
   out << "energy_cm1,frequency_cm1,period_fs,action_hbar,amplitude_q,amplitude_angstrom,closure_error,"
-         "energy_drift,symmetry_residual,largest_floquet_modulus,unstable_multipliers,stable,newton_iterations,"
+         "energy_drift,symmetry_residual,largest_floquet_modulus,unstable_multipliers,stable,newton_"
+         "iterations,"
          "variational_integrations,orbit_integrations\n";
   for (const OrbitPoint& p : family.backbone.points) {
-    out << fmt::format("{:.10g},{:.10g},{:.10g},{:.10g},{:.8g},{},{:.3e},{:.3e},{:.3e},{:.10g},{},{},{},{},{}\n",
-                       p.energy_cm1, p.frequency_cm1, p.period_fs, p.action_hbar, p.amplitude,
-                       std::isnan(p.amplitude_angstrom) ? std::string() : fmt::format("{:.8g}", p.amplitude_angstrom),
-                       p.closure_error, p.energy_drift, p.symmetry_residual, p.largest_modulus, p.unstable_count,
-                       p.stable ? 1 : 0, p.newton_iterations, p.variational_integrations, p.orbit_integrations);
+    out << fmt::format(
+        "{:.10g},{:.10g},{:.10g},{:.10g},{:.8g},{},{:.3e},{:.3e},{:.3e},{:.10g},{},{},{},{},{}\n",
+        p.energy_cm1, p.frequency_cm1, p.period_fs, p.action_hbar, p.amplitude,
+        std::isnan(p.amplitude_angstrom) ? std::string() : fmt::format("{:.8g}", p.amplitude_angstrom),
+        p.closure_error, p.energy_drift, p.symmetry_residual, p.largest_modulus, p.unstable_count,
+        p.stable ? 1 : 0, p.newton_iterations, p.variational_integrations, p.orbit_integrations);
   }
   return out.str();
 }
 
 std::string family_csv_file_name(const FamiliesResult& result, int family_index) {
   const FamilyResult& family = family_at(result, family_index);
-  return fmt::format("family-{:02d}-modes-{}.csv", family_index + 1, fmt::join(family.type.mode_numbers, "-"));
+  return fmt::format("family-{:02d}-modes-{}.csv", family_index + 1,
+                     fmt::join(family.type.mode_numbers, "-"));
 }
 
 }  // namespace overtone

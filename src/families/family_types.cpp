@@ -1,9 +1,10 @@
 #include "families/family_types.hpp"
 
+#include <fmt/format.h>
+
 #include <algorithm>
 #include <cmath>
 #include <complex>
-#include <fmt/format.h>
 #include <map>
 #include <numeric>
 #include <set>
@@ -15,9 +16,12 @@ namespace overtone {
 
 const char* to_string(TimeReversal reversal) {
   switch (reversal) {
-    case TimeReversal::same_family: return "same_family";
-    case TimeReversal::among_copies: return "among_copies";
-    case TimeReversal::separate_partner: return "separate_partner";
+    case TimeReversal::same_family:
+      return "same_family";
+    case TimeReversal::among_copies:
+      return "among_copies";
+    case TimeReversal::separate_partner:
+      return "separate_partner";
   }
   return "unknown";
 }
@@ -39,7 +43,8 @@ CoordinateSymmetry symmetry_from_matrices(const std::vector<Eigen::MatrixXd>& ge
   return symmetry;
 }
 
-std::vector<ModeBlock> blocks_by_frequency(const Eigen::VectorXd& angular_frequencies, double relative_tolerance) {
+std::vector<ModeBlock> blocks_by_frequency(const Eigen::VectorXd& angular_frequencies,
+                                           double relative_tolerance) {
   std::vector<int> order(static_cast<std::size_t>(angular_frequencies.size()));
   std::iota(order.begin(), order.end(), 0);
   std::stable_sort(order.begin(), order.end(),
@@ -74,13 +79,13 @@ namespace {
 using Complex = std::complex<double>;
 
 struct BlockAction {
-  Eigen::MatrixXd embedding;               // n × d, unit columns of the block's coordinates
-  std::vector<Eigen::MatrixXd> matrices;   // d × d per element
+  Eigen::MatrixXd embedding;              // n × d, unit columns of the block's coordinates
+  std::vector<Eigen::MatrixXd> matrices;  // d × d per element
   std::vector<double> characters;
 };
 
-BlockAction restrict_to_block(const ModeBlock& block, const CoordinateSymmetry& symmetry, int n, double tolerance,
-                              const std::vector<std::string>& labels) {
+BlockAction restrict_to_block(const ModeBlock& block, const CoordinateSymmetry& symmetry, int n,
+                              double tolerance, const std::vector<std::string>& labels) {
   BlockAction action;
   const int d = static_cast<int>(block.coordinates.size());
   action.embedding = Eigen::MatrixXd::Zero(n, d);
@@ -95,9 +100,10 @@ BlockAction restrict_to_block(const ModeBlock& block, const CoordinateSymmetry& 
     Eigen::MatrixXd restricted = action.embedding.transpose() * image;
     const double leak = (image - action.embedding * restricted).cwiseAbs().maxCoeff();
     if (leak > tolerance)
-      throw Error(fmt::format("the block of modes {} is not invariant under operation {} (leak {:.3g}); the "
-                              "degeneracy tolerance may be too small or the geometry not symmetric",
-                              fmt::join(block.mode_numbers, ","), labels[g], leak));
+      throw Error(
+          fmt::format("the block of modes {} is not invariant under operation {} (leak {:.3g}); the "
+                      "degeneracy tolerance may be too small or the geometry not symmetric",
+                      fmt::join(block.mode_numbers, ","), labels[g], leak));
     action.characters.push_back(restricted.trace());
     action.matrices.push_back(std::move(restricted));
   }
@@ -116,17 +122,20 @@ double fixed_dimension(const std::vector<double>& characters, const Subgroup& su
 }
 
 int rounded_dimension(double value, const std::string& context) {
-  constexpr double integrality_tolerance = 1e-6;  // character sums of orthogonal matrices built in double precision
+  constexpr double integrality_tolerance =
+      1e-6;  // character sums of orthogonal matrices built in double precision
   const double rounded = std::round(value);
   if (std::abs(value - rounded) > integrality_tolerance)
-    throw Error(fmt::format("fixed-space dimension {} is not an integer for {}: the matrices do not represent the "
-                            "group",
-                            value, context));
+    throw Error(
+        fmt::format("fixed-space dimension {} is not an integer for {}: the matrices do not represent the "
+                    "group",
+                    value, context));
   return static_cast<int>(rounded);
 }
 
 // A vector spanning Fix(Σ) in the block (d complex components, unit norm).
-Eigen::VectorXcd fixed_vector(const BlockAction& action, const Subgroup& subgroup, const OneDimensionalCharacter& theta) {
+Eigen::VectorXcd fixed_vector(const BlockAction& action, const Subgroup& subgroup,
+                              const OneDimensionalCharacter& theta) {
   const Eigen::Index d = action.embedding.cols();
   Eigen::MatrixXcd projector = Eigen::MatrixXcd::Zero(d, d);
   for (std::size_t j = 0; j < subgroup.elements.size(); ++j) {
@@ -141,7 +150,7 @@ Eigen::VectorXcd fixed_vector(const BlockAction& action, const Subgroup& subgrou
 
 bool phase_multiple(const Eigen::VectorXcd& image, const Eigen::VectorXcd& v) {
   constexpr double parallel_tolerance = 1e-7;  // matrices accurate to ~1e-10, far from any real stabilizer
-  const Complex c = v.dot(image);  // v unit: c = vᴴ·image
+  const Complex c = v.dot(image);              // v unit: c = vᴴ·image
   return (image - c * v).norm() < parallel_tolerance;
 }
 
@@ -179,17 +188,21 @@ bool is_higher_power(const std::string& label) {
 // proper rotation first. Lower is preferred.
 int shift_preference(const std::string& label, int denominator) {
   int kind = 3;
-  if (starts_with(label, "σ") || starts_with(label, "sigma")) kind = denominator == 2 ? 0 : 2;
-  else if (label == "i") kind = 1;
-  else if (starts_with(label, "C")) kind = denominator == 2 ? 2 : 0;
-  else if (starts_with(label, "S")) kind = denominator == 2 ? 3 : 1;
+  if (starts_with(label, "σ") || starts_with(label, "sigma"))
+    kind = denominator == 2 ? 0 : 2;
+  else if (label == "i")
+    kind = 1;
+  else if (starts_with(label, "C"))
+    kind = denominator == 2 ? 2 : 0;
+  else if (starts_with(label, "S"))
+    kind = denominator == 2 ? 3 : 1;
   return 2 * kind + (is_higher_power(label) ? 1 : 0);
 }
 
 // "the mirror plane σv", or with count > 1 "three mirror planes σv".
 std::string operation_phrase(const std::string& label, int count = 1) {
-  static const char* numbers[] = {"", "one", "two", "three", "four", "five", "six", "seven", "eight", "nine",
-                                  "ten", "eleven", "twelve"};
+  static const char* numbers[] = {"",      "one",   "two",  "three", "four",   "five",  "six",
+                                  "seven", "eight", "nine", "ten",   "eleven", "twelve"};
   const std::string amount = count <= 1 ? "the" : count <= 12 ? numbers[count] : std::to_string(count);
   const bool plural = count > 1;
   if (starts_with(label, "σ") || starts_with(label, "sigma"))
@@ -206,8 +219,10 @@ std::string phrase_list(const std::vector<std::string>& labels) {
   std::vector<std::pair<std::string, int>> groups;
   for (const auto& label : labels) {
     auto found = std::find_if(groups.begin(), groups.end(), [&](const auto& g) { return g.first == label; });
-    if (found == groups.end()) groups.emplace_back(label, 1);
-    else ++found->second;
+    if (found == groups.end())
+      groups.emplace_back(label, 1);
+    else
+      ++found->second;
   }
   auto rank = [](const std::string& label) {
     if (starts_with(label, "σ") || starts_with(label, "sigma")) return 0;
@@ -215,7 +230,8 @@ std::string phrase_list(const std::vector<std::string>& labels) {
     if (starts_with(label, "S")) return 2;
     return 3;
   };
-  std::stable_sort(groups.begin(), groups.end(), [&](const auto& x, const auto& y) { return rank(x.first) < rank(y.first); });
+  std::stable_sort(groups.begin(), groups.end(),
+                   [&](const auto& x, const auto& y) { return rank(x.first) < rank(y.first); });
   constexpr std::size_t shown = 3;
   std::string text;
   for (std::size_t k = 0; k < groups.size() && k < shown; ++k) {
@@ -227,10 +243,14 @@ std::string phrase_list(const std::vector<std::string>& labels) {
 }
 
 std::string period_fraction(int numerator, int denominator) {
-  static const std::map<std::pair<int, int>, std::string> words = {
-      {{1, 2}, "half a period"},     {{1, 3}, "a third of a period"},   {{2, 3}, "two thirds of a period"},
-      {{1, 4}, "a quarter of a period"}, {{3, 4}, "three quarters of a period"}, {{1, 5}, "a fifth of a period"},
-      {{1, 6}, "a sixth of a period"},   {{1, 8}, "an eighth of a period"}};
+  static const std::map<std::pair<int, int>, std::string> words = {{{1, 2}, "half a period"},
+                                                                   {{1, 3}, "a third of a period"},
+                                                                   {{2, 3}, "two thirds of a period"},
+                                                                   {{1, 4}, "a quarter of a period"},
+                                                                   {{3, 4}, "three quarters of a period"},
+                                                                   {{1, 5}, "a fifth of a period"},
+                                                                   {{1, 6}, "a sixth of a period"},
+                                                                   {{1, 8}, "an eighth of a period"}};
   const auto found = words.find({numerator, denominator});
   if (found != words.end()) return found->second;
   return fmt::format("{}/{} of a period", numerator, denominator);
@@ -260,7 +280,8 @@ std::string describe(const FamilyType& family, const std::vector<std::string>& k
   if (whole_group_kept) {
     text += " that every symmetry operation keeps";
   } else if (!kept_operations.empty()) {
-    text += (shift != nullptr || !family.standing ? "; it keeps " : " that keeps ") + phrase_list(kept_operations);
+    text += (shift != nullptr || !family.standing ? "; it keeps " : " that keeps ") +
+            phrase_list(kept_operations);
   }
   return text;
 }
@@ -277,7 +298,8 @@ struct AxialRotation {
 };
 
 // Largest |⟨w, exp(αJ) u⟩| over α (u, w unit): scan then golden-section refinement.
-double best_axial_overlap(const AxialRotation& rotation, const Eigen::VectorXcd& u, const Eigen::VectorXcd& w) {
+double best_axial_overlap(const AxialRotation& rotation, const Eigen::VectorXcd& u,
+                          const Eigen::VectorXcd& w) {
   auto overlap = [&](double alpha) { return std::abs(w.dot(rotation.at(alpha) * u)); };
   constexpr int scan = 720;
   double best = -1.0, best_alpha = 0.0;
@@ -331,7 +353,8 @@ FamilyEnumeration enumerate_families(const std::vector<ModeBlock>& blocks, const
       throw Error(fmt::format("symmetry matrix {} is not orthogonal (largest defect {:.3g})", g, defect));
   }
   if (!symmetry.labels.empty() && static_cast<int>(symmetry.labels.size()) != order)
-    throw Error(fmt::format("the coordinate symmetry has {} labels for {} elements", symmetry.labels.size(), order));
+    throw Error(
+        fmt::format("the coordinate symmetry has {} labels for {} elements", symmetry.labels.size(), order));
   std::vector<std::string> labels = symmetry.labels;
   if (labels.empty())
     for (int g = 0; g < order; ++g) labels.push_back(group.name(g));
@@ -386,11 +409,13 @@ FamilyEnumeration enumerate_families(const std::vector<ModeBlock>& blocks, const
       for (const OneDimensionalCharacter& theta : characters[s]) {
         if (registered.count(theta.phase_numerators)) continue;
         const double dimension = fixed_dimension(action.characters, subgroup, theta, 1);
-        if (rounded_dimension(dimension, fmt::format("modes {}", fmt::join(block.mode_numbers, ","))) != 1) continue;
+        if (rounded_dimension(dimension, fmt::format("modes {}", fmt::join(block.mode_numbers, ","))) != 1)
+          continue;
         const Eigen::VectorXcd v = fixed_vector(action, subgroup, theta);
         bool isotropy = true;
         for (int g = 0; g < order && isotropy; ++g)
-          if (!members.count(g) && phase_multiple(action.matrices[g].cast<Complex>() * v, v)) isotropy = false;
+          if (!members.count(g) && phase_multiple(action.matrices[g].cast<Complex>() * v, v))
+            isotropy = false;
         if (!isotropy) continue;
         // Orbit of θ under the normalizer: θ^g(h) = θ(g⁻¹hg).
         std::set<std::vector<int>> orbit;
@@ -398,14 +423,17 @@ FamilyEnumeration enumerate_families(const std::vector<ModeBlock>& blocks, const
           std::vector<int> conjugated(h_order);
           for (int j = 0; j < h_order; ++j) {
             const int h = subgroup.elements[j];
-            conjugated[j] = theta.phase_numerators[position.at(group.multiply(group.multiply(group.inverse(g), h), g))];
+            conjugated[j] =
+                theta.phase_numerators[position.at(group.multiply(group.multiply(group.inverse(g), h), g))];
           }
           orbit.insert(conjugated);
         }
         const std::vector<int> reversed = negated(theta.phase_numerators, theta.phase_denominator);
         TimeReversal reversal = TimeReversal::separate_partner;
-        if (reversed == theta.phase_numerators) reversal = TimeReversal::same_family;
-        else if (orbit.count(reversed)) reversal = TimeReversal::among_copies;
+        if (reversed == theta.phase_numerators)
+          reversal = TimeReversal::same_family;
+        else if (orbit.count(reversed))
+          reversal = TimeReversal::among_copies;
         registered.insert(orbit.begin(), orbit.end());
         if (reversal == TimeReversal::separate_partner) {
           // The partner's whole orbit is the negation of this one.
@@ -435,11 +463,13 @@ FamilyEnumeration enumerate_families(const std::vector<ModeBlock>& blocks, const
     // A continuous symmetry (a linear molecule's axis) merges families it maps onto each other.
     std::vector<bool> merged(candidates.size(), false);
     if (has_axis) {
-      const Eigen::MatrixXd j_block = action.embedding.transpose() * symmetry.axial_generator * action.embedding;
+      const Eigen::MatrixXd j_block =
+          action.embedding.transpose() * symmetry.axial_generator * action.embedding;
       Eigen::SelfAdjointEigenSolver<Eigen::MatrixXcd> solver(Complex(0.0, 1.0) * j_block.cast<Complex>());
       axial.vectors = solver.eigenvectors();
       axial.values = solver.eigenvalues();
-      constexpr double overlap_tolerance = 1e-6;  // |⟨w, e^{αJ}u⟩| = 1 within round-off for equivalent families
+      constexpr double overlap_tolerance =
+          1e-6;  // |⟨w, e^{αJ}u⟩| = 1 within round-off for equivalent families
       for (std::size_t i = 0; i < candidates.size(); ++i) {
         if (merged[i]) continue;
         const Eigen::VectorXcd& u = candidates[i].block_vector;
@@ -495,16 +525,16 @@ FamilyEnumeration enumerate_families(const std::vector<ModeBlock>& blocks, const
       if (r > 1) {
         for (int j = 0; j < h_order; ++j)
           if (candidate.numerators[j] == static_cast<int>(kernel.size()) &&
-              (shift == nullptr || shift_preference(family.subgroup[j].label, r) <
-                                       shift_preference(shift->label, r))) {
+              (shift == nullptr ||
+               shift_preference(family.subgroup[j].label, r) < shift_preference(shift->label, r))) {
             family.seed.shift_matrix = symmetry.matrices[subgroup.elements[j]];
             shift = &family.subgroup[j];
           }
       }
       // With numerically built matrices (finite-difference Hessians) v lies in Fix(K) only
       // to ~1e-6; the projection makes the seed consistent.
-      family.seed.linear_mode =
-          family.seed.invariant_basis.cast<Complex>() * (family.seed.invariant_basis.transpose().cast<Complex>() * v);
+      family.seed.linear_mode = family.seed.invariant_basis.cast<Complex>() *
+                                (family.seed.invariant_basis.transpose().cast<Complex>() * v);
       family.seed.angular_frequency = block.angular_frequency;
       family.seed.block_dimension = d;
       for (const PhasedElement& element : family.subgroup) {
@@ -530,8 +560,8 @@ FamilyEnumeration enumerate_families(const std::vector<ModeBlock>& blocks, const
       for (std::size_t other = 0; other < blocks.size(); ++other) {
         if (other == b) continue;
         for (const int k : options.resonance_orders) {
-          const double detuning =
-              (blocks[other].angular_frequency - k * block.angular_frequency) * units.cm1_per_angular_frequency;
+          const double detuning = (blocks[other].angular_frequency - k * block.angular_frequency) *
+                                  units.cm1_per_angular_frequency;
           if (std::abs(detuning) > options.resonance_window_cm1) continue;
           ResonanceThreat threat;
           threat.partner_block = static_cast<int>(other);
@@ -539,8 +569,8 @@ FamilyEnumeration enumerate_families(const std::vector<ModeBlock>& blocks, const
           threat.partner_species = blocks[other].species;
           threat.order = k;
           threat.detuning_cm1 = detuning;
-          threat.coupling_dimension = rounded_dimension(fixed_dimension(actions[other].characters, subgroup, theta, k),
-                                                        "a resonance partner block");
+          threat.coupling_dimension = rounded_dimension(
+              fixed_dimension(actions[other].characters, subgroup, theta, k), "a resonance partner block");
           threat.symmetry_allowed = threat.coupling_dimension > 0;
           family.resonance_threats.push_back(std::move(threat));
         }
@@ -552,8 +582,9 @@ FamilyEnumeration enumerate_families(const std::vector<ModeBlock>& blocks, const
           "no family is predicted for the {}-fold degenerate modes {}: no twisted isotropy subgroup has a "
           "one-dimensional fixed space (the group given may not describe their symmetry)",
           d, fmt::join(block.mode_numbers, ",")));
-    std::stable_sort(block_families.begin(), block_families.end(),
-                     [](const FamilyType& x, const FamilyType& y) { return x.subgroup.size() > y.subgroup.size(); });
+    std::stable_sort(
+        block_families.begin(), block_families.end(),
+        [](const FamilyType& x, const FamilyType& y) { return x.subgroup.size() > y.subgroup.size(); });
     for (auto& family : block_families) enumeration.families.push_back(std::move(family));
   }
   return enumeration;

@@ -26,9 +26,9 @@ namespace overtone {
 
 // A finite group acting on the n coordinates of a VibrationalSystem.
 struct CoordinateSymmetry {
-  FiniteGroup group;                       // abstract group; element k acts by matrices[k]
-  std::vector<Eigen::MatrixXd> matrices;   // n × n orthogonal, a homomorphism of the group
-  std::vector<std::string> labels;         // names per element for reports; empty: group.name(k)
+  FiniteGroup group;                      // abstract group; element k acts by matrices[k]
+  std::vector<Eigen::MatrixXd> matrices;  // n × n orthogonal, a homomorphism of the group
+  std::vector<std::string> labels;        // names per element for reports; empty: group.name(k)
   // Generator J (n × n, antisymmetric) of a continuous symmetry exp(αJ) of H, e.g. the
   // rotation of a linear molecule about its axis; empty when there is none. Families
   // that it maps onto each other are reported once.
@@ -59,7 +59,7 @@ std::vector<ModeBlock> blocks_by_frequency(const Eigen::VectorXd& angular_freque
 // An element of the subgroup H of a family with its phase θ(h) = 2π·numerator/denominator
 // (reduced fraction; 0/1 for θ = 0).
 struct PhasedElement {
-  int element = 0;                 // index in the group
+  int element = 0;  // index in the group
   std::string label;
   int numerator = 0;
   int denominator = 1;
@@ -69,8 +69,8 @@ struct ResonanceThreat {
   int partner_block = -1;
   std::vector<int> partner_mode_numbers;
   std::string partner_species;
-  int order = 2;                    // k: the partner's frequency is near k·ω
-  double detuning_cm1 = 0.0;        // ω_partner − k·ω
+  int order = 2;              // k: the partner's frequency is near k·ω
+  double detuning_cm1 = 0.0;  // ω_partner − k·ω
   // The symmetry rule: the twisted subgroup with kθ has a fixed space of this complex
   // dimension in the partner block; allowed when it is nonzero.
   int coupling_dimension = 0;
@@ -85,19 +85,19 @@ enum class TimeReversal {
 const char* to_string(TimeReversal reversal);
 
 struct FamilyType {
-  int block = -1;                          // index into FamilyEnumeration::blocks
-  std::vector<int> mode_numbers;           // of that block
+  int block = -1;                 // index into FamilyEnumeration::blocks
+  std::vector<int> mode_numbers;  // of that block
   std::string species;
-  std::vector<PhasedElement> subgroup;     // every element of H with its phase
-  std::vector<PhasedElement> generators;   // a small generating set of H with phases
-  int copies = 1;                          // conjugate twisted subgroups in G (symmetry copies)
-  bool continuous_copies = false;          // the continuous symmetry moves it: one per orientation
+  std::vector<PhasedElement> subgroup;    // every element of H with its phase
+  std::vector<PhasedElement> generators;  // a small generating set of H with phases
+  int copies = 1;                         // conjugate twisted subgroups in G (symmetry copies)
+  bool continuous_copies = false;         // the continuous symmetry moves it: one per orientation
   TimeReversal time_reversal = TimeReversal::same_family;
-  bool standing = true;                    // the linear orbit is a line segment (else an ellipse)
-  double ellipticity = 0.0;                // minor/major axis of the linear orbit (0 standing, 1 circular)
-  std::string description;                 // plain-language summary of the motion
+  bool standing = true;      // the linear orbit is a line segment (else an ellipse)
+  double ellipticity = 0.0;  // minor/major axis of the linear orbit (0 standing, 1 circular)
+  std::string description;   // plain-language summary of the motion
   std::vector<ResonanceThreat> resonance_threats;
-  FamilySeed seed;                         // what continue_family needs
+  FamilySeed seed;  // what continue_family needs
 };
 
 struct EnumerationOptions {
@@ -114,8 +114,8 @@ struct EnumerationOptions {
 
 struct FamilyEnumeration {
   std::vector<ModeBlock> blocks;
-  std::vector<FamilyType> families;        // by block, then by subgroup order (largest first)
-  std::vector<std::string> warnings;       // e.g. a degenerate block without any predicted family
+  std::vector<FamilyType> families;   // by block, then by subgroup order (largest first)
+  std::vector<std::string> warnings;  // e.g. a degenerate block without any predicted family
 };
 
 // Throws Error for sizes that do not match, matrices that are not orthogonal, blocks that

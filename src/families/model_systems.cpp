@@ -1,7 +1,8 @@
 #include "families/model_systems.hpp"
 
-#include <cmath>
 #include <fmt/format.h>
+
+#include <cmath>
 
 #include "core/error.hpp"
 #include "core/units.hpp"
@@ -18,15 +19,17 @@ void require_positive(double value, const char* what) {
 // ---- Morse -------------------------------------------------------------------------
 
 MorseOscillator::MorseOscillator(double dissociation_energy, double angular_frequency, UnitConventions units)
-    : dissociation_energy_(dissociation_energy), angular_frequency_(angular_frequency), units_(std::move(units)) {
+    : dissociation_energy_(dissociation_energy),
+      angular_frequency_(angular_frequency),
+      units_(std::move(units)) {
   require_positive(dissociation_energy, "morse dissociation energy");
   require_positive(angular_frequency, "morse harmonic angular frequency");
   range_ = angular_frequency_ / std::sqrt(2.0 * dissociation_energy_);
 }
 
 std::string MorseOscillator::description() const {
-  return fmt::format("Morse oscillator, D = {:.6g}, omega0 = {:.6g} ({})", dissociation_energy_, angular_frequency_,
-                     units_.name);
+  return fmt::format("Morse oscillator, D = {:.6g}, omega0 = {:.6g} ({})", dissociation_energy_,
+                     angular_frequency_, units_.name);
 }
 
 Eigen::VectorXd MorseOscillator::harmonic_angular_frequencies() const {
@@ -55,7 +58,8 @@ MorseOscillator morse_from_spectroscopic_constants(double omega_e_cm1, double om
   require_positive(omega_e_x_e_cm1, "omega_e x_e (cm-1)");
   const double dissociation_cm1 = omega_e_cm1 * omega_e_cm1 / (4.0 * omega_e_x_e_cm1);
   return MorseOscillator(dissociation_cm1 * units::kcal_mol_per_cm1,
-                         omega_e_cm1 / units::cm1_per_internal_angular_frequency, molecular_unit_conventions());
+                         omega_e_cm1 / units::cm1_per_internal_angular_frequency,
+                         molecular_unit_conventions());
 }
 
 // ---- cosine (pendulum-like) --------------------------------------------------------
@@ -95,7 +99,8 @@ DuffingOscillator::DuffingOscillator(double angular_frequency, double quartic_co
 }
 
 std::string DuffingOscillator::description() const {
-  return fmt::format("Duffing oscillator, omega = {:.6g}, beta = {:.6g}", angular_frequency_, quartic_coefficient_);
+  return fmt::format("Duffing oscillator, omega = {:.6g}, beta = {:.6g}", angular_frequency_,
+                     quartic_coefficient_);
 }
 
 Eigen::VectorXd DuffingOscillator::harmonic_angular_frequencies() const {
@@ -124,7 +129,9 @@ void DuffingOscillator::compute_hessian_times(const Eigen::VectorXd& q, const Ei
 
 // ---- Hénon–Heiles ------------------------------------------------------------------
 
-std::string HenonHeiles::description() const { return "Henon-Heiles potential V = (x^2+y^2)/2 + x^2 y - y^3/3"; }
+std::string HenonHeiles::description() const {
+  return "Henon-Heiles potential V = (x^2+y^2)/2 + x^2 y - y^3/3";
+}
 
 Eigen::VectorXd HenonHeiles::harmonic_angular_frequencies() const { return Eigen::VectorXd::Ones(2); }
 
@@ -154,7 +161,12 @@ std::vector<Eigen::MatrixXd> HenonHeiles::symmetry_matrices() {
   Eigen::Matrix2d reflection;
   reflection << -1.0, 0.0, 0.0, 1.0;
   const Eigen::Matrix2d identity = Eigen::Matrix2d::Identity();
-  return {identity, rotation, rotation * rotation, reflection, reflection * rotation, reflection * rotation * rotation};
+  return {identity,
+          rotation,
+          rotation * rotation,
+          reflection,
+          reflection * rotation,
+          reflection * rotation * rotation};
 }
 
 std::vector<std::string> HenonHeiles::symmetry_labels() {

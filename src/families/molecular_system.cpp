@@ -1,41 +1,46 @@
 #include "families/molecular_system.hpp"
 
+#include <fmt/format.h>
+
 #include <algorithm>
 #include <chrono>
 #include <cmath>
 #include <limits>
-#include <fmt/format.h>
 
 #include "core/error.hpp"
 
 namespace overtone {
 
-MolecularVibrationalSystem::MolecularVibrationalSystem(const Potential& potential, const HarmonicResult& harmonic,
+MolecularVibrationalSystem::MolecularVibrationalSystem(const Potential& potential,
+                                                       const HarmonicResult& harmonic,
                                                        const MolecularSystemOptions& options)
     : potential_(potential) {
   const Eigen::Index cartesian = harmonic.coordinates_angstrom.size();
-  if (cartesian != static_cast<Eigen::Index>(3 * potential.atom_count()) || harmonic.masses_da.size() * 3 != cartesian ||
-      harmonic.mass_weighted_modes.rows() != cartesian)
-    throw Error(fmt::format("harmonic data for {} coordinates do not match a potential for {} atoms", cartesian,
-                            potential.atom_count()));
+  if (cartesian != static_cast<Eigen::Index>(3 * potential.atom_count()) ||
+      harmonic.masses_da.size() * 3 != cartesian || harmonic.mass_weighted_modes.rows() != cartesian)
+    throw Error(fmt::format("harmonic data for {} coordinates do not match a potential for {} atoms",
+                            cartesian, potential.atom_count()));
   const Eigen::Index modes = harmonic.mass_weighted_modes.cols();
   if (modes < 1 || harmonic.eigenvalues.size() != modes)
-    throw Error(fmt::format("harmonic data have {} modes and {} eigenvalues", modes, harmonic.eigenvalues.size()));
+    throw Error(
+        fmt::format("harmonic data have {} modes and {} eigenvalues", modes, harmonic.eigenvalues.size()));
   if (!(options.finite_difference_step_angstrom > 0.0))
     throw Error(fmt::format("finite_difference_step_angstrom must be positive, got {}",
                             options.finite_difference_step_angstrom));
   for (Eigen::Index k = 0; k < modes; ++k)
     if (!(harmonic.eigenvalues(k) > 0.0))
-      throw Error(fmt::format("mode {} has a non-positive force constant (wavenumber {:.2f} cm-1): periodic-orbit "
-                              "families need a minimum",
-                              k + 1, harmonic.frequencies_cm1(k)));
+      throw Error(
+          fmt::format("mode {} has a non-positive force constant (wavenumber {:.2f} cm-1): periodic-orbit "
+                      "families need a minimum",
+                      k + 1, harmonic.frequencies_cm1(k)));
   if (!(options.escape_energy_cm1 > 0.0))
     throw Error(fmt::format("escape_energy_cm1 must be positive, got {}", options.escape_energy_cm1));
   escape_energy_ = options.escape_energy_cm1 / molecular_unit_conventions().cm1_per_energy;
   equilibrium_ = harmonic.coordinates_angstrom;
   frequencies_ = harmonic.eigenvalues.cwiseSqrt();
   Eigen::VectorXd inverse_sqrt_mass(cartesian);
-  for (Eigen::Index i = 0; i < cartesian; ++i) inverse_sqrt_mass(i) = 1.0 / std::sqrt(harmonic.masses_da(i / 3));
+  for (Eigen::Index i = 0; i < cartesian; ++i)
+    inverse_sqrt_mass(i) = 1.0 / std::sqrt(harmonic.masses_da(i / 3));
   displacement_ = inverse_sqrt_mass.asDiagonal() * harmonic.mass_weighted_modes;
   linear_ = harmonic.linear;
   if (linear_) axial_generator_ = axial_rotation_generator(harmonic);
@@ -51,7 +56,7 @@ MolecularVibrationalSystem::MolecularVibrationalSystem(const Potential& potentia
   if (!analytic_available_ || options.hessian_products == HessianProducts::finite_differences) {
     analytic_threshold_ = n + 1;  // never
   } else if (options.hessian_products == HessianProducts::analytic) {
-    analytic_threshold_ = 0;      // always
+    analytic_threshold_ = 0;  // always
   } else {
     // One Hessian against 2k gradients; the best of a few repetitions damps timer noise.
     using clock = std::chrono::steady_clock;
@@ -61,10 +66,12 @@ MolecularVibrationalSystem::MolecularVibrationalSystem(const Potential& potentia
     for (int repeat = 0; repeat < 3; ++repeat) {
       auto started = clock::now();
       for (int k = 0; k < 4; ++k) potential.energy_and_gradient(equilibrium_, scratch);
-      gradient_seconds = std::min(gradient_seconds, std::chrono::duration<double>(clock::now() - started).count() / 4);
+      gradient_seconds =
+          std::min(gradient_seconds, std::chrono::duration<double>(clock::now() - started).count() / 4);
       started = clock::now();
       potential.hessian(equilibrium_);
-      hessian_seconds = std::min(hessian_seconds, std::chrono::duration<double>(clock::now() - started).count());
+      hessian_seconds =
+          std::min(hessian_seconds, std::chrono::duration<double>(clock::now() - started).count());
     }
     const double ratio = hessian_seconds / std::max(gradient_seconds, 1e-12);
     analytic_threshold_ = std::min(n + 1, static_cast<int>(std::ceil(0.5 * ratio)));
@@ -95,7 +102,8 @@ void MolecularVibrationalSystem::compute_gradient(const Eigen::VectorXd& q, Eige
   g -= residual_gradient_;
 }
 
-void MolecularVibrationalSystem::compute_hessian_times(const Eigen::VectorXd& q, const Eigen::MatrixXd& directions,
+void MolecularVibrationalSystem::compute_hessian_times(const Eigen::VectorXd& q,
+                                                       const Eigen::MatrixXd& directions,
                                                        Eigen::MatrixXd& out) const {
   const int k = static_cast<int>(std::min<Eigen::Index>(directions.cols(), dimension()));
   if (k < analytic_threshold_) {
@@ -115,13 +123,14 @@ Eigen::MatrixXd nearest_orthogonal(const Eigen::MatrixXd& m) {
 
 }  // namespace
 
-CoordinateSymmetry molecular_coordinate_symmetry(const PointGroupResult& group, const HarmonicResult& harmonic,
-                                                 CoordinateFrame frame) {
+CoordinateSymmetry molecular_coordinate_symmetry(const PointGroupResult& group,
+                                                 const HarmonicResult& harmonic, CoordinateFrame frame) {
   const Eigen::MatrixXd& modes = harmonic.mass_weighted_modes;
   if (static_cast<Eigen::Index>(group.permutations.empty() ? 0 : group.permutations.front().size()) * 3 !=
       modes.rows())
     throw Error(fmt::format("point group for {} atoms does not match harmonic data for {} coordinates",
-                            group.permutations.empty() ? 0 : group.permutations.front().size(), modes.rows()));
+                            group.permutations.empty() ? 0 : group.permutations.front().size(),
+                            modes.rows()));
   CoordinateSymmetry symmetry;
   symmetry.group = group.group.finite_group();
   const int n = static_cast<int>(modes.cols());
@@ -132,9 +141,10 @@ CoordinateSymmetry molecular_coordinate_symmetry(const PointGroupResult& group, 
     const Eigen::MatrixXd d = modes.transpose() * apply_operation(group, g, modes, frame);
     const double defect = (d.transpose() * d - Eigen::MatrixXd::Identity(n, n)).cwiseAbs().maxCoeff();
     if (defect > orthogonality_limit)
-      throw Error(fmt::format("operation {} does not map the vibrational coordinates onto themselves (defect {:.3g}); "
-                              "the harmonic geometry does not have the symmetry of {}",
-                              group.group.operations[g].name, defect, group.group.name));
+      throw Error(fmt::format(
+          "operation {} does not map the vibrational coordinates onto themselves (defect {:.3g}); "
+          "the harmonic geometry does not have the symmetry of {}",
+          group.group.operations[g].name, defect, group.group.name));
     symmetry.matrices.push_back(nearest_orthogonal(d));
     symmetry.labels.push_back(group.group.operations[g].name);
   }
@@ -164,7 +174,8 @@ std::vector<Eigen::MatrixXd> MolecularVibrationalSystem::symmetry_generators() c
   return {axial_generator_};
 }
 
-std::vector<ModeBlock> molecular_mode_blocks(const ModeSymmetryResult& species, const HarmonicResult& harmonic,
+std::vector<ModeBlock> molecular_mode_blocks(const ModeSymmetryResult& species,
+                                             const HarmonicResult& harmonic,
                                              const std::vector<int>& mode_order) {
   const int n = static_cast<int>(harmonic.mode_count());
   std::vector<int> number(static_cast<std::size_t>(n));

@@ -29,8 +29,8 @@ enum class HessianProducts {
   // 2·min(k, n) gradients measured once at construction (potentials without an
   // analytic Hessian always use differences). Results agree to ~1e-7 relative.
   automatic,
-  analytic,             // the potential's analytic Hessian (Error if it has none)
-  finite_differences,   // central differences of gradients
+  analytic,            // the potential's analytic Hessian (Error if it has none)
+  finite_differences,  // central differences of gradients
 };
 
 struct MolecularSystemOptions {
@@ -80,12 +80,12 @@ class MolecularVibrationalSystem : public VibrationalSystem {
  private:
   const Potential& potential_;
   Eigen::VectorXd equilibrium_;
-  Eigen::MatrixXd displacement_;      // C = M^{-1/2} L
+  Eigen::MatrixXd displacement_;  // C = M^{-1/2} L
   Eigen::VectorXd frequencies_;
-  Eigen::VectorXd residual_gradient_; // Cᵀ g_eq
+  Eigen::VectorXd residual_gradient_;  // Cᵀ g_eq
   double reference_energy_ = 0.0;
   bool linear_ = false;
-  Eigen::MatrixXd axial_generator_;   // linear molecules only
+  Eigen::MatrixXd axial_generator_;  // linear molecules only
   bool analytic_available_ = false;
   // Use the analytic Hessian for k directions when k ≥ analytic_threshold_ (measured).
   int analytic_threshold_ = 0;
@@ -101,8 +101,8 @@ class MolecularVibrationalSystem : public VibrationalSystem {
 // geometry. For linear molecules the generator of rotations about the molecular axis is
 // added. Throws Error when the sizes disagree or a D(g) is far from orthogonal (the
 // harmonic geometry does not have the group's symmetry).
-CoordinateSymmetry molecular_coordinate_symmetry(const PointGroupResult& group, const HarmonicResult& harmonic,
-                                                 CoordinateFrame frame);
+CoordinateSymmetry molecular_coordinate_symmetry(const PointGroupResult& group,
+                                                 const HarmonicResult& harmonic, CoordinateFrame frame);
 
 // Generator of rotations about the molecular axis acting on the normal coordinates,
 // Lᵀ(I ⊗ [a]×)L with a the axis of the (linear) harmonic geometry; antisymmetric n × n.
@@ -111,7 +111,8 @@ Eigen::MatrixXd axial_rotation_generator(const HarmonicResult& harmonic);
 // Blocks of normal coordinates from the symmetry stage's degenerate sets, with species
 // labels and report numbers: mode_order[k] is the harmonic index of reported mode k+1
 // (AnalysisResult::mode_order); empty: numbers are harmonic index + 1.
-std::vector<ModeBlock> molecular_mode_blocks(const ModeSymmetryResult& species, const HarmonicResult& harmonic,
+std::vector<ModeBlock> molecular_mode_blocks(const ModeSymmetryResult& species,
+                                             const HarmonicResult& harmonic,
                                              const std::vector<int>& mode_order = {});
 
 }  // namespace overtone

@@ -1,12 +1,12 @@
 #include "families/orbit_integrator.hpp"
 
-#include "core/error.hpp"
-
 #include <algorithm>
 #include <boost/numeric/odeint.hpp>
 #include <chrono>
 #include <cmath>
 #include <map>
+
+#include "core/error.hpp"
 
 namespace overtone::detail {
 
@@ -19,10 +19,14 @@ using State = std::vector<double>;
 // State layout: â (m), b̂ (m), Ĵ (1), then X̂ and Ŷ (c × 2c each, column-major).
 class ScaledEquations {
  public:
-  ScaledEquations(const VibrationalSystem& system, const Eigen::MatrixXd& basis, const Eigen::MatrixXd* variational,
-                  const OrbitScaling& scaling)
-      : system_(system), basis_(basis), variational_(variational), scaling_(scaling),
-        m_(static_cast<int>(basis.cols())), c_(variational ? static_cast<int>(variational->cols()) : 0) {}
+  ScaledEquations(const VibrationalSystem& system, const Eigen::MatrixXd& basis,
+                  const Eigen::MatrixXd* variational, const OrbitScaling& scaling)
+      : system_(system),
+        basis_(basis),
+        variational_(variational),
+        scaling_(scaling),
+        m_(static_cast<int>(basis.cols())),
+        c_(variational ? static_cast<int>(variational->cols()) : 0) {}
 
   void operator()(const State& x, State& dxdt, double /*t*/) {
     const double omega = scaling_.angular_frequency;
@@ -64,15 +68,21 @@ class ScaledEquations {
 
 OrbitIntegrator::OrbitIntegrator(const VibrationalSystem& system, Eigen::MatrixXd basis, double tolerance,
                                  double variational_tolerance, double escape_radius, std::size_t max_steps)
-    : system_(system), basis_(std::move(basis)), tolerance_(tolerance), variational_tolerance_(variational_tolerance),
-      escape_radius_(escape_radius), max_steps_(max_steps) {}
+    : system_(system),
+      basis_(std::move(basis)),
+      tolerance_(tolerance),
+      variational_tolerance_(variational_tolerance),
+      escape_radius_(escape_radius),
+      max_steps_(max_steps) {}
 
-Eigen::VectorXd OrbitIntegrator::positions(const Eigen::VectorXd& scaled_state, const OrbitScaling& scaling) const {
+Eigen::VectorXd OrbitIntegrator::positions(const Eigen::VectorXd& scaled_state,
+                                           const OrbitScaling& scaling) const {
   const int m = reduced_dimension();
   return scaling.length * (basis_ * scaled_state.head(m));
 }
 
-Eigen::VectorXd OrbitIntegrator::momenta(const Eigen::VectorXd& scaled_state, const OrbitScaling& scaling) const {
+Eigen::VectorXd OrbitIntegrator::momenta(const Eigen::VectorXd& scaled_state,
+                                         const OrbitScaling& scaling) const {
   const int m = reduced_dimension();
   return scaling.angular_frequency * scaling.length * (basis_ * scaled_state.segment(m, m));
 }
@@ -88,7 +98,8 @@ Eigen::VectorXd OrbitIntegrator::scaled_velocity(const Eigen::VectorXd& scaled_s
   return velocity;
 }
 
-IntegrationOutcome OrbitIntegrator::integrate(const IntegrationRequest& request, const OrbitScaling& scaling) {
+IntegrationOutcome OrbitIntegrator::integrate(const IntegrationRequest& request,
+                                              const OrbitScaling& scaling) {
   namespace odeint = boost::numeric::odeint;
   const auto started = std::chrono::steady_clock::now();
   const int m = reduced_dimension();
@@ -136,7 +147,8 @@ IntegrationOutcome OrbitIntegrator::integrate(const IntegrationRequest& request,
         // A potential that refuses a point (the hole guard of a Taylor expansion that has
         // turned over) ends this orbit like an escape, with the potential's reason.
         ok = false;
-        outcome.failure = std::string("escape: the potential refused to evaluate the orbit (") + refusal.what() + ")";
+        outcome.failure =
+            std::string("escape: the potential refused to evaluate the orbit (") + refusal.what() + ")";
         break;
       }
       if (step_result == odeint::success) {
@@ -165,7 +177,8 @@ IntegrationOutcome OrbitIntegrator::integrate(const IntegrationRequest& request,
       }
     }
     t = target;
-    if (ok && request.sample_count > 0) outcome.samples.push_back(Eigen::Map<const Eigen::VectorXd>(x.data(), 2 * m));
+    if (ok && request.sample_count > 0)
+      outcome.samples.push_back(Eigen::Map<const Eigen::VectorXd>(x.data(), 2 * m));
   }
   if (ok && outcome.steps > 0) hint = dt / duration;
 
@@ -174,7 +187,8 @@ IntegrationOutcome OrbitIntegrator::integrate(const IntegrationRequest& request,
   outcome.momentum_square_integral = x[2 * m] * scaling.angular_frequency * scaling.length * scaling.length;
   if (variational) {
     Eigen::Map<const Eigen::MatrixXd> X(x.data() + 2 * m + 1, c, 2 * c);
-    Eigen::Map<const Eigen::MatrixXd> Y(x.data() + 2 * m + 1 + static_cast<Eigen::Index>(c) * 2 * c, c, 2 * c);
+    Eigen::Map<const Eigen::MatrixXd> Y(x.data() + 2 * m + 1 + static_cast<Eigen::Index>(c) * 2 * c, c,
+                                        2 * c);
     outcome.transition.resize(2 * c, 2 * c);
     outcome.transition.topRows(c) = X;
     outcome.transition.bottomRows(c) = Y;
@@ -205,11 +219,12 @@ bool interpolated_transition(const VibrationalSystem& system, const Interpolated
   const int count = static_cast<int>(samples.size());
   const Eigen::MatrixXd& basis = *request.variational_basis;
   const int c = static_cast<int>(basis.cols());
-  constexpr int stencil = 8;        // 8-point Lagrange: error ~ (ωh)⁸/8! of the Hessian's scale
+  constexpr int stencil = 8;  // 8-point Lagrange: error ~ (ωh)⁸/8! of the Hessian's scale
   constexpr int before = stencil / 2 - 1;
   const double node_spacing = request.spacing * request.node_stride;
   const int last_interval = static_cast<int>(std::ceil(request.duration / node_spacing - 1e-9));
-  const int first_node = -before - 1, last_node = last_interval + stencil / 2 + 1;  // one spare each side for the test
+  const int first_node = -before - 1,
+            last_node = last_interval + stencil / 2 + 1;  // one spare each side for the test
   if (count < 2 * stencil) return false;
 
   // Nodes beyond the period wrap onto earlier samples (the orbit is periodic); each
@@ -230,7 +245,9 @@ bool interpolated_transition(const VibrationalSystem& system, const Interpolated
     evaluated[index] = nodes.size();
     nodes.push_back(0.5 * (projected + projected.transpose()));
   }
-  auto node = [&](int k) -> const Eigen::MatrixXd& { return nodes[static_cast<std::size_t>(k - first_node)]; };
+  auto node = [&](int k) -> const Eigen::MatrixXd& {
+    return nodes[static_cast<std::size_t>(k - first_node)];
+  };
   auto weights = [](double x, int start, const std::vector<int>& abscissae, std::vector<double>& w) {
     w.assign(abscissae.size(), 1.0);
     for (std::size_t i = 0; i < abscissae.size(); ++i)
@@ -261,7 +278,7 @@ bool interpolated_transition(const VibrationalSystem& system, const Interpolated
   auto equations = [&](const State& x, State& dxdt, double t) {
     const double position = t / node_spacing;
     const int start = std::max(first_node + 1, std::min(static_cast<int>(std::floor(position)) - before,
-                                                         last_node - 1 - (stencil - 1)));
+                                                        last_node - 1 - (stencil - 1)));
     weights(position, start, offsets, lagrange);
     hessian.setZero();
     for (int i = 0; i < stencil; ++i) hessian += lagrange[static_cast<std::size_t>(i)] * node(start + i);
@@ -277,7 +294,8 @@ bool interpolated_transition(const VibrationalSystem& system, const Interpolated
     X.leftCols(c).setIdentity();
     Y.rightCols(c).setIdentity();
   }
-  auto stepper = odeint::make_controlled(request.tolerance, request.tolerance, odeint::runge_kutta_fehlberg78<State>());
+  auto stepper =
+      odeint::make_controlled(request.tolerance, request.tolerance, odeint::runge_kutta_fehlberg78<State>());
   steps = odeint::integrate_adaptive(stepper, equations, x, 0.0, request.duration, node_spacing);
   transition.resize(2 * c, 2 * c);
   transition.topRows(c) = Eigen::Map<const Eigen::MatrixXd>(x.data(), c, 2 * c);

@@ -28,19 +28,19 @@ struct OrbitScaling {
 };
 
 struct IntegrationRequest {
-  Eigen::VectorXd scaled_state;    // (â, b̂), 2m
-  double duration = 0.0;           // physical time units, > 0
+  Eigen::VectorXd scaled_state;                        // (â, b̂), 2m
+  double duration = 0.0;                               // physical time units, > 0
   const Eigen::MatrixXd* variational_basis = nullptr;  // C; null: no variational equations
-  int sample_count = 0;            // > 0: record the state at sample_count+1 equally spaced times
+  int sample_count = 0;  // > 0: record the state at sample_count+1 equally spaced times
 };
 
 struct IntegrationOutcome {
   bool ok = false;
-  std::string failure;                      // why not ok (escape, step limit, non-finite state)
-  Eigen::VectorXd scaled_state;             // (â, b̂) at the end
-  Eigen::MatrixXd transition;               // Φ̂, 2c × 2c, when requested
-  double momentum_square_integral = 0.0;    // ∫|p|² dt over the duration, physical units
-  std::vector<Eigen::VectorXd> samples;     // scaled states at the sample times (first = start)
+  std::string failure;                    // why not ok (escape, step limit, non-finite state)
+  Eigen::VectorXd scaled_state;           // (â, b̂) at the end
+  Eigen::MatrixXd transition;             // Φ̂, 2c × 2c, when requested
+  double momentum_square_integral = 0.0;  // ∫|p|² dt over the duration, physical units
+  std::vector<Eigen::VectorXd> samples;   // scaled states at the sample times (first = start)
   std::size_t steps = 0;
   std::size_t rejected_steps = 0;
   double seconds = 0.0;
@@ -72,9 +72,9 @@ struct InterpolatedTransitionRequest {
   double spacing = 0.0;
   double duration = 0.0;
   int node_stride = 1;
-  const Eigen::MatrixXd* variational_basis = nullptr;       // C, n × c
-  double angular_frequency = 1.0;                           // ω₀ of the scaling
-  double tolerance = 1e-9;                                  // integrator, per step
+  const Eigen::MatrixXd* variational_basis = nullptr;  // C, n × c
+  double angular_frequency = 1.0;                      // ω₀ of the scaling
+  double tolerance = 1e-9;                             // integrator, per step
   double interpolation_tolerance = 1e-7;
 };
 bool interpolated_transition(const VibrationalSystem& system, const InterpolatedTransitionRequest& request,

@@ -1,9 +1,10 @@
 #include "families/periodic_orbits.hpp"
 
+#include <fmt/format.h>
+
 #include <algorithm>
 #include <chrono>
 #include <cmath>
-#include <fmt/format.h>
 #include <numeric>
 #include <optional>
 
@@ -15,26 +16,40 @@ namespace overtone {
 
 const char* to_string(ContinuationStatus status) {
   switch (status) {
-    case ContinuationStatus::reached_energy_max: return "reached_energy_max";
-    case ContinuationStatus::escaped: return "escaped";
-    case ContinuationStatus::step_too_small: return "step_too_small";
-    case ContinuationStatus::point_limit: return "point_limit";
-    case ContinuationStatus::start_failed: return "start_failed";
-    case ContinuationStatus::turned_back: return "turned_back";
+    case ContinuationStatus::reached_energy_max:
+      return "reached_energy_max";
+    case ContinuationStatus::escaped:
+      return "escaped";
+    case ContinuationStatus::step_too_small:
+      return "step_too_small";
+    case ContinuationStatus::point_limit:
+      return "point_limit";
+    case ContinuationStatus::start_failed:
+      return "start_failed";
+    case ContinuationStatus::turned_back:
+      return "turned_back";
   }
   return "unknown";
 }
 
 const char* to_string(FamilyEventKind kind) {
   switch (kind) {
-    case FamilyEventKind::fold: return "fold";
-    case FamilyEventKind::stability_lost: return "stability_lost";
-    case FamilyEventKind::stability_gained: return "stability_gained";
-    case FamilyEventKind::period_doubling: return "period_doubling";
-    case FamilyEventKind::branch_point: return "branch_point";
-    case FamilyEventKind::instability_changed: return "instability_changed";
-    case FamilyEventKind::resonance_encounter: return "resonance_encounter";
-    case FamilyEventKind::escape: return "escape";
+    case FamilyEventKind::fold:
+      return "fold";
+    case FamilyEventKind::stability_lost:
+      return "stability_lost";
+    case FamilyEventKind::stability_gained:
+      return "stability_gained";
+    case FamilyEventKind::period_doubling:
+      return "period_doubling";
+    case FamilyEventKind::branch_point:
+      return "branch_point";
+    case FamilyEventKind::instability_changed:
+      return "instability_changed";
+    case FamilyEventKind::resonance_encounter:
+      return "resonance_encounter";
+    case FamilyEventKind::escape:
+      return "escape";
   }
   return "unknown";
 }
@@ -42,7 +57,8 @@ const char* to_string(FamilyEventKind kind) {
 namespace {
 
 void require(bool condition, const std::string& field, double value, const char* constraint) {
-  if (!condition) throw Error(fmt::format("continuation option {} = {} must be {}", field, value, constraint));
+  if (!condition)
+    throw Error(fmt::format("continuation option {} = {} must be {}", field, value, constraint));
 }
 
 }  // namespace
@@ -69,14 +85,14 @@ void validate(const ContinuationOptions& o) {
   require(o.variational_nodes_per_period >= 0, "variational_nodes_per_period", o.variational_nodes_per_period,
           "non-negative");
   require(o.samples_per_period >= 16, "samples_per_period", o.samples_per_period, "at least 16");
-  require(o.partner_resolution >= 0.0 && o.partner_resolution < 0.5, "partner_resolution", o.partner_resolution,
-          "in [0, 0.5)");
-  require(o.stability_tolerance > 0.0 && o.stability_tolerance < 0.1, "stability_tolerance", o.stability_tolerance,
-          "in (0, 0.1)");
+  require(o.partner_resolution >= 0.0 && o.partner_resolution < 0.5, "partner_resolution",
+          o.partner_resolution, "in [0, 0.5)");
+  require(o.stability_tolerance > 0.0 && o.stability_tolerance < 0.1, "stability_tolerance",
+          o.stability_tolerance, "in (0, 0.1)");
   require(o.escape_radius_factor > 1.0, "escape_radius_factor", o.escape_radius_factor, "above 1");
   require(o.max_period_factor > 1.0, "max_period_factor", o.max_period_factor, "above 1");
-  require(o.max_integration_steps >= 100, "max_integration_steps", static_cast<double>(o.max_integration_steps),
-          "at least 100");
+  require(o.max_integration_steps >= 100, "max_integration_steps",
+          static_cast<double>(o.max_integration_steps), "at least 100");
   require(o.ladder_max_level >= 0, "ladder_max_level", o.ladder_max_level, "non-negative");
   require(o.ladder_tolerance >= 0.0 && o.ladder_tolerance < 0.1, "ladder_tolerance", o.ladder_tolerance,
           "in [0, 0.1)");
@@ -93,13 +109,13 @@ struct Unknowns {
 };
 
 struct CorrectorSetup {
-  double length = 1.0;                 // ℓ of the scaling used throughout this corrector
-  double time_scale = 1.0;             // t_s: the period enters as τ = T / t_s
+  double length = 1.0;      // ℓ of the scaling used throughout this corrector
+  double time_scale = 1.0;  // t_s: the period enters as τ = T / t_s
   bool fixed_energy = true;
   double target_energy = 0.0;
-  Eigen::VectorXd phase_reference;     // scaled (â, b̂)
-  Eigen::VectorXd phase_direction;     // unit, 2m
-  Eigen::VectorXd tangent;             // scaled (â, b̂, τ, Ê): arclength mode only
+  Eigen::VectorXd phase_reference;  // scaled (â, b̂)
+  Eigen::VectorXd phase_direction;  // unit, 2m
+  Eigen::VectorXd tangent;          // scaled (â, b̂, τ, Ê): arclength mode only
   Eigen::VectorXd predicted;
 };
 
@@ -108,7 +124,7 @@ struct CorrectorOutcome {
   std::string failure;
   bool escaped = false;
   Unknowns solution;
-  double action = 0.0;                 // J of the converged orbit
+  double action = 0.0;  // J of the converged orbit
   int iterations = 0;
   int variational_integrations = 0;
   int orbit_integrations = 0;
@@ -123,7 +139,8 @@ struct PointAnalysis {
 
 double cubic_hermite_component(double v0, double d0, double v1, double d1, double h, double s) {
   const double s2 = s * s, s3 = s2 * s;
-  return (2 * s3 - 3 * s2 + 1) * v0 + (s3 - 2 * s2 + s) * h * d0 + (-2 * s3 + 3 * s2) * v1 + (s3 - s2) * h * d1;
+  return (2 * s3 - 3 * s2 + 1) * v0 + (s3 - 2 * s2 + s) * h * d0 + (-2 * s3 + 3 * s2) * v1 +
+         (s3 - s2) * h * d1;
 }
 
 // Largest value over t of a norm of a vector function sampled at equally spaced times
@@ -131,8 +148,8 @@ double cubic_hermite_component(double v0, double d0, double v1, double d1, doubl
 // the best sample is refined on the cubic Hermite interpolant of its two neighbouring
 // intervals by golden-section search. The norm is the largest Euclidean norm of the
 // consecutive blocks of block_size components (block_size = length: plain norm).
-double refined_maximum(const std::vector<Eigen::VectorXd>& values, const std::vector<Eigen::VectorXd>& derivatives,
-                       double h, int block_size) {
+double refined_maximum(const std::vector<Eigen::VectorXd>& values,
+                       const std::vector<Eigen::VectorXd>& derivatives, double h, int block_size) {
   const int count = static_cast<int>(values.size());
   auto block_norm = [block_size](const Eigen::VectorXd& v) {
     double best = 0.0;
@@ -223,8 +240,8 @@ class FamilySolver {
   // step changes it by a bounded fraction even where it diverges (near a separatrix).
   static double time_scale_for(double period) { return period / (2.0 * units::pi); }
   // monodromy in scaled coordinates at the orbit's initial state (q, p).
-  void classify_multipliers(const Eigen::MatrixXd& monodromy, const Eigen::VectorXd& q, const Eigen::VectorXd& p,
-                            double length, OrbitPoint& point) const;
+  void classify_multipliers(const Eigen::MatrixXd& monodromy, const Eigen::VectorXd& q,
+                            const Eigen::VectorXd& p, double length, OrbitPoint& point) const;
   void detect_events(ContinuationResult& result) const;
   void build_ladder(ContinuationResult& result);
   void fill_converted(OrbitPoint& point) const;
@@ -238,14 +255,14 @@ class FamilySolver {
   UnitConventions units_;
   int n_ = 0, m_ = 0, r_ = 1;
   double omega_ = 1.0;
-  Eigen::MatrixXd basis_;           // B
-  Eigen::MatrixXd shift_full_;      // D(g), n × n
-  Eigen::MatrixXd shift_phase_;     // blockdiag(Bᵀ D B, Bᵀ D B), 2m × 2m
+  Eigen::MatrixXd basis_;        // B
+  Eigen::MatrixXd shift_full_;   // D(g), n × n
+  Eigen::MatrixXd shift_phase_;  // blockdiag(Bᵀ D B, Bᵀ D B), 2m × 2m
   Eigen::MatrixXd identity_n_;
   int sample_count_ = 128;
   double escape_radius_ = 0.0;
   std::optional<detail::OrbitIntegrator> integrator_;
-  Eigen::MatrixXd hint_;            // Φ̂ (2m × 2m) for chord steps
+  Eigen::MatrixXd hint_;  // Φ̂ (2m × 2m) for chord steps
   bool have_hint_ = false;
   std::vector<Unknowns> accepted_;  // parallel to result points
   std::vector<Eigen::MatrixXd> accepted_transitions_;
@@ -253,7 +270,8 @@ class FamilySolver {
   std::string last_integration_failure_;
 };
 
-FamilySolver::FamilySolver(const VibrationalSystem& system, const FamilySeed& seed, const ContinuationOptions& options)
+FamilySolver::FamilySolver(const VibrationalSystem& system, const FamilySeed& seed,
+                           const ContinuationOptions& options)
     : system_(system), seed_(seed), options_(options), units_(system.units()) {
   validate(options);
   n_ = system.dimension();
@@ -262,7 +280,8 @@ FamilySolver::FamilySolver(const VibrationalSystem& system, const FamilySeed& se
     throw Error(fmt::format("family seed linear mode has length {}, expected the system dimension {}",
                             seed.linear_mode.size(), n_));
   if (!(seed.angular_frequency > 0.0) || !std::isfinite(seed.angular_frequency))
-    throw Error(fmt::format("family seed angular frequency must be positive, got {}", seed.angular_frequency));
+    throw Error(
+        fmt::format("family seed angular frequency must be positive, got {}", seed.angular_frequency));
   omega_ = seed.angular_frequency;
   constexpr double structure_tolerance = 1e-8;  // round-off in bases built by eigensolvers
   basis_ = seed.invariant_basis.size() == 0 ? Eigen::MatrixXd::Identity(n_, n_) : seed.invariant_basis;
@@ -270,16 +289,19 @@ FamilySolver::FamilySolver(const VibrationalSystem& system, const FamilySeed& se
     throw Error(fmt::format("family seed invariant basis is {}x{}, expected {} rows and 1..{} columns",
                             basis_.rows(), basis_.cols(), n_, n_));
   m_ = static_cast<int>(basis_.cols());
-  const double orthonormality = (basis_.transpose() * basis_ - Eigen::MatrixXd::Identity(m_, m_)).cwiseAbs().maxCoeff();
+  const double orthonormality =
+      (basis_.transpose() * basis_ - Eigen::MatrixXd::Identity(m_, m_)).cwiseAbs().maxCoeff();
   if (orthonormality > structure_tolerance)
-    throw Error(fmt::format("family seed invariant basis is not orthonormal (largest defect {:.3g})", orthonormality));
+    throw Error(fmt::format("family seed invariant basis is not orthonormal (largest defect {:.3g})",
+                            orthonormality));
   const double mode_norm = seed.linear_mode.norm();
   if (!(mode_norm > 0.0)) throw Error("family seed linear mode is zero");
   const Eigen::VectorXcd outside = seed.linear_mode - basis_ * (basis_.transpose() * seed.linear_mode);
   constexpr double subspace_tolerance = 1e-4;  // seeds from numerically symmetric molecules are projected
   if (outside.norm() > subspace_tolerance * mode_norm)
-    throw Error(fmt::format("family seed linear mode lies outside its invariant subspace (relative part {:.3g})",
-                            outside.norm() / mode_norm));
+    throw Error(
+        fmt::format("family seed linear mode lies outside its invariant subspace (relative part {:.3g})",
+                    outside.norm() / mode_norm));
   r_ = seed.shift_denominator;
   if (r_ < 1) throw Error(fmt::format("family seed shift denominator must be at least 1, got {}", r_));
   identity_n_ = Eigen::MatrixXd::Identity(n_, n_);
@@ -297,17 +319,18 @@ FamilySolver::FamilySolver(const VibrationalSystem& system, const FamilySeed& se
   int denominators = r_;
   for (const auto& check : seed.checks) {
     if (check.denominator < 1 || check.matrix.rows() != n_ || check.matrix.cols() != n_)
-      throw Error(fmt::format("trajectory symmetry '{}' needs an {}x{} matrix and a positive denominator", check.label,
-                              n_, n_));
+      throw Error(fmt::format("trajectory symmetry '{}' needs an {}x{} matrix and a positive denominator",
+                              check.label, n_, n_));
     denominators = std::lcm(denominators, check.denominator);
   }
   sample_count_ = denominators * ((options.samples_per_period + denominators - 1) / denominators);
   const Eigen::VectorXd frequencies = system.harmonic_angular_frequencies();
   const double softest = frequencies.size() > 0 ? frequencies.minCoeff() : omega_;
-  if (!(softest > 0.0)) throw Error(fmt::format("harmonic angular frequencies must be positive, got {}", softest));
+  if (!(softest > 0.0))
+    throw Error(fmt::format("harmonic angular frequencies must be positive, got {}", softest));
   escape_radius_ = options.escape_radius_factor * std::sqrt(2.0 * options.energy_max) / softest;
-  integrator_.emplace(system, basis_, options.integration_tolerance, options.variational_tolerance, escape_radius_,
-                      options.max_integration_steps);
+  integrator_.emplace(system, basis_, options.integration_tolerance, options.variational_tolerance,
+                      escape_radius_, options.max_integration_steps);
 }
 
 Eigen::VectorXd FamilySolver::scaled_state(const Unknowns& u, double length) const {
@@ -371,8 +394,10 @@ CorrectorOutcome FamilySolver::correct(const Unknowns& guess, const CorrectorSet
     integrator_->set_full_period(period);
     const detail::IntegrationOutcome run = integrator_->integrate(request, scaling);
     ++outcome.iterations;
-    if (fresh) ++outcome.variational_integrations;
-    else ++outcome.orbit_integrations;
+    if (fresh)
+      ++outcome.variational_integrations;
+    else
+      ++outcome.orbit_integrations;
     if (!run.ok) {
       outcome.failure = run.failure;
       outcome.escaped = run.failure.find("escape") != std::string::npos ||
@@ -388,7 +413,8 @@ CorrectorOutcome FamilySolver::correct(const Unknowns& guess, const CorrectorSet
       const Eigen::VectorXd state_step = previous_step.head(2 * m_);
       const double step_norm2 = state_step.squaredNorm();
       if (step_norm2 > 0.0) {
-        const Eigen::VectorXd predicted = (hint_ - shift_phase_) * state_step + previous_time_column * previous_step(2 * m_);
+        const Eigen::VectorXd predicted =
+            (hint_ - shift_phase_) * state_step + previous_time_column * previous_step(2 * m_);
         hint_ += ((shooting - previous_shooting) - predicted) * state_step.transpose() / step_norm2;
       }
     }
@@ -424,9 +450,11 @@ CorrectorOutcome FamilySolver::correct(const Unknowns& guess, const CorrectorSet
 
     jacobian.setZero();
     jacobian.topLeftCorner(2 * m_, 2 * m_) = hint_ - shift_phase_;
-    jacobian.block(0, 2 * m_, 2 * m_, 1) = integrator_->scaled_velocity(run.scaled_state, scaling) * setup.time_scale / r_;
+    jacobian.block(0, 2 * m_, 2 * m_, 1) =
+        integrator_->scaled_velocity(run.scaled_state, scaling) * setup.time_scale / r_;
     system_.gradient(integrator_->positions(y0, scaling), gradient);
-    jacobian.block(2 * m_, 0, 1, m_) = (basis_.transpose() * gradient).transpose() / (omega_ * omega_ * length);
+    jacobian.block(2 * m_, 0, 1, m_) =
+        (basis_.transpose() * gradient).transpose() / (omega_ * omega_ * length);
     jacobian.block(2 * m_, m_, 1, m_) = y0.tail(m_).transpose();
     if (arclength) jacobian(2 * m_, 2 * m_ + 1) = -1.0;
     jacobian.block(2 * m_ + 1, 0, 1, 2 * m_) = setup.phase_direction.transpose();
@@ -485,8 +513,8 @@ void FamilySolver::classify_multipliers(const Eigen::MatrixXd& monodromy, const 
     v << top, bottom;
     constraints.push_back(v);
   };
-  add(length * gradient, omega_ * omega_ * length * length * ps);            // ∇H
-  add(omega_ * ps, -gradient / (omega_ * length));                            // f
+  add(length * gradient, omega_ * omega_ * length * length * ps);  // ∇H
+  add(omega_ * ps, -gradient / (omega_ * length));                 // f
   // A continuous symmetry that leaves the orbit itself unchanged (a linear molecule's
   // stretching orbit under rotation about the axis) has no neutral pair.
   int moving_symmetries = 0;
@@ -503,7 +531,8 @@ void FamilySolver::classify_multipliers(const Eigen::MatrixXd& monodromy, const 
   Eigen::MatrixXd stacked(2 * n, static_cast<Eigen::Index>(constraints.size()));
   for (std::size_t k = 0; k < constraints.size(); ++k) {
     const double norm = constraints[k].norm();
-    stacked.col(static_cast<Eigen::Index>(k)) = norm > 0.0 ? Eigen::VectorXd(constraints[k] / norm) : constraints[k];
+    stacked.col(static_cast<Eigen::Index>(k)) =
+        norm > 0.0 ? Eigen::VectorXd(constraints[k] / norm) : constraints[k];
   }
   Eigen::JacobiSVD<Eigen::MatrixXd> svd(stacked, Eigen::ComputeFullU);
   constexpr double rank_tolerance = 1e-6;  // directions closer than this to dependent count once
@@ -542,8 +571,10 @@ void FamilySolver::classify_multipliers(const Eigen::MatrixXd& monodromy, const 
     if (modulus <= threshold) continue;
     ++point.unstable_count;
     if (std::abs(mu.imag()) <= options_.stability_tolerance * modulus) {
-      if (mu.real() < 0.0) ++point.unstable_negative_real;
-      else ++point.unstable_positive_real;
+      if (mu.real() < 0.0)
+        ++point.unstable_negative_real;
+      else
+        ++point.unstable_positive_real;
     }
   }
   point.stable = point.unstable_count == 0;
@@ -686,9 +717,9 @@ ContinuationResult FamilySolver::run() {
   const double energy_max = options_.energy_max;
   const double escape_energy = system_.escape_energy();
   if (energy_max >= escape_energy)
-    result.warnings.push_back(fmt::format(
-        "energy_max {} lies at or above the system's escape energy {}; the family ends there",
-        energy_text(energy_max), energy_text(escape_energy)));
+    result.warnings.push_back(
+        fmt::format("energy_max {} lies at or above the system's escape energy {}; the family ends there",
+                    energy_text(energy_max), energy_text(escape_energy)));
 
   auto finish = [&](ContinuationStatus status, std::string message) {
     result.status = status;
@@ -700,7 +731,8 @@ ContinuationResult FamilySolver::run() {
     result.integration_steps = counters.steps;
     result.seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - started).count();
     if (counters.full_variational_periods > 0.0)
-      result.seconds_per_variational_period = counters.full_variational_seconds / counters.full_variational_periods;
+      result.seconds_per_variational_period =
+          counters.full_variational_seconds / counters.full_variational_periods;
     for (const auto& point : result.points) {
       result.newton_iterations += point.newton_iterations;
       result.variational_integrations += point.variational_integrations;
@@ -728,7 +760,8 @@ ContinuationResult FamilySolver::run() {
     }
     const double length = length_for(point.energy);
     const double time_scale = time_scale_for(point.period);
-    Eigen::VectorXd new_tangent = tangent_at(corrected.solution, analysis.reduced_transition, length, time_scale);
+    Eigen::VectorXd new_tangent =
+        tangent_at(corrected.solution, analysis.reduced_transition, length, time_scale);
     if (accepted_.empty()) {
       if (new_tangent(2 * m_ + 1) < 0.0) new_tangent = -new_tangent;
     } else {
@@ -822,14 +855,15 @@ ContinuationResult FamilySolver::run() {
     current_scaled(2 * m_) = current.period / time_scale;
     current_scaled(2 * m_ + 1) = current.energy / scale;
     const Eigen::VectorXd predicted = current_scaled + trial_step * tangent;
-    Unknowns guess =
-        unscaled(predicted.head(2 * m_), predicted(2 * m_) * time_scale, predicted(2 * m_ + 1) * scale, length);
+    Unknowns guess = unscaled(predicted.head(2 * m_), predicted(2 * m_) * time_scale,
+                              predicted(2 * m_ + 1) * scale, length);
 
     CorrectorSetup setup;
     setup.length = length;
     setup.time_scale = time_scale;
     setup.phase_reference = current_scaled.head(2 * m_);
-    setup.phase_direction = integrator_->scaled_velocity(setup.phase_reference, {length, omega_}).normalized();
+    setup.phase_direction =
+        integrator_->scaled_velocity(setup.phase_reference, {length, omega_}).normalized();
     setup.fixed_energy = final_step;
     setup.target_energy = energy_max;
     setup.tangent = tangent;
@@ -868,17 +902,20 @@ ContinuationResult FamilySolver::run() {
                                                 : std::string(": probably a dissociation or barrier")));
         }
         return finish(ContinuationStatus::step_too_small,
-                      fmt::format("the corrector failed at the smallest step beyond {}: {}", energy_text(reached),
-                                  last_failure));
+                      fmt::format("the corrector failed at the smallest step beyond {}: {}",
+                                  energy_text(reached), last_failure));
       }
       continue;
     }
     // Step-size control from the corrector's effort: with the predictor's residual
     // evaluation and Broyden-updated chord steps a comfortable step takes about five
     // integrations.
-    if (corrected.iterations <= 5) step = std::min(options_.max_step, 1.5 * trial_step);
-    else if (corrected.iterations >= 7) step = std::max(options_.min_step, 0.6 * trial_step);
-    else step = std::max(trial_step, std::min(step, options_.max_step));
+    if (corrected.iterations <= 5)
+      step = std::min(options_.max_step, 1.5 * trial_step);
+    else if (corrected.iterations >= 7)
+      step = std::max(options_.min_step, 0.6 * trial_step);
+    else
+      step = std::max(trial_step, std::min(step, options_.max_step));
     spent_iterations = spent_variational = spent_orbits = 0;
     point_started = std::chrono::steady_clock::now();
     gradients_at_start = system_.counts().gradients;
@@ -902,30 +939,32 @@ ContinuationResult FamilySolver::run() {
       setup.fixed_energy = true;
       setup.target_energy = energy_max;
       setup.phase_reference = scaled_state(overshoot, setup.length);
-      setup.phase_direction = integrator_->scaled_velocity(setup.phase_reference, {setup.length, omega_}).normalized();
+      setup.phase_direction =
+          integrator_->scaled_velocity(setup.phase_reference, {setup.length, omega_}).normalized();
       hint_ = overshoot_transition;
       have_hint_ = true;
       const CorrectorOutcome last = correct(guess, setup);
-      if (last.converged && accept(last, last.iterations, last.variational_integrations, last.orbit_integrations,
-                                   gradients_at_start, point_started))
+      if (last.converged && accept(last, last.iterations, last.variational_integrations,
+                                   last.orbit_integrations, gradients_at_start, point_started))
         return finish(ContinuationStatus::reached_energy_max, "reached energy_max");
       result.points.push_back(overshoot_point);
       accepted_.push_back(overshoot);
       accepted_transitions_.push_back(overshoot_transition);
       accepted_actions_.push_back(overshoot_action);
-      result.warnings.push_back(fmt::format("the last point lies slightly above energy_max, at {}",
-                                            energy_text(overshoot.energy)));
+      result.warnings.push_back(
+          fmt::format("the last point lies slightly above energy_max, at {}", energy_text(overshoot.energy)));
       return finish(ContinuationStatus::reached_energy_max, "reached energy_max");
     }
     const double period_limit = options_.max_period_factor * 2.0 * units::pi / omega_;
     if (result.points.back().period > period_limit)
-      return finish(ContinuationStatus::escaped,
-                    fmt::format("the period grew past {} harmonic periods at {}: the orbits approach a "
-                                "separatrix (dissociation or a barrier){}",
-                                options_.max_period_factor, energy_text(result.points.back().energy),
-                                std::isfinite(escape_energy)
-                                    ? fmt::format("; the escape energy of the system is {}", energy_text(escape_energy))
-                                    : std::string()));
+      return finish(
+          ContinuationStatus::escaped,
+          fmt::format("the period grew past {} harmonic periods at {}: the orbits approach a "
+                      "separatrix (dissociation or a barrier){}",
+                      options_.max_period_factor, energy_text(result.points.back().energy),
+                      std::isfinite(escape_energy)
+                          ? fmt::format("; the escape energy of the system is {}", energy_text(escape_energy))
+                          : std::string()));
     if (result.points.back().energy < first_energy)
       return finish(ContinuationStatus::turned_back,
                     "after a fold the family returned below the energy of its first point");
@@ -939,7 +978,8 @@ void FamilySolver::detect_events(ContinuationResult& result) const {
     event.kind = kind;
     event.point_index = index;
     event.energy = 0.5 * (points[index - 1].energy + points[index].energy);
-    if (kind == FamilyEventKind::fold) event.energy = std::max(points[index - 1].energy, points[index].energy);
+    if (kind == FamilyEventKind::fold)
+      event.energy = std::max(points[index - 1].energy, points[index].energy);
     event.energy_cm1 = event.energy * units_.cm1_per_energy;
     event.message = std::move(message);
     result.events.push_back(std::move(event));
@@ -954,38 +994,47 @@ void FamilySolver::detect_events(ContinuationResult& result) const {
     const int k = static_cast<int>(i);
     const OrbitPoint& a = points[i - 1];
     const OrbitPoint& b = points[i];
-    const bool unresolved = i <= resolved_from && seed_.block_dimension >= 2 && !b.floquet_multipliers.empty();
-    if (unresolved && a.unstable_count != b.unstable_count && a.unstable_negative_real == b.unstable_negative_real) {
+    const bool unresolved =
+        i <= resolved_from && seed_.block_dimension >= 2 && !b.floquet_multipliers.empty();
+    if (unresolved && a.unstable_count != b.unstable_count &&
+        a.unstable_negative_real == b.unstable_negative_real) {
       suppressed = true;
       if (a.energy_direction != b.energy_direction)
-        add(FamilyEventKind::fold, k, fmt::format("the family turns {} in energy between {} and {}",
-                                                  b.energy_direction < 0 ? "back" : "forward again",
-                                                  energy_text(a.energy), energy_text(b.energy)));
+        add(FamilyEventKind::fold, k,
+            fmt::format("the family turns {} in energy between {} and {}",
+                        b.energy_direction < 0 ? "back" : "forward again", energy_text(a.energy),
+                        energy_text(b.energy)));
       continue;
     }
     const std::string bracket =
         fmt::format("between {} and {}", energy_text(a.energy), energy_text(b.energy));
     if (a.energy_direction != b.energy_direction)
-      add(FamilyEventKind::fold, k, fmt::format("the family turns {} in energy {}",
-                                                b.energy_direction < 0 ? "back" : "forward again", bracket));
+      add(FamilyEventKind::fold, k,
+          fmt::format("the family turns {} in energy {}", b.energy_direction < 0 ? "back" : "forward again",
+                      bracket));
     if (b.floquet_multipliers.empty() || a.floquet_multipliers.empty()) continue;
     if (a.unstable_negative_real != b.unstable_negative_real)
-      add(FamilyEventKind::period_doubling, k, fmt::format("a Floquet multiplier passes through -1 {}", bracket));
+      add(FamilyEventKind::period_doubling, k,
+          fmt::format("a Floquet multiplier passes through -1 {}", bracket));
     if (a.unstable_positive_real != b.unstable_positive_real)
       add(FamilyEventKind::branch_point, k,
-          fmt::format("a non-neutral Floquet multiplier passes through +1 {} (a bifurcating family)", bracket));
+          fmt::format("a non-neutral Floquet multiplier passes through +1 {} (a bifurcating family)",
+                      bracket));
     if (a.stable && !b.stable)
       add(FamilyEventKind::stability_lost, k,
           fmt::format("{} multiplier(s) leave the unit circle {}", b.unstable_count, bracket));
     else if (!a.stable && b.stable)
-      add(FamilyEventKind::stability_gained, k, fmt::format("all multipliers return to the unit circle {}", bracket));
+      add(FamilyEventKind::stability_gained, k,
+          fmt::format("all multipliers return to the unit circle {}", bracket));
     else if (a.unstable_count != b.unstable_count)
       add(FamilyEventKind::instability_changed, k,
-          fmt::format("unstable multipliers change from {} to {} {}", a.unstable_count, b.unstable_count, bracket));
+          fmt::format("unstable multipliers change from {} to {} {}", a.unstable_count, b.unstable_count,
+                      bracket));
   }
   if (suppressed)
     result.warnings.push_back(fmt::format(
-        "below {} the multipliers of the degenerate partner motion lie within {} of +1 and their stability is not "
+        "below {} the multipliers of the degenerate partner motion lie within {} of +1 and their stability "
+        "is not "
         "resolved; stability changes there are not reported",
         energy_text(resolved_from < points.size() ? points[resolved_from].energy : points.back().energy),
         options_.partner_resolution));
@@ -1048,7 +1097,8 @@ void FamilySolver::build_ladder(ContinuationResult& result) {
           guess = upper;
           guess.a *= factor;
           guess.b *= factor;
-          guess.period = upper.period + (2.0 * units::pi / omega_ - upper.period) * (1.0 - energy / upper.energy);
+          guess.period =
+              upper.period + (2.0 * units::pi / omega_ - upper.period) * (1.0 - energy / upper.energy);
         } else {
           const Unknowns& lower = accepted_[lo.point];
           const double w = (energy - lower.energy) / (upper.energy - lower.energy);

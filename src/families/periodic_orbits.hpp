@@ -38,22 +38,22 @@ namespace overtone {
 // A spatio-temporal symmetry to verify on the computed trajectory:
 // matrix · q(t) = q(t + (numerator/denominator)·T) for all t, and the same for p.
 struct TrajectorySymmetry {
-  std::string label;            // e.g. the operation's name
-  Eigen::MatrixXd matrix;       // n × n orthogonal, acting on the system's coordinates
-  int numerator = 0;            // time shift as a fraction of the period, in [0, denominator)
-  int denominator = 1;          // ≥ 1
+  std::string label;       // e.g. the operation's name
+  Eigen::MatrixXd matrix;  // n × n orthogonal, acting on the system's coordinates
+  int numerator = 0;       // time shift as a fraction of the period, in [0, denominator)
+  int denominator = 1;     // ≥ 1
 };
 
 // What to continue: the linear orbit q(t) = Re(v e^{iωt}) of one family and the
 // symmetry its orbits keep.
 struct FamilySeed {
-  Eigen::VectorXcd linear_mode;     // v, length n, any normalization, nonzero
-  double angular_frequency = 0.0;   // ω, radians per time unit, > 0
+  Eigen::VectorXcd linear_mode;    // v, length n, any normalization, nonzero
+  double angular_frequency = 0.0;  // ω, radians per time unit, > 0
   // Orthonormal n × m basis of the subspace containing the whole orbit; empty: all of R^n.
   Eigen::MatrixXd invariant_basis;
   // q(t + T/r) = shift_matrix · q(t); empty matrix: no such symmetry (r must be 1).
   Eigen::MatrixXd shift_matrix;
-  int shift_denominator = 1;        // r ≥ 1
+  int shift_denominator = 1;               // r ≥ 1
   std::vector<TrajectorySymmetry> checks;  // verified on the trajectory at every point
   // Dimension of the block of equal harmonic frequencies the family belongs to. For d ≥ 2
   // the partner motions start with multipliers at +1, whose stability at the smallest
@@ -78,7 +78,7 @@ struct ContinuationOptions {
   // momenta divided by the amplitude and ω·amplitude) and the energy residual divided by
   // the harmonic energy scale ω²·amplitude² are below this. Dimensionless.
   double closure_tolerance = 1e-9;
-  int max_newton_iterations = 10;       // per corrector, counting chord steps
+  int max_newton_iterations = 10;  // per corrector, counting chord steps
   // Pseudo-arclength step in the scaled unknowns (≈ relative change of the orbit).
   double initial_step = 0.1;
   double min_step = 1e-5;
@@ -86,11 +86,11 @@ struct ContinuationOptions {
   // Largest energy increase per step as a fraction of energy_max (sets the resolution of
   // the backbone curve).
   double max_energy_step_fraction = 0.05;
-  int max_points = 400;                 // accepted points per family
+  int max_points = 400;  // accepted points per family
   // Samples per period for amplitude, energy drift and trajectory symmetry checks
   // (rounded up to a multiple of every time-shift denominator).
   int samples_per_period = 128;
-  bool compute_floquet = true;          // whole-space monodromy at every point
+  bool compute_floquet = true;  // whole-space monodromy at every point
   // At accepted points, integrate the variational equations with the Hessian interpolated
   // (8-point Lagrange) between this many nodes per period taken on the sampled orbit,
   // instead of one Hessian product per integrator stage: ~10× fewer potential
@@ -115,7 +115,7 @@ struct ContinuationOptions {
   // Orbits whose period exceeds this many harmonic periods count as escaped: the period
   // diverges as the energy approaches a separatrix (dissociation, a barrier).
   double max_period_factor = 20.0;
-  std::size_t max_integration_steps = 200000;   // per integration
+  std::size_t max_integration_steps = 200000;  // per integration
   // Semiclassical ladder: levels n = 0 … ladder_max_level that the family's action reaches.
   int ladder_max_level = 20;
   // Newton in energy until |J − (n+½)ħ| < ladder_tolerance · ħ (dimensionless); 0 turns
@@ -139,33 +139,33 @@ const char* to_string(ContinuationStatus status);
 struct OrbitPoint {
   // In the system's units:
   double energy = 0.0;
-  double angular_frequency = 0.0;   // 2π/T
+  double angular_frequency = 0.0;  // 2π/T
   double period = 0.0;
-  double action = 0.0;              // J = ∮P·dQ / 2π
-  double amplitude = 0.0;           // largest |Q| along the orbit (length·mass^½)
+  double action = 0.0;     // J = ∮P·dQ / 2π
+  double amplitude = 0.0;  // largest |Q| along the orbit (length·mass^½)
   // Converted (UnitConventions of the system):
   double energy_cm1 = 0.0;
   double frequency_cm1 = 0.0;
   double period_fs = 0.0;
-  double action_hbar = 0.0;         // J / ħ
+  double action_hbar = 0.0;  // J / ħ
   // Largest displacement of any atom along the orbit, Å; NaN for model systems.
   double amplitude_angstrom = std::numeric_limits<double>::quiet_NaN();
   // Diagnostics of the whole-period integration (dimensionless):
-  double closure_error = 0.0;       // max(|ΔQ|, |ΔP|/ω) after one period / amplitude
-  double energy_drift = 0.0;        // (max H − min H) along the orbit / E
-  double symmetry_residual = 0.0;   // largest trajectory-symmetry defect / amplitude (0 without checks)
+  double closure_error = 0.0;      // max(|ΔQ|, |ΔP|/ω) after one period / amplitude
+  double energy_drift = 0.0;       // (max H − min H) along the orbit / E
+  double symmetry_residual = 0.0;  // largest trajectory-symmetry defect / amplitude (0 without checks)
   // Floquet multipliers of the whole-space monodromy (2n; empty if not computed), sorted
   // by decreasing modulus; the 2 + 2·(continuous symmetries) closest to +1 are neutral.
   std::vector<std::complex<double>> floquet_multipliers;
   std::vector<double> floquet_moduli;
-  double largest_modulus = 1.0;     // among the non-neutral multipliers
-  int unstable_count = 0;           // non-neutral multipliers with modulus > 1 + tolerance
-  int unstable_negative_real = 0;   // of those: real and negative (period-doubling side)
-  int unstable_positive_real = 0;   // of those: real and positive (branch-point side)
-  bool stable = true;               // no unstable multiplier
-  int multipliers_near_one = 0;     // non-neutral multipliers within partner_resolution of +1
+  double largest_modulus = 1.0;    // among the non-neutral multipliers
+  int unstable_count = 0;          // non-neutral multipliers with modulus > 1 + tolerance
+  int unstable_negative_real = 0;  // of those: real and negative (period-doubling side)
+  int unstable_positive_real = 0;  // of those: real and positive (branch-point side)
+  bool stable = true;              // no unstable multiplier
+  int multipliers_near_one = 0;    // non-neutral multipliers within partner_resolution of +1
   // Continuation data:
-  int energy_direction = 1;         // sign of dE along the family's tangent (−1 after a fold)
+  int energy_direction = 1;           // sign of dE along the family's tangent (−1 after a fold)
   Eigen::VectorXd initial_positions;  // Q(0), full space
   Eigen::VectorXd initial_momenta;    // P(0), full space
   // Cost of this point:
@@ -177,21 +177,21 @@ struct OrbitPoint {
 };
 
 enum class FamilyEventKind {
-  fold,                   // the energy turns back along the family
-  stability_lost,         // a multiplier leaves the unit circle
-  stability_gained,       // all multipliers return to the unit circle
-  period_doubling,        // a multiplier passes through −1
-  branch_point,           // a non-neutral multiplier passes through +1
-  instability_changed,    // the number of unstable multipliers changes otherwise
-  resonance_encounter,    // the frequency ratio with another family passes a small integer ratio
-  escape,                 // continuation ended because orbits stop closing
+  fold,                 // the energy turns back along the family
+  stability_lost,       // a multiplier leaves the unit circle
+  stability_gained,     // all multipliers return to the unit circle
+  period_doubling,      // a multiplier passes through −1
+  branch_point,         // a non-neutral multiplier passes through +1
+  instability_changed,  // the number of unstable multipliers changes otherwise
+  resonance_encounter,  // the frequency ratio with another family passes a small integer ratio
+  escape,               // continuation ended because orbits stop closing
 };
 const char* to_string(FamilyEventKind kind);
 
 struct FamilyEvent {
   FamilyEventKind kind = FamilyEventKind::fold;
-  int point_index = 0;              // between points point_index−1 and point_index
-  double energy = 0.0;              // estimate, system units
+  int point_index = 0;  // between points point_index−1 and point_index
+  double energy = 0.0;  // estimate, system units
   double energy_cm1 = 0.0;
   std::string message;
   // resonance_encounter only: the other family (index in FamiliesResult::families) and
@@ -203,28 +203,28 @@ struct FamilyEvent {
 
 struct LadderLevel {
   int n = 0;
-  double energy = 0.0;              // where J = (n+½)ħ, system units
+  double energy = 0.0;  // where J = (n+½)ħ, system units
   double energy_cm1 = 0.0;
-  double transition_cm1 = 0.0;      // E_n − E_0
+  double transition_cm1 = 0.0;           // E_n − E_0
   double harmonic_transition_cm1 = 0.0;  // n·ω (harmonic)
   double action_residual_hbar = 0.0;     // |J − (n+½)ħ| / ħ actually reached
-  bool refined = false;             // located by Newton on the family (else interpolated)
+  bool refined = false;                  // located by Newton on the family (else interpolated)
 };
 
 struct ContinuationResult {
   ContinuationStatus status = ContinuationStatus::start_failed;
   std::string message;
-  std::vector<OrbitPoint> points;   // ordered along the family
+  std::vector<OrbitPoint> points;  // ordered along the family
   std::vector<FamilyEvent> events;
   std::vector<LadderLevel> ladder;
   // Sizes of the shooting problem:
-  int reduced_dimension = 0;        // m = dim of the invariant subspace
-  int shift_denominator = 1;        // r: integrations cover T/r
+  int reduced_dimension = 0;  // m = dim of the invariant subspace
+  int shift_denominator = 1;  // r: integrations cover T/r
   // Totals:
   int newton_iterations = 0;
   int variational_integrations = 0;
   int orbit_integrations = 0;
-  int rejected_steps = 0;           // continuation steps retried with a smaller step
+  int rejected_steps = 0;             // continuation steps retried with a smaller step
   std::size_t integration_steps = 0;  // accepted integrator steps, all integrations
   std::size_t gradient_evaluations = 0;
   double seconds = 0.0;

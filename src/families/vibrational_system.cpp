@@ -15,7 +15,9 @@ UnitConventions molecular_unit_conventions() {
   return conventions;
 }
 
-Eigen::VectorXd VibrationalSystem::cartesian_displacement_angstrom(const Eigen::VectorXd&) const { return {}; }
+Eigen::VectorXd VibrationalSystem::cartesian_displacement_angstrom(const Eigen::VectorXd&) const {
+  return {};
+}
 
 void VibrationalSystem::compute_hessian_times(const Eigen::VectorXd& q, const Eigen::MatrixXd& directions,
                                               Eigen::MatrixXd& out) const {

@@ -61,7 +61,8 @@ class VibrationalSystem {
     compute_gradient(q, g);
   }
   // out = ∇²V(q) · directions (n × k in, n × k out). Counted by directions.
-  void hessian_times(const Eigen::VectorXd& q, const Eigen::MatrixXd& directions, Eigen::MatrixXd& out) const {
+  void hessian_times(const Eigen::VectorXd& q, const Eigen::MatrixXd& directions,
+                     Eigen::MatrixXd& out) const {
     counts_.hessian_directions += static_cast<std::size_t>(directions.cols());
     out.resize(dimension(), directions.cols());
     compute_hessian_times(q, directions, out);

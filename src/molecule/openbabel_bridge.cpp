@@ -1,12 +1,12 @@
 #include "molecule/openbabel_bridge.hpp"
 
 #include <fmt/format.h>
+#include <omp.h>
 #include <openbabel/atom.h>
 #include <openbabel/bond.h>
 #include <openbabel/elements.h>
 #include <openbabel/oberror.h>
 #include <openbabel/obiter.h>
-#include <omp.h>
 
 #include <sstream>
 

@@ -1,10 +1,11 @@
 #include "pipeline/analysis.hpp"
 
+#include <fmt/format.h>
+
 #include <algorithm>
 #include <chrono>
-#include <map>
 #include <cmath>
-#include <fmt/format.h>
+#include <map>
 #include <numeric>
 #include <vector>
 
@@ -89,12 +90,14 @@ void require_minimum(const AnalysisResult& analysis, const std::string& stage) {
   const Eigen::VectorXd& frequencies = analysis.harmonic.frequencies_cm1;
   if (frequencies.size() == 0) throw Error(stage + " needs vibrational modes, and this molecule has none");
   if (frequencies.minCoeff() <= 0.0)
-    throw Error(fmt::format("{} needs a minimum, but the structure has an imaginary frequency ({:.1f}i cm-1): "
-                            "it is a saddle point of the potential",
-                            stage, std::abs(frequencies.minCoeff())));
+    throw Error(
+        fmt::format("{} needs a minimum, but the structure has an imaginary frequency ({:.1f}i cm-1): "
+                    "it is a saddle point of the potential",
+                    stage, std::abs(frequencies.minCoeff())));
 }
 
-double seconds_between(std::chrono::steady_clock::time_point start, std::chrono::steady_clock::time_point end) {
+double seconds_between(std::chrono::steady_clock::time_point start,
+                       std::chrono::steady_clock::time_point end) {
   return std::chrono::duration<double>(end - start).count();
 }
 
@@ -107,7 +110,8 @@ std::vector<int> report_mode_order(const AnalysisResult& analysis) {
   return order;
 }
 
-std::vector<int> mode_numbers_of_fundamentals(const AnalysisResult& analysis, const std::vector<int>& fundamentals) {
+std::vector<int> mode_numbers_of_fundamentals(const AnalysisResult& analysis,
+                                              const std::vector<int>& fundamentals) {
   std::vector<int> numbers;
   for (const int fundamental : fundamentals) {
     const std::size_t before = numbers.size();
@@ -115,7 +119,8 @@ std::vector<int> mode_numbers_of_fundamentals(const AnalysisResult& analysis, co
       if (mode.fundamental == fundamental) numbers.push_back(mode.number);
     if (numbers.size() == before) {
       const int highest = analysis.modes.empty() ? 0 : analysis.modes.back().fundamental;
-      throw Error(fmt::format("there is no fundamental ν{} (this molecule has ν1 to ν{})", fundamental, highest));
+      throw Error(
+          fmt::format("there is no fundamental ν{} (this molecule has ν1 to ν{})", fundamental, highest));
     }
   }
   return numbers;
@@ -150,7 +155,8 @@ FamiliesResult analyze_families(const AnalysisResult& analysis, const Potential&
                                 const FamiliesOptions& options) {
   require_minimum(analysis, "the families of nonlinear normal modes");
   if (!analysis.symmetry_used)
-    throw Error("the families of nonlinear normal modes need the point group; run the analysis with symmetry");
+    throw Error(
+        "the families of nonlinear normal modes need the point group; run the analysis with symmetry");
   // Quartic force fields and Taylor expansions often turn over at large amplitude; a
   // scan along every normal coordinate says where, before a backbone runs into it, and
   // lets a continuation that fails just below the lowest barrier be called an escape.
@@ -171,7 +177,8 @@ FamiliesResult analyze_families(const AnalysisResult& analysis, const Potential&
     for (const ModeLabel& mode : analysis.modes)
       if (mode.harmonic_index == finding.mode) fundamental = mode.fundamental;
     result.warnings.push_back(fmt::format(
-        "the potential turns over along ν{} ({} direction) {:.0f} cm-1 above the minimum{}, inside the requested "
+        "the potential turns over along ν{} ({} direction) {:.0f} cm-1 above the minimum{}, inside the "
+        "requested "
         "energy range: families that reach it stop there (escape), and nothing beyond it is meaningful",
         fundamental, finding.direction > 0 ? "positive" : "negative", finding.barrier_cm1,
         finding.hole ? " and falls into a hole" : ""));
@@ -199,15 +206,17 @@ std::vector<ResonanceCrossCheck> cross_check_resonances(const AnalysisResult& an
   };
   for (const Resonance& resonance : anharmonic.vpt2.resonances) {
     if (resonance.kind != ResonanceKind::fermi_1) continue;
-    ResonanceCrossCheck& check = check_for(anharmonic.set_numbers.at(static_cast<std::size_t>(resonance.sets[0])),
-                                           anharmonic.set_numbers.at(static_cast<std::size_t>(resonance.sets[1])));
+    ResonanceCrossCheck& check =
+        check_for(anharmonic.set_numbers.at(static_cast<std::size_t>(resonance.sets[0])),
+                  anharmonic.set_numbers.at(static_cast<std::size_t>(resonance.sets[1])));
     check.gap_cm1 = resonance.gap_cm1;
     check.listed_by_perturbative = true;
     check.perturbative_allowed = resonance.symmetry_allowed;
     check.perturbative_flagged = resonance.flagged;
   }
   std::map<int, int> family_count;
-  for (const FamilyResult& family : families.families) ++family_count[fundamental_of(family.type.mode_numbers)];
+  for (const FamilyResult& family : families.families)
+    ++family_count[fundamental_of(family.type.mode_numbers)];
   for (const FamilyResult& family : families.families) {
     const int lower = fundamental_of(family.type.mode_numbers);
     for (const ResonanceThreat& threat : family.type.resonance_threats) {
@@ -223,18 +232,17 @@ std::vector<ResonanceCrossCheck> cross_check_resonances(const AnalysisResult& an
   for (auto& [pair, check] : checks) {
     check.compared = check.listed_by_perturbative && check.listed_by_families;
     check.agree = !check.compared || check.perturbative_allowed == (check.families_allowed > 0);
-    const std::string pair_text =
-        fmt::format("2ν{} / ν{} (gap {:.1f} cm-1)", check.lower_fundamental, check.upper_fundamental, check.gap_cm1);
+    const std::string pair_text = fmt::format("2ν{} / ν{} (gap {:.1f} cm-1)", check.lower_fundamental,
+                                              check.upper_fundamental, check.gap_cm1);
     const std::string perturbative =
         check.listed_by_perturbative
             ? fmt::format("perturbative: {}{}", check.perturbative_allowed ? "allowed" : "forbidden",
                           check.perturbative_flagged ? ", treated in a polyad" : "")
             : std::string("perturbative: outside its window");
-    const std::string per_family =
-        check.listed_by_families
-            ? fmt::format("families: allowed for {} of {} family types", check.families_allowed,
-                          check.families_of_lower)
-            : std::string("families: outside their window");
+    const std::string per_family = check.listed_by_families
+                                       ? fmt::format("families: allowed for {} of {} family types",
+                                                     check.families_allowed, check.families_of_lower)
+                                       : std::string("families: outside their window");
     check.summary = pair_text + ": " + perturbative + "; " + per_family +
                     (check.compared ? (check.agree ? "; agree" : "; DISAGREE") : "");
     result.push_back(check);

@@ -81,7 +81,8 @@ std::vector<int> report_mode_order(const AnalysisResult& analysis);
 
 // Report numbers of the modes of the given fundamentals (ν numbers), for
 // FamiliesOptions::mode_numbers. Throws Error naming a ν number the molecule lacks.
-std::vector<int> mode_numbers_of_fundamentals(const AnalysisResult& analysis, const std::vector<int>& fundamentals);
+std::vector<int> mode_numbers_of_fundamentals(const AnalysisResult& analysis,
+                                              const std::vector<int>& fundamentals);
 
 struct AnharmonicOptions {
   ForceConstantOptions force_constants;
@@ -120,16 +121,16 @@ FamiliesResult analyze_families(const AnalysisResult& analysis, const Potential&
 struct ResonanceCrossCheck {
   int lower_fundamental = 0;  // ν numbers
   int upper_fundamental = 0;
-  double gap_cm1 = 0.0;            // 2ω_lower − ω_upper (harmonic)
+  double gap_cm1 = 0.0;  // 2ω_lower − ω_upper (harmonic)
   bool listed_by_perturbative = false;
   bool perturbative_allowed = false;
   bool perturbative_flagged = false;  // strong enough to be treated in a polyad
   bool listed_by_families = false;
-  int families_of_lower = 0;          // family types of the lower set
-  int families_allowed = 0;           // of those, how many the symmetry lets drive the upper set
-  bool compared = false;              // listed by both
-  bool agree = true;                  // compared and perturbative_allowed == (families_allowed > 0)
-  std::string summary;                // one line for the report
+  int families_of_lower = 0;  // family types of the lower set
+  int families_allowed = 0;   // of those, how many the symmetry lets drive the upper set
+  bool compared = false;      // listed by both
+  bool agree = true;          // compared and perturbative_allowed == (families_allowed > 0)
+  std::string summary;        // one line for the report
 };
 
 std::vector<ResonanceCrossCheck> cross_check_resonances(const AnalysisResult& analysis,

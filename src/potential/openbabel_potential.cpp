@@ -9,7 +9,6 @@
 #include <openbabel/obiter.h>
 #include <openbabel/tokenst.h>
 
-
 #include <algorithm>
 #include <cctype>
 #include <fstream>

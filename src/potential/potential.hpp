@@ -16,9 +16,9 @@
 namespace overtone {
 
 struct EvaluationCounts {
-  std::size_t energies = 0;    // energy-only evaluations
-  std::size_t gradients = 0;   // energy+gradient evaluations
-  std::size_t hessians = 0;    // analytic Hessian evaluations
+  std::size_t energies = 0;   // energy-only evaluations
+  std::size_t gradients = 0;  // energy+gradient evaluations
+  std::size_t hessians = 0;   // analytic Hessian evaluations
 };
 
 class Potential {

@@ -1,12 +1,13 @@
 #include "potential/valence_force_field.hpp"
 
+#include <toml++/toml.h>
+
 #include <algorithm>
 #include <cmath>
 #include <fstream>
 #include <map>
 #include <set>
 #include <sstream>
-#include <toml++/toml.h>
 #include <unsupported/Eigen/AutoDiff>
 #include <vector>
 
@@ -39,8 +40,8 @@ const CoordinateKindInfo coordinate_kinds[] = {
 struct CoordinateDefinition {
   std::string name;
   CoordinateKind kind = CoordinateKind::distance;
-  std::vector<int> atoms;   // 0-based indices into the molecule
-  double reference = 0.0;   // Å or rad; unused for linear_bend (always linear)
+  std::vector<int> atoms;  // 0-based indices into the molecule
+  double reference = 0.0;  // Å or rad; unused for linear_bend (always linear)
 };
 
 enum class TermKind { morse, polynomial, coupling, cosine_series };
@@ -53,13 +54,13 @@ struct Factor {
 struct Term {
   TermKind kind = TermKind::polynomial;
   std::vector<Factor> factors;
-  double coefficient = 0.0;              // coupling: f / Π p_k!, kcal/mol per Å^n rad^m
-  std::array<double, 5> polynomial{};    // coefficient of Δq^n (= f_n / n!), kcal/mol per unit^n
-  double depth = 0.0;                    // Morse D_e, kcal/mol
-  double width = 0.0;                    // Morse a, 1/Å
-  std::vector<double> barriers;          // cosine series V_n, kcal/mol
-  std::vector<double> phases;            // cosine series δ_n, rad
-  std::vector<int> atoms;                // the term's atoms, 0-based, sorted, unique
+  double coefficient = 0.0;                   // coupling: f / Π p_k!, kcal/mol per Å^n rad^m
+  std::array<double, 5> polynomial{};         // coefficient of Δq^n (= f_n / n!), kcal/mol per unit^n
+  double depth = 0.0;                         // Morse D_e, kcal/mol
+  double width = 0.0;                         // Morse a, 1/Å
+  std::vector<double> barriers;               // cosine series V_n, kcal/mol
+  std::vector<double> phases;                 // cosine series δ_n, rad
+  std::vector<int> atoms;                     // the term's atoms, 0-based, sorted, unique
   std::vector<std::vector<int>> local_atoms;  // per factor: positions in `atoms`
 };
 
@@ -69,10 +70,14 @@ struct Term {
 template <typename S>
 S raw_coordinate(const CoordinateDefinition& c, const std::vector<int>& local, const Vec3<S>* p) {
   switch (c.kind) {
-    case CoordinateKind::distance: return distance(p[local[0]], p[local[1]]);
-    case CoordinateKind::angle: return bend_angle(p[local[0]], p[local[1]], p[local[2]]);
-    case CoordinateKind::linear_bend: return linear_bend_squared(p[local[0]], p[local[1]], p[local[2]]);
-    case CoordinateKind::dihedral: return dihedral_angle(p[local[0]], p[local[1]], p[local[2]], p[local[3]]);
+    case CoordinateKind::distance:
+      return distance(p[local[0]], p[local[1]]);
+    case CoordinateKind::angle:
+      return bend_angle(p[local[0]], p[local[1]], p[local[2]]);
+    case CoordinateKind::linear_bend:
+      return linear_bend_squared(p[local[0]], p[local[1]], p[local[2]]);
+    case CoordinateKind::dihedral:
+      return dihedral_angle(p[local[0]], p[local[1]], p[local[2]], p[local[3]]);
     case CoordinateKind::out_of_plane_angle:
       return out_of_plane_angle(p[local[0]], p[local[1]], p[local[2]], p[local[3]]);
     case CoordinateKind::pyramid_height:
@@ -118,14 +123,16 @@ S term_energy(const Term& term, const std::vector<CoordinateDefinition>& coordin
       // (checked on load), so the even polynomial is c2 s² + c4 s⁴ = c2 d + c4 d².
       if (coordinates[term.factors[0].coordinate].kind == CoordinateKind::linear_bend)
         return d * (term.polynomial[2] + d * term.polynomial[4]);
-      return d * (term.polynomial[1] + d * (term.polynomial[2] + d * (term.polynomial[3] + d * term.polynomial[4])));
+      return d * (term.polynomial[1] +
+                  d * (term.polynomial[2] + d * (term.polynomial[3] + d * term.polynomial[4])));
     }
     case TermKind::coupling: {
       S product = S(term.coefficient);
       for (std::size_t k = 0; k < term.factors.size(); ++k) {
         const CoordinateDefinition& c = coordinates[term.factors[k].coordinate];
         const S d = displacement(c, term.local_atoms[k], p);
-        const int power = c.kind == CoordinateKind::linear_bend ? term.factors[k].power / 2 : term.factors[k].power;
+        const int power =
+            c.kind == CoordinateKind::linear_bend ? term.factors[k].power / 2 : term.factors[k].power;
         product = product * integer_power(d, power);
       }
       return product;
@@ -198,10 +205,18 @@ struct TermDifferentiator {
 template <typename Visitor>
 void dispatch_on_size(const Term& term, Visitor&& visit) {
   switch (term.atoms.size()) {
-    case 2: visit(TermDifferentiator<6>{}); break;
-    case 3: visit(TermDifferentiator<9>{}); break;
-    case 4: visit(TermDifferentiator<12>{}); break;
-    default: visit(TermDifferentiator<Eigen::Dynamic>{}); break;
+    case 2:
+      visit(TermDifferentiator<6>{});
+      break;
+    case 3:
+      visit(TermDifferentiator<9>{});
+      break;
+    case 4:
+      visit(TermDifferentiator<12>{});
+      break;
+    default:
+      visit(TermDifferentiator<Eigen::Dynamic>{});
+      break;
   }
 }
 
@@ -210,8 +225,8 @@ void dispatch_on_size(const Term& term, Visitor&& visit) {
 
 class ValenceForceField final : public Potential {
  public:
-  ValenceForceField(std::string description, std::size_t atom_count, std::vector<CoordinateDefinition> coordinates,
-                    std::vector<Term> terms)
+  ValenceForceField(std::string description, std::size_t atom_count,
+                    std::vector<CoordinateDefinition> coordinates, std::vector<Term> terms)
       : description_(std::move(description)),
         atom_count_(atom_count),
         coordinates_(std::move(coordinates)),
@@ -249,7 +264,8 @@ class ValenceForceField final : public Potential {
   Eigen::MatrixXd compute_hessian(const Eigen::VectorXd& x) const override {
     Eigen::MatrixXd hessian = Eigen::MatrixXd::Zero(x.size(), x.size());
     for (const Term& term : terms_)
-      dispatch_on_size(term, [&](auto differentiator) { differentiator.add_hessian(term, coordinates_, x, hessian); });
+      dispatch_on_size(
+          term, [&](auto differentiator) { differentiator.add_hessian(term, coordinates_, x, hessian); });
     // Each term's local Hessian is symmetric up to round-off; make the sum exactly so.
     return 0.5 * (hessian + hessian.transpose());
   }
@@ -279,13 +295,16 @@ class Reader {
   }
 
   // Rejects keys outside `allowed` (typos in hand-written files must not pass silently).
-  void check_keys(const toml::table& table, const std::string& context, std::initializer_list<const char*> allowed) const {
+  void check_keys(const toml::table& table, const std::string& context,
+                  std::initializer_list<const char*> allowed) const {
     for (const auto& [key, node] : table) {
-      const bool known = std::any_of(allowed.begin(), allowed.end(), [&](const char* a) { return key.str() == a; });
+      const bool known =
+          std::any_of(allowed.begin(), allowed.end(), [&](const char* a) { return key.str() == a; });
       if (!known) {
         std::string list;
         for (const char* a : allowed) list += std::string(list.empty() ? "" : ", ") + a;
-        fail(&node, "unknown key '" + std::string(key.str()) + "' in " + context + "; expected one of: " + list);
+        fail(&node,
+             "unknown key '" + std::string(key.str()) + "' in " + context + "; expected one of: " + list);
       }
     }
   }
@@ -361,7 +380,8 @@ double energy_unit_in_kcal_mol(const Reader& reader, const toml::node& node) {
   if (unit == "kJ/mol") return units::kcal_mol_per_kj_mol;
   if (unit == "cm-1") return units::kcal_mol_per_cm1;
   if (unit == "hartree") return units::kcal_mol_per_hartree;
-  reader.fail(&node, "unknown energy unit '" + unit + "'; expected one of: aJ, kcal/mol, kJ/mol, cm-1, hartree");
+  reader.fail(&node,
+              "unknown energy unit '" + unit + "'; expected one of: aJ, kcal/mol, kJ/mol, cm-1, hartree");
 }
 
 toml::table parse_toml(const std::string& text, const std::string& origin) {
@@ -386,15 +406,18 @@ ParsedFile parse_file(const std::string& text, const std::string& origin) {
 
   parsed.title = reader.string(reader.require(root, "title", "the top level"), "title");
   parsed.source.title = parsed.title;
-  for (const toml::node& element : reader.array(reader.require(root, "elements", "the top level"), "elements"))
+  for (const toml::node& element :
+       reader.array(reader.require(root, "elements", "the top level"), "elements"))
     parsed.elements.push_back(reader.string(element, "elements"));
-  if (parsed.elements.empty()) reader.fail(root.get("elements"), "key 'elements' must list at least one element");
+  if (parsed.elements.empty())
+    reader.fail(root.get("elements"), "key 'elements' must list at least one element");
   parsed.source.elements = parsed.elements;
 
   // Units.
   const toml::table* units_table = &reader.table(root, "units");
   reader.check_keys(*units_table, "[units]", {"energy", "length", "angle"});
-  const double energy_factor = energy_unit_in_kcal_mol(reader, reader.require(*units_table, "energy", "[units]"));
+  const double energy_factor =
+      energy_unit_in_kcal_mol(reader, reader.require(*units_table, "energy", "[units]"));
   const toml::node& length_node = reader.require(*units_table, "length", "[units]");
   if (reader.string(length_node, "units.length") != "angstrom")
     reader.fail(&length_node, "unknown length unit '" + reader.string(length_node, "units.length") +
@@ -411,18 +434,22 @@ ParsedFile parse_file(const std::string& text, const std::string& origin) {
   const toml::table* source_table = &reader.table(root, "source");
   reader.check_keys(*source_table, "[source]",
                     {"citation", "status", "notes", "isotopologue", "reported_harmonic_wavenumbers_cm1"});
-  parsed.source.citation = reader.string(reader.require(*source_table, "citation", "[source]"), "source.citation");
+  parsed.source.citation =
+      reader.string(reader.require(*source_table, "citation", "[source]"), "source.citation");
   const toml::node& status_node = reader.require(*source_table, "status", "[source]");
   parsed.source.status = reader.string(status_node, "source.status");
   if (parsed.source.status != "confirmed" && parsed.source.status != "partly confirmed" &&
       parsed.source.status != "from memory")
-    reader.fail(&status_node, "source.status must be 'confirmed', 'partly confirmed' or 'from memory', got '" +
-                                  parsed.source.status + "'");
-  if (const toml::node* notes = source_table->get("notes")) parsed.source.notes = reader.string(*notes, "source.notes");
+    reader.fail(&status_node,
+                "source.status must be 'confirmed', 'partly confirmed' or 'from memory', got '" +
+                    parsed.source.status + "'");
+  if (const toml::node* notes = source_table->get("notes"))
+    parsed.source.notes = reader.string(*notes, "source.notes");
   if (const toml::node* iso = source_table->get("isotopologue"))
     parsed.source.isotopologue = reader.string(*iso, "source.isotopologue");
   if (const toml::node* reported = source_table->get("reported_harmonic_wavenumbers_cm1"))
-    parsed.source.reported_harmonic_wavenumbers_cm1 = reader.numbers(*reported, "source.reported_harmonic_wavenumbers_cm1");
+    parsed.source.reported_harmonic_wavenumbers_cm1 =
+        reader.numbers(*reported, "source.reported_harmonic_wavenumbers_cm1");
 
   // Coordinates.
   const int element_count = static_cast<int>(parsed.elements.size());
@@ -434,16 +461,18 @@ ParsedFile parse_file(const std::string& text, const std::string& origin) {
     CoordinateDefinition c;
     const toml::node& name_node = reader.require(table, "name", context);
     c.name = reader.string(name_node, "name");
-    if (coordinate_index.count(c.name) != 0) reader.fail(&name_node, "coordinate name '" + c.name + "' is used twice");
+    if (coordinate_index.count(c.name) != 0)
+      reader.fail(&name_node, "coordinate name '" + c.name + "' is used twice");
     const toml::node& kind_node = reader.require(table, "kind", context);
     const std::string kind = reader.string(kind_node, "kind");
     const CoordinateKindInfo* info = nullptr;
     for (const auto& candidate : coordinate_kinds)
       if (kind == candidate.name) info = &candidate;
     if (info == nullptr)
-      reader.fail(&kind_node, "unknown coordinate kind '" + kind +
-                                  "'; expected one of: distance, angle, linear_bend, dihedral, out_of_plane_angle, "
-                                  "pyramid_height");
+      reader.fail(&kind_node,
+                  "unknown coordinate kind '" + kind +
+                      "'; expected one of: distance, angle, linear_bend, dihedral, out_of_plane_angle, "
+                      "pyramid_height");
     c.kind = info->kind;
     const toml::node& atoms_node = reader.require(table, "atoms", context);
     for (const toml::node& atom : reader.array(atoms_node, "atoms")) {
@@ -462,7 +491,8 @@ ParsedFile parse_file(const std::string& text, const std::string& origin) {
     const toml::node* reference = table.get("reference");
     if (c.kind == CoordinateKind::linear_bend) {
       if (reference != nullptr)
-        reader.fail(reference, "a linear_bend has no reference value (it is measured from the linear geometry)");
+        reader.fail(reference,
+                    "a linear_bend has no reference value (it is measured from the linear geometry)");
     } else {
       if (reference == nullptr) reader.fail(&table, "missing key 'reference' in coordinate '" + c.name + "'");
       c.reference = reader.number(*reference, "reference") * (info->angular ? angle_factor : 1.0);
@@ -513,7 +543,8 @@ ParsedFile parse_file(const std::string& text, const std::string& origin) {
         const std::string key = "f" + std::to_string(order);
         if (const toml::node* f = table.get(key)) {
           if (linear && order % 2 == 1)
-            reader.fail(f, "a linear_bend takes only even powers (f2, f4): the potential must be even in π − θ");
+            reader.fail(f,
+                        "a linear_bend takes only even powers (f2, f4): the potential must be even in π − θ");
           term.polynomial[order] = reader.number(*f, key) * energy_factor / factorial;
           any = true;
         }
@@ -530,25 +561,30 @@ ParsedFile parse_file(const std::string& text, const std::string& origin) {
         ++order;
       }
       if (order < 2 || order > 6)
-        reader.fail(&list, "a coupling term takes 2 to 6 coordinates (with repeats), got " + std::to_string(order));
+        reader.fail(&list,
+                    "a coupling term takes 2 to 6 coordinates (with repeats), got " + std::to_string(order));
       double factorials = 1.0;
       for (const auto& [index, power] : powers) {
         if (parsed.coordinates[index].kind == CoordinateKind::linear_bend && power % 2 == 1)
-          reader.fail(&list, "linear_bend '" + parsed.coordinates[index].name +
-                                 "' must appear an even number of times in a coupling (the potential is even in "
-                                 "π − θ)");
+          reader.fail(&list,
+                      "linear_bend '" + parsed.coordinates[index].name +
+                          "' must appear an even number of times in a coupling (the potential is even in "
+                          "π − θ)");
         for (int k = 2; k <= power; ++k) factorials *= k;
         term.factors.push_back({index, power});
       }
-      term.coefficient = reader.number(reader.require(table, "f", "a coupling term"), "f") * energy_factor / factorials;
+      term.coefficient =
+          reader.number(reader.require(table, "f", "a coupling term"), "f") * energy_factor / factorials;
     } else if (kind == "cosine_series") {
       reader.check_keys(table, "a cosine_series term", {"kind", "label", "coordinate", "barriers", "phases"});
       term.kind = TermKind::cosine_series;
       const toml::node& coordinate_node = reader.require(table, "coordinate", "a cosine_series term");
       term.factors.push_back({find_coordinate(coordinate_node, "coordinate"), 1});
       const CoordinateKind ck = parsed.coordinates[term.factors[0].coordinate].kind;
-      if (ck != CoordinateKind::dihedral && ck != CoordinateKind::out_of_plane_angle && ck != CoordinateKind::angle)
-        reader.fail(&coordinate_node, "a cosine_series needs a dihedral, angle or out_of_plane_angle coordinate");
+      if (ck != CoordinateKind::dihedral && ck != CoordinateKind::out_of_plane_angle &&
+          ck != CoordinateKind::angle)
+        reader.fail(&coordinate_node,
+                    "a cosine_series needs a dihedral, angle or out_of_plane_angle coordinate");
       const toml::node& barriers = reader.require(table, "barriers", "a cosine_series term");
       term.barriers = reader.numbers(barriers, "barriers");
       if (term.barriers.empty()) reader.fail(&barriers, "barriers must list at least one value");
@@ -557,13 +593,15 @@ ParsedFile parse_file(const std::string& text, const std::string& origin) {
       if (const toml::node* phases = table.get("phases")) {
         term.phases = reader.numbers(*phases, "phases");
         if (term.phases.size() != term.barriers.size())
-          reader.fail(phases, "phases must have as many entries as barriers (" + std::to_string(term.barriers.size()) +
-                                  "), got " + std::to_string(term.phases.size()));
+          reader.fail(phases, "phases must have as many entries as barriers (" +
+                                  std::to_string(term.barriers.size()) + "), got " +
+                                  std::to_string(term.phases.size()));
         for (double& phase : term.phases) phase *= angle_factor;
       }
     } else {
-      reader.fail(&kind_node, "unknown term kind '" + kind + "'; expected one of: morse, polynomial, coupling, "
-                                                             "cosine_series");
+      reader.fail(&kind_node, "unknown term kind '" + kind +
+                                  "'; expected one of: morse, polynomial, coupling, "
+                                  "cosine_series");
     }
     // The term's atoms and where each coordinate's atoms sit among them.
     std::set<int> atoms;
@@ -573,7 +611,8 @@ ParsedFile parse_file(const std::string& text, const std::string& origin) {
     for (const Factor& f : term.factors) {
       std::vector<int> local;
       for (int a : parsed.coordinates[f.coordinate].atoms)
-        local.push_back(static_cast<int>(std::lower_bound(term.atoms.begin(), term.atoms.end(), a) - term.atoms.begin()));
+        local.push_back(
+            static_cast<int>(std::lower_bound(term.atoms.begin(), term.atoms.end(), a) - term.atoms.begin()));
       term.local_atoms.push_back(local);
     }
     parsed.terms.push_back(term);
@@ -589,7 +628,8 @@ std::string read_text(const std::string& path) {
   return text.str();
 }
 
-std::unique_ptr<Potential> bind(const ParsedFile& parsed, const std::string& origin, const Molecule& molecule) {
+std::unique_ptr<Potential> bind(const ParsedFile& parsed, const std::string& origin,
+                                const Molecule& molecule) {
   if (parsed.elements.size() != molecule.atom_count())
     throw Error("valence force field '" + origin + "' is for " + std::to_string(parsed.elements.size()) +
                 " atoms but the molecule has " + std::to_string(molecule.atom_count()));

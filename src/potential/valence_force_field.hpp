@@ -32,11 +32,11 @@ std::unique_ptr<Potential> parse_valence_force_field(const std::string& toml_tex
 // reports and for tests that compare with the values the cited source publishes.
 struct ValenceForceFieldSource {
   std::string title;
-  std::vector<std::string> elements;   // element symbols in atom order
-  std::string citation;                // published source of the constants
-  std::string status;                  // "confirmed", "partly confirmed" or "from memory"
+  std::vector<std::string> elements;  // element symbols in atom order
+  std::string citation;               // published source of the constants
+  std::string status;                 // "confirmed", "partly confirmed" or "from memory"
   std::string notes;
-  std::string isotopologue;            // the isotopologue reported wavenumbers refer to, e.g. "1H2-16O"
+  std::string isotopologue;  // the isotopologue reported wavenumbers refer to, e.g. "1H2-16O"
   std::vector<double> reported_harmonic_wavenumbers_cm1;  // as published for this force field; may be empty
 };
 

@@ -19,7 +19,8 @@ json counts_to_json(const EvaluationCounts& counts) {
 // Report mode number (1-based, unique per vector) of each harmonic index.
 std::vector<int> report_number_of_mode(const AnalysisResult& analysis) {
   std::vector<int> number(analysis.modes.size(), 0);
-  for (const ModeLabel& mode : analysis.modes) number[static_cast<std::size_t>(mode.harmonic_index)] = mode.number;
+  for (const ModeLabel& mode : analysis.modes)
+    number[static_cast<std::size_t>(mode.harmonic_index)] = mode.number;
   return number;
 }
 
@@ -34,8 +35,8 @@ json force_constants_to_json(const AnharmonicResult& anharmonic, const std::vect
   const ForceConstantResult& result = anharmonic.force_constants;
   json cubic = json::array();
   for (const auto& entry : result.constants.cubic_entries(0.0))
-    cubic.push_back({{"modes", sorted_indices(number_of_mode, {entry.i, entry.j, entry.k})},
-                     {"value_cm1", entry.value}});
+    cubic.push_back(
+        {{"modes", sorted_indices(number_of_mode, {entry.i, entry.j, entry.k})}, {"value_cm1", entry.value}});
   json quartic = json::array();
   for (const auto& entry : result.constants.quartic_entries(0.0))
     quartic.push_back({{"modes", sorted_indices(number_of_mode, {entry.i, entry.j, entry.k, entry.l})},
@@ -67,7 +68,8 @@ json matrix_in_report_order(const Eigen::MatrixXd& matrix, const AnalysisResult&
   json rows = json::array();
   for (const ModeLabel& row : analysis.modes) {
     json values = json::array();
-    for (const ModeLabel& column : analysis.modes) values.push_back(matrix(row.harmonic_index, column.harmonic_index));
+    for (const ModeLabel& column : analysis.modes)
+      values.push_back(matrix(row.harmonic_index, column.harmonic_index));
     rows.push_back(values);
   }
   return rows;
@@ -92,7 +94,8 @@ json anharmonicity_to_json(const AnalysisResult& analysis, const AnharmonicResul
           {"x_vibrational_undeperturbed_cm1", matrix_in_report_order(vpt2.x_vibrational_plain_cm1, analysis)},
           {"degenerate_sets", degenerate},
           {"rotational_constants_cm1",
-           {vpt2.rotational_constants_cm1[0], vpt2.rotational_constants_cm1[1], vpt2.rotational_constants_cm1[2]}}};
+           {vpt2.rotational_constants_cm1[0], vpt2.rotational_constants_cm1[1],
+            vpt2.rotational_constants_cm1[2]}}};
 }
 
 // Quanta indexed by ν number − 1.

@@ -181,14 +181,16 @@ TEST(Cli, FamiliesWorksOnEveryShippedExampleAndWritesBackbones) {
   // CO2: one family each for ν1 and ν3; the bend's standing and rotating families.
   ASSERT_EQ(document["families"].size(), 4u);
   int files = 0;
-  for (const auto& entry : std::filesystem::directory_iterator(folder)) files += entry.path().extension() == ".csv";
+  for (const auto& entry : std::filesystem::directory_iterator(folder))
+    files += entry.path().extension() == ".csv";
   EXPECT_EQ(files, 4);
 }
 
 TEST(Cli, AnalyzeIncludesTheAnharmonicAndFamiliesStages) {
   const std::string out = ::testing::TempDir() + "overtone-analyze-all-" + std::to_string(getpid());
   std::filesystem::remove_all(out);
-  const ProgramRun result = run("analyze " + example_arguments("carbon-dioxide") + " --quanta 1 --out " + out);
+  const ProgramRun result =
+      run("analyze " + example_arguments("carbon-dioxide") + " --quanta 1 --out " + out);
   ASSERT_EQ(result.status, 0) << result.err;
   const auto document = nlohmann::json::parse(slurp(out + "/analysis.json"));
   for (const char* key : {"modes", "levels", "resonances", "families", "resonance_cross_check"})
@@ -200,8 +202,8 @@ TEST(Cli, AnalyzeIncludesTheAnharmonicAndFamiliesStages) {
 
 TEST(Cli, ExportedTaylorExpansionIsAPotentialForEveryCommand) {
   const std::string taylor = write_temp("water-taylor.toml", "");
-  const ProgramRun exported = run("anharmonic " + example_arguments("water") + " --export-taylor " + taylor +
-                                  " --json -");
+  const ProgramRun exported =
+      run("anharmonic " + example_arguments("water") + " --export-taylor " + taylor + " --json -");
   ASSERT_EQ(exported.status, 0) << exported.err;
   const auto original = nlohmann::json::parse(exported.out);
   const std::string water = source_dir + "/molecules/water.xyz -p " + taylor;
@@ -214,8 +216,8 @@ TEST(Cli, ExportedTaylorExpansionIsAPotentialForEveryCommand) {
   constexpr double round_trip_cm1 = 1e-3;
   ASSERT_EQ(reread["levels"].size(), original["levels"].size());
   for (std::size_t k = 0; k < original["modes"].size(); ++k)
-    EXPECT_NEAR(reread["modes"][k]["frequency_cm1"].get<double>(), original["modes"][k]["frequency_cm1"].get<double>(),
-                round_trip_cm1);
+    EXPECT_NEAR(reread["modes"][k]["frequency_cm1"].get<double>(),
+                original["modes"][k]["frequency_cm1"].get<double>(), round_trip_cm1);
   for (std::size_t k = 0; k < original["levels"].size(); ++k)
     EXPECT_NEAR(reread["levels"][k]["anharmonic_cm1"].get<double>(),
                 original["levels"][k]["anharmonic_cm1"].get<double>(), round_trip_cm1);

@@ -55,7 +55,8 @@ TEST(FamilyTypes, HenonHeilesHasExactlyThreeFamilyTypes) {
       EXPECT_EQ(family.copies, 3);            // three mirror lines
       EXPECT_EQ(family.time_reversal, TimeReversal::same_family);
       const PhasedElement& mirror = family.subgroup[1];
-      if (mirror.numerator == 0) ++standing_kept;
+      if (mirror.numerator == 0)
+        ++standing_kept;
       else {
         ++standing_twisted;
         EXPECT_EQ(mirror.denominator, 2);
@@ -71,16 +72,18 @@ TEST(FamilyTypes, HenonHeilesHasExactlyThreeFamilyTypes) {
 TEST(FamilyTypes, HenonHeilesOrbitsKeepTheirPredictedSymmetry) {
   const HenonHeiles system;
   const CoordinateSymmetry symmetry = henon_heiles_symmetry();
-  const FamilyEnumeration enumeration =
-      enumerate_families(blocks_by_frequency(system.harmonic_angular_frequencies()), symmetry, system.units());
+  const FamilyEnumeration enumeration = enumerate_families(
+      blocks_by_frequency(system.harmonic_angular_frequencies()), symmetry, system.units());
   ContinuationOptions options;
   options.energy_max = 0.1;  // 60% of the escape energy 1/6
   for (const FamilyType& family : enumeration.families) {
     const ContinuationResult result = continue_family(system, family.seed, options);
-    ASSERT_EQ(result.status, ContinuationStatus::reached_energy_max) << family.description << ": " << result.message;
+    ASSERT_EQ(result.status, ContinuationStatus::reached_energy_max)
+        << family.description << ": " << result.message;
     EXPECT_EQ(result.reduced_dimension, family.standing && family.seed.shift_denominator == 1 ? 1 : 2);
     for (const OrbitPoint& point : result.points) {
-      EXPECT_LT(point.symmetry_residual, kSymmetryResidual) << family.description << " at E = " << point.energy;
+      EXPECT_LT(point.symmetry_residual, kSymmetryResidual)
+          << family.description << " at E = " << point.energy;
       EXPECT_LT(point.energy_drift, kEnergyDrift);
       EXPECT_LT(point.closure_error, kClosure);
     }
@@ -139,8 +142,8 @@ TEST(FamilyTypes, InterpolatedAndDirectVariationalEquationsAgree) {
 TEST(FamilyTypes, NondegenerateModesGetExactlyOneFamilyEach) {
   // Two uncoupled-at-harmonic-order coordinates with different frequencies, with the
   // reflection of the second one as symmetry: V = ½(ω₁²x² + ω₂²y²) + ....
-  const CoordinateSymmetry symmetry = symmetry_from_matrices({Eigen::Vector2d(1.0, -1.0).asDiagonal().toDenseMatrix()},
-                                                             {"σ"});
+  const CoordinateSymmetry symmetry =
+      symmetry_from_matrices({Eigen::Vector2d(1.0, -1.0).asDiagonal().toDenseMatrix()}, {"σ"});
   const auto blocks = blocks_by_frequency(Eigen::Vector2d(1.0, 1.7));
   ASSERT_EQ(blocks.size(), 2u);
   const FamilyEnumeration enumeration = enumerate_families(blocks, symmetry, UnitConventions{});

@@ -61,7 +61,8 @@ Eigen::VectorXd newton_minimum(const Potential& potential, Eigen::VectorXd x) {
     for (Eigen::Index k = 0; k < x.size(); ++k) {
       const double lambda = solver.eigenvalues()(k);
       if (std::abs(lambda) > 1e-8 * largest)
-        step -= solver.eigenvectors().col(k) * (solver.eigenvectors().col(k).dot(gradient) / std::abs(lambda));
+        step -=
+            solver.eigenvectors().col(k) * (solver.eigenvectors().col(k).dot(gradient) / std::abs(lambda));
     }
     x += step;
   }
@@ -103,7 +104,8 @@ void expect_orbits_keep_their_symmetry(const FamiliesResult& result) {
         << family.type.description << ": " << family.backbone.message;
     EXPECT_GE(family.backbone.points.size(), 3u);
     for (const OrbitPoint& point : family.backbone.points) {
-      EXPECT_LT(point.symmetry_residual, kSymmetryResidual) << family.type.description << " at " << point.energy_cm1;
+      EXPECT_LT(point.symmetry_residual, kSymmetryResidual)
+          << family.type.description << " at " << point.energy_cm1;
       EXPECT_LT(point.closure_error, kClosure) << family.type.description;
       EXPECT_LT(point.energy_drift, kEnergyDrift) << family.type.description;
       EXPECT_GT(point.amplitude_angstrom, 0.0);
@@ -136,8 +138,8 @@ TEST(MolecularFamilies, HydrogenChlorideMorseThroughTheMolecularAdapter) {
   ASSERT_EQ(result.families.size(), 1u);
   const ContinuationResult& backbone = result.families[0].backbone;
   ASSERT_EQ(backbone.status, ContinuationStatus::reached_energy_max) << backbone.message;
-  const double omega0 = backbone.points.front().frequency_cm1 /
-                        std::sqrt(1.0 - backbone.points.front().energy_cm1 / depth);
+  const double omega0 =
+      backbone.points.front().frequency_cm1 / std::sqrt(1.0 - backbone.points.front().energy_cm1 / depth);
   EXPECT_NEAR(omega0, omega_e, 1e-3);  // the potential reproduces ω_e (its header: to ~1e-9 relative)
   for (const OrbitPoint& point : backbone.points) {
     // ω(E) = ω_e sqrt(1 − E/D_e) (Morse, Phys. Rev. 34, 57 (1929)).
@@ -157,7 +159,8 @@ TEST(MolecularFamilies, AmmoniaDegenerateModesHaveThreeTypesWithTheirSymmetry) {
   const Prepared p = prepare("ammonia.xyz", "ammonia.toml");
   ASSERT_EQ(p.group.group.name, "C3v");
   FamiliesOptions options = quick_options();
-  const FamiliesResult result = compute_molecular_families(*p.potential, p.harmonic, p.group, p.species, {}, options);
+  const FamiliesResult result =
+      compute_molecular_families(*p.potential, p.harmonic, p.group, p.species, {}, options);
   // C3v ≅ D3 acting on E as on R²: the three types of Golubitsky, Stewart and Schaeffer
   // (1988, ch. XVIII) for dihedral D_n with n odd: rotating (Z̃3: order 3, two senses),
   // standing in a mirror plane (D1: order 2, three planes), standing that a mirror maps
@@ -191,7 +194,8 @@ TEST(MolecularFamilies, MethaneTripleAndDoubleDegenerateModesHaveTheirPredictedT
   ASSERT_EQ(lower_t2.size(), 3u);
   ASSERT_EQ(e_block.size(), 2u);
   options.mode_numbers = {lower_t2.front() + 1, e_block.front() + 1};
-  const FamiliesResult result = compute_molecular_families(*p.potential, p.harmonic, p.group, p.species, {}, options);
+  const FamiliesResult result =
+      compute_molecular_families(*p.potential, p.harmonic, p.group, p.species, {}, options);
   // Td acting on T2 (as on the Cartesian x, y, z), twisted isotropy subgroups with a
   // one-dimensional fixed space, derived by hand from the subgroup lattice of Td (common
   // practice, no source): standing along a twofold (S4) axis (D2d-type, order 8, 3 axes,
@@ -199,8 +203,8 @@ TEST(MolecularFamilies, MethaneTripleAndDoubleDegenerateModesHaveTheirPredictedT
   // (C3v, 4 axes); rotating about an S4 axis (S4 advancing a quarter period, 3 axes × 2
   // senses); standing along a twofold direction within a mirror plane (C2v-type, order 4,
   // 6 directions); rotating about a threefold axis (C3 advancing a third, 4 × 2).
-  const std::multiset<TypeKey> t2 = {{8, 3, true, 2}, {6, 4, true, 1}, {4, 6, false, 4}, {4, 6, true, 2},
-                                     {3, 8, false, 3}};
+  const std::multiset<TypeKey> t2 = {
+      {8, 3, true, 2}, {6, 4, true, 1}, {4, 6, false, 4}, {4, 6, true, 2}, {3, 8, false, 3}};
   // Td acts on E through Td/D2 ≅ D3: the three dihedral types, each with D2 kept.
   const std::multiset<TypeKey> e = {{12, 2, false, 3}, {8, 3, true, 1}, {8, 3, true, 2}};
   int t2_blocks = 0;
@@ -227,7 +231,8 @@ TEST(MolecularFamilies, CarbonDioxideBendHasStandingAndRotatingFamiliesAndTheFer
   options.continuation.compute_floquet = true;
   options.continuation.max_energy_step_fraction = 0.1;
   options.continuation.start_energy_fraction = 1e-3;  // below the stretch's instability (~10 cm⁻¹)
-  const FamiliesResult result = compute_molecular_families(*p.potential, p.harmonic, p.group, p.species, {}, options);
+  const FamiliesResult result =
+      compute_molecular_families(*p.potential, p.harmonic, p.group, p.species, {}, options);
   int standing = 0, rotating = 0;
   for (const FamilyResult& family : result.families) {
     const FamilyType& type = family.type;
@@ -289,7 +294,8 @@ TEST(MolecularFamilies, WaterHasOneFamilyPerNondegenerateMode) {
   FamiliesOptions options = quick_options();
   options.continue_families = false;
   options.quanta = 0.0;
-  const FamiliesResult result = compute_molecular_families(*p.potential, p.harmonic, p.group, p.species, {}, options);
+  const FamiliesResult result =
+      compute_molecular_families(*p.potential, p.harmonic, p.group, p.species, {}, options);
   ASSERT_EQ(result.families.size(), 3u);
   for (const FamilyResult& family : result.families) {
     EXPECT_TRUE(family.type.standing);
@@ -318,7 +324,8 @@ TEST(MolecularFamilies, WithoutAUsableGroupNondegenerateModesKeepTheirFamilies) 
   p.harmonic.mass_weighted_modes.col(partner) = std::sin(angle) * a + std::cos(angle) * b;
   FamiliesOptions options;
   options.continue_families = false;
-  const FamiliesResult result = compute_molecular_families(*p.potential, p.harmonic, p.group, p.species, {}, options);
+  const FamiliesResult result =
+      compute_molecular_families(*p.potential, p.harmonic, p.group, p.species, {}, options);
   EXPECT_EQ(result.families.size(), 2u);  // the two A1 modes; no prediction for the E pairs
   for (const FamilyResult& family : result.families) EXPECT_EQ(family.type.mode_numbers.size(), 1u);
   bool explained = false;
@@ -332,7 +339,8 @@ TEST(MolecularFamilies, ReportAndCsvCoverEveryContinuedFamily) {
   FamiliesOptions options = quick_options();
   options.continuation.compute_floquet = true;
   options.continuation.ladder_max_level = 2;
-  const FamiliesResult result = compute_molecular_families(*p.potential, p.harmonic, p.group, p.species, {}, options);
+  const FamiliesResult result =
+      compute_molecular_families(*p.potential, p.harmonic, p.group, p.species, {}, options);
   const std::string report = families_text_report(result);
   for (std::size_t i = 0; i < result.families.size(); ++i) {
     EXPECT_NE(report.find("Family " + std::to_string(i + 1) + " - modes"), std::string::npos);

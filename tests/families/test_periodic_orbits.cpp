@@ -61,7 +61,8 @@ TEST(PeriodicOrbits, MorseFrequencyFollowsClosedFormToHalfTheDissociationEnergy)
   for (const auto& point : result.points) {
     // ω(E) = ω₀ sqrt(1 − E/D_e): closed form for the Morse oscillator (Morse 1929).
     const double expected = omega0 * std::sqrt(1.0 - point.energy / morse.dissociation_energy());
-    EXPECT_NEAR(point.angular_frequency / expected, 1.0, kMorseFrequencyRelative) << "at E = " << point.energy_cm1;
+    EXPECT_NEAR(point.angular_frequency / expected, 1.0, kMorseFrequencyRelative)
+        << "at E = " << point.energy_cm1;
     EXPECT_TRUE(point.stable);  // one degree of freedom: only the neutral pair
     EXPECT_EQ(point.floquet_multipliers.size(), 2u);
   }

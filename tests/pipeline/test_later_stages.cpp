@@ -2,7 +2,6 @@
 // modes table, the minimum required, and the Fermi 1:2 resonances of the perturbative
 // stage checked pair by pair against the families' per-family symmetry rule.
 #include <gtest/gtest.h>
-
 #include <unistd.h>
 
 #include <algorithm>
@@ -99,7 +98,8 @@ TEST(LaterStages, MethaneAndAmmoniaResonanceRulesAgree) {
 
   const Analysed ammonia = run("ammonia");
   const AnharmonicResult nh3 = analyze_anharmonic(ammonia.analysis, *ammonia.potential);
-  const FamiliesResult nh3_families = analyze_families(ammonia.analysis, *ammonia.potential, enumeration_only());
+  const FamiliesResult nh3_families =
+      analyze_families(ammonia.analysis, *ammonia.potential, enumeration_only());
   int compared = 0;
   for (const auto& check : cross_check_resonances(ammonia.analysis, nh3, nh3_families)) {
     EXPECT_TRUE(check.agree) << check.summary;
@@ -129,7 +129,8 @@ TEST(LaterStages, ModeSelectionUsesTheNuNumbersOfTheModesTable) {
 
 TEST(LaterStages, AnUnconvergedStructureIsRefusedWithItsReason) {
   // A stretched water molecule and an optimizer allowed almost no steps.
-  const std::string path = ::testing::TempDir() + "overtone-stretched-water-" + std::to_string(::getpid()) + ".xyz";
+  const std::string path =
+      ::testing::TempDir() + "overtone-stretched-water-" + std::to_string(::getpid()) + ".xyz";
   std::ofstream(path) << "3\nstretched water\nO 0 0 0\nH 0 0.9 0.9\nH 0 -0.9 0.9\n";
   Analysed water;
   water.molecule = read_molecule(path).molecule;

@@ -1,13 +1,11 @@
 // Tests of the valence force field potential (src/potential/valence_force_field.hpp) and of
 // the shipped force-field files in potentials/.
-#include "potential/valence_force_field.hpp"
-
 #include <gtest/gtest.h>
 #include <openbabel/elements.h>
 
 #include <Eigen/Dense>
-#include <cmath>
 #include <algorithm>
+#include <cmath>
 #include <fstream>
 #include <functional>
 #include <random>
@@ -17,6 +15,7 @@
 #include "core/error.hpp"
 #include "core/units.hpp"
 #include "potential/detail_internal_coordinates.hpp"
+#include "potential/valence_force_field.hpp"
 
 namespace overtone {
 namespace {
@@ -59,12 +58,18 @@ const std::string source_dir = OVERTONE_SOURCE_DIR;
 // Most abundant isotope, so that wavenumbers refer to the isotopologues the files name.
 int principal_mass_number(int atomic_number) {
   switch (atomic_number) {
-    case 1: return 1;
-    case 6: return 12;
-    case 7: return 14;
-    case 8: return 16;
-    case 17: return 35;
-    default: return 0;
+    case 1:
+      return 1;
+    case 6:
+      return 12;
+    case 7:
+      return 14;
+    case 8:
+      return 16;
+    case 17:
+      return 35;
+    default:
+      return 0;
   }
 }
 
@@ -97,8 +102,11 @@ struct ShippedField {
 };
 
 const std::vector<ShippedField> shipped_fields = {
-    {"hcl-morse.toml", "hcl.xyz"},     {"water.toml", "water.xyz"},     {"carbon-dioxide.toml", "carbon-dioxide.xyz"},
-    {"ammonia.toml", "ammonia.xyz"},   {"methane.toml", "methane.xyz"},
+    {"hcl-morse.toml", "hcl.xyz"},
+    {"water.toml", "water.xyz"},
+    {"carbon-dioxide.toml", "carbon-dioxide.xyz"},
+    {"ammonia.toml", "ammonia.xyz"},
+    {"methane.toml", "methane.xyz"},
 };
 
 std::string potential_path(const std::string& file) { return source_dir + "/potentials/" + file; }
@@ -206,7 +214,9 @@ Molecule water_molecule() { return read_example("water.xyz"); }
 std::string water_file(const std::string& terms, const std::string& elements = "[\"O\", \"H\", \"H\"]") {
   return "format_version = 1\n"
          "title = \"test water\"\n"
-         "elements = " + elements + "\n"
+         "elements = " +
+         elements +
+         "\n"
          "[units]\nenergy = \"aJ\"\nlength = \"angstrom\"\nangle = \"degree\"\n"
          "[source]\ncitation = \"test\"\nstatus = \"from memory\"\n"
          "[[coordinates]]\nname = \"r1\"\nkind = \"distance\"\natoms = [1, 2]\nreference = 0.9572\n"
@@ -219,7 +229,8 @@ std::string water_file(const std::string& terms, const std::string& elements = "
 std::string line_of(const std::string& text, const std::string& needle) {
   const std::size_t position = text.find(needle);
   EXPECT_NE(position, std::string::npos) << needle;
-  return "line " + std::to_string(1 + std::count(text.begin(), text.begin() + static_cast<std::ptrdiff_t>(position), '\n'));
+  return "line " + std::to_string(1 + std::count(text.begin(),
+                                                 text.begin() + static_cast<std::ptrdiff_t>(position), '\n'));
 }
 
 const std::string one_term = "[[terms]]\nkind = \"polynomial\"\ncoordinate = \"r1\"\nf2 = 8.0\n";
@@ -242,9 +253,11 @@ TEST(ValenceForceField, AnalyticDerivativesMatchCentralDifferencesForShippedFile
     const auto potential = load_valence_force_field(potential_path(field.potential), molecule);
     EXPECT_TRUE(potential->has_analytic_hessian());
     for (int trial = 0; trial < 3; ++trial) {
-      const Eigen::VectorXd x = molecule.coordinates() +
-                                random_displacement(generator, 3 * molecule.atom_count(), kDisplacementAmplitudeAngstrom);
-      expect_derivatives_match_differences(*potential, x, field.potential + " trial " + std::to_string(trial));
+      const Eigen::VectorXd x =
+          molecule.coordinates() +
+          random_displacement(generator, 3 * molecule.atom_count(), kDisplacementAmplitudeAngstrom);
+      expect_derivatives_match_differences(*potential, x,
+                                           field.potential + " trial " + std::to_string(trial));
     }
   }
 }
@@ -282,7 +295,8 @@ TEST(ValenceForceField, EnergyGradientAndHessianFollowRigidMotions) {
     const double e = potential->energy_and_gradient(x, g);
     const double e_moved = potential->energy_and_gradient(moved, g_moved);
     EXPECT_NEAR(e_moved, e, kInvarianceRelativeTolerance * std::max(1.0, std::abs(e))) << field.potential;
-    EXPECT_LT((g_moved - block_rotation * g).norm(), kInvarianceRelativeTolerance * std::max(1.0, g.norm()) * 10)
+    EXPECT_LT((g_moved - block_rotation * g).norm(),
+              kInvarianceRelativeTolerance * std::max(1.0, g.norm()) * 10)
         << field.potential;
     const Eigen::MatrixXd h = potential->hessian(x);
     const Eigen::MatrixXd h_moved = potential->hessian(moved);
@@ -304,7 +318,8 @@ TEST(ValenceForceField, LinearBendSeriesMatchesClosedFormOnBothSidesOfTheSwitch)
     const Vec3<double> center{0.0, 0.0, 0.0};
     const Vec3<double> b{1.3 * std::cos(s), 1.3 * std::sin(s), 0.0};
     const double value = detail::linear_bend_squared(a, center, b);
-    EXPECT_NEAR(value, s * s, kClosedFormRelativeTolerance * std::max(s * s, 1e-12)) << bend_degrees << " degrees";
+    EXPECT_NEAR(value, s * s, kClosedFormRelativeTolerance * std::max(s * s, 1e-12))
+        << bend_degrees << " degrees";
   }
 }
 
@@ -322,8 +337,8 @@ TEST(ValenceForceField, LinearBendIsSmoothAtAndNearLinearity) {
   // Slightly bent (1e-4 rad, 0.01 rad) and bent out of the xz plane.
   for (double bend : {1e-7, 1e-4, 1e-2}) {
     Eigen::VectorXd x = linear;
-    x[0] += 1.16 * bend;         // first O off axis in x
-    x[7] += 0.5 * 1.16 * bend;   // second O off axis in y
+    x[0] += 1.16 * bend;        // first O off axis in x
+    x[7] += 0.5 * 1.16 * bend;  // second O off axis in y
     expect_derivatives_match_differences(*potential, x, "CO2 bent by " + std::to_string(bend));
   }
 }
@@ -332,7 +347,7 @@ TEST(ValenceForceField, CarbonDioxideBendIsDoublyDegenerateAndTunedToFermiResona
   const Molecule molecule = read_example("carbon-dioxide.xyz");
   const auto potential = load_valence_force_field(potential_path("carbon-dioxide.toml"), molecule);
   const Eigen::VectorXd w = harmonic_wavenumbers(molecule, potential->hessian(molecule.coordinates()));
-  ASSERT_EQ(w.size(), 4);  // 3N − 5 for a linear triatomic
+  ASSERT_EQ(w.size(), 4);                            // 3N − 5 for a linear triatomic
   EXPECT_NEAR(w[0], w[1], kDegeneracyToleranceCm1);  // πu bend, both components from one s² term
   const auto source = read_valence_force_field_source(potential_path("carbon-dioxide.toml"));
   ASSERT_EQ(source.reported_harmonic_wavenumbers_cm1.size(), 3u);
@@ -358,7 +373,8 @@ TEST(ValenceForceField, LinearBendEnergyIsTheTaylorSeriesInPiMinusTheta) {
     Eigen::VectorXd x(9);
     x << -1.2, 0.0, 0.0, 0.0, 0.0, 0.0, 1.2 * std::cos(s), 1.2 * std::sin(s), 0.0;
     const double expected = 30.0 * s * s / 2.0 - 12.0 * std::pow(s, 4) / 24.0;
-    EXPECT_NEAR(potential->energy(x), expected, kClosedFormRelativeTolerance * std::max(1.0, std::abs(expected)));
+    EXPECT_NEAR(potential->energy(x), expected,
+                kClosedFormRelativeTolerance * std::max(1.0, std::abs(expected)));
   }
 }
 
@@ -367,8 +383,8 @@ TEST(ValenceForceField, LinearBendEnergyIsTheTaylorSeriesInPiMinusTheta) {
 TEST(ValenceForceField, CouplingConstantIsTheMixedTaylorDerivative) {
   // f listed with coordinates [r1, r1, a] is ∂³V/∂r1²∂a: V = f Δr1² Δa / 2 (closed form).
   const auto potential = parse_valence_force_field(
-      water_file("[[terms]]\nkind = \"coupling\"\ncoordinates = [\"r1\", \"r1\", \"a\"]\nf = 0.8\n"), "convention test",
-      water_molecule());
+      water_file("[[terms]]\nkind = \"coupling\"\ncoordinates = [\"r1\", \"r1\", \"a\"]\nf = 0.8\n"),
+      "convention test", water_molecule());
   const double dr = 0.03, da = 0.05;
   const double r1 = 0.9572 + dr, theta = 104.52 * units::pi / 180.0 + da;
   Eigen::VectorXd x(9);
@@ -388,7 +404,7 @@ TEST(ValenceForceField, HclHarmonicWavenumberEqualsHandbookOmegaE) {
   const Eigen::VectorXd x = molecule.coordinates();
   const Eigen::MatrixXd hessian = potential->hessian(x);
   const Eigen::Vector3d axis = (x.segment<3>(3) - x.segment<3>(0)).normalized();
-  const double k = axis.dot(hessian.block<3, 3>(0, 0) * axis);   // kcal/mol/Å²
+  const double k = axis.dot(hessian.block<3, 3>(0, 0) * axis);  // kcal/mol/Å²
   const double m_h = OpenBabel::OBElements::GetExactMass(1, 1);
   const double m_cl = OpenBabel::OBElements::GetExactMass(17, 35);
   const double reduced_mass = m_h * m_cl / (m_h + m_cl);
@@ -408,7 +424,7 @@ TEST(ValenceForceField, ShippedFieldsGiveTheirRecordedHarmonicWavenumbers) {
     double tolerance;
   };
   const std::vector<Expectation> expectations = {
-      {"water.toml", "water.xyz", {1, 0, 2}, kWaterWavenumberToleranceCm1},   // ω1, ω2, ω3
+      {"water.toml", "water.xyz", {1, 0, 2}, kWaterWavenumberToleranceCm1},  // ω1, ω2, ω3
       {"ammonia.toml", "ammonia.xyz", {3, 0, 4, 1}, kFittedWavenumberToleranceCm1},
       {"methane.toml", "methane.xyz", {5, 3, 6, 0}, kFittedWavenumberToleranceCm1},
   };
@@ -434,12 +450,15 @@ TEST(ValenceForceField, DihedralOutOfPlaneAndFiveAtomTermsHaveExactDerivatives) 
            "[units]\nenergy = \"kJ/mol\"\nlength = \"angstrom\"\nangle = \"degree\"\n"
            "[source]\ncitation = \"test\"\nstatus = \"from memory\"\n";
   };
-  const std::string ammonia = header("[\"N\", \"H\", \"H\", \"H\"]") +
+  const std::string ammonia =
+      header("[\"N\", \"H\", \"H\", \"H\"]") +
       "[[coordinates]]\nname = \"d\"\nkind = \"dihedral\"\natoms = [2, 1, 3, 4]\nreference = 100.0\n"
-      "[[coordinates]]\nname = \"w\"\nkind = \"out_of_plane_angle\"\natoms = [1, 2, 3, 4]\nreference = -20.0\n"
+      "[[coordinates]]\nname = \"w\"\nkind = \"out_of_plane_angle\"\natoms = [1, 2, 3, 4]\nreference = "
+      "-20.0\n"
       "[[coordinates]]\nname = \"h\"\nkind = \"pyramid_height\"\natoms = [1, 2, 3, 4]\nreference = 0.38\n"
       "[[coordinates]]\nname = \"r\"\nkind = \"distance\"\natoms = [1, 2]\nreference = 1.01\n"
-      "[[terms]]\nkind = \"cosine_series\"\ncoordinate = \"d\"\nbarriers = [3.0, -1.5, 2.0]\nphases = [0, 90, 180]\n"
+      "[[terms]]\nkind = \"cosine_series\"\ncoordinate = \"d\"\nbarriers = [3.0, -1.5, 2.0]\nphases = [0, "
+      "90, 180]\n"
       "[[terms]]\nkind = \"polynomial\"\ncoordinate = \"d\"\nf2 = 40.0\nf3 = 5.0\n"
       "[[terms]]\nkind = \"polynomial\"\ncoordinate = \"w\"\nf2 = 60.0\nf4 = 30.0\n"
       "[[terms]]\nkind = \"polynomial\"\ncoordinate = \"h\"\nf2 = 900.0\nf3 = -500.0\nf4 = 800.0\n"
@@ -452,7 +471,8 @@ TEST(ValenceForceField, DihedralOutOfPlaneAndFiveAtomTermsHaveExactDerivatives) 
         *kinds, nh3.coordinates() + random_displacement(generator, 12, kDisplacementAmplitudeAngstrom),
         "ammonia kinds trial " + std::to_string(trial));
 
-  const std::string methane = header("[\"C\", \"H\", \"H\", \"H\", \"H\"]") +
+  const std::string methane =
+      header("[\"C\", \"H\", \"H\", \"H\", \"H\"]") +
       "[[coordinates]]\nname = \"a12\"\nkind = \"angle\"\natoms = [2, 1, 3]\nreference = 109.4712206\n"
       "[[coordinates]]\nname = \"a34\"\nkind = \"angle\"\natoms = [4, 1, 5]\nreference = 109.4712206\n"
       "[[coordinates]]\nname = \"r1\"\nkind = \"distance\"\natoms = [1, 2]\nreference = 1.087\n"
@@ -499,14 +519,16 @@ TEST(ValenceForceFieldErrors, MissingFileNamesThePath) {
 
 TEST(ValenceForceFieldErrors, MalformedTomlNamesOriginAndLine) {
   const std::string text = water_file("[[terms]]\nkind = \"polynomial\nf2 = 1\n");  // unterminated string
-  const std::string message = error_message([&] { parse_valence_force_field(text, "bad.toml", water_molecule()); });
+  const std::string message =
+      error_message([&] { parse_valence_force_field(text, "bad.toml", water_molecule()); });
   EXPECT_NE(message.find("bad.toml"), std::string::npos) << message;
   EXPECT_NE(message.find(line_of(text, "kind = \"polynomial\n")), std::string::npos) << message;
 }
 
 TEST(ValenceForceFieldErrors, ElementMismatchNamesTheAtom) {
   const std::string message = error_message([] {
-    parse_valence_force_field(water_file(one_term, "[\"O\", \"H\", \"F\"]"), "mismatch.toml", water_molecule());
+    parse_valence_force_field(water_file(one_term, "[\"O\", \"H\", \"F\"]"), "mismatch.toml",
+                              water_molecule());
   });
   EXPECT_NE(message.find("atom 3"), std::string::npos) << message;
   EXPECT_NE(message.find("F"), std::string::npos) << message;
@@ -514,7 +536,8 @@ TEST(ValenceForceFieldErrors, ElementMismatchNamesTheAtom) {
 
 TEST(ValenceForceFieldErrors, AtomCountMismatchSaysBothCounts) {
   const std::string message = error_message([] {
-    parse_valence_force_field(water_file(one_term, "[\"O\", \"H\", \"H\", \"H\"]"), "count.toml", water_molecule());
+    parse_valence_force_field(water_file(one_term, "[\"O\", \"H\", \"H\", \"H\"]"), "count.toml",
+                              water_molecule());
   });
   EXPECT_NE(message.find("4 atoms"), std::string::npos) << message;
   EXPECT_NE(message.find("3"), std::string::npos) << message;
@@ -523,7 +546,8 @@ TEST(ValenceForceFieldErrors, AtomCountMismatchSaysBothCounts) {
 TEST(ValenceForceFieldErrors, AtomIndexOutOfRangeNamesCoordinateAndLine) {
   std::string text = water_file(one_term);
   text.replace(text.find("atoms = [1, 3]"), 14, "atoms = [1, 4]");
-  const std::string message = error_message([&] { parse_valence_force_field(text, "range.toml", water_molecule()); });
+  const std::string message =
+      error_message([&] { parse_valence_force_field(text, "range.toml", water_molecule()); });
   EXPECT_NE(message.find("atom number 4"), std::string::npos) << message;
   EXPECT_NE(message.find("r2"), std::string::npos) << message;
   EXPECT_NE(message.find("line"), std::string::npos) << message;
@@ -531,7 +555,8 @@ TEST(ValenceForceFieldErrors, AtomIndexOutOfRangeNamesCoordinateAndLine) {
 
 TEST(ValenceForceFieldErrors, UnknownTermKindListsTheKnownOnes) {
   const std::string text = water_file("[[terms]]\nkind = \"harmonic\"\ncoordinate = \"r1\"\n");
-  const std::string message = error_message([&] { parse_valence_force_field(text, "kind.toml", water_molecule()); });
+  const std::string message =
+      error_message([&] { parse_valence_force_field(text, "kind.toml", water_molecule()); });
   EXPECT_NE(message.find("unknown term kind 'harmonic'"), std::string::npos) << message;
   EXPECT_NE(message.find("morse"), std::string::npos) << message;
   EXPECT_NE(message.find(line_of(text, "kind = \"harmonic\"")), std::string::npos) << message;
@@ -539,8 +564,9 @@ TEST(ValenceForceFieldErrors, UnknownTermKindListsTheKnownOnes) {
 
 TEST(ValenceForceFieldErrors, MisspelledKeyAndOddLinearBendPowerAreRejected) {
   const std::string typo = error_message([] {
-    parse_valence_force_field(water_file("[[terms]]\nkind = \"polynomial\"\ncoordinate = \"r1\"\nf22 = 1.0\n"),
-                              "typo.toml", water_molecule());
+    parse_valence_force_field(
+        water_file("[[terms]]\nkind = \"polynomial\"\ncoordinate = \"r1\"\nf22 = 1.0\n"), "typo.toml",
+        water_molecule());
   });
   EXPECT_NE(typo.find("unknown key 'f22'"), std::string::npos) << typo;
 
@@ -559,13 +585,16 @@ TEST(ValenceForceFieldErrors, MisspelledKeyAndOddLinearBendPowerAreRejected) {
 TEST(ValenceForceFieldErrors, UnknownUnitAndMissingSourceAreRejected) {
   std::string text = water_file(one_term);
   text.replace(text.find("\"aJ\""), 4, "\"erg\"");
-  EXPECT_NE(error_message([&] { parse_valence_force_field(text, "unit.toml", water_molecule()); })
-                .find("unknown energy unit 'erg'"),
+  EXPECT_NE(error_message([&] {
+              parse_valence_force_field(text, "unit.toml", water_molecule());
+            }).find("unknown energy unit 'erg'"),
             std::string::npos);
   std::string no_source = water_file(one_term);
-  no_source.erase(no_source.find("[source]"), std::string("[source]\ncitation = \"test\"\nstatus = \"from memory\"\n").size());
-  EXPECT_NE(error_message([&] { parse_valence_force_field(no_source, "source.toml", water_molecule()); })
-                .find("missing key 'source'"),
+  no_source.erase(no_source.find("[source]"),
+                  std::string("[source]\ncitation = \"test\"\nstatus = \"from memory\"\n").size());
+  EXPECT_NE(error_message([&] {
+              parse_valence_force_field(no_source, "source.toml", water_molecule());
+            }).find("missing key 'source'"),
             std::string::npos);
 }
 

@@ -104,8 +104,8 @@ TEST(StageJson, FamiliesDocumentOfWater) {
   ASSERT_EQ(list.size(), families.families.size());
   for (std::size_t f = 0; f < list.size(); ++f) {
     const auto& family = list[f];
-    for (const char* key : {"mode_numbers", "species", "copies", "description", "subgroup", "resonance_threats",
-                            "points", "events", "ladder"})
+    for (const char* key : {"mode_numbers", "species", "copies", "description", "subgroup",
+                            "resonance_threats", "points", "events", "ladder"})
       EXPECT_TRUE(family.contains(key)) << key;
     const ContinuationResult& backbone = families.families[f].backbone;
     ASSERT_EQ(family.at("points").size(), backbone.points.size());
@@ -116,8 +116,8 @@ TEST(StageJson, FamiliesDocumentOfWater) {
       EXPECT_TRUE(last.contains(key)) << key;
     EXPECT_DOUBLE_EQ(last.at("frequency_cm1").get<double>(), backbone.points.back().frequency_cm1);
     // T = 1/(c ν̃): period in fs from the wavenumber (CODATA c = 2.99792458e10 cm/s).
-    EXPECT_NEAR(last.at("period_fs").get<double>() * last.at("frequency_cm1").get<double>() * 2.99792458e-5, 1.0,
-                1e-9);
+    EXPECT_NEAR(last.at("period_fs").get<double>() * last.at("frequency_cm1").get<double>() * 2.99792458e-5,
+                1.0, 1e-9);
     ASSERT_GE(family.at("ladder").size(), 2u);  // n = 0 (zero-point) and n = 1 at one quantum
     EXPECT_EQ(family.at("ladder")[1].at("n"), 1);
     EXPECT_TRUE(family.at("ladder")[1].contains("transition_cm1"));
