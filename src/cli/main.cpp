@@ -5,6 +5,7 @@
 #include <fmt/format.h>
 
 #include <CLI/CLI.hpp>
+#include <algorithm>
 #include <cctype>
 #include <cmath>
 #include <filesystem>
@@ -305,11 +306,18 @@ int run_symmetry(const MoleculeArguments& arguments, bool optimize_first) {
 // lower-case line that says where to look.
 std::string usage_error_line(const CLI::ParseError& error) {
   std::string message = error.what();
-  if (!message.empty() && std::isupper(static_cast<unsigned char>(message[0])) &&
-      (message.size() < 2 || std::islower(static_cast<unsigned char>(message[1]))))
+  // "A subcommand is required" -> "a subcommand ..."; a name such as "MOLECULE" stays.
+  const std::string first_word = message.substr(0, message.find(' '));
+  const bool is_name = first_word.size() > 1 && std::none_of(first_word.begin(), first_word.end(), [](char c) {
+    return std::islower(static_cast<unsigned char>(c));
+  });
+  if (!message.empty() && !is_name)
     message[0] = static_cast<char>(std::tolower(static_cast<unsigned char>(message[0])));
   for (char& c : message)
     if (c == '\n') c = ' ';
+  // The README calls them commands.
+  for (std::size_t at = message.find("subcommand"); at != std::string::npos; at = message.find("subcommand", at))
+    message.replace(at, std::string("subcommand").size(), "command");
   return "overtone: error: " + printable_text(message) + " (see overtone --help)";
 }
 
@@ -378,6 +386,17 @@ int main(int argc, char** argv) {
   symmetry->add_flag("--with-modes", with_modes,
                      "optimize on the potential first and assign the species of the computed modes");
 
+  // CLI11 calls an unknown command word "a subcommand is required"; say what it was.
+  const auto is_command = [&](const std::string& word) {
+    for (const CLI::App* command : {modes, analyze, anharmonic, families, symmetry})
+      if (command->check_name(word)) return true;
+    return false;
+  };
+  if (argc > 1 && argv[1][0] != '-' && !is_command(argv[1])) {
+    std::cerr << "overtone: error: unknown command '" << printable_text(argv[1])
+              << "' (commands: modes, analyze, anharmonic, families, symmetry; see overtone --help)\n";
+    return user_error_status;
+  }
   try {
     app.parse(argc, argv);
   } catch (const CLI::Success& success) {
