@@ -52,7 +52,7 @@ std::string join(const std::vector<std::string>& parts, const std::string& separ
   return out;
 }
 
-std::string orientation_convention(const PointGroup& g) {
+std::string symmetry_frame_axes(const PointGroup& g) {
   switch (g.family) {
     case PointGroupFamily::C1:
     case PointGroupFamily::Ci:
@@ -105,7 +105,7 @@ std::string format_symmetry_report(const PointGroupResult& result, const ModeSym
   out << "\n";
   out << "  symmetrization moved atoms by at most " << short_number(result.max_deviation_angstrom)
       << " Å (tolerance " << short_number(result.tolerance_angstrom) << " Å, as given)\n";
-  out << "  symmetry frame: " << orientation_convention(g) << "\n";
+  out << "  symmetry frame: " << symmetry_frame_axes(g) << "\n";
   for (const auto& note : result.notes)
     if (note.rfind("tolerance ", 0) != 0) out << "  note: " << note << "\n";
   std::vector<std::string> orbits;
@@ -186,7 +186,7 @@ std::string format_symmetry_report(const PointGroupResult& result, const ModeSym
   out << "  Raman active: " << format_decomposition(g, raman, true) << "\n";
 
   if (modes) {
-    out << "\nNormal modes by species (" << (modes->frame == CoordinateFrame::Input ? "file" : "symmetry")
+    out << "\nNormal modes by species (" << (modes->frame == CoordinateFrame::File ? "file" : "symmetry")
         << " frame)\n";
     out << "    set  wavenumber/cm⁻¹  species  modes          IR  Raman  purity\n";
     for (std::size_t s = 0; s < modes->sets.size(); ++s) {
