@@ -35,7 +35,9 @@ constexpr int user_error_status = 1;
 constexpr int internal_error_status = 2;
 constexpr const char* smiles_prefix = "smiles:";
 
-void warn(const std::string& message) { std::cerr << "overtone: warning: " << printable_text(message) << "\n"; }
+void warn(const std::string& message) {
+  std::cerr << "overtone: warning: " << printable_text(message) << "\n";
+}
 
 struct MoleculeArguments {
   std::string molecule;
@@ -184,7 +186,8 @@ void check_range(double value, double largest, const std::string& option, const 
 
 // Checked before any work starts, so that a typing mistake costs no computing time.
 void check_family_arguments(const FamilyArguments& arguments) {
-  if (arguments.quanta_given()) check_range(arguments.quanta, max_family_quanta, "--quanta", "a number of quanta");
+  if (arguments.quanta_given())
+    check_range(arguments.quanta, max_family_quanta, "--quanta", "a number of quanta");
   if (arguments.energy_given())
     check_range(arguments.energy_max_cm1, max_family_energy_cm1, "--energy-max", "an energy in cm-1");
 }
@@ -308,15 +311,16 @@ std::string usage_error_line(const CLI::ParseError& error) {
   std::string message = error.what();
   // "A subcommand is required" -> "a subcommand ..."; a name such as "MOLECULE" stays.
   const std::string first_word = message.substr(0, message.find(' '));
-  const bool is_name = first_word.size() > 1 && std::none_of(first_word.begin(), first_word.end(), [](char c) {
-    return std::islower(static_cast<unsigned char>(c));
-  });
+  const bool is_name = first_word.size() > 1 &&
+                       std::none_of(first_word.begin(), first_word.end(),
+                                    [](char c) { return std::islower(static_cast<unsigned char>(c)); });
   if (!message.empty() && !is_name)
     message[0] = static_cast<char>(std::tolower(static_cast<unsigned char>(message[0])));
   for (char& c : message)
     if (c == '\n') c = ' ';
   // The README calls them commands.
-  for (std::size_t at = message.find("subcommand"); at != std::string::npos; at = message.find("subcommand", at))
+  for (std::size_t at = message.find("subcommand"); at != std::string::npos;
+       at = message.find("subcommand", at))
     message.replace(at, std::string("subcommand").size(), "command");
   return "overtone: error: " + printable_text(message) + " (see overtone --help)";
 }

@@ -26,8 +26,8 @@ bool is_bend_of_linear_triatomic(const HarmonicResult& harmonic, std::size_t ato
   return harmonic.linear && atom_count == triatomic_atoms && group.members.size() == bend_partners;
 }
 
-std::vector<ModeGroup> groups_in_report_order(const HarmonicResult& harmonic, const ModeSymmetryResult* species,
-                                              std::size_t atom_count) {
+std::vector<ModeGroup> groups_in_report_order(const HarmonicResult& harmonic,
+                                              const ModeSymmetryResult* species, std::size_t atom_count) {
   std::vector<ModeGroup> groups;
   if (species) {
     for (const auto& set : species->sets) groups.push_back({set.modes, set.irrep});
@@ -56,7 +56,8 @@ std::vector<ModeGroup> groups_in_report_order(const HarmonicResult& harmonic, co
 const ModeLabel& label_with_number(const std::vector<ModeLabel>& modes, int number) {
   for (const ModeLabel& mode : modes)
     if (mode.number == number) return mode;
-  throw Error(fmt::format("there is no mode number {} (the modes are numbered 1 to {})", number, modes.size()));
+  throw Error(
+      fmt::format("there is no mode number {} (the modes are numbered 1 to {})", number, modes.size()));
 }
 
 }  // namespace

@@ -14,7 +14,9 @@ namespace overtone {
 
 namespace {
 
-bool has_toml_extension(const std::string& path) { return std::filesystem::path(path).extension() == ".toml"; }
+bool has_toml_extension(const std::string& path) {
+  return std::filesystem::path(path).extension() == ".toml";
+}
 
 double isotope_mass_da(int atomic_number, int mass_number) {
   return OpenBabel::OBElements::GetExactMass(static_cast<unsigned>(atomic_number),
@@ -55,8 +57,9 @@ Molecule molecule_from_taylor_expansion(const TaylorExpansionData& data, const s
       const double listed = data.masses_da[static_cast<Eigen::Index>(a)];
       const int mass_number = mass_number_of(atom.atomic_number, listed);
       if (mass_number < 0)
-        warnings.push_back(fmt::format("'{}': the mass {} Da of atom {} ({}) is no isotope's mass; used as given",
-                                       origin, listed, a + 1, element_symbol(atom.atomic_number)));
+        warnings.push_back(
+            fmt::format("'{}': the mass {} Da of atom {} ({}) is no isotope's mass; used as given", origin,
+                        listed, a + 1, element_symbol(atom.atomic_number)));
       atom.mass_number = std::max(mass_number, 0);
       atom.mass_da = listed;
     }

@@ -149,7 +149,8 @@ std::vector<OutputFile> analysis_files(const RunResults& results) {
 }
 
 std::string taylor_expansion_text(const AnalysisResult& analysis, const AnharmonicResult& anharmonic) {
-  const std::string name = analysis.molecule.title.empty() ? analysis.molecule.formula() : analysis.molecule.title;
+  const std::string name =
+      analysis.molecule.title.empty() ? analysis.molecule.formula() : analysis.molecule.title;
   const TaylorExpansionData expansion = taylor_expansion_from_force_constants(
       anharmonic.force_constants, anharmonic.harmonic, analysis.molecule, ExpansionCoordinates::normal,
       name + " (quartic force field of " + analysis.potential_description + ")");

@@ -27,13 +27,14 @@ json phased_elements(const std::vector<PhasedElement>& elements, const PointGrou
 json threats_to_json(const std::vector<ResonanceThreat>& threats, const std::vector<ModeLabel>& modes) {
   json list = json::array();
   for (const ResonanceThreat& threat : threats)
-    list.push_back({{"partner_modes", threat.partner_mode_numbers},
-                    {"partner_fundamentals", fundamentals_of_mode_numbers(modes, threat.partner_mode_numbers)},
-                    {"partner_species", threat.partner_species},
-                    {"order", threat.order},
-                    {"detuning_cm1", threat.detuning_cm1},
-                    {"coupling_dimension", threat.coupling_dimension},
-                    {"symmetry_allowed", threat.symmetry_allowed}});
+    list.push_back(
+        {{"partner_modes", threat.partner_mode_numbers},
+         {"partner_fundamentals", fundamentals_of_mode_numbers(modes, threat.partner_mode_numbers)},
+         {"partner_species", threat.partner_species},
+         {"order", threat.order},
+         {"detuning_cm1", threat.detuning_cm1},
+         {"coupling_dimension", threat.coupling_dimension},
+         {"symmetry_allowed", threat.symmetry_allowed}});
   return list;
 }
 

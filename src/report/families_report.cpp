@@ -69,8 +69,8 @@ std::string families_summary(const FamiliesResult& result, const std::vector<Mod
     const FamilyResult& family = result.families[i];
     const FamilyType& type = family.type;
     const std::string species = species_text(type.mode_numbers, type.species, modes);
-    out << fmt::format("{:>3}  {:<14} {:<8} {:<9} copies {:<12} {}\n", i + 1, modes_text(type.mode_numbers, modes),
-                       species.empty() ? "-" : species,
+    out << fmt::format("{:>3}  {:<14} {:<8} {:<9} copies {:<12} {}\n", i + 1,
+                       modes_text(type.mode_numbers, modes), species.empty() ? "-" : species,
                        type.standing ? "standing" : "rotating", copies_text(type, true),
                        family.continued ? to_string(family.backbone.status) : "not continued");
   }
@@ -88,9 +88,8 @@ std::string families_text_report(const FamiliesResult& result, const std::vector
   for (const auto& warning : result.warnings) out << "  warning: " << warning << "\n";
   out << "\n";
   out << fmt::format("{:>3}  {:<14} {:<8} {:<9} {:>5}  {:<18} {:>6}  {:>10} {:>10} {:>10}  {}\n", "#",
-                     modes.empty() ? "modes" : "fundamental",
-                     "species", "motion", "|H|", "copies", "points", "omega(0)", "omega(max)", "E max",
-                     "status");
+                     modes.empty() ? "modes" : "fundamental", "species", "motion", "|H|", "copies", "points",
+                     "omega(0)", "omega(max)", "E max", "status");
   for (std::size_t i = 0; i < result.families.size(); ++i) {
     const FamilyResult& family = result.families[i];
     const FamilyType& type = family.type;
@@ -100,9 +99,8 @@ std::string families_text_report(const FamiliesResult& result, const std::vector
     const std::string species = species_text(type.mode_numbers, type.species, modes);
     if (points.empty()) {
       out << fmt::format("{:>3}  {:<14} {:<8} {:<9} {:>5}  {:<18} {:>6}  {:>10} {:>10} {:>10}  {}\n", i + 1,
-                         name, species.empty() ? "-" : species,
-                         type.standing ? "standing" : "rotating", type.subgroup.size(),
-                         copies_text(type, true), 0, "-", "-", "-", status);
+                         name, species.empty() ? "-" : species, type.standing ? "standing" : "rotating",
+                         type.subgroup.size(), copies_text(type, true), 0, "-", "-", "-", status);
     } else {
       out << fmt::format("{:>3}  {:<14} {:<8} {:<9} {:>5}  {:<18} {:>6}  {:>10.2f} {:>10.2f} {:>10.1f}  {}\n",
                          i + 1, name, species.empty() ? "-" : species,
@@ -134,8 +132,7 @@ std::string families_text_report(const FamiliesResult& result, const std::vector
           threat.partner_species.empty()
               ? ""
               : " (" + species_text(threat.partner_mode_numbers, threat.partner_species, modes) + ")",
-          threat.order,
-          threat.detuning_cm1, unit,
+          threat.order, threat.detuning_cm1, unit,
           threat.symmetry_allowed ? "allowed by symmetry for this family" : "forbidden by symmetry");
     if (!family.continued) {
       out << "  backbone: not continued\n";
@@ -215,7 +212,8 @@ std::string family_csv_file_name(const FamiliesResult& result, int family_index,
                                  const std::vector<ModeLabel>& modes) {
   const FamilyResult& family = family_at(result, family_index);
   if (modes.empty())
-    return fmt::format("family-{:02d}-modes-{}.csv", family_index + 1, fmt::join(family.type.mode_numbers, "-"));
+    return fmt::format("family-{:02d}-modes-{}.csv", family_index + 1,
+                       fmt::join(family.type.mode_numbers, "-"));
   std::vector<std::string> names;
   for (const int fundamental : fundamentals_of_mode_numbers(modes, family.type.mode_numbers))
     names.push_back("nu" + std::to_string(fundamental));

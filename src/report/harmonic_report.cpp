@@ -2,8 +2,8 @@
 
 #include <fmt/format.h>
 
-#include "core/units.hpp"
 #include "core/text.hpp"
+#include "core/units.hpp"
 #include "report/symmetry_report.hpp"
 
 namespace overtone {
@@ -155,9 +155,10 @@ std::string modes_table(const AnalysisResult& analysis) {
   const auto& molecule = analysis.molecule;
   const auto& harmonic = analysis.harmonic;
   std::string text;
-  text += fmt::format("{} ({}, {} atoms) on {}\n",
-                      molecule.title.empty() ? molecule.formula() : printable_text(molecule.title),
-                      molecule.formula(), molecule.atom_count(), printable_text(analysis.potential_description));
+  text +=
+      fmt::format("{} ({}, {} atoms) on {}\n",
+                  molecule.title.empty() ? molecule.formula() : printable_text(molecule.title),
+                  molecule.formula(), molecule.atom_count(), printable_text(analysis.potential_description));
   if (analysis.optimized)
     text += fmt::format("structure: {}; energy {:.6f} kcal/mol\n", analysis.optimization.message,
                         analysis.optimization.energy_kcal_mol);
@@ -175,9 +176,9 @@ std::string modes_table(const AnalysisResult& analysis) {
   constexpr std::size_t nu_width = 5, species_width = 8, wavenumber_width = 11, degeneracy_width = 4,
                         activity_width = 5, mode_width = 5, mass_width = 9, stiffness_width = 10;
   text += pad_after("ν", nu_width) + "  " + pad_after("species", species_width) + "  " +
-          pad("cm⁻¹", wavenumber_width) + "  " + pad("deg", degeneracy_width) + "  " + pad("IR", activity_width) +
-          "  " + pad("Raman", activity_width) + "  │" + pad("mode", mode_width) + "  " + pad("μ/Da", mass_width) +
-          "  " + pad("k/aJ Å⁻²", stiffness_width) + "\n";
+          pad("cm⁻¹", wavenumber_width) + "  " + pad("deg", degeneracy_width) + "  " +
+          pad("IR", activity_width) + "  " + pad("Raman", activity_width) + "  │" + pad("mode", mode_width) +
+          "  " + pad("μ/Da", mass_width) + "  " + pad("k/aJ Å⁻²", stiffness_width) + "\n";
   auto activity = [](const ModeLabel& label, bool value) -> std::string {
     return label.activity_known ? (value ? "yes" : "–") : "?";
   };
@@ -190,20 +191,21 @@ std::string modes_table(const AnalysisResult& analysis) {
       const double wavenumber = harmonic.frequencies_cm1[index];
       const std::string shown =
           wavenumber < 0.0 ? fmt::format("{:.2f}i", -wavenumber) : fmt::format("{:.2f}", wavenumber);
-      fundamental_part = pad_after("ν" + std::to_string(label.fundamental), nu_width) + "  " +
-                         pad_after(label.display_species.empty() ? "?" : label.display_species, species_width) +
-                         "  " + pad(shown, wavenumber_width) + "  " +
-                         pad(label.set_size > 1 ? std::to_string(label.set_size) : "", degeneracy_width) + "  " +
-                         pad(activity(label, label.ir_active), activity_width) + "  " +
-                         pad(activity(label, label.raman_active), activity_width);
+      fundamental_part =
+          pad_after("ν" + std::to_string(label.fundamental), nu_width) + "  " +
+          pad_after(label.display_species.empty() ? "?" : label.display_species, species_width) + "  " +
+          pad(shown, wavenumber_width) + "  " +
+          pad(label.set_size > 1 ? std::to_string(label.set_size) : "", degeneracy_width) + "  " +
+          pad(activity(label, label.ir_active), activity_width) + "  " +
+          pad(activity(label, label.raman_active), activity_width);
     } else {
-      fundamental_part = std::string(nu_width + species_width + wavenumber_width + degeneracy_width +
-                                         2 * activity_width + 10,
-                                     ' ');
+      fundamental_part = std::string(
+          nu_width + species_width + wavenumber_width + degeneracy_width + 2 * activity_width + 10, ' ');
     }
     text += fundamental_part + "  │" + pad(std::to_string(label.number), mode_width) + "  " +
             pad(fmt::format("{:.4f}", harmonic.reduced_masses_da[index]), mass_width) + "  " +
-            pad(fmt::format("{:.4f}", harmonic.force_constants_mdyn_per_angstrom[index]), stiffness_width) + "\n";
+            pad(fmt::format("{:.4f}", harmonic.force_constants_mdyn_per_angstrom[index]), stiffness_width) +
+            "\n";
   }
   text += "deg: vectors sharing the ν number; μ: reduced mass; k: stiffness λμ along the vector (aJ/Å²)\n";
   for (const auto& warning : analysis.warnings) text += "warning: " + printable_text(warning) + "\n";

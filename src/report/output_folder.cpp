@@ -41,7 +41,8 @@ fs::path target_path(const std::string& folder) {
   if (path.filename().empty()) path = path.parent_path();
   const std::string name = path.filename().string();
   if (name.empty() || name == "." || name == "..")
-    throw Error("the output folder '" + folder + "' must name a folder of its own, not '.' or '..' or the root");
+    throw Error("the output folder '" + folder +
+                "' must name a folder of its own, not '.' or '..' or the root");
   return path;
 }
 
@@ -61,7 +62,8 @@ void check_relative(const std::string& relative) {
   const fs::path path(relative);
   bool inside = !relative.empty() && path.is_relative();
   for (const fs::path& part : path) inside = inside && part != ".." && part != ".";
-  if (!inside) throw Error("the output file name '" + relative + "' must be a relative path inside the folder");
+  if (!inside)
+    throw Error("the output file name '" + relative + "' must be a relative path inside the folder");
 }
 
 void write_file(const fs::path& path, const std::string& content) {
@@ -76,7 +78,8 @@ void write_file(const fs::path& path, const std::string& content) {
 }
 
 fs::path sibling(const fs::path& target, const std::string& kind) {
-  return target.parent_path() / ("." + target.filename().string() + "." + kind + "-" + std::to_string(getpid()));
+  return target.parent_path() /
+         ("." + target.filename().string() + "." + kind + "-" + std::to_string(getpid()));
 }
 
 }  // namespace

@@ -15,7 +15,7 @@ struct OutputFile {
 };
 
 struct OutputFolderResult {
-  std::string folder;            // the target, as given
+  std::string folder;                // the target, as given
   std::vector<std::string> written;  // relative paths, in the order given
   bool replaced_previous = false;    // an earlier output folder of this program was replaced
 };

@@ -56,9 +56,9 @@ struct PointGroupResult {
   // Symmetry frame: r_symmetry = symmetry_from_file · (r_file − center_angstrom).
   Eigen::Vector3d center_angstrom = Eigen::Vector3d::Zero();  // centre of mass of the input
   Eigen::Matrix3d symmetry_from_file = Eigen::Matrix3d::Identity();
-  Eigen::VectorXd input_coordinates_angstrom;        // 3N, as given
-  Eigen::VectorXd symmetrized_coordinates_angstrom;  // 3N, exactly symmetric, file frame
-  Eigen::VectorXd symmetry_frame_coordinates_angstrom;     // 3N, exactly symmetric, symmetry frame
+  Eigen::VectorXd input_coordinates_angstrom;           // 3N, as given
+  Eigen::VectorXd symmetrized_coordinates_angstrom;     // 3N, exactly symmetric, file frame
+  Eigen::VectorXd symmetry_frame_coordinates_angstrom;  // 3N, exactly symmetric, symmetry frame
   std::vector<int> atomic_numbers;
   Eigen::VectorXd masses_da;
   double max_deviation_angstrom = 0.0;        // largest |symmetrized − input| over atoms

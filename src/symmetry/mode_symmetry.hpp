@@ -95,12 +95,12 @@ struct ModeSymmetryResult {
   std::string message;
   std::vector<std::string> warnings;
   CoordinateFrame frame = CoordinateFrame::File;  // frame in which the harmonic data were found
-  std::vector<ModeSpecies> modes;                  // one per harmonic mode, same order
-  std::vector<ModeSet> sets;                       // ascending frequency
-  std::vector<int> expected_multiplicities;        // from the geometry (vibrational_decomposition)
-  std::vector<int> assigned_multiplicities;        // counted from the sets
-  std::string decomposition;                       // "2A1 + B2"
-  std::string display_decomposition;               // "2A₁ + B₂"
+  std::vector<ModeSpecies> modes;                 // one per harmonic mode, same order
+  std::vector<ModeSet> sets;                      // ascending frequency
+  std::vector<int> expected_multiplicities;       // from the geometry (vibrational_decomposition)
+  std::vector<int> assigned_multiplicities;       // counted from the sets
+  std::string decomposition;                      // "2A1 + B2"
+  std::string display_decomposition;              // "2A₁ + B₂"
 };
 
 // Throws Error when the atom count or masses differ from the detection, or when the

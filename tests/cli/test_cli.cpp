@@ -303,8 +303,8 @@ TEST(Cli, HostileTitleGivesValidJsonThroughAnalyze) {
                                           "O 0.0 0.0 0.0\nH 0.757 0.0 0.586\nH -0.757 0.0 0.586\n");
   const std::string out = ::testing::TempDir() + "overtone-hostile-" + std::to_string(getpid());
   std::filesystem::remove_all(out);
-  const ProgramRun result = run("analyze " + molecule + " -p " + source_dir +
-                                "/potentials/water.toml --no-families --out " + out);
+  const ProgramRun result =
+      run("analyze " + molecule + " -p " + source_dir + "/potentials/water.toml --no-families --out " + out);
   ASSERT_EQ(result.status, 0) << result.err;
   const auto document = nlohmann::json::parse(slurp(out + "/analysis.json"));
   EXPECT_EQ(document["molecule"]["title"], "wat\xEF\xBF\xBDr \x01 \"q\" \\");
@@ -356,7 +356,8 @@ TEST(Cli, FamiliesOfOneFundamentalAreNamedWithItsNuNumber) {
   EXPECT_NE(result.out.find("ν2"), std::string::npos);
   // The CO2 bend ν2 (textbook numbering) has a standing and a rotating family.
   std::vector<std::string> names;
-  for (const auto& entry : std::filesystem::directory_iterator(folder)) names.push_back(entry.path().filename());
+  for (const auto& entry : std::filesystem::directory_iterator(folder))
+    names.push_back(entry.path().filename());
   std::sort(names.begin(), names.end());
   ASSERT_EQ(names.size(), 2u);
   for (const std::string& name : names) {

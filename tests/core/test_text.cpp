@@ -13,17 +13,18 @@ namespace {
 const std::string replacement = "\xEF\xBF\xBD";  // U+FFFD
 
 TEST(Text, ValidUtf8PassesThroughUnchanged) {
-  for (const std::string text : {"water", "C₂v Σg⁺ ν2 cm⁻¹", "\xF0\x9F\x98\x80", "\xED\x9F\xBF", "\xF4\x8F\xBF\xBF"})
+  for (const std::string text :
+       {"water", "C₂v Σg⁺ ν2 cm⁻¹", "\xF0\x9F\x98\x80", "\xED\x9F\xBF", "\xF4\x8F\xBF\xBF"})
     EXPECT_EQ(valid_utf8(text), text);
 }
 
 TEST(Text, EveryInvalidByteBecomesOneReplacementCharacter) {
-  EXPECT_EQ(valid_utf8("caf\xE9"), "caf" + replacement);                        // Latin-1 é
-  EXPECT_EQ(valid_utf8("\xC0\xAF"), replacement + replacement);                 // overlong '/'
+  EXPECT_EQ(valid_utf8("caf\xE9"), "caf" + replacement);                           // Latin-1 é
+  EXPECT_EQ(valid_utf8("\xC0\xAF"), replacement + replacement);                    // overlong '/'
   EXPECT_EQ(valid_utf8("\xED\xA0\x80"), replacement + replacement + replacement);  // surrogate D800
   EXPECT_EQ(valid_utf8("\xF4\x90\x80\x80"),
-            replacement + replacement + replacement + replacement);  // above U+10FFFF
-  EXPECT_EQ(valid_utf8("a\xE2\x82"), "a" + replacement + replacement);  // truncated "€"
+            replacement + replacement + replacement + replacement);       // above U+10FFFF
+  EXPECT_EQ(valid_utf8("a\xE2\x82"), "a" + replacement + replacement);    // truncated "€"
   EXPECT_EQ(valid_utf8(std::string("a\0b", 3)), std::string("a\0b", 3));  // NUL is valid UTF-8
 }
 

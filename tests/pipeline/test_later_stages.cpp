@@ -94,7 +94,8 @@ TEST(LaterStages, MethaneAndAmmoniaResonanceRulesAgree) {
   ASSERT_NE(allowed, nullptr);
   EXPECT_TRUE(allowed->perturbative_allowed);
   EXPECT_GT(allowed->families_allowed, 0);
-  for (const auto& check : checks) EXPECT_TRUE(check.agree) << "2ν" << check.lower_fundamental << " / ν" << check.upper_fundamental;
+  for (const auto& check : checks)
+    EXPECT_TRUE(check.agree) << "2ν" << check.lower_fundamental << " / ν" << check.upper_fundamental;
 
   const Analysed ammonia = run("ammonia");
   const AnharmonicResult nh3 = analyze_anharmonic(ammonia.analysis, *ammonia.potential);

@@ -19,7 +19,8 @@ namespace fs = std::filesystem;
 
 // A fresh, empty parent folder per test (CTest runs tests as parallel processes).
 fs::path fresh_parent(const std::string& name) {
-  const fs::path parent = fs::path(::testing::TempDir()) / ("overtone-output-" + std::to_string(getpid()) + "-" + name);
+  const fs::path parent =
+      fs::path(::testing::TempDir()) / ("overtone-output-" + std::to_string(getpid()) + "-" + name);
   fs::remove_all(parent);
   fs::create_directories(parent);
   return parent;
@@ -42,7 +43,8 @@ TEST(OutputFolder, WritesEveryFileAndNothingElse) {
   const fs::path parent = fresh_parent("complete");
   const fs::path target = parent / "out";
   const OutputFolderResult result = write_output_folder(
-      target.string(), {{"analysis.json", "{}\n"}, {"modes.csv", "mode\n"}, {"families/family-01-nu1.csv", "e\n"}});
+      target.string(),
+      {{"analysis.json", "{}\n"}, {"modes.csv", "mode\n"}, {"families/family-01-nu1.csv", "e\n"}});
   EXPECT_EQ(result.written.size(), 3u);
   EXPECT_FALSE(result.replaced_previous);
   EXPECT_EQ(slurp(target / "analysis.json"), "{}\n");
@@ -67,9 +69,10 @@ TEST(OutputFolder, AFailedRerunKeepsTheEarlierCompleteOutput) {
   const fs::path parent = fresh_parent("rerun-failure");
   const fs::path target = parent / "out";
   write_output_folder(target.string(), {{"analysis.json", "first\n"}});
-  EXPECT_THROW(write_output_folder(target.string(), {{"analysis.json", "second\n"}, {"modes.csv/x", "y"},
-                                                     {"modes.csv", "clash"}}),
-               Error);
+  EXPECT_THROW(
+      write_output_folder(target.string(),
+                          {{"analysis.json", "second\n"}, {"modes.csv/x", "y"}, {"modes.csv", "clash"}}),
+      Error);
   EXPECT_EQ(slurp(target / "analysis.json"), "first\n");
   EXPECT_EQ(entries_in(parent), 1u);
 }
@@ -77,8 +80,10 @@ TEST(OutputFolder, AFailedRerunKeepsTheEarlierCompleteOutput) {
 TEST(OutputFolder, ARerunReplacesTheEarlierOutputAsAWhole) {
   const fs::path parent = fresh_parent("rerun");
   const fs::path target = parent / "out";
-  write_output_folder(target.string(), {{"analysis.json", "first\n"}, {"families/family-09-nu9.csv", "old\n"}});
-  const OutputFolderResult second = write_output_folder(target.string() + "/", {{"analysis.json", "second\n"}});
+  write_output_folder(target.string(),
+                      {{"analysis.json", "first\n"}, {"families/family-09-nu9.csv", "old\n"}});
+  const OutputFolderResult second =
+      write_output_folder(target.string() + "/", {{"analysis.json", "second\n"}});
   EXPECT_TRUE(second.replaced_previous);
   EXPECT_EQ(slurp(target / "analysis.json"), "second\n");
   EXPECT_FALSE(fs::exists(target / "families"));  // nothing stale from the first run

@@ -20,7 +20,8 @@ namespace {
 // Titles a file could carry: Latin-1 bytes, control characters, quotes, backslashes,
 // newlines, and text that would be TOML keys if it were not escaped.
 const std::vector<std::string> hostile_titles = {
-    "eau liquide \xE9t\xE9 \xB0C",
+    "eau liquide \xE9t\xE9 \xB0"
+    "C",
     std::string("bell\x07 nul\0 esc\x1B[2J del\x7F", 27),
     "a \"quoted\" \\back\\slash\\",
     "line one\nline two\r\ncoordinates = \"cartesian\"\n[units]\nenergy = \"hartree\"",

@@ -85,7 +85,8 @@ TEST(StageJson, AnharmonicDocumentOfCarbonDioxide) {
 
   bool found_dyad = false;
   for (const auto& resonance : document.at("resonances"))
-    if (resonance.at("kind") == "overtone-fundamental" && resonance.at("modes") == nlohmann::json::array({2, 1})) {
+    if (resonance.at("kind") == "overtone-fundamental" &&
+        resonance.at("modes") == nlohmann::json::array({2, 1})) {
       found_dyad = true;
       EXPECT_TRUE(resonance.at("symmetry_allowed").get<bool>());
       EXPECT_GT(resonance.at("coupling_cm1").get<double>(), 0.0);

@@ -274,12 +274,13 @@ TEST(DetectPointGroup, SyntheticClustersOfEveryFamily) {
 // principal axis is z, and a planar D6h molecule has its C2' (x) through atoms.
 TEST(DetectPointGroup, SymmetryFrame) {
   const PointGroupResult water = detect_point_group(rotated_jiggled_shuffled(load("water.C2v.xyz"), 3, 0.0));
-  for (int i = 0; i < 3; ++i) EXPECT_NEAR(water.symmetry_frame_coordinates_angstrom[3 * i], 0.0, kExactSymmetry);
+  for (int i = 0; i < 3; ++i)
+    EXPECT_NEAR(water.symmetry_frame_coordinates_angstrom[3 * i], 0.0, kExactSymmetry);
   const PointGroupResult ethylene =
       detect_point_group(rotated_jiggled_shuffled(load("ethylene.D2h.xyz"), 3, 0.0));
   for (int i = 0; i < 6; ++i) {
     EXPECT_NEAR(ethylene.symmetry_frame_coordinates_angstrom[3 * i], 0.0, kExactSymmetry);  // plane yz
-    if (ethylene.atomic_numbers[i] == 6) {                                            // carbons on z
+    if (ethylene.atomic_numbers[i] == 6) {                                                  // carbons on z
       EXPECT_NEAR(ethylene.symmetry_frame_coordinates_angstrom[3 * i + 1], 0.0, kExactSymmetry);
       EXPECT_GT(std::abs(ethylene.symmetry_frame_coordinates_angstrom[3 * i + 2]), 0.5);
     }
