@@ -95,6 +95,13 @@ void write_text(const std::string& path, const std::string& text) {
     std::cout << text;
     return;
   }
+  std::error_code ec;
+  if (std::filesystem::exists(path, ec) && !std::filesystem::is_regular_file(path, ec)) {
+    std::ofstream out(path, std::ios::binary);  // a device or pipe, e.g. /dev/stdout
+    out << text;
+    if (!out) throw Error("writing '" + path + "' failed");
+    return;
+  }
   const std::string incomplete = path + ".incomplete";
   {
     std::ofstream out(incomplete, std::ios::binary);
@@ -103,7 +110,6 @@ void write_text(const std::string& path, const std::string& text) {
     out.close();
     if (!out) throw Error("writing '" + path + "' failed");
   }
-  std::error_code ec;
   std::filesystem::rename(incomplete, path, ec);
   if (ec) {
     std::filesystem::remove(incomplete, ec);
