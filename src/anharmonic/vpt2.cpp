@@ -27,11 +27,11 @@ std::string to_string(Vpt2Status status) {
 std::string to_string(ResonanceKind kind) {
   switch (kind) {
     case ResonanceKind::fermi_1:
-      return "fermi-1";
+      return "overtone-fundamental";
     case ResonanceKind::fermi_2:
-      return "fermi-2";
+      return "combination-fundamental";
     case ResonanceKind::darling_dennison:
-      return "darling-dennison";
+      return "overtone-overtone";
   }
   return "unknown";
 }

@@ -85,7 +85,10 @@ enum class Vpt2Status { ok, polyad_truncated };
 std::string to_string(Vpt2Status status);
 
 enum class ResonanceKind { fermi_1, fermi_2, darling_dennison };
-std::string to_string(ResonanceKind kind);  // "fermi-1", "fermi-2", "darling-dennison"
+// Output codes that say which levels meet: "overtone-fundamental" (Fermi type 1, 2ν_i ≈ ν_j),
+// "combination-fundamental" (Fermi type 2, ν_i + ν_j ≈ ν_k), "overtone-overtone"
+// (Darling–Dennison, 2ν_i ≈ 2ν_j).
+std::string to_string(ResonanceKind kind);
 
 enum class LevelKind { fundamental, overtone, combination, other };
 std::string to_string(LevelKind kind);  // "fundamental", "overtone", "combination", "other"

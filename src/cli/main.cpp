@@ -1,7 +1,13 @@
 // The overtone program: a thin layer that parses arguments, calls the library and
-// prints what it returns. Every overtone::Error becomes one line on stderr and exit
-// status 1.
+// prints what it returns. Every user error (bad input, bad usage) becomes one line on
+// stderr starting "overtone: error:" and exit status 1; --help prints help and exits 0;
+// an internal error exits 2.
+#include <fmt/format.h>
+
 #include <CLI/CLI.hpp>
+#include <algorithm>
+#include <cctype>
+#include <cmath>
 #include <filesystem>
 #include <fstream>
 #include <iostream>
@@ -10,28 +16,32 @@
 #include <string>
 #include <vector>
 
-#include "anharmonic/anharmonic_report.hpp"
-#include "anharmonic/taylor_export.hpp"
 #include "core/error.hpp"
-#include "families/families_report.hpp"
-#include "molecule/read_molecule.hpp"
+#include "core/text.hpp"
 #include "pipeline/analysis.hpp"
+#include "pipeline/molecule_input.hpp"
 #include "potential/make_potential.hpp"
-#include "report/anharmonic_json.hpp"
-#include "report/families_json.hpp"
-#include "report/harmonic_report.hpp"
+#include "report/anharmonic_report.hpp"
+#include "report/document.hpp"
+#include "report/output_folder.hpp"
+#include "report/symmetry_report.hpp"
 #include "symmetry/detect_point_group.hpp"
-#include "symmetry/symmetry_report.hpp"
 
 namespace {
 
 using namespace overtone;
 
+constexpr int user_error_status = 1;
+constexpr int internal_error_status = 2;
 constexpr const char* smiles_prefix = "smiles:";
+
+void warn(const std::string& message) {
+  std::cerr << "overtone: warning: " << printable_text(message) << "\n";
+}
 
 struct MoleculeArguments {
   std::string molecule;
-  std::string potential = default_force_field;
+  std::string potential;  // empty: the Taylor-expansion MOLECULE file itself, else the default force field
   std::vector<std::string> isotopes;
   std::string format;
   double symmetry_tolerance_angstrom = SymmetryOptions{}.tolerance_angstrom;
@@ -40,14 +50,14 @@ struct MoleculeArguments {
 void add_molecule_arguments(CLI::App& command, MoleculeArguments& arguments) {
   command
       .add_option("MOLECULE", arguments.molecule,
-                  "molecule file (any format Open Babel reads: .xyz .sdf .mol .mol2 .cml .pdb ...) or "
-                  "smiles:STRING")
+                  "molecule file (any format Open Babel reads: .xyz .sdf .mol .mol2 .cml .pdb ...), "
+                  "smiles:STRING, or a Taylor-expansion potential file (.toml) with its geometry")
       ->required();
-  command
-      .add_option("-p,--potential", arguments.potential,
-                  "force field name (MMFF94, MMFF94s, UFF, GAFF, Ghemical) or potential file")
-      ->capture_default_str();
-  command.add_option("-i,--isotope", arguments.isotopes,
+  command.add_option("-p,--potential", arguments.potential,
+                     std::string("force field name (MMFF94, MMFF94s, UFF, GAFF, Ghemical) or potential file; "
+                                 "default ") +
+                         default_force_field + ", or the MOLECULE file when it is a Taylor expansion");
+  command.add_option("--isotope", arguments.isotopes,
                      "N=A: atom N (1-based, as in the file) gets mass number A; repeatable");
   command.add_option("--format", arguments.format, "input format when the file extension does not tell it");
   command
@@ -56,27 +66,55 @@ void add_molecule_arguments(CLI::App& command, MoleculeArguments& arguments) {
       ->capture_default_str();
 }
 
-ReadResult load_molecule(const MoleculeArguments& arguments) {
-  ReadOptions options;
-  options.format = arguments.format;
-  for (const auto& text : arguments.isotopes) options.isotopes.push_back(parse_isotope_choice(text));
-  std::string input = arguments.molecule;
-  if (input.rfind(smiles_prefix, 0) == 0) {
-    options.input_is_smiles = true;
-    input = input.substr(std::string(smiles_prefix).size());
+LoadedMolecule load_input(const MoleculeArguments& arguments) {
+  MoleculeInput input;
+  input.path_or_smiles = arguments.molecule;
+  input.format = arguments.format;
+  for (const auto& text : arguments.isotopes) input.isotopes.push_back(parse_isotope_choice(text));
+  if (input.path_or_smiles.rfind(smiles_prefix, 0) == 0) {
+    input.is_smiles = true;
+    input.path_or_smiles = input.path_or_smiles.substr(std::string(smiles_prefix).size());
   }
-  return read_molecule(input, options);
+  LoadedMolecule loaded = load_molecule(input);
+  for (const auto& warning : loaded.warnings) warn(warning);
+  return loaded;
 }
 
+std::unique_ptr<Potential> potential_for(const MoleculeArguments& arguments, const LoadedMolecule& loaded) {
+  std::string choice = arguments.potential;
+  if (choice.empty()) choice = loaded.is_taylor_expansion ? arguments.molecule : default_force_field;
+  auto potential = make_potential(choice, loaded.molecule);
+  for (const auto& warning : potential_mass_warnings(*potential, loaded.molecule)) warn(warning);
+  return potential;
+}
+
+// A single output file, written beside its target first and renamed into place, so that
+// a failed or interrupted run never leaves a truncated file under the name.
 void write_text(const std::string& path, const std::string& text) {
   if (path == "-") {
     std::cout << text;
     return;
   }
-  std::ofstream out(path);
-  if (!out) throw Error("cannot open '" + path + "' for writing");
-  out << text;
-  if (!out) throw Error("writing '" + path + "' failed");
+  std::error_code ec;
+  if (std::filesystem::exists(path, ec) && !std::filesystem::is_regular_file(path, ec)) {
+    std::ofstream out(path, std::ios::binary);  // a device or pipe, e.g. /dev/stdout
+    out << text;
+    if (!out) throw Error("writing '" + path + "' failed");
+    return;
+  }
+  const std::string incomplete = path + ".incomplete";
+  {
+    std::ofstream out(incomplete, std::ios::binary);
+    if (!out) throw Error("cannot open '" + path + "' for writing");
+    out << text;
+    out.close();
+    if (!out) throw Error("writing '" + path + "' failed");
+  }
+  std::filesystem::rename(incomplete, path, ec);
+  if (ec) {
+    std::filesystem::remove(incomplete, ec);
+    throw Error("cannot write '" + path + "': " + ec.message());
+  }
 }
 
 // The molecule, its potential (which later stages evaluate again) and the analysis.
@@ -86,55 +124,86 @@ struct AnalysedMolecule {
 };
 
 AnalysedMolecule run_analysis(const MoleculeArguments& arguments) {
-  const ReadResult input = load_molecule(arguments);
-  for (const auto& warning : input.warnings) std::cerr << "overtone: warning: " << warning << "\n";
+  const LoadedMolecule input = load_input(arguments);
   AnalysedMolecule result;
-  result.potential = make_potential(arguments.potential, input.molecule);
+  result.potential = potential_for(arguments, input);
   AnalysisOptions options;
   options.symmetry.tolerance_angstrom = arguments.symmetry_tolerance_angstrom;
   result.analysis = analyze_molecule(input.molecule, *result.potential, options);
   return result;
 }
 
+// A document to a path, or to standard output instead of the text report ("-").
+// Returns whether the text report is still to be printed.
+bool write_document(const std::string& json_path, const RunResults& results) {
+  if (json_path.empty()) return true;
+  write_text(json_path, json_text(analysis_document(results)));
+  return json_path != "-";
+}
+
 int run_modes(const MoleculeArguments& arguments, const std::string& json_path) {
   const AnalysisResult analysis = run_analysis(arguments).analysis;
-  if (json_path == "-") {
-    std::cout << analysis_to_json(analysis).dump(2) << "\n";
-    return 0;
-  }
-  std::cout << modes_table(analysis);
-  if (!json_path.empty()) write_text(json_path, analysis_to_json(analysis).dump(2) + "\n");
+  RunResults results;
+  results.analysis = &analysis;
+  if (json_path != "-") std::cout << text_report(results);
+  write_document(json_path, results);
   return 0;
 }
+
+// Limits of the families' energy range (README, "Commands"). Beyond 20 quanta a quartic
+// surface has long turned over and a backbone means nothing; 100 000 cm⁻¹ is above the
+// dissociation energy of every chemical bond (N₂, the strongest common one, about
+// 79 000 cm⁻¹ from 945 kJ/mol; common practice, no source).
+constexpr double max_family_quanta = 20.0;
+constexpr double max_family_energy_cm1 = 100000.0;
+constexpr double default_family_quanta = 3.0;  // the first overtones a spectrum usually shows
 
 struct FamilyArguments {
   std::vector<int> fundamentals;  // ν numbers; empty: all
   double energy_max_cm1 = 0.0;
-  double quanta = 0.0;
+  double quanta = default_family_quanta;
+  const CLI::Option* energy_option = nullptr;  // tells whether the value was given
+  const CLI::Option* quanta_option = nullptr;
+  bool energy_given() const { return energy_option && energy_option->count() > 0; }
+  bool quanta_given() const { return quanta_option && quanta_option->count() > 0; }
 };
-
-constexpr double default_family_quanta = 3.0;  // the first overtones a spectrum usually shows
 
 void add_family_arguments(CLI::App& command, FamilyArguments& arguments) {
   command.add_option(
       "--mode", arguments.fundamentals,
       "continue only the families of fundamental νN (the ν column of the modes table); repeatable");
   auto* energy = command.add_option("--energy-max", arguments.energy_max_cm1,
-                                    "continue every family up to this energy above the minimum (cm-1)");
-  auto* quanta =
-      command.add_option("--quanta", arguments.quanta,
-                         "continue each family up to the energy of this many quanta of its own mode "
-                         "(default 3)");
+                                    "continue every family up to this energy above the minimum (cm-1), "
+                                    "0 < E <= 100000");
+  auto* quanta = command.add_option("--quanta", arguments.quanta,
+                                    "continue each family up to the energy of this many quanta of its own "
+                                    "mode, 0 < n <= 20 (default 3)");
   energy->excludes(quanta);
   quanta->excludes(energy);
+  arguments.energy_option = energy;
+  arguments.quanta_option = quanta;
+}
+
+void check_range(double value, double largest, const std::string& option, const std::string& meaning) {
+  if (!(std::isfinite(value) && value > 0.0 && value <= largest))
+    throw Error(
+        fmt::format("{} must be {} in the range 0 < value <= {}, got {}", option, meaning, largest, value));
+}
+
+// Checked before any work starts, so that a typing mistake costs no computing time.
+void check_family_arguments(const FamilyArguments& arguments) {
+  if (arguments.quanta_given())
+    check_range(arguments.quanta, max_family_quanta, "--quanta", "a number of quanta");
+  if (arguments.energy_given())
+    check_range(arguments.energy_max_cm1, max_family_energy_cm1, "--energy-max", "an energy in cm-1");
 }
 
 FamiliesOptions families_options(const AnalysisResult& analysis, const FamilyArguments& arguments) {
   FamiliesOptions options;
-  if (arguments.energy_max_cm1 > 0.0)
+  if (arguments.energy_given())
     options.energy_max_cm1 = arguments.energy_max_cm1;
   else
-    options.quanta = arguments.quanta > 0.0 ? arguments.quanta : default_family_quanta;
+    options.quanta = arguments.quanta;
   options.mode_numbers = mode_numbers_of_fundamentals(analysis, arguments.fundamentals);
   // One frequency window for the families' resonance threats and the perturbative Fermi
   // candidates, so that the two lists can be compared pair by pair.
@@ -142,77 +211,39 @@ FamiliesOptions families_options(const AnalysisResult& analysis, const FamilyArg
   return options;
 }
 
-void create_folder(const std::string& folder) {
-  std::error_code ec;
-  std::filesystem::create_directories(folder, ec);
-  if (ec) throw Error("cannot create output folder '" + folder + "': " + ec.message());
-}
-
-// One CSV of backbone points per continued family; returns the files written.
-std::vector<std::string> write_family_csvs(const FamiliesResult& families, const std::string& folder) {
-  create_folder(folder);
-  std::vector<std::string> written;
-  for (std::size_t index = 0; index < families.families.size(); ++index) {
-    if (!families.families[index].continued) continue;
-    const int family = static_cast<int>(index);
-    const std::string path =
-        (std::filesystem::path(folder) / family_csv_file_name(families, family)).string();
-    write_text(path, family_points_csv(families, family));
-    written.push_back(path);
-  }
-  return written;
-}
-
-void merge_into(nlohmann::json& document, const nlohmann::json& part) {
-  for (auto item = part.begin(); item != part.end(); ++item) document[item.key()] = item.value();
-}
-
 int run_anharmonic(const MoleculeArguments& arguments, const std::string& json_path,
                    const std::string& lines_path, const std::string& taylor_path) {
   const AnalysedMolecule analysed = run_analysis(arguments);
-  const AnalysisResult& analysis = analysed.analysis;
-  const Potential& potential = *analysed.potential;
-  const AnharmonicResult anharmonic = analyze_anharmonic(analysis, potential);
-  nlohmann::json document = analysis_to_json(analysis);
-  merge_into(document, anharmonic_to_json(analysis, anharmonic));
-  const AnharmonicReportOptions report_options{anharmonic.set_numbers};
-  if (!lines_path.empty()) write_text(lines_path, line_list_csv(anharmonic.vpt2, report_options));
-  if (!taylor_path.empty()) {
-    const TaylorExpansionData expansion = taylor_expansion_from_force_constants(
-        anharmonic.force_constants, anharmonic.harmonic, analysis.molecule, ExpansionCoordinates::normal,
-        analysis.molecule.title + " (quartic force field of " + analysis.potential_description + ")");
-    write_text(taylor_path, write_taylor_expansion(expansion));
-  }
-  if (json_path == "-") {
-    std::cout << document.dump(2) << "\n";
-    return 0;
-  }
-  std::cout << modes_table(analysis) << "\n"
-            << anharmonic_report(anharmonic.force_constants, anharmonic.vpt2, report_options);
-  if (!json_path.empty()) write_text(json_path, document.dump(2) + "\n");
+  const AnharmonicResult anharmonic = analyze_anharmonic(analysed.analysis, *analysed.potential);
+  RunResults results;
+  results.analysis = &analysed.analysis;
+  results.anharmonic = &anharmonic;
+  if (!lines_path.empty())
+    write_text(lines_path, line_list_csv(anharmonic.vpt2, AnharmonicReportOptions{anharmonic.set_numbers}));
+  if (!taylor_path.empty()) write_text(taylor_path, taylor_expansion_text(analysed.analysis, anharmonic));
+  if (json_path != "-") std::cout << text_report(results);
+  write_document(json_path, results);
   return 0;
 }
 
 int run_families(const MoleculeArguments& arguments, const FamilyArguments& family_arguments,
                  const std::string& json_path, const std::string& csv_folder) {
+  check_family_arguments(family_arguments);
   const AnalysedMolecule analysed = run_analysis(arguments);
   const AnalysisResult& analysis = analysed.analysis;
-  const Potential& potential = *analysed.potential;
   const FamiliesResult families =
-      analyze_families(analysis, potential, families_options(analysis, family_arguments));
-  nlohmann::json document = analysis_to_json(analysis);
-  document["families"] = families_to_json(families);
-  document["families_summary"] = families_summary_to_json(families);
-  std::vector<std::string> written;
-  if (!csv_folder.empty()) written = write_family_csvs(families, csv_folder);
-  if (json_path == "-") {
-    std::cout << document.dump(2) << "\n";
-    return 0;
+      analyze_families(analysis, *analysed.potential, families_options(analysis, family_arguments));
+  RunResults results;
+  results.analysis = &analysis;
+  results.families = &families;
+  if (json_path != "-") std::cout << text_report(results);
+  write_document(json_path, results);
+  if (!csv_folder.empty()) {
+    const OutputFolderResult written =
+        write_output_folder(csv_folder, family_backbone_files(analysis, families));
+    if (json_path != "-")
+      std::cout << "\nwrote " << written.written.size() << " backbone files to " << csv_folder << "\n";
   }
-  std::cout << modes_table(analysis) << "\n" << families_text_report(families);
-  if (!json_path.empty()) write_text(json_path, document.dump(2) + "\n");
-  if (!written.empty())
-    std::cout << "\nwrote " << written.size() << " backbone files to " << csv_folder << "\n";
   return 0;
 }
 
@@ -223,97 +254,81 @@ struct AnalyzeSwitches {
 
 int run_analyze(const MoleculeArguments& arguments, const FamilyArguments& family_arguments,
                 const AnalyzeSwitches& switches, const std::string& out_directory) {
+  check_family_arguments(family_arguments);
   const AnalysedMolecule analysed = run_analysis(arguments);
   const AnalysisResult& analysis = analysed.analysis;
   const Potential& potential = *analysed.potential;
-
-  create_folder(out_directory);
-  const auto base = std::filesystem::path(out_directory);
-  nlohmann::json document = analysis_to_json(analysis);
-  std::size_t backbone_files = 0;
-  std::cout << modes_table(analysis);
+  // A bad --mode is the user's mistake, not a stage that cannot run: refuse it now.
+  const FamiliesOptions options = families_options(analysis, family_arguments);
 
   // A later stage that cannot run (a saddle point, say) does not discard the harmonic
   // results: the reason is printed and stored in the JSON document.
+  RunResults results;
+  results.analysis = &analysis;
   std::optional<AnharmonicResult> anharmonic;
   if (!switches.skip_anharmonic) {
     try {
       anharmonic = analyze_anharmonic(analysis, potential);
+      results.anharmonic = &*anharmonic;
     } catch (const Error& error) {
-      std::cerr << "overtone: warning: anharmonic stage skipped: " << error.what() << "\n";
-      document["anharmonic_skipped"] = error.what();
+      warn(std::string("anharmonic stage skipped: ") + error.what());
+      results.anharmonic_skipped = error.what();
     }
   }
-  if (anharmonic) {
-    merge_into(document, anharmonic_to_json(analysis, *anharmonic));
-    const AnharmonicReportOptions report_options{anharmonic->set_numbers};
-    write_text((base / "lines.csv").string(), line_list_csv(anharmonic->vpt2, report_options));
-    std::cout << "\n" << anharmonic_report(anharmonic->force_constants, anharmonic->vpt2, report_options);
-  }
-
   std::optional<FamiliesResult> families;
   if (!switches.skip_families) {
     try {
-      families = analyze_families(analysis, potential, families_options(analysis, family_arguments));
+      families = analyze_families(analysis, potential, options);
+      results.families = &*families;
     } catch (const Error& error) {
-      std::cerr << "overtone: warning: families stage skipped: " << error.what() << "\n";
-      document["families_skipped"] = error.what();
+      warn(std::string("families stage skipped: ") + error.what());
+      results.families_skipped = error.what();
     }
   }
-  if (families) {
-    document["families"] = families_to_json(*families);
-    document["families_summary"] = families_summary_to_json(*families);
-    backbone_files = write_family_csvs(*families, (base / "families").string()).size();
-    std::cout << "\n" << families_text_report(*families);
-  }
 
-  if (anharmonic && families) {
-    nlohmann::json checks = nlohmann::json::array();
-    std::string text;
-    for (const ResonanceCrossCheck& check : cross_check_resonances(analysis, *anharmonic, *families)) {
-      checks.push_back({{"lower_fundamental", check.lower_fundamental},
-                        {"upper_fundamental", check.upper_fundamental},
-                        {"gap_cm1", check.gap_cm1},
-                        {"perturbative_listed", check.listed_by_perturbative},
-                        {"perturbative_allowed", check.perturbative_allowed},
-                        {"perturbative_flagged", check.perturbative_flagged},
-                        {"families_listed", check.listed_by_families},
-                        {"families_allowed", check.families_allowed},
-                        {"families_of_lower", check.families_of_lower},
-                        {"compared", check.compared},
-                        {"agree", check.agree},
-                        {"summary", check.summary}});
-      text += "  " + check.summary + "\n";
-    }
-    document["resonance_cross_check"] = checks;
-    if (!text.empty())
-      std::cout << "\nFermi 1:2 resonances, perturbative rule against the families:\n" << text;
-  }
-
-  write_text((base / "analysis.json").string(), document.dump(2) + "\n");
-  write_text((base / "modes.csv").string(), modes_csv(analysis));
-  std::cout << "\nwrote analysis.json, modes.csv" << (anharmonic ? ", lines.csv" : "");
-  if (backbone_files > 0) std::cout << " and " << backbone_files << " backbone files in families/";
-  std::cout << " to " << out_directory << "\n";
+  const OutputFolderResult written = write_output_folder(out_directory, analysis_files(results));
+  std::cout << text_report(results);
+  std::cout << "\nwrote " << written.written.size() << " files (analysis.json, modes.csv"
+            << (anharmonic ? ", lines.csv" : "") << (families ? ", families/*.csv" : "") << ") to "
+            << out_directory << "\n";
   return 0;
 }
 
 int run_symmetry(const MoleculeArguments& arguments, bool optimize_first) {
-  const ReadResult input = load_molecule(arguments);
-  for (const auto& warning : input.warnings) std::cerr << "overtone: warning: " << warning << "\n";
+  const LoadedMolecule input = load_input(arguments);
   SymmetryOptions options;
   options.tolerance_angstrom = arguments.symmetry_tolerance_angstrom;
   if (!optimize_first) {
     std::cout << format_symmetry_report(detect_point_group(input.molecule, options));
     return 0;
   }
-  const auto potential = make_potential(arguments.potential, input.molecule);
+  const auto potential = potential_for(arguments, input);
   AnalysisOptions analysis_options;
   analysis_options.symmetry = options;
   const AnalysisResult analysis = analyze_molecule(input.molecule, *potential, analysis_options);
   if (analysis.optimized) std::cout << "structure: " << analysis.optimization.message << "\n";
   std::cout << format_symmetry_report(analysis.point_group, &analysis.mode_symmetry);
   return 0;
+}
+
+// CLI11's messages start with a capital and name its own error kinds; ours are one
+// lower-case line that says where to look.
+std::string usage_error_line(const CLI::ParseError& error) {
+  std::string message = error.what();
+  // "A subcommand is required" -> "a subcommand ..."; a name such as "MOLECULE" stays.
+  const std::string first_word = message.substr(0, message.find(' '));
+  const bool is_name = first_word.size() > 1 &&
+                       std::none_of(first_word.begin(), first_word.end(),
+                                    [](char c) { return std::islower(static_cast<unsigned char>(c)); });
+  if (!message.empty() && !is_name)
+    message[0] = static_cast<char>(std::tolower(static_cast<unsigned char>(message[0])));
+  for (char& c : message)
+    if (c == '\n') c = ' ';
+  // The README calls them commands.
+  for (std::size_t at = message.find("subcommand"); at != std::string::npos;
+       at = message.find("subcommand", at))
+    message.replace(at, std::string("subcommand").size(), "command");
+  return "overtone: error: " + printable_text(message) + " (see overtone --help)";
 }
 
 }  // namespace
@@ -338,7 +353,11 @@ int main(int argc, char** argv) {
       "families/*.csv");
   add_molecule_arguments(*analyze, analyze_arguments);
   add_family_arguments(*analyze, analyze_family_arguments);
-  analyze->add_option("-o,--out", out_directory, "output folder")->capture_default_str();
+  analyze
+      ->add_option("-o,--out", out_directory,
+                   "output folder (replaced as a whole when complete; an existing one may hold only "
+                   "earlier output)")
+      ->capture_default_str();
   analyze->add_flag("--no-anharmonic", analyze_switches.skip_anharmonic, "leave out the anharmonic stage");
   analyze->add_flag("--no-families", analyze_switches.skip_families, "leave out the families stage");
 
@@ -366,7 +385,8 @@ int main(int argc, char** argv) {
   add_family_arguments(*families, family_arguments);
   families->add_option("--json", families_json_path,
                        "write the JSON document to PATH ('-' for standard output)");
-  families->add_option("--csv", csv_folder, "write one CSV of backbone points per family into this folder");
+  families->add_option("--csv", csv_folder,
+                       "write one CSV of backbone points per family into this folder (replaced as a whole)");
 
   MoleculeArguments symmetry_arguments;
   bool with_modes = false;
@@ -376,10 +396,24 @@ int main(int argc, char** argv) {
   symmetry->add_flag("--with-modes", with_modes,
                      "optimize on the potential first and assign the species of the computed modes");
 
+  // CLI11 calls an unknown command word "a subcommand is required"; say what it was.
+  const auto is_command = [&](const std::string& word) {
+    for (const CLI::App* command : {modes, analyze, anharmonic, families, symmetry})
+      if (command->check_name(word)) return true;
+    return false;
+  };
+  if (argc > 1 && argv[1][0] != '-' && !is_command(argv[1])) {
+    std::cerr << "overtone: error: unknown command '" << printable_text(argv[1])
+              << "' (commands: modes, analyze, anharmonic, families, symmetry; see overtone --help)\n";
+    return user_error_status;
+  }
   try {
     app.parse(argc, argv);
+  } catch (const CLI::Success& success) {
+    return app.exit(success);  // --help: the help text, exit status 0
   } catch (const CLI::ParseError& error) {
-    return app.exit(error);
+    std::cerr << usage_error_line(error) << "\n";
+    return user_error_status;
   }
 
   try {
@@ -391,11 +425,11 @@ int main(int argc, char** argv) {
     if (*families) return run_families(families_arguments, family_arguments, families_json_path, csv_folder);
     if (*symmetry) return run_symmetry(symmetry_arguments, with_modes);
   } catch (const overtone::Error& error) {
-    std::cerr << "overtone: error: " << error.what() << "\n";
-    return 1;
+    std::cerr << "overtone: error: " << printable_text(error.what()) << "\n";
+    return user_error_status;
   } catch (const std::exception& error) {
-    std::cerr << "overtone: internal error: " << error.what() << "\n";
-    return 2;
+    std::cerr << "overtone: internal error: " << printable_text(error.what()) << "\n";
+    return internal_error_status;
   }
   return 0;
 }

@@ -10,7 +10,6 @@
 #include <vector>
 
 #include "anharmonic/amplitude_scan.hpp"
-#include "anharmonic/anharmonic_report.hpp"
 #include "anharmonic/mode_symmetry.hpp"
 #include "core/error.hpp"
 
@@ -20,65 +19,6 @@ namespace {
 
 double seconds_since(std::chrono::steady_clock::time_point start) {
   return std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count();
-}
-
-// Groups of mode indices: the symmetry sets when species were assigned, else single
-// modes (exact frequency ties are kept together).
-struct ModeGroup {
-  std::vector<int> members;
-  int irrep = -1;  // -1: unknown species
-};
-
-bool is_bend_of_linear_triatomic(const AnalysisResult& analysis, const ModeGroup& group) {
-  return analysis.harmonic.linear && analysis.molecule.atom_count() == 3 && group.members.size() == 2;
-}
-
-std::vector<ModeLabel> label_modes(const AnalysisResult& analysis) {
-  const HarmonicResult& harmonic = analysis.harmonic;
-  std::vector<ModeGroup> groups;
-  const bool with_species = analysis.symmetry_used && !analysis.mode_symmetry.sets.empty();
-  if (with_species) {
-    for (const auto& set : analysis.mode_symmetry.sets) groups.push_back({set.modes, set.irrep});
-  } else {
-    for (std::size_t k = 0; k < harmonic.mode_count(); ++k) groups.push_back({{static_cast<int>(k)}, -1});
-  }
-  auto wavenumber = [&](const ModeGroup& g) { return harmonic.frequencies_cm1[g.members.front()]; };
-  std::stable_sort(groups.begin(), groups.end(), [&](const ModeGroup& a, const ModeGroup& b) {
-    if (a.irrep != b.irrep) return a.irrep < b.irrep;
-    return wavenumber(a) > wavenumber(b);
-  });
-  // Customary exception: the bend of a linear triatomic is ν2 (CO2, HCN).
-  if (with_species && groups.size() == 3) {
-    auto bend = std::find_if(groups.begin(), groups.end(),
-                             [&](const ModeGroup& g) { return is_bend_of_linear_triatomic(analysis, g); });
-    if (bend != groups.end() && bend != groups.begin() + 1) {
-      const ModeGroup moved = *bend;
-      groups.erase(bend);
-      groups.insert(groups.begin() + 1, moved);
-    }
-  }
-  std::vector<ModeLabel> labels;
-  int number = 0;
-  for (std::size_t g = 0; g < groups.size(); ++g) {
-    for (const int index : groups[g].members) {
-      ModeLabel label;
-      label.harmonic_index = index;
-      label.number = ++number;
-      label.fundamental = static_cast<int>(g) + 1;
-      label.degenerate_set = static_cast<int>(g) + 1;
-      label.set_size = static_cast<int>(groups[g].members.size());
-      if (with_species) {
-        const ModeSpecies& species = analysis.mode_symmetry.modes[static_cast<std::size_t>(index)];
-        label.species = species.species;
-        label.display_species = species.display_species;
-        label.ir_active = species.ir_active;
-        label.raman_active = species.raman_active;
-        label.activity_known = species.irrep >= 0;
-      }
-      labels.push_back(label);
-    }
-  }
-  return labels;
 }
 
 // The anharmonic and families stages expand the potential about a minimum; anywhere
@@ -102,29 +42,6 @@ double seconds_between(std::chrono::steady_clock::time_point start,
 }
 
 }  // namespace
-
-std::vector<int> report_mode_order(const AnalysisResult& analysis) {
-  std::vector<int> order;
-  order.reserve(analysis.modes.size());
-  for (const ModeLabel& mode : analysis.modes) order.push_back(mode.harmonic_index);
-  return order;
-}
-
-std::vector<int> mode_numbers_of_fundamentals(const AnalysisResult& analysis,
-                                              const std::vector<int>& fundamentals) {
-  std::vector<int> numbers;
-  for (const int fundamental : fundamentals) {
-    const std::size_t before = numbers.size();
-    for (const ModeLabel& mode : analysis.modes)
-      if (mode.fundamental == fundamental) numbers.push_back(mode.number);
-    if (numbers.size() == before) {
-      const int highest = analysis.modes.empty() ? 0 : analysis.modes.back().fundamental;
-      throw Error(
-          fmt::format("there is no fundamental ν{} (this molecule has ν1 to ν{})", fundamental, highest));
-    }
-  }
-  return numbers;
-}
 
 AnharmonicResult analyze_anharmonic(const AnalysisResult& analysis, const Potential& potential,
                                     const AnharmonicOptions& options) {
@@ -173,9 +90,8 @@ FamiliesResult analyze_families(const AnalysisResult& analysis, const Potential&
                                  report_mode_order(analysis), options, system_options);
   for (const TurnoverFinding& finding : scan.findings) {
     if (finding.barrier_cm1 > top_energy_cm1) continue;
-    int fundamental = 0;
-    for (const ModeLabel& mode : analysis.modes)
-      if (mode.harmonic_index == finding.mode) fundamental = mode.fundamental;
+    const int fundamental = fundamental_of_mode_number(
+        analysis.modes, mode_number_of_index(analysis.modes).at(static_cast<std::size_t>(finding.mode)));
     result.warnings.push_back(fmt::format(
         "the potential turns over along ν{} ({} direction) {:.0f} cm-1 above the minimum{}, inside the "
         "requested "
@@ -189,13 +105,8 @@ FamiliesResult analyze_families(const AnalysisResult& analysis, const Potential&
 std::vector<ResonanceCrossCheck> cross_check_resonances(const AnalysisResult& analysis,
                                                         const AnharmonicResult& anharmonic,
                                                         const FamiliesResult& families) {
-  std::map<int, int> fundamental_of_number;
-  for (const ModeLabel& mode : analysis.modes) fundamental_of_number[mode.number] = mode.fundamental;
   auto fundamental_of = [&](const std::vector<int>& mode_numbers) {
-    const auto found = fundamental_of_number.find(mode_numbers.at(0));
-    if (found == fundamental_of_number.end())
-      throw Error("the families were computed for a different numbering of the modes");
-    return found->second;
+    return fundamental_of_mode_number(analysis.modes, mode_numbers.at(0));
   };
   std::map<std::pair<int, int>, ResonanceCrossCheck> checks;
   auto check_for = [&](int lower, int upper) -> ResonanceCrossCheck& {
@@ -232,19 +143,6 @@ std::vector<ResonanceCrossCheck> cross_check_resonances(const AnalysisResult& an
   for (auto& [pair, check] : checks) {
     check.compared = check.listed_by_perturbative && check.listed_by_families;
     check.agree = !check.compared || check.perturbative_allowed == (check.families_allowed > 0);
-    const std::string pair_text = fmt::format("2ν{} / ν{} (gap {:.1f} cm-1)", check.lower_fundamental,
-                                              check.upper_fundamental, check.gap_cm1);
-    const std::string perturbative =
-        check.listed_by_perturbative
-            ? fmt::format("perturbative: {}{}", check.perturbative_allowed ? "allowed" : "forbidden",
-                          check.perturbative_flagged ? ", treated in a polyad" : "")
-            : std::string("perturbative: outside its window");
-    const std::string per_family = check.listed_by_families
-                                       ? fmt::format("families: allowed for {} of {} family types",
-                                                     check.families_allowed, check.families_of_lower)
-                                       : std::string("families: outside their window");
-    check.summary = pair_text + ": " + perturbative + "; " + per_family +
-                    (check.compared ? (check.agree ? "; agree" : "; DISAGREE") : "");
     result.push_back(check);
   }
   return result;
@@ -296,7 +194,8 @@ AnalysisResult analyze_molecule(const Molecule& molecule, const Potential& poten
     for (const auto& warning : result.mode_symmetry.warnings) result.warnings.push_back(warning);
   }
   result.timings.symmetry_s += seconds_since(clock);
-  result.modes = label_modes(result);
+  result.modes = number_modes(result.harmonic, result.symmetry_used ? &result.mode_symmetry : nullptr,
+                              result.molecule.atom_count());
   return result;
 }
 

@@ -12,6 +12,7 @@
 #include "families/families.hpp"
 #include "harmonic/harmonic.hpp"
 #include "optimize/minimize.hpp"
+#include "pipeline/mode_numbering.hpp"
 #include "potential/potential.hpp"
 #include "symmetry/detect_point_group.hpp"
 #include "symmetry/mode_symmetry.hpp"
@@ -28,20 +29,6 @@ struct AnalysisOptions {
   bool use_symmetry = true;
   SymmetryOptions symmetry;
   ModeSpeciesOptions species;
-};
-
-// One reported normal mode: where it sits in the harmonic result and its labels.
-struct ModeLabel {
-  int harmonic_index = 0;       // column of HarmonicResult::mass_weighted_modes
-  int number = 0;               // 1-based position in the report (unique per vector)
-  int fundamental = 0;          // ν number: shared by the members of a degenerate set
-  int degenerate_set = 0;       // 1-based id shared by the members of a set
-  int set_size = 1;             // 1, 2, 3, ...
-  std::string species;          // ASCII Mulliken label, empty without symmetry
-  std::string display_species;  // typographic label
-  bool ir_active = false;
-  bool raman_active = false;
-  bool activity_known = false;  // false when species could not be assigned
 };
 
 struct StageTimings {
@@ -61,11 +48,7 @@ struct AnalysisResult {
   bool symmetry_used = false;
   PointGroupResult point_group;      // when symmetry_used
   ModeSymmetryResult mode_symmetry;  // when symmetry_used
-  // Reported modes in report order. Numbering rule (common practice, no source; the
-  // convention of Herzberg's tables): by species in the character table's textbook
-  // order, then by descending wavenumber; a degenerate set takes one ν number. Linear
-  // triatomics follow the custom of calling the bend ν2. Without species: descending
-  // wavenumber.
+  // Reported modes in report order (numbering rule: pipeline/mode_numbering.hpp).
   std::vector<ModeLabel> modes;
   StageTimings timings;
   std::vector<std::string> warnings;
@@ -77,12 +60,16 @@ AnalysisResult analyze_molecule(const Molecule& molecule, const Potential& poten
                                 const AnalysisOptions& options = {});
 
 // Harmonic index of each reported mode, in report order (AnalysisResult::modes).
-std::vector<int> report_mode_order(const AnalysisResult& analysis);
+inline std::vector<int> report_mode_order(const AnalysisResult& analysis) {
+  return report_mode_order(analysis.modes);
+}
 
 // Report numbers of the modes of the given fundamentals (ν numbers), for
 // FamiliesOptions::mode_numbers. Throws Error naming a ν number the molecule lacks.
-std::vector<int> mode_numbers_of_fundamentals(const AnalysisResult& analysis,
-                                              const std::vector<int>& fundamentals);
+inline std::vector<int> mode_numbers_of_fundamentals(const AnalysisResult& analysis,
+                                                     const std::vector<int>& fundamentals) {
+  return mode_numbers_of_fundamentals(analysis.modes, fundamentals);
+}
 
 struct AnharmonicOptions {
   ForceConstantOptions force_constants;
@@ -130,7 +117,6 @@ struct ResonanceCrossCheck {
   int families_allowed = 0;   // of those, how many the symmetry lets drive the upper set
   bool compared = false;      // listed by both
   bool agree = true;          // compared and perturbative_allowed == (families_allowed > 0)
-  std::string summary;        // one line for the report
 };
 
 std::vector<ResonanceCrossCheck> cross_check_resonances(const AnalysisResult& analysis,

@@ -12,6 +12,7 @@
 #include <sstream>
 
 #include "core/error.hpp"
+#include "core/text.hpp"
 #include "core/units.hpp"
 
 namespace overtone {
@@ -543,14 +544,8 @@ std::string write_taylor_expansion(const TaylorExpansionData& data, const Taylor
   const int atoms = static_cast<int>(data.atomic_numbers.size());
   const bool normal = data.coordinates == ExpansionCoordinates::normal;
   auto number = [](double v) { return fmt::format("{:.17g}", v); };
-  auto quoted = [](const std::string& s) {
-    std::string out = "\"";
-    for (char c : s) {
-      if (c == '"' || c == '\\') out += '\\';
-      out += c;
-    }
-    return out + "\"";
-  };
+  // Titles and sources come from input files: any bytes, escaped so that they read back.
+  auto quoted = [](const std::string& s) { return toml_quoted(s); };
 
   std::string out;
   out += "# Taylor expansion of a potential energy surface to fourth order, for Overtone.\n";

@@ -3,7 +3,7 @@
 #include <algorithm>
 #include <cmath>
 
-#include "anharmonic/anharmonic_report.hpp"
+#include "report/anharmonic_report.hpp"
 #include "report/json_values.hpp"
 
 namespace overtone {
@@ -14,14 +14,6 @@ using nlohmann::json;
 
 json counts_to_json(const EvaluationCounts& counts) {
   return {{"energies", counts.energies}, {"gradients", counts.gradients}, {"hessians", counts.hessians}};
-}
-
-// Report mode number (1-based, unique per vector) of each harmonic index.
-std::vector<int> report_number_of_mode(const AnalysisResult& analysis) {
-  std::vector<int> number(analysis.modes.size(), 0);
-  for (const ModeLabel& mode : analysis.modes)
-    number[static_cast<std::size_t>(mode.harmonic_index)] = mode.number;
-  return number;
 }
 
 json sorted_indices(const std::vector<int>& number_of_mode, std::initializer_list<int> indices) {
@@ -163,7 +155,7 @@ json resonances_to_json(const AnharmonicResult& anharmonic) {
 }  // namespace
 
 nlohmann::json anharmonic_to_json(const AnalysisResult& analysis, const AnharmonicResult& anharmonic) {
-  const std::vector<int> number_of_mode = report_number_of_mode(analysis);
+  const std::vector<int> number_of_mode = mode_number_of_index(analysis.modes);
   json document;
   document["force_constants"] = force_constants_to_json(anharmonic, number_of_mode);
   document["anharmonicity"] = anharmonicity_to_json(analysis, anharmonic);

@@ -7,9 +7,10 @@
 
 namespace overtone {
 
-// The object with keys force_constants, anharmonicity, levels, resonances and
-// anharmonic_summary. Mode indices are report mode numbers (AnalysisResult::modes) and ν
-// numbers as in the modes table.
+// The anharmonic sections of the JSON document: an object whose members are the top-level
+// keys force_constants, anharmonicity, levels, resonances and anharmonic_summary (the shape
+// of every stage writer, see harmonic_to_json). Mode indices are report mode numbers
+// (AnalysisResult::modes) and ν numbers as in the modes table.
 nlohmann::json anharmonic_to_json(const AnalysisResult& analysis, const AnharmonicResult& anharmonic);
 
 }  // namespace overtone

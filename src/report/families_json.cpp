@@ -15,22 +15,26 @@ std::string phase_text(const PhasedElement& element) {
   return std::to_string(element.numerator) + "/" + std::to_string(element.denominator);
 }
 
-json phased_elements(const std::vector<PhasedElement>& elements) {
+// Operations by their ASCII names (docs/symmetry.md, "Labels"), as every JSON label.
+json phased_elements(const std::vector<PhasedElement>& elements, const PointGroup& group) {
   json list = json::array();
   for (const PhasedElement& element : elements)
-    list.push_back({{"operation", element.label}, {"phase", phase_text(element)}});
+    list.push_back({{"operation", group.operations.at(static_cast<std::size_t>(element.element)).ascii_name},
+                    {"phase", phase_text(element)}});
   return list;
 }
 
-json threats_to_json(const std::vector<ResonanceThreat>& threats) {
+json threats_to_json(const std::vector<ResonanceThreat>& threats, const std::vector<ModeLabel>& modes) {
   json list = json::array();
   for (const ResonanceThreat& threat : threats)
-    list.push_back({{"partner_modes", threat.partner_mode_numbers},
-                    {"partner_species", threat.partner_species},
-                    {"order", threat.order},
-                    {"detuning_cm1", threat.detuning_cm1},
-                    {"coupling_dimension", threat.coupling_dimension},
-                    {"symmetry_allowed", threat.symmetry_allowed}});
+    list.push_back(
+        {{"partner_modes", threat.partner_mode_numbers},
+         {"partner_fundamentals", fundamentals_of_mode_numbers(modes, threat.partner_mode_numbers)},
+         {"partner_species", threat.partner_species},
+         {"order", threat.order},
+         {"detuning_cm1", threat.detuning_cm1},
+         {"coupling_dimension", threat.coupling_dimension},
+         {"symmetry_allowed", threat.symmetry_allowed}});
   return list;
 }
 
@@ -60,10 +64,12 @@ json event_to_json(const FamilyEvent& event) {
   return entry;
 }
 
-json family_to_json(const FamilyResult& family, int number) {
+json family_to_json(const AnalysisResult& analysis, const FamilyResult& family, int number) {
   const FamilyType& type = family.type;
+  const PointGroup& group = analysis.point_group.group;
   json entry = {{"family", number},
                 {"mode_numbers", type.mode_numbers},
+                {"fundamentals", fundamentals_of_mode_numbers(analysis.modes, type.mode_numbers)},
                 {"species", type.species},
                 {"copies", type.copies},
                 {"continuous_copies", type.continuous_copies},
@@ -71,9 +77,9 @@ json family_to_json(const FamilyResult& family, int number) {
                 {"standing", type.standing},
                 {"ellipticity", type.ellipticity},
                 {"description", type.description},
-                {"subgroup", phased_elements(type.subgroup)},
-                {"generators", phased_elements(type.generators)},
-                {"resonance_threats", threats_to_json(type.resonance_threats)},
+                {"subgroup", phased_elements(type.subgroup, group)},
+                {"generators", phased_elements(type.generators, group)},
+                {"resonance_threats", threats_to_json(type.resonance_threats, analysis.modes)},
                 {"continued", family.continued}};
   json points = json::array();
   json events = json::array();
@@ -106,23 +112,20 @@ json family_to_json(const FamilyResult& family, int number) {
 
 }  // namespace
 
-nlohmann::json families_to_json(const FamiliesResult& families) {
+nlohmann::json families_to_json(const AnalysisResult& analysis, const FamiliesResult& families) {
   json list = json::array();
   for (std::size_t index = 0; index < families.families.size(); ++index)
-    list.push_back(family_to_json(families.families[index], static_cast<int>(index) + 1));
-  return list;
-}
-
-nlohmann::json families_summary_to_json(const FamiliesResult& families) {
-  return {{"system", families.system_description},
-          {"notes", families.notes},
-          {"warnings", families.warnings},
-          {"points", families.points},
-          {"newton_iterations", families.newton_iterations},
-          {"variational_integrations", families.variational_integrations},
-          {"orbit_integrations", families.orbit_integrations},
-          {"gradient_evaluations", families.gradient_evaluations},
-          {"seconds", families.seconds}};
+    list.push_back(family_to_json(analysis, families.families[index], static_cast<int>(index) + 1));
+  json summary = {{"system", families.system_description},
+                  {"notes", families.notes},
+                  {"warnings", families.warnings},
+                  {"points", families.points},
+                  {"newton_iterations", families.newton_iterations},
+                  {"variational_integrations", families.variational_integrations},
+                  {"orbit_integrations", families.orbit_integrations},
+                  {"gradient_evaluations", families.gradient_evaluations},
+                  {"seconds", families.seconds}};
+  return {{"families", list}, {"families_summary", summary}};
 }
 
 }  // namespace overtone

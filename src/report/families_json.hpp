@@ -3,13 +3,14 @@
 #include <nlohmann/json.hpp>
 
 #include "families/families.hpp"
+#include "pipeline/analysis.hpp"
 
 namespace overtone {
 
-// The array for the top-level key "families": one object per family.
-nlohmann::json families_to_json(const FamiliesResult& families);
-
-// Totals, model notes and warnings of the families stage (key "families_summary").
-nlohmann::json families_summary_to_json(const FamiliesResult& families);
+// The families sections of the JSON document: an object whose members are the top-level
+// keys "families" (one object per family) and "families_summary" (totals, model notes and
+// warnings), the shape of every stage writer (see harmonic_to_json). The analysis gives
+// the ν numbers and the ASCII names of the point-group operations.
+nlohmann::json families_to_json(const AnalysisResult& analysis, const FamiliesResult& families);
 
 }  // namespace overtone

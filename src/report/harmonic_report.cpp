@@ -2,8 +2,9 @@
 
 #include <fmt/format.h>
 
+#include "core/text.hpp"
 #include "core/units.hpp"
-#include "symmetry/symmetry_report.hpp"
+#include "report/symmetry_report.hpp"
 
 namespace overtone {
 
@@ -17,9 +18,22 @@ std::string pad(const std::string& text, std::size_t width) {
   return shown >= width ? text : std::string(width - shown, ' ') + text;
 }
 
+// Left-aligns UTF-8 text to a width in terminal columns.
+std::string pad_after(const std::string& text, std::size_t width) {
+  const std::size_t shown = display_width(text);
+  return shown >= width ? text : text + std::string(width - shown, ' ');
+}
+
+// Per atom [x, y, z] of a 3N column.
+nlohmann::json per_atom(const Eigen::VectorXd& column) {
+  nlohmann::json list = nlohmann::json::array();
+  for (Eigen::Index i = 0; i + 2 < column.size(); i += 3) list.push_back(vector3(column.segment<3>(i)));
+  return list;
+}
+
 }  // namespace
 
-nlohmann::json analysis_to_json(const AnalysisResult& analysis) {
+nlohmann::json harmonic_to_json(const AnalysisResult& analysis) {
   using nlohmann::json;
   const auto& molecule = analysis.molecule;
   const auto& harmonic = analysis.harmonic;
@@ -29,7 +43,7 @@ nlohmann::json analysis_to_json(const AnalysisResult& analysis) {
                        {"length", "angstrom"},
                        {"mass", "dalton"},
                        {"wavenumber", "cm-1"},
-                       {"force_constant", "mdyn/angstrom"}};
+                       {"stiffness", "aJ/angstrom^2"}};
   document["molecule"] = {{"title", molecule.title},
                           {"formula", molecule.formula()},
                           {"source", molecule.source},
@@ -99,9 +113,6 @@ nlohmann::json analysis_to_json(const AnalysisResult& analysis) {
   json modes = json::array();
   for (const ModeLabel& label : analysis.modes) {
     const int index = label.harmonic_index;
-    json displacement = json::array();
-    for (std::size_t i = 0; i < molecule.atoms.size(); ++i)
-      displacement.push_back(vector3(harmonic.cartesian_displacements.col(index).segment<3>(3 * i)));
     json mode = {{"number", label.number},
                  {"fundamental", label.fundamental},
                  {"degenerate_set", label.degenerate_set},
@@ -109,11 +120,12 @@ nlohmann::json analysis_to_json(const AnalysisResult& analysis) {
                  {"frequency_cm1", harmonic.frequencies_cm1[index]},
                  {"imaginary", harmonic.frequencies_cm1[index] < 0.0},
                  {"reduced_mass_da", harmonic.reduced_masses_da[index]},
-                 {"force_constant_mdyn_angstrom", harmonic.force_constants_mdyn_per_angstrom[index]},
+                 {"stiffness_aj_per_angstrom2", harmonic.force_constants_mdyn_per_angstrom[index]},
                  {"species", label.species.empty() ? json(nullptr) : json(label.species)},
                  {"ir_active", label.activity_known ? json(label.ir_active) : json(nullptr)},
                  {"raman_active", label.activity_known ? json(label.raman_active) : json(nullptr)},
-                 {"displacement", displacement}};
+                 {"displacement", per_atom(harmonic.cartesian_displacements.col(index))},
+                 {"mass_weighted_vector", per_atom(harmonic.mass_weighted_modes.col(index))}};
     modes.push_back(mode);
   }
   document["modes"] = modes;
@@ -124,8 +136,7 @@ nlohmann::json analysis_to_json(const AnalysisResult& analysis) {
 std::string modes_csv(const AnalysisResult& analysis) {
   const auto& harmonic = analysis.harmonic;
   std::string text =
-      "mode,fundamental,degenerate_set,species,wavenumber_cm1,reduced_mass_da,force_constant_mdyn_per_"
-      "angstrom,"
+      "mode,fundamental,degenerate_set,species,wavenumber_cm1,reduced_mass_da,stiffness_aj_per_angstrom2,"
       "ir_active,raman_active\n";
   auto flag = [](const ModeLabel& label, bool value) -> std::string {
     return label.activity_known ? (value ? "yes" : "no") : "";
@@ -145,8 +156,9 @@ std::string modes_table(const AnalysisResult& analysis) {
   const auto& harmonic = analysis.harmonic;
   std::string text;
   text +=
-      fmt::format("{} ({}, {} atoms) on {}\n", molecule.title.empty() ? molecule.formula() : molecule.title,
-                  molecule.formula(), molecule.atom_count(), analysis.potential_description);
+      fmt::format("{} ({}, {} atoms) on {}\n",
+                  molecule.title.empty() ? molecule.formula() : printable_text(molecule.title),
+                  molecule.formula(), molecule.atom_count(), printable_text(analysis.potential_description));
   if (analysis.optimized)
     text += fmt::format("structure: {}; energy {:.6f} kcal/mol\n", analysis.optimization.message,
                         analysis.optimization.energy_kcal_mol);
@@ -159,25 +171,44 @@ std::string modes_table(const AnalysisResult& analysis) {
                         analysis.point_group.group.display_name, analysis.point_group.max_deviation_angstrom,
                         analysis.mode_symmetry.display_decomposition);
   text += "\n";
-  text += pad("mode", 5) + "  " + pad("ν", 4) + "  " + pad("species", 8) + "  " + pad("cm⁻¹", 11) + "  " +
-          pad("μ / Da", 9) + "  " + pad("k / mdyn Å⁻¹", 12) + "  " + pad("IR", 3) + "  " + pad("Raman", 5) +
-          "\n";
+  // What a spectroscopist matches against a band comes first (ν, species, position,
+  // activity); the per-vector quantities follow, one line per vector of a degenerate set.
+  constexpr std::size_t nu_width = 5, species_width = 8, wavenumber_width = 11, degeneracy_width = 4,
+                        activity_width = 5, mode_width = 5, mass_width = 9, stiffness_width = 10;
+  text += pad_after("ν", nu_width) + "  " + pad_after("species", species_width) + "  " +
+          pad("cm⁻¹", wavenumber_width) + "  " + pad("deg", degeneracy_width) + "  " +
+          pad("IR", activity_width) + "  " + pad("Raman", activity_width) + "  │" + pad("mode", mode_width) +
+          "  " + pad("μ/Da", mass_width) + "  " + pad("k/aJ Å⁻²", stiffness_width) + "\n";
   auto activity = [](const ModeLabel& label, bool value) -> std::string {
     return label.activity_known ? (value ? "yes" : "–") : "?";
   };
+  int shown_fundamental = 0;
   for (const ModeLabel& label : analysis.modes) {
     const int index = label.harmonic_index;
-    const double wavenumber = harmonic.frequencies_cm1[index];
-    const std::string shown =
-        wavenumber < 0.0 ? fmt::format("{:.2f}i", -wavenumber) : fmt::format("{:.2f}", wavenumber);
-    text += pad(std::to_string(label.number), 5) + "  " + pad("ν" + std::to_string(label.fundamental), 4) +
-            "  " + pad(label.display_species.empty() ? "?" : label.display_species, 8) + "  " +
-            pad(shown, 11) + "  " + pad(fmt::format("{:.4f}", harmonic.reduced_masses_da[index]), 9) + "  " +
-            pad(fmt::format("{:.4f}", harmonic.force_constants_mdyn_per_angstrom[index]), 12) + "  " +
-            pad(activity(label, label.ir_active), 3) + "  " + pad(activity(label, label.raman_active), 5) +
+    std::string fundamental_part;
+    if (label.fundamental != shown_fundamental) {
+      shown_fundamental = label.fundamental;
+      const double wavenumber = harmonic.frequencies_cm1[index];
+      const std::string shown =
+          wavenumber < 0.0 ? fmt::format("{:.2f}i", -wavenumber) : fmt::format("{:.2f}", wavenumber);
+      fundamental_part =
+          pad_after("ν" + std::to_string(label.fundamental), nu_width) + "  " +
+          pad_after(label.display_species.empty() ? "?" : label.display_species, species_width) + "  " +
+          pad(shown, wavenumber_width) + "  " +
+          pad(label.set_size > 1 ? std::to_string(label.set_size) : "", degeneracy_width) + "  " +
+          pad(activity(label, label.ir_active), activity_width) + "  " +
+          pad(activity(label, label.raman_active), activity_width);
+    } else {
+      fundamental_part = std::string(
+          nu_width + species_width + wavenumber_width + degeneracy_width + 2 * activity_width + 10, ' ');
+    }
+    text += fundamental_part + "  │" + pad(std::to_string(label.number), mode_width) + "  " +
+            pad(fmt::format("{:.4f}", harmonic.reduced_masses_da[index]), mass_width) + "  " +
+            pad(fmt::format("{:.4f}", harmonic.force_constants_mdyn_per_angstrom[index]), stiffness_width) +
             "\n";
   }
-  for (const auto& warning : analysis.warnings) text += "warning: " + warning + "\n";
+  text += "deg: vectors sharing the ν number; μ: reduced mass; k: stiffness λμ along the vector (aJ/Å²)\n";
+  for (const auto& warning : analysis.warnings) text += "warning: " + printable_text(warning) + "\n";
   return text;
 }
 

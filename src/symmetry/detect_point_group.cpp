@@ -30,8 +30,8 @@ Eigen::Matrix3d PointGroupResult::operation_matrix(int g, CoordinateFrame frame)
     throw Error("operation index " + std::to_string(g) + " is outside the group of order " +
                 std::to_string(group.order()));
   const Eigen::Matrix3d& r = group.operations[g].matrix;
-  if (frame == CoordinateFrame::Standard) return r;
-  return standard_from_input.transpose() * r * standard_from_input;
+  if (frame == CoordinateFrame::Symmetry) return r;
+  return symmetry_from_file.transpose() * r * symmetry_from_file;
 }
 
 namespace {
@@ -389,7 +389,7 @@ FiniteGroup permutation_group(const std::vector<FittedOperation>& ops) {
 struct Identification {
   PointGroupFamily family = PointGroupFamily::C1;
   int axis_order = 1;
-  Eigen::Matrix3d standard_from_input = Eigen::Matrix3d::Identity();
+  Eigen::Matrix3d symmetry_from_file = Eigen::Matrix3d::Identity();
 };
 
 Eigen::Matrix3d frame_from_axes(Eigen::Vector3d z, Eigen::Vector3d x) {
@@ -458,10 +458,10 @@ Identification identify(const Geometry& geometry, const std::vector<FittedOperat
   if (proper_count == 1) {
     if (order == 1) {
       id.family = PointGroupFamily::C1;
-      id.standard_from_input = inertia_frame(geometry);
+      id.symmetry_from_file = inertia_frame(geometry);
     } else if (inversion) {
       id.family = PointGroupFamily::Ci;
-      id.standard_from_input = inertia_frame(geometry);
+      id.symmetry_from_file = inertia_frame(geometry);
     } else {
       id.family = PointGroupFamily::Cs;
       const FittedOperation& mirror = ops[0].determinant < 0 ? ops[0] : ops[1];
@@ -475,7 +475,7 @@ Identification identify(const Geometry& geometry, const std::vector<FittedOperat
       }
       Eigen::SelfAdjointEigenSolver<Eigen::Matrix2d> solver(inertia);
       const Eigen::Vector2d e = solver.eigenvectors().col(0);
-      id.standard_from_input = frame_from_axes(z, e(0) * u + e(1) * v);
+      id.symmetry_from_file = frame_from_axes(z, e(0) * u + e(1) * v);
     }
     return id;
   }
@@ -501,18 +501,18 @@ Identification identify(const Geometry& geometry, const std::vector<FittedOperat
         break;
       }
     if (y.isZero()) throw Error("internal: no perpendicular twofold axes in a cubic group");
-    id.standard_from_input = frame_from_axes(x.cross(y), x);
+    id.symmetry_from_file = frame_from_axes(x.cross(y), x);
     if (id.family == PointGroupFamily::I || id.family == PointGroupFamily::Ih) {
       // Two icosahedra share these axes; pick the one with a fivefold axis along (0, 1, φ).
       const double golden = (1.0 + std::sqrt(5.0)) / 2.0;
       const Eigen::Vector3d five_fold = Eigen::Vector3d(0, 1, golden).normalized();
       bool aligned = false;
       for (const auto& a : axes_of_order(5, true))
-        aligned = aligned || std::abs((id.standard_from_input * a).dot(five_fold)) > 0.99;
+        aligned = aligned || std::abs((id.symmetry_from_file * a).dot(five_fold)) > 0.99;
       if (!aligned) {
         Eigen::Matrix3d turn;  // new x = old y, new y = −old x
         turn << 0, 1, 0, -1, 0, 0, 0, 0, 1;
-        id.standard_from_input = turn * id.standard_from_input;
+        id.symmetry_from_file = turn * id.symmetry_from_file;
       }
     }
     return id;
@@ -554,9 +554,9 @@ Identification identify(const Geometry& geometry, const std::vector<FittedOperat
       const Eigen::Vector3d normal = best_by_atoms(choices);
       if (n == 2) {
         // Planar or not, the plane with more atoms is yz (x perpendicular to it).
-        id.standard_from_input = frame_from_axes(principal_axis, normal);
+        id.symmetry_from_file = frame_from_axes(principal_axis, normal);
       } else {
-        id.standard_from_input = frame_from_axes(principal_axis, normal.cross(principal_axis));
+        id.symmetry_from_file = frame_from_axes(principal_axis, normal.cross(principal_axis));
       }
     } else {
       // x towards the first atom off the axis (input order).
@@ -568,7 +568,7 @@ Identification identify(const Geometry& geometry, const std::vector<FittedOperat
           break;
         }
       }
-      id.standard_from_input = frame_from_axes(principal_axis, x);
+      id.symmetry_from_file = frame_from_axes(principal_axis, x);
     }
     return id;
   }
@@ -585,7 +585,7 @@ Identification identify(const Geometry& geometry, const std::vector<FittedOperat
           if (orders[k] == 4 && ops[k].determinant < 0) z = proper_axis(ops[k].matrix);  // the S4 axis
         for (const auto& a : axes)
           if (std::abs(a.dot(z)) < 0.1) {
-            id.standard_from_input = frame_from_axes(z, a);
+            id.symmetry_from_file = frame_from_axes(z, a);
             break;
           }
         return id;
@@ -605,9 +605,9 @@ Identification identify(const Geometry& geometry, const std::vector<FittedOperat
       });
       if (plane_normal >= 0) {
         rank.erase(std::find(rank.begin(), rank.end(), static_cast<std::size_t>(plane_normal)));
-        id.standard_from_input = frame_from_axes(axes[rank[0]], axes[plane_normal]);
+        id.symmetry_from_file = frame_from_axes(axes[rank[0]], axes[plane_normal]);
       } else {
-        id.standard_from_input = frame_from_axes(axes[rank[0]], axes[rank[2]]);
+        id.symmetry_from_file = frame_from_axes(axes[rank[0]], axes[rank[2]]);
       }
       return id;
     }
@@ -629,7 +629,7 @@ Identification identify(const Geometry& geometry, const std::vector<FittedOperat
     }
     for (const auto& [label, axis] : axis_of_class)
       choices.push_back({axis, atoms_on_axis(geometry, axis, acceptance)});
-    id.standard_from_input = frame_from_axes(principal_axis, best_by_atoms(choices));
+    id.symmetry_from_file = frame_from_axes(principal_axis, best_by_atoms(choices));
     return id;
   }
   throw Error("internal: the symmetry operations found (" + std::to_string(order) +
@@ -639,9 +639,9 @@ Identification identify(const Geometry& geometry, const std::vector<FittedOperat
 struct Candidate {
   bool realized = true;  // false when the fitted operations could not be matched to exact ones
   PointGroup group;
-  Eigen::Matrix3d standard_from_input;
+  Eigen::Matrix3d symmetry_from_file;
   std::vector<std::vector<int>> permutations;
-  Points symmetric_standard;
+  Points symmetric_in_symmetry_frame;
   double deviation = 0.0;
 };
 
@@ -655,7 +655,7 @@ Candidate realize(const Geometry& geometry, const std::vector<FittedOperation>& 
   if (c.group.order() != static_cast<int>(ops.size()))
     throw Error("internal: identified " + c.group.name + " of order " + std::to_string(c.group.order()) +
                 " from " + std::to_string(ops.size()) + " operations");
-  Eigen::Matrix3d q = id.standard_from_input;
+  Eigen::Matrix3d q = id.symmetry_from_file;
   const int n = static_cast<int>(geometry.points.size());
   const int order = c.group.order();
   for (int iteration = 0; iteration < 4; ++iteration) {
@@ -684,23 +684,24 @@ Candidate realize(const Geometry& geometry, const std::vector<FittedOperation>& 
       used[best] = 1;
       c.permutations[g] = ops[best].permutation;
     }
-    // Symmetrized geometry in the standard frame, then the rotation that best maps the input onto it.
-    c.symmetric_standard.assign(n, Eigen::Vector3d::Zero());
+    // Symmetrized geometry in the symmetry frame, then the rotation that best maps the input onto it.
+    c.symmetric_in_symmetry_frame.assign(n, Eigen::Vector3d::Zero());
     for (int g = 0; g < order; ++g) {
       const Eigen::Matrix3d back = c.group.operations[g].matrix.transpose();
       for (int i = 0; i < n; ++i)
-        c.symmetric_standard[i] += back * (q * geometry.points[c.permutations[g][i]]);
+        c.symmetric_in_symmetry_frame[i] += back * (q * geometry.points[c.permutations[g][i]]);
     }
-    for (auto& p : c.symmetric_standard) p /= order;
+    for (auto& p : c.symmetric_in_symmetry_frame) p /= order;
     Eigen::Matrix3d covariance = Eigen::Matrix3d::Zero();
-    for (int i = 0; i < n; ++i) covariance += c.symmetric_standard[i] * geometry.points[i].transpose();
+    for (int i = 0; i < n; ++i)
+      covariance += c.symmetric_in_symmetry_frame[i] * geometry.points[i].transpose();
     q = detail::orthogonal_procrustes(covariance, 1);
   }
-  c.standard_from_input = q;
+  c.symmetry_from_file = q;
   c.deviation = 0.0;
   for (int i = 0; i < n; ++i)
     c.deviation =
-        std::max(c.deviation, (q.transpose() * c.symmetric_standard[i] - geometry.points[i]).norm());
+        std::max(c.deviation, (q.transpose() * c.symmetric_in_symmetry_frame[i] - geometry.points[i]).norm());
   return c;
 }
 
@@ -725,20 +726,20 @@ Candidate realize_linear(const Geometry& geometry, const Eigen::Vector3d& axis, 
   Candidate c;
   c.group = make_point_group(centrosymmetric ? PointGroupFamily::Dinfh : PointGroupFamily::Cinfv, 1,
                              linear_axis_order);
-  c.standard_from_input = frame_from_axes(axis, any_perpendicular(axis));
+  c.symmetry_from_file = frame_from_axes(axis, any_perpendicular(axis));
   std::vector<int> identity(n);
   std::iota(identity.begin(), identity.end(), 0);
   for (const auto& op : c.group.operations)
     c.permutations.push_back(op.matrix(2, 2) > 0.0 ? identity : partner);
-  c.symmetric_standard.assign(n, Eigen::Vector3d::Zero());
+  c.symmetric_in_symmetry_frame.assign(n, Eigen::Vector3d::Zero());
   for (int i = 0; i < n; ++i) {
     const double z = centrosymmetric ? 0.5 * (s[i] - s[partner[i]]) : s[i];
-    c.symmetric_standard[i] = Eigen::Vector3d(0, 0, z);
+    c.symmetric_in_symmetry_frame[i] = Eigen::Vector3d(0, 0, z);
   }
   for (int i = 0; i < n; ++i)
-    c.deviation =
-        std::max(c.deviation,
-                 (c.standard_from_input.transpose() * c.symmetric_standard[i] - geometry.points[i]).norm());
+    c.deviation = std::max(
+        c.deviation,
+        (c.symmetry_from_file.transpose() * c.symmetric_in_symmetry_frame[i] - geometry.points[i]).norm());
   return c;
 }
 
@@ -857,15 +858,15 @@ PointGroupResult detect_point_group(const Eigen::VectorXd& coordinates_angstrom,
   }
 
   result.group = chosen.group;
-  result.standard_from_input = chosen.standard_from_input;
+  result.symmetry_from_file = chosen.symmetry_from_file;
   result.permutations = chosen.permutations;
   result.max_deviation_angstrom = chosen.deviation;
-  result.standard_coordinates_angstrom.resize(3 * n);
+  result.symmetry_frame_coordinates_angstrom.resize(3 * n);
   result.symmetrized_coordinates_angstrom.resize(3 * n);
   for (int i = 0; i < n; ++i) {
-    result.standard_coordinates_angstrom.segment<3>(3 * i) = chosen.symmetric_standard[i];
+    result.symmetry_frame_coordinates_angstrom.segment<3>(3 * i) = chosen.symmetric_in_symmetry_frame[i];
     result.symmetrized_coordinates_angstrom.segment<3>(3 * i) =
-        center + chosen.standard_from_input.transpose() * chosen.symmetric_standard[i];
+        center + chosen.symmetry_from_file.transpose() * chosen.symmetric_in_symmetry_frame[i];
   }
   std::vector<int> orbit_of(n, -1);
   for (int i = 0; i < n; ++i) {

@@ -1,6 +1,6 @@
 #pragma once
 // Point-group detection: finds every symmetry operation of a geometry within a
-// tolerance, identifies the group, puts it in standard orientation (docs/symmetry.md),
+// tolerance, identifies the group, puts it in the symmetry frame (docs/symmetry.md),
 // symmetrizes the geometry exactly and reports how far that moved the atoms.
 //
 // Tolerance metric: the largest Cartesian distance (Å) between an atom of the input
@@ -17,7 +17,7 @@
 // an equivalent atom (the necessary condition for a symmetrized geometry within the
 // tolerance); the found set is closed into a group, identified from its structure
 // (orders of proper rotations, presence of i, σh, σv), and replaced by the exact
-// operations of that group in a refined standard frame.
+// operations of that group in a refined symmetry frame.
 #include <Eigen/Dense>
 #include <string>
 #include <vector>
@@ -45,20 +45,20 @@ struct SymmetryOptions {
 
 // Frame in which an operation matrix or coordinate vector is expressed.
 enum class CoordinateFrame {
-  Input,     // the input geometry's axes and origin
-  Standard,  // standard orientation, centre of mass at the origin
+  File,      // the axes and origin of the coordinates as read (and optimized)
+  Symmetry,  // axes fixed by the point group's conventions, centre of mass at the origin
 };
 
 struct PointGroupResult {
   PointGroup group;
   // permutations[g][i] = the atom j onto which operation g moves atom i (R_g·r_i ≈ r_j).
   std::vector<std::vector<int>> permutations;
-  // Standard orientation: r_standard = standard_from_input · (r_input − center_angstrom).
+  // Symmetry frame: r_symmetry = symmetry_from_file · (r_file − center_angstrom).
   Eigen::Vector3d center_angstrom = Eigen::Vector3d::Zero();  // centre of mass of the input
-  Eigen::Matrix3d standard_from_input = Eigen::Matrix3d::Identity();
-  Eigen::VectorXd input_coordinates_angstrom;        // 3N, as given
-  Eigen::VectorXd symmetrized_coordinates_angstrom;  // 3N, exactly symmetric, input frame
-  Eigen::VectorXd standard_coordinates_angstrom;     // 3N, exactly symmetric, standard frame
+  Eigen::Matrix3d symmetry_from_file = Eigen::Matrix3d::Identity();
+  Eigen::VectorXd input_coordinates_angstrom;           // 3N, as given
+  Eigen::VectorXd symmetrized_coordinates_angstrom;     // 3N, exactly symmetric, file frame
+  Eigen::VectorXd symmetry_frame_coordinates_angstrom;  // 3N, exactly symmetric, symmetry frame
   std::vector<int> atomic_numbers;
   Eigen::VectorXd masses_da;
   double max_deviation_angstrom = 0.0;        // largest |symmetrized − input| over atoms
@@ -70,7 +70,7 @@ struct PointGroupResult {
   std::string message;  // one line, e.g. "point group C2v (order 4); largest deviation removed 0.0012 Å"
 
   // Matrix of operation g in the requested frame (input: Qᵀ·R·Q).
-  Eigen::Matrix3d operation_matrix(int g, CoordinateFrame frame = CoordinateFrame::Input) const;
+  Eigen::Matrix3d operation_matrix(int g, CoordinateFrame frame = CoordinateFrame::File) const;
 };
 
 // Throws Error for no atoms, a single atom, mismatched sizes, non-finite coordinates,

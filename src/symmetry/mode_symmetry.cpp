@@ -164,7 +164,7 @@ Eigen::MatrixXd adapt_basis(const PointGroupResult& group, const Eigen::MatrixXd
     basis.col(0).cwiseAbs().maxCoeff(&largest);
     return Eigen::MatrixXd::Constant(1, 1, basis(largest, 0) < 0.0 ? -1.0 : 1.0);
   }
-  // Operations diagonal in the standard frame commute; their common eigenvectors label partners.
+  // Operations diagonal in the symmetry frame commute; their common eigenvectors label partners.
   std::vector<int> diagonal;
   for (int g = 0; g < pg.order(); ++g) {
     const Eigen::Matrix3d& r = pg.operations[g].matrix;
@@ -296,17 +296,17 @@ ModeSymmetryResult assign_mode_species(const PointGroupResult& group, const Harm
                                      ? options.frame_check_tolerance_angstrom
                                      : 2.0 * group.tolerance_angstrom;
   const double input_deviation =
-      frame_deviation(group, harmonic.coordinates_angstrom, harmonic.masses_da, CoordinateFrame::Input);
-  const double standard_deviation =
-      frame_deviation(group, harmonic.coordinates_angstrom, harmonic.masses_da, CoordinateFrame::Standard);
+      frame_deviation(group, harmonic.coordinates_angstrom, harmonic.masses_da, CoordinateFrame::File);
+  const double symmetry_frame_deviation =
+      frame_deviation(group, harmonic.coordinates_angstrom, harmonic.masses_da, CoordinateFrame::Symmetry);
   if (input_deviation <= frame_tolerance)
-    result.frame = CoordinateFrame::Input;
-  else if (standard_deviation <= frame_tolerance)
-    result.frame = CoordinateFrame::Standard;
+    result.frame = CoordinateFrame::File;
+  else if (symmetry_frame_deviation <= frame_tolerance)
+    result.frame = CoordinateFrame::Symmetry;
   else
     throw Error("the harmonic geometry does not have the symmetry of " + pg.name +
-                " in the detection's input or standard frame (largest displacement " +
-                format_number(std::min(input_deviation, standard_deviation), 3) + " Å, allowed " +
+                " in the detection's file or symmetry frame (largest displacement " +
+                format_number(std::min(input_deviation, symmetry_frame_deviation), 3) + " Å, allowed " +
                 format_number(frame_tolerance, 3) +
                 " Å); detect the group on the geometry the modes were computed at");
   const CoordinateFrame frame = result.frame;

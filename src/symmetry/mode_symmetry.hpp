@@ -31,13 +31,13 @@ std::vector<int> vibrational_decomposition(const PointGroupResult& group);
 
 // D(g)·v for a 3N vector or for each column of a 3N×k matrix, in the given frame.
 Eigen::MatrixXd apply_operation(const PointGroupResult& group, int operation, const Eigen::MatrixXd& vectors,
-                                CoordinateFrame frame = CoordinateFrame::Input);
+                                CoordinateFrame frame = CoordinateFrame::File);
 
 // Average of D(g)ᵀ·H·D(g) over the group: a Cartesian (or mass-weighted) Hessian with the
 // exact symmetry of the group, so that degenerate frequencies come out exactly degenerate.
 // Throws Error when the size is not 3N×3N.
 Eigen::MatrixXd symmetrize_cartesian_hessian(const Eigen::MatrixXd& hessian, const PointGroupResult& group,
-                                             CoordinateFrame frame = CoordinateFrame::Input);
+                                             CoordinateFrame frame = CoordinateFrame::File);
 
 struct ModeSpeciesOptions {
   // Modes whose |frequency| differ by at most this (cm⁻¹, chained) are candidates for one
@@ -65,7 +65,7 @@ struct ModeSet {
   bool raman_active = false;
   // Orthonormal basis of the set in mass-weighted Cartesian space (3N×d, harmonic frame),
   // rotated within the set into symmetry-adapted partners: each partner is an eigenvector
-  // of the operations whose standard matrices are diagonal (C2 about axes, σ through
+  // of the operations whose symmetry-frame matrices are diagonal (C2 about axes, σ through
   // coordinate planes, i), ordered like x, y, z where the species carries them; in axial
   // groups the principal rotation turns partner 1 towards partner 2; otherwise partners
   // follow the order of the original modes.
@@ -94,13 +94,13 @@ struct ModeSymmetryResult {
   ModeSymmetryStatus status = ModeSymmetryStatus::Assigned;
   std::string message;
   std::vector<std::string> warnings;
-  CoordinateFrame frame = CoordinateFrame::Input;  // frame in which the harmonic data were found
-  std::vector<ModeSpecies> modes;                  // one per harmonic mode, same order
-  std::vector<ModeSet> sets;                       // ascending frequency
-  std::vector<int> expected_multiplicities;        // from the geometry (vibrational_decomposition)
-  std::vector<int> assigned_multiplicities;        // counted from the sets
-  std::string decomposition;                       // "2A1 + B2"
-  std::string display_decomposition;               // "2A₁ + B₂"
+  CoordinateFrame frame = CoordinateFrame::File;  // frame in which the harmonic data were found
+  std::vector<ModeSpecies> modes;                 // one per harmonic mode, same order
+  std::vector<ModeSet> sets;                      // ascending frequency
+  std::vector<int> expected_multiplicities;       // from the geometry (vibrational_decomposition)
+  std::vector<int> assigned_multiplicities;       // counted from the sets
+  std::string decomposition;                      // "2A1 + B2"
+  std::string display_decomposition;              // "2A₁ + B₂"
 };
 
 // Throws Error when the atom count or masses differ from the detection, or when the

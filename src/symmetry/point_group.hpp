@@ -1,5 +1,5 @@
 #pragma once
-// Molecular point groups in standard orientation: the exact operations (3×3 orthogonal
+// Molecular point groups in the symmetry frame: the exact operations (3×3 orthogonal
 // matrices) with their trade names, the classes, and the character table with Mulliken
 // labels, the Cartesian functions each species carries and the IR/Raman activity that
 // follows from them.
@@ -16,7 +16,7 @@
 // species, never typed per group. Tests check orthogonality and spot values against
 // F. A. Cotton, Chemical Applications of Group Theory, 3rd ed. (1990), Appendix IIA.
 //
-// Standard orientation (see docs/symmetry.md): principal axis along z; x along a C2'
+// Symmetry frame (see docs/symmetry.md): principal axis along z; x along a C2'
 // axis (Dn, Dnh, Dnd) or in a σv plane (Cnv); T, Td, Th, O, Oh with x, y, z along the
 // twofold (fourfold for O, Oh; S4 for Td) axes; I, Ih with x, y, z along three
 // perpendicular twofold axes and a fivefold axis along (0, 1, φ).
@@ -58,7 +58,7 @@ enum class PointGroupFamily {
 struct SymmetryOperation {
   std::string name;        // typographic, e.g. "C₃²", "σv", "S₄³", "C₂′", "i"
   std::string ascii_name;  // e.g. "C3^2", "sigma_v", "S4^3", "C2'", "i"
-  Eigen::Matrix3d matrix = Eigen::Matrix3d::Identity();  // acts on column vectors, standard orientation
+  Eigen::Matrix3d matrix = Eigen::Matrix3d::Identity();  // acts on column vectors, symmetry frame
   bool proper = true;                                    // det = +1
   // Axis of the rotation part: for proper R the rotation axis, for improper R the axis
   // of −R (the normal of a mirror plane, the axis of an S_n); zero for E and i.
@@ -111,7 +111,7 @@ struct PointGroup {
   int irrep_index(const std::string& label) const;
 };
 
-// Builds the group in standard orientation. axis_order is n for Cn, Cnv, Cnh, Dn, Dnh,
+// Builds the group in the symmetry frame. axis_order is n for Cn, Cnv, Cnh, Dn, Dnh,
 // Dnd (n ≥ 2), the subscript 2n of S2n (even, ≥ 4), ignored for the others;
 // linear_axis_order is the m of C_mv/D_mh standing in for C∞v/D∞h (m ≥ 3).
 // Throws Error for an order out of range.

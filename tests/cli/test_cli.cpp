@@ -239,3 +239,129 @@ TEST(Cli, UsageErrorsExitNonZero) {
 }
 
 }  // namespace
+
+// Every user error is one line "overtone: error: ..." with exit status 1 (README, "Errors").
+TEST(Cli, FamilyRangesAreRefusedWithTheValidRange) {
+  const std::string water = example_arguments("water");
+  for (const std::string quanta : {"0", "-1", "1e9", "nan"})
+    expect_one_line_error(run("families " + water + " --quanta " + quanta), "0 < value <= 20");
+  for (const std::string energy : {"-5", "nan", "1e9"})
+    expect_one_line_error(run("families " + water + " --energy-max " + energy), "0 < value <= 100000");
+  const std::string out = ::testing::TempDir() + "overtone-refused-" + std::to_string(getpid());
+  std::filesystem::remove_all(out);
+  expect_one_line_error(run("analyze " + water + " --quanta nan --out " + out), "--quanta");
+  EXPECT_FALSE(std::filesystem::exists(out));
+}
+
+TEST(Cli, UsageErrorsAreOneLineWithStatusOne) {
+  const std::string water = example_arguments("water");
+  expect_one_line_error(run("families " + water + " --mode abc"), "--mode");
+  expect_one_line_error(run("families " + water + " --quanta abc"), "--quanta");
+  expect_one_line_error(run("modes " + water + " --no-such-option"), "--no-such-option");
+  expect_one_line_error(run(""), "command is required");
+  expect_one_line_error(run("modes"), "MOLECULE is required");
+  expect_one_line_error(run("no-such-command x"), "unknown command 'no-such-command'");
+  expect_one_line_error(run("families " + water + " --quanta 1 --energy-max 100"), "excludes");
+  // -i is not a short form of --isotope (it is another toolkit's input-format flag).
+  expect_one_line_error(run("modes " + water + " -i 2=2"), "-i");
+  const ProgramRun help = run("--help");
+  EXPECT_EQ(help.status, 0);
+  EXPECT_NE(help.out.find("modes"), std::string::npos);
+  EXPECT_EQ(run("families --help").status, 0);
+}
+
+// A run that fails leaves no folder under the target name, complete-looking or not, and
+// no temporary folder beside it.
+TEST(Cli, AnalyzeLeavesNoPartialOutput) {
+  const std::filesystem::path parent =
+      std::filesystem::path(::testing::TempDir()) / ("overtone-partial-" + std::to_string(getpid()));
+  std::filesystem::remove_all(parent);
+  std::filesystem::create_directories(parent);
+  const std::string out = (parent / "out").string();
+  // The ν number is checked after the harmonic analysis, before any later stage.
+  expect_one_line_error(run("analyze " + example_arguments("water") + " --mode 7 --out " + out),
+                        "no fundamental ν7");
+  EXPECT_TRUE(std::filesystem::is_empty(parent));
+  // A folder holding other files is refused at the end and left as it was.
+  std::filesystem::create_directories(out);
+  std::ofstream(out + "/notes.txt") << "mine\n";
+  expect_one_line_error(run("analyze " + example_arguments("water") + " --no-families --out " + out),
+                        "holds files this program did not write");
+  EXPECT_EQ(slurp(out + "/notes.txt"), "mine\n");
+  int entries = 0;
+  for ([[maybe_unused]] const auto& entry : std::filesystem::directory_iterator(out)) ++entries;
+  EXPECT_EQ(entries, 1);
+  int siblings = 0;
+  for ([[maybe_unused]] const auto& entry : std::filesystem::directory_iterator(parent)) ++siblings;
+  EXPECT_EQ(siblings, 1);
+}
+
+TEST(Cli, HostileTitleGivesValidJsonThroughAnalyze) {
+  // A Latin-1 byte, a control character, quotes and a backslash in the XYZ title line.
+  const std::string molecule = write_temp("hostile.xyz",
+                                          "3\nwat\xE9r \x01 \"q\" \\\n"
+                                          "O 0.0 0.0 0.0\nH 0.757 0.0 0.586\nH -0.757 0.0 0.586\n");
+  const std::string out = ::testing::TempDir() + "overtone-hostile-" + std::to_string(getpid());
+  std::filesystem::remove_all(out);
+  const ProgramRun result =
+      run("analyze " + molecule + " -p " + source_dir + "/potentials/water.toml --no-families --out " + out);
+  ASSERT_EQ(result.status, 0) << result.err;
+  const auto document = nlohmann::json::parse(slurp(out + "/analysis.json"));
+  EXPECT_EQ(document["molecule"]["title"], "wat\xEF\xBF\xBDr \x01 \"q\" \\");
+  EXPECT_EQ(result.out.find('\x01'), std::string::npos);  // shown as \x01 on the terminal
+}
+
+TEST(Cli, TaylorExpansionFileIsAlsoAMolecule) {
+  const std::string taylor = write_temp("water-as-molecule.toml", "");
+  const ProgramRun exported =
+      run("anharmonic " + example_arguments("water") + " --export-taylor " + taylor + " --json -");
+  ASSERT_EQ(exported.status, 0) << exported.err;
+  const auto original = nlohmann::json::parse(exported.out);
+  // No --potential: the file is the potential too, with its own masses.
+  const ProgramRun modes = run("modes " + taylor + " --json -");
+  ASSERT_EQ(modes.status, 0) << modes.err;
+  EXPECT_TRUE(modes.err.empty()) << modes.err;  // same masses: no warning
+  const auto reread = nlohmann::json::parse(modes.out);
+  // Same field, same masses: the wavenumbers come back to the re-optimization's precision
+  // (as in ExportedTaylorExpansionIsAPotentialForEveryCommand).
+  constexpr double round_trip_cm1 = 1e-3;
+  ASSERT_EQ(reread["modes"].size(), original["modes"].size());
+  for (std::size_t k = 0; k < original["modes"].size(); ++k)
+    EXPECT_NEAR(reread["modes"][k]["frequency_cm1"].get<double>(),
+                original["modes"][k]["frequency_cm1"].get<double>(), round_trip_cm1);
+  for (std::size_t a = 0; a < original["atoms"].size(); ++a)
+    EXPECT_EQ(reread["atoms"][a]["mass_da"], original["atoms"][a]["mass_da"]);
+
+  // The same file written with the average mass of hydrogen (1.00794 Da, standard atomic
+  // weight; common practice, no source) and used with the water file's isotopic masses:
+  // a warning names the difference, the analysis still runs on the molecule's masses.
+  std::string text = slurp(taylor);
+  const std::string isotopic = "1.007825032";
+  for (std::size_t at = text.find(isotopic); at != std::string::npos; at = text.find(isotopic, at))
+    text.replace(at, isotopic.size(), "1.00794");
+  const std::string average = write_temp("water-average-masses.toml", text);
+  const ProgramRun warned = run("modes " + source_dir + "/molecules/water.xyz -p " + average);
+  ASSERT_EQ(warned.status, 0) << warned.err;
+  EXPECT_EQ(warned.err.rfind("overtone: warning: ", 0), 0u) << warned.err;
+  EXPECT_NE(warned.err.find("other masses than the molecule's"), std::string::npos) << warned.err;
+}
+
+TEST(Cli, FamiliesOfOneFundamentalAreNamedWithItsNuNumber) {
+  const std::string folder = ::testing::TempDir() + "overtone-nu-names-" + std::to_string(getpid());
+  std::filesystem::remove_all(folder);
+  const ProgramRun result =
+      run("families " + example_arguments("carbon-dioxide") + " --mode 2 --quanta 1 --csv " + folder);
+  ASSERT_EQ(result.status, 0) << result.err;
+  EXPECT_EQ(result.out.find("modes 2,3"), std::string::npos) << result.out;
+  EXPECT_NE(result.out.find("ν2"), std::string::npos);
+  // The CO2 bend ν2 (textbook numbering) has a standing and a rotating family.
+  std::vector<std::string> names;
+  for (const auto& entry : std::filesystem::directory_iterator(folder))
+    names.push_back(entry.path().filename());
+  std::sort(names.begin(), names.end());
+  ASSERT_EQ(names.size(), 2u);
+  for (const std::string& name : names) {
+    EXPECT_EQ(name.rfind("family-0", 0), 0u) << name;
+    EXPECT_NE(name.find("-nu2.csv"), std::string::npos) << name;
+  }
+}

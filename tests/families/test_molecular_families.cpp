@@ -11,7 +11,6 @@
 #include "anharmonic/vpt2.hpp"
 #include "core/error.hpp"
 #include "families/families.hpp"
-#include "families/families_report.hpp"
 #include "harmonic/harmonic.hpp"
 #include "molecule/read_molecule.hpp"
 #include "potential/make_potential.hpp"
@@ -282,11 +281,6 @@ TEST(MolecularFamilies, CarbonDioxideBendHasStandingAndRotatingFamiliesAndTheFer
     }
   }
   expect_orbits_keep_their_symmetry(result);
-  // The report states the linear stand-in and the neglected coupling.
-  const std::string report = families_text_report(result);
-  EXPECT_NE(report.find("rotation-vibration coupling is neglected"), std::string::npos);
-  EXPECT_NE(report.find("allowed by symmetry"), std::string::npos);
-  EXPECT_NE(report.find("forbidden by symmetry"), std::string::npos);
 }
 
 TEST(MolecularFamilies, WaterHasOneFamilyPerNondegenerateMode) {
@@ -332,26 +326,6 @@ TEST(MolecularFamilies, WithoutAUsableGroupNondegenerateModesKeepTheirFamilies) 
   for (const std::string& warning : result.warnings)
     explained = explained || warning.find("point group was not used") != std::string::npos;
   EXPECT_TRUE(explained);
-}
-
-TEST(MolecularFamilies, ReportAndCsvCoverEveryContinuedFamily) {
-  const Prepared p = prepare("water.xyz", "water.toml");
-  FamiliesOptions options = quick_options();
-  options.continuation.compute_floquet = true;
-  options.continuation.ladder_max_level = 2;
-  const FamiliesResult result =
-      compute_molecular_families(*p.potential, p.harmonic, p.group, p.species, {}, options);
-  const std::string report = families_text_report(result);
-  for (std::size_t i = 0; i < result.families.size(); ++i) {
-    EXPECT_NE(report.find("Family " + std::to_string(i + 1) + " - modes"), std::string::npos);
-    const std::string csv = family_points_csv(result, static_cast<int>(i));
-    const auto lines = std::count(csv.begin(), csv.end(), '\n');
-    EXPECT_EQ(lines, static_cast<long>(result.families[i].backbone.points.size()) + 1);
-    EXPECT_EQ(csv.rfind("energy_cm1,frequency_cm1,period_fs,action_hbar,", 0), 0u);
-    EXPECT_NE(family_csv_file_name(result, static_cast<int>(i)).find(".csv"), std::string::npos);
-  }
-  EXPECT_THROW(family_points_csv(result, 99), Error);
-  EXPECT_NE(families_summary(result).find("B2"), std::string::npos);
 }
 
 // dω/dE at E = 0 from a quadratic least-squares fit of the backbone's ω(E).

@@ -1,6 +1,6 @@
 // Point-group detection on molecule files named for their expected group, on rotated
 // and jiggled copies, on clearly distorted copies, on isotopologues and on synthetic
-// clusters for every family; symmetrization and the standard orientation.
+// clusters for every family; symmetrization and the symmetry frame.
 #include <gtest/gtest.h>
 
 #include <Eigen/Geometry>
@@ -81,11 +81,11 @@ std::string vibrations(const PointGroupResult& r) {
 void expect_exactly_symmetric(const PointGroupResult& r) {
   const int n = static_cast<int>(r.atomic_numbers.size());
   for (int g = 0; g < r.group.order(); ++g) {
-    for (auto frame : {CoordinateFrame::Standard, CoordinateFrame::Input}) {
-      const Eigen::VectorXd& x = frame == CoordinateFrame::Standard ? r.standard_coordinates_angstrom
+    for (auto frame : {CoordinateFrame::Symmetry, CoordinateFrame::File}) {
+      const Eigen::VectorXd& x = frame == CoordinateFrame::Symmetry ? r.symmetry_frame_coordinates_angstrom
                                                                     : r.symmetrized_coordinates_angstrom;
       const Eigen::Vector3d c =
-          frame == CoordinateFrame::Standard ? Eigen::Vector3d::Zero() : r.center_angstrom;
+          frame == CoordinateFrame::Symmetry ? Eigen::Vector3d::Zero() : r.center_angstrom;
       const Eigen::Matrix3d m = r.operation_matrix(g, frame);
       for (int i = 0; i < n; ++i) {
         const Eigen::Vector3d image = m * (x.segment<3>(3 * i) - c) + c;
@@ -272,37 +272,38 @@ TEST(DetectPointGroup, SyntheticClustersOfEveryFamily) {
 
 // Atoms on the mirror plane of a planar C2v molecule lie in yz (Mulliken 1955), the
 // principal axis is z, and a planar D6h molecule has its C2' (x) through atoms.
-TEST(DetectPointGroup, StandardOrientation) {
+TEST(DetectPointGroup, SymmetryFrame) {
   const PointGroupResult water = detect_point_group(rotated_jiggled_shuffled(load("water.C2v.xyz"), 3, 0.0));
-  for (int i = 0; i < 3; ++i) EXPECT_NEAR(water.standard_coordinates_angstrom[3 * i], 0.0, kExactSymmetry);
+  for (int i = 0; i < 3; ++i)
+    EXPECT_NEAR(water.symmetry_frame_coordinates_angstrom[3 * i], 0.0, kExactSymmetry);
   const PointGroupResult ethylene =
       detect_point_group(rotated_jiggled_shuffled(load("ethylene.D2h.xyz"), 3, 0.0));
   for (int i = 0; i < 6; ++i) {
-    EXPECT_NEAR(ethylene.standard_coordinates_angstrom[3 * i], 0.0, kExactSymmetry);  // plane yz
-    if (ethylene.atomic_numbers[i] == 6) {                                            // carbons on z
-      EXPECT_NEAR(ethylene.standard_coordinates_angstrom[3 * i + 1], 0.0, kExactSymmetry);
-      EXPECT_GT(std::abs(ethylene.standard_coordinates_angstrom[3 * i + 2]), 0.5);
+    EXPECT_NEAR(ethylene.symmetry_frame_coordinates_angstrom[3 * i], 0.0, kExactSymmetry);  // plane yz
+    if (ethylene.atomic_numbers[i] == 6) {                                                  // carbons on z
+      EXPECT_NEAR(ethylene.symmetry_frame_coordinates_angstrom[3 * i + 1], 0.0, kExactSymmetry);
+      EXPECT_GT(std::abs(ethylene.symmetry_frame_coordinates_angstrom[3 * i + 2]), 0.5);
     }
   }
   const PointGroupResult benzene =
       detect_point_group(rotated_jiggled_shuffled(load("benzene.D6h.xyz"), 3, 0.0));
   int on_x = 0;
   for (int i = 0; i < 12; ++i) {
-    EXPECT_NEAR(benzene.standard_coordinates_angstrom[3 * i + 2], 0.0, kExactSymmetry);  // plane xy
-    on_x += std::abs(benzene.standard_coordinates_angstrom[3 * i + 1]) < kExactSymmetry;
+    EXPECT_NEAR(benzene.symmetry_frame_coordinates_angstrom[3 * i + 2], 0.0, kExactSymmetry);  // plane xy
+    on_x += std::abs(benzene.symmetry_frame_coordinates_angstrom[3 * i + 1]) < kExactSymmetry;
   }
   EXPECT_EQ(on_x, 4);
   const PointGroupResult ammonia =
       detect_point_group(rotated_jiggled_shuffled(load("ammonia.C3v.xyz"), 3, 0.0));
   for (int i = 0; i < 4; ++i)
     if (ammonia.atomic_numbers[i] == 7) {
-      EXPECT_NEAR(ammonia.standard_coordinates_angstrom.segment<2>(3 * i).norm(), 0.0, kExactSymmetry);
+      EXPECT_NEAR(ammonia.symmetry_frame_coordinates_angstrom.segment<2>(3 * i).norm(), 0.0, kExactSymmetry);
     }
-  // Standard coordinates are the rotated, centred symmetrized ones.
+  // Symmetry-frame coordinates are the rotated, centred symmetrized ones.
   for (int i = 0; i < 4; ++i)
-    EXPECT_LT((ammonia.standard_from_input *
+    EXPECT_LT((ammonia.symmetry_from_file *
                    (ammonia.symmetrized_coordinates_angstrom.segment<3>(3 * i) - ammonia.center_angstrom) -
-               ammonia.standard_coordinates_angstrom.segment<3>(3 * i))
+               ammonia.symmetry_frame_coordinates_angstrom.segment<3>(3 * i))
                   .norm(),
               kExactSymmetry);
 }

@@ -50,7 +50,7 @@ struct Analysis {
 Analysis analyze_random(const std::string& file, unsigned seed = 1) {
   Analysis a;
   a.group = detect_point_group(load(file));
-  const Eigen::MatrixXd h = random_invariant_hessian(a.group, seed, CoordinateFrame::Input);
+  const Eigen::MatrixXd h = random_invariant_hessian(a.group, seed, CoordinateFrame::File);
   a.harmonic = analyze_normal_modes(a.group.symmetrized_coordinates_angstrom, a.group.masses_da, h);
   a.species = assign_mode_species(a.group, a.harmonic);
   return a;
@@ -190,7 +190,7 @@ TEST(ModeSymmetry, SymmetrizedHessianIsInvariantAndIdempotent) {
   EXPECT_THROW(symmetrize_cartesian_hessian(Eigen::MatrixXd::Zero(3, 3), r), Error);
 }
 
-// Partners of a degenerate set transform like the standard components: for ammonia's E,
+// Partners of a degenerate set transform like the Cartesian components: for ammonia's E,
 // partner 1 is even under σv(xz) like x, and C3 turns it by +120° towards partner 2;
 // for methane's T2, partner k is even under C2 about axis k only, like x, y, z.
 TEST(ModeSymmetry, AdaptedPartnersTransformLikeCoordinates) {
@@ -249,17 +249,17 @@ TEST(ModeSymmetry, AccidentalDegeneracyIsSplitByProjection) {
   EXPECT_EQ(a.species.decomposition, "2A1 + B2");
 }
 
-TEST(ModeSymmetry, HarmonicDataInStandardOrientation) {
-  // Turn the file away from any standard-looking orientation first.
+TEST(ModeSymmetry, HarmonicDataInTheSymmetryFrame) {
+  // Turn the file away from any orientation that looks like the symmetry frame first.
   Molecule molecule = load("boron_trifluoride.D3h.xyz");
   const Eigen::Matrix3d turn =
       Eigen::AngleAxisd(0.7, Eigen::Vector3d(1, 2, 3).normalized()).toRotationMatrix();
   for (auto& atom : molecule.atoms) atom.position_angstrom = turn * atom.position_angstrom;
   const PointGroupResult r = detect_point_group(molecule);
-  const Eigen::MatrixXd h = random_invariant_hessian(r, 3, CoordinateFrame::Standard);
-  const HarmonicResult harmonic = analyze_normal_modes(r.standard_coordinates_angstrom, r.masses_da, h);
+  const Eigen::MatrixXd h = random_invariant_hessian(r, 3, CoordinateFrame::Symmetry);
+  const HarmonicResult harmonic = analyze_normal_modes(r.symmetry_frame_coordinates_angstrom, r.masses_da, h);
   Analysis a{r, harmonic, assign_mode_species(r, harmonic)};
-  EXPECT_EQ(a.species.frame, CoordinateFrame::Standard);
+  EXPECT_EQ(a.species.frame, CoordinateFrame::Symmetry);
   expect_consistent(a);
 }
 

@@ -1,4 +1,4 @@
-// Point groups in standard orientation: orders, character tables (orthogonality and
+// Point groups in the symmetry frame: orders, character tables (orthogonality and
 // textbook spot checks), Mulliken labels, functions and activities.
 //
 // Textbook reference for labels, characters and functions: F. A. Cotton, Chemical

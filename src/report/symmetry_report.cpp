@@ -1,4 +1,4 @@
-#include "symmetry/symmetry_report.hpp"
+#include "report/symmetry_report.hpp"
 
 #include <algorithm>
 #include <cmath>
@@ -52,7 +52,7 @@ std::string join(const std::vector<std::string>& parts, const std::string& separ
   return out;
 }
 
-std::string orientation_convention(const PointGroup& g) {
+std::string symmetry_frame_axes(const PointGroup& g) {
   switch (g.family) {
     case PointGroupFamily::C1:
     case PointGroupFamily::Ci:
@@ -105,7 +105,7 @@ std::string format_symmetry_report(const PointGroupResult& result, const ModeSym
   out << "\n";
   out << "  symmetrization moved atoms by at most " << short_number(result.max_deviation_angstrom)
       << " Å (tolerance " << short_number(result.tolerance_angstrom) << " Å, as given)\n";
-  out << "  standard orientation: " << orientation_convention(g) << "\n";
+  out << "  symmetry frame: " << symmetry_frame_axes(g) << "\n";
   for (const auto& note : result.notes)
     if (note.rfind("tolerance ", 0) != 0) out << "  note: " << note << "\n";
   std::vector<std::string> orbits;
@@ -113,7 +113,7 @@ std::string format_symmetry_report(const PointGroupResult& result, const ModeSym
   out << "  symmetry-equivalent atoms: " << join(orbits, " ") << "\n";
 
   if (options.show_operations) {
-    out << "\nOperations (standard orientation; axis of the rotation, or normal of the plane)\n";
+    out << "\nOperations (symmetry frame; axis of the rotation, or normal of the plane)\n";
     if (g.order() <= options.max_operations_listed) {
       out << "    #  operation  class        axis                      atoms moved to\n";
       for (int k = 0; k < g.order(); ++k) {
@@ -186,7 +186,7 @@ std::string format_symmetry_report(const PointGroupResult& result, const ModeSym
   out << "  Raman active: " << format_decomposition(g, raman, true) << "\n";
 
   if (modes) {
-    out << "\nNormal modes by species (" << (modes->frame == CoordinateFrame::Input ? "input" : "standard")
+    out << "\nNormal modes by species (" << (modes->frame == CoordinateFrame::File ? "file" : "symmetry")
         << " frame)\n";
     out << "    set  wavenumber/cm⁻¹  species  modes          IR  Raman  purity\n";
     for (std::size_t s = 0; s < modes->sets.size(); ++s) {

@@ -1,4 +1,4 @@
-#include "families/families_report.hpp"
+#include "report/families_report.hpp"
 
 #include <fmt/format.h>
 
@@ -7,12 +7,29 @@
 #include <sstream>
 
 #include "core/error.hpp"
+#include "core/text.hpp"
 
 namespace overtone {
 
 namespace {
 
-std::string modes_text(const std::vector<int>& numbers) { return fmt::format("{}", fmt::join(numbers, ",")); }
+// "ν2" (or "ν2,ν3") with the labels of an analysed molecule; "modes 2,3" without.
+std::string modes_text(const std::vector<int>& numbers, const std::vector<ModeLabel>& modes) {
+  if (modes.empty()) return fmt::format("modes {}", fmt::join(numbers, ","));
+  std::vector<std::string> names;
+  for (const int fundamental : fundamentals_of_mode_numbers(modes, numbers))
+    names.push_back("ν" + std::to_string(fundamental));
+  return fmt::format("{}", fmt::join(names, ","));
+}
+
+// Typographic species of the block with labels; the ASCII one the families carry without.
+std::string species_text(const std::vector<int>& numbers, const std::string& species,
+                         const std::vector<ModeLabel>& modes) {
+  for (const ModeLabel& mode : modes)
+    if (!numbers.empty() && mode.number == numbers.front() && !mode.display_species.empty())
+      return mode.display_species;
+  return species;
+}
 
 std::string copies_text(const FamilyType& type, bool short_form = false) {
   if (type.continuous_copies) return short_form ? "all orientations" : "one per orientation about the axis";
@@ -46,45 +63,47 @@ double largest(const ContinuationResult& backbone, Field field) {
 
 }  // namespace
 
-std::string families_summary(const FamiliesResult& result) {
+std::string families_summary(const FamiliesResult& result, const std::vector<ModeLabel>& modes) {
   std::ostringstream out;
   for (std::size_t i = 0; i < result.families.size(); ++i) {
     const FamilyResult& family = result.families[i];
     const FamilyType& type = family.type;
-    out << fmt::format("{:>3}  modes {:<8} {:<8} {:<9} copies {:<12} {}\n", i + 1,
-                       modes_text(type.mode_numbers), type.species.empty() ? "-" : type.species,
+    const std::string species = species_text(type.mode_numbers, type.species, modes);
+    out << fmt::format("{:>3}  {:<14} {:<8} {:<9} copies {:<12} {}\n", i + 1,
+                       modes_text(type.mode_numbers, modes), species.empty() ? "-" : species,
                        type.standing ? "standing" : "rotating", copies_text(type, true),
                        family.continued ? to_string(family.backbone.status) : "not continued");
   }
   return out.str();
 }
 
-std::string families_text_report(const FamiliesResult& result) {
+std::string families_text_report(const FamiliesResult& result, const std::vector<ModeLabel>& modes) {
   const std::string& unit = result.units.energy_label;
   std::ostringstream out;
   out << "Families of nonlinear normal modes\n";
-  out << "  system: " << result.system_description << "\n";
+  out << "  system: " << printable_text(result.system_description) << "\n";
   for (const auto& note : result.notes) out << "  note: " << note << "\n";
   out << fmt::format("  energies and wavenumbers in {}; periods in {}; actions in units of hbar\n", unit,
                      result.units.energy_label == "cm-1" ? "fs" : "time units");
   for (const auto& warning : result.warnings) out << "  warning: " << warning << "\n";
   out << "\n";
-  out << fmt::format("{:>3}  {:<9} {:<8} {:<9} {:>5}  {:<18} {:>6}  {:>10} {:>10} {:>10}  {}\n", "#", "modes",
-                     "species", "motion", "|H|", "copies", "points", "omega(0)", "omega(max)", "E max",
-                     "status");
+  out << fmt::format("{:>3}  {:<14} {:<8} {:<9} {:>5}  {:<18} {:>6}  {:>10} {:>10} {:>10}  {}\n", "#",
+                     modes.empty() ? "modes" : "fundamental", "species", "motion", "|H|", "copies", "points",
+                     "omega(0)", "omega(max)", "E max", "status");
   for (std::size_t i = 0; i < result.families.size(); ++i) {
     const FamilyResult& family = result.families[i];
     const FamilyType& type = family.type;
     const auto& points = family.backbone.points;
     const std::string status = family.continued ? to_string(family.backbone.status) : "not continued";
+    const std::string name = modes_text(type.mode_numbers, modes);
+    const std::string species = species_text(type.mode_numbers, type.species, modes);
     if (points.empty()) {
-      out << fmt::format("{:>3}  {:<9} {:<8} {:<9} {:>5}  {:<18} {:>6}  {:>10} {:>10} {:>10}  {}\n", i + 1,
-                         modes_text(type.mode_numbers), type.species.empty() ? "-" : type.species,
-                         type.standing ? "standing" : "rotating", type.subgroup.size(),
-                         copies_text(type, true), 0, "-", "-", "-", status);
+      out << fmt::format("{:>3}  {:<14} {:<8} {:<9} {:>5}  {:<18} {:>6}  {:>10} {:>10} {:>10}  {}\n", i + 1,
+                         name, species.empty() ? "-" : species, type.standing ? "standing" : "rotating",
+                         type.subgroup.size(), copies_text(type, true), 0, "-", "-", "-", status);
     } else {
-      out << fmt::format("{:>3}  {:<9} {:<8} {:<9} {:>5}  {:<18} {:>6}  {:>10.2f} {:>10.2f} {:>10.1f}  {}\n",
-                         i + 1, modes_text(type.mode_numbers), type.species.empty() ? "-" : type.species,
+      out << fmt::format("{:>3}  {:<14} {:<8} {:<9} {:>5}  {:<18} {:>6}  {:>10.2f} {:>10.2f} {:>10.1f}  {}\n",
+                         i + 1, name, species.empty() ? "-" : species,
                          type.standing ? "standing" : "rotating", type.subgroup.size(),
                          copies_text(type, true), points.size(), points.front().frequency_cm1,
                          points.back().frequency_cm1, points.back().energy_cm1, status);
@@ -95,8 +114,9 @@ std::string families_text_report(const FamiliesResult& result) {
     const FamilyResult& family = result.families[i];
     const FamilyType& type = family.type;
     const ContinuationResult& backbone = family.backbone;
-    out << fmt::format("\nFamily {} - modes {}{}: {}\n", i + 1, modes_text(type.mode_numbers),
-                       type.species.empty() ? "" : " (" + type.species + ")", type.description);
+    const std::string species = species_text(type.mode_numbers, type.species, modes);
+    out << fmt::format("\nFamily {} - {}{}: {}\n", i + 1, modes_text(type.mode_numbers, modes),
+                       species.empty() ? "" : " (" + species + ")", type.description);
     std::vector<std::string> generators;
     for (const PhasedElement& element : type.generators) generators.push_back(phase_text(element));
     out << fmt::format(
@@ -107,10 +127,12 @@ std::string families_text_report(const FamiliesResult& result) {
     out << fmt::format("  copies: {}; time reversal: {}\n", copies_text(type), to_string(type.time_reversal));
     for (const ResonanceThreat& threat : type.resonance_threats)
       out << fmt::format(
-          "  resonance threat: modes {}{} near {}x this frequency (detuning {:+.1f} {}): {}\n",
-          modes_text(threat.partner_mode_numbers),
-          threat.partner_species.empty() ? "" : " (" + threat.partner_species + ")", threat.order,
-          threat.detuning_cm1, unit,
+          "  resonance threat: {}{} near {}x this frequency (detuning {:+.1f} {}): {}\n",
+          modes_text(threat.partner_mode_numbers, modes),
+          threat.partner_species.empty()
+              ? ""
+              : " (" + species_text(threat.partner_mode_numbers, threat.partner_species, modes) + ")",
+          threat.order, threat.detuning_cm1, unit,
           threat.symmetry_allowed ? "allowed by symmetry for this family" : "forbidden by symmetry");
     if (!family.continued) {
       out << "  backbone: not continued\n";
@@ -186,10 +208,16 @@ std::string family_points_csv(const FamiliesResult& result, int family_index) {
   return out.str();
 }
 
-std::string family_csv_file_name(const FamiliesResult& result, int family_index) {
+std::string family_csv_file_name(const FamiliesResult& result, int family_index,
+                                 const std::vector<ModeLabel>& modes) {
   const FamilyResult& family = family_at(result, family_index);
-  return fmt::format("family-{:02d}-modes-{}.csv", family_index + 1,
-                     fmt::join(family.type.mode_numbers, "-"));
+  if (modes.empty())
+    return fmt::format("family-{:02d}-modes-{}.csv", family_index + 1,
+                       fmt::join(family.type.mode_numbers, "-"));
+  std::vector<std::string> names;
+  for (const int fundamental : fundamentals_of_mode_numbers(modes, family.type.mode_numbers))
+    names.push_back("nu" + std::to_string(fundamental));
+  return fmt::format("family-{:02d}-{}.csv", family_index + 1, fmt::join(names, "-"));
 }
 
 }  // namespace overtone

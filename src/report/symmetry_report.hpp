@@ -1,6 +1,7 @@
 #pragma once
 // Plain-text report of a point-group analysis for the console (`overtone symmetry`):
-// the group, how far symmetrization moved the atoms, the operations, the character
+// the group, how far symmetrization moved the atoms, the axes of the symmetry frame
+// (docs/symmetry.md), the operations, the character
 // table with functions and activities, and the decomposition of the vibrational
 // representation; with mode data, the species of each mode set as well.
 // Typographic labels (subscript digits, primes, Greek letters); UTF-8.

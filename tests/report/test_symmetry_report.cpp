@@ -2,7 +2,7 @@
 #include <gtest/gtest.h>
 
 #include "molecule/read_molecule.hpp"
-#include "symmetry/symmetry_report.hpp"
+#include "report/symmetry_report.hpp"
 
 namespace overtone {
 namespace {

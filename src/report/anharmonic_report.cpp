@@ -1,4 +1,4 @@
-#include "anharmonic/anharmonic_report.hpp"
+#include "report/anharmonic_report.hpp"
 
 #include <fmt/format.h>
 
@@ -10,37 +10,6 @@
 #include "core/error.hpp"
 
 namespace overtone {
-
-std::vector<int> set_numbers_from_mode_order(const Vpt2Result& vpt2, const std::vector<int>& mode_order) {
-  const int m = static_cast<int>(vpt2.set_of_mode.size());
-  std::vector<int> sorted = mode_order;
-  std::sort(sorted.begin(), sorted.end());
-  bool permutation = static_cast<int>(sorted.size()) == m;
-  for (int k = 0; permutation && k < m; ++k) permutation = sorted[static_cast<std::size_t>(k)] == k;
-  if (!permutation)
-    throw Error(fmt::format("the mode order must list each of the {} modes once, got {} entries", m,
-                            mode_order.size()));
-  std::vector<int> numbers(vpt2.sets.size(), 0);
-  int next = 1;
-  for (int mode : mode_order) {
-    int& number = numbers[static_cast<std::size_t>(vpt2.set_of_mode[static_cast<std::size_t>(mode)])];
-    if (number == 0) number = next++;
-  }
-  return numbers;
-}
-
-std::vector<int> default_set_numbers(const Vpt2Result& vpt2) {
-  std::vector<int> order(vpt2.sets.size());
-  std::iota(order.begin(), order.end(), 0);
-  std::stable_sort(order.begin(), order.end(), [&](int a, int b) {
-    return vpt2.sets[static_cast<std::size_t>(a)].harmonic_cm1 >
-           vpt2.sets[static_cast<std::size_t>(b)].harmonic_cm1;
-  });
-  std::vector<int> numbers(vpt2.sets.size());
-  for (std::size_t k = 0; k < order.size(); ++k)
-    numbers[static_cast<std::size_t>(order[k])] = static_cast<int>(k) + 1;
-  return numbers;
-}
 
 namespace {
 
@@ -271,10 +240,10 @@ std::string anharmonic_report(const ForceConstantResult& fc, const Vpt2Result& v
   if (vpt2.resonances.empty())
     out += "  none within the gap thresholds\n";
   else
-    out += fmt::format("  {:<18} {:<16} {:>9} {:>9} {:>11} {:>9} {:>8}\n", "kind", "states", "gap", "W",
+    out += fmt::format("  {:<24} {:<16} {:>9} {:>9} {:>11} {:>9} {:>8}\n", "kind", "states", "gap", "W",
                        "criterion", "symmetry", "treated");
   for (const auto& r : vpt2.resonances)
-    out += fmt::format("  {:<18} {:<16} {:>9.2f} {:>9.2f} {:>11.3g} {:>9} {:>8}\n", to_string(r.kind),
+    out += fmt::format("  {:<24} {:<16} {:>9.2f} {:>9.2f} {:>11.3g} {:>9} {:>8}\n", to_string(r.kind),
                        resonance_label(r, numbers, ascii), r.gap_cm1, r.coupling_cm1, r.criterion_value,
                        r.symmetry_allowed ? "allowed" : "forbidden", r.flagged ? "yes" : "no");
   out += "\n";

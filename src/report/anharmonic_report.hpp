@@ -2,24 +2,17 @@
 // Text report and CSV line list of the anharmonic stage (columns: docs/anharmonic.md).
 //
 // Mode numbering: labels use one number per degenerate set ("ν2" for both components of
-// a doubly degenerate bend). The numbers come from AnharmonicReportOptions::set_numbers;
-// set_numbers_from_mode_order() derives them from the report order of the modes that the
-// rest of the program uses, and default_set_numbers() numbers sets by descending harmonic
-// wavenumber (common practice when species are unknown).
+// a doubly degenerate bend). The numbers come from AnharmonicReportOptions::set_numbers
+// (AnharmonicResult::set_numbers for an analysed molecule, see pipeline/mode_numbering.hpp);
+// without them sets are numbered by default_set_numbers.
 #include <string>
 #include <vector>
 
 #include "anharmonic/force_constants.hpp"
 #include "anharmonic/vpt2.hpp"
+#include "pipeline/mode_numbering.hpp"
 
 namespace overtone {
-
-// Number (1-based) of each set in order of first appearance in mode_order, where
-// mode_order[k] is the harmonic index of reported mode k + 1. Throws Error when mode_order
-// is not a permutation of the modes.
-std::vector<int> set_numbers_from_mode_order(const Vpt2Result& vpt2, const std::vector<int>& mode_order);
-// Sets numbered by descending harmonic wavenumber.
-std::vector<int> default_set_numbers(const Vpt2Result& vpt2);
 
 struct AnharmonicReportOptions {
   std::vector<int> set_numbers;  // per set (index into Vpt2Result::sets); empty: default_set_numbers

@@ -1,0 +1,60 @@
+#pragma once
+// The report stage's single entry: from the results of one run to the JSON document
+// (analysis.json and every --json), the console text and the set of output files. The
+// command line only chooses what to run and where to write.
+//
+// Shape: every stage writer (harmonic_to_json, anharmonic_to_json, families_to_json,
+// resonance_cross_check_to_json) returns an object whose members are top-level keys of the
+// document; analysis_document merges them and refuses a key written twice. Every string
+// in the document is valid UTF-8 (text from input files passes through valid_utf8).
+#include <nlohmann/json.hpp>
+#include <string>
+#include <vector>
+
+#include "pipeline/analysis.hpp"
+#include "report/output_folder.hpp"
+
+namespace overtone {
+
+// What one run computed. The analysis is always there; a later stage is either a result
+// or the reason it was skipped (both empty: not requested).
+struct RunResults {
+  const AnalysisResult* analysis = nullptr;
+  const AnharmonicResult* anharmonic = nullptr;
+  std::string anharmonic_skipped;
+  const FamiliesResult* families = nullptr;
+  std::string families_skipped;
+};
+
+// Top-level key resonance_cross_check: one entry per Fermi 1:2 pair listed by either
+// stage (docs/output-fields.md).
+nlohmann::json resonance_cross_check_to_json(const std::vector<ResonanceCrossCheck>& checks);
+
+// One line per cross-checked pair, e.g. "2ν2 / ν1 (gap -8.0 cm-1): perturbative: allowed,
+// treated in a polyad; families: allowed for 1 of 2 family types; agree".
+std::string resonance_cross_check_line(const ResonanceCrossCheck& check);
+
+// The whole JSON document of a run. Throws Error when results.analysis is null.
+nlohmann::json analysis_document(const RunResults& results);
+
+// The document as text: two-space indentation, a final newline; any string that is not
+// valid UTF-8 is replaced rather than refused.
+std::string json_text(const nlohmann::json& document);
+
+// The console report: the modes table, then each later stage that ran, then (when both
+// ran) the resonance cross-check.
+std::string text_report(const RunResults& results);
+
+// The files of `overtone analyze`: analysis.json, modes.csv, lines.csv (when the
+// anharmonic stage ran) and families/family-NN-nuK.csv (one per continued family).
+std::vector<OutputFile> analysis_files(const RunResults& results);
+
+// One backbone CSV per continued family, named with the ν numbers (family_csv_file_name).
+std::vector<OutputFile> family_backbone_files(const AnalysisResult& analysis, const FamiliesResult& families,
+                                              const std::string& subfolder = "");
+
+// The quartic force field of the anharmonic stage as a Taylor-expansion file in normal
+// coordinates (docs/taylor-expansion-format.md), titled after the molecule and potential.
+std::string taylor_expansion_text(const AnalysisResult& analysis, const AnharmonicResult& anharmonic);
+
+}  // namespace overtone
