@@ -43,35 +43,34 @@ CoordinateSymmetry symmetry_from_matrices(const std::vector<Eigen::MatrixXd>& ge
   return symmetry;
 }
 
-std::vector<ModeBlock> blocks_by_frequency(const Eigen::VectorXd& angular_frequencies,
-                                           double relative_tolerance) {
-  std::vector<int> order(static_cast<std::size_t>(angular_frequencies.size()));
-  std::iota(order.begin(), order.end(), 0);
-  std::stable_sort(order.begin(), order.end(),
-                   [&](int a, int b) { return angular_frequencies(a) < angular_frequencies(b); });
+std::vector<ModeBlock> mode_blocks(const ModeSymmetry& symmetry, const Eigen::VectorXd& angular_frequencies,
+                                   const std::vector<int>& mode_numbers) {
+  const auto n = static_cast<std::size_t>(angular_frequencies.size());
+  if (symmetry.mode_count() != n || (!mode_numbers.empty() && mode_numbers.size() != n))
+    throw Error(fmt::format("mode blocks need one frequency and number per mode of the symmetry ({}), got {} and {}",
+                            symmetry.mode_count(), n, mode_numbers.size()));
   std::vector<ModeBlock> blocks;
-  for (const int k : order) {
-    const double omega = angular_frequencies(k);
-    if (!blocks.empty()) {
-      ModeBlock& last = blocks.back();
-      const double previous = angular_frequencies(last.coordinates.back());
-      if (std::abs(omega - previous) <= relative_tolerance * std::abs(omega)) {
-        last.coordinates.push_back(k);
-        last.mode_numbers.push_back(k + 1);
-        continue;
-      }
-    }
+  for (int s = 0; s < symmetry.set_count(); ++s) {
     ModeBlock block;
-    block.coordinates = {k};
-    block.mode_numbers = {k + 1};
+    double sum = 0.0;
+    for (const int k : symmetry.sets()[static_cast<std::size_t>(s)]) {
+      block.coordinates.push_back(k);
+      block.mode_numbers.push_back(mode_numbers.empty() ? k + 1 : mode_numbers[static_cast<std::size_t>(k)]);
+      sum += angular_frequencies(k);
+    }
+    block.angular_frequency = sum / static_cast<double>(block.coordinates.size());
+    block.species = symmetry.set_species(s);
     blocks.push_back(std::move(block));
   }
-  for (ModeBlock& block : blocks) {
-    double sum = 0.0;
-    for (const int k : block.coordinates) sum += angular_frequencies(k);
-    block.angular_frequency = sum / static_cast<double>(block.coordinates.size());
-  }
+  std::stable_sort(blocks.begin(), blocks.end(), [](const ModeBlock& a, const ModeBlock& b) {
+    return a.angular_frequency < b.angular_frequency;
+  });
   return blocks;
+}
+
+std::vector<ModeBlock> blocks_by_frequency(const Eigen::VectorXd& angular_frequencies, const UnitConventions& units) {
+  return mode_blocks(ModeSymmetry::without_group(angular_frequencies * units.cm1_per_angular_frequency),
+                     angular_frequencies);
 }
 
 namespace {
@@ -121,16 +120,16 @@ double fixed_dimension(const std::vector<double>& characters, const Subgroup& su
   return sum / static_cast<double>(subgroup.elements.size());
 }
 
+// A fixed-space dimension is the multiplicity of the twisted character in the block's
+// representation: an integer by the one test of the mode symmetry (as_multiplicity).
 int rounded_dimension(double value, const std::string& context) {
-  constexpr double integrality_tolerance =
-      1e-6;  // character sums of orthogonal matrices built in double precision
-  const double rounded = std::round(value);
-  if (std::abs(value - rounded) > integrality_tolerance)
+  const Multiplicity dimension = as_multiplicity(value);
+  if (!dimension.integral)
     throw Error(
         fmt::format("fixed-space dimension {} is not an integer for {}: the matrices do not represent the "
                     "group",
                     value, context));
-  return static_cast<int>(rounded);
+  return dimension.count;
 }
 
 // A vector spanning Fix(Σ) in the block (d complex components, unit norm).

@@ -9,6 +9,7 @@
 
 #include "core/error.hpp"
 #include "core/units.hpp"
+#include "harmonic/inertia.hpp"
 #include "symmetry/geometry.hpp"
 
 namespace overtone {
@@ -56,6 +57,7 @@ struct Geometry {
   std::vector<int> class_of;  // equivalence class: same element, mass and distance from the centre
   std::vector<std::vector<int>> classes;
   Eigen::VectorXd masses;
+  Eigen::Matrix3d inertia = Eigen::Matrix3d::Zero();  // about the centre of mass
 };
 
 Geometry classify_atoms(const Points& points, const std::vector<int>& atomic_numbers,
@@ -409,12 +411,7 @@ Eigen::Vector3d any_perpendicular(const Eigen::Vector3d& z) {
 }
 
 Eigen::Matrix3d inertia_frame(const Geometry& geometry) {
-  Eigen::Matrix3d inertia = Eigen::Matrix3d::Zero();
-  for (std::size_t i = 0; i < geometry.points.size(); ++i) {
-    const Eigen::Vector3d& p = geometry.points[i];
-    inertia += geometry.masses[i] * (p.squaredNorm() * Eigen::Matrix3d::Identity() - p * p.transpose());
-  }
-  Eigen::SelfAdjointEigenSolver<Eigen::Matrix3d> solver(inertia);
+  Eigen::SelfAdjointEigenSolver<Eigen::Matrix3d> solver(geometry.inertia);
   Eigen::Matrix3d q = solver.eigenvectors().transpose();  // rows: axes by increasing moment
   if (q.determinant() < 0.0) q.row(2) *= -1.0;
   return q;
@@ -775,14 +772,12 @@ PointGroupResult detect_point_group(const Eigen::VectorXd& coordinates_angstrom,
   result.atomic_numbers = atomic_numbers;
   result.masses_da = masses_da;
   result.tolerance_angstrom = tolerance;
-  Eigen::Vector3d center = Eigen::Vector3d::Zero();
-  for (int i = 0; i < n; ++i) center += masses_da[i] * coordinates_angstrom.segment<3>(3 * i);
-  center /= masses_da.sum();
+  const Eigen::Vector3d center = center_of_mass(coordinates_angstrom, masses_da);
   result.center_angstrom = center;
   Points points(n);
   for (int i = 0; i < n; ++i) points[i] = coordinates_angstrom.segment<3>(3 * i) - center;
-  const Geometry geometry =
-      classify_atoms(points, atomic_numbers, masses_da, tolerance, options.mass_tolerance_da);
+  Geometry geometry = classify_atoms(points, atomic_numbers, masses_da, tolerance, options.mass_tolerance_da);
+  geometry.inertia = inertia_tensor(coordinates_angstrom, masses_da);
 
   // Linear within the tolerance: every atom within it of the axis of least inertia.
   const Eigen::Matrix3d inertia_axes = inertia_frame(geometry);

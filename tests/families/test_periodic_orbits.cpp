@@ -6,7 +6,7 @@
 
 #include "core/error.hpp"
 #include "core/units.hpp"
-#include "families/model_systems.hpp"
+#include "support/model_systems.hpp"
 #include "families/periodic_orbits.hpp"
 
 namespace overtone {
