@@ -310,8 +310,8 @@ std::vector<std::array<int, Rank>> block_members(const std::vector<std::vector<i
 // largest magnitude: the average is zero there up to round-off) and counts the forbidden.
 template <std::size_t Rank, class Has, class Get, class Set>
 double symmetrize_and_zero_block(const ModeSymmetry& symmetry, const std::vector<std::vector<int>>& sets,
-                                 const InvariantOverlap& overlap, const std::array<int, Rank>& sorted_sets, Has has,
-                                 Get get, Set set, std::size_t& forbidden) {
+                                 const InvariantOverlap& overlap, const std::array<int, Rank>& sorted_sets,
+                                 Has has, Get get, Set set, std::size_t& forbidden) {
   const bool none_allowed = symmetry.representation_error() <= exact_representation &&
                             as_multiplicity(symmetry.invariant_count(sorted_sets)).count == 0;
   std::vector<std::array<int, Rank>> members = block_members(sets, sorted_sets);
@@ -367,8 +367,8 @@ double symmetrize_and_zero(ForceConstantTensors& constants, const ModeSymmetry& 
   for (int a = 0; a < set_count; ++a)
     for (int b = a; b < set_count; ++b)
       for (int c = b; c < set_count; ++c)
-        change = std::max(change, symmetrize_and_zero_block<3>(symmetry, sets, overlap, {a, b, c},
-                                                               has3, get3, put3, forbidden_cubic));
+        change = std::max(change, symmetrize_and_zero_block<3>(symmetry, sets, overlap, {a, b, c}, has3, get3,
+                                                               put3, forbidden_cubic));
   auto has4 = [&](const std::array<int, 4>& x) { return constants.has_quartic(x[0], x[1], x[2], x[3]); };
   auto get4 = [&](const std::array<int, 4>& x) { return constants.quartic(x[0], x[1], x[2], x[3]); };
   auto put4 = [&](const std::array<int, 4>& x, double v) {
@@ -378,9 +378,8 @@ double symmetrize_and_zero(ForceConstantTensors& constants, const ModeSymmetry& 
     for (int b = a; b < set_count; ++b)
       for (int c = b; c < set_count; ++c)
         for (int d = c; d < set_count; ++d)
-          change =
-              std::max(change, symmetrize_and_zero_block<4>(symmetry, sets, overlap, {a, b, c, d},
-                                                            has4, get4, put4, forbidden_quartic));
+          change = std::max(change, symmetrize_and_zero_block<4>(symmetry, sets, overlap, {a, b, c, d}, has4,
+                                                                 get4, put4, forbidden_quartic));
   return change;
 }
 
@@ -708,8 +707,8 @@ std::vector<Point> displacement_points(int m, const std::vector<std::pair<int, i
 }
 
 // Hessians at every point, and the evaluations this took against the scheme without symmetry.
-void evaluate_points(const Potential& potential, DisplacedEvaluator& evaluator, const std::vector<Point>& points,
-                     ForceConstantResult& result) {
+void evaluate_points(const Potential& potential, DisplacedEvaluator& evaluator,
+                     const std::vector<Point>& points, ForceConstantResult& result) {
   const int m = static_cast<int>(result.frequencies_cm1.size());
   const EvaluationCounts before = potential.counts();
   for (const auto& p : points) evaluator.hessian(p);
@@ -839,7 +838,8 @@ ForceConstantResult compute_force_constants(const Potential& potential, const Ha
 }
 
 ForceConstantResult compute_force_constants(const Potential& potential, const HarmonicResult& harmonic,
-                                            const ModeSymmetry& symmetry, const ForceConstantOptions& options) {
+                                            const ModeSymmetry& symmetry,
+                                            const ForceConstantOptions& options) {
   validate(options);
   check_input(potential, harmonic, symmetry);
   const int m = static_cast<int>(harmonic.mode_count());
@@ -867,8 +867,8 @@ ForceConstantResult compute_force_constants(const Potential& potential, const Ha
   result.permutation_spread_cm1 = spread;
 
   if (result.symmetry_used)
-    result.symmetry_adjustment_cm1 = detail::symmetrize_and_zero(result.constants, symmetry,
-                                                                 result.forbidden_cubic, result.forbidden_quartic);
+    result.symmetry_adjustment_cm1 = detail::symmetrize_and_zero(
+        result.constants, symmetry, result.forbidden_cubic, result.forbidden_quartic);
   result.message =
       fmt::format("{} cubic and {} quartic constants from {} displaced Hessians ({} by symmetry), {}",
                   m * (m + 1) * (m + 2) / 6, computed_quartics, result.displaced_hessians,

@@ -458,7 +458,8 @@ std::vector<Move> flagged_moves(const Vpt2Context& c, const Vpt2Result& result) 
 }
 
 // The move that connects two manifolds (either direction), or none.
-const Move* connecting_move(const std::vector<Move>& moves, const std::vector<int>& a, const std::vector<int>& b) {
+const Move* connecting_move(const std::vector<Move>& moves, const std::vector<int>& a,
+                            const std::vector<int>& b) {
   for (const auto& move : moves) {
     bool forward = true, backward = true;
     for (std::size_t s = 0; s < a.size(); ++s) {
@@ -550,12 +551,12 @@ struct GroupStates {
   Eigen::MatrixXd h;
   std::vector<Sublevel> sublevels;
   std::vector<std::vector<int>> sublevels_of_manifold;
-  std::vector<std::string> species;                     // per sublevel
-  std::vector<std::vector<double>> multiplicities;      // per sublevel; empty without a table
-  std::vector<std::string> tags;                        // per sublevel
-  std::vector<double> corrected;                        // per sublevel, NaN outside a polyad
-  std::vector<std::vector<double>> composition;         // per sublevel: weight of each sublevel
-  std::vector<bool> coupled;                            // per sublevel
+  std::vector<std::string> species;                 // per sublevel
+  std::vector<std::vector<double>> multiplicities;  // per sublevel; empty without a table
+  std::vector<std::string> tags;                    // per sublevel
+  std::vector<double> corrected;                    // per sublevel, NaN outside a polyad
+  std::vector<std::vector<double>> composition;     // per sublevel: weight of each sublevel
+  std::vector<bool> coupled;                        // per sublevel
 };
 
 // Diagonal from the deperturbed term values; within a manifold the second-order
@@ -598,13 +599,15 @@ void deperturbed_sublevels(const Vpt2Context& c, std::size_t manifold_count, Gro
   for (std::size_t v = 0; v < manifold_count; ++v) {
     std::vector<int> rows;
     for (Eigen::Index a = 0; a < size; ++a)
-      if (g.manifold_of_state[static_cast<std::size_t>(a)] == static_cast<int>(v)) rows.push_back(static_cast<int>(a));
+      if (g.manifold_of_state[static_cast<std::size_t>(a)] == static_cast<int>(v))
+        rows.push_back(static_cast<int>(a));
     Eigen::MatrixXd block(static_cast<Eigen::Index>(rows.size()), static_cast<Eigen::Index>(rows.size()));
     for (std::size_t i = 0; i < rows.size(); ++i)
       for (std::size_t j = 0; j < rows.size(); ++j)
         block(static_cast<Eigen::Index>(i), static_cast<Eigen::Index>(j)) = g.h(rows[i], rows[j]);
     const Eigen::SelfAdjointEigenSolver<Eigen::MatrixXd> solver(block);
-    for (const auto& cluster : cluster_eigenvalues(solver.eigenvalues(), c.options.level_degeneracy_tolerance_cm1)) {
+    for (const auto& cluster :
+         cluster_eigenvalues(solver.eigenvalues(), c.options.level_degeneracy_tolerance_cm1)) {
       Sublevel sub;
       sub.manifold = static_cast<int>(v);
       sub.vectors = Eigen::MatrixXd::Zero(size, static_cast<Eigen::Index>(cluster.size()));
@@ -671,7 +674,8 @@ void resonance_corrected_states(const Vpt2Context& c, GroupStates& g) {
   for (std::size_t k = 0; k < clusters.size(); ++k)
     for (std::size_t s = 0; s < count; ++s) {
       double w = 0.0;
-      for (int e : clusters[k]) w += (g.sublevels[s].vectors.transpose() * solver.eigenvectors().col(e)).squaredNorm();
+      for (int e : clusters[k])
+        w += (g.sublevels[s].vectors.transpose() * solver.eigenvectors().col(e)).squaredNorm();
       overlap(static_cast<Eigen::Index>(k), static_cast<Eigen::Index>(s)) =
           w / static_cast<double>(clusters[k].size());
     }
@@ -679,17 +683,20 @@ void resonance_corrected_states(const Vpt2Context& c, GroupStates& g) {
   for (std::size_t k = 0; k < clusters.size(); ++k)
     for (std::size_t s = 0; s < count; ++s) {
       const bool same_size = static_cast<Eigen::Index>(clusters[k].size()) == g.sublevels[s].vectors.cols();
-      pairs.emplace_back((same_size ? 1.0 : 0.0) + overlap(static_cast<Eigen::Index>(k), static_cast<Eigen::Index>(s)),
-                         static_cast<int>(k), static_cast<int>(s));
+      pairs.emplace_back(
+          (same_size ? 1.0 : 0.0) + overlap(static_cast<Eigen::Index>(k), static_cast<Eigen::Index>(s)),
+          static_cast<int>(k), static_cast<int>(s));
     }
-  std::sort(pairs.begin(), pairs.end(), [](const auto& a, const auto& b) { return std::get<0>(a) > std::get<0>(b); });
+  std::sort(pairs.begin(), pairs.end(),
+            [](const auto& a, const auto& b) { return std::get<0>(a) > std::get<0>(b); });
   std::vector<bool> cluster_used(clusters.size(), false), sublevel_used(count, false);
   for (const auto& [score, k, s] : pairs) {
     if (cluster_used[static_cast<std::size_t>(k)] || sublevel_used[static_cast<std::size_t>(s)]) continue;
     cluster_used[static_cast<std::size_t>(k)] = sublevel_used[static_cast<std::size_t>(s)] = true;
     double energy = 0.0;
     for (int e : clusters[static_cast<std::size_t>(k)]) energy += solver.eigenvalues()[e];
-    g.corrected[static_cast<std::size_t>(s)] = energy / static_cast<double>(clusters[static_cast<std::size_t>(k)].size());
+    g.corrected[static_cast<std::size_t>(s)] =
+        energy / static_cast<double>(clusters[static_cast<std::size_t>(k)].size());
     for (std::size_t t = 0; t < count; ++t)
       g.composition[static_cast<std::size_t>(s)].push_back(overlap(k, static_cast<Eigen::Index>(t)));
   }
@@ -710,7 +717,8 @@ VibrationalLevel sublevel_level(const Vpt2Context& c, const GroupStates& g, cons
   level.sublevel_count = static_cast<int>(subs.size());
   level.degeneracy = static_cast<int>(g.sublevels[index].vectors.cols());
   for (int s = 0; s < c.set_count(); ++s)
-    level.harmonic_cm1 += manifold[static_cast<std::size_t>(s)] * c.sets[static_cast<std::size_t>(s)].harmonic_cm1;
+    level.harmonic_cm1 +=
+        manifold[static_cast<std::size_t>(s)] * c.sets[static_cast<std::size_t>(s)].harmonic_cm1;
   level.anharmonic_cm1 = g.sublevels[index].energy;
   level.species = g.species[index];
   const auto& multiplicities = g.multiplicities[index];
@@ -726,15 +734,16 @@ VibrationalLevel sublevel_level(const Vpt2Context& c, const GroupStates& g, cons
 }
 
 // The composition of a sublevel's resonance-corrected state, largest weight first.
-std::vector<LevelComponent> level_mixing(const ResonanceGroup& group, const GroupStates& g, std::size_t index) {
+std::vector<LevelComponent> level_mixing(const ResonanceGroup& group, const GroupStates& g,
+                                         std::size_t index) {
   std::vector<LevelComponent> mixing;
   const auto& weights = g.composition[index];
   for (std::size_t t = 0; t < weights.size(); ++t) {
     if (!(weights[t] > negligible_weight)) continue;
     const Sublevel& other = g.sublevels[t];
     const auto& other_subs = g.sublevels_of_manifold[static_cast<std::size_t>(other.manifold)];
-    const int other_index =
-        static_cast<int>(std::find(other_subs.begin(), other_subs.end(), static_cast<int>(t)) - other_subs.begin());
+    const int other_index = static_cast<int>(
+        std::find(other_subs.begin(), other_subs.end(), static_cast<int>(t)) - other_subs.begin());
     mixing.push_back({group.manifolds[static_cast<std::size_t>(other.manifold)], other_index,
                       static_cast<int>(other_subs.size()), g.species[t], g.tags[t], weights[t]});
   }
@@ -778,7 +787,8 @@ void add_polyad(const Vpt2Context& c, const ResonanceGroup& group, const std::ve
   for (std::size_t a = 0; a < group.manifolds.size(); ++a)
     for (std::size_t b = a + 1; b < group.manifolds.size(); ++b)
       if (const Move* move = connecting_move(moves, group.manifolds[a], group.manifolds[b]))
-        if (std::find(polyad.resonances.begin(), polyad.resonances.end(), move->resonance) == polyad.resonances.end())
+        if (std::find(polyad.resonances.begin(), polyad.resonances.end(), move->resonance) ==
+            polyad.resonances.end())
           polyad.resonances.push_back(move->resonance);
   std::sort(polyad.resonances.begin(), polyad.resonances.end());
   auto weight_of = [&](const VibrationalLevel& in, const VibrationalLevel& of) {
@@ -811,12 +821,13 @@ void sort_levels(const WantedManifolds& wanted, Vpt2Result& result) {
   std::vector<int> order_index(result.levels.size());
   std::iota(order_index.begin(), order_index.end(), 0);
   auto rank = [&](const VibrationalLevel& level) {
-    const auto it =
-        std::find_if(wanted.begin(), wanted.end(), [&](const auto& w) { return w.first == level.set_quanta; });
+    const auto it = std::find_if(wanted.begin(), wanted.end(),
+                                 [&](const auto& w) { return w.first == level.set_quanta; });
     return std::make_pair(static_cast<int>(it - wanted.begin()), level.sublevel);
   };
   std::stable_sort(order_index.begin(), order_index.end(), [&](int a, int b) {
-    return rank(result.levels[static_cast<std::size_t>(a)]) < rank(result.levels[static_cast<std::size_t>(b)]);
+    return rank(result.levels[static_cast<std::size_t>(a)]) <
+           rank(result.levels[static_cast<std::size_t>(b)]);
   });
   std::vector<int> new_position(result.levels.size());
   for (std::size_t k = 0; k < order_index.size(); ++k)

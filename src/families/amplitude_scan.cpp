@@ -4,9 +4,9 @@
 
 #include <cmath>
 
-#include "harmonic/normal_coordinates.hpp"
 #include "core/error.hpp"
 #include "core/units.hpp"
+#include "harmonic/normal_coordinates.hpp"
 
 namespace overtone {
 

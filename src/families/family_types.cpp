@@ -47,8 +47,9 @@ std::vector<ModeBlock> mode_blocks(const ModeSymmetry& symmetry, const Eigen::Ve
                                    const std::vector<int>& mode_numbers) {
   const auto n = static_cast<std::size_t>(angular_frequencies.size());
   if (symmetry.mode_count() != n || (!mode_numbers.empty() && mode_numbers.size() != n))
-    throw Error(fmt::format("mode blocks need one frequency and number per mode of the symmetry ({}), got {} and {}",
-                            symmetry.mode_count(), n, mode_numbers.size()));
+    throw Error(
+        fmt::format("mode blocks need one frequency and number per mode of the symmetry ({}), got {} and {}",
+                    symmetry.mode_count(), n, mode_numbers.size()));
   std::vector<ModeBlock> blocks;
   for (int s = 0; s < symmetry.set_count(); ++s) {
     ModeBlock block;
@@ -68,7 +69,8 @@ std::vector<ModeBlock> mode_blocks(const ModeSymmetry& symmetry, const Eigen::Ve
   return blocks;
 }
 
-std::vector<ModeBlock> blocks_by_frequency(const Eigen::VectorXd& angular_frequencies, const UnitConventions& units) {
+std::vector<ModeBlock> blocks_by_frequency(const Eigen::VectorXd& angular_frequencies,
+                                           const UnitConventions& units) {
   return mode_blocks(ModeSymmetry::without_group(angular_frequencies * units.cm1_per_angular_frequency),
                      angular_frequencies);
 }
@@ -350,7 +352,8 @@ std::vector<std::string> checked_labels(const CoordinateSymmetry& symmetry) {
       throw Error(fmt::format("symmetry matrix {} is not orthogonal (largest defect {:.3g})", g, defect));
   }
   if (!symmetry.labels.empty() && static_cast<int>(symmetry.labels.size()) != order)
-    throw Error(fmt::format("the coordinate symmetry has {} labels for {} elements", symmetry.labels.size(), order));
+    throw Error(
+        fmt::format("the coordinate symmetry has {} labels for {} elements", symmetry.labels.size(), order));
   const bool has_axis = symmetry.axial_generator.size() > 0;
   if (has_axis && (symmetry.axial_generator.rows() != n || symmetry.axial_generator.cols() != n))
     throw Error(fmt::format("the axial generator is {}x{}, expected {}x{}", symmetry.axial_generator.rows(),
@@ -391,7 +394,8 @@ SubgroupTable subgroup_table(const FiniteGroup& group) {
 
 // Orbit of θ under the normalizer of its subgroup: θ^g(h) = θ(g⁻¹hg).
 std::set<std::vector<int>> character_orbit(const FiniteGroup& group, const Subgroup& subgroup,
-                                           const std::vector<int>& normalizer, const OneDimensionalCharacter& theta) {
+                                           const std::vector<int>& normalizer,
+                                           const OneDimensionalCharacter& theta) {
   const int h_order = static_cast<int>(subgroup.elements.size());
   std::map<int, int> position;
   for (int j = 0; j < h_order; ++j) position[subgroup.elements[j]] = j;
@@ -400,7 +404,8 @@ std::set<std::vector<int>> character_orbit(const FiniteGroup& group, const Subgr
     std::vector<int> conjugated(h_order);
     for (int j = 0; j < h_order; ++j) {
       const int h = subgroup.elements[j];
-      conjugated[j] = theta.phase_numerators[position.at(group.multiply(group.multiply(group.inverse(g), h), g))];
+      conjugated[j] =
+          theta.phase_numerators[position.at(group.multiply(group.multiply(group.inverse(g), h), g))];
     }
     orbit.insert(conjugated);
   }
@@ -423,7 +428,8 @@ std::vector<Candidate> block_candidates(const FiniteGroup& group, const Subgroup
     for (const OneDimensionalCharacter& theta : table.characters[s]) {
       if (registered.count(theta.phase_numerators)) continue;
       const double dimension = fixed_dimension(action.characters, subgroup, theta, 1);
-      if (rounded_dimension(dimension, fmt::format("modes {}", fmt::join(block.mode_numbers, ","))) != 1) continue;
+      if (rounded_dimension(dimension, fmt::format("modes {}", fmt::join(block.mode_numbers, ","))) != 1)
+        continue;
       const Eigen::VectorXcd v = fixed_vector(action, subgroup, theta);
       bool isotropy = true;
       for (int g = 0; g < group.order() && isotropy; ++g)
@@ -455,8 +461,8 @@ std::vector<Candidate> block_candidates(const FiniteGroup& group, const Subgroup
         family.subgroup.push_back(
             phased(subgroup.elements[j], theta.phase_numerators[j], theta.phase_denominator, labels));
       for (const int generator : subgroup.generators)
-        family.generators.push_back(
-            phased(generator, theta.phase_numerators[position.at(generator)], theta.phase_denominator, labels));
+        family.generators.push_back(phased(generator, theta.phase_numerators[position.at(generator)],
+                                           theta.phase_denominator, labels));
       candidates.push_back(std::move(candidate));
     }
   }
@@ -498,8 +504,9 @@ std::vector<bool> merge_axial_copies(const CoordinateSymmetry& symmetry, const B
 // The seed continue_family needs: the linear orbit (phase aligned so that Re v is the
 // major axis, a turning point), Fix(ker θ) in the whole space, the shift element and the
 // trajectory checks; and the ellipticity. Returns the kernel ker θ and the shift element.
-std::vector<int> seed_family(const CoordinateSymmetry& symmetry, const BlockAction& action, const ModeBlock& block,
-                             const Subgroup& subgroup, Candidate& candidate, const PhasedElement*& shift) {
+std::vector<int> seed_family(const CoordinateSymmetry& symmetry, const BlockAction& action,
+                             const ModeBlock& block, const Subgroup& subgroup, Candidate& candidate,
+                             const PhasedElement*& shift) {
   FamilyType& family = candidate.family;
   const FiniteGroup& group = symmetry.group;
   const int n = static_cast<int>(symmetry.matrices.front().rows());
@@ -532,15 +539,16 @@ std::vector<int> seed_family(const CoordinateSymmetry& symmetry, const BlockActi
   if (r > 1) {
     for (int j = 0; j < h_order; ++j)
       if (candidate.numerators[j] == static_cast<int>(kernel.size()) &&
-          (shift == nullptr || shift_preference(family.subgroup[j].label, r) < shift_preference(shift->label, r))) {
+          (shift == nullptr ||
+           shift_preference(family.subgroup[j].label, r) < shift_preference(shift->label, r))) {
         family.seed.shift_matrix = symmetry.matrices[subgroup.elements[j]];
         shift = &family.subgroup[j];
       }
   }
   // With numerically built matrices (finite-difference Hessians) v lies in Fix(K) only
   // to ~1e-6; the projection makes the seed consistent.
-  family.seed.linear_mode =
-      family.seed.invariant_basis.cast<Complex>() * (family.seed.invariant_basis.transpose().cast<Complex>() * v);
+  family.seed.linear_mode = family.seed.invariant_basis.cast<Complex>() *
+                            (family.seed.invariant_basis.transpose().cast<Complex>() * v);
   family.seed.angular_frequency = block.angular_frequency;
   family.seed.block_dimension = static_cast<int>(block.coordinates.size());
   for (const PhasedElement& element : family.subgroup) {
@@ -560,7 +568,8 @@ std::vector<int> seed_family(const CoordinateSymmetry& symmetry, const BlockActi
 std::vector<ResonanceThreat> resonance_threats(const std::vector<ModeBlock>& blocks,
                                                const std::vector<BlockAction>& actions, std::size_t b,
                                                const Subgroup& subgroup, const Candidate& candidate,
-                                               const UnitConventions& units, const EnumerationOptions& options) {
+                                               const UnitConventions& units,
+                                               const EnumerationOptions& options) {
   OneDimensionalCharacter theta;
   theta.phase_numerators = candidate.numerators;
   theta.phase_denominator = static_cast<int>(subgroup.elements.size());
@@ -568,8 +577,8 @@ std::vector<ResonanceThreat> resonance_threats(const std::vector<ModeBlock>& blo
   for (std::size_t other = 0; other < blocks.size(); ++other) {
     if (other == b) continue;
     for (const int k : options.resonance_orders) {
-      const double detuning =
-          (blocks[other].angular_frequency - k * blocks[b].angular_frequency) * units.cm1_per_angular_frequency;
+      const double detuning = (blocks[other].angular_frequency - k * blocks[b].angular_frequency) *
+                              units.cm1_per_angular_frequency;
       if (std::abs(detuning) > options.resonance_window_cm1) continue;
       ResonanceThreat threat;
       threat.partner_block = static_cast<int>(other);
@@ -577,8 +586,8 @@ std::vector<ResonanceThreat> resonance_threats(const std::vector<ModeBlock>& blo
       threat.partner_species = blocks[other].species;
       threat.order = k;
       threat.detuning_cm1 = detuning;
-      threat.coupling_dimension = rounded_dimension(fixed_dimension(actions[other].characters, subgroup, theta, k),
-                                                    "a resonance partner block");
+      threat.coupling_dimension = rounded_dimension(
+          fixed_dimension(actions[other].characters, subgroup, theta, k), "a resonance partner block");
       threat.symmetry_allowed = threat.coupling_dimension > 0;
       threats.push_back(std::move(threat));
     }
@@ -587,8 +596,9 @@ std::vector<ResonanceThreat> resonance_threats(const std::vector<ModeBlock>& blo
 }
 
 // The families of one block, larger subgroups first.
-std::vector<FamilyType> block_families(const std::vector<ModeBlock>& blocks, const std::vector<BlockAction>& actions,
-                                       std::size_t b, const CoordinateSymmetry& symmetry, const SubgroupTable& table,
+std::vector<FamilyType> block_families(const std::vector<ModeBlock>& blocks,
+                                       const std::vector<BlockAction>& actions, std::size_t b,
+                                       const CoordinateSymmetry& symmetry, const SubgroupTable& table,
                                        const std::vector<std::string>& labels, const UnitConventions& units,
                                        const EnumerationOptions& options) {
   const FiniteGroup& group = symmetry.group;
@@ -633,7 +643,8 @@ FamilyEnumeration enumerate_families(const std::vector<ModeBlock>& blocks, const
   }
   const SubgroupTable table = subgroup_table(symmetry.group);
   for (std::size_t b = 0; b < blocks.size(); ++b) {
-    std::vector<FamilyType> families = block_families(blocks, actions, b, symmetry, table, labels, units, options);
+    std::vector<FamilyType> families =
+        block_families(blocks, actions, b, symmetry, table, labels, units, options);
     if (families.empty())
       enumeration.warnings.push_back(fmt::format(
           "no family is predicted for the {}-fold degenerate modes {}: no twisted isotropy subgroup has a "

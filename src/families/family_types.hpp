@@ -61,7 +61,8 @@ std::vector<ModeBlock> mode_blocks(const ModeSymmetry& symmetry, const Eigen::Ve
 
 // The blocks of a system without point-group data: the sets of ModeSymmetry::without_group
 // on the wavenumbers ω·units.cm1_per_angular_frequency (degeneracy_tolerance_cm1).
-std::vector<ModeBlock> blocks_by_frequency(const Eigen::VectorXd& angular_frequencies, const UnitConventions& units);
+std::vector<ModeBlock> blocks_by_frequency(const Eigen::VectorXd& angular_frequencies,
+                                           const UnitConventions& units);
 
 // An element of the subgroup H of a family with its phase θ(h) = 2π·numerator/denominator
 // (reduced fraction; 0/1 for θ = 0).

@@ -126,9 +126,11 @@ Eigen::MatrixXd nearest_orthogonal(const Eigen::MatrixXd& m) {
 CoordinateSymmetry molecular_coordinate_symmetry(const PointGroupResult& group, const ModeSymmetry& symmetry,
                                                  const HarmonicResult& harmonic) {
   const auto n = static_cast<Eigen::Index>(harmonic.mode_count());
-  if (symmetry.mode_count() != harmonic.mode_count() || static_cast<int>(symmetry.order()) != group.group.order())
-    throw Error(fmt::format("a mode symmetry of order {} on {} modes does not match {} on harmonic data with {} modes",
-                            symmetry.order(), symmetry.mode_count(), group.group.name, n));
+  if (symmetry.mode_count() != harmonic.mode_count() ||
+      static_cast<int>(symmetry.order()) != group.group.order())
+    throw Error(fmt::format(
+        "a mode symmetry of order {} on {} modes does not match {} on harmonic data with {} modes",
+        symmetry.order(), symmetry.mode_count(), group.group.name, n));
   CoordinateSymmetry coordinates;
   coordinates.group = group.group.finite_group();
   // Optimized geometries are symmetric to ~1e-6 Å; a larger defect means the group does

@@ -14,44 +14,18 @@
 
 namespace overtone {
 
+// Names in the order of the enumerations.
 const char* to_string(ContinuationStatus status) {
-  switch (status) {
-    case ContinuationStatus::reached_energy_max:
-      return "reached_energy_max";
-    case ContinuationStatus::escaped:
-      return "escaped";
-    case ContinuationStatus::step_too_small:
-      return "step_too_small";
-    case ContinuationStatus::point_limit:
-      return "point_limit";
-    case ContinuationStatus::start_failed:
-      return "start_failed";
-    case ContinuationStatus::turned_back:
-      return "turned_back";
-  }
-  return "unknown";
+  static constexpr const char* names[] = {"reached_energy_max", "escaped",      "step_too_small",
+                                          "point_limit",        "start_failed", "turned_back"};
+  return names[static_cast<std::size_t>(status)];
 }
 
 const char* to_string(FamilyEventKind kind) {
-  switch (kind) {
-    case FamilyEventKind::fold:
-      return "fold";
-    case FamilyEventKind::stability_lost:
-      return "stability_lost";
-    case FamilyEventKind::stability_gained:
-      return "stability_gained";
-    case FamilyEventKind::period_doubling:
-      return "period_doubling";
-    case FamilyEventKind::branch_point:
-      return "branch_point";
-    case FamilyEventKind::instability_changed:
-      return "instability_changed";
-    case FamilyEventKind::resonance_encounter:
-      return "resonance_encounter";
-    case FamilyEventKind::escape:
-      return "escape";
-  }
-  return "unknown";
+  static constexpr const char* names[] = {
+      "fold",         "stability_lost",      "stability_gained",    "period_doubling",
+      "branch_point", "instability_changed", "resonance_encounter", "escape"};
+  return names[static_cast<std::size_t>(kind)];
 }
 
 namespace {
@@ -239,7 +213,8 @@ class FamilySolver {
     std::chrono::steady_clock::time_point started;
   };
   ContinuationResult finish(ContinuationResult& result, ContinuationStatus status, std::string message);
-  ContinuationResult finish_after_failure(ContinuationResult& result, const std::string& failure, bool escape);
+  ContinuationResult finish_after_failure(ContinuationResult& result, const std::string& failure,
+                                          bool escape);
   ContinuationResult finish_at_energy_max(ContinuationResult& result, const PointCost& cost);
   // The corrector set-up for an orbit at a fixed energy, phase anchored at `reference`.
   CorrectorSetup fixed_energy_setup(const Unknowns& reference, double energy) const;
@@ -742,7 +717,8 @@ ContinuationResult FamilySolver::finish(ContinuationResult& result, Continuation
   result.integration_steps = counters.steps;
   result.seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - started_).count();
   if (counters.full_variational_periods > 0.0)
-    result.seconds_per_variational_period = counters.full_variational_seconds / counters.full_variational_periods;
+    result.seconds_per_variational_period =
+        counters.full_variational_seconds / counters.full_variational_periods;
   for (const auto& point : result.points) {
     result.newton_iterations += point.newton_iterations;
     result.variational_integrations += point.variational_integrations;
@@ -763,7 +739,8 @@ CorrectorSetup FamilySolver::fixed_energy_setup(const Unknowns& reference, doubl
   return setup;
 }
 
-bool FamilySolver::accept(const CorrectorOutcome& corrected, const PointCost& cost, ContinuationResult& result) {
+bool FamilySolver::accept(const CorrectorOutcome& corrected, const PointCost& cost,
+                          ContinuationResult& result) {
   OrbitPoint point;
   point.energy = corrected.solution.energy;
   point.period = corrected.solution.period;
@@ -777,7 +754,8 @@ bool FamilySolver::accept(const CorrectorOutcome& corrected, const PointCost& co
   }
   const double length = length_for(point.energy);
   const double time_scale = time_scale_for(point.period);
-  Eigen::VectorXd new_tangent = tangent_at(corrected.solution, analysis.reduced_transition, length, time_scale);
+  Eigen::VectorXd new_tangent =
+      tangent_at(corrected.solution, analysis.reduced_transition, length, time_scale);
   if (accepted_.empty()) {
     if (new_tangent(2 * m_ + 1) < 0.0) new_tangent = -new_tangent;
   } else {
@@ -887,8 +865,8 @@ CorrectorOutcome FamilySolver::continuation_step(double step, double& trial_step
   current_scaled(2 * m_) = current.period / time_scale;
   current_scaled(2 * m_ + 1) = current.energy / scale;
   const Eigen::VectorXd predicted = current_scaled + trial_step * tangent_;
-  Unknowns guess = unscaled(predicted.head(2 * m_), predicted(2 * m_) * time_scale, predicted(2 * m_ + 1) * scale,
-                            length);
+  Unknowns guess =
+      unscaled(predicted.head(2 * m_), predicted(2 * m_) * time_scale, predicted(2 * m_ + 1) * scale, length);
   CorrectorSetup setup;
   setup.length = length;
   setup.time_scale = time_scale;
@@ -914,8 +892,9 @@ ContinuationResult FamilySolver::finish_after_failure(ContinuationResult& result
                               near_escape ? fmt::format(": the escape energy of the system is {}",
                                                         energy_text(escape_energy))
                                           : std::string(": probably a dissociation or barrier")));
-  return finish(result, ContinuationStatus::step_too_small,
-                fmt::format("the corrector failed at the smallest step beyond {}: {}", energy_text(reached), failure));
+  return finish(
+      result, ContinuationStatus::step_too_small,
+      fmt::format("the corrector failed at the smallest step beyond {}: {}", energy_text(reached), failure));
 }
 
 // Step-size control from the corrector's effort: with the predictor's residual evaluation

@@ -20,7 +20,8 @@ void require_finite(const Eigen::MatrixXd& matrix, const std::string& what) {
 
 // Cartesian displacement, reduced mass and force constant of mode k from its
 // mass-weighted vector.
-void update_mode_properties(HarmonicResult& result, Eigen::Index k, const Eigen::VectorXd& inverse_sqrt_mass) {
+void update_mode_properties(HarmonicResult& result, Eigen::Index k,
+                            const Eigen::VectorXd& inverse_sqrt_mass) {
   const Eigen::VectorXd cartesian = inverse_sqrt_mass.asDiagonal() * result.mass_weighted_modes.col(k);
   const double squared_norm = cartesian.squaredNorm();
   result.cartesian_displacements.col(k) = cartesian / std::sqrt(squared_norm);
@@ -31,17 +32,20 @@ void update_mode_properties(HarmonicResult& result, Eigen::Index k, const Eigen:
 
 Eigen::VectorXd inverse_sqrt_masses(const Eigen::VectorXd& masses_da) {
   Eigen::VectorXd inverse_sqrt_mass(3 * masses_da.size());
-  for (Eigen::Index i = 0; i < inverse_sqrt_mass.size(); ++i) inverse_sqrt_mass[i] = 1.0 / std::sqrt(masses_da[i / 3]);
+  for (Eigen::Index i = 0; i < inverse_sqrt_mass.size(); ++i)
+    inverse_sqrt_mass[i] = 1.0 / std::sqrt(masses_da[i / 3]);
   return inverse_sqrt_mass;
 }
 
 }  // namespace
 
-void replace_mode_vector(HarmonicResult& harmonic, Eigen::Index k, const Eigen::VectorXd& mass_weighted_mode) {
-  if (k < 0 || k >= harmonic.mass_weighted_modes.cols() || mass_weighted_mode.size() != harmonic.mass_weighted_modes.rows())
-    throw Error(fmt::format("mode {} with a vector of {} entries does not fit a harmonic result with {} modes of {}",
-                            k, mass_weighted_mode.size(), harmonic.mass_weighted_modes.cols(),
-                            harmonic.mass_weighted_modes.rows()));
+void replace_mode_vector(HarmonicResult& harmonic, Eigen::Index k,
+                         const Eigen::VectorXd& mass_weighted_mode) {
+  if (k < 0 || k >= harmonic.mass_weighted_modes.cols() ||
+      mass_weighted_mode.size() != harmonic.mass_weighted_modes.rows())
+    throw Error(fmt::format(
+        "mode {} with a vector of {} entries does not fit a harmonic result with {} modes of {}", k,
+        mass_weighted_mode.size(), harmonic.mass_weighted_modes.cols(), harmonic.mass_weighted_modes.rows()));
   harmonic.mass_weighted_modes.col(k) = mass_weighted_mode;
   update_mode_properties(harmonic, k, inverse_sqrt_masses(harmonic.masses_da));
 }

@@ -9,10 +9,10 @@
 #include <numeric>
 #include <vector>
 
-#include "families/amplitude_scan.hpp"
 #include "anharmonic/anharmonic_report.hpp"
-#include "symmetry/mode_symmetry.hpp"
 #include "core/error.hpp"
+#include "families/amplitude_scan.hpp"
+#include "symmetry/mode_symmetry.hpp"
 
 namespace overtone {
 

@@ -447,7 +447,8 @@ std::vector<Eigen::Vector3d> axes_of_order(const std::vector<FittedOperation>& o
                                            int wanted, bool proper) {
   std::vector<Eigen::Vector3d> axes;
   for (std::size_t k = 0; k < ops.size(); ++k)
-    if (s.orders[k] == wanted && (ops[k].determinant > 0) == proper) axes.push_back(proper_axis(ops[k].matrix));
+    if (s.orders[k] == wanted && (ops[k].determinant > 0) == proper)
+      axes.push_back(proper_axis(ops[k].matrix));
   return axes;
 }
 
@@ -495,7 +496,9 @@ Identification identify_without_rotations(const Geometry& geometry, const std::v
 // Ih), of S4 (Td) or of C4 (O, Oh). False when the structure is not cubic.
 bool identify_cubic(const std::vector<FittedOperation>& ops, const GroupStructure& s, Identification& id) {
   if (s.proper_count == 12 && s.n_max == 3)
-    id.family = s.inversion ? PointGroupFamily::Th : s.order == 24 ? PointGroupFamily::Td : PointGroupFamily::T;
+    id.family = s.inversion     ? PointGroupFamily::Th
+                : s.order == 24 ? PointGroupFamily::Td
+                                : PointGroupFamily::T;
   else if (s.proper_count == 24 && s.n_max == 4)
     id.family = s.inversion ? PointGroupFamily::Oh : PointGroupFamily::O;
   else if (s.proper_count == 60 && s.n_max == 5)
@@ -608,7 +611,8 @@ Identification identify_dihedral_two(const Geometry& geometry, const std::vector
   std::vector<std::size_t> rank(axes.size());
   std::iota(rank.begin(), rank.end(), 0);
   std::stable_sort(rank.begin(), rank.end(), [&](std::size_t p, std::size_t q) {
-    const auto a = atoms_on_axis(geometry, axes[p], acceptance), b = atoms_on_axis(geometry, axes[q], acceptance);
+    const auto a = atoms_on_axis(geometry, axes[p], acceptance),
+               b = atoms_on_axis(geometry, axes[q], acceptance);
     return a.first > b.first || (a.first == b.first && a.second > b.second + 1e-9);
   });
   if (plane_normal >= 0) {
@@ -631,8 +635,9 @@ Identification identify_dihedral(const Geometry& geometry, const std::vector<Fit
   const Eigen::Vector3d principal_axis = proper_axis(ops[s.principal].matrix);
   bool horizontal_mirror = false;
   for (const auto& op : ops)
-    if (is_reflection(op) && std::abs(proper_axis(op.matrix).dot(principal_axis)) > 0.9) horizontal_mirror = true;
-  id.family = s.order == 2 * n      ? PointGroupFamily::Dn
+    if (is_reflection(op) && std::abs(proper_axis(op.matrix).dot(principal_axis)) > 0.9)
+      horizontal_mirror = true;
+  id.family = s.order == 2 * n    ? PointGroupFamily::Dn
               : horizontal_mirror ? PointGroupFamily::Dnh
                                   : PointGroupFamily::Dnd;
   const std::vector<int> labels = conjugacy_labels(ops);
@@ -640,17 +645,20 @@ Identification identify_dihedral(const Geometry& geometry, const std::vector<Fit
   for (std::size_t k = 0; k < ops.size(); ++k) {
     if (ops[k].determinant < 0 || s.orders[k] != 2) continue;
     const Eigen::Vector3d axis = proper_axis(ops[k].matrix);
-    if (std::abs(axis.dot(principal_axis)) < 0.1 && !axis_of_class.count(labels[k])) axis_of_class[labels[k]] = axis;
+    if (std::abs(axis.dot(principal_axis)) < 0.1 && !axis_of_class.count(labels[k]))
+      axis_of_class[labels[k]] = axis;
   }
   std::vector<AxisChoice> choices;
-  for (const auto& [label, axis] : axis_of_class) choices.push_back({axis, atoms_on_axis(geometry, axis, acceptance)});
+  for (const auto& [label, axis] : axis_of_class)
+    choices.push_back({axis, atoms_on_axis(geometry, axis, acceptance)});
   id.standard_from_input = frame_from_axes(principal_axis, best_by_atoms(choices));
   return id;
 }
 
 // The point group of a closed set of fitted operations, from its structure (orders of
 // proper rotations, presence of i, σh, σv), with its standard frame.
-Identification identify(const Geometry& geometry, const std::vector<FittedOperation>& ops, double acceptance) {
+Identification identify(const Geometry& geometry, const std::vector<FittedOperation>& ops,
+                        double acceptance) {
   const GroupStructure s = group_structure(ops);
   if (s.proper_count == 1) return identify_without_rotations(geometry, ops, s);
   Identification id;
@@ -774,20 +782,22 @@ std::string format_double(double v, int precision) {
   return out.str();
 }
 
-void check_detection_input(const Eigen::VectorXd& coordinates_angstrom, const std::vector<int>& atomic_numbers,
-                           const Eigen::VectorXd& masses_da, const SymmetryOptions& options) {
+void check_detection_input(const Eigen::VectorXd& coordinates_angstrom,
+                           const std::vector<int>& atomic_numbers, const Eigen::VectorXd& masses_da,
+                           const SymmetryOptions& options) {
   options.validate();
   const int n = static_cast<int>(atomic_numbers.size());
   if (n < 2) throw Error("point-group detection needs at least 2 atoms, got " + std::to_string(n));
   if (coordinates_angstrom.size() != 3 * n)
-    throw Error("coordinate vector has " + std::to_string(coordinates_angstrom.size()) + " entries, expected " +
-                std::to_string(3 * n));
+    throw Error("coordinate vector has " + std::to_string(coordinates_angstrom.size()) +
+                " entries, expected " + std::to_string(3 * n));
   if (masses_da.size() != n)
     throw Error("got " + std::to_string(masses_da.size()) + " masses for " + std::to_string(n) + " atoms");
   if (!coordinates_angstrom.allFinite()) throw Error("coordinates contain a non-finite value");
   for (int i = 0; i < n; ++i)
     if (!(masses_da[i] > 0.0))
-      throw Error("mass of atom " + std::to_string(i + 1) + " must be positive, got " + std::to_string(masses_da[i]));
+      throw Error("mass of atom " + std::to_string(i + 1) + " must be positive, got " +
+                  std::to_string(masses_da[i]));
 }
 
 // A linear molecule within the tolerance: D∞h when symmetrizing to it stays within the
@@ -797,7 +807,8 @@ Candidate detect_linear(const Geometry& geometry, const Eigen::Vector3d& line, c
   const double tolerance = options.tolerance_angstrom, acceptance = 2.0 * tolerance;
   Candidate chosen = realize_linear(geometry, line, acceptance, options.linear_axis_order, true);
   if (chosen.deviation > tolerance && chosen.group.family == PointGroupFamily::Dinfh) {
-    result.notes.push_back("symmetrizing to D∞h would move an atom by more than the tolerance; reduced to C∞v");
+    result.notes.push_back(
+        "symmetrizing to D∞h would move an atom by more than the tolerance; reduced to C∞v");
     chosen = realize_linear(geometry, line, acceptance, options.linear_axis_order, false);
   }
   result.operations_found = chosen.group.order();
@@ -810,7 +821,8 @@ Candidate detect_linear(const Geometry& geometry, const Eigen::Vector3d& line, c
 // tolerance: the largest subgroup that is (all conjugates tried), from the abstract group
 // of the fitted operations (composition of their atom permutations).
 Candidate reduce_to_subgroup(const Geometry& geometry, const std::vector<FittedOperation>& ops,
-                             const Candidate& whole, const SymmetryOptions& options, PointGroupResult& result) {
+                             const Candidate& whole, const SymmetryOptions& options,
+                             PointGroupResult& result) {
   const double tolerance = options.tolerance_angstrom, acceptance = 2.0 * tolerance;
   // Element k of the abstract group ↔ fitted operation fitted_of[k].
   std::vector<int> fitted_of(ops.size());
@@ -846,8 +858,9 @@ Candidate reduce_to_subgroup(const Geometry& geometry, const std::vector<FittedO
   if (!replaced) throw Error("internal: not even C1 fits within the tolerance");
   const std::string rejected = whole.group.name;
   if (whole.realized)
-    result.notes.push_back("operations of " + rejected + " were found within 2×tolerance, but symmetrizing to " +
-                           rejected + " moves an atom by " + format_double(whole.deviation, 3) +
+    result.notes.push_back("operations of " + rejected +
+                           " were found within 2×tolerance, but symmetrizing to " + rejected +
+                           " moves an atom by " + format_double(whole.deviation, 3) +
                            " Å > tolerance; reduced to the largest subgroup within it, " + chosen.group.name);
   else
     result.notes.push_back("the operations found within 2×tolerance are not consistent with one " + rejected +
@@ -857,9 +870,11 @@ Candidate reduce_to_subgroup(const Geometry& geometry, const std::vector<FittedO
 
 // Operations found on the geometry, closed into a group, identified and realized exactly
 // (or reduced to the largest subgroup within the tolerance).
-Candidate detect_nonlinear(const Geometry& geometry, const SymmetryOptions& options, PointGroupResult& result) {
+Candidate detect_nonlinear(const Geometry& geometry, const SymmetryOptions& options,
+                           PointGroupResult& result) {
   const double tolerance = options.tolerance_angstrom, acceptance = 2.0 * tolerance;
-  const std::vector<FittedOperation> found = find_operations(geometry, tolerance, result.candidate_operations_tested);
+  const std::vector<FittedOperation> found =
+      find_operations(geometry, tolerance, result.candidate_operations_tested);
   const std::vector<FittedOperation> ops = close_operations(geometry, found, acceptance, result.notes);
   result.operations_found = static_cast<int>(ops.size());
   const Candidate chosen = realize(geometry, ops, acceptance, options.linear_axis_order);

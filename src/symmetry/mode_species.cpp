@@ -1,5 +1,3 @@
-#include "symmetry/mode_symmetry.hpp"
-
 #include <algorithm>
 #include <cmath>
 #include <map>
@@ -10,6 +8,7 @@
 #include "core/units.hpp"
 #include "harmonic/inertia.hpp"
 #include "symmetry/geometry.hpp"
+#include "symmetry/mode_symmetry.hpp"
 
 namespace overtone {
 namespace {
@@ -170,7 +169,8 @@ Eigen::MatrixXd follow_vectors(const Eigen::MatrixXd& block, const Eigen::Matrix
 
 // Common eigenvectors of the diagonal operations on the set (columns of a d × d orthogonal
 // matrix); within a block of equal eigenvalues, the partners follow the original modes.
-Eigen::MatrixXd common_eigenvectors(const std::vector<Eigen::MatrixXd>& blocks, const std::vector<int>& diagonal,
+Eigen::MatrixXd common_eigenvectors(const std::vector<Eigen::MatrixXd>& blocks,
+                                    const std::vector<int>& diagonal,
                                     const Eigen::MatrixXd& original_in_set) {
   const Eigen::Index d = blocks.front().rows();
   Eigen::MatrixXd combination = Eigen::MatrixXd::Zero(d, d);
@@ -195,7 +195,8 @@ Eigen::MatrixXd common_eigenvectors(const std::vector<Eigen::MatrixXd>& blocks, 
 // Columns of u reordered like x, y, z: a partner whose signs under the diagonal operations
 // match those of a coordinate axis takes that axis's place.
 Eigen::MatrixXd order_like_axes(const PointGroup& pg, const Eigen::MatrixXd& u,
-                                const std::vector<Eigen::MatrixXd>& blocks, const std::vector<int>& diagonal) {
+                                const std::vector<Eigen::MatrixXd>& blocks,
+                                const std::vector<int>& diagonal) {
   const auto d = static_cast<int>(u.cols());
   auto signature = [&](const Eigen::VectorXd& column) {
     std::vector<int> s;
@@ -204,7 +205,8 @@ Eigen::MatrixXd order_like_axes(const PointGroup& pg, const Eigen::MatrixXd& u,
   };
   std::vector<std::vector<int>> axis_signatures(3);
   for (int axis = 0; axis < 3; ++axis)
-    for (int g : diagonal) axis_signatures[axis].push_back(pg.operations[g].matrix(axis, axis) > 0.0 ? 1 : -1);
+    for (int g : diagonal)
+      axis_signatures[axis].push_back(pg.operations[g].matrix(axis, axis) > 0.0 ? 1 : -1);
   std::vector<int> order(d);
   std::iota(order.begin(), order.end(), 0);
   std::vector<int> rank(d, 3);
@@ -250,7 +252,8 @@ int turning_operation(const PointGroup& pg) {
 // Orthogonal U (d×d) that rotates an orthonormal basis B of one set (3N×d, operation
 // matrices `blocks` = Bᵀ·D(g)·B) into symmetry-adapted partners B·U.
 Eigen::MatrixXd adapt_basis(const PointGroupResult& group, const Eigen::MatrixXd& basis,
-                            const std::vector<Eigen::MatrixXd>& blocks, const Eigen::MatrixXd& original_modes) {
+                            const std::vector<Eigen::MatrixXd>& blocks,
+                            const Eigen::MatrixXd& original_modes) {
   const PointGroup& pg = group.group;
   const int d = static_cast<int>(basis.cols());
   Eigen::Index largest = 0;
@@ -259,8 +262,8 @@ Eigen::MatrixXd adapt_basis(const PointGroupResult& group, const Eigen::MatrixXd
     return Eigen::MatrixXd::Constant(1, 1, basis(largest, 0) < 0.0 ? -1.0 : 1.0);
   }
   const std::vector<int> diagonal = diagonal_operations(pg);
-  Eigen::MatrixXd sorted =
-      order_like_axes(pg, common_eigenvectors(blocks, diagonal, basis.transpose() * original_modes), blocks, diagonal);
+  Eigen::MatrixXd sorted = order_like_axes(
+      pg, common_eigenvectors(blocks, diagonal, basis.transpose() * original_modes), blocks, diagonal);
   // Signs: partner 1 with its largest component positive; the others so that the turning
   // operation takes partner k−1 positively into partner k where it connects them.
   auto flip_to_positive_largest = [&](int k) {
@@ -319,7 +322,8 @@ CoordinateFrame harmonic_frame(const PointGroupResult& group, const HarmonicResu
   throw Error("the harmonic geometry does not have the symmetry of " + group.group.name +
               " in the detection's input or standard frame (largest displacement " +
               format_number(std::min(input_deviation, standard_deviation), 3) + " Å, allowed " +
-              format_number(frame_tolerance, 3) + " Å); detect the group on the geometry the modes were computed at");
+              format_number(frame_tolerance, 3) +
+              " Å); detect the group on the geometry the modes were computed at");
 }
 
 // A set found by projecting a cluster of near-equal frequencies onto one species.
@@ -337,7 +341,7 @@ struct Assignment {
   const PointGroupResult& group;
   const HarmonicResult& harmonic;
   CoordinateFrame frame;
-  std::vector<std::vector<int>> clusters;       // candidate sets, modes ascending
+  std::vector<std::vector<int>> clusters;         // candidate sets, modes ascending
   std::vector<std::vector<int>> cluster_species;  // per cluster member: species holding most of it
   std::vector<PendingSet> pending;
   std::vector<std::vector<int>> members;  // per pending set: its modes
@@ -380,8 +384,8 @@ void project_cluster(Assignment& a, std::size_t cluster_index) {
                            std::to_string(count) + " dimensions of " + irreps[s].label +
                            ", not a multiple of its dimension " + std::to_string(dimension));
     // Several copies of one species in a cluster (accidental degeneracy): split by frequency.
-    Eigen::SelfAdjointEigenSolver<Eigen::MatrixXd> by_freq(part.transpose() * cluster_frequencies.asDiagonal() *
-                                                           part);
+    Eigen::SelfAdjointEigenSolver<Eigen::MatrixXd> by_freq(part.transpose() *
+                                                           cluster_frequencies.asDiagonal() * part);
     const Eigen::MatrixXd ordered = part * by_freq.eigenvectors();
     for (int start = 0; start < count; start += dimension) {
       const Eigen::MatrixXd local = ordered.middleCols(start, std::min(dimension, count - start));
@@ -391,8 +395,8 @@ void project_cluster(Assignment& a, std::size_t cluster_index) {
     covered += count;
   }
   if (covered != c)
-    a.warnings.push_back("modes near " + format_number(cluster_frequencies.mean(), 6) + " cm⁻¹: projections cover " +
-                         std::to_string(covered) + " of " + std::to_string(c) +
+    a.warnings.push_back("modes near " + format_number(cluster_frequencies.mean(), 6) +
+                         " cm⁻¹: projections cover " + std::to_string(covered) + " of " + std::to_string(c) +
                          " dimensions; the modes do not carry the group's symmetry");
 }
 
@@ -407,9 +411,11 @@ void deal_members(Assignment& a) {
   for (std::size_t c = 0; c < a.clusters.size(); ++c) {
     const auto& cluster = a.clusters[c];
     std::map<int, std::vector<int>> modes_of_species;
-    for (std::size_t k = 0; k < cluster.size(); ++k) modes_of_species[a.cluster_species[c][k]].push_back(cluster[k]);
+    for (std::size_t k = 0; k < cluster.size(); ++k)
+      modes_of_species[a.cluster_species[c][k]].push_back(cluster[k]);
     for (auto& [irrep, list] : modes_of_species) {
-      std::stable_sort(list.begin(), list.end(), [&](int x, int y) { return frequencies[x] < frequencies[y]; });
+      std::stable_sort(list.begin(), list.end(),
+                       [&](int x, int y) { return frequencies[x] < frequencies[y]; });
       std::vector<int> sets;
       for (std::size_t s = 0; s < a.pending.size(); ++s)
         if (a.pending[s].cluster_index == static_cast<int>(c) && a.pending[s].irrep == irrep)
@@ -490,8 +496,8 @@ ModeSet finish_set(const Assignment& a, int s) {
 
 // Per-mode species of the members of a finished set.
 void label_members(const Assignment& a, const ModeSet& set, int index, ModeSymmetryResult& result) {
-  const Eigen::MatrixXd projector =
-      species_projector(a.group.group, a.group.group.character_table.irreps[set.irrep], set.operation_matrices);
+  const Eigen::MatrixXd projector = species_projector(
+      a.group.group, a.group.group.character_table.irreps[set.irrep], set.operation_matrices);
   for (int m : set.modes) {
     ModeSpecies& ms = result.modes[m];
     ms.set = index;

@@ -26,9 +26,8 @@ void canonical_order(std::vector<std::vector<int>>& sets, std::vector<std::strin
   for (auto& members : sets) std::sort(members.begin(), members.end());
   std::vector<std::size_t> order(sets.size());
   std::iota(order.begin(), order.end(), 0);
-  std::stable_sort(order.begin(), order.end(), [&](std::size_t a, std::size_t b) {
-    return sets[a].front() < sets[b].front();
-  });
+  std::stable_sort(order.begin(), order.end(),
+                   [&](std::size_t a, std::size_t b) { return sets[a].front() < sets[b].front(); });
   std::vector<std::vector<int>> sorted_sets;
   std::vector<std::string> sorted_species;
   for (std::size_t k : order) {
@@ -52,17 +51,18 @@ ModeSymmetry::ModeSymmetry(std::vector<Eigen::MatrixXd> operations, std::vector<
       operation_names_(std::move(operation_names)),
       operations_(std::move(operations)),
       irreps_(std::move(irreps)) {
-  if (operations_.empty()) throw Error("a mode symmetry needs at least one operation (the identity), got none");
+  if (operations_.empty())
+    throw Error("a mode symmetry needs at least one operation (the identity), got none");
   const Eigen::Index m = operations_.front().rows();
   for (const auto& r : operations_)
     if (r.rows() != m || r.cols() != m)
-      throw Error(fmt::format("a symmetry matrix on the normal coordinates is {}x{}, expected {}x{}", r.rows(),
-                              r.cols(), m, m));
+      throw Error(fmt::format("a symmetry matrix on the normal coordinates is {}x{}, expected {}x{}",
+                              r.rows(), r.cols(), m, m));
   if ((operations_.front() - Eigen::MatrixXd::Identity(m, m)).cwiseAbs().maxCoeff() > identity_tolerance)
     throw Error("the first operation on the normal coordinates is not the identity");
   if (operation_names_.size() != operations_.size())
-    throw Error(fmt::format("got {} operation names for {} operations", operation_names_.size(),
-                            operations_.size()));
+    throw Error(
+        fmt::format("got {} operation names for {} operations", operation_names_.size(), operations_.size()));
   for (const auto& irrep : irreps_)
     if (irrep.characters.size() != operations_.size())
       throw Error(fmt::format("irrep '{}' has {} characters, expected one per operation ({})", irrep.label,
@@ -75,7 +75,8 @@ ModeSymmetry::ModeSymmetry(std::vector<Eigen::MatrixXd> operations, std::vector<
     if (members.empty()) throw Error("a degenerate set of the modes is empty");
     for (int mode : members) {
       if (mode < 0 || mode >= m || set_of_mode_[static_cast<std::size_t>(mode)] >= 0)
-        throw Error(fmt::format("the degenerate sets do not partition the modes 0..{} (mode {})", m - 1, mode));
+        throw Error(
+            fmt::format("the degenerate sets do not partition the modes 0..{} (mode {})", m - 1, mode));
       set_of_mode_[static_cast<std::size_t>(mode)] = 0;
     }
   }
@@ -92,8 +93,8 @@ ModeSymmetry::ModeSymmetry(std::vector<Eigen::MatrixXd> operations, std::vector<
     }
 
   for (const auto& r : operations_) {
-    representation_error_ =
-        std::max(representation_error_, (r.transpose() * r - Eigen::MatrixXd::Identity(m, m)).cwiseAbs().maxCoeff());
+    representation_error_ = std::max(
+        representation_error_, (r.transpose() * r - Eigen::MatrixXd::Identity(m, m)).cwiseAbs().maxCoeff());
     for (Eigen::Index i = 0; i < m; ++i)
       for (Eigen::Index j = 0; j < m; ++j)
         if (set_of_mode_[static_cast<std::size_t>(i)] != set_of_mode_[static_cast<std::size_t>(j)])
@@ -127,7 +128,8 @@ std::vector<std::vector<int>> frequency_chains(const Eigen::VectorXd& frequencie
   std::vector<std::vector<int>> chains;
   for (std::size_t k = 0; k < ascending.size(); ++k) {
     const int mode = ascending[k];
-    if (k == 0 || frequencies_cm1[mode] - frequencies_cm1[ascending[k - 1]] > tolerance_cm1) chains.emplace_back();
+    if (k == 0 || frequencies_cm1[mode] - frequencies_cm1[ascending[k - 1]] > tolerance_cm1)
+      chains.emplace_back();
     chains.back().push_back(mode);
   }
   return chains;
@@ -137,7 +139,8 @@ ModeSymmetry ModeSymmetry::without_group(const Eigen::VectorXd& frequencies_cm1,
   if (!(tolerance_cm1 >= 0.0))
     throw Error(fmt::format("degeneracy tolerance must be non-negative (cm-1), got {}", tolerance_cm1));
   const auto m = static_cast<Eigen::Index>(frequencies_cm1.size());
-  return ModeSymmetry({Eigen::MatrixXd::Identity(m, m)}, {"E"}, frequency_chains(frequencies_cm1, tolerance_cm1));
+  return ModeSymmetry({Eigen::MatrixXd::Identity(m, m)}, {"E"},
+                      frequency_chains(frequencies_cm1, tolerance_cm1));
 }
 
 std::vector<Eigen::MatrixXd> ModeSymmetry::block_operations() const {
@@ -145,7 +148,8 @@ std::vector<Eigen::MatrixXd> ModeSymmetry::block_operations() const {
   for (auto& r : result)
     for (Eigen::Index i = 0; i < r.rows(); ++i)
       for (Eigen::Index j = 0; j < r.cols(); ++j)
-        if (set_of_mode_[static_cast<std::size_t>(i)] != set_of_mode_[static_cast<std::size_t>(j)]) r(i, j) = 0.0;
+        if (set_of_mode_[static_cast<std::size_t>(i)] != set_of_mode_[static_cast<std::size_t>(j)])
+          r(i, j) = 0.0;
   return result;
 }
 
@@ -180,7 +184,8 @@ std::vector<double> ModeSymmetry::symmetric_square_characters(int set) const {
 
 std::vector<double> ModeSymmetry::antisymmetric_square_characters(int set) const {
   std::vector<double> characters;
-  for (const auto& p : power_sums_[static_cast<std::size_t>(set)]) characters.push_back((p[0] * p[0] - p[1]) / 2.0);
+  for (const auto& p : power_sums_[static_cast<std::size_t>(set)])
+    characters.push_back((p[0] * p[0] - p[1]) / 2.0);
   return characters;
 }
 
@@ -238,8 +243,8 @@ bool allowed(double invariants) { return as_multiplicity(invariants).count >= 1;
 }  // namespace
 
 bool ModeSymmetry::overtone_couples(int lower, int upper) const {
-  const std::array<int, 3> block = lower < upper ? std::array<int, 3>{lower, lower, upper}
-                                                 : std::array<int, 3>{upper, lower, lower};
+  const std::array<int, 3> block =
+      lower < upper ? std::array<int, 3>{lower, lower, upper} : std::array<int, 3>{upper, lower, lower};
   return allowed(invariant_count(block));
 }
 
@@ -255,7 +260,8 @@ bool ModeSymmetry::overtones_couple(int first, int second) const {
 }
 
 std::vector<Eigen::MatrixXd> normal_coordinate_operations(const PointGroupResult& group,
-                                                          const Eigen::MatrixXd& modes, CoordinateFrame frame) {
+                                                          const Eigen::MatrixXd& modes,
+                                                          CoordinateFrame frame) {
   std::vector<Eigen::MatrixXd> operations;
   for (int g = 0; g < group.group.order(); ++g)
     operations.push_back(modes.transpose() * apply_operation(group, g, modes, frame));

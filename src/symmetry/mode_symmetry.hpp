@@ -173,7 +173,8 @@ class ModeSymmetry {
 
 // R(g) = Lᵀ·D(g)·L for every operation, on the columns of modes (3N × M) in the frame given.
 std::vector<Eigen::MatrixXd> normal_coordinate_operations(const PointGroupResult& group,
-                                                          const Eigen::MatrixXd& modes, CoordinateFrame frame);
+                                                          const Eigen::MatrixXd& modes,
+                                                          CoordinateFrame frame);
 
 // ---- Geometry side: the vibrational representation and operations on 3N vectors -----
 

@@ -527,7 +527,8 @@ int checked_axis_order(PointGroupFamily family, int axis_order, int linear_axis_
 // The operations of the finite group generated for the family, named and decorated, in
 // textbook class order (operations within a class by their power), and the classes.
 void build_operations(PointGroupFamily finite_family, int n, PointGroup& pg) {
-  const FiniteGroup raw = FiniteGroup::generated_by(generators_for(finite_family, n), {}, kExactTolerance, 2000);
+  const FiniteGroup raw =
+      FiniteGroup::generated_by(generators_for(finite_family, n), {}, kExactTolerance, 2000);
   std::vector<OperationInfo> info;
   for (int a = 0; a < raw.order(); ++a) info.push_back(analyze_operation(raw.matrix(a)));
   const auto raw_classes = raw.conjugacy_classes();
@@ -540,7 +541,8 @@ void build_operations(PointGroupFamily finite_family, int n, PointGroup& pg) {
     });
   std::stable_sort(sorted_classes.begin(), sorted_classes.end(),
                    [&](const std::vector<int>& a, const std::vector<int>& b) {
-                     return class_key(finite_family, info[a.front()]) < class_key(finite_family, info[b.front()]);
+                     return class_key(finite_family, info[a.front()]) <
+                            class_key(finite_family, info[b.front()]);
                    });
 
   for (std::size_t c = 0; c < sorted_classes.size(); ++c) {
@@ -620,9 +622,11 @@ std::vector<RawIrrep> real_species(const std::vector<std::vector<std::complex<do
           break;
         }
       }
-      if (irrep.rows.size() != 2) throw Error("internal: complex irreducible character without its conjugate");
+      if (irrep.rows.size() != 2)
+        throw Error("internal: complex irreducible character without its conjugate");
     }
-    for (const auto& value : complex_table[a]) irrep.characters.push_back(irrep.pair ? 2.0 * value.real() : value.real());
+    for (const auto& value : complex_table[a])
+      irrep.characters.push_back(irrep.pair ? 2.0 * value.real() : value.real());
     irrep.dimension = static_cast<int>(std::lround(irrep.characters[0]));
     real_irreps.push_back(irrep);
   }
@@ -636,7 +640,8 @@ struct NamedOperations {
   int cubic_reference = -1;                 // C4 (O, Oh), S4 (Td), C5 (I, Ih)
 };
 
-NamedOperations named_operations(const PointGroup& pg, const FiniteGroup& group, PointGroupFamily finite_family) {
+NamedOperations named_operations(const PointGroup& pg, const FiniteGroup& group,
+                                 PointGroupFamily finite_family) {
   auto find_op = [&](const Eigen::Matrix3d& m) { return group.find(m, kExactTolerance); };
   const double turn = 2.0 * units::pi;
   NamedOperations named;
@@ -649,7 +654,8 @@ NamedOperations named_operations(const PointGroup& pg, const FiniteGroup& group,
     if (op.axis.isZero() || !parallel(op.axis, kZ)) continue;
     OperationInfo i = analyze_operation(op.matrix);
     if (op.proper) proper_order = std::max(proper_order, i.m);
-    if (!op.proper && i.kind == OperationKind::ImproperRotation) improper_order = std::max(improper_order, i.m);
+    if (!op.proper && i.kind == OperationKind::ImproperRotation)
+      improper_order = std::max(improper_order, i.m);
   }
   if (is_axial(finite_family)) {
     if (named.inversion < 0 && improper_order > proper_order) {
@@ -754,7 +760,8 @@ std::vector<int> textbook_order(const std::vector<LabelParts>& parts, bool linea
     if (linear)
       return std::make_tuple(px, x.lambda, -x.sigma_sign, x.number, x.letter) <
              std::make_tuple(py, y.lambda, -y.sigma_sign, y.number, y.letter);
-    return std::make_tuple(px, letter_rank(x.letter), x.number) < std::make_tuple(py, letter_rank(y.letter), y.number);
+    return std::make_tuple(px, letter_rank(x.letter), x.number) <
+           std::make_tuple(py, letter_rank(y.letter), y.number);
   });
   return sequence;
 }
@@ -805,7 +812,8 @@ void cartesian_functions(const PointGroup& pg, const std::vector<int>& class_of,
                                                                    "2z²−x²−y²", "x²−y²", "xy", "xz", "yz"};
   constexpr double kMembership = 1e-8;
   const int order = pg.order();
-  const double weight = (irrep.complex_pair ? irrep.dimension / 2 : irrep.dimension) / static_cast<double>(order);
+  const double weight =
+      (irrep.complex_pair ? irrep.dimension / 2 : irrep.dimension) / static_cast<double>(order);
   Eigen::Matrix3d vector_projector = Eigen::Matrix3d::Zero(), axial_projector = Eigen::Matrix3d::Zero();
   for (int g = 0; g < order; ++g) {
     const Eigen::Matrix3d& r = pg.operations[g].matrix;
@@ -863,7 +871,8 @@ void build_character_table(PointGroupFamily finite_family, int n, PointGroup& pg
   for (std::size_t a = 0; a < parts.size(); ++a) {
     if (parts[a].letter != "E" || !is_axial(finite_family)) continue;
     int same = 0;
-    for (std::size_t b = 0; b < parts.size(); ++b) same += parts[b].letter == "E" && parts[b].parity == parts[a].parity;
+    for (std::size_t b = 0; b < parts.size(); ++b)
+      same += parts[b].letter == "E" && parts[b].parity == parts[a].parity;
     if (same < 2 && !pg.linear) parts[a].number = 0;
   }
   for (int a : textbook_order(parts, pg.linear)) {

@@ -8,9 +8,9 @@
 #include <vector>
 
 #include "anharmonic/force_constants.hpp"
-#include "symmetry/mode_symmetry.hpp"
 #include "core/units.hpp"
 #include "harmonic/harmonic.hpp"
+#include "symmetry/mode_symmetry.hpp"
 
 namespace overtone::testing {
 

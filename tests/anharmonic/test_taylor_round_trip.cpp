@@ -8,8 +8,8 @@
 #include "anharmonic/force_constants.hpp"
 #include "anharmonic/taylor_export.hpp"
 #include "anharmonic/vpt2.hpp"
-#include "support/molecule_helpers.hpp"
 #include "potential/taylor_expansion_potential.hpp"
+#include "support/molecule_helpers.hpp"
 
 namespace overtone {
 namespace {

@@ -7,8 +7,8 @@
 #include "core/error.hpp"
 #include "core/units.hpp"
 #include "families/family_types.hpp"
-#include "support/model_systems.hpp"
 #include "families/periodic_orbits.hpp"
+#include "support/model_systems.hpp"
 
 namespace overtone {
 namespace {
@@ -94,8 +94,9 @@ TEST(FamilyTypes, HenonHeilesOrbitsKeepTheirPredictedSymmetry) {
 
 TEST(FamilyTypes, HenonHeilesMirrorFamilyEscapesAtTheSaddleEnergy) {
   const HenonHeiles system;
-  const FamilyEnumeration enumeration = enumerate_families(
-      blocks_by_frequency(system.harmonic_angular_frequencies(), system.units()), henon_heiles_symmetry(), system.units());
+  const FamilyEnumeration enumeration =
+      enumerate_families(blocks_by_frequency(system.harmonic_angular_frequencies(), system.units()),
+                         henon_heiles_symmetry(), system.units());
   ContinuationOptions options;
   options.energy_max = 0.2;
   int escaped = 0;
@@ -115,8 +116,9 @@ TEST(FamilyTypes, HenonHeilesMirrorFamilyEscapesAtTheSaddleEnergy) {
 
 TEST(FamilyTypes, InterpolatedAndDirectVariationalEquationsAgree) {
   const HenonHeiles system;
-  const FamilyEnumeration enumeration = enumerate_families(
-      blocks_by_frequency(system.harmonic_angular_frequencies(), system.units()), henon_heiles_symmetry(), system.units());
+  const FamilyEnumeration enumeration =
+      enumerate_families(blocks_by_frequency(system.harmonic_angular_frequencies(), system.units()),
+                         henon_heiles_symmetry(), system.units());
   ContinuationOptions interpolated;
   interpolated.energy_max = 0.14;  // beyond the standing family's loss of stability near 0.13
   ContinuationOptions direct = interpolated;

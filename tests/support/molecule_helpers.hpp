@@ -6,7 +6,6 @@
 #include <string>
 #include <vector>
 
-#include "symmetry/mode_symmetry.hpp"
 #include "harmonic/harmonic.hpp"
 #include "molecule/read_molecule.hpp"
 #include "potential/potential.hpp"

@@ -277,10 +277,11 @@ TEST(ModeSymmetry, RejectsMismatchedHarmonicData) {
   EXPECT_THROW(assign_mode_species(water.group, water.harmonic, bad), Error);
 }
 
-
 // ---- The model on the normal coordinates (ModeSymmetry) ----------------------------------
 
-ModeSymmetry model_of(const Analysis& a) { return mode_symmetry(a.group, a.species, a.harmonic.mass_weighted_modes); }
+ModeSymmetry model_of(const Analysis& a) {
+  return mode_symmetry(a.group, a.species, a.harmonic.mass_weighted_modes);
+}
 
 int set_of_species(const ModeSymmetry& model, const std::string& species) {
   for (int s = 0; s < model.set_count(); ++s)
