@@ -43,9 +43,11 @@ void replace_mode_vector(HarmonicResult& harmonic, Eigen::Index k,
                          const Eigen::VectorXd& mass_weighted_mode) {
   if (k < 0 || k >= harmonic.mass_weighted_modes.cols() ||
       mass_weighted_mode.size() != harmonic.mass_weighted_modes.rows())
-    throw Error(fmt::format(
-        "mode {} with a vector of {} entries does not fit a harmonic result with {} modes of {}", k,
-        mass_weighted_mode.size(), harmonic.mass_weighted_modes.cols(), harmonic.mass_weighted_modes.rows()));
+    throw Error(
+        fmt::format("a mode vector of {} entries for mode index {} does not fit a harmonic result with {} "
+                    "modes of {} entries",
+                    mass_weighted_mode.size(), k, harmonic.mass_weighted_modes.cols(),
+                    harmonic.mass_weighted_modes.rows()));
   harmonic.mass_weighted_modes.col(k) = mass_weighted_mode;
   update_mode_properties(harmonic, k, inverse_sqrt_masses(harmonic.masses_da));
 }

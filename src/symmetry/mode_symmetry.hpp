@@ -51,7 +51,8 @@ inline constexpr double degeneracy_tolerance_cm1 = 0.5;
 inline constexpr double multiplicity_tolerance = 1e-3;
 
 // A multiplicity computed in floating point: its nearest integer, and whether the value is
-// that integer within multiplicity_tolerance (the only integer test of the program).
+// that integer within multiplicity_tolerance: the one integer test of multiplicities and
+// fixed-space dimensions.
 struct Multiplicity {
   int count = 0;
   bool integral = true;
