@@ -108,33 +108,6 @@ void validate(const ForceConstantOptions& options) {
 namespace detail {
 
 // ---------------------------------------------------------------------------------------
-// Normal-coordinate frame
-
-NormalCoordinateFrame::NormalCoordinateFrame(const HarmonicResult& harmonic)
-    : reference(harmonic.coordinates_angstrom), frequencies_cm1(harmonic.frequencies_cm1) {
-  const Eigen::Index n = harmonic.mass_weighted_modes.rows();
-  const Eigen::Index m = harmonic.mass_weighted_modes.cols();
-  to_cartesian.resize(n, m);
-  for (Eigen::Index k = 0; k < m; ++k) {
-    // Q_k = q_k sqrt(ħ/ω_k) with ω_k = sqrt(λ_k) in internal units.
-    const double omega = std::sqrt(std::abs(harmonic.eigenvalues[k]));
-    const double length_per_q = std::sqrt(units::hbar_internal / omega);
-    for (Eigen::Index r = 0; r < n; ++r)
-      to_cartesian(r, k) =
-          harmonic.mass_weighted_modes(r, k) * length_per_q / std::sqrt(harmonic.masses_da[r / 3]);
-  }
-}
-
-Eigen::VectorXd NormalCoordinateFrame::gradient_q(const Eigen::VectorXd& cartesian_gradient) const {
-  return units::cm1_per_kcal_mol * (to_cartesian.transpose() * cartesian_gradient);
-}
-
-Eigen::MatrixXd NormalCoordinateFrame::hessian_q(const Eigen::MatrixXd& cartesian_hessian) const {
-  Eigen::MatrixXd h = units::cm1_per_kcal_mol * (to_cartesian.transpose() * cartesian_hessian * to_cartesian);
-  return 0.5 * (h + h.transpose());
-}
-
-// ---------------------------------------------------------------------------------------
 // Symmetry tests and group averaging
 
 namespace {
@@ -157,7 +130,7 @@ class InvariantOverlap {
       : symmetry_(symmetry),
         one_dimensional_(symmetry.mode_count(), false),
         // skipped terms are then below 24·(1e-6)² ≪ vanishing_overlap
-        within_sets_only_(symmetry.representation_error <= 1e-6) {
+        within_sets_only_(symmetry.representation_error() <= 1e-6) {
     for (const auto& members : symmetry.sets())
       if (members.size() == 1) one_dimensional_[static_cast<std::size_t>(members.front())] = true;
   }
@@ -170,7 +143,7 @@ class InvariantOverlap {
       all_one_dimensional = all_one_dimensional && one_dimensional_[static_cast<std::size_t>(index)];
     double total = 0.0;
     if (all_one_dimensional) {
-      for (const auto& r : symmetry_.operations) {
+      for (const auto& r : symmetry_.operations()) {
         double product = 1.0;
         for (int index : indices) product *= r(index, index);
         total += product;
@@ -186,7 +159,7 @@ class InvariantOverlap {
     std::array<std::array<int, Rank>, most_orderings> orderings{};
     std::size_t ordering_count = 0;
     std::array<int, Rank> current = indices;
-    const auto& set_of = symmetry_.degenerate_set;
+    const auto& set_of = symmetry_.degenerate_set();
     auto keeps_sets = [&](const std::array<int, Rank>& ordering) {
       for (std::size_t m = 0; m < Rank; ++m)
         if (set_of[static_cast<std::size_t>(ordering[m])] != set_of[static_cast<std::size_t>(indices[m])])
@@ -201,7 +174,7 @@ class InvariantOverlap {
       ++ordering_count;
     } while (std::next_permutation(current.begin(), current.end()));
     std::array<std::array<double, Rank>, Rank> entries{};  // R(g) at (indices[a], indices[b])
-    for (const auto& r : symmetry_.operations) {
+    for (const auto& r : symmetry_.operations()) {
       for (std::size_t a = 0; a < Rank; ++a)
         for (std::size_t b = 0; b < Rank; ++b) entries[a][b] = r(indices[a], indices[b]);
       for (std::size_t t = 0; t < ordering_count; ++t) {
@@ -259,7 +232,7 @@ double average_block(const ModeSymmetry& symmetry, const std::array<std::vector<
   for (std::size_t a = Rank - 1; a-- > 0;) stride[a] = stride[a + 1] * static_cast<std::size_t>(sizes[a + 1]);
   std::vector<double> current(total), next(total);
   std::vector<double> set_block;  // R(g) on the modes of one axis, row-major (to, from)
-  for (const auto& r : symmetry.operations) {
+  for (const auto& r : symmetry.operations()) {
     current = block;
     for (std::size_t a = 0; a < Rank; ++a) {
       std::fill(next.begin(), next.end(), 0.0);
@@ -295,77 +268,14 @@ double average_block(const ModeSymmetry& symmetry, const std::array<std::vector<
   return change;
 }
 
-// How many independent invariant symmetric tensors a block of degenerate sets carries:
-// the multiplicity of the trivial representation in ⊗_s Sym^{n_s}(set s), with n_s how
-// often set s occurs in the block. It is the sum of InvariantOverlap over the block's
-// constants (the trace of the group average on the block), each term ≥ 0, so a block
-// with none has every constant forbidden — found from |G| products per block instead of
-// a zero test per constant. Characters of symmetric powers come from the power sums
-// p_k = tr(R_s(g)^k) (cycle index of the symmetric group).
-class BlockInvariants {
- public:
-  explicit BlockInvariants(const ModeSymmetry& symmetry) : order_(symmetry.order()) {
-    for (const auto& members : symmetry.sets()) {
-      const auto d = static_cast<Eigen::Index>(members.size());
-      std::vector<std::array<double, 4>> per_operation;
-      for (const auto& r : symmetry.operations) {
-        Eigen::MatrixXd block(d, d);
-        for (Eigen::Index a = 0; a < d; ++a)
-          for (Eigen::Index b = 0; b < d; ++b)
-            block(a, b) = r(members[static_cast<std::size_t>(a)], members[static_cast<std::size_t>(b)]);
-        std::array<double, 4> power_sums{};
-        Eigen::MatrixXd power = block;
-        for (std::size_t k = 0; k < 4; ++k) {
-          if (k > 0) power = (power * block).eval();
-          power_sums[k] = power.trace();
-        }
-        per_operation.push_back(power_sums);
-      }
-      power_sums_.push_back(std::move(per_operation));
-    }
-  }
-
-  // For set ids in ascending order.
-  template <std::size_t Rank>
-  double count(const std::array<int, Rank>& sorted_sets) const {
-    double total = 0.0;
-    for (std::size_t g = 0; g < order_; ++g) {
-      double product = 1.0;
-      for (std::size_t first = 0; first < Rank;) {
-        std::size_t last = first + 1;
-        while (last < Rank && sorted_sets[last] == sorted_sets[first]) ++last;
-        product *= symmetric_power_character(power_sums_[static_cast<std::size_t>(sorted_sets[first])][g],
-                                             static_cast<int>(last - first));
-        first = last;
-      }
-      total += product;
-    }
-    return total / static_cast<double>(order_);
-  }
-
- private:
-  static double symmetric_power_character(const std::array<double, 4>& p, int n) {
-    switch (n) {
-      case 1:
-        return p[0];
-      case 2:
-        return (p[0] * p[0] + p[1]) / 2.0;
-      case 3:
-        return (p[0] * p[0] * p[0] + 3.0 * p[0] * p[1] + 2.0 * p[2]) / 6.0;
-      default:
-        return (std::pow(p[0], 4) + 6.0 * p[0] * p[0] * p[1] + 3.0 * p[1] * p[1] + 8.0 * p[0] * p[2] +
-                6.0 * p[3]) /
-               24.0;
-    }
-  }
-
-  std::size_t order_;
-  std::vector<std::vector<std::array<double, 4>>> power_sums_;  // [set][operation]: p_1 … p_4
-};
-
-// The block count above decides "all forbidden" only when the matrices are this close to
-// a true representation: then the count is an integer to about this and each constant's
-// overlap is far below vanishing_overlap. Otherwise every constant is tested on its own.
+// The number of invariants of a block of degenerate sets (ModeSymmetry::invariant_count,
+// the multiplicity of the trivial representation in ⊗_s Sym^{n_s}(set s)) is the sum of
+// InvariantOverlap over the block's constants (the trace of the group average on the
+// block), each term ≥ 0, so a block with none has every constant forbidden — found from
+// |G| products per block instead of a zero test per constant. That decides "all forbidden"
+// only when the matrices are this close to a true representation: then the count is an
+// integer to about this and each constant's overlap is far below vanishing_overlap.
+// Otherwise every constant is tested on its own.
 constexpr double exact_representation = 1e-8;
 
 // The unique constants of a block (sorted set ids): one mode per position from its set,
@@ -400,11 +310,10 @@ std::vector<std::array<int, Rank>> block_members(const std::vector<std::vector<i
 // largest magnitude: the average is zero there up to round-off) and counts the forbidden.
 template <std::size_t Rank, class Has, class Get, class Set>
 double symmetrize_and_zero_block(const ModeSymmetry& symmetry, const std::vector<std::vector<int>>& sets,
-                                 const InvariantOverlap& overlap, const BlockInvariants& invariants,
-                                 const std::array<int, Rank>& sorted_sets, Has has, Get get, Set set,
-                                 std::size_t& forbidden) {
-  const bool none_allowed =
-      symmetry.representation_error <= exact_representation && invariants.count(sorted_sets) < 0.5;
+                                 const InvariantOverlap& overlap, const std::array<int, Rank>& sorted_sets,
+                                 Has has, Get get, Set set, std::size_t& forbidden) {
+  const bool none_allowed = symmetry.representation_error() <= exact_representation &&
+                            as_multiplicity(symmetry.invariant_count(sorted_sets)).count == 0;
   std::vector<std::array<int, Rank>> members = block_members(sets, sorted_sets);
   const std::size_t member_count = members.size();
   members.erase(std::remove_if(members.begin(), members.end(), [&](const auto& x) { return !has(x); }),
@@ -438,53 +347,19 @@ bool cubic_must_vanish(const ModeSymmetry& symmetry, int i, int j, int k) {
   return std::abs(InvariantOverlap(symmetry)(std::array<int, 3>{i, j, k})) < vanishing_overlap;
 }
 
-bool quartic_must_vanish(const ModeSymmetry& symmetry, int i, int j, int k, int l) {
-  return std::abs(InvariantOverlap(symmetry)(std::array<int, 4>{i, j, k, l})) < vanishing_overlap;
-}
-
-double symmetrize_over_group(ForceConstantTensors& constants, const ModeSymmetry& symmetry) {
-  if (!symmetry.has_group()) return 0.0;
-  const auto sets = symmetry.sets();
-  const int set_count = static_cast<int>(sets.size());
-  double change = 0.0;
-  auto get3 = [&](const std::array<int, 3>& x) { return constants.cubic(x[0], x[1], x[2]); };
-  auto put3 = [&](const std::array<int, 3>& x, double v) { constants.set_cubic(x[0], x[1], x[2], v); };
-  for (int a = 0; a < set_count; ++a)
-    for (int b = a; b < set_count; ++b)
-      for (int c = b; c < set_count; ++c)
-        change = std::max(change, average_block<3>(symmetry, {sets[a], sets[b], sets[c]}, get3, put3));
-  auto get4 = [&](const std::array<int, 4>& x) { return constants.quartic(x[0], x[1], x[2], x[3]); };
-  auto put4 = [&](const std::array<int, 4>& x, double v) {
-    constants.set_quartic(x[0], x[1], x[2], x[3], v);
-  };
-  for (int a = 0; a < set_count; ++a)
-    for (int b = a; b < set_count; ++b)
-      for (int c = b; c < set_count; ++c)
-        for (int d = c; d < set_count; ++d) {
-          const auto members = block_members<4>(sets, {a, b, c, d});
-          const bool complete = std::all_of(members.begin(), members.end(), [&](const auto& x) {
-            return constants.has_quartic(x[0], x[1], x[2], x[3]);
-          });
-          if (complete)
-            change = std::max(change,
-                              average_block<4>(symmetry, {sets[a], sets[b], sets[c], sets[d]}, get4, put4));
-        }
-  return change;
-}
-
 namespace {
 
 // The stage's group average and zeroing, block by block (blocks are disjoint, so this is
-// the same as averaging everything and then zeroing): equivalent to symmetrize_over_group
-// followed by the zero test of every cubic and computed quartic constant, but blocks
-// without invariants — most of them for large molecules — skip both the per-constant
-// tests and the average. Returns the largest change made by the average.
+// the same as averaging everything over the group and then zeroing every cubic and
+// computed quartic constant that symmetry forbids), but blocks without invariants — most
+// of them for large molecules — skip both the per-constant tests and the average. A
+// quartic block is averaged only when all its constants were computed. Returns the
+// largest change made by the average.
 double symmetrize_and_zero(ForceConstantTensors& constants, const ModeSymmetry& symmetry,
                            std::size_t& forbidden_cubic, std::size_t& forbidden_quartic) {
   const auto sets = symmetry.sets();
   const int set_count = static_cast<int>(sets.size());
   const InvariantOverlap overlap(symmetry);
-  const BlockInvariants invariants(symmetry);
   double change = 0.0;
   auto has3 = [](const std::array<int, 3>&) { return true; };
   auto get3 = [&](const std::array<int, 3>& x) { return constants.cubic(x[0], x[1], x[2]); };
@@ -492,8 +367,8 @@ double symmetrize_and_zero(ForceConstantTensors& constants, const ModeSymmetry& 
   for (int a = 0; a < set_count; ++a)
     for (int b = a; b < set_count; ++b)
       for (int c = b; c < set_count; ++c)
-        change = std::max(change, symmetrize_and_zero_block<3>(symmetry, sets, overlap, invariants, {a, b, c},
-                                                               has3, get3, put3, forbidden_cubic));
+        change = std::max(change, symmetrize_and_zero_block<3>(symmetry, sets, overlap, {a, b, c}, has3, get3,
+                                                               put3, forbidden_cubic));
   auto has4 = [&](const std::array<int, 4>& x) { return constants.has_quartic(x[0], x[1], x[2], x[3]); };
   auto get4 = [&](const std::array<int, 4>& x) { return constants.quartic(x[0], x[1], x[2], x[3]); };
   auto put4 = [&](const std::array<int, 4>& x, double v) {
@@ -503,9 +378,8 @@ double symmetrize_and_zero(ForceConstantTensors& constants, const ModeSymmetry& 
     for (int b = a; b < set_count; ++b)
       for (int c = b; c < set_count; ++c)
         for (int d = c; d < set_count; ++d)
-          change =
-              std::max(change, symmetrize_and_zero_block<4>(symmetry, sets, overlap, invariants, {a, b, c, d},
-                                                            has4, get4, put4, forbidden_quartic));
+          change = std::max(change, symmetrize_and_zero_block<4>(symmetry, sets, overlap, {a, b, c, d}, has4,
+                                                                 get4, put4, forbidden_quartic));
   return change;
 }
 
@@ -743,34 +617,21 @@ struct Estimate {
   double spread() const { return high - low; }
 };
 
-// Operations with the entries between different sets set to zero and nondegenerate
-// diagonal entries snapped to ±1, so that reused points are exact images.
+// Operations exactly block-diagonal over the sets, with nondegenerate diagonal entries
+// snapped to ±1, so that reused points are exact images.
 std::vector<Eigen::MatrixXd> cleaned_operations(const ModeSymmetry& symmetry) {
-  std::vector<Eigen::MatrixXd> result = symmetry.operations;
-  const auto& set_of = symmetry.degenerate_set;
-  const auto sets = symmetry.sets();
-  for (auto& r : result) {
-    for (Eigen::Index i = 0; i < r.rows(); ++i)
-      for (Eigen::Index j = 0; j < r.cols(); ++j)
-        if (set_of[static_cast<std::size_t>(i)] != set_of[static_cast<std::size_t>(j)]) r(i, j) = 0.0;
-    for (const auto& members : sets)
+  std::vector<Eigen::MatrixXd> result = symmetry.block_operations();
+  for (auto& r : result)
+    for (const auto& members : symmetry.sets())
       if (members.size() == 1)
         r(members.front(), members.front()) = r(members.front(), members.front()) < 0.0 ? -1.0 : 1.0;
-  }
   return result;
 }
 
-}  // namespace
+// ---------------------------------------------------------------------------------------
+// Phases of the stage
 
-ForceConstantResult compute_force_constants(const Potential& potential, const HarmonicResult& harmonic,
-                                            const ForceConstantOptions& options) {
-  return compute_force_constants(potential, harmonic, trivial_mode_symmetry(harmonic), options);
-}
-
-ForceConstantResult compute_force_constants(const Potential& potential, const HarmonicResult& harmonic,
-                                            const ModeSymmetry& symmetry,
-                                            const ForceConstantOptions& options) {
-  validate(options);
+void check_input(const Potential& potential, const HarmonicResult& harmonic, const ModeSymmetry& symmetry) {
   const int m = static_cast<int>(harmonic.mode_count());
   if (m < 1) throw Error("the harmonic result has no vibrational modes");
   if (harmonic.coordinates_angstrom.size() != static_cast<Eigen::Index>(3 * potential.atom_count()))
@@ -779,62 +640,61 @@ ForceConstantResult compute_force_constants(const Potential& potential, const Ha
                             potential.atom_count()));
   if (symmetry.mode_count() != static_cast<std::size_t>(m))
     throw Error(fmt::format("the mode symmetry covers {} modes, expected {}", symmetry.mode_count(), m));
-  for (const auto& r : symmetry.operations)
-    if (r.rows() != m || r.cols() != m)
-      throw Error(fmt::format("a symmetry matrix on the normal coordinates is {}x{}, expected {}x{}",
-                              r.rows(), r.cols(), m, m));
+}
 
-  ForceConstantResult result;
-  result.frequencies_cm1 = harmonic.frequencies_cm1;
-  result.symmetry = symmetry;
-  result.step = options.step;
-  result.constants = ForceConstantTensors(m);
-  for (int k = 0; k < m; ++k)
+// Status not_a_minimum (with the reason) when a mode is too soft for dimensionless
+// coordinates; true when the stage may go on.
+bool check_minimum(const HarmonicResult& harmonic, const ForceConstantOptions& options,
+                   ForceConstantResult& result) {
+  for (Eigen::Index k = 0; k < harmonic.frequencies_cm1.size(); ++k)
     if (!(harmonic.frequencies_cm1[k] >= options.minimum_frequency_cm1)) {
       result.status = ForceConstantStatus::not_a_minimum;
       result.message = fmt::format(
           "mode {} (ascending order) has harmonic wavenumber {:.2f} cm-1, below the {} cm-1 needed for "
           "dimensionless normal coordinates: the geometry is not a well-defined minimum",
           k + 1, harmonic.frequencies_cm1[k], options.minimum_frequency_cm1);
-      return result;
+      return false;
     }
+  return true;
+}
 
+// Whether the group is used at all, and whether exactly enough to reuse displaced Hessians.
+void decide_symmetry_use(const ModeSymmetry& symmetry, const ForceConstantOptions& options,
+                         ForceConstantResult& result) {
   result.symmetry_used = options.use_symmetry && symmetry.has_group() &&
-                         symmetry.representation_error <= options.symmetry_tolerance;
+                         symmetry.representation_error() <= options.symmetry_tolerance;
   if (options.use_symmetry && symmetry.has_group() && !result.symmetry_used)
     result.warnings.push_back(
         fmt::format("the point group ({}) was not used: its matrices on the normal coordinates deviate by "
                     "{:.2g}, above the "
                     "tolerance {:.2g} (symmetrize the geometry and Hessian first)",
-                    symmetry.point_group.empty() ? "given" : symmetry.point_group,
-                    symmetry.representation_error, options.symmetry_tolerance));
-
+                    symmetry.point_group().empty() ? "given" : symmetry.point_group(),
+                    symmetry.representation_error(), options.symmetry_tolerance));
   result.symmetry_reused_hessians =
-      result.symmetry_used && symmetry.representation_error <= options.reuse_tolerance;
+      result.symmetry_used && symmetry.representation_error() <= options.reuse_tolerance;
   if (result.symmetry_used && !result.symmetry_reused_hessians)
     result.warnings.push_back(fmt::format(
         "displaced Hessians were not reused through the point group: its matrices on the normal coordinates "
         "deviate "
         "by {:.2g}, above {:.2g} (symmetrize the geometry and Hessian before the harmonic analysis)",
-        symmetry.representation_error, options.reuse_tolerance));
-  const detail::NormalCoordinateFrame frame(harmonic);
-  const std::vector<Eigen::MatrixXd> operations = cleaned_operations(symmetry);
-  DisplacedEvaluator evaluator(potential, frame, result.symmetry_reused_hessians ? &operations : nullptr,
-                               options.step);
-  const double h = options.step;
-  result.full_quartic = m <= options.full_quartic_max_modes;
-  result.method = potential.has_analytic_hessian() ? "analytic Hessians"
-                                                   : "Hessians from central differences of gradients";
+        symmetry.representation_error(), options.reuse_tolerance));
+}
 
-  // Pairs of modes displaced together: all of them for the full quartic field, else only
-  // pairs inside one degenerate set.
+// Pairs of modes displaced together: all of them for the full quartic field, else only
+// pairs inside one degenerate set.
+std::vector<std::pair<int, int>> displaced_pairs(const ModeSymmetry& symmetry, bool full_quartic) {
+  const int m = static_cast<int>(symmetry.mode_count());
+  const auto& set_of = symmetry.degenerate_set();
   std::vector<std::pair<int, int>> pairs;
   for (int k = 0; k < m; ++k)
     for (int l = k + 1; l < m; ++l)
-      if (result.full_quartic || symmetry.degenerate_set[static_cast<std::size_t>(k)] ==
-                                     symmetry.degenerate_set[static_cast<std::size_t>(l)])
+      if (full_quartic || set_of[static_cast<std::size_t>(k)] == set_of[static_cast<std::size_t>(l)])
         pairs.emplace_back(k, l);
+  return pairs;
+}
 
+// The reference, ±h along every mode and the four mixed displacements of every pair.
+std::vector<Point> displacement_points(int m, const std::vector<std::pair<int, int>>& pairs) {
   std::vector<Point> points{unit_point(m, {})};
   for (int k = 0; k < m; ++k) {
     points.push_back(unit_point(m, {{k, 1}}));
@@ -843,7 +703,13 @@ ForceConstantResult compute_force_constants(const Potential& potential, const Ha
   for (const auto& [k, l] : pairs)
     for (int sk : {1, -1})
       for (int sl : {1, -1}) points.push_back(unit_point(m, {{k, sk}, {l, sl}}));
+  return points;
+}
 
+// Hessians at every point, and the evaluations this took against the scheme without symmetry.
+void evaluate_points(const Potential& potential, DisplacedEvaluator& evaluator,
+                     const std::vector<Point>& points, ForceConstantResult& result) {
+  const int m = static_cast<int>(result.frequencies_cm1.size());
   const EvaluationCounts before = potential.counts();
   for (const auto& p : points) evaluator.hessian(p);
   const EvaluationCounts after = potential.counts();
@@ -854,91 +720,150 @@ ForceConstantResult compute_force_constants(const Potential& potential, const Ha
   result.hessians_from_symmetry = evaluator.hessians_from_symmetry();
   if (potential.has_analytic_hessian()) {
     result.naive_evaluations.hessians = points.size();
-  } else {
-    std::unordered_set<Point, PointHash> needed;
-    for (const auto& p : points)
-      for (int j = 0; j < m; ++j)
-        for (int s : {1, -1}) {
-          Point q = p;
-          q[static_cast<std::size_t>(j)] += s;
-          needed.insert(std::move(q));
-        }
-    result.naive_evaluations.gradients = needed.size();
+    return;
   }
+  std::unordered_set<Point, PointHash> needed;
+  for (const auto& p : points)
+    for (int j = 0; j < m; ++j)
+      for (int s : {1, -1}) {
+        Point q = p;
+        q[static_cast<std::size_t>(j)] += s;
+        needed.insert(std::move(q));
+      }
+  result.naive_evaluations.gradients = needed.size();
+}
 
-  // Derivative matrices per displaced direction.
-  const Eigen::MatrixXd& center = evaluator.hessian(points.front());
-  std::vector<Eigen::MatrixXd> first(static_cast<std::size_t>(m)), second(static_cast<std::size_t>(m));
+// Differences of the displaced Hessians: along each mode (first and second) and along
+// each displaced pair (mixed second differences, found through a dense M×M table since
+// they are looked up several times for each of the ~M⁴/24 quartic index tuples).
+struct HessianDifferences {
+  std::vector<Eigen::MatrixXd> first, second, mixed;
+  std::vector<int> mixed_of_pair;  // k·M + l → index into mixed, −1 if not displaced
+};
+
+HessianDifferences hessian_differences(DisplacedEvaluator& evaluator, int m, double h,
+                                       const std::vector<std::pair<int, int>>& pairs) {
+  HessianDifferences d;
+  const Eigen::MatrixXd& center = evaluator.hessian(unit_point(m, {}));
+  d.first.resize(static_cast<std::size_t>(m));
+  d.second.resize(static_cast<std::size_t>(m));
   for (int k = 0; k < m; ++k) {
     const Eigen::MatrixXd& plus = evaluator.hessian(unit_point(m, {{k, 1}}));
     const Eigen::MatrixXd& minus = evaluator.hessian(unit_point(m, {{k, -1}}));
-    first[static_cast<std::size_t>(k)] = (plus - minus) / (2.0 * h);
-    second[static_cast<std::size_t>(k)] = (plus - 2.0 * center + minus) / (h * h);
+    d.first[static_cast<std::size_t>(k)] = (plus - minus) / (2.0 * h);
+    d.second[static_cast<std::size_t>(k)] = (plus - 2.0 * center + minus) / (h * h);
   }
-  // Mixed second differences per displaced pair k < l, found through a dense M×M table
-  // (looked up several times for each of the ~M⁴/24 quartic index tuples).
-  std::vector<Eigen::MatrixXd> mixed;
-  std::vector<int> mixed_of_pair(static_cast<std::size_t>(m) * m, -1);
+  d.mixed_of_pair.assign(static_cast<std::size_t>(m) * m, -1);
   for (const auto& [k, l] : pairs) {
-    mixed_of_pair[static_cast<std::size_t>(k) * m + l] = static_cast<int>(mixed.size());
-    mixed.push_back((evaluator.hessian(unit_point(m, {{k, 1}, {l, 1}})) -
-                     evaluator.hessian(unit_point(m, {{k, 1}, {l, -1}})) -
-                     evaluator.hessian(unit_point(m, {{k, -1}, {l, 1}})) +
-                     evaluator.hessian(unit_point(m, {{k, -1}, {l, -1}}))) /
-                    (4.0 * h * h));
+    d.mixed_of_pair[static_cast<std::size_t>(k) * m + l] = static_cast<int>(d.mixed.size());
+    d.mixed.push_back((evaluator.hessian(unit_point(m, {{k, 1}, {l, 1}})) -
+                       evaluator.hessian(unit_point(m, {{k, 1}, {l, -1}})) -
+                       evaluator.hessian(unit_point(m, {{k, -1}, {l, 1}})) +
+                       evaluator.hessian(unit_point(m, {{k, -1}, {l, -1}}))) /
+                      (4.0 * h * h));
   }
+  return d;
+}
 
-  // Cubic: one estimate per distinct index used as the displaced direction.
+// Cubic: one estimate per distinct index used as the displaced direction. Returns the
+// largest spread between the estimates of one constant.
+double cubic_constants(const HessianDifferences& d, ForceConstantTensors& constants) {
+  const int m = constants.mode_count();
   double spread = 0.0;
   for (int i = 0; i < m; ++i)
     for (int j = i; j < m; ++j)
       for (int k = j; k < m; ++k) {
         Estimate e;
         const std::array<int, 3> idx{i, j, k};
-        for (int d = 0; d < 3; ++d) {
-          if (d > 0 && idx[d] == idx[d - 1]) continue;
-          const int a = idx[(d + 1) % 3], b = idx[(d + 2) % 3];
-          e.add(first[static_cast<std::size_t>(idx[d])](a, b));
+        for (int a = 0; a < 3; ++a) {
+          if (a > 0 && idx[a] == idx[a - 1]) continue;
+          e.add(d.first[static_cast<std::size_t>(idx[a])](idx[(a + 1) % 3], idx[(a + 2) % 3]));
         }
         spread = std::max(spread, e.spread());
-        result.constants.set_cubic(i, j, k, e.mean());
+        constants.set_cubic(i, j, k, e.mean());
       }
+  return spread;
+}
 
-  std::size_t computed_quartics = 0;  // unique φ_ijkl
-  // Quartic: one estimate per distinct choice of the two displaced indices (a repeated
-  // index from a single displacement, two different ones from a mixed displacement).
+// The estimates of φ_ijkl (idx sorted): one per distinct choice of the two displaced
+// indices (a repeated index from a single displacement, two different ones from a mixed
+// displacement, where that pair was displaced).
+Estimate quartic_estimate(const HessianDifferences& d, int m, const std::array<int, 4>& idx) {
+  Estimate e;
+  std::array<std::pair<int, int>, 6> used{};
+  int used_count = 0;
+  for (int a = 0; a < 4; ++a)
+    for (int b = a + 1; b < 4; ++b) {
+      const std::pair<int, int> chosen{idx[a], idx[b]};
+      if (std::find(used.begin(), used.begin() + used_count, chosen) != used.begin() + used_count) continue;
+      used[static_cast<std::size_t>(used_count++)] = chosen;
+      std::array<int, 2> rest{};
+      int r = 0;
+      for (int c = 0; c < 4; ++c)
+        if (c != a && c != b) rest[static_cast<std::size_t>(r++)] = idx[c];
+      if (chosen.first == chosen.second) {
+        e.add(d.second[static_cast<std::size_t>(chosen.first)](rest[0], rest[1]));
+      } else if (const int pair = d.mixed_of_pair[static_cast<std::size_t>(chosen.first) * m + chosen.second];
+                 pair >= 0) {
+        e.add(d.mixed[static_cast<std::size_t>(pair)](rest[0], rest[1]));
+      }
+    }
+  return e;
+}
+
+// Quartic constants that some displacement gives; returns how many unique ones, and
+// widens spread by their estimates' spread.
+std::size_t quartic_constants(const HessianDifferences& d, ForceConstantTensors& constants, double& spread) {
+  const int m = constants.mode_count();
+  std::size_t computed = 0;
   for (int i = 0; i < m; ++i)
     for (int j = i; j < m; ++j)
       for (int k = j; k < m; ++k)
         for (int l = k; l < m; ++l) {
-          const std::array<int, 4> idx{i, j, k, l};
-          Estimate e;
-          // Distinct chosen pairs (idx is sorted, so each pair comes as first ≤ second).
-          std::array<std::pair<int, int>, 6> used{};
-          int used_count = 0;
-          for (int a = 0; a < 4; ++a)
-            for (int b = a + 1; b < 4; ++b) {
-              const std::pair<int, int> chosen{idx[a], idx[b]};
-              if (std::find(used.begin(), used.begin() + used_count, chosen) != used.begin() + used_count)
-                continue;
-              used[static_cast<std::size_t>(used_count++)] = chosen;
-              std::array<int, 2> rest{};
-              int r = 0;
-              for (int c = 0; c < 4; ++c)
-                if (c != a && c != b) rest[static_cast<std::size_t>(r++)] = idx[c];
-              if (chosen.first == chosen.second) {
-                e.add(second[static_cast<std::size_t>(chosen.first)](rest[0], rest[1]));
-              } else if (const int pair =
-                             mixed_of_pair[static_cast<std::size_t>(chosen.first) * m + chosen.second];
-                         pair >= 0) {
-                e.add(mixed[static_cast<std::size_t>(pair)](rest[0], rest[1]));
-              }
-            }
+          const Estimate e = quartic_estimate(d, m, {i, j, k, l});
           if (e.count == 0) continue;
           spread = std::max(spread, e.spread());
-          result.constants.set_quartic(i, j, k, l, e.mean());
-          ++computed_quartics;
+          constants.set_quartic(i, j, k, l, e.mean());
+          ++computed;
         }
+  return computed;
+}
+
+}  // namespace
+
+ForceConstantResult compute_force_constants(const Potential& potential, const HarmonicResult& harmonic,
+                                            const ForceConstantOptions& options) {
+  return compute_force_constants(potential, harmonic, ModeSymmetry::without_group(harmonic.frequencies_cm1),
+                                 options);
+}
+
+ForceConstantResult compute_force_constants(const Potential& potential, const HarmonicResult& harmonic,
+                                            const ModeSymmetry& symmetry,
+                                            const ForceConstantOptions& options) {
+  validate(options);
+  check_input(potential, harmonic, symmetry);
+  const int m = static_cast<int>(harmonic.mode_count());
+  ForceConstantResult result;
+  result.frequencies_cm1 = harmonic.frequencies_cm1;
+  result.symmetry = symmetry;
+  result.step = options.step;
+  result.constants = ForceConstantTensors(m);
+  if (!check_minimum(harmonic, options, result)) return result;
+  decide_symmetry_use(symmetry, options, result);
+
+  const detail::NormalCoordinateFrame frame(harmonic);
+  const std::vector<Eigen::MatrixXd> operations = cleaned_operations(symmetry);
+  DisplacedEvaluator evaluator(potential, frame, result.symmetry_reused_hessians ? &operations : nullptr,
+                               options.step);
+  result.full_quartic = m <= options.full_quartic_max_modes;
+  result.method = potential.has_analytic_hessian() ? "analytic Hessians"
+                                                   : "Hessians from central differences of gradients";
+  const std::vector<std::pair<int, int>> pairs = displaced_pairs(symmetry, result.full_quartic);
+  evaluate_points(potential, evaluator, displacement_points(m, pairs), result);
+
+  const HessianDifferences differences = hessian_differences(evaluator, m, options.step, pairs);
+  double spread = cubic_constants(differences, result.constants);
+  const std::size_t computed_quartics = quartic_constants(differences, result.constants, spread);
   result.permutation_spread_cm1 = spread;
 
   if (result.symmetry_used)

@@ -28,9 +28,10 @@
 #include <unordered_map>
 #include <vector>
 
-#include "anharmonic/mode_symmetry.hpp"
 #include "harmonic/harmonic.hpp"
+#include "harmonic/normal_coordinates.hpp"
 #include "potential/potential.hpp"
+#include "symmetry/mode_symmetry.hpp"
 
 namespace overtone {
 
@@ -93,7 +94,7 @@ struct ForceConstantOptions {
   bool use_symmetry = true;
   // The group is used (averaging, zeroing, species) only if its matrices on the normal
   // coordinates are exact to this (largest deviation, dimensionless; see
-  // ModeSymmetry::representation_error). Averaging with matrices this far off moves the
+  // ModeSymmetry::representation_error()). Averaging with matrices this far off moves the
   // constants by about that fraction.
   double symmetry_tolerance = 1e-3;
   // Displaced Hessians are reused through an operation only if the matrices are exact to
@@ -139,7 +140,8 @@ struct ForceConstantResult {
 
 // Force constants of the potential at the harmonic result's geometry (which must be a
 // minimum of that potential). The overload with symmetry uses the group as described in
-// the options; without it, degenerate sets come from trivial_mode_symmetry(harmonic).
+// the options; without it, degenerate sets come from ModeSymmetry::without_group on the
+// harmonic wavenumbers.
 // Throws Error for invalid options, size mismatches between potential, harmonic result and
 // symmetry, or non-finite Hessians/gradients. A non-minimum gives status not_a_minimum.
 ForceConstantResult compute_force_constants(const Potential& potential, const HarmonicResult& harmonic,
@@ -153,28 +155,8 @@ void validate(const ForceConstantOptions& options);
 
 namespace detail {
 
-// Conversion between dimensionless normal coordinates and Cartesians at a harmonic result.
-struct NormalCoordinateFrame {
-  Eigen::VectorXd reference;        // x_eq, Å
-  Eigen::MatrixXd to_cartesian;     // 3N × M: x = x_eq + to_cartesian · q (Å per unit q)
-  Eigen::VectorXd frequencies_cm1;  // ω
-
-  explicit NormalCoordinateFrame(const HarmonicResult& harmonic);
-  Eigen::VectorXd cartesian(const Eigen::VectorXd& q) const { return reference + to_cartesian * q; }
-  // Cartesian gradient (kcal/mol/Å) → ∂V/∂q (cm⁻¹).
-  Eigen::VectorXd gradient_q(const Eigen::VectorXd& cartesian_gradient) const;
-  // Cartesian Hessian (kcal/mol/Å²) → ∂²V/∂q∂q (cm⁻¹).
-  Eigen::MatrixXd hessian_q(const Eigen::MatrixXd& cartesian_hessian) const;
-};
-
-// Group average of the constants over the operations (each R(g) applied to every index),
-// zeroing what must vanish; returns the largest change. Quartic blocks with a constant
-// that was not computed are left as they are.
-double symmetrize_over_group(ForceConstantTensors& constants, const ModeSymmetry& symmetry);
-
-// Whether symmetry forces φ_ijk (or φ_ijkl) to vanish in every invariant tensor.
+// Whether symmetry forces φ_ijk to vanish in every invariant tensor.
 bool cubic_must_vanish(const ModeSymmetry& symmetry, int i, int j, int k);
-bool quartic_must_vanish(const ModeSymmetry& symmetry, int i, int j, int k, int l);
 
 }  // namespace detail
 

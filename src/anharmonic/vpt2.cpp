@@ -7,10 +7,12 @@
 #include <map>
 #include <numeric>
 #include <set>
+#include <tuple>
 
 #include "anharmonic/effective_hamiltonian.hpp"
 #include "core/error.hpp"
 #include "core/units.hpp"
+#include "harmonic/inertia.hpp"
 
 namespace overtone {
 
@@ -117,15 +119,7 @@ void coriolis_constants(const HarmonicResult& harmonic, std::vector<Eigen::Matri
   const Eigen::VectorXd& masses = harmonic.masses_da;
   const Eigen::VectorXd& x = harmonic.coordinates_angstrom;
   const Eigen::Index atoms = masses.size();
-  Eigen::Vector3d center = Eigen::Vector3d::Zero();
-  for (Eigen::Index a = 0; a < atoms; ++a) center += masses[a] * x.segment<3>(3 * a);
-  center /= masses.sum();
-  Eigen::Matrix3d inertia = Eigen::Matrix3d::Zero();
-  for (Eigen::Index a = 0; a < atoms; ++a) {
-    const Eigen::Vector3d r = x.segment<3>(3 * a) - center;
-    inertia += masses[a] * (r.squaredNorm() * Eigen::Matrix3d::Identity() - r * r.transpose());
-  }
-  const Eigen::SelfAdjointEigenSolver<Eigen::Matrix3d> principal(inertia);
+  const Eigen::SelfAdjointEigenSolver<Eigen::Matrix3d> principal(inertia_tensor(x, masses));
   const Eigen::Vector3d moments = principal.eigenvalues();
   const Eigen::Matrix3d axes = principal.eigenvectors();
   // A moment this small relative to the largest is the axis of a linear molecule.
@@ -269,194 +263,160 @@ struct Sublevel {
   Eigen::MatrixXd vectors;  // columns in the group's state basis
 };
 
-}  // namespace
+// ---------------------------------------------------------------------------------------
+// Phases of run_vpt2
 
-Vpt2Result run_vpt2(const ForceConstantResult& force_constants, const HarmonicResult& harmonic,
-                    const Vpt2Options& options) {
-  validate(options);
-  if (!force_constants.ok())
-    throw Error("vpt2 needs force constants with status ok, got " + to_string(force_constants.status) + ": " +
-                force_constants.message);
-  const int m = static_cast<int>(force_constants.mode_count());
-  if (static_cast<int>(harmonic.mode_count()) != m)
-    throw Error(fmt::format("the force constants are for {} modes but the harmonic result has {}", m,
-                            harmonic.mode_count()));
-  const ForceConstantTensors& constants = force_constants.constants;
-  const ModeSymmetry& symmetry = force_constants.symmetry;
-  const Eigen::VectorXd omega = force_constants.frequencies_cm1;
-  const bool group_known = force_constants.symmetry_used && symmetry.has_group();
+// Quanta per set, from (set, count) entries.
+std::vector<int> set_quanta(int set_count, std::initializer_list<std::pair<int, int>> entries) {
+  std::vector<int> v(static_cast<std::size_t>(set_count), 0);
+  for (const auto& [s, count] : entries) v[static_cast<std::size_t>(s)] += count;
+  return v;
+}
 
-  Vpt2Result result;
-  result.harmonic_cm1 = omega;
-  result.point_group = symmetry.point_group;
-  result.set_of_mode = symmetry.degenerate_set;
-  for (const auto& members : symmetry.sets()) {
+// What the phases share.
+struct Vpt2Context {
+  const ForceConstantTensors& constants;
+  const ModeSymmetry& symmetry;
+  const Vpt2Options& options;
+  Eigen::VectorXd omega;
+  bool group_known;  // the group is used for rules and species
+  int m;
+  const std::vector<DegenerateSet>& sets;
+  detail::AnharmonicOperator op;
+  // R(g) exactly block-diagonal over the sets, for the action on oscillator states.
+  std::vector<Eigen::MatrixXd> block_operations;
+
+  int set_count() const { return static_cast<int>(sets.size()); }
+  std::vector<int> unit(std::initializer_list<std::pair<int, int>> entries) const {
+    return set_quanta(set_count(), entries);
+  }
+};
+
+std::vector<DegenerateSet> degenerate_sets(const ModeSymmetry& symmetry, const Eigen::VectorXd& omega) {
+  std::vector<DegenerateSet> sets;
+  for (int s = 0; s < symmetry.set_count(); ++s) {
+    const auto& members = symmetry.sets()[static_cast<std::size_t>(s)];
     DegenerateSet set;
     set.modes = members;
     for (int mode : members) set.harmonic_cm1 += omega[mode] / static_cast<double>(members.size());
-    set.species = symmetry.species.empty() ? "" : symmetry.species[static_cast<std::size_t>(members.front())];
-    result.sets.push_back(set);
+    set.species = symmetry.set_species(s);
+    sets.push_back(set);
   }
-  const int set_count = static_cast<int>(result.sets.size());
-  const auto& sets = result.sets;
+  return sets;
+}
 
-  // Coriolis term.
+// x(Coriolis) between modes of different sets; between degenerate sets the component
+// values depend on the basis within each set and would break the symmetry of the levels,
+// so the set average (the basis-invariant part) is kept and the l-dependent terms neglected.
+void coriolis_terms(const HarmonicResult& harmonic, const Vpt2Context& c, Vpt2Result& result) {
   detail::coriolis_constants(harmonic, result.coriolis_zeta, result.rotational_constants_cm1);
-  result.x_coriolis_cm1 = Eigen::MatrixXd::Zero(m, m);
-  if (options.include_coriolis)
-    for (int i = 0; i < m; ++i)
-      for (int j = 0; j < m; ++j) {
-        if (result.set_of_mode[static_cast<std::size_t>(i)] ==
-            result.set_of_mode[static_cast<std::size_t>(j)])
-          continue;
-        double sum = 0.0;
-        for (int alpha = 0; alpha < 3; ++alpha) {
-          const double z = result.coriolis_zeta[static_cast<std::size_t>(alpha)](i, j);
-          sum += result.rotational_constants_cm1[alpha] * z * z;
-        }
-        result.x_coriolis_cm1(i, j) = sum * (omega[i] / omega[j] + omega[j] / omega[i]);
+  result.x_coriolis_cm1 = Eigen::MatrixXd::Zero(c.m, c.m);
+  if (!c.options.include_coriolis) return;
+  const auto& set_of = result.set_of_mode;
+  for (int i = 0; i < c.m; ++i)
+    for (int j = 0; j < c.m; ++j) {
+      if (set_of[static_cast<std::size_t>(i)] == set_of[static_cast<std::size_t>(j)]) continue;
+      double sum = 0.0;
+      for (int alpha = 0; alpha < 3; ++alpha) {
+        const double z = result.coriolis_zeta[static_cast<std::size_t>(alpha)](i, j);
+        sum += result.rotational_constants_cm1[alpha] * z * z;
       }
-  // Between degenerate sets the component values depend on the basis within each set and
-  // would break the symmetry of the levels; the set average is the basis-invariant part
-  // (the l-dependent Coriolis terms are neglected).
-  if (options.include_coriolis)
-    for (int s = 0; s < set_count; ++s)
-      for (int t = 0; t < set_count; ++t) {
-        const auto& a = sets[static_cast<std::size_t>(s)].modes;
-        const auto& b = sets[static_cast<std::size_t>(t)].modes;
-        if (s == t || (a.size() == 1 && b.size() == 1)) continue;
-        double mean = 0.0;
-        for (int i : a)
-          for (int j : b) mean += result.x_coriolis_cm1(i, j) / static_cast<double>(a.size() * b.size());
-        for (int i : a)
-          for (int j : b) result.x_coriolis_cm1(i, j) = mean;
-      }
-
-  result.x_vibrational_plain_cm1 = detail::anharmonicity_constants(constants, omega);
-  const detail::AnharmonicOperator op(constants, omega);
-
-  // Characters of the sets (and of their squares) under each operation.
-  const std::size_t order = group_known ? symmetry.order() : 1;
-  std::vector<std::vector<double>> chi(static_cast<std::size_t>(set_count)),
-      chi_square(static_cast<std::size_t>(set_count));
-  for (int s = 0; s < set_count; ++s)
-    for (std::size_t g = 0; g < order; ++g) {
-      const Eigen::MatrixXd& r =
-          group_known ? symmetry.operations[g] : Eigen::MatrixXd::Identity(m, m).eval();
-      const Eigen::MatrixXd r2 = r * r;
-      double c = 0.0, c2 = 0.0;
-      for (int mode : sets[static_cast<std::size_t>(s)].modes) {
-        c += r(mode, mode);
-        c2 += r2(mode, mode);
-      }
-      chi[static_cast<std::size_t>(s)].push_back(c);
-      chi_square[static_cast<std::size_t>(s)].push_back(c2);
+      result.x_coriolis_cm1(i, j) = sum * (c.omega[i] / c.omega[j] + c.omega[j] / c.omega[i]);
     }
-  auto symmetric_square = [&](int s, std::size_t g) {
-    const double c = chi[static_cast<std::size_t>(s)][g];
-    return 0.5 * (c * c + chi_square[static_cast<std::size_t>(s)][g]);
-  };
-  auto average = [&](auto f) {
-    double sum = 0.0;
-    for (std::size_t g = 0; g < order; ++g) sum += f(g);
-    return sum / static_cast<double>(order);
-  };
-  constexpr double multiplicity_threshold = 0.5;  // multiplicities are integers
+  for (int s = 0; s < c.set_count(); ++s)
+    for (int t = 0; t < c.set_count(); ++t) {
+      const auto& a = c.sets[static_cast<std::size_t>(s)].modes;
+      const auto& b = c.sets[static_cast<std::size_t>(t)].modes;
+      if (s == t || (a.size() == 1 && b.size() == 1)) continue;
+      double mean = 0.0;
+      for (int i : a)
+        for (int j : b) mean += result.x_coriolis_cm1(i, j) / static_cast<double>(a.size() * b.size());
+      for (int i : a)
+        for (int j : b) result.x_coriolis_cm1(i, j) = mean;
+    }
+}
 
-  auto unit = [&](std::initializer_list<std::pair<int, int>> entries) {
-    std::vector<int> v(static_cast<std::size_t>(set_count), 0);
-    for (const auto& [s, count] : entries) v[static_cast<std::size_t>(s)] += count;
-    return v;
-  };
-  auto largest_singular_value = [](const Eigen::MatrixXd& block) {
-    if (block.size() == 0) return 0.0;
-    return Eigen::JacobiSVD<Eigen::MatrixXd>(block).singularValues()[0];
-  };
-  auto first_order_coupling = [&](const std::vector<int>& lower, const std::vector<int>& upper) {
-    const auto a = manifold_states(lower, sets, m), b = manifold_states(upper, sets, m);
-    Eigen::MatrixXd block(static_cast<Eigen::Index>(a.size()), static_cast<Eigen::Index>(b.size()));
-    for (std::size_t i = 0; i < a.size(); ++i)
-      for (std::size_t j = 0; j < b.size(); ++j)
-        block(static_cast<Eigen::Index>(i), static_cast<Eigen::Index>(j)) = op.cubic_element(a[i], b[j]);
-    return largest_singular_value(block);
-  };
-  auto second_order_coupling = [&](const std::vector<int>& lower, const std::vector<int>& upper) {
-    const auto a = manifold_states(lower, sets, m), b = manifold_states(upper, sets, m);
-    std::set<Quanta> excluded(a.begin(), a.end());
+double largest_singular_value(const Eigen::MatrixXd& block) {
+  if (block.size() == 0) return 0.0;
+  return Eigen::JacobiSVD<Eigen::MatrixXd>(block).singularValues()[0];
+}
+
+// W between two manifolds: the largest singular value of the coupling block, first order
+// (cubic) or second order (quartic plus the Van Vleck term, both manifolds excluded).
+double manifold_coupling(const Vpt2Context& c, const std::vector<int>& lower, const std::vector<int>& upper,
+                         bool first_order) {
+  const auto a = manifold_states(lower, c.sets, c.m), b = manifold_states(upper, c.sets, c.m);
+  std::set<Quanta> excluded;
+  if (!first_order) {
+    excluded.insert(a.begin(), a.end());
     excluded.insert(b.begin(), b.end());
-    Eigen::MatrixXd block(static_cast<Eigen::Index>(a.size()), static_cast<Eigen::Index>(b.size()));
-    for (std::size_t i = 0; i < a.size(); ++i)
-      for (std::size_t j = 0; j < b.size(); ++j)
-        block(static_cast<Eigen::Index>(i), static_cast<Eigen::Index>(j)) =
-            op.quartic_element(a[i], b[j]) + op.second_order(a[i], b[j], excluded);
-    return largest_singular_value(block);
-  };
-  auto fermi_flag = [&](Resonance& r) {
-    r.criterion_value = r.gap_cm1 == 0.0 ? std::numeric_limits<double>::infinity()
-                                         : std::pow(r.coupling_cm1, 4) / std::pow(std::abs(r.gap_cm1), 3);
-    r.flagged = options.treat_resonances && r.criterion_value >= options.fermi_criterion_cm1 &&
-                (r.symmetry_allowed || !options.require_symmetry_allowed);
-  };
+  }
+  Eigen::MatrixXd block(static_cast<Eigen::Index>(a.size()), static_cast<Eigen::Index>(b.size()));
+  for (std::size_t i = 0; i < a.size(); ++i)
+    for (std::size_t j = 0; j < b.size(); ++j)
+      block(static_cast<Eigen::Index>(i), static_cast<Eigen::Index>(j)) =
+          first_order ? c.op.cubic_element(a[i], b[j])
+                      : c.op.quartic_element(a[i], b[j]) + c.op.second_order(a[i], b[j], excluded);
+  return largest_singular_value(block);
+}
 
-  // Resonance candidates.
-  for (int s = 0; s < set_count; ++s)
-    for (int t = 0; t < set_count; ++t) {
-      if (s == t) continue;
-      const double gap = 2.0 * sets[static_cast<std::size_t>(s)].harmonic_cm1 -
-                         sets[static_cast<std::size_t>(t)].harmonic_cm1;
-      if (std::abs(gap) > options.fermi_gap_cm1) continue;
+// Martin's criterion W⁴/|Δ|³ and the flag of a Fermi candidate.
+void flag_fermi(const Vpt2Options& options, Resonance& r) {
+  r.criterion_value = r.gap_cm1 == 0.0 ? std::numeric_limits<double>::infinity()
+                                       : std::pow(r.coupling_cm1, 4) / std::pow(std::abs(r.gap_cm1), 3);
+  r.flagged = options.treat_resonances && r.criterion_value >= options.fermi_criterion_cm1 &&
+              (r.symmetry_allowed || !options.require_symmetry_allowed);
+}
+
+// Fermi type 1 (2ω_s ≈ ω_t), type 2 (ω_s + ω_t ≈ ω_u) and Darling–Dennison (2ω_s ≈ 2ω_t)
+// candidates within their gaps, with couplings, symmetry rule and flags.
+void resonance_candidates(const Vpt2Context& c, Vpt2Result& result) {
+  const int n = c.set_count();
+  auto omega = [&](int s) { return c.sets[static_cast<std::size_t>(s)].harmonic_cm1; };
+  for (int s = 0; s < n; ++s)
+    for (int t = 0; t < n; ++t) {
+      if (s == t || std::abs(2.0 * omega(s) - omega(t)) > c.options.fermi_gap_cm1) continue;
       Resonance r;
       r.kind = ResonanceKind::fermi_1;
-      r.sets = {s, t};
-      r.gap_cm1 = gap;
-      r.coupling_cm1 = first_order_coupling(unit({{s, 2}}), unit({{t, 1}}));
-      r.symmetry_allowed = average([&](std::size_t g) {
-                             return symmetric_square(s, g) * chi[static_cast<std::size_t>(t)][g];
-                           }) > multiplicity_threshold;
-      fermi_flag(r);
+      r.sets = std::vector<int>{s, t};
+      r.gap_cm1 = 2.0 * omega(s) - omega(t);
+      r.coupling_cm1 = manifold_coupling(c, c.unit({{s, 2}}), c.unit({{t, 1}}), true);
+      r.symmetry_allowed = !c.group_known || c.symmetry.overtone_couples(s, t);
+      flag_fermi(c.options, r);
       result.resonances.push_back(r);
     }
-  for (int s = 0; s < set_count; ++s)
-    for (int t = s + 1; t < set_count; ++t)
-      for (int u = 0; u < set_count; ++u) {
-        if (u == s || u == t) continue;
-        const double gap = sets[static_cast<std::size_t>(s)].harmonic_cm1 +
-                           sets[static_cast<std::size_t>(t)].harmonic_cm1 -
-                           sets[static_cast<std::size_t>(u)].harmonic_cm1;
-        if (std::abs(gap) > options.fermi_gap_cm1) continue;
+  for (int s = 0; s < n; ++s)
+    for (int t = s + 1; t < n; ++t)
+      for (int u = 0; u < n; ++u) {
+        if (u == s || u == t || std::abs(omega(s) + omega(t) - omega(u)) > c.options.fermi_gap_cm1) continue;
         Resonance r;
         r.kind = ResonanceKind::fermi_2;
-        r.sets = {s, t, u};
-        r.gap_cm1 = gap;
-        r.coupling_cm1 = first_order_coupling(unit({{s, 1}, {t, 1}}), unit({{u, 1}}));
-        r.symmetry_allowed = average([&](std::size_t g) {
-                               return chi[static_cast<std::size_t>(s)][g] *
-                                      chi[static_cast<std::size_t>(t)][g] *
-                                      chi[static_cast<std::size_t>(u)][g];
-                             }) > multiplicity_threshold;
-        fermi_flag(r);
+        r.sets = std::vector<int>{s, t, u};
+        r.gap_cm1 = omega(s) + omega(t) - omega(u);
+        r.coupling_cm1 = manifold_coupling(c, c.unit({{s, 1}, {t, 1}}), c.unit({{u, 1}}), true);
+        r.symmetry_allowed = !c.group_known || c.symmetry.combination_couples(s, t, u);
+        flag_fermi(c.options, r);
         result.resonances.push_back(r);
       }
-  for (int s = 0; s < set_count; ++s)
-    for (int t = s + 1; t < set_count; ++t) {
-      const double gap = 2.0 * sets[static_cast<std::size_t>(s)].harmonic_cm1 -
-                         2.0 * sets[static_cast<std::size_t>(t)].harmonic_cm1;
-      if (std::abs(gap) > options.darling_dennison_gap_cm1) continue;
+  for (int s = 0; s < n; ++s)
+    for (int t = s + 1; t < n; ++t) {
+      if (std::abs(2.0 * omega(s) - 2.0 * omega(t)) > c.options.darling_dennison_gap_cm1) continue;
       Resonance r;
       r.kind = ResonanceKind::darling_dennison;
-      r.sets = {s, t};
-      r.gap_cm1 = gap;
-      r.coupling_cm1 = second_order_coupling(unit({{s, 2}}), unit({{t, 2}}));
+      r.sets = std::vector<int>{s, t};
+      r.gap_cm1 = 2.0 * omega(s) - 2.0 * omega(t);
+      r.coupling_cm1 = manifold_coupling(c, c.unit({{s, 2}}), c.unit({{t, 2}}), false);
       r.criterion_value = r.coupling_cm1;
-      r.symmetry_allowed = average([&](std::size_t g) {
-                             return symmetric_square(s, g) * symmetric_square(t, g);
-                           }) > multiplicity_threshold;
-      r.flagged = options.treat_resonances && r.coupling_cm1 >= options.darling_dennison_coupling_cm1 &&
-                  (r.symmetry_allowed || !options.require_symmetry_allowed);
+      r.symmetry_allowed = !c.group_known || c.symmetry.overtones_couple(s, t);
+      r.flagged = c.options.treat_resonances && r.coupling_cm1 >= c.options.darling_dennison_coupling_cm1 &&
+                  (r.symmetry_allowed || !c.options.require_symmetry_allowed);
       result.resonances.push_back(r);
     }
+}
 
-  // Deperturbed constants: the flagged Fermi triads (sets a ≤ b, c for ω_a + ω_b ≈ ω_c).
+// Deperturbed constants: the flagged Fermi triads (sets a ≤ b, c for ω_a + ω_b ≈ ω_c)
+// dropped from x.
+void deperturbed_constants(const Vpt2Context& c, Vpt2Result& result) {
   std::set<std::array<int, 3>> resonant_sets;
   for (const auto& r : result.resonances) {
     if (!r.flagged) continue;
@@ -465,60 +425,80 @@ Vpt2Result run_vpt2(const ForceConstantResult& force_constants, const HarmonicRe
       resonant_sets.insert({std::min(r.sets[0], r.sets[1]), std::max(r.sets[0], r.sets[1]), r.sets[2]});
   }
   const auto& set_of = result.set_of_mode;
-  auto resonant = [&](int a, int b, int c) {
+  auto resonant = [&](int a, int b, int k) {
     const int sa = set_of[static_cast<std::size_t>(a)], sb = set_of[static_cast<std::size_t>(b)];
-    return resonant_sets.count({std::min(sa, sb), std::max(sa, sb), set_of[static_cast<std::size_t>(c)]}) > 0;
+    return resonant_sets.count({std::min(sa, sb), std::max(sa, sb), set_of[static_cast<std::size_t>(k)]}) > 0;
   };
   result.x_vibrational_cm1 = resonant_sets.empty()
                                  ? result.x_vibrational_plain_cm1
-                                 : detail::anharmonicity_constants(constants, omega, resonant);
+                                 : detail::anharmonicity_constants(c.constants, c.omega, resonant);
   result.x_cm1 = result.x_vibrational_cm1 + result.x_coriolis_cm1;
+}
 
-  // Moves between manifolds made by the flagged resonances (set-quanta differences).
-  struct Move {
-    std::vector<int> delta;
-    int resonance;
-    bool first_order;
-  };
+// A move between manifolds made by a flagged resonance (set-quanta difference).
+struct Move {
+  std::vector<int> delta;
+  int resonance;
+  bool first_order;
+};
+
+std::vector<Move> flagged_moves(const Vpt2Context& c, const Vpt2Result& result) {
   std::vector<Move> moves;
   for (std::size_t k = 0; k < result.resonances.size(); ++k) {
     const auto& r = result.resonances[k];
     if (!r.flagged) continue;
     if (r.kind == ResonanceKind::fermi_1)
-      moves.push_back({unit({{r.sets[0], 2}, {r.sets[1], -1}}), static_cast<int>(k), true});
+      moves.push_back({c.unit({{r.sets[0], 2}, {r.sets[1], -1}}), static_cast<int>(k), true});
     if (r.kind == ResonanceKind::fermi_2)
-      moves.push_back({unit({{r.sets[0], 1}, {r.sets[1], 1}, {r.sets[2], -1}}), static_cast<int>(k), true});
+      moves.push_back({c.unit({{r.sets[0], 1}, {r.sets[1], 1}, {r.sets[2], -1}}), static_cast<int>(k), true});
     if (r.kind == ResonanceKind::darling_dennison)
-      moves.push_back({unit({{r.sets[0], 2}, {r.sets[1], -2}}), static_cast<int>(k), false});
+      moves.push_back({c.unit({{r.sets[0], 2}, {r.sets[1], -2}}), static_cast<int>(k), false});
   }
-  auto connecting_move = [&](const std::vector<int>& a, const std::vector<int>& b) -> const Move* {
-    for (const auto& move : moves) {
-      bool forward = true, backward = true;
-      for (int s = 0; s < set_count; ++s) {
-        const int d = b[static_cast<std::size_t>(s)] - a[static_cast<std::size_t>(s)];
-        forward = forward && d == move.delta[static_cast<std::size_t>(s)];
-        backward = backward && d == -move.delta[static_cast<std::size_t>(s)];
-      }
-      if (forward || backward) return &move;
+  return moves;
+}
+
+// The move that connects two manifolds (either direction), or none.
+const Move* connecting_move(const std::vector<Move>& moves, const std::vector<int>& a,
+                            const std::vector<int>& b) {
+  for (const auto& move : moves) {
+    bool forward = true, backward = true;
+    for (std::size_t s = 0; s < a.size(); ++s) {
+      const int d = b[s] - a[s];
+      forward = forward && d == move.delta[s];
+      backward = backward && d == -move.delta[s];
     }
-    return nullptr;
-  };
+    if (forward || backward) return &move;
+  }
+  return nullptr;
+}
 
-  // Line-list manifolds: fundamentals, overtones, binary combinations.
-  std::vector<std::pair<std::vector<int>, LevelKind>> wanted;
-  for (int s = 0; s < set_count; ++s) wanted.push_back({unit({{s, 1}}), LevelKind::fundamental});
-  for (int s = 0; s < set_count; ++s) wanted.push_back({unit({{s, 2}}), LevelKind::overtone});
-  for (int s = 0; s < set_count; ++s)
-    for (int t = s + 1; t < set_count; ++t)
-      wanted.push_back({unit({{s, 1}, {t, 1}}), LevelKind::combination});
+// Line-list manifolds: fundamentals, overtones, binary combinations, in report order.
+using WantedManifolds = std::vector<std::pair<std::vector<int>, LevelKind>>;
 
-  // Closure of each wanted manifold under the flagged moves: the groups to diagonalize.
+WantedManifolds line_list_manifolds(const Vpt2Context& c) {
+  WantedManifolds wanted;
+  const int n = c.set_count();
+  for (int s = 0; s < n; ++s) wanted.push_back({c.unit({{s, 1}}), LevelKind::fundamental});
+  for (int s = 0; s < n; ++s) wanted.push_back({c.unit({{s, 2}}), LevelKind::overtone});
+  for (int s = 0; s < n; ++s)
+    for (int t = s + 1; t < n; ++t) wanted.push_back({c.unit({{s, 1}, {t, 1}}), LevelKind::combination});
+  return wanted;
+}
+
+// Manifolds diagonalized together: the closure of each wanted manifold under the flagged
+// moves (merged where closures meet), within the polyad limits.
+struct ResonanceGroup {
+  std::vector<std::vector<int>> manifolds;
+  bool truncated = false;
+};
+
+std::vector<ResonanceGroup> resonance_groups(const Vpt2Context& c, const WantedManifolds& wanted,
+                                             const std::vector<Move>& moves) {
   std::map<std::vector<int>, int> group_of;
-  std::vector<std::vector<std::vector<int>>> groups;
-  std::vector<bool> group_truncated;
+  std::vector<ResonanceGroup> groups;
   auto states_in = [&](const std::vector<std::vector<int>>& manifolds) {
     std::size_t count = 0;
-    for (const auto& v : manifolds) count += manifold_states(v, sets, m).size();
+    for (const auto& v : manifolds) count += manifold_states(v, c.sets, c.m).size();
     return count;
   };
   for (const auto& [seed, kind] : wanted) {
@@ -531,27 +511,27 @@ Vpt2Result run_vpt2(const ForceConstantResult& force_constants, const HarmonicRe
         for (int sign : {1, -1}) {
           std::vector<int> next = current;
           bool valid = true;
-          for (int s = 0; s < set_count; ++s) {
-            next[static_cast<std::size_t>(s)] += sign * move.delta[static_cast<std::size_t>(s)];
-            valid = valid && next[static_cast<std::size_t>(s)] >= 0;
+          for (std::size_t s = 0; s < next.size(); ++s) {
+            next[s] += sign * move.delta[s];
+            valid = valid && next[s] >= 0;
           }
           if (!valid || std::find(members.begin(), members.end(), next) != members.end()) continue;
-          if (total_quanta(next) > options.polyad_max_quanta) {
+          if (total_quanta(next) > c.options.polyad_max_quanta) {
             truncated = true;
             continue;
           }
           if (group_of.count(next)) {
             // Already part of another group (reached from a different seed): merge it in.
-            const int other = group_of[next];
-            for (const auto& v : groups[static_cast<std::size_t>(other)])
+            ResonanceGroup& other = groups[static_cast<std::size_t>(group_of[next])];
+            for (const auto& v : other.manifolds)
               if (std::find(members.begin(), members.end(), v) == members.end()) members.push_back(v);
-            truncated = truncated || group_truncated[static_cast<std::size_t>(other)];
-            for (const auto& v : groups[static_cast<std::size_t>(other)]) group_of.erase(v);
-            groups[static_cast<std::size_t>(other)].clear();
+            truncated = truncated || other.truncated;
+            for (const auto& v : other.manifolds) group_of.erase(v);
+            other.manifolds.clear();
             continue;
           }
           members.push_back(next);
-          if (states_in(members) > static_cast<std::size_t>(options.polyad_max_states)) {
+          if (states_in(members) > static_cast<std::size_t>(c.options.polyad_max_states)) {
             members.pop_back();
             truncated = true;
           }
@@ -559,252 +539,285 @@ Vpt2Result run_vpt2(const ForceConstantResult& force_constants, const HarmonicRe
     }
     const int id = static_cast<int>(groups.size());
     for (const auto& v : members) group_of[v] = id;
-    groups.push_back(members);
-    group_truncated.push_back(truncated);
+    groups.push_back({members, truncated});
   }
+  return groups;
+}
 
-  std::map<std::vector<int>, std::vector<int>> levels_of_manifold;  // line-list levels per manifold
-  for (std::size_t g = 0; g < groups.size(); ++g) {
-    const auto& manifolds = groups[g];
-    if (manifolds.empty()) continue;
-    std::vector<Quanta> states;
-    std::vector<int> manifold_of_state;
-    for (std::size_t v = 0; v < manifolds.size(); ++v)
-      for (const auto& state : manifold_states(manifolds[v], sets, m)) {
-        states.push_back(state);
-        manifold_of_state.push_back(static_cast<int>(v));
-      }
-    const std::set<Quanta> excluded(states.begin(), states.end());
-    const Eigen::Index size = static_cast<Eigen::Index>(states.size());
-    Eigen::MatrixXd h = Eigen::MatrixXd::Zero(size, size);
-    for (Eigen::Index a = 0; a < size; ++a) {
-      h(a, a) = detail::term_value(omega, result.x_cm1, states[static_cast<std::size_t>(a)]);
-      for (Eigen::Index b = a + 1; b < size; ++b) {
-        const int va = manifold_of_state[static_cast<std::size_t>(a)],
-                  vb = manifold_of_state[static_cast<std::size_t>(b)];
-        const Quanta& sa = states[static_cast<std::size_t>(a)];
-        const Quanta& sb = states[static_cast<std::size_t>(b)];
-        double value = 0.0;
-        if (va == vb) {
-          value = op.quartic_element(sa, sb) + op.second_order(sa, sb, excluded);
-        } else if (const Move* move = connecting_move(manifolds[static_cast<std::size_t>(va)],
-                                                      manifolds[static_cast<std::size_t>(vb)])) {
-          value = move->first_order ? op.cubic_element(sa, sb)
-                                    : op.quartic_element(sa, sb) + op.second_order(sa, sb, excluded);
-        }
-        h(a, b) = h(b, a) = value;
-      }
+// One group's component states, the effective Hamiltonian on them and what is derived.
+struct GroupStates {
+  std::vector<Quanta> states;
+  std::vector<int> manifold_of_state;
+  Eigen::MatrixXd h;
+  std::vector<Sublevel> sublevels;
+  std::vector<std::vector<int>> sublevels_of_manifold;
+  std::vector<std::string> species;                 // per sublevel
+  std::vector<std::vector<double>> multiplicities;  // per sublevel; empty without a table
+  std::vector<std::string> tags;                    // per sublevel
+  std::vector<double> corrected;                    // per sublevel, NaN outside a polyad
+  std::vector<std::vector<double>> composition;     // per sublevel: weight of each sublevel
+  std::vector<bool> coupled;                        // per sublevel
+};
+
+// Diagonal from the deperturbed term values; within a manifold the second-order
+// couplings, between manifolds those of the connecting flagged resonance.
+void group_hamiltonian(const Vpt2Context& c, const ResonanceGroup& group, const std::vector<Move>& moves,
+                       const Eigen::MatrixXd& x_cm1, GroupStates& g) {
+  const auto& manifolds = group.manifolds;
+  for (std::size_t v = 0; v < manifolds.size(); ++v)
+    for (const auto& state : manifold_states(manifolds[v], c.sets, c.m)) {
+      g.states.push_back(state);
+      g.manifold_of_state.push_back(static_cast<int>(v));
     }
-
-    // Deperturbed sublevels: each manifold's block alone.
-    std::vector<Sublevel> sublevels;
-    std::vector<std::vector<int>> sublevels_of_manifold(manifolds.size());
-    for (std::size_t v = 0; v < manifolds.size(); ++v) {
-      std::vector<int> rows;
-      for (Eigen::Index a = 0; a < size; ++a)
-        if (manifold_of_state[static_cast<std::size_t>(a)] == static_cast<int>(v))
-          rows.push_back(static_cast<int>(a));
-      Eigen::MatrixXd block(static_cast<Eigen::Index>(rows.size()), static_cast<Eigen::Index>(rows.size()));
-      for (std::size_t i = 0; i < rows.size(); ++i)
-        for (std::size_t j = 0; j < rows.size(); ++j)
-          block(static_cast<Eigen::Index>(i), static_cast<Eigen::Index>(j)) = h(rows[i], rows[j]);
-      const Eigen::SelfAdjointEigenSolver<Eigen::MatrixXd> solver(block);
-      for (const auto& cluster :
-           cluster_eigenvalues(solver.eigenvalues(), options.level_degeneracy_tolerance_cm1)) {
-        Sublevel sub;
-        sub.manifold = static_cast<int>(v);
-        sub.vectors = Eigen::MatrixXd::Zero(size, static_cast<Eigen::Index>(cluster.size()));
-        for (std::size_t c = 0; c < cluster.size(); ++c) {
-          sub.energy += solver.eigenvalues()[cluster[c]] / static_cast<double>(cluster.size());
-          for (std::size_t i = 0; i < rows.size(); ++i)
-            sub.vectors(rows[i], static_cast<Eigen::Index>(c)) =
-                solver.eigenvectors()(static_cast<Eigen::Index>(i), cluster[c]);
-        }
-        sublevels_of_manifold[v].push_back(static_cast<int>(sublevels.size()));
-        sublevels.push_back(std::move(sub));
+  const std::set<Quanta> excluded(g.states.begin(), g.states.end());
+  const auto size = static_cast<Eigen::Index>(g.states.size());
+  g.h = Eigen::MatrixXd::Zero(size, size);
+  for (Eigen::Index a = 0; a < size; ++a) {
+    g.h(a, a) = detail::term_value(c.omega, x_cm1, g.states[static_cast<std::size_t>(a)]);
+    for (Eigen::Index b = a + 1; b < size; ++b) {
+      const int va = g.manifold_of_state[static_cast<std::size_t>(a)],
+                vb = g.manifold_of_state[static_cast<std::size_t>(b)];
+      const Quanta& sa = g.states[static_cast<std::size_t>(a)];
+      const Quanta& sb = g.states[static_cast<std::size_t>(b)];
+      double value = 0.0;
+      if (va == vb) {
+        value = c.op.quartic_element(sa, sb) + c.op.second_order(sa, sb, excluded);
+      } else if (const Move* move = connecting_move(moves, manifolds[static_cast<std::size_t>(va)],
+                                                    manifolds[static_cast<std::size_t>(vb)])) {
+        value = move->first_order ? c.op.cubic_element(sa, sb)
+                                  : c.op.quartic_element(sa, sb) + c.op.second_order(sa, sb, excluded);
       }
-    }
-
-    // Species of each sublevel from the group's action on its states.
-    std::vector<std::string> sublevel_species(sublevels.size());
-    std::vector<std::vector<double>> sublevel_multiplicities(sublevels.size());
-    if (group_known && symmetry.has_character_table()) {
-      std::vector<Eigen::MatrixXd> representation;
-      for (const auto& r : symmetry.operations) {
-        Eigen::MatrixXd clean = r;
-        for (int i = 0; i < m; ++i)
-          for (int j = 0; j < m; ++j)
-            if (set_of[static_cast<std::size_t>(i)] != set_of[static_cast<std::size_t>(j)]) clean(i, j) = 0.0;
-        representation.push_back(state_representation(states, clean));
-      }
-      for (std::size_t k = 0; k < sublevels.size(); ++k) {
-        std::vector<double> characters;
-        for (const auto& d : representation)
-          characters.push_back(detail::subspace_character(d, sublevels[k].vectors));
-        sublevel_species[k] = detail::species_label(symmetry, characters);
-        sublevel_multiplicities[k] = detail::irrep_multiplicities(symmetry, characters);
-      }
-    }
-
-    std::vector<std::string> sublevel_tags(sublevels.size());
-    for (std::size_t v = 0; v < manifolds.size(); ++v) {
-      const auto& subs = sublevels_of_manifold[v];
-      if (subs.size() < 2) continue;
-      for (std::size_t k = 0; k < subs.size(); ++k) {
-        const std::string& species = sublevel_species[static_cast<std::size_t>(subs[k])];
-        const auto repeats = std::count_if(subs.begin(), subs.end(), [&](int other) {
-          return sublevel_species[static_cast<std::size_t>(other)] == species;
-        });
-        sublevel_tags[static_cast<std::size_t>(subs[k])] = species.empty() ? std::to_string(k + 1)
-                                                           : repeats > 1
-                                                               ? species + "#" + std::to_string(k + 1)
-                                                               : species;
-      }
-    }
-
-    // Resonance-corrected states: the whole group, assigned to sublevels by overlap.
-    const bool is_polyad = manifolds.size() > 1;
-    std::vector<double> corrected(sublevels.size(), std::numeric_limits<double>::quiet_NaN());
-    std::vector<std::vector<double>> composition(sublevels.size());
-    if (is_polyad) {
-      const Eigen::SelfAdjointEigenSolver<Eigen::MatrixXd> solver(h);
-      const auto clusters = cluster_eigenvalues(solver.eigenvalues(), options.level_degeneracy_tolerance_cm1);
-      Eigen::MatrixXd overlap(static_cast<Eigen::Index>(clusters.size()),
-                              static_cast<Eigen::Index>(sublevels.size()));
-      for (std::size_t c = 0; c < clusters.size(); ++c)
-        for (std::size_t s = 0; s < sublevels.size(); ++s) {
-          double w = 0.0;
-          for (int e : clusters[c])
-            w += (sublevels[s].vectors.transpose() * solver.eigenvectors().col(e)).squaredNorm();
-          overlap(static_cast<Eigen::Index>(c), static_cast<Eigen::Index>(s)) =
-              w / static_cast<double>(clusters[c].size());
-        }
-      // Greedy one-to-one assignment, largest overlap first, equal degeneracy preferred.
-      std::vector<std::tuple<double, int, int>> pairs;
-      for (std::size_t c = 0; c < clusters.size(); ++c)
-        for (std::size_t s = 0; s < sublevels.size(); ++s) {
-          const bool same_size = static_cast<Eigen::Index>(clusters[c].size()) == sublevels[s].vectors.cols();
-          pairs.emplace_back(
-              (same_size ? 1.0 : 0.0) + overlap(static_cast<Eigen::Index>(c), static_cast<Eigen::Index>(s)),
-              static_cast<int>(c), static_cast<int>(s));
-        }
-      std::sort(pairs.begin(), pairs.end(),
-                [](const auto& a, const auto& b) { return std::get<0>(a) > std::get<0>(b); });
-      std::vector<bool> cluster_used(clusters.size(), false), sublevel_used(sublevels.size(), false);
-      for (const auto& [score, c, s] : pairs) {
-        if (cluster_used[static_cast<std::size_t>(c)] || sublevel_used[static_cast<std::size_t>(s)]) continue;
-        cluster_used[static_cast<std::size_t>(c)] = sublevel_used[static_cast<std::size_t>(s)] = true;
-        double energy = 0.0;
-        for (int e : clusters[static_cast<std::size_t>(c)]) energy += solver.eigenvalues()[e];
-        corrected[static_cast<std::size_t>(s)] =
-            energy / static_cast<double>(clusters[static_cast<std::size_t>(c)].size());
-        for (std::size_t t = 0; t < sublevels.size(); ++t)
-          composition[static_cast<std::size_t>(s)].push_back(overlap(c, static_cast<Eigen::Index>(t)));
-      }
-    }
-
-    // A sublevel takes part in the resonance only if its corrected state mixes with
-    // another sublevel, or another's mixes into it (a Δ level beside a Σ dyad does not).
-    constexpr double coupled_weight = 1e-6;
-    std::vector<bool> coupled(sublevels.size(), false);
-    if (is_polyad)
-      for (std::size_t s = 0; s < sublevels.size(); ++s)
-        for (std::size_t t = 0; t < sublevels.size(); ++t)
-          if (s != t && composition[s].size() == sublevels.size() && composition[s][t] > coupled_weight)
-            coupled[s] = coupled[t] = true;
-
-    // Levels of the line list in this group.
-    std::vector<int> group_levels;
-    for (std::size_t v = 0; v < manifolds.size(); ++v) {
-      const auto found =
-          std::find_if(wanted.begin(), wanted.end(), [&](const auto& w) { return w.first == manifolds[v]; });
-      if (found == wanted.end()) continue;
-      const auto& subs = sublevels_of_manifold[v];
-      for (std::size_t k = 0; k < subs.size(); ++k) {
-        const Sublevel& sub = sublevels[static_cast<std::size_t>(subs[k])];
-        VibrationalLevel level;
-        level.kind = found->second;
-        level.set_quanta = manifolds[v];
-        level.sublevel = static_cast<int>(k);
-        level.sublevel_count = static_cast<int>(subs.size());
-        level.degeneracy = static_cast<int>(sub.vectors.cols());
-        for (int s = 0; s < set_count; ++s)
-          level.harmonic_cm1 +=
-              manifolds[v][static_cast<std::size_t>(s)] * sets[static_cast<std::size_t>(s)].harmonic_cm1;
-        level.anharmonic_cm1 = sub.energy;
-        level.species = sublevel_species[static_cast<std::size_t>(subs[k])];
-        const auto& multiplicities = sublevel_multiplicities[static_cast<std::size_t>(subs[k])];
-        if (!multiplicities.empty()) {
-          level.activity_known = true;
-          for (std::size_t irrep = 0; irrep < multiplicities.size(); ++irrep)
-            if (multiplicities[irrep] > multiplicity_threshold) {
-              level.ir_active = level.ir_active || symmetry.irreps[irrep].ir_active;
-              level.raman_active = level.raman_active || symmetry.irreps[irrep].raman_active;
-            }
-        }
-        if (is_polyad && coupled[static_cast<std::size_t>(subs[k])]) {
-          level.resonance_corrected_cm1 = corrected[static_cast<std::size_t>(subs[k])];
-          level.polyad = static_cast<int>(result.polyads.size());
-          const auto& weights = composition[static_cast<std::size_t>(subs[k])];
-          for (std::size_t t = 0; t < weights.size(); ++t) {
-            const Sublevel& other = sublevels[t];
-            const auto& other_subs = sublevels_of_manifold[static_cast<std::size_t>(other.manifold)];
-            const int other_index = static_cast<int>(
-                std::find(other_subs.begin(), other_subs.end(), static_cast<int>(t)) - other_subs.begin());
-            constexpr double negligible_weight = 1e-10;  // below round-off of the eigenvectors' squares
-            if (weights[t] > negligible_weight)
-              level.mixing.push_back({manifolds[static_cast<std::size_t>(other.manifold)], other_index,
-                                      static_cast<int>(other_subs.size()), sublevel_species[t],
-                                      sublevel_tags[t], weights[t]});
-          }
-          std::sort(level.mixing.begin(), level.mixing.end(),
-                    [](const LevelComponent& a, const LevelComponent& b) { return a.weight > b.weight; });
-        }
-        group_levels.push_back(static_cast<int>(result.levels.size()));
-        result.levels.push_back(std::move(level));
-      }
-    }
-    if (is_polyad) {
-      Polyad polyad;
-      polyad.manifolds = manifolds;
-      polyad.levels = group_levels;
-      polyad.state_count = static_cast<int>(size);
-      polyad.truncated = group_truncated[g];
-      for (std::size_t a = 0; a < manifolds.size(); ++a)
-        for (std::size_t b = a + 1; b < manifolds.size(); ++b)
-          if (const Move* move = connecting_move(manifolds[a], manifolds[b]))
-            if (std::find(polyad.resonances.begin(), polyad.resonances.end(), move->resonance) ==
-                polyad.resonances.end())
-              polyad.resonances.push_back(move->resonance);
-      std::sort(polyad.resonances.begin(), polyad.resonances.end());
-      // Partners: line-list levels of the polyad that appear in each other's mixing.
-      auto weight_of = [&](const VibrationalLevel& in, const VibrationalLevel& of) {
-        for (const auto& c : in.mixing)
-          if (c.set_quanta == of.set_quanta && c.sublevel == of.sublevel) return c.weight;
-        return 0.0;
-      };
-      for (int level : group_levels)
-        for (int other : group_levels) {
-          auto& a = result.levels[static_cast<std::size_t>(level)];
-          const auto& b = result.levels[static_cast<std::size_t>(other)];
-          if (other != level && a.in_polyad() && b.in_polyad() &&
-              (weight_of(a, b) > coupled_weight || weight_of(b, a) > coupled_weight))
-            a.partners.push_back(other);
-        }
-      std::vector<int> members;
-      for (int level : group_levels)
-        if (result.levels[static_cast<std::size_t>(level)].in_polyad()) members.push_back(level);
-      polyad.levels = members;
-      if (polyad.truncated) {
-        result.status = Vpt2Status::polyad_truncated;
-        result.warnings.push_back(fmt::format(
-            "a resonance polyad reached the limit of {} quanta or {} states; states beyond it were left out",
-            options.polyad_max_quanta, options.polyad_max_states));
-      }
-      result.polyads.push_back(std::move(polyad));
+      g.h(a, b) = g.h(b, a) = value;
     }
   }
-  // Line-list order: fundamentals, overtones, combinations, each by set.
+}
+
+// Deperturbed sublevels: each manifold's block alone, eigenvalues clustered into levels.
+void deperturbed_sublevels(const Vpt2Context& c, std::size_t manifold_count, GroupStates& g) {
+  const Eigen::Index size = g.h.rows();
+  g.sublevels_of_manifold.assign(manifold_count, {});
+  for (std::size_t v = 0; v < manifold_count; ++v) {
+    std::vector<int> rows;
+    for (Eigen::Index a = 0; a < size; ++a)
+      if (g.manifold_of_state[static_cast<std::size_t>(a)] == static_cast<int>(v))
+        rows.push_back(static_cast<int>(a));
+    Eigen::MatrixXd block(static_cast<Eigen::Index>(rows.size()), static_cast<Eigen::Index>(rows.size()));
+    for (std::size_t i = 0; i < rows.size(); ++i)
+      for (std::size_t j = 0; j < rows.size(); ++j)
+        block(static_cast<Eigen::Index>(i), static_cast<Eigen::Index>(j)) = g.h(rows[i], rows[j]);
+    const Eigen::SelfAdjointEigenSolver<Eigen::MatrixXd> solver(block);
+    for (const auto& cluster :
+         cluster_eigenvalues(solver.eigenvalues(), c.options.level_degeneracy_tolerance_cm1)) {
+      Sublevel sub;
+      sub.manifold = static_cast<int>(v);
+      sub.vectors = Eigen::MatrixXd::Zero(size, static_cast<Eigen::Index>(cluster.size()));
+      for (std::size_t k = 0; k < cluster.size(); ++k) {
+        sub.energy += solver.eigenvalues()[cluster[k]] / static_cast<double>(cluster.size());
+        for (std::size_t i = 0; i < rows.size(); ++i)
+          sub.vectors(rows[i], static_cast<Eigen::Index>(k)) =
+              solver.eigenvectors()(static_cast<Eigen::Index>(i), cluster[k]);
+      }
+      g.sublevels_of_manifold[v].push_back(static_cast<int>(g.sublevels.size()));
+      g.sublevels.push_back(std::move(sub));
+    }
+  }
+}
+
+// Species of each sublevel from the group's action on its states, and the tags that
+// distinguish the sublevels of one manifold.
+void sublevel_species(const Vpt2Context& c, GroupStates& g) {
+  g.species.assign(g.sublevels.size(), "");
+  g.multiplicities.assign(g.sublevels.size(), {});
+  if (c.group_known && c.symmetry.has_character_table()) {
+    std::vector<Eigen::MatrixXd> representation;
+    for (const auto& r : c.block_operations) representation.push_back(state_representation(g.states, r));
+    for (std::size_t k = 0; k < g.sublevels.size(); ++k) {
+      std::vector<double> characters;
+      const Eigen::MatrixXd& basis = g.sublevels[k].vectors;
+      for (const auto& d : representation) characters.push_back((basis.transpose() * d * basis).trace());
+      g.species[k] = c.symmetry.species_label(characters);
+      g.multiplicities[k] = c.symmetry.multiplicities(characters);
+    }
+  }
+  g.tags.assign(g.sublevels.size(), "");
+  for (const auto& subs : g.sublevels_of_manifold) {
+    if (subs.size() < 2) continue;
+    for (std::size_t k = 0; k < subs.size(); ++k) {
+      const std::string& species = g.species[static_cast<std::size_t>(subs[k])];
+      const auto repeats = std::count_if(subs.begin(), subs.end(), [&](int other) {
+        return g.species[static_cast<std::size_t>(other)] == species;
+      });
+      g.tags[static_cast<std::size_t>(subs[k])] = species.empty() ? std::to_string(k + 1)
+                                                  : repeats > 1   ? species + "#" + std::to_string(k + 1)
+                                                                  : species;
+    }
+  }
+}
+
+// Weights below this in a resonance-corrected state are round-off of the eigenvectors'
+// squares; above coupled_weight a sublevel takes part in the resonance.
+constexpr double negligible_weight = 1e-10;
+constexpr double coupled_weight = 1e-6;
+
+// Resonance-corrected states: the whole group diagonalized, its eigenvalue clusters
+// assigned one to one to the sublevels by overlap (largest first, equal degeneracy
+// preferred). A sublevel takes part in the resonance only if its corrected state mixes with
+// another sublevel, or another's mixes into it (a Δ level beside a Σ dyad does not).
+void resonance_corrected_states(const Vpt2Context& c, GroupStates& g) {
+  const std::size_t count = g.sublevels.size();
+  g.corrected.assign(count, std::numeric_limits<double>::quiet_NaN());
+  g.composition.assign(count, {});
+  g.coupled.assign(count, false);
+  const Eigen::SelfAdjointEigenSolver<Eigen::MatrixXd> solver(g.h);
+  const auto clusters = cluster_eigenvalues(solver.eigenvalues(), c.options.level_degeneracy_tolerance_cm1);
+  Eigen::MatrixXd overlap(static_cast<Eigen::Index>(clusters.size()), static_cast<Eigen::Index>(count));
+  for (std::size_t k = 0; k < clusters.size(); ++k)
+    for (std::size_t s = 0; s < count; ++s) {
+      double w = 0.0;
+      for (int e : clusters[k])
+        w += (g.sublevels[s].vectors.transpose() * solver.eigenvectors().col(e)).squaredNorm();
+      overlap(static_cast<Eigen::Index>(k), static_cast<Eigen::Index>(s)) =
+          w / static_cast<double>(clusters[k].size());
+    }
+  std::vector<std::tuple<double, int, int>> pairs;
+  for (std::size_t k = 0; k < clusters.size(); ++k)
+    for (std::size_t s = 0; s < count; ++s) {
+      const bool same_size = static_cast<Eigen::Index>(clusters[k].size()) == g.sublevels[s].vectors.cols();
+      pairs.emplace_back(
+          (same_size ? 1.0 : 0.0) + overlap(static_cast<Eigen::Index>(k), static_cast<Eigen::Index>(s)),
+          static_cast<int>(k), static_cast<int>(s));
+    }
+  std::sort(pairs.begin(), pairs.end(),
+            [](const auto& a, const auto& b) { return std::get<0>(a) > std::get<0>(b); });
+  std::vector<bool> cluster_used(clusters.size(), false), sublevel_used(count, false);
+  for (const auto& [score, k, s] : pairs) {
+    if (cluster_used[static_cast<std::size_t>(k)] || sublevel_used[static_cast<std::size_t>(s)]) continue;
+    cluster_used[static_cast<std::size_t>(k)] = sublevel_used[static_cast<std::size_t>(s)] = true;
+    double energy = 0.0;
+    for (int e : clusters[static_cast<std::size_t>(k)]) energy += solver.eigenvalues()[e];
+    g.corrected[static_cast<std::size_t>(s)] =
+        energy / static_cast<double>(clusters[static_cast<std::size_t>(k)].size());
+    for (std::size_t t = 0; t < count; ++t)
+      g.composition[static_cast<std::size_t>(s)].push_back(overlap(k, static_cast<Eigen::Index>(t)));
+  }
+  for (std::size_t s = 0; s < count; ++s)
+    for (std::size_t t = 0; t < count; ++t)
+      if (s != t && g.composition[s].size() == count && g.composition[s][t] > coupled_weight)
+        g.coupled[s] = g.coupled[t] = true;
+}
+
+// The line-list level of one sublevel (without polyad data).
+VibrationalLevel sublevel_level(const Vpt2Context& c, const GroupStates& g, const std::vector<int>& manifold,
+                                LevelKind kind, const std::vector<int>& subs, std::size_t k) {
+  const auto index = static_cast<std::size_t>(subs[k]);
+  VibrationalLevel level;
+  level.kind = kind;
+  level.set_quanta = manifold;
+  level.sublevel = static_cast<int>(k);
+  level.sublevel_count = static_cast<int>(subs.size());
+  level.degeneracy = static_cast<int>(g.sublevels[index].vectors.cols());
+  for (int s = 0; s < c.set_count(); ++s)
+    level.harmonic_cm1 +=
+        manifold[static_cast<std::size_t>(s)] * c.sets[static_cast<std::size_t>(s)].harmonic_cm1;
+  level.anharmonic_cm1 = g.sublevels[index].energy;
+  level.species = g.species[index];
+  const auto& multiplicities = g.multiplicities[index];
+  if (!multiplicities.empty()) {
+    level.activity_known = true;
+    for (std::size_t irrep = 0; irrep < multiplicities.size(); ++irrep)
+      if (as_multiplicity(multiplicities[irrep]).count >= 1) {
+        level.ir_active = level.ir_active || c.symmetry.irreps()[irrep].ir_active;
+        level.raman_active = level.raman_active || c.symmetry.irreps()[irrep].raman_active;
+      }
+  }
+  return level;
+}
+
+// The composition of a sublevel's resonance-corrected state, largest weight first.
+std::vector<LevelComponent> level_mixing(const ResonanceGroup& group, const GroupStates& g,
+                                         std::size_t index) {
+  std::vector<LevelComponent> mixing;
+  const auto& weights = g.composition[index];
+  for (std::size_t t = 0; t < weights.size(); ++t) {
+    if (!(weights[t] > negligible_weight)) continue;
+    const Sublevel& other = g.sublevels[t];
+    const auto& other_subs = g.sublevels_of_manifold[static_cast<std::size_t>(other.manifold)];
+    const int other_index = static_cast<int>(
+        std::find(other_subs.begin(), other_subs.end(), static_cast<int>(t)) - other_subs.begin());
+    mixing.push_back({group.manifolds[static_cast<std::size_t>(other.manifold)], other_index,
+                      static_cast<int>(other_subs.size()), g.species[t], g.tags[t], weights[t]});
+  }
+  std::sort(mixing.begin(), mixing.end(),
+            [](const LevelComponent& a, const LevelComponent& b) { return a.weight > b.weight; });
+  return mixing;
+}
+
+// Levels of the line list in one group; returns their indices in result.levels.
+std::vector<int> add_group_levels(const Vpt2Context& c, const ResonanceGroup& group, const GroupStates& g,
+                                  const WantedManifolds& wanted, bool is_polyad, Vpt2Result& result) {
+  std::vector<int> group_levels;
+  for (std::size_t v = 0; v < group.manifolds.size(); ++v) {
+    const auto found = std::find_if(wanted.begin(), wanted.end(),
+                                    [&](const auto& w) { return w.first == group.manifolds[v]; });
+    if (found == wanted.end()) continue;
+    const auto& subs = g.sublevels_of_manifold[v];
+    for (std::size_t k = 0; k < subs.size(); ++k) {
+      VibrationalLevel level = sublevel_level(c, g, group.manifolds[v], found->second, subs, k);
+      const auto index = static_cast<std::size_t>(subs[k]);
+      if (is_polyad && g.coupled[index]) {
+        level.resonance_corrected_cm1 = g.corrected[index];
+        level.polyad = static_cast<int>(result.polyads.size());
+        level.mixing = level_mixing(group, g, index);
+      }
+      group_levels.push_back(static_cast<int>(result.levels.size()));
+      result.levels.push_back(std::move(level));
+    }
+  }
+  return group_levels;
+}
+
+// The polyad record of a group: its resonances, member levels and their partners (levels
+// that appear in each other's mixing).
+void add_polyad(const Vpt2Context& c, const ResonanceGroup& group, const std::vector<Move>& moves,
+                const std::vector<int>& group_levels, int state_count, Vpt2Result& result) {
+  Polyad polyad;
+  polyad.manifolds = group.manifolds;
+  polyad.state_count = state_count;
+  polyad.truncated = group.truncated;
+  for (std::size_t a = 0; a < group.manifolds.size(); ++a)
+    for (std::size_t b = a + 1; b < group.manifolds.size(); ++b)
+      if (const Move* move = connecting_move(moves, group.manifolds[a], group.manifolds[b]))
+        if (std::find(polyad.resonances.begin(), polyad.resonances.end(), move->resonance) ==
+            polyad.resonances.end())
+          polyad.resonances.push_back(move->resonance);
+  std::sort(polyad.resonances.begin(), polyad.resonances.end());
+  auto weight_of = [&](const VibrationalLevel& in, const VibrationalLevel& of) {
+    for (const auto& component : in.mixing)
+      if (component.set_quanta == of.set_quanta && component.sublevel == of.sublevel) return component.weight;
+    return 0.0;
+  };
+  for (int level : group_levels)
+    for (int other : group_levels) {
+      auto& a = result.levels[static_cast<std::size_t>(level)];
+      const auto& b = result.levels[static_cast<std::size_t>(other)];
+      if (other != level && a.in_polyad() && b.in_polyad() &&
+          (weight_of(a, b) > coupled_weight || weight_of(b, a) > coupled_weight))
+        a.partners.push_back(other);
+    }
+  for (int level : group_levels)
+    if (result.levels[static_cast<std::size_t>(level)].in_polyad()) polyad.levels.push_back(level);
+  if (polyad.truncated) {
+    result.status = Vpt2Status::polyad_truncated;
+    result.warnings.push_back(fmt::format(
+        "a resonance polyad reached the limit of {} quanta or {} states; states beyond it were left out",
+        c.options.polyad_max_quanta, c.options.polyad_max_states));
+  }
+  result.polyads.push_back(std::move(polyad));
+}
+
+// Line-list order: fundamentals, overtones, combinations, each by set; partner and polyad
+// indices follow the levels.
+void sort_levels(const WantedManifolds& wanted, Vpt2Result& result) {
   std::vector<int> order_index(result.levels.size());
   std::iota(order_index.begin(), order_index.end(), 0);
   auto rank = [&](const VibrationalLevel& level) {
@@ -826,15 +839,17 @@ Vpt2Result run_vpt2(const ForceConstantResult& force_constants, const HarmonicRe
   for (auto& polyad : result.polyads)
     for (int& level : polyad.levels) level = new_position[static_cast<std::size_t>(level)];
   result.levels = std::move(sorted);
+}
 
-  // x_tt and g_tt of doubly degenerate sets whose overtone splits into a single and a double.
-  for (int s = 0; s < set_count; ++s) {
-    const auto& modes = sets[static_cast<std::size_t>(s)].modes;
+// x_tt and g_tt of doubly degenerate sets whose overtone splits into a single and a double.
+void degenerate_set_constants(const Vpt2Context& c, Vpt2Result& result) {
+  for (int s = 0; s < c.set_count(); ++s) {
+    const auto& modes = c.sets[static_cast<std::size_t>(s)].modes;
     if (modes.size() != 2) continue;
     double single = 0.0, pair = 0.0;
     int singles = 0, pairs = 0;
     for (const auto& level : result.levels) {
-      if (level.set_quanta != unit({{s, 2}})) continue;
+      if (level.set_quanta != c.unit({{s, 2}})) continue;
       if (level.degeneracy == 1) {
         single = level.anharmonic_cm1;
         ++singles;
@@ -845,15 +860,72 @@ Vpt2Result run_vpt2(const ForceConstantResult& force_constants, const HarmonicRe
     }
     if (singles != 1 || pairs != 1) continue;
     double cross = 0.0;
-    for (int c = 0; c < m; ++c)
-      if (set_of[static_cast<std::size_t>(c)] != s)
-        cross += 0.5 * (result.x_cm1(c, modes[0]) + result.x_cm1(c, modes[1]));
+    for (int k = 0; k < c.m; ++k)
+      if (result.set_of_mode[static_cast<std::size_t>(k)] != s)
+        cross += 0.5 * (result.x_cm1(k, modes[0]) + result.x_cm1(k, modes[1]));
     DegenerateSetConstants constants_of_set;
     constants_of_set.set = s;
     constants_of_set.g_cm1 = (pair - single) / 4.0;
-    constants_of_set.x_cm1 = (single - 2.0 * sets[static_cast<std::size_t>(s)].harmonic_cm1 - cross) / 8.0;
+    constants_of_set.x_cm1 = (single - 2.0 * c.sets[static_cast<std::size_t>(s)].harmonic_cm1 - cross) / 8.0;
     result.degenerate_constants.push_back(constants_of_set);
   }
+}
+
+// Every resonance group: its Hamiltonian, sublevels, species, corrected states, the line-list
+// levels it holds and, for a polyad, the polyad record.
+void diagonalize_groups(const Vpt2Context& c, const WantedManifolds& wanted, Vpt2Result& result) {
+  const std::vector<Move> moves = flagged_moves(c, result);
+  for (const ResonanceGroup& group : resonance_groups(c, wanted, moves)) {
+    if (group.manifolds.empty()) continue;
+    GroupStates g;
+    group_hamiltonian(c, group, moves, result.x_cm1, g);
+    deperturbed_sublevels(c, group.manifolds.size(), g);
+    sublevel_species(c, g);
+    const bool is_polyad = group.manifolds.size() > 1;
+    if (is_polyad) resonance_corrected_states(c, g);
+    const std::vector<int> group_levels = add_group_levels(c, group, g, wanted, is_polyad, result);
+    if (is_polyad) add_polyad(c, group, moves, group_levels, static_cast<int>(g.states.size()), result);
+  }
+}
+
+}  // namespace
+
+Vpt2Result run_vpt2(const ForceConstantResult& force_constants, const HarmonicResult& harmonic,
+                    const Vpt2Options& options) {
+  validate(options);
+  if (!force_constants.ok())
+    throw Error("vpt2 needs force constants with status ok, got " + to_string(force_constants.status) + ": " +
+                force_constants.message);
+  const int m = static_cast<int>(force_constants.mode_count());
+  if (static_cast<int>(harmonic.mode_count()) != m)
+    throw Error(fmt::format("the force constants are for {} modes but the harmonic result has {}", m,
+                            harmonic.mode_count()));
+  const ModeSymmetry& symmetry = force_constants.symmetry;
+  const Eigen::VectorXd omega = force_constants.frequencies_cm1;
+
+  Vpt2Result result;
+  result.harmonic_cm1 = omega;
+  result.point_group = symmetry.point_group();
+  result.set_of_mode = symmetry.degenerate_set();
+  result.sets = degenerate_sets(symmetry, omega);
+  const Vpt2Context c{force_constants.constants,
+                      symmetry,
+                      options,
+                      omega,
+                      force_constants.symmetry_used && symmetry.has_group(),
+                      m,
+                      result.sets,
+                      detail::AnharmonicOperator(force_constants.constants, omega),
+                      symmetry.block_operations()};
+
+  coriolis_terms(harmonic, c, result);
+  result.x_vibrational_plain_cm1 = detail::anharmonicity_constants(force_constants.constants, omega);
+  resonance_candidates(c, result);
+  deperturbed_constants(c, result);
+  const WantedManifolds wanted = line_list_manifolds(c);
+  diagonalize_groups(c, wanted, result);
+  sort_levels(wanted, result);
+  degenerate_set_constants(c, result);
 
   std::size_t flagged = 0;
   for (const auto& r : result.resonances) flagged += r.flagged ? 1 : 0;

@@ -27,7 +27,8 @@
 // ones). Fermi resonances are flagged when |Δ| ≤ fermi_gap_cm1, W⁴/|Δ|³ ≥
 // fermi_criterion_cm1 (Martin, Lee, Taylor, François, J. Chem. Phys. 103, 2589 (1995)) and
 // symmetry allows them (the species of the upper state occurs in the symmetric square
-// or the product of the lower ones). Flagged Fermi terms are dropped from x (the
+// or the product of the lower ones: the rules of ModeSymmetry, applied when the force
+// constants used the group). Flagged Fermi terms are dropped from x (the
 // deperturbed constants); the states they couple, closed under all flagged couplings, form
 // a polyad whose effective Hamiltonian (diagonal from the deperturbed x, couplings from
 // effective_hamiltonian.hpp) is diagonalized.

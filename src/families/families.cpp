@@ -188,11 +188,12 @@ FamiliesResult compute_molecular_families(const Potential& potential, const Harm
                                           const std::vector<int>& mode_order, const FamiliesOptions& options,
                                           const MolecularSystemOptions& system_options) {
   const MolecularVibrationalSystem system(potential, harmonic, system_options);
-  const std::vector<ModeBlock> blocks = molecular_mode_blocks(species, harmonic, mode_order);
+  const ModeSymmetry mode_symmetry_of_modes = mode_symmetry(group, species, harmonic.mass_weighted_modes);
+  const std::vector<ModeBlock> blocks = molecular_mode_blocks(mode_symmetry_of_modes, harmonic, mode_order);
   std::string fallback;
   CoordinateSymmetry symmetry;
   try {
-    symmetry = molecular_coordinate_symmetry(group, harmonic, species.frame);
+    symmetry = molecular_coordinate_symmetry(group, mode_symmetry_of_modes, harmonic);
     // Enumeration alone is cheap; it also checks that every block is invariant.
     enumerate_families(blocks, symmetry, molecular_unit_conventions(), options.enumeration);
   } catch (const Error& error) {

@@ -66,7 +66,8 @@ struct FamiliesResult {
 FamiliesResult compute_families(const VibrationalSystem& system, const std::vector<ModeBlock>& blocks,
                                 const CoordinateSymmetry& symmetry, const FamiliesOptions& options);
 
-// Molecules: the system of MolecularVibrationalSystem, the symmetry of
+// Molecules: the system of MolecularVibrationalSystem; the mode symmetry of the species
+// assignment on the harmonic modes (mode_symmetry), from which come the symmetry of
 // molecular_coordinate_symmetry and the blocks of molecular_mode_blocks (species and
 // report numbers from mode_order, see there). Adds the note that rotation–vibration
 // coupling is neglected.

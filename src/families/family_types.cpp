@@ -43,35 +43,36 @@ CoordinateSymmetry symmetry_from_matrices(const std::vector<Eigen::MatrixXd>& ge
   return symmetry;
 }
 
-std::vector<ModeBlock> blocks_by_frequency(const Eigen::VectorXd& angular_frequencies,
-                                           double relative_tolerance) {
-  std::vector<int> order(static_cast<std::size_t>(angular_frequencies.size()));
-  std::iota(order.begin(), order.end(), 0);
-  std::stable_sort(order.begin(), order.end(),
-                   [&](int a, int b) { return angular_frequencies(a) < angular_frequencies(b); });
+std::vector<ModeBlock> mode_blocks(const ModeSymmetry& symmetry, const Eigen::VectorXd& angular_frequencies,
+                                   const std::vector<int>& mode_numbers) {
+  const auto n = static_cast<std::size_t>(angular_frequencies.size());
+  if (symmetry.mode_count() != n || (!mode_numbers.empty() && mode_numbers.size() != n))
+    throw Error(
+        fmt::format("mode blocks need one frequency and number per mode of the symmetry ({}), got {} and {}",
+                    symmetry.mode_count(), n, mode_numbers.size()));
   std::vector<ModeBlock> blocks;
-  for (const int k : order) {
-    const double omega = angular_frequencies(k);
-    if (!blocks.empty()) {
-      ModeBlock& last = blocks.back();
-      const double previous = angular_frequencies(last.coordinates.back());
-      if (std::abs(omega - previous) <= relative_tolerance * std::abs(omega)) {
-        last.coordinates.push_back(k);
-        last.mode_numbers.push_back(k + 1);
-        continue;
-      }
-    }
+  for (int s = 0; s < symmetry.set_count(); ++s) {
     ModeBlock block;
-    block.coordinates = {k};
-    block.mode_numbers = {k + 1};
+    double sum = 0.0;
+    for (const int k : symmetry.sets()[static_cast<std::size_t>(s)]) {
+      block.coordinates.push_back(k);
+      block.mode_numbers.push_back(mode_numbers.empty() ? k + 1 : mode_numbers[static_cast<std::size_t>(k)]);
+      sum += angular_frequencies(k);
+    }
+    block.angular_frequency = sum / static_cast<double>(block.coordinates.size());
+    block.species = symmetry.set_species(s);
     blocks.push_back(std::move(block));
   }
-  for (ModeBlock& block : blocks) {
-    double sum = 0.0;
-    for (const int k : block.coordinates) sum += angular_frequencies(k);
-    block.angular_frequency = sum / static_cast<double>(block.coordinates.size());
-  }
+  std::stable_sort(blocks.begin(), blocks.end(), [](const ModeBlock& a, const ModeBlock& b) {
+    return a.angular_frequency < b.angular_frequency;
+  });
   return blocks;
+}
+
+std::vector<ModeBlock> blocks_by_frequency(const Eigen::VectorXd& angular_frequencies,
+                                           const UnitConventions& units) {
+  return mode_blocks(ModeSymmetry::without_group(angular_frequencies * units.cm1_per_angular_frequency),
+                     angular_frequencies);
 }
 
 namespace {
@@ -121,16 +122,16 @@ double fixed_dimension(const std::vector<double>& characters, const Subgroup& su
   return sum / static_cast<double>(subgroup.elements.size());
 }
 
+// A fixed-space dimension is the multiplicity of the twisted character in the block's
+// representation: an integer by the one test of the mode symmetry (as_multiplicity).
 int rounded_dimension(double value, const std::string& context) {
-  constexpr double integrality_tolerance =
-      1e-6;  // character sums of orthogonal matrices built in double precision
-  const double rounded = std::round(value);
-  if (std::abs(value - rounded) > integrality_tolerance)
+  const Multiplicity dimension = as_multiplicity(value);
+  if (!dimension.integral)
     throw Error(
         fmt::format("fixed-space dimension {} is not an integer for {}: the matrices do not represent the "
                     "group",
                     value, context));
-  return static_cast<int>(rounded);
+  return dimension.count;
 }
 
 // A vector spanning Fix(Σ) in the block (d complex components, unit norm).
@@ -332,17 +333,15 @@ struct Candidate {
   int subgroup_index = 0;
 };
 
-}  // namespace
-
-FamilyEnumeration enumerate_families(const std::vector<ModeBlock>& blocks, const CoordinateSymmetry& symmetry,
-                                     const UnitConventions& units, const EnumerationOptions& options) {
+// Sizes and orthogonality of the matrices; the element labels (given or the group's names).
+std::vector<std::string> checked_labels(const CoordinateSymmetry& symmetry) {
   const FiniteGroup& group = symmetry.group;
   const int order = group.order();
   if (order < 1) throw Error("the coordinate symmetry has an empty group");
   if (static_cast<int>(symmetry.matrices.size()) != order)
     throw Error(fmt::format("the coordinate symmetry has {} matrices for a group of order {}",
                             symmetry.matrices.size(), order));
-  const int n = static_cast<int>(symmetry.matrices.front().rows());
+  const Eigen::Index n = symmetry.matrices.front().rows();
   constexpr double orthogonality_tolerance = 1e-6;  // matrices from eigenvectors of numerical Hessians
   for (int g = 0; g < order; ++g) {
     const Eigen::MatrixXd& d = symmetry.matrices[g];
@@ -355,26 +354,31 @@ FamilyEnumeration enumerate_families(const std::vector<ModeBlock>& blocks, const
   if (!symmetry.labels.empty() && static_cast<int>(symmetry.labels.size()) != order)
     throw Error(
         fmt::format("the coordinate symmetry has {} labels for {} elements", symmetry.labels.size(), order));
+  const bool has_axis = symmetry.axial_generator.size() > 0;
+  if (has_axis && (symmetry.axial_generator.rows() != n || symmetry.axial_generator.cols() != n))
+    throw Error(fmt::format("the axial generator is {}x{}, expected {}x{}", symmetry.axial_generator.rows(),
+                            symmetry.axial_generator.cols(), n, n));
   std::vector<std::string> labels = symmetry.labels;
   if (labels.empty())
     for (int g = 0; g < order; ++g) labels.push_back(group.name(g));
+  return labels;
+}
 
-  FamilyEnumeration enumeration;
-  enumeration.blocks = blocks;
-  std::vector<BlockAction> actions;
-  for (const ModeBlock& block : blocks) {
-    if (block.coordinates.empty()) throw Error("a mode block has no coordinates");
-    actions.push_back(restrict_to_block(block, symmetry, n, options.invariance_tolerance, labels));
-  }
-
-  const std::vector<Subgroup> subgroups = subgroups_up_to_conjugacy(group);
+// Subgroups up to conjugacy with their one-dimensional characters and normalizers.
+struct SubgroupTable {
+  std::vector<Subgroup> subgroups;
   std::vector<std::vector<OneDimensionalCharacter>> characters;
   std::vector<std::vector<int>> normalizers;
-  for (const Subgroup& subgroup : subgroups) {
-    characters.push_back(one_dimensional_characters(group, subgroup));
+};
+
+SubgroupTable subgroup_table(const FiniteGroup& group) {
+  SubgroupTable table;
+  table.subgroups = subgroups_up_to_conjugacy(group);
+  for (const Subgroup& subgroup : table.subgroups) {
+    table.characters.push_back(one_dimensional_characters(group, subgroup));
     std::vector<int> normalizer;
     const std::set<int> members(subgroup.elements.begin(), subgroup.elements.end());
-    for (int g = 0; g < order; ++g) {
+    for (int g = 0; g < group.order(); ++g) {
       bool normalizes = true;
       for (const int h : subgroup.generators)
         if (!members.count(group.multiply(group.multiply(g, h), group.inverse(g)))) {
@@ -383,209 +387,270 @@ FamilyEnumeration enumerate_families(const std::vector<ModeBlock>& blocks, const
         }
       if (normalizes) normalizer.push_back(g);
     }
-    normalizers.push_back(std::move(normalizer));
+    table.normalizers.push_back(std::move(normalizer));
   }
+  return table;
+}
 
-  AxialRotation axial;
-  const bool has_axis = symmetry.axial_generator.size() > 0;
-  if (has_axis) {
-    if (symmetry.axial_generator.rows() != n || symmetry.axial_generator.cols() != n)
-      throw Error(fmt::format("the axial generator is {}x{}, expected {}x{}", symmetry.axial_generator.rows(),
-                              symmetry.axial_generator.cols(), n, n));
+// Orbit of θ under the normalizer of its subgroup: θ^g(h) = θ(g⁻¹hg).
+std::set<std::vector<int>> character_orbit(const FiniteGroup& group, const Subgroup& subgroup,
+                                           const std::vector<int>& normalizer,
+                                           const OneDimensionalCharacter& theta) {
+  const int h_order = static_cast<int>(subgroup.elements.size());
+  std::map<int, int> position;
+  for (int j = 0; j < h_order; ++j) position[subgroup.elements[j]] = j;
+  std::set<std::vector<int>> orbit;
+  for (const int g : normalizer) {
+    std::vector<int> conjugated(h_order);
+    for (int j = 0; j < h_order; ++j) {
+      const int h = subgroup.elements[j];
+      conjugated[j] =
+          theta.phase_numerators[position.at(group.multiply(group.multiply(group.inverse(g), h), g))];
+    }
+    orbit.insert(conjugated);
   }
+  return orbit;
+}
 
-  for (std::size_t b = 0; b < blocks.size(); ++b) {
-    const ModeBlock& block = blocks[b];
-    const BlockAction& action = actions[b];
-    const int d = static_cast<int>(block.coordinates.size());
-    std::vector<Candidate> candidates;
-    for (std::size_t s = 0; s < subgroups.size(); ++s) {
-      const Subgroup& subgroup = subgroups[s];
-      const int h_order = static_cast<int>(subgroup.elements.size());
-      std::map<int, int> position;
-      for (int j = 0; j < h_order; ++j) position[subgroup.elements[j]] = j;
-      std::set<int> members(subgroup.elements.begin(), subgroup.elements.end());
-      std::set<std::vector<int>> registered;  // θ (numerators) already covered for this subgroup
-      for (const OneDimensionalCharacter& theta : characters[s]) {
-        if (registered.count(theta.phase_numerators)) continue;
-        const double dimension = fixed_dimension(action.characters, subgroup, theta, 1);
-        if (rounded_dimension(dimension, fmt::format("modes {}", fmt::join(block.mode_numbers, ","))) != 1)
-          continue;
-        const Eigen::VectorXcd v = fixed_vector(action, subgroup, theta);
-        bool isotropy = true;
-        for (int g = 0; g < order && isotropy; ++g)
-          if (!members.count(g) && phase_multiple(action.matrices[g].cast<Complex>() * v, v))
-            isotropy = false;
-        if (!isotropy) continue;
-        // Orbit of θ under the normalizer: θ^g(h) = θ(g⁻¹hg).
-        std::set<std::vector<int>> orbit;
-        for (const int g : normalizers[s]) {
-          std::vector<int> conjugated(h_order);
-          for (int j = 0; j < h_order; ++j) {
-            const int h = subgroup.elements[j];
-            conjugated[j] =
-                theta.phase_numerators[position.at(group.multiply(group.multiply(group.inverse(g), h), g))];
-          }
-          orbit.insert(conjugated);
-        }
-        const std::vector<int> reversed = negated(theta.phase_numerators, theta.phase_denominator);
-        TimeReversal reversal = TimeReversal::separate_partner;
-        if (reversed == theta.phase_numerators)
-          reversal = TimeReversal::same_family;
-        else if (orbit.count(reversed))
-          reversal = TimeReversal::among_copies;
-        registered.insert(orbit.begin(), orbit.end());
-        if (reversal == TimeReversal::separate_partner) {
-          // The partner's whole orbit is the negation of this one.
-          for (const auto& member : orbit) registered.insert(negated(member, theta.phase_denominator));
-        }
-
-        Candidate candidate;
-        candidate.block_vector = v;
-        candidate.numerators = theta.phase_numerators;
-        candidate.subgroup_index = static_cast<int>(s);
-        FamilyType& family = candidate.family;
-        family.block = static_cast<int>(b);
-        family.mode_numbers = block.mode_numbers;
-        family.species = block.species;
-        family.copies = subgroup.conjugate_count * static_cast<int>(orbit.size());
-        family.time_reversal = reversal;
-        for (int j = 0; j < h_order; ++j)
-          family.subgroup.push_back(
-              phased(subgroup.elements[j], theta.phase_numerators[j], theta.phase_denominator, labels));
-        for (const int generator : subgroup.generators)
-          family.generators.push_back(phased(generator, theta.phase_numerators[position.at(generator)],
-                                             theta.phase_denominator, labels));
-        candidates.push_back(std::move(candidate));
+// Every twisted isotropy subgroup with a one-dimensional fixed space in one block, one per
+// orbit of conjugates (and time-reversed partners), with copies, time reversal and phases.
+std::vector<Candidate> block_candidates(const FiniteGroup& group, const SubgroupTable& table,
+                                        const BlockAction& action, const ModeBlock& block, int block_index,
+                                        const std::vector<std::string>& labels) {
+  std::vector<Candidate> candidates;
+  for (std::size_t s = 0; s < table.subgroups.size(); ++s) {
+    const Subgroup& subgroup = table.subgroups[s];
+    const int h_order = static_cast<int>(subgroup.elements.size());
+    std::map<int, int> position;
+    for (int j = 0; j < h_order; ++j) position[subgroup.elements[j]] = j;
+    const std::set<int> members(subgroup.elements.begin(), subgroup.elements.end());
+    std::set<std::vector<int>> registered;  // θ (numerators) already covered for this subgroup
+    for (const OneDimensionalCharacter& theta : table.characters[s]) {
+      if (registered.count(theta.phase_numerators)) continue;
+      const double dimension = fixed_dimension(action.characters, subgroup, theta, 1);
+      if (rounded_dimension(dimension, fmt::format("modes {}", fmt::join(block.mode_numbers, ","))) != 1)
+        continue;
+      const Eigen::VectorXcd v = fixed_vector(action, subgroup, theta);
+      bool isotropy = true;
+      for (int g = 0; g < group.order() && isotropy; ++g)
+        if (!members.count(g) && phase_multiple(action.matrices[g].cast<Complex>() * v, v)) isotropy = false;
+      if (!isotropy) continue;
+      const std::set<std::vector<int>> orbit = character_orbit(group, subgroup, table.normalizers[s], theta);
+      const std::vector<int> reversed = negated(theta.phase_numerators, theta.phase_denominator);
+      TimeReversal reversal = TimeReversal::separate_partner;
+      if (reversed == theta.phase_numerators)
+        reversal = TimeReversal::same_family;
+      else if (orbit.count(reversed))
+        reversal = TimeReversal::among_copies;
+      registered.insert(orbit.begin(), orbit.end());
+      if (reversal == TimeReversal::separate_partner) {
+        // The partner's whole orbit is the negation of this one.
+        for (const auto& member : orbit) registered.insert(negated(member, theta.phase_denominator));
       }
-    }
-
-    // A continuous symmetry (a linear molecule's axis) merges families it maps onto each other.
-    std::vector<bool> merged(candidates.size(), false);
-    if (has_axis) {
-      const Eigen::MatrixXd j_block =
-          action.embedding.transpose() * symmetry.axial_generator * action.embedding;
-      Eigen::SelfAdjointEigenSolver<Eigen::MatrixXcd> solver(Complex(0.0, 1.0) * j_block.cast<Complex>());
-      axial.vectors = solver.eigenvectors();
-      axial.values = solver.eigenvalues();
-      constexpr double overlap_tolerance =
-          1e-6;  // |⟨w, e^{αJ}u⟩| = 1 within round-off for equivalent families
-      for (std::size_t i = 0; i < candidates.size(); ++i) {
-        if (merged[i]) continue;
-        const Eigen::VectorXcd& u = candidates[i].block_vector;
-        // The rotation moves the family unless J·u is a multiple of u (a rotating orbit
-        // about the axis is mapped to itself with a time shift).
-        const Eigen::VectorXcd turned = j_block.cast<Complex>() * u;
-        if (!phase_multiple(turned, u)) candidates[i].family.continuous_copies = true;
-        for (std::size_t k = i + 1; k < candidates.size(); ++k) {
-          if (merged[k]) continue;
-          for (int g = 0; g < order && !merged[k]; ++g) {
-            const Eigen::VectorXcd image = action.matrices[g].cast<Complex>() * candidates[k].block_vector;
-            if (best_axial_overlap(axial, u, image) > 1.0 - overlap_tolerance) merged[k] = true;
-          }
-          if (merged[k]) candidates[i].family.continuous_copies = true;
-        }
-      }
-    }
-
-    std::vector<FamilyType> block_families;
-    for (std::size_t i = 0; i < candidates.size(); ++i) {
-      if (merged[i]) continue;
-      Candidate& candidate = candidates[i];
+      Candidate candidate;
+      candidate.block_vector = v;
+      candidate.numerators = theta.phase_numerators;
+      candidate.subgroup_index = static_cast<int>(s);
       FamilyType& family = candidate.family;
-      const Subgroup& subgroup = subgroups[candidate.subgroup_index];
-      const int h_order = static_cast<int>(subgroup.elements.size());
-      // Align the phase so that Re v is the major axis of the linear orbit (a turning point).
-      Eigen::VectorXcd v = action.embedding.cast<Complex>() * candidate.block_vector;
-      const Complex square_sum = (v.array() * v.array()).sum();
-      v *= std::polar(1.0, -0.5 * std::arg(square_sum));
-      const double major = v.real().norm(), minor = v.imag().norm();
-      family.ellipticity = major > 0.0 ? minor / major : 0.0;
-      constexpr double standing_tolerance = 1e-6;
-      family.standing = family.ellipticity < standing_tolerance;
-      if (family.standing) v = v.real().cast<Complex>();
-
-      // K = ker θ, its fixed space in the whole coordinate space, and the shift element.
-      std::vector<int> kernel;
+      family.block = block_index;
+      family.mode_numbers = block.mode_numbers;
+      family.species = block.species;
+      family.copies = subgroup.conjugate_count * static_cast<int>(orbit.size());
+      family.time_reversal = reversal;
       for (int j = 0; j < h_order; ++j)
-        if (candidate.numerators[j] == 0) kernel.push_back(subgroup.elements[j]);
-      Eigen::MatrixXd projector = Eigen::MatrixXd::Zero(n, n);
-      for (const int k : kernel) projector += symmetry.matrices[k];
-      projector /= static_cast<double>(kernel.size());
-      Eigen::SelfAdjointEigenSolver<Eigen::MatrixXd> fixed(0.5 * (projector + projector.transpose()));
-      std::vector<int> columns;
-      for (int k = 0; k < n; ++k)
-        if (fixed.eigenvalues()(k) > 0.5) columns.push_back(k);
-      family.seed.invariant_basis.resize(n, static_cast<Eigen::Index>(columns.size()));
-      for (std::size_t k = 0; k < columns.size(); ++k)
-        family.seed.invariant_basis.col(static_cast<Eigen::Index>(k)) = fixed.eigenvectors().col(columns[k]);
-      const int r = h_order / static_cast<int>(kernel.size());
-      family.seed.shift_denominator = r;
-      const PhasedElement* shift = nullptr;
-      if (r > 1) {
-        for (int j = 0; j < h_order; ++j)
-          if (candidate.numerators[j] == static_cast<int>(kernel.size()) &&
-              (shift == nullptr ||
-               shift_preference(family.subgroup[j].label, r) < shift_preference(shift->label, r))) {
-            family.seed.shift_matrix = symmetry.matrices[subgroup.elements[j]];
-            shift = &family.subgroup[j];
-          }
-      }
-      // With numerically built matrices (finite-difference Hessians) v lies in Fix(K) only
-      // to ~1e-6; the projection makes the seed consistent.
-      family.seed.linear_mode = family.seed.invariant_basis.cast<Complex>() *
-                                (family.seed.invariant_basis.transpose().cast<Complex>() * v);
-      family.seed.angular_frequency = block.angular_frequency;
-      family.seed.block_dimension = d;
-      for (const PhasedElement& element : family.subgroup) {
-        if (element.element == group.identity()) continue;
-        TrajectorySymmetry check;
-        check.label = element.label;
-        check.matrix = symmetry.matrices[element.element];
-        check.numerator = element.numerator;
-        check.denominator = element.denominator;
-        family.seed.checks.push_back(std::move(check));
-      }
-
-      std::vector<std::string> kept;
-      for (const int element : kernel)
-        if (element != group.identity() && !is_higher_power(labels[element])) kept.push_back(labels[element]);
-      const bool whole_group_kept = static_cast<int>(kernel.size()) == order && order > 1;
-      family.description = describe(family, kept, shift, whole_group_kept, d);
-
-      // Resonance threats: blocks near k·ω, and whether symmetry lets them couple.
-      OneDimensionalCharacter theta;
-      theta.phase_numerators = candidate.numerators;
-      theta.phase_denominator = h_order;
-      for (std::size_t other = 0; other < blocks.size(); ++other) {
-        if (other == b) continue;
-        for (const int k : options.resonance_orders) {
-          const double detuning = (blocks[other].angular_frequency - k * block.angular_frequency) *
-                                  units.cm1_per_angular_frequency;
-          if (std::abs(detuning) > options.resonance_window_cm1) continue;
-          ResonanceThreat threat;
-          threat.partner_block = static_cast<int>(other);
-          threat.partner_mode_numbers = blocks[other].mode_numbers;
-          threat.partner_species = blocks[other].species;
-          threat.order = k;
-          threat.detuning_cm1 = detuning;
-          threat.coupling_dimension = rounded_dimension(
-              fixed_dimension(actions[other].characters, subgroup, theta, k), "a resonance partner block");
-          threat.symmetry_allowed = threat.coupling_dimension > 0;
-          family.resonance_threats.push_back(std::move(threat));
-        }
-      }
-      block_families.push_back(std::move(family));
+        family.subgroup.push_back(
+            phased(subgroup.elements[j], theta.phase_numerators[j], theta.phase_denominator, labels));
+      for (const int generator : subgroup.generators)
+        family.generators.push_back(phased(generator, theta.phase_numerators[position.at(generator)],
+                                           theta.phase_denominator, labels));
+      candidates.push_back(std::move(candidate));
     }
-    if (block_families.empty())
+  }
+  return candidates;
+}
+
+// A continuous symmetry (a linear molecule's axis) merges families it maps onto each other;
+// returns which candidates were merged into an earlier one.
+std::vector<bool> merge_axial_copies(const CoordinateSymmetry& symmetry, const BlockAction& action,
+                                     std::vector<Candidate>& candidates) {
+  std::vector<bool> merged(candidates.size(), false);
+  if (symmetry.axial_generator.size() == 0) return merged;
+  const Eigen::MatrixXd j_block = action.embedding.transpose() * symmetry.axial_generator * action.embedding;
+  Eigen::SelfAdjointEigenSolver<Eigen::MatrixXcd> solver(Complex(0.0, 1.0) * j_block.cast<Complex>());
+  AxialRotation axial;
+  axial.vectors = solver.eigenvectors();
+  axial.values = solver.eigenvalues();
+  constexpr double overlap_tolerance = 1e-6;  // |⟨w, e^{αJ}u⟩| = 1 within round-off for equivalent families
+  const int order = symmetry.group.order();
+  for (std::size_t i = 0; i < candidates.size(); ++i) {
+    if (merged[i]) continue;
+    const Eigen::VectorXcd& u = candidates[i].block_vector;
+    // The rotation moves the family unless J·u is a multiple of u (a rotating orbit
+    // about the axis is mapped to itself with a time shift).
+    const Eigen::VectorXcd turned = j_block.cast<Complex>() * u;
+    if (!phase_multiple(turned, u)) candidates[i].family.continuous_copies = true;
+    for (std::size_t k = i + 1; k < candidates.size(); ++k) {
+      if (merged[k]) continue;
+      for (int g = 0; g < order && !merged[k]; ++g) {
+        const Eigen::VectorXcd image = action.matrices[g].cast<Complex>() * candidates[k].block_vector;
+        if (best_axial_overlap(axial, u, image) > 1.0 - overlap_tolerance) merged[k] = true;
+      }
+      if (merged[k]) candidates[i].family.continuous_copies = true;
+    }
+  }
+  return merged;
+}
+
+// The seed continue_family needs: the linear orbit (phase aligned so that Re v is the
+// major axis, a turning point), Fix(ker θ) in the whole space, the shift element and the
+// trajectory checks; and the ellipticity. Returns the kernel ker θ and the shift element.
+std::vector<int> seed_family(const CoordinateSymmetry& symmetry, const BlockAction& action,
+                             const ModeBlock& block, const Subgroup& subgroup, Candidate& candidate,
+                             const PhasedElement*& shift) {
+  FamilyType& family = candidate.family;
+  const FiniteGroup& group = symmetry.group;
+  const int n = static_cast<int>(symmetry.matrices.front().rows());
+  const int h_order = static_cast<int>(subgroup.elements.size());
+  Eigen::VectorXcd v = action.embedding.cast<Complex>() * candidate.block_vector;
+  const Complex square_sum = (v.array() * v.array()).sum();
+  v *= std::polar(1.0, -0.5 * std::arg(square_sum));
+  const double major = v.real().norm(), minor = v.imag().norm();
+  family.ellipticity = major > 0.0 ? minor / major : 0.0;
+  constexpr double standing_tolerance = 1e-6;
+  family.standing = family.ellipticity < standing_tolerance;
+  if (family.standing) v = v.real().cast<Complex>();
+
+  std::vector<int> kernel;
+  for (int j = 0; j < h_order; ++j)
+    if (candidate.numerators[j] == 0) kernel.push_back(subgroup.elements[j]);
+  Eigen::MatrixXd projector = Eigen::MatrixXd::Zero(n, n);
+  for (const int k : kernel) projector += symmetry.matrices[k];
+  projector /= static_cast<double>(kernel.size());
+  Eigen::SelfAdjointEigenSolver<Eigen::MatrixXd> fixed(0.5 * (projector + projector.transpose()));
+  std::vector<int> columns;
+  for (int k = 0; k < n; ++k)
+    if (fixed.eigenvalues()(k) > 0.5) columns.push_back(k);
+  family.seed.invariant_basis.resize(n, static_cast<Eigen::Index>(columns.size()));
+  for (std::size_t k = 0; k < columns.size(); ++k)
+    family.seed.invariant_basis.col(static_cast<Eigen::Index>(k)) = fixed.eigenvectors().col(columns[k]);
+  const int r = h_order / static_cast<int>(kernel.size());
+  family.seed.shift_denominator = r;
+  shift = nullptr;
+  if (r > 1) {
+    for (int j = 0; j < h_order; ++j)
+      if (candidate.numerators[j] == static_cast<int>(kernel.size()) &&
+          (shift == nullptr ||
+           shift_preference(family.subgroup[j].label, r) < shift_preference(shift->label, r))) {
+        family.seed.shift_matrix = symmetry.matrices[subgroup.elements[j]];
+        shift = &family.subgroup[j];
+      }
+  }
+  // With numerically built matrices (finite-difference Hessians) v lies in Fix(K) only
+  // to ~1e-6; the projection makes the seed consistent.
+  family.seed.linear_mode = family.seed.invariant_basis.cast<Complex>() *
+                            (family.seed.invariant_basis.transpose().cast<Complex>() * v);
+  family.seed.angular_frequency = block.angular_frequency;
+  family.seed.block_dimension = static_cast<int>(block.coordinates.size());
+  for (const PhasedElement& element : family.subgroup) {
+    if (element.element == group.identity()) continue;
+    TrajectorySymmetry check;
+    check.label = element.label;
+    check.matrix = symmetry.matrices[element.element];
+    check.numerator = element.numerator;
+    check.denominator = element.denominator;
+    family.seed.checks.push_back(std::move(check));
+  }
+  return kernel;
+}
+
+// Resonance threats: blocks near k·ω, and whether symmetry lets them couple (the twisted
+// subgroup with kθ has a fixed space in the partner block).
+std::vector<ResonanceThreat> resonance_threats(const std::vector<ModeBlock>& blocks,
+                                               const std::vector<BlockAction>& actions, std::size_t b,
+                                               const Subgroup& subgroup, const Candidate& candidate,
+                                               const UnitConventions& units,
+                                               const EnumerationOptions& options) {
+  OneDimensionalCharacter theta;
+  theta.phase_numerators = candidate.numerators;
+  theta.phase_denominator = static_cast<int>(subgroup.elements.size());
+  std::vector<ResonanceThreat> threats;
+  for (std::size_t other = 0; other < blocks.size(); ++other) {
+    if (other == b) continue;
+    for (const int k : options.resonance_orders) {
+      const double detuning = (blocks[other].angular_frequency - k * blocks[b].angular_frequency) *
+                              units.cm1_per_angular_frequency;
+      if (std::abs(detuning) > options.resonance_window_cm1) continue;
+      ResonanceThreat threat;
+      threat.partner_block = static_cast<int>(other);
+      threat.partner_mode_numbers = blocks[other].mode_numbers;
+      threat.partner_species = blocks[other].species;
+      threat.order = k;
+      threat.detuning_cm1 = detuning;
+      threat.coupling_dimension = rounded_dimension(
+          fixed_dimension(actions[other].characters, subgroup, theta, k), "a resonance partner block");
+      threat.symmetry_allowed = threat.coupling_dimension > 0;
+      threats.push_back(std::move(threat));
+    }
+  }
+  return threats;
+}
+
+// The families of one block, larger subgroups first.
+std::vector<FamilyType> block_families(const std::vector<ModeBlock>& blocks,
+                                       const std::vector<BlockAction>& actions, std::size_t b,
+                                       const CoordinateSymmetry& symmetry, const SubgroupTable& table,
+                                       const std::vector<std::string>& labels, const UnitConventions& units,
+                                       const EnumerationOptions& options) {
+  const FiniteGroup& group = symmetry.group;
+  std::vector<Candidate> candidates =
+      block_candidates(group, table, actions[b], blocks[b], static_cast<int>(b), labels);
+  const std::vector<bool> merged = merge_axial_copies(symmetry, actions[b], candidates);
+  std::vector<FamilyType> families;
+  for (std::size_t i = 0; i < candidates.size(); ++i) {
+    if (merged[i]) continue;
+    Candidate& candidate = candidates[i];
+    const Subgroup& subgroup = table.subgroups[candidate.subgroup_index];
+    const PhasedElement* shift = nullptr;
+    const std::vector<int> kernel = seed_family(symmetry, actions[b], blocks[b], subgroup, candidate, shift);
+    std::vector<std::string> kept;
+    for (const int element : kernel)
+      if (element != group.identity() && !is_higher_power(labels[element])) kept.push_back(labels[element]);
+    const bool whole_group_kept = static_cast<int>(kernel.size()) == group.order() && group.order() > 1;
+    FamilyType& family = candidate.family;
+    family.description =
+        describe(family, kept, shift, whole_group_kept, static_cast<int>(blocks[b].coordinates.size()));
+    family.resonance_threats = resonance_threats(blocks, actions, b, subgroup, candidate, units, options);
+    families.push_back(std::move(family));
+  }
+  std::stable_sort(families.begin(), families.end(), [](const FamilyType& x, const FamilyType& y) {
+    return x.subgroup.size() > y.subgroup.size();
+  });
+  return families;
+}
+
+}  // namespace
+
+FamilyEnumeration enumerate_families(const std::vector<ModeBlock>& blocks, const CoordinateSymmetry& symmetry,
+                                     const UnitConventions& units, const EnumerationOptions& options) {
+  const std::vector<std::string> labels = checked_labels(symmetry);
+  const int n = static_cast<int>(symmetry.matrices.front().rows());
+  FamilyEnumeration enumeration;
+  enumeration.blocks = blocks;
+  std::vector<BlockAction> actions;
+  for (const ModeBlock& block : blocks) {
+    if (block.coordinates.empty()) throw Error("a mode block has no coordinates");
+    actions.push_back(restrict_to_block(block, symmetry, n, options.invariance_tolerance, labels));
+  }
+  const SubgroupTable table = subgroup_table(symmetry.group);
+  for (std::size_t b = 0; b < blocks.size(); ++b) {
+    std::vector<FamilyType> families =
+        block_families(blocks, actions, b, symmetry, table, labels, units, options);
+    if (families.empty())
       enumeration.warnings.push_back(fmt::format(
           "no family is predicted for the {}-fold degenerate modes {}: no twisted isotropy subgroup has a "
           "one-dimensional fixed space (the group given may not describe their symmetry)",
-          d, fmt::join(block.mode_numbers, ",")));
-    std::stable_sort(
-        block_families.begin(), block_families.end(),
-        [](const FamilyType& x, const FamilyType& y) { return x.subgroup.size() > y.subgroup.size(); });
-    for (auto& family : block_families) enumeration.families.push_back(std::move(family));
+          blocks[b].coordinates.size(), fmt::join(blocks[b].mode_numbers, ",")));
+    for (auto& family : families) enumeration.families.push_back(std::move(family));
   }
   return enumeration;
 }

@@ -21,6 +21,7 @@
 #include "families/periodic_orbits.hpp"
 #include "families/vibrational_system.hpp"
 #include "symmetry/finite_group.hpp"
+#include "symmetry/mode_symmetry.hpp"
 
 namespace overtone {
 
@@ -51,10 +52,17 @@ struct ModeBlock {
   double angular_frequency = 0.0;  // radians per time unit of the system
 };
 
-// Groups coordinates whose harmonic angular frequencies agree within relative_tolerance
-// (chained, after sorting), ascending in frequency.
+// One block per degenerate set of the mode symmetry, ascending in frequency, with the set's
+// species: angular_frequency is the mean ω of the members (angular_frequencies per
+// coordinate), mode_numbers[k] the report number of coordinate k (empty: k + 1). Throws
+// Error when the sizes disagree with the symmetry's mode count.
+std::vector<ModeBlock> mode_blocks(const ModeSymmetry& symmetry, const Eigen::VectorXd& angular_frequencies,
+                                   const std::vector<int>& mode_numbers = {});
+
+// The blocks of a system without point-group data: the sets of ModeSymmetry::without_group
+// on the wavenumbers ω·units.cm1_per_angular_frequency (degeneracy_tolerance_cm1).
 std::vector<ModeBlock> blocks_by_frequency(const Eigen::VectorXd& angular_frequencies,
-                                           double relative_tolerance = 1e-6);
+                                           const UnitConventions& units);
 
 // An element of the subgroup H of a family with its phase θ(h) = 2π·numerator/denominator
 // (reduced fraction; 0/1 for θ = 0).

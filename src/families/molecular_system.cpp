@@ -123,33 +123,32 @@ Eigen::MatrixXd nearest_orthogonal(const Eigen::MatrixXd& m) {
 
 }  // namespace
 
-CoordinateSymmetry molecular_coordinate_symmetry(const PointGroupResult& group,
-                                                 const HarmonicResult& harmonic, CoordinateFrame frame) {
-  const Eigen::MatrixXd& modes = harmonic.mass_weighted_modes;
-  if (static_cast<Eigen::Index>(group.permutations.empty() ? 0 : group.permutations.front().size()) * 3 !=
-      modes.rows())
-    throw Error(fmt::format("point group for {} atoms does not match harmonic data for {} coordinates",
-                            group.permutations.empty() ? 0 : group.permutations.front().size(),
-                            modes.rows()));
-  CoordinateSymmetry symmetry;
-  symmetry.group = group.group.finite_group();
-  const int n = static_cast<int>(modes.cols());
+CoordinateSymmetry molecular_coordinate_symmetry(const PointGroupResult& group, const ModeSymmetry& symmetry,
+                                                 const HarmonicResult& harmonic) {
+  const auto n = static_cast<Eigen::Index>(harmonic.mode_count());
+  if (symmetry.mode_count() != harmonic.mode_count() ||
+      static_cast<int>(symmetry.order()) != group.group.order())
+    throw Error(fmt::format(
+        "a mode symmetry of order {} on {} modes does not match {} on harmonic data with {} modes",
+        symmetry.order(), symmetry.mode_count(), group.group.name, n));
+  CoordinateSymmetry coordinates;
+  coordinates.group = group.group.finite_group();
   // Optimized geometries are symmetric to ~1e-6 Å; a larger defect means the group does
   // not describe the harmonic geometry.
   constexpr double orthogonality_limit = 1e-3;
   for (int g = 0; g < group.group.order(); ++g) {
-    const Eigen::MatrixXd d = modes.transpose() * apply_operation(group, g, modes, frame);
+    const Eigen::MatrixXd& d = symmetry.operations()[static_cast<std::size_t>(g)];
     const double defect = (d.transpose() * d - Eigen::MatrixXd::Identity(n, n)).cwiseAbs().maxCoeff();
     if (defect > orthogonality_limit)
       throw Error(fmt::format(
           "operation {} does not map the vibrational coordinates onto themselves (defect {:.3g}); "
           "the harmonic geometry does not have the symmetry of {}",
           group.group.operations[g].name, defect, group.group.name));
-    symmetry.matrices.push_back(nearest_orthogonal(d));
-    symmetry.labels.push_back(group.group.operations[g].name);
+    coordinates.matrices.push_back(nearest_orthogonal(d));
+    coordinates.labels.push_back(group.group.operations[g].name);
   }
-  if (harmonic.linear) symmetry.axial_generator = axial_rotation_generator(harmonic);
-  return symmetry;
+  if (harmonic.linear) coordinates.axial_generator = axial_rotation_generator(harmonic);
+  return coordinates;
 }
 
 Eigen::MatrixXd axial_rotation_generator(const HarmonicResult& harmonic) {
@@ -174,8 +173,7 @@ std::vector<Eigen::MatrixXd> MolecularVibrationalSystem::symmetry_generators() c
   return {axial_generator_};
 }
 
-std::vector<ModeBlock> molecular_mode_blocks(const ModeSymmetryResult& species,
-                                             const HarmonicResult& harmonic,
+std::vector<ModeBlock> molecular_mode_blocks(const ModeSymmetry& symmetry, const HarmonicResult& harmonic,
                                              const std::vector<int>& mode_order) {
   const int n = static_cast<int>(harmonic.mode_count());
   std::vector<int> number(static_cast<std::size_t>(n));
@@ -189,21 +187,7 @@ std::vector<ModeBlock> molecular_mode_blocks(const ModeSymmetryResult& species,
       number[mode_order[k]] = k + 1;
     }
   }
-  std::vector<ModeBlock> blocks;
-  for (const ModeSet& set : species.sets) {
-    ModeBlock block;
-    double sum = 0.0;
-    for (const int mode : set.modes) {
-      if (mode < 0 || mode >= n) throw Error(fmt::format("mode set refers to mode {} of {}", mode, n));
-      block.coordinates.push_back(mode);
-      block.mode_numbers.push_back(number[mode]);
-      sum += std::sqrt(std::max(harmonic.eigenvalues(mode), 0.0));
-    }
-    block.angular_frequency = sum / static_cast<double>(set.modes.size());
-    block.species = set.species;
-    blocks.push_back(std::move(block));
-  }
-  return blocks;
+  return mode_blocks(symmetry, harmonic.eigenvalues.cwiseMax(0.0).cwiseSqrt(), number);
 }
 
 }  // namespace overtone

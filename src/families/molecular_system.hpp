@@ -94,25 +94,24 @@ class MolecularVibrationalSystem : public VibrationalSystem {
   mutable Eigen::VectorXd cartesian_gradient_;
 };
 
-// The point group acting on the normal coordinates: D(g) = Lᵀ R(g) L with R(g) the action
-// of operation g (matrix and atom permutation) on mass-weighted Cartesian displacements,
-// in the frame where the harmonic data were found. Each D(g) is replaced by the nearest
-// orthogonal matrix (polar factor) to absorb the residual asymmetry of an optimized
-// geometry. For linear molecules the generator of rotations about the molecular axis is
-// added. Throws Error when the sizes disagree or a D(g) is far from orthogonal (the
-// harmonic geometry does not have the group's symmetry).
-CoordinateSymmetry molecular_coordinate_symmetry(const PointGroupResult& group,
-                                                 const HarmonicResult& harmonic, CoordinateFrame frame);
+// The point group acting on the normal coordinates for the families: the matrices of the
+// mode symmetry (on the harmonic modes, in the frame the species were found), each replaced
+// by the nearest orthogonal matrix (polar factor) to absorb the residual asymmetry of an
+// optimized geometry, with the group's typographic operation names. For linear molecules
+// the generator of rotations about the molecular axis is added. Throws Error when the sizes
+// disagree or a matrix is far from orthogonal (the harmonic geometry does not have the
+// group's symmetry).
+CoordinateSymmetry molecular_coordinate_symmetry(const PointGroupResult& group, const ModeSymmetry& symmetry,
+                                                 const HarmonicResult& harmonic);
 
 // Generator of rotations about the molecular axis acting on the normal coordinates,
 // Lᵀ(I ⊗ [a]×)L with a the axis of the (linear) harmonic geometry; antisymmetric n × n.
 Eigen::MatrixXd axial_rotation_generator(const HarmonicResult& harmonic);
 
-// Blocks of normal coordinates from the symmetry stage's degenerate sets, with species
+// Blocks of normal coordinates from the degenerate sets of the mode symmetry, with species
 // labels and report numbers: mode_order[k] is the harmonic index of reported mode k+1
 // (AnalysisResult::mode_order); empty: numbers are harmonic index + 1.
-std::vector<ModeBlock> molecular_mode_blocks(const ModeSymmetryResult& species,
-                                             const HarmonicResult& harmonic,
+std::vector<ModeBlock> molecular_mode_blocks(const ModeSymmetry& symmetry, const HarmonicResult& harmonic,
                                              const std::vector<int>& mode_order = {});
 
 }  // namespace overtone

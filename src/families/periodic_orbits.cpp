@@ -14,44 +14,18 @@
 
 namespace overtone {
 
+// Names in the order of the enumerations.
 const char* to_string(ContinuationStatus status) {
-  switch (status) {
-    case ContinuationStatus::reached_energy_max:
-      return "reached_energy_max";
-    case ContinuationStatus::escaped:
-      return "escaped";
-    case ContinuationStatus::step_too_small:
-      return "step_too_small";
-    case ContinuationStatus::point_limit:
-      return "point_limit";
-    case ContinuationStatus::start_failed:
-      return "start_failed";
-    case ContinuationStatus::turned_back:
-      return "turned_back";
-  }
-  return "unknown";
+  static constexpr const char* names[] = {"reached_energy_max", "escaped",      "step_too_small",
+                                          "point_limit",        "start_failed", "turned_back"};
+  return names[static_cast<std::size_t>(status)];
 }
 
 const char* to_string(FamilyEventKind kind) {
-  switch (kind) {
-    case FamilyEventKind::fold:
-      return "fold";
-    case FamilyEventKind::stability_lost:
-      return "stability_lost";
-    case FamilyEventKind::stability_gained:
-      return "stability_gained";
-    case FamilyEventKind::period_doubling:
-      return "period_doubling";
-    case FamilyEventKind::branch_point:
-      return "branch_point";
-    case FamilyEventKind::instability_changed:
-      return "instability_changed";
-    case FamilyEventKind::resonance_encounter:
-      return "resonance_encounter";
-    case FamilyEventKind::escape:
-      return "escape";
-  }
-  return "unknown";
+  static constexpr const char* names[] = {
+      "fold",         "stability_lost",      "stability_gained",    "period_doubling",
+      "branch_point", "instability_changed", "resonance_encounter", "escape"};
+  return names[static_cast<std::size_t>(kind)];
 }
 
 namespace {
@@ -232,6 +206,25 @@ class FamilySolver {
   Unknowns unscaled(const Eigen::VectorXd& state, double period, double energy, double length) const;
   double total_energy(const Eigen::VectorXd& scaled, double length) const;
 
+  // Cost of the point being computed: corrector work since the last accepted point.
+  struct PointCost {
+    int iterations = 0, variational = 0, orbits = 0;
+    std::size_t gradients_at_start = 0;
+    std::chrono::steady_clock::time_point started;
+  };
+  ContinuationResult finish(ContinuationResult& result, ContinuationStatus status, std::string message);
+  ContinuationResult finish_after_failure(ContinuationResult& result, const std::string& failure,
+                                          bool escape);
+  ContinuationResult finish_at_energy_max(ContinuationResult& result, const PointCost& cost);
+  // The corrector set-up for an orbit at a fixed energy, phase anchored at `reference`.
+  CorrectorSetup fixed_energy_setup(const Unknowns& reference, double energy) const;
+  // First point: Newton from the linear orbit at a small energy (smaller on each retry).
+  bool start(ContinuationResult& result, std::string& failure);
+  CorrectorOutcome continuation_step(double step, double& trial_step, bool& final_step);
+  double next_step(double step, double trial_step, int iterations) const;
+  // Records a converged orbit: analysis, point, oriented tangent. False when the analysis
+  // integration fails.
+  bool accept(const CorrectorOutcome& corrected, const PointCost& cost, ContinuationResult& result);
   CorrectorOutcome correct(const Unknowns& guess, const CorrectorSetup& setup);
   bool analyze_point(const Unknowns& u, OrbitPoint& point, PointAnalysis& analysis);
   Eigen::VectorXd tangent_at(const Unknowns& u, const Eigen::MatrixXd& reduced_transition, double length,
@@ -268,6 +261,11 @@ class FamilySolver {
   std::vector<Eigen::MatrixXd> accepted_transitions_;
   std::vector<double> accepted_actions_;
   std::string last_integration_failure_;
+  Eigen::VectorXd tangent_;  // unit tangent at the last accepted point, scaled (â, b̂, τ, Ê)
+  double tangent_length_ = 1.0;
+  double tangent_time_scale_ = 1.0;
+  std::chrono::steady_clock::time_point started_;
+  std::size_t gradients_before_ = 0;
 };
 
 FamilySolver::FamilySolver(const VibrationalSystem& system, const FamilySeed& seed,
@@ -708,94 +706,89 @@ void FamilySolver::fill_converted(OrbitPoint& point) const {
 
 namespace {
 
-ContinuationResult FamilySolver::run() {
-  const auto started = std::chrono::steady_clock::now();
-  ContinuationResult result;
-  result.reduced_dimension = m_;
-  result.shift_denominator = r_;
-  const std::size_t gradients_before = system_.counts().gradients;
-  const double energy_max = options_.energy_max;
-  const double escape_energy = system_.escape_energy();
-  if (energy_max >= escape_energy)
-    result.warnings.push_back(
-        fmt::format("energy_max {} lies at or above the system's escape energy {}; the family ends there",
-                    energy_text(energy_max), energy_text(escape_energy)));
+ContinuationResult FamilySolver::finish(ContinuationResult& result, ContinuationStatus status,
+                                        std::string message) {
+  result.status = status;
+  result.message = std::move(message);
+  detect_events(result);
+  if (!result.points.empty()) build_ladder(result);
+  const auto& counters = integrator_->counters();
+  result.gradient_evaluations = system_.counts().gradients - gradients_before_;
+  result.integration_steps = counters.steps;
+  result.seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - started_).count();
+  if (counters.full_variational_periods > 0.0)
+    result.seconds_per_variational_period =
+        counters.full_variational_seconds / counters.full_variational_periods;
+  for (const auto& point : result.points) {
+    result.newton_iterations += point.newton_iterations;
+    result.variational_integrations += point.variational_integrations;
+    result.orbit_integrations += point.orbit_integrations;
+  }
+  return result;
+}
 
-  auto finish = [&](ContinuationStatus status, std::string message) {
-    result.status = status;
-    result.message = std::move(message);
-    detect_events(result);
-    if (!result.points.empty()) build_ladder(result);
-    const auto& counters = integrator_->counters();
-    result.gradient_evaluations = system_.counts().gradients - gradients_before;
-    result.integration_steps = counters.steps;
-    result.seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - started).count();
-    if (counters.full_variational_periods > 0.0)
-      result.seconds_per_variational_period =
-          counters.full_variational_seconds / counters.full_variational_periods;
-    for (const auto& point : result.points) {
-      result.newton_iterations += point.newton_iterations;
-      result.variational_integrations += point.variational_integrations;
-      result.orbit_integrations += point.orbit_integrations;
-    }
-    return result;
-  };
+CorrectorSetup FamilySolver::fixed_energy_setup(const Unknowns& reference, double energy) const {
+  CorrectorSetup setup;
+  setup.length = length_for(energy);
+  setup.time_scale = time_scale_for(reference.period);
+  setup.fixed_energy = true;
+  setup.target_energy = energy;
+  setup.phase_reference = scaled_state(reference, setup.length);
+  setup.phase_direction =
+      integrator_->scaled_velocity(setup.phase_reference, {setup.length, omega_}).normalized();
+  return setup;
+}
 
-  // Accepts a converged corrector outcome: analysis, point record, tangent.
-  Eigen::VectorXd tangent;
-  double tangent_length = 1.0;
-  double tangent_time_scale = 1.0;
-  auto accept = [&](const CorrectorOutcome& corrected, int iterations, int variational, int orbits,
-                    std::size_t gradients_at_start, std::chrono::steady_clock::time_point point_started) {
-    OrbitPoint point;
-    point.energy = corrected.solution.energy;
-    point.period = corrected.solution.period;
-    point.newton_iterations = iterations;
-    point.variational_integrations = variational;
-    point.orbit_integrations = orbits;
-    PointAnalysis analysis;
-    if (!analyze_point(corrected.solution, point, analysis)) {
-      last_integration_failure_ = analysis.failure;
-      return false;
-    }
-    const double length = length_for(point.energy);
-    const double time_scale = time_scale_for(point.period);
-    Eigen::VectorXd new_tangent =
-        tangent_at(corrected.solution, analysis.reduced_transition, length, time_scale);
-    if (accepted_.empty()) {
-      if (new_tangent(2 * m_ + 1) < 0.0) new_tangent = -new_tangent;
-    } else {
-      // Orient along the secant from the previous point (both in this point's scaling).
-      const Unknowns& previous = accepted_.back();
-      Eigen::VectorXd secant(2 * m_ + 2);
-      secant.head(2 * m_) = scaled_state(corrected.solution, length) - scaled_state(previous, length);
-      secant(2 * m_) = (corrected.solution.period - previous.period) / time_scale;
-      secant(2 * m_ + 1) = (corrected.solution.energy - previous.energy) / energy_scale(length);
-      if (new_tangent.dot(secant) < 0.0) new_tangent = -new_tangent;
-    }
-    tangent = new_tangent;
-    tangent_length = length;
-    tangent_time_scale = time_scale;
-    point.energy_direction = tangent(2 * m_ + 1) >= 0.0 ? 1 : -1;
-    point.initial_positions = basis_ * corrected.solution.a;
-    point.initial_momenta = basis_ * corrected.solution.b;
-    point.gradient_evaluations = system_.counts().gradients - gradients_at_start;
-    point.seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - point_started).count();
-    fill_converted(point);
-    result.points.push_back(std::move(point));
-    accepted_.push_back(corrected.solution);
-    accepted_transitions_.push_back(analysis.reduced_transition);
-    accepted_actions_.push_back(corrected.action);
-    return true;
-  };
+bool FamilySolver::accept(const CorrectorOutcome& corrected, const PointCost& cost,
+                          ContinuationResult& result) {
+  OrbitPoint point;
+  point.energy = corrected.solution.energy;
+  point.period = corrected.solution.period;
+  point.newton_iterations = cost.iterations;
+  point.variational_integrations = cost.variational;
+  point.orbit_integrations = cost.orbits;
+  PointAnalysis analysis;
+  if (!analyze_point(corrected.solution, point, analysis)) {
+    last_integration_failure_ = analysis.failure;
+    return false;
+  }
+  const double length = length_for(point.energy);
+  const double time_scale = time_scale_for(point.period);
+  Eigen::VectorXd new_tangent =
+      tangent_at(corrected.solution, analysis.reduced_transition, length, time_scale);
+  if (accepted_.empty()) {
+    if (new_tangent(2 * m_ + 1) < 0.0) new_tangent = -new_tangent;
+  } else {
+    // Orient along the secant from the previous point (both in this point's scaling).
+    const Unknowns& previous = accepted_.back();
+    Eigen::VectorXd secant(2 * m_ + 2);
+    secant.head(2 * m_) = scaled_state(corrected.solution, length) - scaled_state(previous, length);
+    secant(2 * m_) = (corrected.solution.period - previous.period) / time_scale;
+    secant(2 * m_ + 1) = (corrected.solution.energy - previous.energy) / energy_scale(length);
+    if (new_tangent.dot(secant) < 0.0) new_tangent = -new_tangent;
+  }
+  tangent_ = new_tangent;
+  tangent_length_ = length;
+  tangent_time_scale_ = time_scale;
+  point.energy_direction = tangent_(2 * m_ + 1) >= 0.0 ? 1 : -1;
+  point.initial_positions = basis_ * corrected.solution.a;
+  point.initial_momenta = basis_ * corrected.solution.b;
+  point.gradient_evaluations = system_.counts().gradients - cost.gradients_at_start;
+  point.seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - cost.started).count();
+  fill_converted(point);
+  result.points.push_back(std::move(point));
+  accepted_.push_back(corrected.solution);
+  accepted_transitions_.push_back(analysis.reduced_transition);
+  accepted_actions_.push_back(corrected.action);
+  return true;
+}
 
-  // ---- first point: Newton from the linear orbit at a small energy ----
-  double start_energy = options_.start_energy_fraction * energy_max;
-  bool started_ok = false;
-  std::string start_failure;
-  for (int attempt = 0; attempt < 4 && !started_ok; ++attempt, start_energy *= 0.1) {
-    const auto point_started = std::chrono::steady_clock::now();
-    const std::size_t gradients_at_start = system_.counts().gradients;
+bool FamilySolver::start(ContinuationResult& result, std::string& failure) {
+  double start_energy = options_.start_energy_fraction * options_.energy_max;
+  for (int attempt = 0; attempt < 4; ++attempt, start_energy *= 0.1) {
+    PointCost cost;
+    cost.started = std::chrono::steady_clock::now();
+    cost.gradients_at_start = system_.counts().gradients;
     const Eigen::VectorXcd& v = seed_.linear_mode;
     const double amplitude = std::sqrt(2.0 * start_energy) / (omega_ * v.norm());
     Unknowns guess;
@@ -803,80 +796,153 @@ ContinuationResult FamilySolver::run() {
     guess.b = basis_.transpose() * (-omega_ * amplitude * v.imag());
     guess.period = 2.0 * units::pi / omega_;
     guess.energy = start_energy;
-    CorrectorSetup setup;
-    setup.length = length_for(start_energy);
-    setup.time_scale = time_scale_for(guess.period);
-    setup.fixed_energy = true;
-    setup.target_energy = start_energy;
-    setup.phase_reference = scaled_state(guess, setup.length);
-    setup.phase_direction =
-        integrator_->scaled_velocity(setup.phase_reference, {setup.length, omega_}).normalized();
     have_hint_ = false;
-    const CorrectorOutcome corrected = correct(guess, setup);
+    const CorrectorOutcome corrected = correct(guess, fixed_energy_setup(guess, start_energy));
     if (!corrected.converged) {
-      start_failure = corrected.failure;
+      failure = corrected.failure;
       continue;
     }
-    started_ok = accept(corrected, corrected.iterations, corrected.variational_integrations,
-                        corrected.orbit_integrations, gradients_at_start, point_started);
-    if (!started_ok) start_failure = last_integration_failure_;
+    cost.iterations = corrected.iterations;
+    cost.variational = corrected.variational_integrations;
+    cost.orbits = corrected.orbit_integrations;
+    if (accept(corrected, cost, result)) return true;
+    failure = last_integration_failure_;
   }
-  if (!started_ok)
-    return finish(ContinuationStatus::start_failed,
+  return false;
+}
+
+// The arclength corrector overshot energy_max: solve the last point at energy_max exactly
+// instead, starting from the overshooting orbit; keep the overshoot if that fails.
+ContinuationResult FamilySolver::finish_at_energy_max(ContinuationResult& result, const PointCost& cost) {
+  const double energy_max = options_.energy_max;
+  const OrbitPoint overshoot_point = result.points.back();
+  const Unknowns overshoot = accepted_.back();
+  const Eigen::MatrixXd overshoot_transition = accepted_transitions_.back();
+  const double overshoot_action = accepted_actions_.back();
+  result.points.pop_back();
+  accepted_.pop_back();
+  accepted_transitions_.pop_back();
+  accepted_actions_.pop_back();
+  Unknowns guess = overshoot;
+  guess.energy = energy_max;
+  hint_ = overshoot_transition;
+  have_hint_ = true;
+  const CorrectorOutcome last = correct(guess, fixed_energy_setup(overshoot, energy_max));
+  PointCost last_cost = cost;
+  last_cost.iterations = last.iterations;
+  last_cost.variational = last.variational_integrations;
+  last_cost.orbits = last.orbit_integrations;
+  if (last.converged && accept(last, last_cost, result))
+    return finish(result, ContinuationStatus::reached_energy_max, "reached energy_max");
+  result.points.push_back(overshoot_point);
+  accepted_.push_back(overshoot);
+  accepted_transitions_.push_back(overshoot_transition);
+  accepted_actions_.push_back(overshoot_action);
+  result.warnings.push_back(
+      fmt::format("the last point lies slightly above energy_max, at {}", energy_text(overshoot.energy)));
+  return finish(result, ContinuationStatus::reached_energy_max, "reached energy_max");
+}
+
+// One predictor-corrector step of size `step` (capped in energy and at energy_max) from
+// the last accepted point; the outcome of the corrector, and whether this was the final
+// step onto energy_max.
+CorrectorOutcome FamilySolver::continuation_step(double step, double& trial_step, bool& final_step) {
+  const double energy_max = options_.energy_max;
+  const Unknowns& current = accepted_.back();
+  const double length = tangent_length_;
+  const double time_scale = tangent_time_scale_;
+  const double scale = energy_scale(length);
+  const double energy_rate = tangent_(2 * m_ + 1) * scale;  // dE per unit step
+  // Resolution of the backbone: cap the energy change per step.
+  const double energy_cap = options_.max_energy_step_fraction * energy_max;
+  trial_step = step;
+  if (std::abs(energy_rate) * trial_step > energy_cap) trial_step = energy_cap / std::abs(energy_rate);
+  final_step = energy_rate > 0.0 && current.energy + energy_rate * trial_step >= energy_max;
+  if (final_step) trial_step = (energy_max - current.energy) / energy_rate;
+
+  Eigen::VectorXd current_scaled(2 * m_ + 2);
+  current_scaled.head(2 * m_) = scaled_state(current, length);
+  current_scaled(2 * m_) = current.period / time_scale;
+  current_scaled(2 * m_ + 1) = current.energy / scale;
+  const Eigen::VectorXd predicted = current_scaled + trial_step * tangent_;
+  Unknowns guess =
+      unscaled(predicted.head(2 * m_), predicted(2 * m_) * time_scale, predicted(2 * m_ + 1) * scale, length);
+  CorrectorSetup setup;
+  setup.length = length;
+  setup.time_scale = time_scale;
+  setup.phase_reference = current_scaled.head(2 * m_);
+  setup.phase_direction = integrator_->scaled_velocity(setup.phase_reference, {length, omega_}).normalized();
+  setup.fixed_energy = final_step;
+  setup.target_energy = energy_max;
+  setup.tangent = tangent_;
+  setup.predicted = predicted;
+  if (final_step) guess.energy = energy_max;
+  return correct(guess, setup);
+}
+
+// Why the family stops after a corrector failure at the smallest step.
+ContinuationResult FamilySolver::finish_after_failure(ContinuationResult& result, const std::string& failure,
+                                                      bool escape) {
+  const double escape_energy = system_.escape_energy();
+  const double reached = result.points.back().energy;
+  const bool near_escape = std::isfinite(escape_energy) && reached > 0.9 * escape_energy;
+  if (escape || near_escape)
+    return finish(result, ContinuationStatus::escaped,
+                  fmt::format("orbits stop closing above {} ({}){}", energy_text(reached), failure,
+                              near_escape ? fmt::format(": the escape energy of the system is {}",
+                                                        energy_text(escape_energy))
+                                          : std::string(": probably a dissociation or barrier")));
+  return finish(
+      result, ContinuationStatus::step_too_small,
+      fmt::format("the corrector failed at the smallest step beyond {}: {}", energy_text(reached), failure));
+}
+
+// Step-size control from the corrector's effort: with the predictor's residual evaluation
+// and Broyden-updated chord steps a comfortable step takes about five integrations.
+double FamilySolver::next_step(double step, double trial_step, int iterations) const {
+  if (iterations <= 5) return std::min(options_.max_step, 1.5 * trial_step);
+  if (iterations >= 7) return std::max(options_.min_step, 0.6 * trial_step);
+  return std::max(trial_step, std::min(step, options_.max_step));
+}
+
+ContinuationResult FamilySolver::run() {
+  started_ = std::chrono::steady_clock::now();
+  gradients_before_ = system_.counts().gradients;
+  ContinuationResult result;
+  result.reduced_dimension = m_;
+  result.shift_denominator = r_;
+  const double energy_max = options_.energy_max;
+  const double escape_energy = system_.escape_energy();
+  if (energy_max >= escape_energy)
+    result.warnings.push_back(
+        fmt::format("energy_max {} lies at or above the system's escape energy {}; the family ends there",
+                    energy_text(energy_max), energy_text(escape_energy)));
+  std::string start_failure;
+  if (!start(result, start_failure))
+    return finish(result, ContinuationStatus::start_failed,
                   fmt::format("no periodic orbit was found near the linear orbit: {}", start_failure));
   const double first_energy = result.points.front().energy;
 
-  // ---- continuation ----
   double step = options_.initial_step;
-  int spent_iterations = 0, spent_variational = 0, spent_orbits = 0;
-  auto point_started = std::chrono::steady_clock::now();
-  std::size_t gradients_at_start = system_.counts().gradients;
+  PointCost cost;
+  cost.started = std::chrono::steady_clock::now();
+  cost.gradients_at_start = system_.counts().gradients;
   std::string last_failure;
   bool last_failure_escape = false;
   while (true) {
     if (static_cast<int>(result.points.size()) >= options_.max_points)
-      return finish(ContinuationStatus::point_limit,
+      return finish(result, ContinuationStatus::point_limit,
                     fmt::format("stopped after {} points at {}, below energy_max", result.points.size(),
                                 energy_text(result.points.back().energy)));
-    const Unknowns& current = accepted_.back();
-    const double length = tangent_length;
-    const double time_scale = tangent_time_scale;
-    const double scale = energy_scale(length);
-    const double energy_rate = tangent(2 * m_ + 1) * scale;  // dE per unit step
-    // Resolution of the backbone: cap the energy change per step.
-    const double energy_cap = options_.max_energy_step_fraction * energy_max;
     double trial_step = step;
-    if (std::abs(energy_rate) * trial_step > energy_cap) trial_step = energy_cap / std::abs(energy_rate);
-    const bool final_step = energy_rate > 0.0 && current.energy + energy_rate * trial_step >= energy_max;
-    if (final_step) trial_step = (energy_max - current.energy) / energy_rate;
-
-    Eigen::VectorXd current_scaled(2 * m_ + 2);
-    current_scaled.head(2 * m_) = scaled_state(current, length);
-    current_scaled(2 * m_) = current.period / time_scale;
-    current_scaled(2 * m_ + 1) = current.energy / scale;
-    const Eigen::VectorXd predicted = current_scaled + trial_step * tangent;
-    Unknowns guess = unscaled(predicted.head(2 * m_), predicted(2 * m_) * time_scale,
-                              predicted(2 * m_ + 1) * scale, length);
-
-    CorrectorSetup setup;
-    setup.length = length;
-    setup.time_scale = time_scale;
-    setup.phase_reference = current_scaled.head(2 * m_);
-    setup.phase_direction =
-        integrator_->scaled_velocity(setup.phase_reference, {length, omega_}).normalized();
-    setup.fixed_energy = final_step;
-    setup.target_energy = energy_max;
-    setup.tangent = tangent;
-    setup.predicted = predicted;
-    if (final_step) guess.energy = energy_max;
-    const CorrectorOutcome corrected = correct(guess, setup);
-    spent_iterations += corrected.iterations;
-    spent_variational += corrected.variational_integrations;
-    spent_orbits += corrected.orbit_integrations;
+    bool final_step = false;
+    const CorrectorOutcome corrected = continuation_step(step, trial_step, final_step);
+    cost.iterations += corrected.iterations;
+    cost.variational += corrected.variational_integrations;
+    cost.orbits += corrected.orbit_integrations;
     bool accepted = false;
     if (corrected.converged) {
-      accepted = accept(corrected, spent_iterations, spent_variational, spent_orbits, gradients_at_start,
-                        point_started);
+      accepted = accept(corrected, cost, result);
       if (!accepted) {
         last_failure = last_integration_failure_;
         last_failure_escape = true;
@@ -891,74 +957,19 @@ ContinuationResult FamilySolver::run() {
       hint_ = accepted_transitions_.back();
       have_hint_ = true;
       step = 0.5 * trial_step;
-      if (step < options_.min_step) {
-        const double reached = result.points.back().energy;
-        const bool near_escape = std::isfinite(escape_energy) && reached > 0.9 * escape_energy;
-        if (last_failure_escape || near_escape) {
-          return finish(ContinuationStatus::escaped,
-                        fmt::format("orbits stop closing above {} ({}){}", energy_text(reached), last_failure,
-                                    near_escape ? fmt::format(": the escape energy of the system is {}",
-                                                              energy_text(escape_energy))
-                                                : std::string(": probably a dissociation or barrier")));
-        }
-        return finish(ContinuationStatus::step_too_small,
-                      fmt::format("the corrector failed at the smallest step beyond {}: {}",
-                                  energy_text(reached), last_failure));
-      }
+      if (step < options_.min_step) return finish_after_failure(result, last_failure, last_failure_escape);
       continue;
     }
-    // Step-size control from the corrector's effort: with the predictor's residual
-    // evaluation and Broyden-updated chord steps a comfortable step takes about five
-    // integrations.
-    if (corrected.iterations <= 5)
-      step = std::min(options_.max_step, 1.5 * trial_step);
-    else if (corrected.iterations >= 7)
-      step = std::max(options_.min_step, 0.6 * trial_step);
-    else
-      step = std::max(trial_step, std::min(step, options_.max_step));
-    spent_iterations = spent_variational = spent_orbits = 0;
-    point_started = std::chrono::steady_clock::now();
-    gradients_at_start = system_.counts().gradients;
-    if (final_step) return finish(ContinuationStatus::reached_energy_max, "reached energy_max");
-    if (result.points.back().energy > energy_max) {
-      // The arclength corrector overshot energy_max: solve the last point at energy_max
-      // exactly instead, starting from the overshooting orbit.
-      const OrbitPoint overshoot_point = result.points.back();
-      const Unknowns overshoot = accepted_.back();
-      const Eigen::MatrixXd overshoot_transition = accepted_transitions_.back();
-      const double overshoot_action = accepted_actions_.back();
-      result.points.pop_back();
-      accepted_.pop_back();
-      accepted_transitions_.pop_back();
-      accepted_actions_.pop_back();
-      Unknowns guess = overshoot;
-      guess.energy = energy_max;
-      CorrectorSetup setup;
-      setup.length = length_for(energy_max);
-      setup.time_scale = time_scale_for(overshoot.period);
-      setup.fixed_energy = true;
-      setup.target_energy = energy_max;
-      setup.phase_reference = scaled_state(overshoot, setup.length);
-      setup.phase_direction =
-          integrator_->scaled_velocity(setup.phase_reference, {setup.length, omega_}).normalized();
-      hint_ = overshoot_transition;
-      have_hint_ = true;
-      const CorrectorOutcome last = correct(guess, setup);
-      if (last.converged && accept(last, last.iterations, last.variational_integrations,
-                                   last.orbit_integrations, gradients_at_start, point_started))
-        return finish(ContinuationStatus::reached_energy_max, "reached energy_max");
-      result.points.push_back(overshoot_point);
-      accepted_.push_back(overshoot);
-      accepted_transitions_.push_back(overshoot_transition);
-      accepted_actions_.push_back(overshoot_action);
-      result.warnings.push_back(
-          fmt::format("the last point lies slightly above energy_max, at {}", energy_text(overshoot.energy)));
-      return finish(ContinuationStatus::reached_energy_max, "reached energy_max");
-    }
+    step = next_step(step, trial_step, corrected.iterations);
+    cost = PointCost{};
+    cost.started = std::chrono::steady_clock::now();
+    cost.gradients_at_start = system_.counts().gradients;
+    if (final_step) return finish(result, ContinuationStatus::reached_energy_max, "reached energy_max");
+    if (result.points.back().energy > energy_max) return finish_at_energy_max(result, cost);
     const double period_limit = options_.max_period_factor * 2.0 * units::pi / omega_;
     if (result.points.back().period > period_limit)
       return finish(
-          ContinuationStatus::escaped,
+          result, ContinuationStatus::escaped,
           fmt::format("the period grew past {} harmonic periods at {}: the orbits approach a "
                       "separatrix (dissociation or a barrier){}",
                       options_.max_period_factor, energy_text(result.points.back().energy),
@@ -966,7 +977,7 @@ ContinuationResult FamilySolver::run() {
                           ? fmt::format("; the escape energy of the system is {}", energy_text(escape_energy))
                           : std::string()));
     if (result.points.back().energy < first_energy)
-      return finish(ContinuationStatus::turned_back,
+      return finish(result, ContinuationStatus::turned_back,
                     "after a fold the family returned below the energy of its first point");
   }
 }

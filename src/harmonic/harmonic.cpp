@@ -8,6 +8,7 @@
 
 #include "core/error.hpp"
 #include "core/units.hpp"
+#include "harmonic/inertia.hpp"
 
 namespace overtone {
 
@@ -17,13 +18,39 @@ void require_finite(const Eigen::MatrixXd& matrix, const std::string& what) {
   if (!matrix.allFinite()) throw Error(what + " contains non-finite entries (nan or inf)");
 }
 
-Eigen::Vector3d center_of_mass(const Eigen::VectorXd& x, const Eigen::VectorXd& masses) {
-  Eigen::Vector3d center = Eigen::Vector3d::Zero();
-  for (Eigen::Index i = 0; i < masses.size(); ++i) center += masses[i] * x.segment<3>(3 * i);
-  return center / masses.sum();
+// Cartesian displacement, reduced mass and force constant of mode k from its
+// mass-weighted vector.
+void update_mode_properties(HarmonicResult& result, Eigen::Index k,
+                            const Eigen::VectorXd& inverse_sqrt_mass) {
+  const Eigen::VectorXd cartesian = inverse_sqrt_mass.asDiagonal() * result.mass_weighted_modes.col(k);
+  const double squared_norm = cartesian.squaredNorm();
+  result.cartesian_displacements.col(k) = cartesian / std::sqrt(squared_norm);
+  result.reduced_masses_da[k] = 1.0 / squared_norm;
+  result.force_constants_mdyn_per_angstrom[k] = result.eigenvalues[k] * result.reduced_masses_da[k] *
+                                                units::mdyn_per_angstrom_per_kcal_mol_per_angstrom2;
+}
+
+Eigen::VectorXd inverse_sqrt_masses(const Eigen::VectorXd& masses_da) {
+  Eigen::VectorXd inverse_sqrt_mass(3 * masses_da.size());
+  for (Eigen::Index i = 0; i < inverse_sqrt_mass.size(); ++i)
+    inverse_sqrt_mass[i] = 1.0 / std::sqrt(masses_da[i / 3]);
+  return inverse_sqrt_mass;
 }
 
 }  // namespace
+
+void replace_mode_vector(HarmonicResult& harmonic, Eigen::Index k,
+                         const Eigen::VectorXd& mass_weighted_mode) {
+  if (k < 0 || k >= harmonic.mass_weighted_modes.cols() ||
+      mass_weighted_mode.size() != harmonic.mass_weighted_modes.rows())
+    throw Error(
+        fmt::format("a mode vector of {} entries for mode index {} does not fit a harmonic result with {} "
+                    "modes of {} entries",
+                    mass_weighted_mode.size(), k, harmonic.mass_weighted_modes.cols(),
+                    harmonic.mass_weighted_modes.rows()));
+  harmonic.mass_weighted_modes.col(k) = mass_weighted_mode;
+  update_mode_properties(harmonic, k, inverse_sqrt_masses(harmonic.masses_da));
+}
 
 HessianResult compute_hessian(const Potential& potential, const Eigen::VectorXd& coordinates_angstrom,
                               const HessianOptions& options) {
@@ -77,12 +104,7 @@ Eigen::MatrixXd rigid_body_basis(const Eigen::VectorXd& x, const Eigen::VectorXd
                                  double linearity_tolerance, bool* is_linear) {
   const Eigen::Index atoms = masses.size();
   const Eigen::Vector3d center = center_of_mass(x, masses);
-  Eigen::Matrix3d inertia = Eigen::Matrix3d::Zero();
-  for (Eigen::Index i = 0; i < atoms; ++i) {
-    const Eigen::Vector3d r = x.segment<3>(3 * i) - center;
-    inertia += masses[i] * (r.squaredNorm() * Eigen::Matrix3d::Identity() - r * r.transpose());
-  }
-  const Eigen::SelfAdjointEigenSolver<Eigen::Matrix3d> principal(inertia);
+  const Eigen::SelfAdjointEigenSolver<Eigen::Matrix3d> principal(inertia_tensor(x, masses));
   const double largest_moment = principal.eigenvalues().maxCoeff();
 
   // Translations and rotations about principal axes through the centre of mass are
@@ -136,8 +158,7 @@ HarmonicResult analyze_normal_modes(const Eigen::VectorXd& coordinates_angstrom,
   result.masses_da = masses_da;
   result.cartesian_hessian = cartesian_hessian;
 
-  Eigen::VectorXd inverse_sqrt_mass(n);
-  for (Eigen::Index i = 0; i < n; ++i) inverse_sqrt_mass[i] = 1.0 / std::sqrt(masses_da[i / 3]);
+  const Eigen::VectorXd inverse_sqrt_mass = inverse_sqrt_masses(masses_da);
   const Eigen::MatrixXd mass_weighted =
       inverse_sqrt_mass.asDiagonal() * cartesian_hessian * inverse_sqrt_mass.asDiagonal();
 
@@ -179,13 +200,8 @@ HarmonicResult analyze_normal_modes(const Eigen::VectorXd& coordinates_angstrom,
     Eigen::Index largest = 0;
     mode.cwiseAbs().maxCoeff(&largest);
     if (mode[largest] < 0.0) mode *= -1.0;
-    const Eigen::VectorXd cartesian = inverse_sqrt_mass.asDiagonal() * mode;
-    const double squared_norm = cartesian.squaredNorm();
-    result.cartesian_displacements.col(k) = cartesian / std::sqrt(squared_norm);
-    result.reduced_masses_da[k] = 1.0 / squared_norm;
     result.frequencies_cm1[k] = units::wavenumber_cm1_from_eigenvalue(result.eigenvalues[k]);
-    result.force_constants_mdyn_per_angstrom[k] = result.eigenvalues[k] * result.reduced_masses_da[k] *
-                                                  units::mdyn_per_angstrom_per_kcal_mol_per_angstrom2;
+    update_mode_properties(result, k, inverse_sqrt_mass);
   }
   const Eigen::Index imaginary = (result.frequencies_cm1.array() < -options.imaginary_warning_cm1).count();
   if (imaginary > 0)

@@ -80,6 +80,12 @@ HarmonicResult analyze_normal_modes(const Eigen::VectorXd& coordinates_angstrom,
                                     const Eigen::MatrixXd& cartesian_hessian,
                                     const NormalModeOptions& options = {});
 
+// Replaces the mass-weighted vector of mode k (unit length, within the span of modes of
+// the same frequency, e.g. a symmetry-adapted partner) and recomputes its Cartesian
+// displacement, reduced mass and force constant. Throws Error for an index or size that
+// does not fit.
+void replace_mode_vector(HarmonicResult& harmonic, Eigen::Index k, const Eigen::VectorXd& mass_weighted_mode);
+
 // Orthonormal basis (3N×r) of the rigid-body motions (translations, rotations) in
 // mass-weighted Cartesian space at the given geometry; r = 5 for linear molecules.
 Eigen::MatrixXd rigid_body_basis(const Eigen::VectorXd& coordinates_angstrom,

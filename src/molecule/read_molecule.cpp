@@ -133,34 +133,6 @@ void apply_isotopes(Molecule& molecule, const std::vector<IsotopeChoice>& isotop
   }
 }
 
-std::vector<ReadResult> read_all_molecules(const std::string& path, const ReadOptions& options) {
-  OpenBabelLogCapture messages;
-  check_readable_file(path);
-  OpenBabel::OBConversion conversion;
-  std::string format_name;
-  conversion.SetInFormat(choose_format(conversion, path, options, format_name));
-  std::ifstream stream(path);
-  std::vector<ReadResult> results;
-  OpenBabel::OBMol mol;
-  bool first = true;
-  while (first ? conversion.Read(&mol, &stream) : conversion.Read(&mol)) {
-    first = false;
-    if (mol.NumAtoms() == 0) break;
-    try {
-      results.push_back(finish(mol, path, format_name, options, false, {}));
-    } catch (const Error& error) {
-      throw Error(fmt::format("structure {} of '{}': {}", results.size() + 1, path, error.what()));
-    }
-    mol.Clear();
-  }
-  if (results.empty()) {
-    const std::string detail = messages.first_message();
-    throw Error(fmt::format("no molecule could be read from '{}' as {}{}", path, format_name,
-                            detail.empty() ? "" : " (open babel: " + detail + ")"));
-  }
-  return results;
-}
-
 ReadResult read_molecule(const std::string& path_or_smiles, const ReadOptions& options) {
   OpenBabelLogCapture messages;
   OpenBabel::OBConversion conversion;

@@ -43,9 +43,6 @@ struct ReadResult {
 // atom number outside the molecule.
 ReadResult read_molecule(const std::string& path_or_smiles, const ReadOptions& options = {});
 
-// Reads every structure of a multi-structure file (for screening sets).
-std::vector<ReadResult> read_all_molecules(const std::string& path, const ReadOptions& options = {});
-
 // Applies isotope choices (1-based atom numbers) with masses from Open Babel's
 // isotope table; throws Error for a nonexistent isotope.
 void apply_isotopes(Molecule& molecule, const std::vector<IsotopeChoice>& isotopes);

@@ -9,9 +9,9 @@
 #include <numeric>
 #include <vector>
 
-#include "anharmonic/amplitude_scan.hpp"
-#include "anharmonic/mode_symmetry.hpp"
 #include "core/error.hpp"
+#include "families/amplitude_scan.hpp"
+#include "symmetry/mode_symmetry.hpp"
 
 namespace overtone {
 

@@ -24,7 +24,7 @@
 // Holes: a quartic expansion usually turns over and falls below its minimum far from
 // the reference. Every evaluation below (estimated minimum − hole_depth_cm1) throws Error
 // with the displacement where it happened, unless the guard is switched off; see also
-// scan_normal_coordinates (anharmonic stage) for a check before a long calculation.
+// scan_normal_coordinates (families stage) for a check before a long calculation.
 #include <Eigen/Dense>
 #include <memory>
 #include <string>

@@ -40,7 +40,7 @@ json force_constants_to_json(const AnharmonicResult& anharmonic, const std::vect
           {"step", result.step},
           {"quartic_scope", result.full_quartic ? "all" : "semi-diagonal (iijj, iiij, iiii and ijkk)"},
           {"symmetry_used", result.symmetry_used},
-          {"point_group", result.symmetry.point_group},
+          {"point_group", result.symmetry.point_group()},
           {"permutation_spread_cm1", result.permutation_spread_cm1},
           {"symmetry_adjustment_cm1", result.symmetry_adjustment_cm1},
           {"forbidden_cubic", result.forbidden_cubic},

@@ -9,6 +9,7 @@
 
 #include "core/error.hpp"
 #include "core/units.hpp"
+#include "harmonic/inertia.hpp"
 #include "symmetry/geometry.hpp"
 
 namespace overtone {
@@ -56,6 +57,7 @@ struct Geometry {
   std::vector<int> class_of;  // equivalence class: same element, mass and distance from the centre
   std::vector<std::vector<int>> classes;
   Eigen::VectorXd masses;
+  Eigen::Matrix3d inertia = Eigen::Matrix3d::Zero();  // about the centre of mass
 };
 
 Geometry classify_atoms(const Points& points, const std::vector<int>& atomic_numbers,
@@ -409,230 +411,261 @@ Eigen::Vector3d any_perpendicular(const Eigen::Vector3d& z) {
 }
 
 Eigen::Matrix3d inertia_frame(const Geometry& geometry) {
-  Eigen::Matrix3d inertia = Eigen::Matrix3d::Zero();
-  for (std::size_t i = 0; i < geometry.points.size(); ++i) {
-    const Eigen::Vector3d& p = geometry.points[i];
-    inertia += geometry.masses[i] * (p.squaredNorm() * Eigen::Matrix3d::Identity() - p * p.transpose());
-  }
-  Eigen::SelfAdjointEigenSolver<Eigen::Matrix3d> solver(inertia);
+  Eigen::SelfAdjointEigenSolver<Eigen::Matrix3d> solver(geometry.inertia);
   Eigen::Matrix3d q = solver.eigenvectors().transpose();  // rows: axes by increasing moment
   if (q.determinant() < 0.0) q.row(2) *= -1.0;
   return q;
 }
 
-Identification identify(const Geometry& geometry, const std::vector<FittedOperation>& ops,
-                        double acceptance) {
-  Identification id;
-  std::vector<int> orders;
-  for (const auto& op : ops) orders.push_back(operation_order(op));
-  int proper_count = 0, n_max = 1, principal = -1;
+// Orders of the fitted operations and what identification reads from them.
+struct GroupStructure {
+  std::vector<int> orders;  // per operation
+  int order = 0;            // of the group
+  int proper_count = 0;
+  int n_max = 1;       // highest order of a proper rotation
+  int principal = -1;  // an operation of that order
   bool inversion = false;
+};
+
+GroupStructure group_structure(const std::vector<FittedOperation>& ops) {
+  GroupStructure s;
+  s.order = static_cast<int>(ops.size());
+  for (const auto& op : ops) s.orders.push_back(operation_order(op));
   for (std::size_t k = 0; k < ops.size(); ++k) {
-    if (is_inversion(ops[k])) inversion = true;
+    if (is_inversion(ops[k])) s.inversion = true;
     if (ops[k].determinant < 0) continue;
-    ++proper_count;
-    if (orders[k] > n_max) {
-      n_max = orders[k];
-      principal = static_cast<int>(k);
+    ++s.proper_count;
+    if (s.orders[k] > s.n_max) {
+      s.n_max = s.orders[k];
+      s.principal = static_cast<int>(k);
     }
   }
-  const int order = static_cast<int>(ops.size());
-  auto axes_of_order = [&](int wanted, bool proper) {
-    std::vector<Eigen::Vector3d> axes;
-    for (std::size_t k = 0; k < ops.size(); ++k)
-      if (orders[k] == wanted && (ops[k].determinant > 0) == proper)
-        axes.push_back(proper_axis(ops[k].matrix));
-    return axes;
-  };
-  auto best_by_atoms = [&](const std::vector<std::pair<Eigen::Vector3d, std::pair<int, double>>>& options) {
-    // More atoms first, then more mass; the first listed wins a tie.
-    std::size_t best = 0;
-    for (std::size_t k = 1; k < options.size(); ++k) {
-      const auto& a = options[k].second;
-      const auto& b = options[best].second;
-      if (a.first > b.first || (a.first == b.first && a.second > b.second + 1e-9)) best = k;
-    }
-    return options[best].first;
-  };
+  return s;
+}
 
-  if (proper_count == 1) {
-    if (order == 1) {
-      id.family = PointGroupFamily::C1;
-      id.symmetry_from_file = inertia_frame(geometry);
-    } else if (inversion) {
-      id.family = PointGroupFamily::Ci;
-      id.symmetry_from_file = inertia_frame(geometry);
-    } else {
-      id.family = PointGroupFamily::Cs;
-      const FittedOperation& mirror = ops[0].determinant < 0 ? ops[0] : ops[1];
-      const Eigen::Vector3d z = proper_axis(mirror.matrix);
-      // In-plane axes: inertia axes of the planar projection (x: smaller moment).
-      Eigen::Matrix2d inertia = Eigen::Matrix2d::Zero();
-      const Eigen::Vector3d u = any_perpendicular(z), v = z.cross(u);
-      for (std::size_t i = 0; i < geometry.points.size(); ++i) {
-        const Eigen::Vector2d p(geometry.points[i].dot(u), geometry.points[i].dot(v));
-        inertia += geometry.masses[i] * (p.squaredNorm() * Eigen::Matrix2d::Identity() - p * p.transpose());
-      }
-      Eigen::SelfAdjointEigenSolver<Eigen::Matrix2d> solver(inertia);
-      const Eigen::Vector2d e = solver.eigenvectors().col(0);
-      id.symmetry_from_file = frame_from_axes(z, e(0) * u + e(1) * v);
-    }
+std::vector<Eigen::Vector3d> axes_of_order(const std::vector<FittedOperation>& ops, const GroupStructure& s,
+                                           int wanted, bool proper) {
+  std::vector<Eigen::Vector3d> axes;
+  for (std::size_t k = 0; k < ops.size(); ++k)
+    if (s.orders[k] == wanted && (ops[k].determinant > 0) == proper)
+      axes.push_back(proper_axis(ops[k].matrix));
+  return axes;
+}
+
+// A direction with the atoms on its axis or in its plane (count, mass).
+using AxisChoice = std::pair<Eigen::Vector3d, std::pair<int, double>>;
+
+// More atoms first, then more mass; the first listed wins a tie.
+Eigen::Vector3d best_by_atoms(const std::vector<AxisChoice>& options) {
+  constexpr double same_mass_da = 1e-9;
+  std::size_t best = 0;
+  for (std::size_t k = 1; k < options.size(); ++k) {
+    const auto& a = options[k].second;
+    const auto& b = options[best].second;
+    if (a.first > b.first || (a.first == b.first && a.second > b.second + same_mass_da)) best = k;
+  }
+  return options[best].first;
+}
+
+// C1, Ci, Cs (one proper operation): inertia frame, or for Cs z normal to the mirror and
+// x, y along the inertia axes of the planar projection (x: smaller moment).
+Identification identify_without_rotations(const Geometry& geometry, const std::vector<FittedOperation>& ops,
+                                          const GroupStructure& s) {
+  Identification id;
+  if (s.order == 1 || s.inversion) {
+    id.family = s.order == 1 ? PointGroupFamily::C1 : PointGroupFamily::Ci;
+    id.symmetry_from_file = inertia_frame(geometry);
     return id;
   }
-
-  if (proper_count == 12 && n_max == 3) {
-    id.family = inversion ? PointGroupFamily::Th : order == 24 ? PointGroupFamily::Td : PointGroupFamily::T;
-  } else if (proper_count == 24 && n_max == 4) {
-    id.family = inversion ? PointGroupFamily::Oh : PointGroupFamily::O;
-  } else if (proper_count == 60 && n_max == 5) {
-    id.family = inversion ? PointGroupFamily::Ih : PointGroupFamily::I;
+  id.family = PointGroupFamily::Cs;
+  const FittedOperation& mirror = ops[0].determinant < 0 ? ops[0] : ops[1];
+  const Eigen::Vector3d z = proper_axis(mirror.matrix);
+  Eigen::Matrix2d inertia = Eigen::Matrix2d::Zero();
+  const Eigen::Vector3d u = any_perpendicular(z), v = z.cross(u);
+  for (std::size_t i = 0; i < geometry.points.size(); ++i) {
+    const Eigen::Vector2d p(geometry.points[i].dot(u), geometry.points[i].dot(v));
+    inertia += geometry.masses[i] * (p.squaredNorm() * Eigen::Matrix2d::Identity() - p * p.transpose());
   }
-  if (id.family != PointGroupFamily::C1) {
-    // Cubic: x, y, z along three perpendicular axes of order 2 (T, Th, I, Ih), of S4 (Td)
-    // or of C4 (O, Oh).
-    std::vector<Eigen::Vector3d> axes = id.family == PointGroupFamily::O || id.family == PointGroupFamily::Oh
-                                            ? axes_of_order(4, true)
-                                            : axes_of_order(2, true);
-    const Eigen::Vector3d x = axes.front();
-    Eigen::Vector3d y = Eigen::Vector3d::Zero();
+  Eigen::SelfAdjointEigenSolver<Eigen::Matrix2d> solver(inertia);
+  const Eigen::Vector2d e = solver.eigenvectors().col(0);
+  id.symmetry_from_file = frame_from_axes(z, e(0) * u + e(1) * v);
+  return id;
+}
+
+// T, Td, Th, O, Oh, I, Ih: x, y, z along three perpendicular axes of order 2 (T, Th, I,
+// Ih), of S4 (Td) or of C4 (O, Oh). False when the structure is not cubic.
+bool identify_cubic(const std::vector<FittedOperation>& ops, const GroupStructure& s, Identification& id) {
+  if (s.proper_count == 12 && s.n_max == 3)
+    id.family = s.inversion     ? PointGroupFamily::Th
+                : s.order == 24 ? PointGroupFamily::Td
+                                : PointGroupFamily::T;
+  else if (s.proper_count == 24 && s.n_max == 4)
+    id.family = s.inversion ? PointGroupFamily::Oh : PointGroupFamily::O;
+  else if (s.proper_count == 60 && s.n_max == 5)
+    id.family = s.inversion ? PointGroupFamily::Ih : PointGroupFamily::I;
+  else
+    return false;
+  const bool octahedral = id.family == PointGroupFamily::O || id.family == PointGroupFamily::Oh;
+  const std::vector<Eigen::Vector3d> axes = axes_of_order(ops, s, octahedral ? 4 : 2, true);
+  const Eigen::Vector3d x = axes.front();
+  Eigen::Vector3d y = Eigen::Vector3d::Zero();
+  for (const auto& a : axes)
+    if (std::abs(a.dot(x)) < 0.1) {
+      y = a;
+      break;
+    }
+  if (y.isZero()) throw Error("internal: no perpendicular twofold axes in a cubic group");
+  id.symmetry_from_file = frame_from_axes(x.cross(y), x);
+  if (id.family == PointGroupFamily::I || id.family == PointGroupFamily::Ih) {
+    // Two icosahedra share these axes; pick the one with a fivefold axis along (0, 1, φ).
+    const double golden = (1.0 + std::sqrt(5.0)) / 2.0;
+    const Eigen::Vector3d five_fold = Eigen::Vector3d(0, 1, golden).normalized();
+    bool aligned = false;
+    for (const auto& a : axes_of_order(ops, s, 5, true))
+      aligned = aligned || std::abs((id.symmetry_from_file * a).dot(five_fold)) > 0.99;
+    if (!aligned) {
+      Eigen::Matrix3d turn;  // new x = old y, new y = −old x
+      turn << 0, 1, 0, -1, 0, 0, 0, 0, 1;
+      id.symmetry_from_file = turn * id.symmetry_from_file;
+    }
+  }
+  return true;
+}
+
+// Cn, Cnh, Cnv, S2n (a cyclic rotation subgroup).
+Identification identify_cyclic(const Geometry& geometry, const std::vector<FittedOperation>& ops,
+                               const GroupStructure& s, double acceptance) {
+  Identification id;
+  const int n = s.n_max;
+  const Eigen::Vector3d principal_axis = proper_axis(ops[s.principal].matrix);
+  bool horizontal_mirror = false, vertical_mirror = false;
+  for (const auto& op : ops) {
+    if (!is_reflection(op)) continue;
+    const Eigen::Vector3d normal = proper_axis(op.matrix);
+    if (std::abs(normal.dot(principal_axis)) > 0.9) horizontal_mirror = true;
+    if (std::abs(normal.dot(principal_axis)) < 0.1) vertical_mirror = true;
+  }
+  id.axis_order = n;
+  if (s.order == n) {
+    id.family = PointGroupFamily::Cn;
+  } else if (horizontal_mirror) {
+    id.family = PointGroupFamily::Cnh;
+  } else if (vertical_mirror) {
+    id.family = PointGroupFamily::Cnv;
+  } else {
+    id.family = PointGroupFamily::S2n;
+    id.axis_order = 2 * n;
+  }
+  if (id.family == PointGroupFamily::Cnv) {
+    // One plane per class (for even n there are two classes, σv and σd).
+    const std::vector<int> labels = conjugacy_labels(ops);
+    std::map<int, Eigen::Vector3d> normal_of_class;
+    for (std::size_t k = 0; k < ops.size(); ++k)
+      if (is_reflection(ops[k]) && !normal_of_class.count(labels[k]))
+        normal_of_class[labels[k]] = proper_axis(ops[k].matrix);
+    std::vector<AxisChoice> choices;
+    for (const auto& [label, normal] : normal_of_class)
+      choices.push_back({normal, atoms_in_plane(geometry, normal, acceptance)});
+    const Eigen::Vector3d normal = best_by_atoms(choices);
+    // C2v, planar or not: the plane with more atoms is yz (x perpendicular to it).
+    id.symmetry_from_file = frame_from_axes(principal_axis, n == 2 ? normal : normal.cross(principal_axis));
+    return id;
+  }
+  // x towards the first atom off the axis (input order).
+  Eigen::Vector3d x = any_perpendicular(principal_axis);
+  for (const auto& p : geometry.points) {
+    const Eigen::Vector3d off = p - p.dot(principal_axis) * principal_axis;
+    if (off.norm() > acceptance + 1e-3) {
+      x = off;
+      break;
+    }
+  }
+  id.symmetry_from_file = frame_from_axes(principal_axis, x);
+  return id;
+}
+
+// D2, D2h, D2d: three perpendicular twofold axes.
+Identification identify_dihedral_two(const Geometry& geometry, const std::vector<FittedOperation>& ops,
+                                     const GroupStructure& s, double acceptance) {
+  Identification id;
+  id.axis_order = 2;
+  const std::vector<Eigen::Vector3d> axes = axes_of_order(ops, s, 2, true);
+  if (s.order == 8 && !s.inversion) {
+    id.family = PointGroupFamily::Dnd;
+    Eigen::Vector3d z = Eigen::Vector3d::UnitZ();
+    for (std::size_t k = 0; k < ops.size(); ++k)
+      if (s.orders[k] == 4 && ops[k].determinant < 0) z = proper_axis(ops[k].matrix);  // the S4 axis
     for (const auto& a : axes)
-      if (std::abs(a.dot(x)) < 0.1) {
-        y = a;
+      if (std::abs(a.dot(z)) < 0.1) {
+        id.symmetry_from_file = frame_from_axes(z, a);
         break;
       }
-    if (y.isZero()) throw Error("internal: no perpendicular twofold axes in a cubic group");
-    id.symmetry_from_file = frame_from_axes(x.cross(y), x);
-    if (id.family == PointGroupFamily::I || id.family == PointGroupFamily::Ih) {
-      // Two icosahedra share these axes; pick the one with a fivefold axis along (0, 1, φ).
-      const double golden = (1.0 + std::sqrt(5.0)) / 2.0;
-      const Eigen::Vector3d five_fold = Eigen::Vector3d(0, 1, golden).normalized();
-      bool aligned = false;
-      for (const auto& a : axes_of_order(5, true))
-        aligned = aligned || std::abs((id.symmetry_from_file * a).dot(five_fold)) > 0.99;
-      if (!aligned) {
-        Eigen::Matrix3d turn;  // new x = old y, new y = −old x
-        turn << 0, 1, 0, -1, 0, 0, 0, 0, 1;
-        id.symmetry_from_file = turn * id.symmetry_from_file;
-      }
-    }
     return id;
   }
+  id.family = s.order == 8 ? PointGroupFamily::Dnh : PointGroupFamily::Dn;
+  // Planar: x perpendicular to the plane; z through more atoms (then more mass).
+  int plane_normal = -1;
+  for (std::size_t k = 0; k < axes.size(); ++k)
+    if (atoms_in_plane(geometry, axes[k], acceptance).first == static_cast<int>(geometry.points.size()))
+      plane_normal = static_cast<int>(k);
+  std::vector<std::size_t> rank(axes.size());
+  std::iota(rank.begin(), rank.end(), 0);
+  std::stable_sort(rank.begin(), rank.end(), [&](std::size_t p, std::size_t q) {
+    const auto a = atoms_on_axis(geometry, axes[p], acceptance),
+               b = atoms_on_axis(geometry, axes[q], acceptance);
+    return a.first > b.first || (a.first == b.first && a.second > b.second + 1e-9);
+  });
+  if (plane_normal >= 0) {
+    rank.erase(std::find(rank.begin(), rank.end(), static_cast<std::size_t>(plane_normal)));
+    id.symmetry_from_file = frame_from_axes(axes[rank[0]], axes[plane_normal]);
+  } else {
+    id.symmetry_from_file = frame_from_axes(axes[rank[0]], axes[rank[2]]);
+  }
+  return id;
+}
 
-  const int n = n_max;
-  const Eigen::Vector3d principal_axis = proper_axis(ops[principal].matrix);
-  std::vector<std::pair<Eigen::Vector3d, std::pair<int, double>>> choices;
-  if (proper_count == n) {
-    // Cyclic rotation subgroup.
-    std::vector<FittedOperation> vertical_mirrors;
-    bool horizontal_mirror = false;
-    for (const auto& op : ops) {
-      if (!is_reflection(op)) continue;
-      const Eigen::Vector3d normal = proper_axis(op.matrix);
-      if (std::abs(normal.dot(principal_axis)) > 0.9) horizontal_mirror = true;
-      if (std::abs(normal.dot(principal_axis)) < 0.1) vertical_mirrors.push_back(op);
-    }
-    id.axis_order = n;
-    if (order == n) {
-      id.family = PointGroupFamily::Cn;
-    } else if (horizontal_mirror) {
-      id.family = PointGroupFamily::Cnh;
-    } else if (!vertical_mirrors.empty()) {
-      id.family = PointGroupFamily::Cnv;
-    } else {
-      id.family = PointGroupFamily::S2n;
-      id.axis_order = 2 * n;
-    }
-    if (id.family == PointGroupFamily::Cnv) {
-      // One plane per class (for even n there are two classes, σv and σd).
-      const std::vector<int> labels = conjugacy_labels(ops);
-      std::map<int, Eigen::Vector3d> normal_of_class;
-      for (std::size_t k = 0; k < ops.size(); ++k)
-        if (is_reflection(ops[k]) && !normal_of_class.count(labels[k]))
-          normal_of_class[labels[k]] = proper_axis(ops[k].matrix);
-      for (const auto& [label, normal] : normal_of_class)
-        choices.push_back({normal, atoms_in_plane(geometry, normal, acceptance)});
-      const Eigen::Vector3d normal = best_by_atoms(choices);
-      if (n == 2) {
-        // Planar or not, the plane with more atoms is yz (x perpendicular to it).
-        id.symmetry_from_file = frame_from_axes(principal_axis, normal);
-      } else {
-        id.symmetry_from_file = frame_from_axes(principal_axis, normal.cross(principal_axis));
-      }
-    } else {
-      // x towards the first atom off the axis (input order).
-      Eigen::Vector3d x = any_perpendicular(principal_axis);
-      for (const auto& p : geometry.points) {
-        const Eigen::Vector3d off = p - p.dot(principal_axis) * principal_axis;
-        if (off.norm() > acceptance + 1e-3) {
-          x = off;
-          break;
-        }
-      }
-      id.symmetry_from_file = frame_from_axes(principal_axis, x);
-    }
-    return id;
+// Dn, Dnh, Dnd (n > 2): x along a perpendicular twofold axis, of the class through more
+// atoms.
+Identification identify_dihedral(const Geometry& geometry, const std::vector<FittedOperation>& ops,
+                                 const GroupStructure& s, double acceptance) {
+  if (s.n_max == 2) return identify_dihedral_two(geometry, ops, s, acceptance);
+  Identification id;
+  const int n = s.n_max;
+  id.axis_order = n;
+  const Eigen::Vector3d principal_axis = proper_axis(ops[s.principal].matrix);
+  bool horizontal_mirror = false;
+  for (const auto& op : ops)
+    if (is_reflection(op) && std::abs(proper_axis(op.matrix).dot(principal_axis)) > 0.9)
+      horizontal_mirror = true;
+  id.family = s.order == 2 * n    ? PointGroupFamily::Dn
+              : horizontal_mirror ? PointGroupFamily::Dnh
+                                  : PointGroupFamily::Dnd;
+  const std::vector<int> labels = conjugacy_labels(ops);
+  std::map<int, Eigen::Vector3d> axis_of_class;
+  for (std::size_t k = 0; k < ops.size(); ++k) {
+    if (ops[k].determinant < 0 || s.orders[k] != 2) continue;
+    const Eigen::Vector3d axis = proper_axis(ops[k].matrix);
+    if (std::abs(axis.dot(principal_axis)) < 0.1 && !axis_of_class.count(labels[k]))
+      axis_of_class[labels[k]] = axis;
   }
+  std::vector<AxisChoice> choices;
+  for (const auto& [label, axis] : axis_of_class)
+    choices.push_back({axis, atoms_on_axis(geometry, axis, acceptance)});
+  id.symmetry_from_file = frame_from_axes(principal_axis, best_by_atoms(choices));
+  return id;
+}
 
-  if (proper_count == 2 * n) {
-    id.axis_order = n;
-    if (n == 2) {
-      // D2, D2h, D2d: three perpendicular twofold axes.
-      std::vector<Eigen::Vector3d> axes = axes_of_order(2, true);
-      if (order == 8 && !inversion) {
-        id.family = PointGroupFamily::Dnd;
-        Eigen::Vector3d z = Eigen::Vector3d::UnitZ();
-        for (std::size_t k = 0; k < ops.size(); ++k)
-          if (orders[k] == 4 && ops[k].determinant < 0) z = proper_axis(ops[k].matrix);  // the S4 axis
-        for (const auto& a : axes)
-          if (std::abs(a.dot(z)) < 0.1) {
-            id.symmetry_from_file = frame_from_axes(z, a);
-            break;
-          }
-        return id;
-      }
-      id.family = order == 8 ? PointGroupFamily::Dnh : PointGroupFamily::Dn;
-      // Planar: x perpendicular to the plane; z through more atoms (then more mass).
-      int plane_normal = -1;
-      for (std::size_t k = 0; k < axes.size(); ++k)
-        if (atoms_in_plane(geometry, axes[k], acceptance).first == static_cast<int>(geometry.points.size()))
-          plane_normal = static_cast<int>(k);
-      std::vector<std::size_t> rank(axes.size());
-      std::iota(rank.begin(), rank.end(), 0);
-      std::stable_sort(rank.begin(), rank.end(), [&](std::size_t p, std::size_t q) {
-        const auto a = atoms_on_axis(geometry, axes[p], acceptance),
-                   b = atoms_on_axis(geometry, axes[q], acceptance);
-        return a.first > b.first || (a.first == b.first && a.second > b.second + 1e-9);
-      });
-      if (plane_normal >= 0) {
-        rank.erase(std::find(rank.begin(), rank.end(), static_cast<std::size_t>(plane_normal)));
-        id.symmetry_from_file = frame_from_axes(axes[rank[0]], axes[plane_normal]);
-      } else {
-        id.symmetry_from_file = frame_from_axes(axes[rank[0]], axes[rank[2]]);
-      }
-      return id;
-    }
-    bool horizontal_mirror = false;
-    for (const auto& op : ops)
-      if (is_reflection(op) && std::abs(proper_axis(op.matrix).dot(principal_axis)) > 0.9)
-        horizontal_mirror = true;
-    id.family = order == 2 * n      ? PointGroupFamily::Dn
-                : horizontal_mirror ? PointGroupFamily::Dnh
-                                    : PointGroupFamily::Dnd;
-    // x along a perpendicular twofold axis: of the class through more atoms (Dn, Dnh).
-    const std::vector<int> labels = conjugacy_labels(ops);
-    std::map<int, Eigen::Vector3d> axis_of_class;
-    for (std::size_t k = 0; k < ops.size(); ++k) {
-      if (ops[k].determinant < 0 || orders[k] != 2) continue;
-      const Eigen::Vector3d axis = proper_axis(ops[k].matrix);
-      if (std::abs(axis.dot(principal_axis)) < 0.1 && !axis_of_class.count(labels[k]))
-        axis_of_class[labels[k]] = axis;
-    }
-    for (const auto& [label, axis] : axis_of_class)
-      choices.push_back({axis, atoms_on_axis(geometry, axis, acceptance)});
-    id.symmetry_from_file = frame_from_axes(principal_axis, best_by_atoms(choices));
-    return id;
-  }
-  throw Error("internal: the symmetry operations found (" + std::to_string(order) +
+// The point group of a closed set of fitted operations, from its structure (orders of
+// proper rotations, presence of i, σh, σv), with its symmetry frame.
+Identification identify(const Geometry& geometry, const std::vector<FittedOperation>& ops,
+                        double acceptance) {
+  const GroupStructure s = group_structure(ops);
+  if (s.proper_count == 1) return identify_without_rotations(geometry, ops, s);
+  Identification id;
+  if (identify_cubic(ops, s, id)) return id;
+  if (s.proper_count == s.n_max) return identify_cyclic(geometry, ops, s, acceptance);
+  if (s.proper_count == 2 * s.n_max) return identify_dihedral(geometry, ops, s, acceptance);
+  throw Error("internal: the symmetry operations found (" + std::to_string(s.order) +
               ") do not form a recognized point group");
 }
 
@@ -693,8 +726,7 @@ Candidate realize(const Geometry& geometry, const std::vector<FittedOperation>& 
     }
     for (auto& p : c.symmetric_in_symmetry_frame) p /= order;
     Eigen::Matrix3d covariance = Eigen::Matrix3d::Zero();
-    for (int i = 0; i < n; ++i)
-      covariance += c.symmetric_in_symmetry_frame[i] * geometry.points[i].transpose();
+    for (int i = 0; i < n; ++i) covariance += c.symmetric_in_symmetry_frame[i] * geometry.points[i].transpose();
     q = detail::orthogonal_procrustes(covariance, 1);
   }
   c.symmetry_from_file = q;
@@ -737,9 +769,9 @@ Candidate realize_linear(const Geometry& geometry, const Eigen::Vector3d& axis, 
     c.symmetric_in_symmetry_frame[i] = Eigen::Vector3d(0, 0, z);
   }
   for (int i = 0; i < n; ++i)
-    c.deviation = std::max(
-        c.deviation,
-        (c.symmetry_from_file.transpose() * c.symmetric_in_symmetry_frame[i] - geometry.points[i]).norm());
+    c.deviation =
+        std::max(c.deviation,
+                 (c.symmetry_from_file.transpose() * c.symmetric_in_symmetry_frame[i] - geometry.points[i]).norm());
   return c;
 }
 
@@ -750,11 +782,9 @@ std::string format_double(double v, int precision) {
   return out.str();
 }
 
-}  // namespace
-
-PointGroupResult detect_point_group(const Eigen::VectorXd& coordinates_angstrom,
-                                    const std::vector<int>& atomic_numbers, const Eigen::VectorXd& masses_da,
-                                    const SymmetryOptions& options) {
+void check_detection_input(const Eigen::VectorXd& coordinates_angstrom,
+                           const std::vector<int>& atomic_numbers, const Eigen::VectorXd& masses_da,
+                           const SymmetryOptions& options) {
   options.validate();
   const int n = static_cast<int>(atomic_numbers.size());
   if (n < 2) throw Error("point-group detection needs at least 2 atoms, got " + std::to_string(n));
@@ -768,95 +798,94 @@ PointGroupResult detect_point_group(const Eigen::VectorXd& coordinates_angstrom,
     if (!(masses_da[i] > 0.0))
       throw Error("mass of atom " + std::to_string(i + 1) + " must be positive, got " +
                   std::to_string(masses_da[i]));
+}
 
-  const double tolerance = options.tolerance_angstrom;
-  const double acceptance = 2.0 * tolerance;
-  PointGroupResult result;
-  result.input_coordinates_angstrom = coordinates_angstrom;
-  result.atomic_numbers = atomic_numbers;
-  result.masses_da = masses_da;
-  result.tolerance_angstrom = tolerance;
-  Eigen::Vector3d center = Eigen::Vector3d::Zero();
-  for (int i = 0; i < n; ++i) center += masses_da[i] * coordinates_angstrom.segment<3>(3 * i);
-  center /= masses_da.sum();
-  result.center_angstrom = center;
-  Points points(n);
-  for (int i = 0; i < n; ++i) points[i] = coordinates_angstrom.segment<3>(3 * i) - center;
-  const Geometry geometry =
-      classify_atoms(points, atomic_numbers, masses_da, tolerance, options.mass_tolerance_da);
+// A linear molecule within the tolerance: D∞h when symmetrizing to it stays within the
+// tolerance, else C∞v.
+Candidate detect_linear(const Geometry& geometry, const Eigen::Vector3d& line, const SymmetryOptions& options,
+                        PointGroupResult& result) {
+  const double tolerance = options.tolerance_angstrom, acceptance = 2.0 * tolerance;
+  Candidate chosen = realize_linear(geometry, line, acceptance, options.linear_axis_order, true);
+  if (chosen.deviation > tolerance && chosen.group.family == PointGroupFamily::Dinfh) {
+    result.notes.push_back(
+        "symmetrizing to D∞h would move an atom by more than the tolerance; reduced to C∞v");
+    chosen = realize_linear(geometry, line, acceptance, options.linear_axis_order, false);
+  }
+  result.operations_found = chosen.group.order();
+  result.notes.push_back("linear molecule: operations are those of " + chosen.group.finite_name +
+                         ", the finite subgroup used for " + chosen.group.display_name);
+  return chosen;
+}
 
-  // Linear within the tolerance: every atom within it of the axis of least inertia.
-  const Eigen::Matrix3d inertia_axes = inertia_frame(geometry);
-  const Eigen::Vector3d line = inertia_axes.row(0).transpose();
-  double off_line = 0.0;
-  for (const auto& p : points) off_line = std::max(off_line, (p - p.dot(line) * line).norm());
-
-  Candidate chosen;
-  if (off_line <= tolerance) {
-    chosen = realize_linear(geometry, line, acceptance, options.linear_axis_order, true);
-    if (chosen.deviation > tolerance && chosen.group.family == PointGroupFamily::Dinfh) {
-      result.notes.push_back(
-          "symmetrizing to D∞h would move an atom by more than the tolerance; reduced to C∞v");
-      chosen = realize_linear(geometry, line, acceptance, options.linear_axis_order, false);
-    }
-    result.operations_found = chosen.group.order();
-    result.notes.push_back("linear molecule: operations are those of " + chosen.group.finite_name +
-                           ", the finite subgroup used for " + chosen.group.display_name);
+// Every operation is within 2·tolerance but the average over the group is not within the
+// tolerance: the largest subgroup that is (all conjugates tried), from the abstract group
+// of the fitted operations (composition of their atom permutations).
+Candidate reduce_to_subgroup(const Geometry& geometry, const std::vector<FittedOperation>& ops,
+                             const Candidate& whole, const SymmetryOptions& options,
+                             PointGroupResult& result) {
+  const double tolerance = options.tolerance_angstrom, acceptance = 2.0 * tolerance;
+  // Element k of the abstract group ↔ fitted operation fitted_of[k].
+  std::vector<int> fitted_of(ops.size());
+  FiniteGroup full;
+  if (whole.realized) {
+    full = whole.group.finite_group();  // exact and cheap
+    std::map<OperationKey, int> fitted_index;
+    for (std::size_t k = 0; k < ops.size(); ++k) fitted_index[key_of(ops[k])] = static_cast<int>(k);
+    for (int g = 0; g < full.order(); ++g)
+      fitted_of[g] = fitted_index.at({whole.group.operations[g].proper ? 1 : -1, whole.permutations[g]});
   } else {
-    const std::vector<FittedOperation> found =
-        find_operations(geometry, tolerance, result.candidate_operations_tested);
-    const std::vector<FittedOperation> ops = close_operations(geometry, found, acceptance, result.notes);
-    result.operations_found = static_cast<int>(ops.size());
-    chosen = realize(geometry, ops, acceptance, options.linear_axis_order);
-    if (!chosen.realized || chosen.deviation > tolerance) {
-      // Every operation is within 2·tolerance but the average over the group is not within
-      // the tolerance: take the largest subgroup that is (all conjugates tried).
-      // Subgroups of the abstract group of the fitted operations (composition of their
-      // atom permutations), largest first; every conjugate is tried.
-      const Candidate whole = chosen;
-      // Element k of the abstract group ↔ fitted operation fitted_of[k].
-      std::vector<int> fitted_of(ops.size());
-      FiniteGroup full;
-      if (whole.realized) {
-        full = whole.group.finite_group();  // exact and cheap
-        std::map<OperationKey, int> fitted_index;
-        for (std::size_t k = 0; k < ops.size(); ++k) fitted_index[key_of(ops[k])] = static_cast<int>(k);
-        for (int g = 0; g < full.order(); ++g)
-          fitted_of[g] = fitted_index.at({whole.group.operations[g].proper ? 1 : -1, whole.permutations[g]});
-      } else {
-        full = permutation_group(ops);  // (N+1)-dimensional: only for this rare case
-        std::iota(fitted_of.begin(), fitted_of.end(), 0);
-      }
-      const auto subgroups = all_subgroups(full);
-      const std::string rejected = whole.group.name;
-      bool replaced = false;
-      std::size_t level = 0;
-      for (auto it = subgroups.rbegin(); it != subgroups.rend(); ++it) {
-        if (it->elements.size() == static_cast<std::size_t>(full.order())) continue;
-        if (replaced && it->elements.size() < level) break;
-        std::vector<FittedOperation> subset;
-        for (int g : it->elements) subset.push_back(ops[fitted_of[g]]);
-        Candidate trial = realize(geometry, subset, acceptance, options.linear_axis_order);
-        if (trial.realized && trial.deviation <= tolerance &&
-            (!replaced || trial.deviation < chosen.deviation - 1e-12)) {
-          chosen = trial;
-          replaced = true;
-          level = it->elements.size();
-        }
-      }
-      if (!replaced) throw Error("internal: not even C1 fits within the tolerance");
-      if (whole.realized)
-        result.notes.push_back(
-            "operations of " + rejected + " were found within 2×tolerance, but symmetrizing to " + rejected +
-            " moves an atom by " + format_double(whole.deviation, 3) +
-            " Å > tolerance; reduced to the largest subgroup within it, " + chosen.group.name);
-      else
-        result.notes.push_back("the operations found within 2×tolerance are not consistent with one " +
-                               rejected + " frame; reduced to the largest subgroup that is, " +
-                               chosen.group.name);
+    full = permutation_group(ops);  // (N+1)-dimensional: only for this rare case
+    std::iota(fitted_of.begin(), fitted_of.end(), 0);
+  }
+  const auto subgroups = all_subgroups(full);
+  Candidate chosen = whole;
+  bool replaced = false;
+  std::size_t level = 0;
+  constexpr double strictly_better_angstrom = 1e-12;  // ties between conjugates keep the first
+  for (auto it = subgroups.rbegin(); it != subgroups.rend(); ++it) {
+    if (it->elements.size() == static_cast<std::size_t>(full.order())) continue;
+    if (replaced && it->elements.size() < level) break;
+    std::vector<FittedOperation> subset;
+    for (int g : it->elements) subset.push_back(ops[fitted_of[g]]);
+    Candidate trial = realize(geometry, subset, acceptance, options.linear_axis_order);
+    if (trial.realized && trial.deviation <= tolerance &&
+        (!replaced || trial.deviation < chosen.deviation - strictly_better_angstrom)) {
+      chosen = trial;
+      replaced = true;
+      level = it->elements.size();
     }
   }
+  if (!replaced) throw Error("internal: not even C1 fits within the tolerance");
+  const std::string rejected = whole.group.name;
+  if (whole.realized)
+    result.notes.push_back("operations of " + rejected +
+                           " were found within 2×tolerance, but symmetrizing to " + rejected +
+                           " moves an atom by " + format_double(whole.deviation, 3) +
+                           " Å > tolerance; reduced to the largest subgroup within it, " + chosen.group.name);
+  else
+    result.notes.push_back("the operations found within 2×tolerance are not consistent with one " + rejected +
+                           " frame; reduced to the largest subgroup that is, " + chosen.group.name);
+  return chosen;
+}
 
+// Operations found on the geometry, closed into a group, identified and realized exactly
+// (or reduced to the largest subgroup within the tolerance).
+Candidate detect_nonlinear(const Geometry& geometry, const SymmetryOptions& options,
+                           PointGroupResult& result) {
+  const double tolerance = options.tolerance_angstrom, acceptance = 2.0 * tolerance;
+  const std::vector<FittedOperation> found =
+      find_operations(geometry, tolerance, result.candidate_operations_tested);
+  const std::vector<FittedOperation> ops = close_operations(geometry, found, acceptance, result.notes);
+  result.operations_found = static_cast<int>(ops.size());
+  const Candidate chosen = realize(geometry, ops, acceptance, options.linear_axis_order);
+  if (chosen.realized && chosen.deviation <= tolerance) return chosen;
+  return reduce_to_subgroup(geometry, ops, chosen, options, result);
+}
+
+// The chosen group, frame and permutations; the symmetrized geometry in both frames and the
+// orbits of equivalent atoms.
+void record_candidate(const Candidate& chosen, const Eigen::Vector3d& center, PointGroupResult& result) {
+  const int n = static_cast<int>(result.atomic_numbers.size());
   result.group = chosen.group;
   result.symmetry_from_file = chosen.symmetry_from_file;
   result.permutations = chosen.permutations;
@@ -878,6 +907,35 @@ PointGroupResult detect_point_group(const Eigen::VectorXd& coordinates_angstrom,
     for (int j : orbit) orbit_of[j] = static_cast<int>(result.atom_orbits.size());
     result.atom_orbits.push_back(orbit);
   }
+}
+
+}  // namespace
+
+PointGroupResult detect_point_group(const Eigen::VectorXd& coordinates_angstrom,
+                                    const std::vector<int>& atomic_numbers, const Eigen::VectorXd& masses_da,
+                                    const SymmetryOptions& options) {
+  check_detection_input(coordinates_angstrom, atomic_numbers, masses_da, options);
+  const int n = static_cast<int>(atomic_numbers.size());
+  const double tolerance = options.tolerance_angstrom;
+  PointGroupResult result;
+  result.input_coordinates_angstrom = coordinates_angstrom;
+  result.atomic_numbers = atomic_numbers;
+  result.masses_da = masses_da;
+  result.tolerance_angstrom = tolerance;
+  const Eigen::Vector3d center = center_of_mass(coordinates_angstrom, masses_da);
+  result.center_angstrom = center;
+  Points points(n);
+  for (int i = 0; i < n; ++i) points[i] = coordinates_angstrom.segment<3>(3 * i) - center;
+  Geometry geometry = classify_atoms(points, atomic_numbers, masses_da, tolerance, options.mass_tolerance_da);
+  geometry.inertia = inertia_tensor(coordinates_angstrom, masses_da);
+
+  // Linear within the tolerance: every atom within it of the axis of least inertia.
+  const Eigen::Vector3d line = inertia_frame(geometry).row(0).transpose();
+  double off_line = 0.0;
+  for (const auto& p : points) off_line = std::max(off_line, (p - p.dot(line) * line).norm());
+  const Candidate chosen = off_line <= tolerance ? detect_linear(geometry, line, options, result)
+                                                 : detect_nonlinear(geometry, options, result);
+  record_candidate(chosen, center, result);
   result.notes.push_back("tolerance " + format_double(tolerance, 3) +
                          " Å (largest displacement of an atom by symmetrization), as given; not adapted");
   result.message = "point group " + result.group.name + " (order " + std::to_string(result.group.order()) +

@@ -491,9 +491,12 @@ PointGroup make_point_group(PointGroupFamily family, int axis_order, int linear_
 
 namespace {
 
-PointGroup build_point_group(PointGroupFamily family, int axis_order, int linear_axis_order) {
-  const bool linear = family == PointGroupFamily::Cinfv || family == PointGroupFamily::Dinfh;
-  int n = axis_order;
+// ---- Building a group: operations, classes, character table, labels ----------------
+
+// n of the group after checking its range (the stand-in's m for linear groups, 1 where
+// there is no axis order). Throws Error for an order out of range.
+int checked_axis_order(PointGroupFamily family, int axis_order, int linear_axis_order) {
+  const int n = axis_order;
   switch (family) {
     case PointGroupFamily::Cn:
     case PointGroupFamily::Cnv:
@@ -504,34 +507,26 @@ PointGroup build_point_group(PointGroupFamily family, int axis_order, int linear
       if (n < 2 || n > kMaxAxisOrder)
         throw Error("axis order of " + name_for(family, n, false) + " must be between 2 and " +
                     std::to_string(kMaxAxisOrder) + ", got " + std::to_string(n));
-      break;
+      return n;
     case PointGroupFamily::S2n:
       if (n < 4 || n % 2 != 0 || n > 2 * kMaxAxisOrder)
         throw Error("S_2n needs an even subscript between 4 and " + std::to_string(2 * kMaxAxisOrder) +
                     ", got " + std::to_string(n));
-      break;
+      return n;
     case PointGroupFamily::Cinfv:
     case PointGroupFamily::Dinfh:
       if (linear_axis_order < 4 || linear_axis_order % 2 != 0 || linear_axis_order > kMaxAxisOrder)
         throw Error("the finite stand-in for a linear group needs an even axis order between 4 and " +
                     std::to_string(kMaxAxisOrder) + ", got " + std::to_string(linear_axis_order));
-      n = linear_axis_order;
-      break;
+      return linear_axis_order;
     default:
-      n = 1;
+      return 1;
   }
-  const PointGroupFamily finite_family = family == PointGroupFamily::Cinfv   ? PointGroupFamily::Cnv
-                                         : family == PointGroupFamily::Dinfh ? PointGroupFamily::Dnh
-                                                                             : family;
+}
 
-  PointGroup pg;
-  pg.family = family;
-  pg.axis_order = n;
-  pg.linear = linear;
-  pg.name = name_for(family, n, false);
-  pg.display_name = name_for(family, n, true);
-  pg.finite_name = name_for(finite_family, n, false);
-
+// The operations of the finite group generated for the family, named and decorated, in
+// textbook class order (operations within a class by their power), and the classes.
+void build_operations(PointGroupFamily finite_family, int n, PointGroup& pg) {
   const FiniteGroup raw =
       FiniteGroup::generated_by(generators_for(finite_family, n), {}, kExactTolerance, 2000);
   std::vector<OperationInfo> info;
@@ -539,7 +534,6 @@ PointGroup build_point_group(PointGroupFamily family, int axis_order, int linear
   const auto raw_classes = raw.conjugacy_classes();
   decorate(finite_family, n, raw_classes, raw, info);
 
-  // Order classes, and operations within a class by their power.
   std::vector<std::vector<int>> sorted_classes = raw_classes;
   for (auto& members : sorted_classes)
     std::sort(members.begin(), members.end(), [&](int a, int b) {
@@ -551,35 +545,27 @@ PointGroup build_point_group(PointGroupFamily family, int axis_order, int linear
                             class_key(finite_family, info[b.front()]);
                    });
 
-  std::vector<std::string> used_labels;
   for (std::size_t c = 0; c < sorted_classes.size(); ++c) {
-    const auto& members = sorted_classes[c];
-    for (int a : members) {
+    std::vector<int> indices;
+    for (int a : sorted_classes[c]) {
       SymmetryOperation op;
       op.matrix = raw.matrix(a);
       op.proper = op.matrix.determinant() > 0.0;
       op.axis = info[a].axis;
       op.class_index = static_cast<int>(c);
-      const std::string text = base_name(info[a], true), ascii = base_name(info[a], false);
-      if (info[a].kind == OperationKind::Reflection) {
-        op.name = text + info[a].decoration_text;
-        op.ascii_name = ascii + info[a].decoration_ascii;
-      } else {
-        op.name = text + info[a].decoration_text;
-        op.ascii_name = ascii + info[a].decoration_ascii;
-      }
+      op.name = base_name(info[a], true) + info[a].decoration_text;
+      op.ascii_name = base_name(info[a], false) + info[a].decoration_ascii;
+      indices.push_back(static_cast<int>(pg.operations.size()));
       pg.operations.push_back(op);
     }
-  }
-  int index = 0;
-  for (const auto& members : sorted_classes) {
-    std::vector<int> indices;
-    for (std::size_t k = 0; k < members.size(); ++k) indices.push_back(index++);
     pg.classes.push_back(indices);
   }
+}
 
-  // Class labels: size and the name of the lowest power, unless an earlier class took it.
+// Class labels: size and the name of the lowest power, unless an earlier class took it.
+void label_classes(PointGroup& pg) {
   CharacterTable& table = pg.character_table;
+  std::vector<std::string> used_labels;
   for (const auto& members : pg.classes) {
     const int size = static_cast<int>(members.size());
     std::string text, ascii;
@@ -601,23 +587,20 @@ PointGroup build_point_group(PointGroupFamily family, int axis_order, int linear
     table.ascii_class_labels.push_back(count + ascii);
     table.class_sizes.push_back(size);
   }
+}
 
-  const FiniteGroup group = pg.finite_group();
-  const auto complex_table = irreducible_characters(group, pg.classes);
-  const int order = group.order();
-  const int class_count = static_cast<int>(pg.classes.size());
-  std::vector<int> class_of(order);
-  for (int c = 0; c < class_count; ++c)
-    for (int a : pg.classes[c]) class_of[a] = c;
+// A real species before labelling: one complex row, or a merged complex-conjugate pair.
+struct RawIrrep {
+  std::vector<double> characters;
+  int dimension;
+  bool pair;
+  std::vector<int> rows;
+};
 
-  // Merge complex-conjugate pairs into real species.
+// Complex-conjugate pairs of rows merged into real species.
+std::vector<RawIrrep> real_species(const std::vector<std::vector<std::complex<double>>>& complex_table) {
+  constexpr double exact = 1e-8;  // characters from the class algebra are exact to ~1e-12
   std::vector<bool> taken(complex_table.size(), false);
-  struct RawIrrep {
-    std::vector<double> characters;
-    int dimension;
-    bool pair;
-    std::vector<int> rows;
-  };
   std::vector<RawIrrep> real_irreps;
   for (std::size_t a = 0; a < complex_table.size(); ++a) {
     if (taken[a]) continue;
@@ -626,13 +609,13 @@ PointGroup build_point_group(PointGroupFamily family, int axis_order, int linear
     for (const auto& v : complex_table[a]) imaginary = std::max(imaginary, std::abs(v.imag()));
     RawIrrep irrep;
     irrep.rows = {static_cast<int>(a)};
-    irrep.pair = imaginary > 1e-8;
+    irrep.pair = imaginary > exact;
     if (irrep.pair) {
       for (std::size_t b = a + 1; b < complex_table.size(); ++b) {
         if (taken[b]) continue;
         bool conjugate = true;
-        for (int k = 0; k < class_count; ++k)
-          conjugate = conjugate && std::abs(complex_table[b][k] - std::conj(complex_table[a][k])) < 1e-8;
+        for (std::size_t k = 0; k < complex_table[a].size(); ++k)
+          conjugate = conjugate && std::abs(complex_table[b][k] - std::conj(complex_table[a][k])) < exact;
         if (conjugate) {
           taken[b] = true;
           irrep.rows.push_back(static_cast<int>(b));
@@ -642,19 +625,30 @@ PointGroup build_point_group(PointGroupFamily family, int axis_order, int linear
       if (irrep.rows.size() != 2)
         throw Error("internal: complex irreducible character without its conjugate");
     }
-    for (int k = 0; k < class_count; ++k)
-      irrep.characters.push_back(irrep.pair ? 2.0 * complex_table[a][k].real() : complex_table[a][k].real());
+    for (const auto& value : complex_table[a])
+      irrep.characters.push_back(irrep.pair ? 2.0 * value.real() : value.real());
     irrep.dimension = static_cast<int>(std::lround(irrep.characters[0]));
     real_irreps.push_back(irrep);
   }
+  return real_irreps;
+}
 
-  // Named operations used by the labelling rules.
+// The operations Mulliken's rules look at (−1 where the group lacks them).
+struct NamedOperations {
+  int inversion = -1, sigma_h = -1, sigma_xz = -1, c2x = -1;
+  int principal = -1, principal_order = 1;  // C_n (or S_2n when finer) about z in axial groups
+  int cubic_reference = -1;                 // C4 (O, Oh), S4 (Td), C5 (I, Ih)
+};
+
+NamedOperations named_operations(const PointGroup& pg, const FiniteGroup& group,
+                                 PointGroupFamily finite_family) {
   auto find_op = [&](const Eigen::Matrix3d& m) { return group.find(m, kExactTolerance); };
   const double turn = 2.0 * units::pi;
-  const int inversion = find_op(-Eigen::Matrix3d::Identity());
-  const int sigma_h = find_op(reflection_through_plane(kZ));
-  const int sigma_xz = find_op(reflection_through_plane(kY));
-  const int c2x = find_op(rotation_about(kX, turn / 2));
+  NamedOperations named;
+  named.inversion = find_op(-Eigen::Matrix3d::Identity());
+  named.sigma_h = find_op(reflection_through_plane(kZ));
+  named.sigma_xz = find_op(reflection_through_plane(kY));
+  named.c2x = find_op(rotation_about(kX, turn / 2));
   int proper_order = 1, improper_order = 0;
   for (const auto& op : pg.operations) {
     if (op.axis.isZero() || !parallel(op.axis, kZ)) continue;
@@ -663,104 +657,102 @@ PointGroup build_point_group(PointGroupFamily family, int axis_order, int linear
     if (!op.proper && i.kind == OperationKind::ImproperRotation)
       improper_order = std::max(improper_order, i.m);
   }
-  int principal = -1, principal_order = 1;
   if (is_axial(finite_family)) {
-    if (inversion < 0 && improper_order > proper_order) {
-      principal = find_op(improper_rotation_about(kZ, turn / improper_order));
-      principal_order = improper_order;
+    if (named.inversion < 0 && improper_order > proper_order) {
+      named.principal = find_op(improper_rotation_about(kZ, turn / improper_order));
+      named.principal_order = improper_order;
     } else if (proper_order > 1) {
-      principal = find_op(rotation_about(kZ, turn / proper_order));
-      principal_order = proper_order;
+      named.principal = find_op(rotation_about(kZ, turn / proper_order));
+      named.principal_order = proper_order;
     }
   }
   const double golden = (1.0 + std::sqrt(5.0)) / 2.0;
-  int cubic_reference = -1;
   if (finite_family == PointGroupFamily::O || finite_family == PointGroupFamily::Oh)
-    cubic_reference = find_op(rotation_about(kZ, turn / 4));
+    named.cubic_reference = find_op(rotation_about(kZ, turn / 4));
   else if (finite_family == PointGroupFamily::Td)
-    cubic_reference = find_op(improper_rotation_about(kZ, turn / 4));
+    named.cubic_reference = find_op(improper_rotation_about(kZ, turn / 4));
   else if (finite_family == PointGroupFamily::I || finite_family == PointGroupFamily::Ih)
-    cubic_reference = find_op(rotation_about(Eigen::Vector3d(0, 1, golden), turn / 5));
-  const bool has_subscript_reference = c2x >= 0 || sigma_xz >= 0;
+    named.cubic_reference = find_op(rotation_about(Eigen::Vector3d(0, 1, golden), turn / 5));
+  return named;
+}
 
-  auto chi = [&](const RawIrrep& irrep, int op) { return irrep.characters[class_of[op]]; };
-  std::vector<LabelParts> parts(real_irreps.size());
-  for (std::size_t a = 0; a < real_irreps.size(); ++a) {
-    const RawIrrep& irrep = real_irreps[a];
-    LabelParts& p = parts[a];
-    const double d = irrep.dimension;
-    p.letter = letter_for_dimension(irrep.dimension);
-    if (irrep.dimension == 1 && principal >= 0 && chi(irrep, principal) < 0.0) p.letter = "B";
-    if (inversion >= 0)
-      p.parity = chi(irrep, inversion) / d > 0.0 ? 1 : 2;
-    else if (sigma_h >= 0)
-      p.parity = chi(irrep, sigma_h) / d > 0.0 ? 3 : 4;
-    if (is_dihedral_two(finite_family, n)) {
-      // D2, D2h: A is symmetric under all three C2 (no subscript); B1, B2, B3 are
-      // symmetric under C2(z), C2(y), C2(x) respectively.
-      const double cz = chi(irrep, find_op(rotation_about(kZ, turn / 2)));
-      const double cy = chi(irrep, find_op(rotation_about(kY, turn / 2)));
-      const double cx = chi(irrep, find_op(rotation_about(kX, turn / 2)));
-      if (cz > 0 && cy > 0 && cx > 0) {
-        p.letter = "A";
-      } else {
-        p.letter = "B";
-        p.number = cz > 0 ? 1 : cy > 0 ? 2 : 3;
-      }
-    } else if (irrep.dimension == 1 && is_axial(finite_family) && has_subscript_reference) {
-      const int reference = c2x >= 0 ? c2x : sigma_xz;
-      p.number = chi(irrep, reference) > 0.0 ? 1 : 2;
-    } else if (irrep.dimension == 2 && is_axial(finite_family) && principal >= 0) {
-      const double c = std::clamp(chi(irrep, principal) / 2.0, -1.0, 1.0);
-      p.number = static_cast<int>(std::lround(std::acos(c) * principal_order / turn));
-    } else if (cubic_reference >= 0 && (irrep.dimension == 1 || irrep.dimension == 3)) {
-      if (finite_family == PointGroupFamily::I || finite_family == PointGroupFamily::Ih) {
-        if (irrep.dimension == 3) p.number = chi(irrep, cubic_reference) > 0.0 ? 1 : 2;
-      } else {
-        p.number = chi(irrep, cubic_reference) / d > 0.0 ? 1 : 2;
-      }
+// Letter, subscript, parity and (linear groups) Λ and Σ sign of one species by Mulliken's
+// rules from its characters under the named operations.
+LabelParts mulliken_parts(const RawIrrep& irrep, const std::vector<int>& class_of, const FiniteGroup& group,
+                          const NamedOperations& named, PointGroupFamily finite_family, int n, bool linear) {
+  auto chi = [&](int op) { return irrep.characters[class_of[op]]; };
+  auto find_op = [&](const Eigen::Matrix3d& m) { return group.find(m, kExactTolerance); };
+  const double turn = 2.0 * units::pi;
+  const double d = irrep.dimension;
+  LabelParts p;
+  p.letter = letter_for_dimension(irrep.dimension);
+  if (irrep.dimension == 1 && named.principal >= 0 && chi(named.principal) < 0.0) p.letter = "B";
+  if (named.inversion >= 0)
+    p.parity = chi(named.inversion) / d > 0.0 ? 1 : 2;
+  else if (named.sigma_h >= 0)
+    p.parity = chi(named.sigma_h) / d > 0.0 ? 3 : 4;
+  if (is_dihedral_two(finite_family, n)) {
+    // D2, D2h: A is symmetric under all three C2 (no subscript); B1, B2, B3 are
+    // symmetric under C2(z), C2(y), C2(x) respectively.
+    const double cz = chi(find_op(rotation_about(kZ, turn / 2)));
+    const double cy = chi(find_op(rotation_about(kY, turn / 2)));
+    const double cx = chi(find_op(rotation_about(kX, turn / 2)));
+    if (cz > 0 && cy > 0 && cx > 0) {
+      p.letter = "A";
+    } else {
+      p.letter = "B";
+      p.number = cz > 0 ? 1 : cy > 0 ? 2 : 3;
     }
-    if (linear) {
-      if (irrep.dimension == 1 && p.letter == "A") {
-        p.lambda = 0;
-        p.sigma_sign = chi(irrep, sigma_xz) > 0.0 ? 1 : -1;
-      } else if (irrep.dimension == 2) {
-        p.lambda = p.number;
-      } else {
-        p.lambda = n / 2;  // B-type species of the stand-in: the two halves of Λ = n/2
-      }
+  } else if (irrep.dimension == 1 && is_axial(finite_family) && (named.c2x >= 0 || named.sigma_xz >= 0)) {
+    p.number = chi(named.c2x >= 0 ? named.c2x : named.sigma_xz) > 0.0 ? 1 : 2;
+  } else if (irrep.dimension == 2 && is_axial(finite_family) && named.principal >= 0) {
+    const double c = std::clamp(chi(named.principal) / 2.0, -1.0, 1.0);
+    p.number = static_cast<int>(std::lround(std::acos(c) * named.principal_order / turn));
+  } else if (named.cubic_reference >= 0 && (irrep.dimension == 1 || irrep.dimension == 3)) {
+    if (finite_family == PointGroupFamily::I || finite_family == PointGroupFamily::Ih) {
+      if (irrep.dimension == 3) p.number = chi(named.cubic_reference) > 0.0 ? 1 : 2;
+    } else {
+      p.number = chi(named.cubic_reference) / d > 0.0 ? 1 : 2;
     }
   }
-  // E numbering only where more than one two-dimensional species shares the parity.
-  for (std::size_t a = 0; a < parts.size(); ++a) {
-    if (parts[a].letter != "E" || !is_axial(finite_family)) continue;
-    int same = 0;
-    for (std::size_t b = 0; b < parts.size(); ++b)
-      same += parts[b].letter == "E" && parts[b].parity == parts[a].parity;
-    if (same < 2 && !linear) parts[a].number = 0;
-  }
-
-  auto parity_suffix = [](int parity, bool typographic) -> std::string {
-    switch (parity) {
-      case 1:
-        return "g";
-      case 2:
-        return "u";
-      case 3:
-        return typographic ? "′" : "'";
-      case 4:
-        return typographic ? "″" : "''";
+  if (linear) {
+    if (irrep.dimension == 1 && p.letter == "A") {
+      p.lambda = 0;
+      p.sigma_sign = chi(named.sigma_xz) > 0.0 ? 1 : -1;
+    } else if (irrep.dimension == 2) {
+      p.lambda = p.number;
+    } else {
+      p.lambda = n / 2;  // B-type species of the stand-in: the two halves of Λ = n/2
     }
-    return "";
-  };
-  auto mulliken = [&](const LabelParts& p, bool typographic) {
-    std::string label = p.letter;
-    if (p.number > 0)
-      label += typographic ? detail::subscript_digits(std::to_string(p.number)) : std::to_string(p.number);
-    return label + parity_suffix(p.parity, typographic);
-  };
+  }
+  return p;
+}
 
-  std::vector<int> sequence(real_irreps.size());
+std::string parity_suffix(int parity, bool typographic) {
+  switch (parity) {
+    case 1:
+      return "g";
+    case 2:
+      return "u";
+    case 3:
+      return typographic ? "′" : "'";
+    case 4:
+      return typographic ? "″" : "''";
+  }
+  return "";
+}
+
+std::string mulliken_label(const LabelParts& p, bool typographic) {
+  std::string label = p.letter;
+  if (p.number > 0)
+    label += typographic ? detail::subscript_digits(std::to_string(p.number)) : std::to_string(p.number);
+  return label + parity_suffix(p.parity, typographic);
+}
+
+// Textbook order of the species: g before u, ′ before ″, then A, B, E, T, G, H, then
+// subscript (linear groups: by Λ, Σ⁺ before Σ⁻).
+std::vector<int> textbook_order(const std::vector<LabelParts>& parts, bool linear) {
+  std::vector<int> sequence(parts.size());
   std::iota(sequence.begin(), sequence.end(), 0);
   std::sort(sequence.begin(), sequence.end(), [&](int a, int b) {
     const LabelParts &x = parts[a], &y = parts[b];
@@ -771,9 +763,34 @@ PointGroup build_point_group(PointGroupFamily family, int axis_order, int linear
     return std::make_tuple(px, letter_rank(x.letter), x.number) <
            std::make_tuple(py, letter_rank(y.letter), y.number);
   });
+  return sequence;
+}
 
-  // Projection onto a species uses c·Σ_g χ(g)·D(g) with c = (complex dimension)/|G|.
-  const std::vector<std::pair<std::string, Eigen::Matrix3d>> quadratics = [] {
+// ASCII and typographic labels of a species (linear groups: Σ, Π, Δ, … with g/u and ±).
+void name_species(const LabelParts& p, int dimension, bool linear, Irrep& irrep) {
+  irrep.finite_label = mulliken_label(p, false);
+  if (!linear) {
+    irrep.label = irrep.finite_label;
+    irrep.display_label = mulliken_label(p, true);
+    return;
+  }
+  const std::string g_u = p.parity == 1 ? "g" : p.parity == 2 ? "u" : "";
+  const std::string sign_ascii = p.lambda == 0 ? (p.sigma_sign > 0 ? "+" : "-") : "";
+  const std::string sign_text = p.lambda == 0 ? (p.sigma_sign > 0 ? "⁺" : "⁻") : "";
+  irrep.label = linear_letter(p.lambda, false) + (g_u.empty() ? "" : "_" + g_u) + sign_ascii;
+  irrep.display_label = linear_letter(p.lambda, true) + g_u + sign_text;
+  if (dimension == 1 && p.lambda != 0) {
+    // One half of a Λ = n/2 species split by the finite stand-in.
+    irrep.label += "(" + irrep.finite_label + ")";
+    irrep.display_label += "(" + mulliken_label(p, true) + ")";
+  }
+}
+
+// The Cartesian functions a species carries (x, y, z; Rx, Ry, Rz; quadratic functions) by
+// projection with c·Σ_g χ(g)·D(g), c = (complex dimension)/|G|, and the IR and Raman
+// activity that follows.
+void cartesian_functions(const PointGroup& pg, const std::vector<int>& class_of, Irrep& irrep) {
+  static const std::vector<std::pair<std::string, Eigen::Matrix3d>> quadratics = [] {
     auto sym = [](int i, int j) {
       Eigen::Matrix3d a = Eigen::Matrix3d::Zero();
       a(i, j) = a(j, i) = i == j ? 1.0 : 0.5;
@@ -791,32 +808,77 @@ PointGroup build_point_group(PointGroupFamily family, int axis_order, int linear
                                                                 {"xz", sym(0, 2)},
                                                                 {"yz", sym(1, 2)}};
   }();
-  const std::vector<std::string> quadratic_display_order = {"x²+y²+z²",  "x²+y²", "x²", "y²", "z²",
-                                                            "2z²−x²−y²", "x²−y²", "xy", "xz", "yz"};
+  static const std::vector<std::string> quadratic_display_order = {"x²+y²+z²",  "x²+y²", "x²", "y²", "z²",
+                                                                   "2z²−x²−y²", "x²−y²", "xy", "xz", "yz"};
   constexpr double kMembership = 1e-8;
+  const int order = pg.order();
+  const double weight =
+      (irrep.complex_pair ? irrep.dimension / 2 : irrep.dimension) / static_cast<double>(order);
+  Eigen::Matrix3d vector_projector = Eigen::Matrix3d::Zero(), axial_projector = Eigen::Matrix3d::Zero();
+  for (int g = 0; g < order; ++g) {
+    const Eigen::Matrix3d& r = pg.operations[g].matrix;
+    const double c = irrep.characters[class_of[g]] * weight;
+    vector_projector += c * r;
+    axial_projector += c * r.determinant() * r;
+  }
+  const char* axes[] = {"x", "y", "z"};
+  const char* rotation_names[] = {"Rx", "Ry", "Rz"};
+  for (int i = 0; i < 3; ++i) {
+    const Eigen::Vector3d e = Eigen::Vector3d::Unit(i);
+    if ((vector_projector * e - e).norm() < kMembership) irrep.linear_functions.push_back(axes[i]);
+    if ((axial_projector * e - e).norm() < kMembership) irrep.rotations.push_back(rotation_names[i]);
+  }
+  // Quadratic functions r·A·r transform as A → R·A·Rᵀ.
+  std::vector<Eigen::VectorXd> kept;
+  std::vector<std::string> kept_names;
+  for (const auto& [label, a_matrix] : quadratics) {
+    Eigen::Matrix3d projected = Eigen::Matrix3d::Zero();
+    for (int g = 0; g < order; ++g) {
+      const Eigen::Matrix3d& r = pg.operations[g].matrix;
+      projected += irrep.characters[class_of[g]] * weight * r * a_matrix * r.transpose();
+    }
+    if ((projected - a_matrix).norm() > kMembership) continue;
+    Eigen::VectorXd v(6);
+    v << a_matrix(0, 0), a_matrix(1, 1), a_matrix(2, 2), a_matrix(0, 1), a_matrix(0, 2), a_matrix(1, 2);
+    Eigen::VectorXd residual = v;
+    for (const auto& u : kept) residual -= u.dot(residual) * u;
+    if (residual.norm() < 1e-6) continue;
+    kept.push_back(residual.normalized());
+    kept_names.push_back(label);
+  }
+  for (const auto& label : quadratic_display_order)
+    if (std::find(kept_names.begin(), kept_names.end(), label) != kept_names.end())
+      irrep.quadratic_functions.push_back(label);
+  irrep.ir_active = !irrep.linear_functions.empty();
+  irrep.raman_active = !irrep.quadratic_functions.empty();
+}
 
-  for (int a : sequence) {
+// The character table: irreducible characters from the class algebra, conjugate pairs
+// merged, Mulliken labels, textbook order, Cartesian functions and activity.
+void build_character_table(PointGroupFamily finite_family, int n, PointGroup& pg) {
+  CharacterTable& table = pg.character_table;
+  const FiniteGroup group = pg.finite_group();
+  const auto complex_table = irreducible_characters(group, pg.classes);
+  std::vector<int> class_of(group.order());
+  for (std::size_t c = 0; c < pg.classes.size(); ++c)
+    for (int a : pg.classes[c]) class_of[a] = static_cast<int>(c);
+  const std::vector<RawIrrep> real_irreps = real_species(complex_table);
+  const NamedOperations named = named_operations(pg, group, finite_family);
+  std::vector<LabelParts> parts;
+  for (const RawIrrep& irrep : real_irreps)
+    parts.push_back(mulliken_parts(irrep, class_of, group, named, finite_family, n, pg.linear));
+  // E numbering only where more than one two-dimensional species shares the parity.
+  for (std::size_t a = 0; a < parts.size(); ++a) {
+    if (parts[a].letter != "E" || !is_axial(finite_family)) continue;
+    int same = 0;
+    for (std::size_t b = 0; b < parts.size(); ++b)
+      same += parts[b].letter == "E" && parts[b].parity == parts[a].parity;
+    if (same < 2 && !pg.linear) parts[a].number = 0;
+  }
+  for (int a : textbook_order(parts, pg.linear)) {
     const RawIrrep& raw_irrep = real_irreps[a];
     Irrep irrep;
-    irrep.finite_label = mulliken(parts[a], false);
-    if (linear) {
-      const LabelParts& p = parts[a];
-      std::string g_u = p.parity == 1 ? "g" : p.parity == 2 ? "u" : "";
-      std::string sign_ascii = p.lambda == 0 ? (p.sigma_sign > 0 ? "+" : "-") : "";
-      std::string sign_text = p.lambda == 0 ? (p.sigma_sign > 0 ? "⁺" : "⁻") : "";
-      std::string ascii = linear_letter(p.lambda, false) + (g_u.empty() ? "" : "_" + g_u) + sign_ascii;
-      std::string text = linear_letter(p.lambda, true) + g_u + sign_text;
-      if (raw_irrep.dimension == 1 && p.lambda != 0) {
-        // One half of a Λ = n/2 species split by the finite stand-in.
-        ascii += "(" + irrep.finite_label + ")";
-        text += "(" + mulliken(p, true) + ")";
-      }
-      irrep.label = ascii;
-      irrep.display_label = text;
-    } else {
-      irrep.label = irrep.finite_label;
-      irrep.display_label = mulliken(parts[a], true);
-    }
+    name_species(parts[a], raw_irrep.dimension, pg.linear, irrep);
     irrep.dimension = raw_irrep.dimension;
     irrep.complex_pair = raw_irrep.pair;
     irrep.characters = raw_irrep.characters;
@@ -825,48 +887,26 @@ PointGroup build_point_group(PointGroupFamily family, int axis_order, int linear
       table.complex_rows.back().push_back(static_cast<int>(table.complex_characters.size()));
       table.complex_characters.push_back(complex_table[row]);
     }
-
-    const double weight =
-        (irrep.complex_pair ? irrep.dimension / 2 : irrep.dimension) / static_cast<double>(order);
-    Eigen::Matrix3d vector_projector = Eigen::Matrix3d::Zero(), axial_projector = Eigen::Matrix3d::Zero();
-    for (int g = 0; g < order; ++g) {
-      const Eigen::Matrix3d& r = pg.operations[g].matrix;
-      const double c = irrep.characters[class_of[g]] * weight;
-      vector_projector += c * r;
-      axial_projector += c * r.determinant() * r;
-    }
-    const char* axes[] = {"x", "y", "z"};
-    const char* rotation_names[] = {"Rx", "Ry", "Rz"};
-    for (int i = 0; i < 3; ++i) {
-      const Eigen::Vector3d e = Eigen::Vector3d::Unit(i);
-      if ((vector_projector * e - e).norm() < kMembership) irrep.linear_functions.push_back(axes[i]);
-      if ((axial_projector * e - e).norm() < kMembership) irrep.rotations.push_back(rotation_names[i]);
-    }
-    // Quadratic functions r·A·r transform as A → R·A·Rᵀ.
-    std::vector<Eigen::VectorXd> kept;
-    std::vector<std::string> kept_names;
-    for (const auto& [label, a_matrix] : quadratics) {
-      Eigen::Matrix3d projected = Eigen::Matrix3d::Zero();
-      for (int g = 0; g < order; ++g) {
-        const Eigen::Matrix3d& r = pg.operations[g].matrix;
-        projected += irrep.characters[class_of[g]] * weight * r * a_matrix * r.transpose();
-      }
-      if ((projected - a_matrix).norm() > kMembership) continue;
-      Eigen::VectorXd v(6);
-      v << a_matrix(0, 0), a_matrix(1, 1), a_matrix(2, 2), a_matrix(0, 1), a_matrix(0, 2), a_matrix(1, 2);
-      Eigen::VectorXd residual = v;
-      for (const auto& u : kept) residual -= u.dot(residual) * u;
-      if (residual.norm() < 1e-6) continue;
-      kept.push_back(residual.normalized());
-      kept_names.push_back(label);
-    }
-    for (const auto& label : quadratic_display_order)
-      if (std::find(kept_names.begin(), kept_names.end(), label) != kept_names.end())
-        irrep.quadratic_functions.push_back(label);
-    irrep.ir_active = !irrep.linear_functions.empty();
-    irrep.raman_active = !irrep.quadratic_functions.empty();
+    cartesian_functions(pg, class_of, irrep);
     table.irreps.push_back(irrep);
   }
+}
+
+PointGroup build_point_group(PointGroupFamily family, int axis_order, int linear_axis_order) {
+  const int n = checked_axis_order(family, axis_order, linear_axis_order);
+  const PointGroupFamily finite_family = family == PointGroupFamily::Cinfv   ? PointGroupFamily::Cnv
+                                         : family == PointGroupFamily::Dinfh ? PointGroupFamily::Dnh
+                                                                             : family;
+  PointGroup pg;
+  pg.family = family;
+  pg.axis_order = n;
+  pg.linear = family == PointGroupFamily::Cinfv || family == PointGroupFamily::Dinfh;
+  pg.name = name_for(family, n, false);
+  pg.display_name = name_for(family, n, true);
+  pg.finite_name = name_for(finite_family, n, false);
+  build_operations(finite_family, n, pg);
+  label_classes(pg);
+  build_character_table(finite_family, n, pg);
   return pg;
 }
 

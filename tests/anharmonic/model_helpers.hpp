@@ -8,9 +8,9 @@
 #include <vector>
 
 #include "anharmonic/force_constants.hpp"
-#include "anharmonic/mode_symmetry.hpp"
 #include "core/units.hpp"
 #include "harmonic/harmonic.hpp"
+#include "symmetry/mode_symmetry.hpp"
 
 namespace overtone::testing {
 
@@ -39,7 +39,7 @@ inline ForceConstantResult model_force_constants(const std::vector<double>& freq
   fc.frequencies_cm1 = Eigen::Map<const Eigen::VectorXd>(frequencies_cm1.data(), m);
   fc.constants = ForceConstantTensors(m);
   fill(fc.constants);
-  fc.symmetry = trivial_mode_symmetry(model_harmonic(frequencies_cm1));
+  fc.symmetry = ModeSymmetry::without_group(fc.frequencies_cm1);
   fc.full_quartic = true;
   return fc;
 }

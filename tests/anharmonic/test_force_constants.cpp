@@ -8,7 +8,7 @@
 #include "anharmonic/force_constants.hpp"
 #include "core/error.hpp"
 #include "core/units.hpp"
-#include "molecule_helpers.hpp"
+#include "support/molecule_helpers.hpp"
 
 namespace overtone {
 namespace {
@@ -95,8 +95,8 @@ TEST(ForceConstants, WaterConstantsForbiddenByC2vVanish) {
   const ModeSymmetry& symmetry = water.adapted.symmetry;
   // Ascending order: bend (a1), symmetric stretch (a1), antisymmetric stretch (b2);
   // textbook decomposition 2A1 + B2 (Herzberg 1945).
-  EXPECT_EQ(symmetry.species, (std::vector<std::string>{"A1", "A1", "B2"}));
-  EXPECT_LT(symmetry.representation_error, 1e-10);
+  EXPECT_EQ(symmetry.species(), (std::vector<std::string>{"A1", "A1", "B2"}));
+  EXPECT_LT(symmetry.representation_error(), 1e-10);
 
   ForceConstantOptions plain;
   plain.use_symmetry = false;
@@ -135,7 +135,7 @@ TEST(ForceConstants, CarbonDioxideDegeneratePartnersAreConsistent) {
   ASSERT_EQ(co2.group.group.name, "Dinfh");
   const ModeSymmetry& symmetry = co2.adapted.symmetry;
   // Ascending: the bend pair (Πu), the symmetric (Σg+) and antisymmetric (Σu+) stretches.
-  EXPECT_EQ(symmetry.species, (std::vector<std::string>{"Pi_u", "Pi_u", "Sigma_g+", "Sigma_u+"}));
+  EXPECT_EQ(symmetry.species(), (std::vector<std::string>{"Pi_u", "Pi_u", "Sigma_g+", "Sigma_u+"}));
   const auto fc = compute_force_constants(*co2.potential, co2.adapted.harmonic, symmetry);
   ASSERT_TRUE(fc.ok());
   ASSERT_TRUE(fc.symmetry_used);
@@ -208,16 +208,16 @@ TEST(ForceConstants, GradientRouteWithSymmetryMatchesWithout) {
     harmonic.eigenvalues[k] = units::eigenvalue_from_wavenumber_cm1(harmonic.frequencies_cm1[k]);
   harmonic.mass_weighted_modes = Eigen::Matrix3d::Identity();
   const CyclicModel model(harmonic);
-  ModeSymmetry symmetry;
-  symmetry.degenerate_set = {0, 1, 1};
-  symmetry.species = {"", "", ""};
+  std::vector<Eigen::MatrixXd> operations;
+  std::vector<std::string> operation_names;
   for (int k = 0; k < 6; ++k) {
     Eigen::Matrix3d r = Eigen::Matrix3d::Zero();
     r(0, 0) = k % 2 == 0 ? 1.0 : -1.0;
     r.block<2, 2>(1, 1) = Eigen::Rotation2Dd(2.0 * units::pi / 3.0 * k).toRotationMatrix();
-    symmetry.operations.push_back(r);
-    symmetry.operation_names.push_back("g" + std::to_string(k));
+    operations.push_back(r);
+    operation_names.push_back("g" + std::to_string(k));
   }
+  const ModeSymmetry symmetry(operations, operation_names, {{0}, {1, 2}});
   // The model's quintic term (∂⁵V = 12κ = 3600 cm⁻¹) makes the plain truncation error
   // (h²/6)·∂⁵V visible: with h = 0.005 it is 0.015 cm⁻¹, while a wrongly reused Hessian would
   // err by about 2κh ≈ 3 cm⁻¹.

@@ -9,7 +9,7 @@
 #include "anharmonic/force_constants.hpp"
 #include "anharmonic/vpt2.hpp"
 #include "core/units.hpp"
-#include "molecule_helpers.hpp"
+#include "support/molecule_helpers.hpp"
 
 namespace overtone {
 namespace {

@@ -7,8 +7,8 @@
 #include "core/error.hpp"
 #include "core/units.hpp"
 #include "families/family_types.hpp"
-#include "families/model_systems.hpp"
 #include "families/periodic_orbits.hpp"
+#include "support/model_systems.hpp"
 
 namespace overtone {
 namespace {
@@ -33,7 +33,7 @@ TEST(FamilyTypes, HenonHeilesHasExactlyThreeFamilyTypes) {
   const HenonHeiles system;
   const CoordinateSymmetry symmetry = henon_heiles_symmetry();
   ASSERT_EQ(symmetry.group.order(), 6);
-  const auto blocks = blocks_by_frequency(system.harmonic_angular_frequencies());
+  const auto blocks = blocks_by_frequency(system.harmonic_angular_frequencies(), system.units());
   ASSERT_EQ(blocks.size(), 1u);
   ASSERT_EQ(blocks[0].coordinates.size(), 2u);
   const FamilyEnumeration enumeration = enumerate_families(blocks, symmetry, system.units());
@@ -73,7 +73,7 @@ TEST(FamilyTypes, HenonHeilesOrbitsKeepTheirPredictedSymmetry) {
   const HenonHeiles system;
   const CoordinateSymmetry symmetry = henon_heiles_symmetry();
   const FamilyEnumeration enumeration = enumerate_families(
-      blocks_by_frequency(system.harmonic_angular_frequencies()), symmetry, system.units());
+      blocks_by_frequency(system.harmonic_angular_frequencies(), system.units()), symmetry, system.units());
   ContinuationOptions options;
   options.energy_max = 0.1;  // 60% of the escape energy 1/6
   for (const FamilyType& family : enumeration.families) {
@@ -94,8 +94,9 @@ TEST(FamilyTypes, HenonHeilesOrbitsKeepTheirPredictedSymmetry) {
 
 TEST(FamilyTypes, HenonHeilesMirrorFamilyEscapesAtTheSaddleEnergy) {
   const HenonHeiles system;
-  const FamilyEnumeration enumeration = enumerate_families(
-      blocks_by_frequency(system.harmonic_angular_frequencies()), henon_heiles_symmetry(), system.units());
+  const FamilyEnumeration enumeration =
+      enumerate_families(blocks_by_frequency(system.harmonic_angular_frequencies(), system.units()),
+                         henon_heiles_symmetry(), system.units());
   ContinuationOptions options;
   options.energy_max = 0.2;
   int escaped = 0;
@@ -115,8 +116,9 @@ TEST(FamilyTypes, HenonHeilesMirrorFamilyEscapesAtTheSaddleEnergy) {
 
 TEST(FamilyTypes, InterpolatedAndDirectVariationalEquationsAgree) {
   const HenonHeiles system;
-  const FamilyEnumeration enumeration = enumerate_families(
-      blocks_by_frequency(system.harmonic_angular_frequencies()), henon_heiles_symmetry(), system.units());
+  const FamilyEnumeration enumeration =
+      enumerate_families(blocks_by_frequency(system.harmonic_angular_frequencies(), system.units()),
+                         henon_heiles_symmetry(), system.units());
   ContinuationOptions interpolated;
   interpolated.energy_max = 0.14;  // beyond the standing family's loss of stability near 0.13
   ContinuationOptions direct = interpolated;
@@ -144,7 +146,7 @@ TEST(FamilyTypes, NondegenerateModesGetExactlyOneFamilyEach) {
   // reflection of the second one as symmetry: V = ½(ω₁²x² + ω₂²y²) + ....
   const CoordinateSymmetry symmetry =
       symmetry_from_matrices({Eigen::Vector2d(1.0, -1.0).asDiagonal().toDenseMatrix()}, {"σ"});
-  const auto blocks = blocks_by_frequency(Eigen::Vector2d(1.0, 1.7));
+  const auto blocks = blocks_by_frequency(Eigen::Vector2d(1.0, 1.7), UnitConventions{});
   ASSERT_EQ(blocks.size(), 2u);
   const FamilyEnumeration enumeration = enumerate_families(blocks, symmetry, UnitConventions{});
   ASSERT_EQ(enumeration.families.size(), 2u);
@@ -161,7 +163,7 @@ TEST(FamilyTypes, NondegenerateModesGetExactlyOneFamilyEach) {
 }
 
 TEST(FamilyTypes, WithoutSymmetryOnlyNondegenerateModesHaveFamilies) {
-  const auto blocks = blocks_by_frequency(Eigen::Vector3d(1.0, 1.0, 2.5));
+  const auto blocks = blocks_by_frequency(Eigen::Vector3d(1.0, 1.0, 2.5), UnitConventions{});
   const FamilyEnumeration enumeration = enumerate_families(blocks, trivial_symmetry(3), UnitConventions{});
   ASSERT_EQ(enumeration.families.size(), 1u);
   EXPECT_EQ(enumeration.families[0].mode_numbers, std::vector<int>{3});
@@ -184,7 +186,7 @@ CoordinateSymmetry axial_bend_symmetry(bool with_axis) {
 }
 
 TEST(FamilyTypes, AxialSymmetryMergesStandingBendsAndKeepsTheRotatingBend) {
-  const auto blocks = blocks_by_frequency(Eigen::Vector2d(1.0, 1.0));
+  const auto blocks = blocks_by_frequency(Eigen::Vector2d(1.0, 1.0), UnitConventions{});
   // The finite group alone splits the standing bend into two types (planes of the two
   // mirror classes σv and σd) next to the rotating bend.
   const FamilyEnumeration finite = enumerate_families(blocks, axial_bend_symmetry(false), UnitConventions{});
@@ -220,7 +222,7 @@ TEST(FamilyTypes, ResonanceThreatFollowsTheSymmetryOfTheSecondHarmonic) {
   symmetry.axial_generator(1, 0) = 1.0;
   UnitConventions units;
   units.cm1_per_angular_frequency = 1000.0;  // so that the 0.01 detuning is 10 cm⁻¹
-  const auto blocks = blocks_by_frequency(Eigen::Vector3d(1.0, 1.0, 2.01));
+  const auto blocks = blocks_by_frequency(Eigen::Vector3d(1.0, 1.0, 2.01), units);
   const FamilyEnumeration enumeration = enumerate_families(blocks, symmetry, units);
   ASSERT_EQ(enumeration.families.size(), 3u);  // standing bend, rotating bend, stretch
   for (const auto& family : enumeration.families) {
@@ -240,7 +242,7 @@ TEST(FamilyTypes, ResonanceThreatFollowsTheSymmetryOfTheSecondHarmonic) {
 }
 
 TEST(FamilyTypes, NonInvariantBlocksAndBadMatricesAreRejected) {
-  const auto blocks = blocks_by_frequency(Eigen::Vector2d(1.0, 2.0));
+  const auto blocks = blocks_by_frequency(Eigen::Vector2d(1.0, 2.0), UnitConventions{});
   // A rotation mixing the two non-degenerate coordinates: blocks are not invariant.
   Eigen::MatrixXd swap(2, 2);
   swap << 0.0, 1.0, 1.0, 0.0;

@@ -6,8 +6,8 @@
 
 #include "core/error.hpp"
 #include "core/units.hpp"
-#include "families/model_systems.hpp"
 #include "families/periodic_orbits.hpp"
+#include "support/model_systems.hpp"
 
 namespace overtone {
 namespace {

@@ -4,6 +4,7 @@
 #include <gtest/gtest.h>
 
 #include <Eigen/Geometry>
+#include <array>
 #include <map>
 #include <random>
 
@@ -274,6 +275,118 @@ TEST(ModeSymmetry, RejectsMismatchedHarmonicData) {
   ModeSpeciesOptions bad;
   bad.purity_tolerance = 0.0;
   EXPECT_THROW(assign_mode_species(water.group, water.harmonic, bad), Error);
+}
+
+// ---- The model on the normal coordinates (ModeSymmetry) ----------------------------------
+
+ModeSymmetry model_of(const Analysis& a) {
+  return mode_symmetry(a.group, a.species, a.harmonic.mass_weighted_modes);
+}
+
+int set_of_species(const ModeSymmetry& model, const std::string& species) {
+  for (int s = 0; s < model.set_count(); ++s)
+    if (model.set_species(s) == species) return s;
+  return -1;
+}
+
+std::string square(const Analysis& a, const std::string& species, bool symmetric) {
+  const ModeSymmetry model = model_of(a);
+  const int s = set_of_species(model, species);
+  if (s < 0) return "no set of species " + species;
+  return model.species_label(symmetric ? model.symmetric_square_characters(s)
+                                       : model.antisymmetric_square_characters(s));
+}
+
+// Symmetric and antisymmetric parts of the square of a degenerate species, as tabulated for
+// overtones of degenerate vibrations (G. Herzberg, Infrared and Raman Spectra of Polyatomic
+// Molecules (1945), ch. II, table of symmetric products; from memory), computed here from
+// the matrices R(g) of actual normal modes.
+TEST(ModeSymmetryModel, SymmetricAndAntisymmetricSquaresOfDegenerateSpecies) {
+  const Analysis ammonia = analyze_random("ammonia.C3v.xyz");
+  EXPECT_EQ(square(ammonia, "E", true), "A1 + E");
+  EXPECT_EQ(square(ammonia, "E", false), "A2");
+  const Analysis benzene = analyze_random("benzene.D6h.xyz");
+  EXPECT_EQ(square(benzene, "E1u", true), "A1g + E2g");
+  EXPECT_EQ(square(benzene, "E1u", false), "A2g");
+  const Analysis methane = analyze_random("methane.Td.xyz");
+  EXPECT_EQ(square(methane, "T2", true), "A1 + E + T2");
+  EXPECT_EQ(square(methane, "T2", false), "T1");
+  // The first overtone of a Π bend is Σg⁺ + Δg (l = 0 and |l| = 2), its antisymmetric part Σg⁻.
+  const Analysis co2 = analyze_random("carbon_dioxide.Dinfh.xyz");
+  EXPECT_EQ(square(co2, "Pi_u", true), "Sigma_g+ + Delta_g");
+  EXPECT_EQ(square(co2, "Pi_u", false), "Sigma_g-");
+}
+
+// The number of independent invariants of symmetric powers of one set, against the
+// invariant polynomials of the vector representation written out by hand (closed form):
+// Td on (x, y, z): cubic xyz; quartic r⁴ and x⁴ + y⁴ + z⁴. C3v on (x, y) = E: cubic
+// Re (x + iy)³ = x³ − 3xy² (the σv(xz) keeps y → −y); quartic r⁴.
+TEST(ModeSymmetryModel, InvariantsOfSymmetricPowers) {
+  const ModeSymmetry methane = model_of(analyze_random("methane.Td.xyz"));
+  const int t2 = set_of_species(methane, "T2");
+  ASSERT_GE(t2, 0);
+  EXPECT_NEAR(methane.invariant_count(std::array<int, 3>{t2, t2, t2}), 1.0, kRepresentationTolerance);
+  EXPECT_NEAR(methane.invariant_count(std::array<int, 4>{t2, t2, t2, t2}), 2.0, kRepresentationTolerance);
+  const ModeSymmetry ammonia = model_of(analyze_random("ammonia.C3v.xyz"));
+  const int e = set_of_species(ammonia, "E");
+  ASSERT_GE(e, 0);
+  EXPECT_NEAR(ammonia.invariant_count(std::array<int, 3>{e, e, e}), 1.0, kRepresentationTolerance);
+  EXPECT_NEAR(ammonia.invariant_count(std::array<int, 4>{e, e, e, e}), 1.0, kRepresentationTolerance);
+}
+
+// Resonance rules of a degenerate bend and the stretches of carbon dioxide (Fermi's 2ν2/ν1
+// dyad is allowed; 2ν2/ν3 is not, Σu⁺ being absent from Σg⁺ + Δg; E. Fermi, Z. Phys. 71,
+// 250 (1931)) and of methane (ν2 + ν4 has T1 + T2 and so reaches ν3, ν1 + ν2 is E and
+// does not; direct products from the Td character table, Cotton (1990) Appendix IIA).
+TEST(ModeSymmetryModel, ResonanceRulesFollowTheSquaresAndProducts) {
+  const ModeSymmetry co2 = model_of(analyze_random("carbon_dioxide.Dinfh.xyz"));
+  const int bend = set_of_species(co2, "Pi_u"), symmetric = set_of_species(co2, "Sigma_g+"),
+            antisymmetric = set_of_species(co2, "Sigma_u+");
+  EXPECT_TRUE(co2.overtone_couples(bend, symmetric));
+  EXPECT_FALSE(co2.overtone_couples(bend, antisymmetric));
+  EXPECT_FALSE(co2.combination_couples(bend, symmetric, antisymmetric));
+  EXPECT_TRUE(co2.overtones_couple(bend, antisymmetric));  // both squares hold Σg⁺
+  const Analysis methane_analysis = analyze_random("methane.Td.xyz");
+  const ModeSymmetry methane = model_of(methane_analysis);
+  int a1 = -1, e = -1;
+  std::vector<int> t2;
+  for (int s = 0; s < methane.set_count(); ++s) {
+    if (methane.set_species(s) == "A1") a1 = s;
+    if (methane.set_species(s) == "E") e = s;
+    if (methane.set_species(s) == "T2") t2.push_back(s);
+  }
+  ASSERT_GE(a1, 0);
+  ASSERT_GE(e, 0);
+  ASSERT_EQ(t2.size(), 2u);
+  EXPECT_TRUE(methane.combination_couples(e, t2[0], t2[1]));
+  EXPECT_FALSE(methane.combination_couples(a1, e, t2[0]));
+  EXPECT_TRUE(methane.overtone_couples(e, a1));
+  EXPECT_FALSE(methane.overtone_couples(a1, e));  // Sym²A1 = A1
+}
+
+TEST(ModeSymmetryModel, MultiplicityIsIntegralWithinTheNamedTolerance) {
+  EXPECT_EQ(as_multiplicity(2.0 + 0.5 * multiplicity_tolerance).count, 2);
+  EXPECT_TRUE(as_multiplicity(2.0 + 0.5 * multiplicity_tolerance).integral);
+  EXPECT_FALSE(as_multiplicity(2.0 + 2.0 * multiplicity_tolerance).integral);
+  EXPECT_FALSE(as_multiplicity(0.5 - 0.1).integral);
+}
+
+TEST(ModeSymmetryModel, WithoutGroupSetsFollowTheDegeneracyTolerance) {
+  const Eigen::Vector4d wavenumbers(1500.0, 1000.0, 1000.0 + 0.5 * degeneracy_tolerance_cm1,
+                                    1000.0 + 2.0 * degeneracy_tolerance_cm1);
+  const ModeSymmetry model = ModeSymmetry::without_group(wavenumbers);
+  EXPECT_EQ(model.sets(), (std::vector<std::vector<int>>{{0}, {1, 2}, {3}}));
+  EXPECT_FALSE(model.has_group());
+}
+
+TEST(ModeSymmetryModel, RejectsInconsistentData) {
+  const Eigen::MatrixXd identity = Eigen::MatrixXd::Identity(2, 2);
+  EXPECT_THROW(ModeSymmetry({identity}, {"E"}, {{0}}), Error);             // mode 1 in no set
+  EXPECT_THROW(ModeSymmetry({identity}, {"E"}, {{0, 1}, {1}}), Error);     // mode 1 twice
+  EXPECT_THROW(ModeSymmetry({-identity}, {"E"}, {{0}, {1}}), Error);       // not the identity first
+  EXPECT_THROW(ModeSymmetry({identity}, {"E", "C2"}, {{0}, {1}}), Error);  // names
+  const Analysis water = analyze_random("water.C2v.xyz");
+  EXPECT_THROW(mode_symmetry(water.group, water.species, Eigen::MatrixXd::Identity(9, 2)), Error);
 }
 
 }  // namespace

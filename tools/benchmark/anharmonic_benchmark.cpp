@@ -16,11 +16,11 @@
 #include <vector>
 
 #include "anharmonic/force_constants.hpp"
-#include "anharmonic/mode_symmetry.hpp"
 #include "harmonic/harmonic.hpp"
 #include "molecule/read_molecule.hpp"
 #include "pipeline/analysis.hpp"
 #include "potential/make_potential.hpp"
+#include "symmetry/mode_symmetry.hpp"
 
 namespace {
 
@@ -130,7 +130,8 @@ int main() {
     const SymmetryAdaptedHarmonic adapted =
         analysis.symmetry_used
             ? adapt_to_point_group(analysis.harmonic, analysis.point_group, analysis.mode_symmetry)
-            : SymmetryAdaptedHarmonic{analysis.harmonic, trivial_mode_symmetry(analysis.harmonic)};
+            : SymmetryAdaptedHarmonic{analysis.harmonic,
+                                      ModeSymmetry::without_group(analysis.harmonic.frequencies_cm1)};
 
     const Eigen::VectorXd x = analysis.molecule.coordinates();
     const Eigen::VectorXd masses = analysis.molecule.masses();

@@ -1,4 +1,4 @@
-#include "families/model_systems.hpp"
+#include "support/model_systems.hpp"
 
 #include <fmt/format.h>
 

@@ -1,12 +1,12 @@
-#include "anharmonic/amplitude_scan.hpp"
+#include "families/amplitude_scan.hpp"
 
 #include <fmt/format.h>
 
 #include <cmath>
 
-#include "anharmonic/force_constants.hpp"
 #include "core/error.hpp"
 #include "core/units.hpp"
+#include "harmonic/normal_coordinates.hpp"
 
 namespace overtone {
 

@@ -1,12 +1,11 @@
 #pragma once
 // Shipped molecules on shipped potentials, brought to the minimum and analysed
-// harmonically, for the anharmonic tests (which link only the stages up to this one).
+// harmonically, for the suites that start from them (anharmonic, families).
 #include <Eigen/Dense>
 #include <memory>
 #include <string>
 #include <vector>
 
-#include "anharmonic/mode_symmetry.hpp"
 #include "harmonic/harmonic.hpp"
 #include "molecule/read_molecule.hpp"
 #include "potential/potential.hpp"
