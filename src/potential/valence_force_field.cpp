@@ -297,14 +297,16 @@ class Reader {
   // Rejects keys outside `allowed` (typos in hand-written files must not pass silently).
   void check_keys(const toml::table& table, const std::string& context,
                   std::initializer_list<const char*> allowed) const {
-    for (const auto& [key, node] : table) {
+    for (const auto& entry : table) {
+      // A named copy, not a structured binding: C++17 does not let a lambda capture one.
+      const std::string_view key = entry.first.str();
       const bool known =
-          std::any_of(allowed.begin(), allowed.end(), [&](const char* a) { return key.str() == a; });
+          std::any_of(allowed.begin(), allowed.end(), [&](const char* a) { return key == a; });
       if (!known) {
         std::string list;
         for (const char* a : allowed) list += std::string(list.empty() ? "" : ", ") + a;
-        fail(&node,
-             "unknown key '" + std::string(key.str()) + "' in " + context + "; expected one of: " + list);
+        fail(&entry.second,
+             "unknown key '" + std::string(key) + "' in " + context + "; expected one of: " + list);
       }
     }
   }
