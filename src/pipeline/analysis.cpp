@@ -296,6 +296,7 @@ AnalysisResult analyze_molecule(const Molecule& molecule, const Potential& poten
     for (const auto& warning : result.mode_symmetry.warnings) result.warnings.push_back(warning);
   }
   result.timings.symmetry_s += seconds_since(clock);
+  for (const auto& warning : potential.warnings()) result.warnings.push_back(warning);
   result.modes = label_modes(result);
   return result;
 }

@@ -10,6 +10,7 @@
 #include <openbabel/tokenst.h>
 
 #include <algorithm>
+#include <cmath>
 #include <cctype>
 #include <fstream>
 #include <map>
@@ -18,6 +19,7 @@
 #include "core/error.hpp"
 #include "core/units.hpp"
 #include "molecule/openbabel_bridge.hpp"
+#include "potential/detail_uff_torsions.hpp"
 
 namespace overtone {
 
@@ -128,7 +130,24 @@ OpenBabelPotential::OpenBabelPotential(const std::string& force_field_name, cons
                             detail.empty() ? "" : "; open babel says: " + detail));
   }
   kcal_mol_per_unit_ = kcal_mol_per_openbabel_unit(field_->GetUnit(), name_);
+  // Every bonded triple carries an angle term in these force fields.
+  std::vector<detail::BondedTriple> triples;
+  FOR_ATOMS_OF_MOL(centre, *mol_) {
+    std::vector<int> neighbours;
+    FOR_NBORS_OF_ATOM(neighbour, &*centre) neighbours.push_back(static_cast<int>(neighbour->GetIdx()) - 1);
+    for (std::size_t a = 0; a < neighbours.size(); ++a)
+      for (std::size_t b = a + 1; b < neighbours.size(); ++b)
+        triples.push_back({neighbours[a], static_cast<int>(centre->GetIdx()) - 1, neighbours[b]});
+  }
+  linear_limit_ = detail::LinearLimit(std::move(triples), options_.linear_limit);
   if (name_ == "MMFF94" || name_ == "MMFF94s") check_mmff_atom_types(*field_, *mol_, name_);
+  if (name_ == "UFF") {
+    // Open Babel's UFF torsions about a central bond with an sp atom read a stale or
+    // uninitialized barrier (detail_uff_torsions.hpp); the whole torsion term is ours.
+    if (!field_->GetAtomTypes(*mol_)) throw Error("force field UFF did not report its atom types");
+    uff_torsions_ = detail::uff_torsions(*mol_);
+    replaces_torsions_ = true;
+  }
 
   // Atoms taking part in out-of-plane terms: those whose displacement changes the
   // out-of-plane energy at a generic geometry.
@@ -201,6 +220,20 @@ OpenBabelPotential::~OpenBabelPotential() = default;
 
 std::string OpenBabelPotential::description() const { return name_ + " (Open Babel)"; }
 
+std::vector<std::string> OpenBabelPotential::warnings() const {
+  std::vector<std::string> all = setup_warnings_;
+  if (!cusp_angles_.empty()) {
+    std::string angles;
+    for (const auto& angle : cusp_angles_) angles += (angles.empty() ? "" : ", ") + angle;
+    all.push_back(fmt::format(
+        "{}'s energy has a cusp where the angle {} {} exactly linear: the force field's reference for "
+        "such an angle is not 180°, so a linear arrangement there is a kinked maximum, not a minimum, and bending "
+        "frequencies through it are not defined (the force field's own minimum is slightly bent)",
+        name_, angles, cusp_angles_.size() == 1 ? "is" : "are"));
+  }
+  return all;
+}
+
 void OpenBabelPotential::load_coordinates(const Eigen::VectorXd& x) const {
   std::copy(x.data(), x.data() + x.size(), mol_->GetCoordinates());
   field_->SetCoordinates(*mol_);
@@ -211,13 +244,26 @@ double OpenBabelPotential::openbabel_out_of_plane_energy(const Eigen::VectorXd& 
   return field_->E_OOP(false) * kcal_mol_per_unit_;
 }
 
-double OpenBabelPotential::compute_energy(const Eigen::VectorXd& x) const {
+double OpenBabelPotential::uff_torsion_energy(const Eigen::VectorXd& x) const {
+  if (!replaces_torsions_) throw Error("only the UFF potential evaluates its own torsion term");
+  return detail::uff_torsion_energy(uff_torsions_, x, nullptr) * kcal_mol_per_unit_;
+}
+
+double OpenBabelPotential::openbabel_torsion_energy(const Eigen::VectorXd& x) const {
   load_coordinates(x);
-  // Open Babel 3.1's MMFF94 takes about 100 times longer for Energy(false) than for
-  // Energy(true) (measured: 56 ms against 0.56 ms for acetaldehyde), so the gradient
-  // is always computed along.
+  return field_->E_Torsion(true) * kcal_mol_per_unit_;
+}
+
+double OpenBabelPotential::raw_openbabel_energy(const Eigen::VectorXd& x) const {
+  load_coordinates(x);
   return field_->Energy(true) * kcal_mol_per_unit_;
 }
+
+bool OpenBabelPotential::uses_linear_limit(const Eigen::VectorXd& x) const {
+  return !linear_limit_.degenerate_triples(x).empty();
+}
+
+double OpenBabelPotential::compute_energy(const Eigen::VectorXd& x) const { return evaluate(x, nullptr); }
 
 Eigen::VectorXd OpenBabelPotential::raw_openbabel_gradient(const Eigen::VectorXd& x) const {
   load_coordinates(x);
@@ -228,20 +274,64 @@ Eigen::VectorXd OpenBabelPotential::raw_openbabel_gradient(const Eigen::VectorXd
 
 double OpenBabelPotential::compute_energy_and_gradient(const Eigen::VectorXd& x,
                                                        Eigen::VectorXd& gradient) const {
+  return evaluate(x, &gradient);
+}
+
+double OpenBabelPotential::evaluate(const Eigen::VectorXd& x, Eigen::VectorXd* gradient) const {
+  const std::vector<int> degenerate = linear_limit_.degenerate_triples(x);
+  if (degenerate.empty()) return ordinary_evaluation(x, gradient);
+  double slope = 0.0;
+  const double energy = linear_limit_.evaluate(
+      x, degenerate, [this](const Eigen::VectorXd& y, Eigen::VectorXd* g) { return ordinary_evaluation(y, g); },
+      gradient, &slope);
+  if (std::abs(slope) > options_.linear_cusp_slope_kcal_mol_per_angstrom)
+    for (const int t : degenerate) {
+      const auto& triple = linear_limit_.triples()[static_cast<std::size_t>(t)];
+      std::string text;
+      for (const int atom : {triple.first, triple.centre, triple.second})
+        text += (text.empty() ? "" : "–") +
+                element_symbol(static_cast<int>(mol_->GetAtom(atom + 1)->GetAtomicNum())) +
+                std::to_string(atom + 1);
+      cusp_angles_.insert(text);
+    }
+  load_coordinates(x);  // leave Open Babel at the geometry asked for
+  return energy;
+}
+
+double OpenBabelPotential::ordinary_evaluation(const Eigen::VectorXd& x, Eigen::VectorXd* gradient) const {
   load_coordinates(x);
-  const double energy = field_->Energy(true) * kcal_mol_per_unit_;
+  // Open Babel 3.1's MMFF94 takes about 100 times longer for Energy(false) than for
+  // Energy(true) (measured: 56 ms against 0.56 ms for acetaldehyde), and UFF's angle
+  // energy differs between the two paths, so the gradient is always computed along.
   double* forces = field_->GetGradientPtr();
   const Eigen::Index n = x.size();
-  gradient = -kcal_mol_per_unit_ * Eigen::Map<const Eigen::VectorXd>(forces, n);
+  double energy = 0.0;
+  if (!replaces_torsions_) {
+    energy = field_->Energy(true) * kcal_mol_per_unit_;
+  } else {
+    // Energy(true) is exactly the sum of these seven terms (checked for every supported
+    // force field); summing them here leaves Open Babel's torsions out.
+    std::fill(forces, forces + n, 0.0);
+    energy = field_->E_Bond(true) + field_->E_Angle(true) + field_->E_StrBnd(true) + field_->E_OOP(true) +
+             field_->E_VDW(true) + field_->E_Electrostatic(true);
+    energy = (energy + detail::uff_torsion_energy(uff_torsions_, x, nullptr)) * kcal_mol_per_unit_;
+  }
+  if (!gradient) return energy;
+  *gradient = -kcal_mol_per_unit_ * Eigen::Map<const Eigen::VectorXd>(forces, n);
+  if (replaces_torsions_) {
+    Eigen::VectorXd torsion_gradient = Eigen::VectorXd::Zero(n);
+    detail::uff_torsion_energy(uff_torsions_, x, &torsion_gradient);
+    *gradient += kcal_mol_per_unit_ * torsion_gradient;
+  }
   if (out_of_plane_atoms_.empty()) return energy;
 
   // Remove Open Babel's out-of-plane contribution, then add the model's or the
   // differenced one.
   std::fill(forces, forces + n, 0.0);
   field_->E_OOP(true);
-  gradient += kcal_mol_per_unit_ * Eigen::Map<const Eigen::VectorXd>(forces, n);
+  *gradient += kcal_mol_per_unit_ * Eigen::Map<const Eigen::VectorXd>(forces, n);
   if (out_of_plane_model_) {
-    out_of_plane_model_->add_gradient(x, gradient);
+    out_of_plane_model_->add_gradient(x, *gradient);
     return energy;
   }
   const double step = options_.out_of_plane_difference_step_angstrom;
@@ -254,7 +344,7 @@ double OpenBabelPotential::compute_energy_and_gradient(const Eigen::VectorXd& x,
       displaced[k] = x[k] - step;
       const double minus = openbabel_out_of_plane_energy(displaced);
       displaced[k] = x[k];
-      gradient[k] += (plus - minus) / (2.0 * step);
+      (*gradient)[k] += (plus - minus) / (2.0 * step);
     }
   load_coordinates(x);
   return energy;
