@@ -26,7 +26,7 @@ namespace overtone::detail {
 namespace {
 
 struct UffTypeParameters {
-  int coordination = 1;  // 1 linear, 2 trigonal or resonant, 3 tetrahedral, … (third character)
+  int coordination = 1;      // 1 linear, 2 trigonal or resonant, 3 tetrahedral, … (third character)
   double sp3_barrier = 0.0;  // V_i, kcal/mol
   double sp2_barrier = 0.0;  // U_j, kcal/mol
 };
@@ -136,7 +136,8 @@ std::vector<UffTorsion> uff_torsions(OpenBabel::OBMol& mol) {
       phase_degrees = 180.0;
       term.barrier = 0.5 * OpenBabel::KCAL_TO_KJ * 5.0 * std::sqrt(pb.sp2_barrier * pc.sp2_barrier) *
                      (1.0 + 4.18 * std::log(bond_order));
-    } else if ((pb.coordination == 2 && pc.coordination == 3) || (pb.coordination == 3 && pc.coordination == 2)) {
+    } else if ((pb.coordination == 2 && pc.coordination == 3) ||
+               (pb.coordination == 3 && pc.coordination == 2)) {
       term.periodicity = 6;
       phase_degrees = 0.0;
       term.barrier = 0.5 * OpenBabel::KCAL_TO_KJ * 1.0;
@@ -184,7 +185,9 @@ double uff_torsion_energy(const std::vector<UffTorsion>& torsions, const Eigen::
       p[k] = {Scalar(x[g], 12, 3 * k), Scalar(x[g + 1], 12, 3 * k + 1), Scalar(x[g + 2], 12, 3 * k + 2)};
     }
     using std::cos;
-    const Scalar e = t.barrier * (1.0 - t.cos_n_phase * cos(double(t.periodicity) * dihedral_angle(p[0], p[1], p[2], p[3])));
+    const Scalar e =
+        t.barrier *
+        (1.0 - t.cos_n_phase * cos(double(t.periodicity) * dihedral_angle(p[0], p[1], p[2], p[3])));
     energy += e.value();
     if (!e.derivatives().allFinite()) continue;  // collinear atoms: no defined direction
     for (int k = 0; k < 4; ++k)

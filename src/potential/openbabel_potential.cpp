@@ -10,8 +10,8 @@
 #include <openbabel/tokenst.h>
 
 #include <algorithm>
-#include <cmath>
 #include <cctype>
+#include <cmath>
 #include <fstream>
 #include <map>
 #include <sstream>
@@ -227,7 +227,8 @@ std::vector<std::string> OpenBabelPotential::warnings() const {
     for (const auto& angle : cusp_angles_) angles += (angles.empty() ? "" : ", ") + angle;
     all.push_back(fmt::format(
         "{}'s energy has a cusp where the angle {} {} exactly linear: the force field's reference for "
-        "such an angle is not 180°, so a linear arrangement there is a kinked maximum, not a minimum, and bending "
+        "such an angle is not 180°, so a linear arrangement there is a kinked maximum, not a minimum, and "
+        "bending "
         "frequencies through it are not defined (the force field's own minimum is slightly bent)",
         name_, angles, cusp_angles_.size() == 1 ? "is" : "are"));
   }
@@ -282,8 +283,9 @@ double OpenBabelPotential::evaluate(const Eigen::VectorXd& x, Eigen::VectorXd* g
   if (degenerate.empty()) return ordinary_evaluation(x, gradient);
   double slope = 0.0;
   const double energy = linear_limit_.evaluate(
-      x, degenerate, [this](const Eigen::VectorXd& y, Eigen::VectorXd* g) { return ordinary_evaluation(y, g); },
-      gradient, &slope);
+      x, degenerate,
+      [this](const Eigen::VectorXd& y, Eigen::VectorXd* g) { return ordinary_evaluation(y, g); }, gradient,
+      &slope);
   if (std::abs(slope) > options_.linear_cusp_slope_kcal_mol_per_angstrom)
     for (const int t : degenerate) {
       const auto& triple = linear_limit_.triples()[static_cast<std::size_t>(t)];

@@ -300,8 +300,7 @@ class Reader {
     for (const auto& entry : table) {
       // A named copy, not a structured binding: C++17 does not let a lambda capture one.
       const std::string_view key = entry.first.str();
-      const bool known =
-          std::any_of(allowed.begin(), allowed.end(), [&](const char* a) { return key == a; });
+      const bool known = std::any_of(allowed.begin(), allowed.end(), [&](const char* a) { return key == a; });
       if (!known) {
         std::string list;
         for (const char* a : allowed) list += std::string(list.empty() ? "" : ", ") + a;
