@@ -42,7 +42,29 @@ struct CoordinateDefinition {
   CoordinateKind kind = CoordinateKind::distance;
   std::vector<int> atoms;  // 0-based indices into the molecule
   double reference = 0.0;  // Å or rad; unused for linear_bend (always linear)
+  // An angle whose reference is 180°: its displacement is taken as s² = (π − θ)² like a
+  // linear_bend (the same terms, and regular at linearity), so it takes even powers only.
+  bool linear_reference = false;
+
+  // A linear_bend, or an angle used like one.
+  bool even_in_bend() const {
+    return kind == CoordinateKind::linear_bend || (kind == CoordinateKind::angle && linear_reference);
+  }
 };
+
+std::string atom_list(const std::vector<int>& atoms) {
+  std::string text;
+  for (const int a : atoms) text += (text.empty() ? "" : ", ") + std::to_string(a + 1);
+  return text;
+}
+
+// Dihedrals, out-of-plane angles and pyramid heights have no value when three of their
+// atoms are exactly collinear: a clear error instead of an arbitrary number or NaN.
+[[noreturn]] void undefined_coordinate(const CoordinateDefinition& c, const char* what,
+                                       const std::vector<int>& collinear) {
+  throw Error("coordinate '" + c.name + "' (" + what + " of atoms " + atom_list(c.atoms) +
+              ") is undefined at this geometry: atoms " + atom_list(collinear) + " are exactly collinear");
+}
 
 enum class TermKind { morse, polynomial, coupling, cosine_series };
 
@@ -77,10 +99,18 @@ S raw_coordinate(const CoordinateDefinition& c, const std::vector<int>& local, c
     case CoordinateKind::linear_bend:
       return linear_bend_squared(p[local[0]], p[local[1]], p[local[2]]);
     case CoordinateKind::dihedral:
+      if (exactly_collinear(p[local[0]], p[local[1]], p[local[2]]))
+        undefined_coordinate(c, "dihedral", {c.atoms[0], c.atoms[1], c.atoms[2]});
+      if (exactly_collinear(p[local[1]], p[local[2]], p[local[3]]))
+        undefined_coordinate(c, "dihedral", {c.atoms[1], c.atoms[2], c.atoms[3]});
       return dihedral_angle(p[local[0]], p[local[1]], p[local[2]], p[local[3]]);
     case CoordinateKind::out_of_plane_angle:
+      if (exactly_collinear(p[local[1]], p[local[0]], p[local[2]]))
+        undefined_coordinate(c, "out-of-plane angle", {c.atoms[1], c.atoms[0], c.atoms[2]});
       return out_of_plane_angle(p[local[0]], p[local[1]], p[local[2]], p[local[3]]);
     case CoordinateKind::pyramid_height:
+      if (exactly_collinear(p[local[1]], p[local[2]], p[local[3]]))
+        undefined_coordinate(c, "pyramid height", {c.atoms[1], c.atoms[2], c.atoms[3]});
       return pyramid_height(p[local[0]], p[local[1]], p[local[2]], p[local[3]]);
   }
   return S(0.0);
@@ -90,8 +120,8 @@ S raw_coordinate(const CoordinateDefinition& c, const std::vector<int>& local, c
 // (−π, π]); for a linear bend the even variable s² = (π − θ)².
 template <typename S>
 S displacement(const CoordinateDefinition& c, const std::vector<int>& local, const Vec3<S>* p) {
+  if (c.even_in_bend()) return linear_bend_squared(p[local[0]], p[local[1]], p[local[2]]);
   S value = raw_coordinate(c, local, p);
-  if (c.kind == CoordinateKind::linear_bend) return value;
   value = value - c.reference;
   if (c.kind == CoordinateKind::dihedral) {
     const double turns = std::round(plain_value(value) / (2.0 * units::pi));
@@ -121,7 +151,7 @@ S term_energy(const Term& term, const std::vector<CoordinateDefinition>& coordin
       const S d = displacement(coordinates[term.factors[0].coordinate], term.local_atoms[0], p);
       // Horner in d; for a linear bend d is already s², and only c2, c4 are nonzero
       // (checked on load), so the even polynomial is c2 s² + c4 s⁴ = c2 d + c4 d².
-      if (coordinates[term.factors[0].coordinate].kind == CoordinateKind::linear_bend)
+      if (coordinates[term.factors[0].coordinate].even_in_bend())
         return d * (term.polynomial[2] + d * term.polynomial[4]);
       return d * (term.polynomial[1] +
                   d * (term.polynomial[2] + d * (term.polynomial[3] + d * term.polynomial[4])));
@@ -131,15 +161,24 @@ S term_energy(const Term& term, const std::vector<CoordinateDefinition>& coordin
       for (std::size_t k = 0; k < term.factors.size(); ++k) {
         const CoordinateDefinition& c = coordinates[term.factors[k].coordinate];
         const S d = displacement(c, term.local_atoms[k], p);
-        const int power =
-            c.kind == CoordinateKind::linear_bend ? term.factors[k].power / 2 : term.factors[k].power;
+        const int power = c.even_in_bend() ? term.factors[k].power / 2 : term.factors[k].power;
         product = product * integer_power(d, power);
       }
       return product;
     }
     case TermKind::cosine_series: {
-      const S angle = raw_coordinate(coordinates[term.factors[0].coordinate], term.local_atoms[0], p);
+      const CoordinateDefinition& c = coordinates[term.factors[0].coordinate];
+      const std::vector<int>& local = term.local_atoms[0];
       S sum = S(0.0);
+      if (c.kind == CoordinateKind::angle) {
+        // Through cos θ, so that the series is smooth at 180° (its usual minimum).
+        for (std::size_t n = 0; n < term.barriers.size(); ++n)
+          sum = sum + 0.5 * term.barriers[n] *
+                          (S(1.0) - cosine_of_multiple_bend(p[local[0]], p[local[1]], p[local[2]],
+                                                            static_cast<int>(n + 1), term.phases[n]));
+        return sum;
+      }
+      const S angle = raw_coordinate(c, local, p);
       for (std::size_t n = 0; n < term.barriers.size(); ++n)
         sum = sum + 0.5 * term.barriers[n] * (S(1.0) - cos(double(n + 1) * angle - term.phases[n]));
       return sum;
@@ -262,6 +301,7 @@ class ValenceForceField final : public Potential {
   }
 
   Eigen::MatrixXd compute_hessian(const Eigen::VectorXd& x) const override {
+    check_twice_differentiable(x);
     Eigen::MatrixXd hessian = Eigen::MatrixXd::Zero(x.size(), x.size());
     for (const Term& term : terms_)
       dispatch_on_size(
@@ -271,6 +311,33 @@ class ValenceForceField final : public Potential {
   }
 
  private:
+  // A term in θ − θ_ref with θ_ref ≠ 180° (or a cosine series with a phase that is not a
+  // multiple of π) has a cusp where its angle is exactly linear: the gradient there is the
+  // symmetric one, but no second derivative exists, so the Hessian is refused.
+  void check_twice_differentiable(const Eigen::VectorXd& x) const {
+    for (const Term& term : terms_) {
+      if (term.kind == TermKind::morse) continue;
+      bool odd_phase = false;
+      for (const double phase : term.phases)
+        odd_phase = odd_phase || std::abs(std::sin(phase)) >= phase_multiple_of_pi_tolerance;
+      if (term.kind == TermKind::cosine_series && !odd_phase) continue;
+      for (const Factor& factor : term.factors) {
+        const CoordinateDefinition& c = coordinates_[factor.coordinate];
+        if (c.kind != CoordinateKind::angle || c.linear_reference) continue;
+        Vec3<double> p[3];
+        for (int k = 0; k < 3; ++k) p[k] = {x[3 * c.atoms[k]], x[3 * c.atoms[k] + 1], x[3 * c.atoms[k] + 2]};
+        if (!exactly_collinear(p[0], p[1], p[2])) continue;
+        throw Error(description_ + " has no second derivative at this geometry: angle '" + c.name +
+                    "' (atoms " + atom_list(c.atoms) + ") is exactly linear, where a term in it " +
+                    (term.kind == TermKind::cosine_series
+                         ? std::string("with a phase that is not a multiple of 180°")
+                         : "about a reference of " + std::to_string(c.reference * 180.0 / units::pi) + "°") +
+                    " has a cusp; start from a bent structure, or describe a linear arrangement with a "
+                    "linear_bend or an angle whose reference is 180°");
+      }
+    }
+  }
+
   std::string description_;
   std::size_t atom_count_;
   std::vector<CoordinateDefinition> coordinates_;
@@ -499,6 +566,8 @@ ParsedFile parse_file(const std::string& text, const std::string& origin) {
       c.reference = reader.number(*reference, "reference") * (info->angular ? angle_factor : 1.0);
       if (c.kind == CoordinateKind::distance && c.reference <= 0.0)
         reader.fail(reference, "reference distance of '" + c.name + "' must be positive");
+      c.linear_reference = c.kind == CoordinateKind::angle &&
+                           std::abs(c.reference - units::pi) <= linear_reference_tolerance_rad;
     }
     coordinate_index[c.name] = static_cast<int>(parsed.coordinates.size());
     parsed.coordinates.push_back(c);
@@ -536,7 +605,8 @@ ParsedFile parse_file(const std::string& text, const std::string& origin) {
       term.kind = TermKind::polynomial;
       const toml::node& coordinate_node = reader.require(table, "coordinate", "a polynomial term");
       term.factors.push_back({find_coordinate(coordinate_node, "coordinate"), 1});
-      const bool linear = parsed.coordinates[term.factors[0].coordinate].kind == CoordinateKind::linear_bend;
+      const CoordinateDefinition& bend = parsed.coordinates[term.factors[0].coordinate];
+      const bool linear = bend.even_in_bend();
       bool any = false;
       double factorial = 1.0;
       for (int order = 2; order <= 4; ++order) {
@@ -544,8 +614,10 @@ ParsedFile parse_file(const std::string& text, const std::string& origin) {
         const std::string key = "f" + std::to_string(order);
         if (const toml::node* f = table.get(key)) {
           if (linear && order % 2 == 1)
-            reader.fail(f,
-                        "a linear_bend takes only even powers (f2, f4): the potential must be even in π − θ");
+            reader.fail(f, std::string(bend.kind == CoordinateKind::linear_bend
+                                           ? "a linear_bend"
+                                           : "an angle whose reference is 180° ('" + bend.name + "')") +
+                               " takes only even powers (f2, f4): the potential must be even in π − θ");
           term.polynomial[order] = reader.number(*f, key) * energy_factor / factorial;
           any = true;
         }
@@ -566,9 +638,12 @@ ParsedFile parse_file(const std::string& text, const std::string& origin) {
                     "a coupling term takes 2 to 6 coordinates (with repeats), got " + std::to_string(order));
       double factorials = 1.0;
       for (const auto& [index, power] : powers) {
-        if (parsed.coordinates[index].kind == CoordinateKind::linear_bend && power % 2 == 1)
+        if (parsed.coordinates[index].even_in_bend() && power % 2 == 1)
           reader.fail(&list,
-                      "linear_bend '" + parsed.coordinates[index].name +
+                      std::string(parsed.coordinates[index].kind == CoordinateKind::linear_bend
+                                      ? "linear_bend '"
+                                      : "angle (reference 180°) '") +
+                          parsed.coordinates[index].name +
                           "' must appear an even number of times in a coupling (the potential is even in "
                           "π − θ)");
         for (int k = 2; k <= power; ++k) factorials *= k;
