@@ -13,6 +13,7 @@
 
 #include "core/error.hpp"
 #include "core/units.hpp"
+#include "potential/detail_toml_text.hpp"
 
 namespace overtone {
 
@@ -113,12 +114,14 @@ struct Reader {
 // Reading
 
 TaylorExpansionData parse_taylor_expansion(const std::string& toml_text, const std::string& origin) {
+  const std::string context = fmt::format("taylor-expansion file '{}'", origin);
+  detail::check_toml_text(toml_text, context);
   toml::table root;
   try {
     root = toml::parse(toml_text, origin);
   } catch (const toml::parse_error& e) {
     throw Error(
-        fmt::format("{}: not valid TOML at line {}: {}", origin, e.source().begin.line, e.description()));
+        fmt::format("{} line {}: malformed TOML: {}", context, e.source().begin.line, e.description()));
   }
   const Reader r{root, origin};
   const toml::node_view<const toml::node> top{root};
@@ -266,16 +269,13 @@ TaylorExpansionData read_taylor_expansion(const std::string& path) {
 }
 
 bool is_taylor_expansion_file(const std::string& path) {
-  std::ifstream in(path);
+  std::ifstream in(path, std::ios::binary);
   if (!in) return false;
   std::stringstream text;
   text << in.rdbuf();
-  try {
-    const toml::table root = toml::parse(text.str(), path);
-    return root["format"].value_or(std::string()) == format_name;
-  } catch (const toml::parse_error&) {
-    return false;
-  }
+  // From the text itself, so that a malformed file of this kind is still recognized (and
+  // its error names this format) and no unchecked text reaches the TOML library.
+  return detail::potential_file_kind(text.str()) == detail::PotentialFileKind::taylor_expansion;
 }
 
 std::unique_ptr<Potential> load_taylor_expansion_potential(const std::string& path,

@@ -14,6 +14,7 @@
 #include "core/error.hpp"
 #include "core/units.hpp"
 #include "potential/detail_internal_coordinates.hpp"
+#include "potential/detail_toml_text.hpp"
 
 namespace overtone {
 namespace detail {
@@ -453,6 +454,7 @@ double energy_unit_in_kcal_mol(const Reader& reader, const toml::node& node) {
 }
 
 toml::table parse_toml(const std::string& text, const std::string& origin) {
+  check_toml_text(text, "valence force field '" + origin + "'");
   try {
     return toml::parse(text, origin);
   } catch (const toml::parse_error& error) {
@@ -732,7 +734,12 @@ std::unique_ptr<Potential> load_valence_force_field(const std::string& path, con
 }
 
 ValenceForceFieldSource read_valence_force_field_source(const std::string& path) {
-  return detail::parse_file(detail::read_text(path), path).source;
+  return parse_valence_force_field_source(detail::read_text(path), path);
+}
+
+ValenceForceFieldSource parse_valence_force_field_source(const std::string& toml_text,
+                                                         const std::string& origin) {
+  return detail::parse_file(toml_text, origin).source;
 }
 
 }  // namespace overtone

@@ -228,7 +228,8 @@ TEST(TaylorExpansionPotential, MalformedFilesAreRejectedWithTheKey) {
   expect_error(replaced(good, "[1, 1, 1, -900.0]", "[1, 1, 10, -900.0]"), "outside 1..9");
   expect_error(replaced(good, "coordinates = \"cartesian\"", "coordinates = \"polar\""), "coordinates");
   expect_error(replaced(good, "elements = [\"O\", \"H\", \"H\"]", "elements = [\"O\", \"H\", \"Qq\"]"), "Qq");
-  expect_error("format = [", "not valid TOML");
+  expect_error("format = [", "malformed TOML");
+  expect_error("format = [", "taylor-expansion file 'case' line 1");
 }
 
 TEST(TaylorExpansionPotential, MoleculeMismatchIsAnError) {
