@@ -1,5 +1,6 @@
 #include "potential/valence_force_field.hpp"
 
+#include <fmt/format.h>
 #include <toml++/toml.h>
 
 #include <algorithm>
@@ -15,6 +16,7 @@
 #include "core/units.hpp"
 #include "potential/detail_internal_coordinates.hpp"
 #include "potential/detail_toml_text.hpp"
+#include "potential/file_limits.hpp"
 
 namespace overtone {
 namespace detail {
@@ -392,6 +394,16 @@ class Reader {
     fail(&node, "key '" + key + "' must be a number, got " + type_name(node));
   }
 
+  // value (internal units) must satisfy |value| ≤ limit (file_limits.hpp).
+  double bounded(const toml::node& node, const std::string& key, double value, double limit,
+                 const char* unit) const {
+    if (std::abs(value) > limit)
+      fail(&node, fmt::format("key '{}' is {:.6g} {} after conversion, beyond the largest magnitude this "
+                              "program accepts, {:g} {} (docs/valence-force-field.md, Limits)",
+                              key, value, unit, limit, unit));
+    return value;
+  }
+
   std::string string(const toml::node& node, const std::string& key) const {
     if (const auto* s = node.as_string()) return s->get();
     fail(&node, "key '" + key + "' must be a string, got " + type_name(node));
@@ -402,10 +414,14 @@ class Reader {
     fail(&node, "key '" + key + "' must be an array, got " + type_name(node));
   }
 
-  // A required [[key]] array of tables (may be empty only if written as key = []).
+  // A required, non-empty [[key]] array of tables: a field without coordinates or without
+  // terms is a flat surface, on which every harmonic frequency is zero.
   const toml::array& array_of_tables(const toml::table& parent, const char* key) const {
     const toml::node& node = require(parent, key, "the top level");
     const toml::array* array = node.as_array();
+    if (array != nullptr && array->empty())
+      fail(&node, "'" + std::string(key) + "' is empty: a valence force field needs at least one [[" + key +
+                      "]] entry (a field without them is flat, every frequency zero)");
     if (array == nullptr || !array->is_array_of_tables())
       fail(&node, "'" + std::string(key) + "' must be an array of tables ([[" + key + "]])");
     return *array;
@@ -460,6 +476,44 @@ toml::table parse_toml(const std::string& text, const std::string& origin) {
   } catch (const toml::parse_error& error) {
     throw Error("valence force field '" + origin + "' line " + std::to_string(error.source().begin.line) +
                 ": malformed TOML: " + std::string(error.description()));
+  }
+}
+
+// The range a reference value can have: what the coordinate can take (angles in [0°, 180°],
+// out-of-plane angles in [−90°, 90°], dihedrals within a turn either way) and the size
+// limits of file_limits.hpp for lengths.
+void check_reference_range(const Reader& reader, const toml::node& node, const CoordinateDefinition& c,
+                           bool degrees) {
+  // low, high in internal units; `scale` converts them (and the value) to the file's unit.
+  auto require_within = [&](double low, double high, double scale, const char* unit, const char* what) {
+    if (c.reference >= low && c.reference <= high) return;
+    reader.fail(&node, fmt::format("reference of '{}' is {:.6g} {}, outside the range {:g} to {:g} {} {}",
+                                   c.name, c.reference * scale, unit, low * scale, high * scale, unit, what));
+  };
+  const double angle_scale = degrees ? 180.0 / units::pi : 1.0;
+  const char* angle_unit = degrees ? "degree" : "rad";
+  const double slack = linear_reference_tolerance_rad;  // 180° entered in degrees, converted
+  switch (c.kind) {
+    case CoordinateKind::distance:
+      require_within(0.0, file_limits::distance_angstrom, 1.0, "Å", "this program accepts");
+      break;
+    case CoordinateKind::angle:
+      require_within(0.0, units::pi + slack, angle_scale, angle_unit, "of an angle");
+      break;
+    case CoordinateKind::out_of_plane_angle:
+      require_within(-0.5 * units::pi - slack, 0.5 * units::pi + slack, angle_scale, angle_unit,
+                     "of an out-of-plane angle");
+      break;
+    case CoordinateKind::dihedral:
+      require_within(-file_limits::full_turn_rad - slack, file_limits::full_turn_rad + slack, angle_scale,
+                     angle_unit, "this program accepts for a dihedral");
+      break;
+    case CoordinateKind::pyramid_height:
+      require_within(-file_limits::pyramid_height_angstrom, file_limits::pyramid_height_angstrom, 1.0, "Å",
+                     "this program accepts");
+      break;
+    case CoordinateKind::linear_bend:
+      break;
   }
 }
 
@@ -568,6 +622,7 @@ ParsedFile parse_file(const std::string& text, const std::string& origin) {
       c.reference = reader.number(*reference, "reference") * (info->angular ? angle_factor : 1.0);
       if (c.kind == CoordinateKind::distance && c.reference <= 0.0)
         reader.fail(reference, "reference distance of '" + c.name + "' must be positive");
+      check_reference_range(reader, *reference, c, angle_unit == "degree");
       c.linear_reference = c.kind == CoordinateKind::angle &&
                            std::abs(c.reference - units::pi) <= linear_reference_tolerance_rad;
     }
@@ -602,6 +657,8 @@ ParsedFile parse_file(const std::string& text, const std::string& origin) {
       term.width = reader.number(width, "width");
       if (term.depth <= 0.0) reader.fail(&depth, "morse depth must be positive");
       if (term.width <= 0.0) reader.fail(&width, "morse width must be positive");
+      reader.bounded(depth, "depth", term.depth, file_limits::energy_scale_kcal_mol, "kcal/mol");
+      reader.bounded(width, "width", term.width, file_limits::morse_width_per_angstrom, "1/Å");
     } else if (kind == "polynomial") {
       reader.check_keys(table, "a polynomial term", {"kind", "label", "coordinate", "f2", "f3", "f4"});
       term.kind = TermKind::polynomial;
@@ -620,7 +677,10 @@ ParsedFile parse_file(const std::string& text, const std::string& origin) {
                                            ? "a linear_bend"
                                            : "an angle whose reference is 180° ('" + bend.name + "')") +
                                " takes only even powers (f2, f4): the potential must be even in π − θ");
-          term.polynomial[order] = reader.number(*f, key) * energy_factor / factorial;
+          term.polynomial[order] =
+              reader.bounded(*f, key, reader.number(*f, key) * energy_factor,
+                             file_limits::force_constant_kcal_mol, "kcal/mol per unit^n") /
+              factorial;
           any = true;
         }
       }
@@ -651,8 +711,10 @@ ParsedFile parse_file(const std::string& text, const std::string& origin) {
         for (int k = 2; k <= power; ++k) factorials *= k;
         term.factors.push_back({index, power});
       }
-      term.coefficient =
-          reader.number(reader.require(table, "f", "a coupling term"), "f") * energy_factor / factorials;
+      const toml::node& f_node = reader.require(table, "f", "a coupling term");
+      term.coefficient = reader.bounded(f_node, "f", reader.number(f_node, "f") * energy_factor,
+                                        file_limits::force_constant_kcal_mol, "kcal/mol per unit^n") /
+                         factorials;
     } else if (kind == "cosine_series") {
       reader.check_keys(table, "a cosine_series term", {"kind", "label", "coordinate", "barriers", "phases"});
       term.kind = TermKind::cosine_series;
@@ -666,7 +728,9 @@ ParsedFile parse_file(const std::string& text, const std::string& origin) {
       const toml::node& barriers = reader.require(table, "barriers", "a cosine_series term");
       term.barriers = reader.numbers(barriers, "barriers");
       if (term.barriers.empty()) reader.fail(&barriers, "barriers must list at least one value");
-      for (double& b : term.barriers) b *= energy_factor;
+      for (double& b : term.barriers)
+        b = reader.bounded(barriers, "barriers", b * energy_factor, file_limits::energy_scale_kcal_mol,
+                           "kcal/mol");
       term.phases.assign(term.barriers.size(), 0.0);
       if (const toml::node* phases = table.get("phases")) {
         term.phases = reader.numbers(*phases, "phases");
@@ -674,7 +738,9 @@ ParsedFile parse_file(const std::string& text, const std::string& origin) {
           reader.fail(phases, "phases must have as many entries as barriers (" +
                                   std::to_string(term.barriers.size()) + "), got " +
                                   std::to_string(term.phases.size()));
-        for (double& phase : term.phases) phase *= angle_factor;
+        for (double& phase : term.phases)
+          phase = reader.bounded(*phases, "phases", phase * angle_factor,
+                                 file_limits::full_turn_rad + linear_reference_tolerance_rad, "rad");
       }
     } else {
       reader.fail(&kind_node, "unknown term kind '" + kind +

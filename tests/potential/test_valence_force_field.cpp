@@ -743,6 +743,79 @@ TEST(ValenceForceFieldErrors, UnknownUnitAndMissingSourceAreRejected) {
             std::string::npos);
 }
 
+TEST(ValenceForceFieldErrors, MagnitudesBeyondTheDocumentedLimitsAreRefused) {
+  // Limits of docs/valence-force-field.md (file_limits.hpp): a quartic constant or a Morse
+  // depth of 1e300 drove atoms to 1e138 Å; each is refused naming the key and the limit.
+  const std::string quartic = error_message([] {
+    parse_valence_force_field(
+        water_file("[[terms]]\nkind = \"polynomial\"\ncoordinate = \"r1\"\nf4 = 1e300\n"), "quartic.toml",
+        water_molecule());
+  });
+  EXPECT_NE(quartic.find("key 'f4'"), std::string::npos) << quartic;
+  EXPECT_NE(quartic.find("1e+06"), std::string::npos) << quartic;
+  const std::string morse = error_message([] {
+    parse_valence_force_field(
+        water_file("[[terms]]\nkind = \"morse\"\ncoordinate = \"r1\"\ndepth = 1e300\nwidth = 1e300\n"),
+        "morse.toml", water_molecule());
+  });
+  EXPECT_NE(morse.find("key 'depth'"), std::string::npos) << morse;
+  const std::string width = error_message([] {
+    parse_valence_force_field(
+        water_file("[[terms]]\nkind = \"morse\"\ncoordinate = \"r1\"\ndepth = 0.8\nwidth = 25.0\n"),
+        "width.toml", water_molecule());
+  });
+  EXPECT_NE(width.find("key 'width'"), std::string::npos) << width;
+  const std::string coupling = error_message([] {
+    parse_valence_force_field(
+        water_file("[[terms]]\nkind = \"coupling\"\ncoordinates = [\"r1\", \"a\"]\nf = -1e9\n"),
+        "coupling.toml", water_molecule());
+  });
+  EXPECT_NE(coupling.find("key 'f'"), std::string::npos) << coupling;
+  const std::string barrier = error_message([] {
+    parse_valence_force_field(
+        water_file("[[terms]]\nkind = \"cosine_series\"\ncoordinate = \"a\"\nbarriers = [1.0, 1e5]\n"),
+        "barrier.toml", water_molecule());
+  });
+  EXPECT_NE(barrier.find("key 'barriers'"), std::string::npos) << barrier;
+  // References outside what the coordinate can take.
+  std::string angle = water_file(one_term);
+  angle.replace(angle.find("reference = 104.52"), 18, "reference = 190.0");
+  const std::string angle_message =
+      error_message([&] { parse_valence_force_field(angle, "angle.toml", water_molecule()); });
+  EXPECT_NE(angle_message.find("outside the range 0 to 180 degree"), std::string::npos) << angle_message;
+  std::string far = water_file(one_term);
+  far.replace(far.find("reference = 0.9572"), 18, "reference = 1e200");
+  EXPECT_NE(error_message([&] {
+              parse_valence_force_field(far, "far.toml", water_molecule());
+            }).find("outside the range"),
+            std::string::npos);
+  // The largest real constants pass: C≡O's f_rr ≈ 19 aJ/Å² and a Morse stretch of CO.
+  EXPECT_NO_THROW(parse_valence_force_field(
+      water_file("[[terms]]\nkind = \"polynomial\"\ncoordinate = \"r1\"\nf2 = 19.0\nf4 = 150.0\n"
+                 "[[terms]]\nkind = \"morse\"\ncoordinate = \"r2\"\ndepth = 1.8\nwidth = 2.3\n"),
+      "real.toml", water_molecule()));
+}
+
+TEST(ValenceForceFieldErrors, EmptyCoordinateOrTermListsAreRefused) {
+  // A field without terms is flat (every frequency zero): code and document both require
+  // at least one [[coordinates]] and one [[terms]] entry.
+  // Top-level keys go before the first table; water_file's body comes after its tables.
+  std::string terms_empty = water_file("");
+  terms_empty.insert(terms_empty.find("[units]"), "terms = []\n");
+  const std::string no_terms =
+      error_message([&] { parse_valence_force_field(terms_empty, "empty.toml", water_molecule()); });
+  EXPECT_NE(no_terms.find("'terms' is empty"), std::string::npos) << no_terms;
+  const std::string no_coordinates = error_message([] {
+    parse_valence_force_field(
+        "format_version = 1\ntitle = \"empty\"\nelements = [\"O\", \"H\", \"H\"]\ncoordinates = []\nterms = "
+        "[]\n"
+        "[units]\nenergy = \"aJ\"\nlength = \"angstrom\"\nangle = \"degree\"\n"
+        "[source]\ncitation = \"test\"\nstatus = \"from memory\"\n",
+        "empty.toml", water_molecule());
+  });
+  EXPECT_NE(no_coordinates.find("'coordinates' is empty"), std::string::npos) << no_coordinates;
+}
+
 TEST(ValenceForceField, EveryShippedFileNamesItsSource) {
   for (const auto& field : shipped_fields) {
     const auto source = read_valence_force_field_source(potential_path(field.potential));
