@@ -15,8 +15,10 @@ namespace {
 
 const std::string source_dir = OVERTONE_SOURCE_DIR;
 
+// Each test its own file: CTest runs the tests of this suite in parallel processes.
 std::string message_for_file(const std::string& text) {
-  const std::string path = ::testing::TempDir() + "overtone_make_potential_test.toml";
+  const std::string path = ::testing::TempDir() + "overtone_make_potential_" +
+                           ::testing::UnitTest::GetInstance()->current_test_info()->name() + ".toml";
   {
     std::ofstream out(path, std::ios::binary);
     out << text;
