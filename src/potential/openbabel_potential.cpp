@@ -360,6 +360,11 @@ double OpenBabelPotential::evaluate(const Eigen::VectorXd& x, Eigen::VectorXd* g
   if (std::abs(slope) > options_.linear_cusp_slope_kcal_mol_per_angstrom)
     for (const int t : degenerate) {
       const auto& triple = linear_limit_.triples()[static_cast<std::size_t>(t)];
+      // A triple folded to 0° (a wild trial step of an optimizer) has a cusp in every
+      // force field; only the ones at 180° say something about the force field's reference.
+      const Eigen::Vector3d centre = x.segment<3>(3 * triple.centre);
+      if ((x.segment<3>(3 * triple.first) - centre).dot(x.segment<3>(3 * triple.second) - centre) >= 0.0)
+        continue;
       std::string text;
       for (const int atom : {triple.first, triple.centre, triple.second})
         text += (text.empty() ? "" : "–") +
