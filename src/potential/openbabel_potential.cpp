@@ -351,12 +351,19 @@ double OpenBabelPotential::compute_energy_and_gradient(const Eigen::VectorXd& x,
 
 double OpenBabelPotential::evaluate(const Eigen::VectorXd& x, Eigen::VectorXd* gradient) const {
   const std::vector<int> degenerate = linear_limit_.degenerate_triples(x);
-  if (degenerate.empty()) return ordinary_evaluation(x, gradient);
+  if (degenerate.empty()) return ordinary_evaluation(x, gradient, TermGroup::all);
+  // Only the terms that depend on bond angles (angle, stretch–bend, torsion) go wrong at a
+  // linear triple; the rest are evaluated once, at x.
+  Eigen::VectorXd bending_gradient;
   double slope = 0.0;
-  const double energy = linear_limit_.evaluate(
+  double energy = linear_limit_.evaluate(
       x, degenerate,
-      [this](const Eigen::VectorXd& y, Eigen::VectorXd* g) { return ordinary_evaluation(y, g); }, gradient,
-      &slope);
+      [this](const Eigen::VectorXd& y, Eigen::VectorXd* g) {
+        return ordinary_evaluation(y, g, TermGroup::angle_dependent);
+      },
+      gradient ? &bending_gradient : nullptr, &slope);
+  energy += ordinary_evaluation(x, gradient, TermGroup::angle_independent);
+  if (gradient) *gradient += bending_gradient;
   if (std::abs(slope) > options_.linear_cusp_slope_kcal_mol_per_angstrom)
     for (const int t : degenerate) {
       const auto& triple = linear_limit_.triples()[static_cast<std::size_t>(t)];
@@ -376,31 +383,41 @@ double OpenBabelPotential::evaluate(const Eigen::VectorXd& x, Eigen::VectorXd* g
   return energy;
 }
 
-double OpenBabelPotential::ordinary_evaluation(const Eigen::VectorXd& x, Eigen::VectorXd* gradient) const {
+double OpenBabelPotential::ordinary_evaluation(const Eigen::VectorXd& x, Eigen::VectorXd* gradient,
+                                               TermGroup group) const {
   load_coordinates(x);
   // Open Babel 3.1's MMFF94 takes about 100 times longer for Energy(false) than for
   // Energy(true) (measured: 56 ms against 0.56 ms for acetaldehyde), and UFF's angle
   // energy differs between the two paths, so the gradient is always computed along.
   double* forces = field_->GetGradientPtr();
   const Eigen::Index n = x.size();
+  const bool angle_dependent = group != TermGroup::angle_independent;
+  const bool angle_independent = group != TermGroup::angle_dependent;
   double energy = 0.0;
-  if (!replaces_torsions_) {
-    energy = field_->Energy(true) * kcal_mol_per_unit_;
+  if (group == TermGroup::all && !replaces_torsions_) {
+    energy = field_->Energy(true);
   } else {
-    // Energy(true) is exactly the sum of these seven terms (checked for every supported
-    // force field); summing them here leaves Open Babel's torsions out.
+    // Energy(true) is exactly the sum of the seven terms (checked for every supported
+    // force field), so they can be taken in groups; UFF's torsions are this program's.
     std::fill(forces, forces + n, 0.0);
-    energy = field_->E_Bond(true) + field_->E_Angle(true) + field_->E_StrBnd(true) + field_->E_OOP(true) +
-             field_->E_VDW(true) + field_->E_Electrostatic(true);
-    energy = (energy + detail::uff_torsion_energy(uff_torsions_, x, nullptr)) * kcal_mol_per_unit_;
+    if (angle_independent)
+      energy +=
+          field_->E_Bond(true) + field_->E_OOP(true) + field_->E_VDW(true) + field_->E_Electrostatic(true);
+    if (angle_dependent) {
+      energy += field_->E_Angle(true) + field_->E_StrBnd(true);
+      energy += replaces_torsions_ ? detail::uff_torsion_energy(uff_torsions_, x, nullptr)
+                                   : field_->E_Torsion(true);
+    }
   }
+  energy *= kcal_mol_per_unit_;
   if (!gradient) return energy;
   *gradient = -kcal_mol_per_unit_ * Eigen::Map<const Eigen::VectorXd>(forces, n);
-  if (replaces_torsions_) {
+  if (replaces_torsions_ && angle_dependent) {
     Eigen::VectorXd torsion_gradient = Eigen::VectorXd::Zero(n);
     detail::uff_torsion_energy(uff_torsions_, x, &torsion_gradient);
     *gradient += kcal_mol_per_unit_ * torsion_gradient;
   }
+  if (!angle_independent) return energy;
   if (out_of_plane_atoms_.empty()) return energy;
 
   // Remove Open Babel's out-of-plane contribution, then add the model's or the

@@ -121,9 +121,13 @@ class OpenBabelPotential final : public Potential {
  private:
   void load_coordinates(const Eigen::VectorXd& x) const;
   void set_up_out_of_plane_model(const Eigen::VectorXd& x);
-  // Open Babel's energy and (when gradient is not null) the gradient with the
-  // out-of-plane correction, with no linear limit.
-  double ordinary_evaluation(const Eigen::VectorXd& x, Eigen::VectorXd* gradient) const;
+  // Which of the force field's terms an ordinary evaluation sums: all of them, those that
+  // depend on bond angles (angle, stretch–bend, torsion) or the others (stretch,
+  // out-of-plane, van der Waals, electrostatic).
+  enum class TermGroup { all, angle_dependent, angle_independent };
+  // Open Babel's energy of those terms and (when gradient is not null) their gradient with
+  // the out-of-plane correction, with no linear limit.
+  double ordinary_evaluation(const Eigen::VectorXd& x, Eigen::VectorXd* gradient, TermGroup group) const;
   double evaluate(const Eigen::VectorXd& x, Eigen::VectorXd* gradient) const;
 
   std::string name_;
