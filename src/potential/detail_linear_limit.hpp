@@ -23,10 +23,11 @@
 //     E(x) ≈ 3 A(h) − 3 A(2h) + A(3h)
 // cancels a₁ and a₂ exactly and leaves 6 a₃ h³ + 36 a₄ h⁴ (the same for the gradient,
 // component by component). With h = 1e-4 Å and fourth derivatives of a stiff bend
-// (≲ 1e4 kcal/mol/Å⁴) the remainder is ≲ 4e-11 kcal/mol; the round-off is at most
-// 7 ε |E|. The cost is six ordinary evaluations instead of one, only at geometries with
-// a triple inside the band (exactly linear structures made so by symmetrization, and
-// the finite-difference displacements that keep them linear).
+// (≲ 1e4 kcal/mol/Å⁴, so a₄ ≲ 4e2) the remainder is ≲ 2e-12 kcal/mol; the round-off is at most
+// 7 ε |E|. The cost is six evaluations of the terms that depend on bond angles (plus one
+// of the others), only at geometries with a triple inside the band (exactly linear
+// structures made so by symmetrization, and the finite-difference displacements that
+// keep them linear): measured 32 µs against 6 µs per gradient for acetonitrile on MMFF94.
 #include <Eigen/Dense>
 #include <functional>
 #include <vector>
