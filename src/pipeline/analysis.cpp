@@ -194,6 +194,7 @@ AnalysisResult analyze_molecule(const Molecule& molecule, const Potential& poten
     for (const auto& warning : result.mode_symmetry.warnings) result.warnings.push_back(warning);
   }
   result.timings.symmetry_s += seconds_since(clock);
+  for (const auto& warning : potential.warnings()) result.warnings.push_back(warning);
   result.modes = number_modes(result.harmonic, result.symmetry_used ? &result.mode_symmetry : nullptr,
                               result.molecule.atom_count());
   return result;

@@ -58,14 +58,69 @@ S distance(const Vec3<S>& a, const Vec3<S>& b) {
   return norm(a - b);
 }
 
-// Angle a–center–b in radians, in [0, π]. Differentiable except exactly at 0 and π
-// (use linear_bend_squared there).
+// A phase whose sine is below this is a multiple of π entered in degrees or radians (the
+// conversion leaves ~1e-16): the cosine series then has no odd part in the angle.
+inline constexpr double phase_multiple_of_pi_tolerance = 1e-12;
+// An angle reference within this of π (rad) is 180° entered in degrees or radians.
+inline constexpr double linear_reference_tolerance_rad = 1e-12;
+
+// |c| with zero derivatives where c is exactly the zero vector. |c| has a cone point
+// there (no derivative); the zero derivative is the symmetric one (the average over all
+// directions of approach), which is what a function even in c needs.
+template <typename S>
+S norm_symmetric_at_zero(const Vec3<S>& c) {
+  if (plain_value(dot(c, c)) == 0.0) return S(0.0);
+  return norm(c);
+}
+
+// Angle a–center–b in radians, in [0, π]. Differentiable except exactly at 0 and π, where
+// the angle has a cone point; there its derivatives are returned as zero (the symmetric
+// ones) and second derivatives do not exist (use linear_bend_squared for a potential
+// that is smooth there).
 template <typename S>
 S bend_angle(const Vec3<S>& a, const Vec3<S>& center, const Vec3<S>& b) {
   using std::atan2;
   const Vec3<S> u = a - center;
   const Vec3<S> v = b - center;
-  return atan2(norm(cross(u, v)), dot(u, v));
+  const S sine_part = norm_symmetric_at_zero(cross(u, v));
+  if (plain_value(sine_part) == 0.0) return S(plain_value(dot(u, v)) < 0.0 ? units::pi : 0.0);
+  return atan2(sine_part, dot(u, v));
+}
+
+// True when a–center–b is exactly collinear (0° or 180°): where bend_angle has its cone
+// point and a dihedral or a plane through the three atoms is undefined.
+template <typename S>
+bool exactly_collinear(const Vec3<S>& a, const Vec3<S>& center, const Vec3<S>& b) {
+  const Vec3<S> c = cross(a - center, b - center);
+  return plain_value(dot(c, c)) == 0.0;
+}
+
+// cos(n θ − δ) for the angle a–center–b, written through cos θ = û·v̂ (Chebyshev:
+// cos nθ = T_n(cos θ)) so that it is smooth at θ = π and 0 whenever sin δ = 0; the
+// sin δ part, sin nθ = sin θ U_{n−1}(cos θ), has a cone point there like the angle.
+template <typename S>
+S cosine_of_multiple_bend(const Vec3<S>& a, const Vec3<S>& center, const Vec3<S>& b, int n, double phase) {
+  using std::cos;
+  using std::sin;
+  const Vec3<S> u = a - center;
+  const Vec3<S> v = b - center;
+  const S lengths = norm(u) * norm(v);
+  const S cosine = dot(u, v) / lengths;
+  // T_k and U_{k−1} by their three-term recurrences.
+  S t_previous = S(1.0), t = cosine;    // T_0, T_1
+  S u_previous = S(0.0), u_k = S(1.0);  // U_{−1}, U_0
+  for (int k = 1; k < n; ++k) {
+    const S t_next = 2.0 * cosine * t - t_previous;
+    t_previous = t;
+    t = t_next;
+    const S u_next = 2.0 * cosine * u_k - u_previous;
+    u_previous = u_k;
+    u_k = u_next;
+  }
+  const double sin_phase = std::sin(phase);
+  if (std::abs(sin_phase) < phase_multiple_of_pi_tolerance) return t * std::cos(phase);
+  const S sine = norm_symmetric_at_zero(cross(u, v)) / lengths;
+  return t * std::cos(phase) + sine * u_k * sin_phase;
 }
 
 // Coefficients c_n of s² = Σ_{n≥1} c_n w^n, where s = π − θ and w = 1 + cos θ = 1 − cos s.

@@ -6,11 +6,13 @@
 #include <openbabel/generic.h>
 #include <openbabel/mol.h>
 #include <openbabel/oberror.h>
+#include <openbabel/obfunctions.h>
 #include <openbabel/obiter.h>
 #include <openbabel/tokenst.h>
 
 #include <algorithm>
 #include <cctype>
+#include <cmath>
 #include <fstream>
 #include <map>
 #include <sstream>
@@ -18,6 +20,7 @@
 #include "core/error.hpp"
 #include "core/units.hpp"
 #include "molecule/openbabel_bridge.hpp"
+#include "potential/detail_uff_torsions.hpp"
 
 namespace overtone {
 
@@ -78,6 +81,75 @@ void check_mmff_atom_types(OpenBabel::OBForceField& field, OpenBabel::OBMol& mol
   }
 }
 
+// Where the molecule lies outside what the general force fields were parameterized for:
+// closed-shell molecules, and for MMFF94/MMFF94s, GAFF and Ghemical neutral organic
+// molecules and singly charged organic ions (Halgren, J. Comput. Chem. 17, 490 (1996) for
+// MMFF94; from memory for the others). Read from Open Babel's perception of the molecule
+// as bound (explicit hydrogens, formal charges as given): an odd electron count, an atom
+// below its typical valence (Open Babel's GetTypicalValence: a radical or carbene centre)
+// or a spin multiplicity above one make it open-shell; a net charge beyond ±1, an atom
+// charged beyond ±1, or an ion without carbon make it an ion those fields were not fitted
+// to. Open Babel's UFF has no electrostatic term, so there any net charge is simply
+// ignored, which is said instead.
+std::vector<std::string> applicability_warnings(OpenBabel::OBMol& mol, const std::string& name) {
+  std::vector<std::string> warnings;
+  long electrons = -static_cast<long>(mol.GetTotalCharge());
+  std::vector<std::string> under_valent;
+  bool carbon = false;
+  std::string multiply_charged;
+  FOR_ATOMS_OF_MOL(atom, mol) {
+    const unsigned z = atom->GetAtomicNum();
+    electrons += static_cast<long>(z);
+    carbon = carbon || z == 6;
+    const unsigned bonds = atom->GetExplicitValence();
+    const int charge = atom->GetFormalCharge();
+    const unsigned typical = OpenBabel::GetTypicalValence(z, bonds, charge);
+    const std::string label = element_symbol(static_cast<int>(z)) + std::to_string(atom->GetIdx());
+    if (typical > bonds)
+      under_valent.push_back(
+          fmt::format("atom {} has {} bond(s) fewer than its usual valence", label, typical - bonds));
+    if (std::abs(charge) > 1) multiply_charged += (multiply_charged.empty() ? "" : ", ") + label;
+  }
+  auto joined = [](const std::vector<std::string>& parts) {
+    std::string text;
+    for (const auto& part : parts) text += (text.empty() ? "" : "; ") + part;
+    return text;
+  };
+  std::vector<std::string> open_shell;
+  if (electrons % 2 != 0) open_shell.push_back(fmt::format("an odd number of electrons, {}", electrons));
+  open_shell.insert(open_shell.end(), under_valent.begin(), under_valent.end());
+  if (mol.GetTotalSpinMultiplicity() > 1)
+    open_shell.push_back(fmt::format("spin multiplicity {}", mol.GetTotalSpinMultiplicity()));
+  if (!open_shell.empty())
+    warnings.push_back(
+        fmt::format("{} is parameterized for closed-shell molecules with the usual valences, but this one is "
+                    "a radical or "
+                    "carbene ({}): treat its energies and frequencies as rough",
+                    name, joined(open_shell)));
+
+  const int net = mol.GetTotalCharge();
+  if (name == "UFF") {
+    if (net != 0)
+      warnings.push_back(
+          fmt::format("UFF as Open Babel implements it has no electrostatic term, so the net charge {:+d} of "
+                      "this ion does "
+                      "not enter the energy at all",
+                      net));
+    return warnings;
+  }
+  std::vector<std::string> ionic;
+  if (std::abs(net) > 1) ionic.push_back(fmt::format("net charge {:+d}", net));
+  if (!multiply_charged.empty()) ionic.push_back("a formal charge beyond ±1 on " + multiply_charged);
+  if (net != 0 && !carbon) ionic.push_back(fmt::format("an inorganic ion of charge {:+d}", net));
+  if (!ionic.empty())
+    warnings.push_back(
+        fmt::format("{} is parameterized for neutral organic molecules and singly charged organic ions, and "
+                    "this one lies "
+                    "outside that ({}): treat its energies and frequencies as rough",
+                    name, joined(ionic)));
+  return warnings;
+}
+
 }  // namespace
 
 const std::vector<std::string>& supported_openbabel_force_fields() {
@@ -128,7 +200,25 @@ OpenBabelPotential::OpenBabelPotential(const std::string& force_field_name, cons
                             detail.empty() ? "" : "; open babel says: " + detail));
   }
   kcal_mol_per_unit_ = kcal_mol_per_openbabel_unit(field_->GetUnit(), name_);
+  setup_warnings_ = applicability_warnings(*mol_, name_);
+  // Every bonded triple carries an angle term in these force fields.
+  std::vector<detail::BondedTriple> triples;
+  FOR_ATOMS_OF_MOL(centre, *mol_) {
+    std::vector<int> neighbours;
+    FOR_NBORS_OF_ATOM(neighbour, &*centre) neighbours.push_back(static_cast<int>(neighbour->GetIdx()) - 1);
+    for (std::size_t a = 0; a < neighbours.size(); ++a)
+      for (std::size_t b = a + 1; b < neighbours.size(); ++b)
+        triples.push_back({neighbours[a], static_cast<int>(centre->GetIdx()) - 1, neighbours[b]});
+  }
+  linear_limit_ = detail::LinearLimit(std::move(triples), options_.linear_limit);
   if (name_ == "MMFF94" || name_ == "MMFF94s") check_mmff_atom_types(*field_, *mol_, name_);
+  if (name_ == "UFF") {
+    // Open Babel's UFF torsions about a central bond with an sp atom read a stale or
+    // uninitialized barrier (detail_uff_torsions.hpp); the whole torsion term is ours.
+    if (!field_->GetAtomTypes(*mol_)) throw Error("force field UFF did not report its atom types");
+    uff_torsions_ = detail::uff_torsions(*mol_);
+    replaces_torsions_ = true;
+  }
 
   // Atoms taking part in out-of-plane terms: those whose displacement changes the
   // out-of-plane energy at a generic geometry.
@@ -201,6 +291,21 @@ OpenBabelPotential::~OpenBabelPotential() = default;
 
 std::string OpenBabelPotential::description() const { return name_ + " (Open Babel)"; }
 
+std::vector<std::string> OpenBabelPotential::warnings() const {
+  std::vector<std::string> all = setup_warnings_;
+  if (!cusp_angles_.empty()) {
+    std::string angles;
+    for (const auto& angle : cusp_angles_) angles += (angles.empty() ? "" : ", ") + angle;
+    all.push_back(fmt::format(
+        "{}'s energy has a cusp where the angle {} {} exactly linear: the force field's reference for "
+        "such an angle is not 180°, so a linear arrangement there is a kinked maximum, not a minimum, and "
+        "bending "
+        "frequencies through it are not defined (the force field's own minimum is slightly bent)",
+        name_, angles, cusp_angles_.size() == 1 ? "is" : "are"));
+  }
+  return all;
+}
+
 void OpenBabelPotential::load_coordinates(const Eigen::VectorXd& x) const {
   std::copy(x.data(), x.data() + x.size(), mol_->GetCoordinates());
   field_->SetCoordinates(*mol_);
@@ -211,13 +316,26 @@ double OpenBabelPotential::openbabel_out_of_plane_energy(const Eigen::VectorXd& 
   return field_->E_OOP(false) * kcal_mol_per_unit_;
 }
 
-double OpenBabelPotential::compute_energy(const Eigen::VectorXd& x) const {
+double OpenBabelPotential::uff_torsion_energy(const Eigen::VectorXd& x) const {
+  if (!replaces_torsions_) throw Error("only the UFF potential evaluates its own torsion term");
+  return detail::uff_torsion_energy(uff_torsions_, x, nullptr) * kcal_mol_per_unit_;
+}
+
+double OpenBabelPotential::openbabel_torsion_energy(const Eigen::VectorXd& x) const {
   load_coordinates(x);
-  // Open Babel 3.1's MMFF94 takes about 100 times longer for Energy(false) than for
-  // Energy(true) (measured: 56 ms against 0.56 ms for acetaldehyde), so the gradient
-  // is always computed along.
+  return field_->E_Torsion(true) * kcal_mol_per_unit_;
+}
+
+double OpenBabelPotential::raw_openbabel_energy(const Eigen::VectorXd& x) const {
+  load_coordinates(x);
   return field_->Energy(true) * kcal_mol_per_unit_;
 }
+
+bool OpenBabelPotential::uses_linear_limit(const Eigen::VectorXd& x) const {
+  return !linear_limit_.degenerate_triples(x).empty();
+}
+
+double OpenBabelPotential::compute_energy(const Eigen::VectorXd& x) const { return evaluate(x, nullptr); }
 
 Eigen::VectorXd OpenBabelPotential::raw_openbabel_gradient(const Eigen::VectorXd& x) const {
   load_coordinates(x);
@@ -228,20 +346,87 @@ Eigen::VectorXd OpenBabelPotential::raw_openbabel_gradient(const Eigen::VectorXd
 
 double OpenBabelPotential::compute_energy_and_gradient(const Eigen::VectorXd& x,
                                                        Eigen::VectorXd& gradient) const {
+  return evaluate(x, &gradient);
+}
+
+double OpenBabelPotential::evaluate(const Eigen::VectorXd& x, Eigen::VectorXd* gradient) const {
+  const std::vector<int> degenerate = linear_limit_.degenerate_triples(x);
+  if (degenerate.empty()) return ordinary_evaluation(x, gradient, TermGroup::all);
+  // Only the terms that depend on bond angles (angle, stretch–bend, torsion) go wrong at a
+  // linear triple; the rest are evaluated once, at x.
+  Eigen::VectorXd bending_gradient;
+  double slope = 0.0;
+  double energy = linear_limit_.evaluate(
+      x, degenerate,
+      [this](const Eigen::VectorXd& y, Eigen::VectorXd* g) {
+        return ordinary_evaluation(y, g, TermGroup::angle_dependent);
+      },
+      gradient ? &bending_gradient : nullptr, &slope);
+  energy += ordinary_evaluation(x, gradient, TermGroup::angle_independent);
+  if (gradient) *gradient += bending_gradient;
+  if (std::abs(slope) > options_.linear_cusp_slope_kcal_mol_per_angstrom)
+    for (const int t : degenerate) {
+      const auto& triple = linear_limit_.triples()[static_cast<std::size_t>(t)];
+      // A triple folded to 0° (a wild trial step of an optimizer) has a cusp in every
+      // force field; only the ones at 180° say something about the force field's reference.
+      const Eigen::Vector3d centre = x.segment<3>(3 * triple.centre);
+      if ((x.segment<3>(3 * triple.first) - centre).dot(x.segment<3>(3 * triple.second) - centre) >= 0.0)
+        continue;
+      std::string text;
+      for (const int atom : {triple.first, triple.centre, triple.second})
+        text += (text.empty() ? "" : "–") +
+                element_symbol(static_cast<int>(mol_->GetAtom(atom + 1)->GetAtomicNum())) +
+                std::to_string(atom + 1);
+      cusp_angles_.insert(text);
+    }
+  load_coordinates(x);  // leave Open Babel at the geometry asked for
+  return energy;
+}
+
+double OpenBabelPotential::ordinary_evaluation(const Eigen::VectorXd& x, Eigen::VectorXd* gradient,
+                                               TermGroup group) const {
   load_coordinates(x);
-  const double energy = field_->Energy(true) * kcal_mol_per_unit_;
+  // Open Babel 3.1's MMFF94 takes about 100 times longer for Energy(false) than for
+  // Energy(true) (measured: 56 ms against 0.56 ms for acetaldehyde), and UFF's angle
+  // energy differs between the two paths, so the gradient is always computed along.
   double* forces = field_->GetGradientPtr();
   const Eigen::Index n = x.size();
-  gradient = -kcal_mol_per_unit_ * Eigen::Map<const Eigen::VectorXd>(forces, n);
+  const bool angle_dependent = group != TermGroup::angle_independent;
+  const bool angle_independent = group != TermGroup::angle_dependent;
+  double energy = 0.0;
+  if (group == TermGroup::all && !replaces_torsions_) {
+    energy = field_->Energy(true);
+  } else {
+    // Energy(true) is exactly the sum of the seven terms (checked for every supported
+    // force field), so they can be taken in groups; UFF's torsions are this program's.
+    std::fill(forces, forces + n, 0.0);
+    if (angle_independent)
+      energy +=
+          field_->E_Bond(true) + field_->E_OOP(true) + field_->E_VDW(true) + field_->E_Electrostatic(true);
+    if (angle_dependent) {
+      energy += field_->E_Angle(true) + field_->E_StrBnd(true);
+      energy += replaces_torsions_ ? detail::uff_torsion_energy(uff_torsions_, x, nullptr)
+                                   : field_->E_Torsion(true);
+    }
+  }
+  energy *= kcal_mol_per_unit_;
+  if (!gradient) return energy;
+  *gradient = -kcal_mol_per_unit_ * Eigen::Map<const Eigen::VectorXd>(forces, n);
+  if (replaces_torsions_ && angle_dependent) {
+    Eigen::VectorXd torsion_gradient = Eigen::VectorXd::Zero(n);
+    detail::uff_torsion_energy(uff_torsions_, x, &torsion_gradient);
+    *gradient += kcal_mol_per_unit_ * torsion_gradient;
+  }
+  if (!angle_independent) return energy;
   if (out_of_plane_atoms_.empty()) return energy;
 
   // Remove Open Babel's out-of-plane contribution, then add the model's or the
   // differenced one.
   std::fill(forces, forces + n, 0.0);
   field_->E_OOP(true);
-  gradient += kcal_mol_per_unit_ * Eigen::Map<const Eigen::VectorXd>(forces, n);
+  *gradient += kcal_mol_per_unit_ * Eigen::Map<const Eigen::VectorXd>(forces, n);
   if (out_of_plane_model_) {
-    out_of_plane_model_->add_gradient(x, gradient);
+    out_of_plane_model_->add_gradient(x, *gradient);
     return energy;
   }
   const double step = options_.out_of_plane_difference_step_angstrom;
@@ -254,7 +439,7 @@ double OpenBabelPotential::compute_energy_and_gradient(const Eigen::VectorXd& x,
       displaced[k] = x[k] - step;
       const double minus = openbabel_out_of_plane_energy(displaced);
       displaced[k] = x[k];
-      gradient[k] += (plus - minus) / (2.0 * step);
+      (*gradient)[k] += (plus - minus) / (2.0 * step);
     }
   load_coordinates(x);
   return energy;

@@ -10,6 +10,7 @@
 #include <cstddef>
 #include <memory>
 #include <string>
+#include <vector>
 
 #include "core/molecule.hpp"
 
@@ -29,6 +30,11 @@ class Potential {
   virtual std::string description() const = 0;
   virtual std::size_t atom_count() const = 0;
   virtual bool has_analytic_hessian() const { return false; }
+  // Caveats about using this potential for the molecule it was set up for, in plain words
+  // for the report: a force field applied outside what it was parameterized for, or a
+  // feature of the surface met while evaluating it (such as a cusp). The list may grow
+  // as evaluations find something; empty by default.
+  virtual std::vector<std::string> warnings() const { return {}; }
 
   double energy(const Eigen::VectorXd& x) const {
     check_size(x);

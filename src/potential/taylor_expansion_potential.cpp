@@ -14,6 +14,8 @@
 #include "core/error.hpp"
 #include "core/text.hpp"
 #include "core/units.hpp"
+#include "potential/detail_toml_text.hpp"
+#include "potential/file_limits.hpp"
 
 namespace overtone {
 
@@ -98,8 +100,19 @@ struct Reader {
     return *value;
   }
   double number(const std::string& key, const toml::node& node) const {
-    if (const auto v = node.value<double>()) return *v;
+    if (const auto v = node.value<double>()) {
+      if (!std::isfinite(*v)) fail(key, "must be a finite number");
+      return *v;
+    }
     fail(key, "must be a number");
+  }
+  // value (internal units) must satisfy |value| ≤ limit (file_limits.hpp).
+  double bounded(const std::string& key, double value, double limit, const char* unit) const {
+    if (std::abs(value) > limit)
+      fail(key, fmt::format("has {:.6g} {} after conversion, beyond the largest magnitude this program "
+                            "accepts, {:g} {} (docs/taylor-expansion-format.md, Limits)",
+                            value, unit, limit, unit));
+    return value;
   }
   const toml::array& array(const std::string& key, const toml::node_view<const toml::node>& node) const {
     const toml::array* a = node.as_array();
@@ -114,12 +127,14 @@ struct Reader {
 // Reading
 
 TaylorExpansionData parse_taylor_expansion(const std::string& toml_text, const std::string& origin) {
+  const std::string context = fmt::format("taylor-expansion file '{}'", origin);
+  detail::check_toml_text(toml_text, context);
   toml::table root;
   try {
     root = toml::parse(toml_text, origin);
   } catch (const toml::parse_error& e) {
     throw Error(
-        fmt::format("{}: not valid TOML at line {}: {}", origin, e.source().begin.line, e.description()));
+        fmt::format("{} line {}: malformed TOML: {}", context, e.source().begin.line, e.description()));
   }
   const Reader r{root, origin};
   const toml::node_view<const toml::node> top{root};
@@ -169,7 +184,9 @@ TaylorExpansionData parse_taylor_expansion(const std::string& toml_text, const s
       r.fail("reference.positions", fmt::format("row {} must be [x, y, z]", a + 1));
     for (int c = 0; c < 3; ++c)
       data.reference_angstrom[3 * a + c] =
-          r.number("reference.positions", *row->get(static_cast<std::size_t>(c))) * to_angstrom;
+          r.bounded("reference.positions",
+                    r.number("reference.positions", *row->get(static_cast<std::size_t>(c))) * to_angstrom,
+                    file_limits::position_angstrom, "Å");
   }
   if (const toml::array* masses = top["reference"]["masses_da"].as_array()) {
     if (static_cast<int>(masses->size()) != atoms)
@@ -179,10 +196,13 @@ TaylorExpansionData parse_taylor_expansion(const std::string& toml_text, const s
       data.masses_da[a] = r.number("reference.masses_da", *masses->get(static_cast<std::size_t>(a)));
       if (!(data.masses_da[a] > 0.0))
         r.fail("reference.masses_da", fmt::format("entry {} must be positive", a + 1));
+      r.bounded("reference.masses_da", data.masses_da[a], file_limits::mass_da, "Da");
     }
   }
-  if (const auto energy = top["reference"]["energy"].value<double>())
-    data.reference_energy_kcal_mol = *energy * to_kcal;
+  if (const toml::node* energy = top["reference"]["energy"].node())
+    data.reference_energy_kcal_mol =
+        r.bounded("reference.energy", r.number("reference.energy", *energy) * to_kcal,
+                  file_limits::reference_energy_kcal_mol, "kcal/mol");
 
   std::set<std::string> seen;
   auto read_list = [&](const std::string& key, const toml::node_view<const toml::node>& node, int order,
@@ -201,6 +221,7 @@ TaylorExpansionData parse_taylor_expansion(const std::string& toml_text, const s
       }
       d.value = r.number(key, *row->get(static_cast<std::size_t>(order))) * scale;
       if (!std::isfinite(d.value)) r.fail(key, "has a non-finite value");
+      r.bounded(key, d.value, file_limits::force_constant_kcal_mol, "kcal/mol per unit^n");
       if (!seen.insert(key_of(d.indices)).second) {
         std::string listed;
         for (int i : d.indices) listed += std::to_string(i + 1) + " ";
@@ -237,7 +258,8 @@ TaylorExpansionData parse_taylor_expansion(const std::string& toml_text, const s
       const toml::node_view<const toml::node> view{*mode};
       const auto frequency = view["frequency_cm1"].value<double>();
       if (!frequency || !(*frequency > 0.0)) r.fail(key + ".frequency_cm1", "must be a positive number");
-      data.frequencies_cm1[k] = *frequency;
+      data.frequencies_cm1[k] =
+          r.bounded(key + ".frequency_cm1", *frequency, file_limits::wavenumber_cm1, "cm-1");
       const toml::array& displacement = r.array(key + ".displacement", view["displacement"]);
       if (static_cast<int>(displacement.size()) != atoms)
         r.fail(key + ".displacement", fmt::format("must have one [dx, dy, dz] per atom ({})", atoms));
@@ -246,8 +268,9 @@ TaylorExpansionData parse_taylor_expansion(const std::string& toml_text, const s
         if (!row || row->size() != 3)
           r.fail(key + ".displacement", fmt::format("row {} must be [dx, dy, dz]", a + 1));
         for (int c = 0; c < 3; ++c)
-          data.mode_displacements(3 * a + c, k) =
-              r.number(key + ".displacement", *row->get(static_cast<std::size_t>(c)));
+          data.mode_displacements(3 * a + c, k) = r.bounded(
+              key + ".displacement", r.number(key + ".displacement", *row->get(static_cast<std::size_t>(c))),
+              file_limits::displacement_entry, "(pattern units)");
       }
       if (data.mode_displacements.col(k).norm() == 0.0) r.fail(key + ".displacement", "is zero");
     }
@@ -267,16 +290,13 @@ TaylorExpansionData read_taylor_expansion(const std::string& path) {
 }
 
 bool is_taylor_expansion_file(const std::string& path) {
-  std::ifstream in(path);
+  std::ifstream in(path, std::ios::binary);
   if (!in) return false;
   std::stringstream text;
   text << in.rdbuf();
-  try {
-    const toml::table root = toml::parse(text.str(), path);
-    return root["format"].value_or(std::string()) == format_name;
-  } catch (const toml::parse_error&) {
-    return false;
-  }
+  // From the text itself, so that a malformed file of this kind is still recognized (and
+  // its error names this format) and no unchecked text reaches the TOML library.
+  return detail::potential_file_kind(text.str()) == detail::PotentialFileKind::taylor_expansion;
 }
 
 std::unique_ptr<Potential> load_taylor_expansion_potential(const std::string& path,

@@ -1,5 +1,6 @@
 #include "potential/valence_force_field.hpp"
 
+#include <fmt/format.h>
 #include <toml++/toml.h>
 
 #include <algorithm>
@@ -14,6 +15,8 @@
 #include "core/error.hpp"
 #include "core/units.hpp"
 #include "potential/detail_internal_coordinates.hpp"
+#include "potential/detail_toml_text.hpp"
+#include "potential/file_limits.hpp"
 
 namespace overtone {
 namespace detail {
@@ -42,7 +45,29 @@ struct CoordinateDefinition {
   CoordinateKind kind = CoordinateKind::distance;
   std::vector<int> atoms;  // 0-based indices into the molecule
   double reference = 0.0;  // Å or rad; unused for linear_bend (always linear)
+  // An angle whose reference is 180°: its displacement is taken as s² = (π − θ)² like a
+  // linear_bend (the same terms, and regular at linearity), so it takes even powers only.
+  bool linear_reference = false;
+
+  // A linear_bend, or an angle used like one.
+  bool even_in_bend() const {
+    return kind == CoordinateKind::linear_bend || (kind == CoordinateKind::angle && linear_reference);
+  }
 };
+
+std::string atom_list(const std::vector<int>& atoms) {
+  std::string text;
+  for (const int a : atoms) text += (text.empty() ? "" : ", ") + std::to_string(a + 1);
+  return text;
+}
+
+// Dihedrals, out-of-plane angles and pyramid heights have no value when three of their
+// atoms are exactly collinear: a clear error instead of an arbitrary number or NaN.
+[[noreturn]] void undefined_coordinate(const CoordinateDefinition& c, const char* what,
+                                       const std::vector<int>& collinear) {
+  throw Error("coordinate '" + c.name + "' (" + what + " of atoms " + atom_list(c.atoms) +
+              ") is undefined at this geometry: atoms " + atom_list(collinear) + " are exactly collinear");
+}
 
 enum class TermKind { morse, polynomial, coupling, cosine_series };
 
@@ -77,10 +102,18 @@ S raw_coordinate(const CoordinateDefinition& c, const std::vector<int>& local, c
     case CoordinateKind::linear_bend:
       return linear_bend_squared(p[local[0]], p[local[1]], p[local[2]]);
     case CoordinateKind::dihedral:
+      if (exactly_collinear(p[local[0]], p[local[1]], p[local[2]]))
+        undefined_coordinate(c, "dihedral", {c.atoms[0], c.atoms[1], c.atoms[2]});
+      if (exactly_collinear(p[local[1]], p[local[2]], p[local[3]]))
+        undefined_coordinate(c, "dihedral", {c.atoms[1], c.atoms[2], c.atoms[3]});
       return dihedral_angle(p[local[0]], p[local[1]], p[local[2]], p[local[3]]);
     case CoordinateKind::out_of_plane_angle:
+      if (exactly_collinear(p[local[1]], p[local[0]], p[local[2]]))
+        undefined_coordinate(c, "out-of-plane angle", {c.atoms[1], c.atoms[0], c.atoms[2]});
       return out_of_plane_angle(p[local[0]], p[local[1]], p[local[2]], p[local[3]]);
     case CoordinateKind::pyramid_height:
+      if (exactly_collinear(p[local[1]], p[local[2]], p[local[3]]))
+        undefined_coordinate(c, "pyramid height", {c.atoms[1], c.atoms[2], c.atoms[3]});
       return pyramid_height(p[local[0]], p[local[1]], p[local[2]], p[local[3]]);
   }
   return S(0.0);
@@ -90,8 +123,8 @@ S raw_coordinate(const CoordinateDefinition& c, const std::vector<int>& local, c
 // (−π, π]); for a linear bend the even variable s² = (π − θ)².
 template <typename S>
 S displacement(const CoordinateDefinition& c, const std::vector<int>& local, const Vec3<S>* p) {
+  if (c.even_in_bend()) return linear_bend_squared(p[local[0]], p[local[1]], p[local[2]]);
   S value = raw_coordinate(c, local, p);
-  if (c.kind == CoordinateKind::linear_bend) return value;
   value = value - c.reference;
   if (c.kind == CoordinateKind::dihedral) {
     const double turns = std::round(plain_value(value) / (2.0 * units::pi));
@@ -121,7 +154,7 @@ S term_energy(const Term& term, const std::vector<CoordinateDefinition>& coordin
       const S d = displacement(coordinates[term.factors[0].coordinate], term.local_atoms[0], p);
       // Horner in d; for a linear bend d is already s², and only c2, c4 are nonzero
       // (checked on load), so the even polynomial is c2 s² + c4 s⁴ = c2 d + c4 d².
-      if (coordinates[term.factors[0].coordinate].kind == CoordinateKind::linear_bend)
+      if (coordinates[term.factors[0].coordinate].even_in_bend())
         return d * (term.polynomial[2] + d * term.polynomial[4]);
       return d * (term.polynomial[1] +
                   d * (term.polynomial[2] + d * (term.polynomial[3] + d * term.polynomial[4])));
@@ -131,15 +164,24 @@ S term_energy(const Term& term, const std::vector<CoordinateDefinition>& coordin
       for (std::size_t k = 0; k < term.factors.size(); ++k) {
         const CoordinateDefinition& c = coordinates[term.factors[k].coordinate];
         const S d = displacement(c, term.local_atoms[k], p);
-        const int power =
-            c.kind == CoordinateKind::linear_bend ? term.factors[k].power / 2 : term.factors[k].power;
+        const int power = c.even_in_bend() ? term.factors[k].power / 2 : term.factors[k].power;
         product = product * integer_power(d, power);
       }
       return product;
     }
     case TermKind::cosine_series: {
-      const S angle = raw_coordinate(coordinates[term.factors[0].coordinate], term.local_atoms[0], p);
+      const CoordinateDefinition& c = coordinates[term.factors[0].coordinate];
+      const std::vector<int>& local = term.local_atoms[0];
       S sum = S(0.0);
+      if (c.kind == CoordinateKind::angle) {
+        // Through cos θ, so that the series is smooth at 180° (its usual minimum).
+        for (std::size_t n = 0; n < term.barriers.size(); ++n)
+          sum = sum + 0.5 * term.barriers[n] *
+                          (S(1.0) - cosine_of_multiple_bend(p[local[0]], p[local[1]], p[local[2]],
+                                                            static_cast<int>(n + 1), term.phases[n]));
+        return sum;
+      }
+      const S angle = raw_coordinate(c, local, p);
       for (std::size_t n = 0; n < term.barriers.size(); ++n)
         sum = sum + 0.5 * term.barriers[n] * (S(1.0) - cos(double(n + 1) * angle - term.phases[n]));
       return sum;
@@ -262,6 +304,7 @@ class ValenceForceField final : public Potential {
   }
 
   Eigen::MatrixXd compute_hessian(const Eigen::VectorXd& x) const override {
+    check_twice_differentiable(x);
     Eigen::MatrixXd hessian = Eigen::MatrixXd::Zero(x.size(), x.size());
     for (const Term& term : terms_)
       dispatch_on_size(
@@ -271,6 +314,33 @@ class ValenceForceField final : public Potential {
   }
 
  private:
+  // A term in θ − θ_ref with θ_ref ≠ 180° (or a cosine series with a phase that is not a
+  // multiple of π) has a cusp where its angle is exactly linear: the gradient there is the
+  // symmetric one, but no second derivative exists, so the Hessian is refused.
+  void check_twice_differentiable(const Eigen::VectorXd& x) const {
+    for (const Term& term : terms_) {
+      if (term.kind == TermKind::morse) continue;
+      bool odd_phase = false;
+      for (const double phase : term.phases)
+        odd_phase = odd_phase || std::abs(std::sin(phase)) >= phase_multiple_of_pi_tolerance;
+      if (term.kind == TermKind::cosine_series && !odd_phase) continue;
+      for (const Factor& factor : term.factors) {
+        const CoordinateDefinition& c = coordinates_[factor.coordinate];
+        if (c.kind != CoordinateKind::angle || c.linear_reference) continue;
+        Vec3<double> p[3];
+        for (int k = 0; k < 3; ++k) p[k] = {x[3 * c.atoms[k]], x[3 * c.atoms[k] + 1], x[3 * c.atoms[k] + 2]};
+        if (!exactly_collinear(p[0], p[1], p[2])) continue;
+        throw Error(description_ + " has no second derivative at this geometry: angle '" + c.name +
+                    "' (atoms " + atom_list(c.atoms) + ") is exactly linear, where a term in it " +
+                    (term.kind == TermKind::cosine_series
+                         ? std::string("with a phase that is not a multiple of 180°")
+                         : "about a reference of " + std::to_string(c.reference * 180.0 / units::pi) + "°") +
+                    " has a cusp; start from a bent structure, or describe a linear arrangement with a "
+                    "linear_bend or an angle whose reference is 180°");
+      }
+    }
+  }
+
   std::string description_;
   std::size_t atom_count_;
   std::vector<CoordinateDefinition> coordinates_;
@@ -297,14 +367,15 @@ class Reader {
   // Rejects keys outside `allowed` (typos in hand-written files must not pass silently).
   void check_keys(const toml::table& table, const std::string& context,
                   std::initializer_list<const char*> allowed) const {
-    for (const auto& [key, node] : table) {
-      const bool known =
-          std::any_of(allowed.begin(), allowed.end(), [&](const char* a) { return key.str() == a; });
+    for (const auto& entry : table) {
+      // A named copy, not a structured binding: C++17 does not let a lambda capture one.
+      const std::string_view key = entry.first.str();
+      const bool known = std::any_of(allowed.begin(), allowed.end(), [&](const char* a) { return key == a; });
       if (!known) {
         std::string list;
         for (const char* a : allowed) list += std::string(list.empty() ? "" : ", ") + a;
-        fail(&node,
-             "unknown key '" + std::string(key.str()) + "' in " + context + "; expected one of: " + list);
+        fail(&entry.second,
+             "unknown key '" + std::string(key) + "' in " + context + "; expected one of: " + list);
       }
     }
   }
@@ -323,6 +394,16 @@ class Reader {
     fail(&node, "key '" + key + "' must be a number, got " + type_name(node));
   }
 
+  // value (internal units) must satisfy |value| ≤ limit (file_limits.hpp).
+  double bounded(const toml::node& node, const std::string& key, double value, double limit,
+                 const char* unit) const {
+    if (std::abs(value) > limit)
+      fail(&node, fmt::format("key '{}' is {:.6g} {} after conversion, beyond the largest magnitude this "
+                              "program accepts, {:g} {} (docs/valence-force-field.md, Limits)",
+                              key, value, unit, limit, unit));
+    return value;
+  }
+
   std::string string(const toml::node& node, const std::string& key) const {
     if (const auto* s = node.as_string()) return s->get();
     fail(&node, "key '" + key + "' must be a string, got " + type_name(node));
@@ -333,10 +414,14 @@ class Reader {
     fail(&node, "key '" + key + "' must be an array, got " + type_name(node));
   }
 
-  // A required [[key]] array of tables (may be empty only if written as key = []).
+  // A required, non-empty [[key]] array of tables: a field without coordinates or without
+  // terms is a flat surface, on which every harmonic frequency is zero.
   const toml::array& array_of_tables(const toml::table& parent, const char* key) const {
     const toml::node& node = require(parent, key, "the top level");
     const toml::array* array = node.as_array();
+    if (array != nullptr && array->empty())
+      fail(&node, "'" + std::string(key) + "' is empty: a valence force field needs at least one [[" + key +
+                      "]] entry (a field without them is flat, every frequency zero)");
     if (array == nullptr || !array->is_array_of_tables())
       fail(&node, "'" + std::string(key) + "' must be an array of tables ([[" + key + "]])");
     return *array;
@@ -385,11 +470,50 @@ double energy_unit_in_kcal_mol(const Reader& reader, const toml::node& node) {
 }
 
 toml::table parse_toml(const std::string& text, const std::string& origin) {
+  check_toml_text(text, "valence force field '" + origin + "'");
   try {
     return toml::parse(text, origin);
   } catch (const toml::parse_error& error) {
     throw Error("valence force field '" + origin + "' line " + std::to_string(error.source().begin.line) +
                 ": malformed TOML: " + std::string(error.description()));
+  }
+}
+
+// The range a reference value can have: what the coordinate can take (angles in [0°, 180°],
+// out-of-plane angles in [−90°, 90°], dihedrals within a turn either way) and the size
+// limits of file_limits.hpp for lengths.
+void check_reference_range(const Reader& reader, const toml::node& node, const CoordinateDefinition& c,
+                           bool degrees) {
+  // low, high in internal units; `scale` converts them (and the value) to the file's unit.
+  auto require_within = [&](double low, double high, double scale, const char* unit, const char* what) {
+    if (c.reference >= low && c.reference <= high) return;
+    reader.fail(&node, fmt::format("reference of '{}' is {:.6g} {}, outside the range {:g} to {:g} {} {}",
+                                   c.name, c.reference * scale, unit, low * scale, high * scale, unit, what));
+  };
+  const double angle_scale = degrees ? 180.0 / units::pi : 1.0;
+  const char* angle_unit = degrees ? "degree" : "rad";
+  const double slack = linear_reference_tolerance_rad;  // 180° entered in degrees, converted
+  switch (c.kind) {
+    case CoordinateKind::distance:
+      require_within(0.0, file_limits::distance_angstrom, 1.0, "Å", "this program accepts");
+      break;
+    case CoordinateKind::angle:
+      require_within(0.0, units::pi + slack, angle_scale, angle_unit, "of an angle");
+      break;
+    case CoordinateKind::out_of_plane_angle:
+      require_within(-0.5 * units::pi - slack, 0.5 * units::pi + slack, angle_scale, angle_unit,
+                     "of an out-of-plane angle");
+      break;
+    case CoordinateKind::dihedral:
+      require_within(-file_limits::full_turn_rad - slack, file_limits::full_turn_rad + slack, angle_scale,
+                     angle_unit, "this program accepts for a dihedral");
+      break;
+    case CoordinateKind::pyramid_height:
+      require_within(-file_limits::pyramid_height_angstrom, file_limits::pyramid_height_angstrom, 1.0, "Å",
+                     "this program accepts");
+      break;
+    case CoordinateKind::linear_bend:
+      break;
   }
 }
 
@@ -498,6 +622,9 @@ ParsedFile parse_file(const std::string& text, const std::string& origin) {
       c.reference = reader.number(*reference, "reference") * (info->angular ? angle_factor : 1.0);
       if (c.kind == CoordinateKind::distance && c.reference <= 0.0)
         reader.fail(reference, "reference distance of '" + c.name + "' must be positive");
+      check_reference_range(reader, *reference, c, angle_unit == "degree");
+      c.linear_reference = c.kind == CoordinateKind::angle &&
+                           std::abs(c.reference - units::pi) <= linear_reference_tolerance_rad;
     }
     coordinate_index[c.name] = static_cast<int>(parsed.coordinates.size());
     parsed.coordinates.push_back(c);
@@ -530,12 +657,15 @@ ParsedFile parse_file(const std::string& text, const std::string& origin) {
       term.width = reader.number(width, "width");
       if (term.depth <= 0.0) reader.fail(&depth, "morse depth must be positive");
       if (term.width <= 0.0) reader.fail(&width, "morse width must be positive");
+      reader.bounded(depth, "depth", term.depth, file_limits::energy_scale_kcal_mol, "kcal/mol");
+      reader.bounded(width, "width", term.width, file_limits::morse_width_per_angstrom, "1/Å");
     } else if (kind == "polynomial") {
       reader.check_keys(table, "a polynomial term", {"kind", "label", "coordinate", "f2", "f3", "f4"});
       term.kind = TermKind::polynomial;
       const toml::node& coordinate_node = reader.require(table, "coordinate", "a polynomial term");
       term.factors.push_back({find_coordinate(coordinate_node, "coordinate"), 1});
-      const bool linear = parsed.coordinates[term.factors[0].coordinate].kind == CoordinateKind::linear_bend;
+      const CoordinateDefinition& bend = parsed.coordinates[term.factors[0].coordinate];
+      const bool linear = bend.even_in_bend();
       bool any = false;
       double factorial = 1.0;
       for (int order = 2; order <= 4; ++order) {
@@ -543,9 +673,14 @@ ParsedFile parse_file(const std::string& text, const std::string& origin) {
         const std::string key = "f" + std::to_string(order);
         if (const toml::node* f = table.get(key)) {
           if (linear && order % 2 == 1)
-            reader.fail(f,
-                        "a linear_bend takes only even powers (f2, f4): the potential must be even in π − θ");
-          term.polynomial[order] = reader.number(*f, key) * energy_factor / factorial;
+            reader.fail(f, std::string(bend.kind == CoordinateKind::linear_bend
+                                           ? "a linear_bend"
+                                           : "an angle whose reference is 180° ('" + bend.name + "')") +
+                               " takes only even powers (f2, f4): the potential must be even in π − θ");
+          term.polynomial[order] =
+              reader.bounded(*f, key, reader.number(*f, key) * energy_factor,
+                             file_limits::force_constant_kcal_mol, "kcal/mol per unit^n") /
+              factorial;
           any = true;
         }
       }
@@ -565,16 +700,21 @@ ParsedFile parse_file(const std::string& text, const std::string& origin) {
                     "a coupling term takes 2 to 6 coordinates (with repeats), got " + std::to_string(order));
       double factorials = 1.0;
       for (const auto& [index, power] : powers) {
-        if (parsed.coordinates[index].kind == CoordinateKind::linear_bend && power % 2 == 1)
+        if (parsed.coordinates[index].even_in_bend() && power % 2 == 1)
           reader.fail(&list,
-                      "linear_bend '" + parsed.coordinates[index].name +
+                      std::string(parsed.coordinates[index].kind == CoordinateKind::linear_bend
+                                      ? "linear_bend '"
+                                      : "angle (reference 180°) '") +
+                          parsed.coordinates[index].name +
                           "' must appear an even number of times in a coupling (the potential is even in "
                           "π − θ)");
         for (int k = 2; k <= power; ++k) factorials *= k;
         term.factors.push_back({index, power});
       }
-      term.coefficient =
-          reader.number(reader.require(table, "f", "a coupling term"), "f") * energy_factor / factorials;
+      const toml::node& f_node = reader.require(table, "f", "a coupling term");
+      term.coefficient = reader.bounded(f_node, "f", reader.number(f_node, "f") * energy_factor,
+                                        file_limits::force_constant_kcal_mol, "kcal/mol per unit^n") /
+                         factorials;
     } else if (kind == "cosine_series") {
       reader.check_keys(table, "a cosine_series term", {"kind", "label", "coordinate", "barriers", "phases"});
       term.kind = TermKind::cosine_series;
@@ -588,7 +728,9 @@ ParsedFile parse_file(const std::string& text, const std::string& origin) {
       const toml::node& barriers = reader.require(table, "barriers", "a cosine_series term");
       term.barriers = reader.numbers(barriers, "barriers");
       if (term.barriers.empty()) reader.fail(&barriers, "barriers must list at least one value");
-      for (double& b : term.barriers) b *= energy_factor;
+      for (double& b : term.barriers)
+        b = reader.bounded(barriers, "barriers", b * energy_factor, file_limits::energy_scale_kcal_mol,
+                           "kcal/mol");
       term.phases.assign(term.barriers.size(), 0.0);
       if (const toml::node* phases = table.get("phases")) {
         term.phases = reader.numbers(*phases, "phases");
@@ -596,7 +738,9 @@ ParsedFile parse_file(const std::string& text, const std::string& origin) {
           reader.fail(phases, "phases must have as many entries as barriers (" +
                                   std::to_string(term.barriers.size()) + "), got " +
                                   std::to_string(term.phases.size()));
-        for (double& phase : term.phases) phase *= angle_factor;
+        for (double& phase : term.phases)
+          phase = reader.bounded(*phases, "phases", phase * angle_factor,
+                                 file_limits::full_turn_rad + linear_reference_tolerance_rad, "rad");
       }
     } else {
       reader.fail(&kind_node, "unknown term kind '" + kind +
@@ -656,7 +800,12 @@ std::unique_ptr<Potential> load_valence_force_field(const std::string& path, con
 }
 
 ValenceForceFieldSource read_valence_force_field_source(const std::string& path) {
-  return detail::parse_file(detail::read_text(path), path).source;
+  return parse_valence_force_field_source(detail::read_text(path), path);
+}
+
+ValenceForceFieldSource parse_valence_force_field_source(const std::string& toml_text,
+                                                         const std::string& origin) {
+  return detail::parse_file(toml_text, origin).source;
 }
 
 }  // namespace overtone

@@ -43,5 +43,9 @@ struct ValenceForceFieldSource {
 // Reads and validates the file without binding it to a molecule; throws Error like
 // load_valence_force_field.
 ValenceForceFieldSource read_valence_force_field_source(const std::string& path);
+// The same from TOML text already in memory (every check of the file format runs, none
+// touches the disk); `origin` names the text in error messages.
+ValenceForceFieldSource parse_valence_force_field_source(const std::string& toml_text,
+                                                         const std::string& origin);
 
 }  // namespace overtone

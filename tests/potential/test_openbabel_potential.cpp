@@ -131,6 +131,40 @@ TEST(OpenBabelPotential, UntypableMoleculesAndUnknownNamesAreClearErrors) {
   EXPECT_THROW(make_potential("not-a-force-field", sulfur_hexafluoride), Error);
 }
 
+// Radicals and ions: the rule reads Open Babel's perception (electron count, typical
+// valence, spin multiplicity, formal charges). Closed forms: CH₃ has 9 electrons, NO₂ 23;
+// CH₂ has carbon two bonds short of four; NH₄⁺ and OH⁻ contain no carbon; sulfate has net
+// charge −2. Acetate, tetramethylammonium and zwitterionic nitromethane are singly charged
+// organic species inside MMFF94's parameterization (Halgren, J. Comput. Chem. 17, 490
+// (1996); from memory), and neutral methane needs no word.
+TEST(OpenBabelPotential, WarnsOutsideTheParameterizationOfClosedShellOrganics) {
+  auto warnings_for = [](const char* smiles, const char* force_field) {
+    std::string all;
+    for (const auto& warning : OpenBabelPotential(force_field, from_smiles(smiles)).warnings())
+      all += warning + "\n";
+    return all;
+  };
+  for (const char* radical : {"[CH3]", "[N](=O)=O", "[CH2]"}) {
+    SCOPED_TRACE(radical);
+    const std::string text = warnings_for(radical, "MMFF94");
+    EXPECT_NE(text.find("closed-shell"), std::string::npos) << text;
+    EXPECT_NE(text.find("radical"), std::string::npos) << text;
+  }
+  EXPECT_NE(warnings_for("[CH3]", "MMFF94").find("odd number of electrons, 9"), std::string::npos);
+  EXPECT_NE(warnings_for("[CH2]", "MMFF94").find("atom C1 has 2 bond(s) fewer"), std::string::npos);
+  for (const char* ion : {"[NH4+]", "[OH-]"}) {
+    SCOPED_TRACE(ion);
+    EXPECT_NE(warnings_for(ion, "MMFF94").find("inorganic ion"), std::string::npos);
+  }
+  EXPECT_NE(warnings_for("[O-]S(=O)(=O)[O-]", "GAFF").find("net charge -2"), std::string::npos);
+  // Open Babel's UFF has no electrostatic term: the charge is ignored, which it says.
+  EXPECT_NE(warnings_for("[NH4+]", "UFF").find("no electrostatic term"), std::string::npos);
+  for (const char* fine : {"C", "CC(=O)[O-]", "C[N+](C)(C)C", "C[N+](=O)[O-]"}) {
+    SCOPED_TRACE(fine);
+    EXPECT_EQ(warnings_for(fine, "MMFF94"), "");
+  }
+}
+
 // Molecules for the out-of-plane model: formaldehyde and benzene (sp2 carbon), an
 // acetanilide-like molecule (amide nitrogen, carbonyl, aromatic ring), an amide with a
 // fully substituted nitrogen, a pyramidal amine, and triphenylphosphine (nineteen
@@ -233,16 +267,22 @@ TEST(OutOfPlaneModel, GradientIsTheDerivativeOfTheModelEnergy) {
     const detail::OutOfPlaneModel model(form, {centre}, 1.5);
     Eigen::VectorXd analytic = Eigen::VectorXd::Zero(x.size());
     model.add_gradient(x, analytic);
+    // Fourth-order central differences (step 1e-4 Å: truncation ~h⁴ f⁽⁵⁾/30 ≲ 1e-13,
+    // round-off ~ε·|E|/h ≈ 2e-12): the components here are as small as 0.1 kcal/mol/Å,
+    // where the second-order stencil's error (~1e-9, varying with the SMILES-built start)
+    // came within the tolerance.
+    constexpr double step = 1e-4;
     Eigen::VectorXd reference(x.size());
     Eigen::VectorXd displaced = x;
-    for (Eigen::Index k = 0; k < x.size(); ++k) {
-      displaced[k] = x[k] + difference_step_angstrom;
-      const double plus = model.energy(displaced);
-      displaced[k] = x[k] - difference_step_angstrom;
-      const double minus = model.energy(displaced);
+    auto at = [&](Eigen::Index k, double offset) {
+      displaced[k] = x[k] + offset;
+      const double value = model.energy(displaced);
       displaced[k] = x[k];
-      reference[k] = (plus - minus) / (2.0 * difference_step_angstrom);
-    }
+      return value;
+    };
+    for (Eigen::Index k = 0; k < x.size(); ++k)
+      reference[k] =
+          (-at(k, 2.0 * step) + 8.0 * at(k, step) - 8.0 * at(k, -step) + at(k, -2.0 * step)) / (12.0 * step);
     EXPECT_LT((analytic - reference).cwiseAbs().maxCoeff(),
               gradient_relative_tolerance * reference.cwiseAbs().maxCoeff());
   }

@@ -228,7 +228,18 @@ TEST(TaylorExpansionPotential, MalformedFilesAreRejectedWithTheKey) {
   expect_error(replaced(good, "[1, 1, 1, -900.0]", "[1, 1, 10, -900.0]"), "outside 1..9");
   expect_error(replaced(good, "coordinates = \"cartesian\"", "coordinates = \"polar\""), "coordinates");
   expect_error(replaced(good, "elements = [\"O\", \"H\", \"H\"]", "elements = [\"O\", \"H\", \"Qq\"]"), "Qq");
-  expect_error("format = [", "not valid TOML");
+  expect_error("format = [", "malformed TOML");
+  expect_error("format = [", "taylor-expansion file 'case' line 1");
+}
+
+TEST(TaylorExpansionPotential, MagnitudesBeyondTheDocumentedLimitsAreRefused) {
+  // Limits of docs/taylor-expansion-format.md (file_limits.hpp), and non-finite numbers.
+  const std::string good = cartesian_text;
+  expect_error(replaced(good, "[1, 1, 1, -900.0]", "[1, 1, 1, -9e300]"), "largest magnitude");
+  expect_error(replaced(good, "[1, 1, 1, -900.0]", "[1, 1, 1, nan]"), "finite");
+  expect_error(replaced(good, "[3, 3, 700.0]", "[3, 3, inf]"), "finite");
+  expect_error(replaced(good, "[-0.76, 0.0, 0.59]", "[-0.76, 0.0, 1e300]"), "reference.positions");
+  expect_error(replaced(good, "energy = -3.5", "energy = 1e300"), "reference.energy");
 }
 
 TEST(TaylorExpansionPotential, MoleculeMismatchIsAnError) {

@@ -509,6 +509,151 @@ TEST(ValenceForceField, DihedralDisplacementWrapsAroundPlusMinusPi) {
   EXPECT_NEAR(potential->energy(x), 2.0 * two_degrees * two_degrees / 2.0, 1e-9);
 }
 
+// ---- Exactly linear angles ------------------------------------------------------------------
+
+// A CO₂ field whose bend is given by `bend_coordinate` (a [[coordinates]] entry named "s"
+// over atoms 1, 2, 3) with terms f2, f4 and the stretch–bend–bend coupling f_rss.
+std::string carbon_dioxide_field(const std::string& bend_coordinate) {
+  return "format_version = 1\ntitle = \"linear test\"\nelements = [\"O\", \"C\", \"O\"]\n"
+         "[units]\nenergy = \"aJ\"\nlength = \"angstrom\"\nangle = \"degree\"\n"
+         "[source]\ncitation = \"test\"\nstatus = \"from memory\"\n"
+         "[[coordinates]]\nname = \"r\"\nkind = \"distance\"\natoms = [2, 1]\nreference = 1.16\n" +
+         bend_coordinate +
+         "[[terms]]\nkind = \"polynomial\"\ncoordinate = \"r\"\nf2 = 16.0\nf3 = -110.0\n"
+         "[[terms]]\nkind = \"polynomial\"\ncoordinate = \"s\"\nf2 = 0.78\nf4 = 0.3\n"
+         "[[terms]]\nkind = \"coupling\"\ncoordinates = [\"r\", \"s\", \"s\"]\nf = -0.4\n";
+}
+
+const std::string linear_bend_entry =
+    "[[coordinates]]\nname = \"s\"\nkind = \"linear_bend\"\natoms = [1, 2, 3]\n";
+const std::string angle_180_entry =
+    "[[coordinates]]\nname = \"s\"\nkind = \"angle\"\natoms = [1, 2, 3]\nreference = 180.0\n";
+
+// Geometries of CO₂: exactly linear, stretched along the axis, and bent by 0.1° and 1°.
+std::vector<Eigen::VectorXd> linear_and_near_linear(const Eigen::VectorXd& linear) {
+  std::vector<Eigen::VectorXd> geometries{linear};
+  Eigen::VectorXd stretched = linear;
+  stretched[2] -= 0.02;
+  geometries.push_back(stretched);
+  for (const double degrees : {0.1, 1.0}) {
+    Eigen::VectorXd bent = linear;
+    bent[0] += 1.16 * std::sin(degrees * units::pi / 180.0);
+    geometries.push_back(bent);
+  }
+  return geometries;
+}
+
+TEST(ValenceForceFieldLinear, AngleWithReference180IsTheLinearBend) {
+  // (θ − π)² = s² and the even powers agree term by term (closed form), so an angle with a
+  // 180° reference must give the linear_bend's energy, gradient and Hessian, finite and
+  // analytic at exactly 180° (its atan2 form alone has no derivative there).
+  const Molecule co2 = read_example("carbon-dioxide.xyz");
+  const auto as_bend = parse_valence_force_field(carbon_dioxide_field(linear_bend_entry), "bend", co2);
+  const auto as_angle = parse_valence_force_field(carbon_dioxide_field(angle_180_entry), "angle", co2);
+  for (const Eigen::VectorXd& x : linear_and_near_linear(co2.coordinates())) {
+    Eigen::VectorXd g_bend, g_angle;
+    const double e_bend = as_bend->energy_and_gradient(x, g_bend);
+    const double e_angle = as_angle->energy_and_gradient(x, g_angle);
+    ASSERT_TRUE(g_angle.allFinite());
+    EXPECT_NEAR(e_angle, e_bend, 1e-12 * std::max(1.0, std::abs(e_bend)));
+    EXPECT_LT((g_angle - g_bend).cwiseAbs().maxCoeff(), 1e-10);
+    const Eigen::MatrixXd h_angle = as_angle->hessian(x);
+    ASSERT_TRUE(h_angle.allFinite());
+    EXPECT_LT((h_angle - as_bend->hessian(x)).cwiseAbs().maxCoeff(), 1e-9);
+    expect_derivatives_match_differences(*as_angle, x, "angle with 180° reference");
+  }
+}
+
+TEST(ValenceForceFieldLinear, AngleWithReference180TakesEvenPowersOnly) {
+  std::string odd = carbon_dioxide_field(angle_180_entry);
+  odd.replace(odd.find("f4 = 0.3"), 8, "f3 = 0.3");
+  const std::string message =
+      error_message([&] { parse_valence_force_field(odd, "odd.toml", read_example("carbon-dioxide.xyz")); });
+  EXPECT_NE(message.find("reference is 180°"), std::string::npos) << message;
+  EXPECT_NE(message.find("even"), std::string::npos) << message;
+}
+
+TEST(ValenceForceFieldLinear, CosineSeriesOnAnAngleIsSmoothThroughLinearity) {
+  // ½ V₁ (1 − cos(θ − 180°)) = ½ V₁ (1 + cos θ): zero at 180° and ≈ V₁ s²/4 near it, so the
+  // bending force constant there is V₁/2 per rad² in s (closed form). Written through cos θ
+  // the term is analytic at 180°.
+  const std::string field =
+      "format_version = 1\ntitle = \"cosine\"\nelements = [\"O\", \"C\", \"O\"]\n"
+      "[units]\nenergy = \"kcal/mol\"\nlength = \"angstrom\"\nangle = \"degree\"\n"
+      "[source]\ncitation = \"test\"\nstatus = \"from memory\"\n" +
+      angle_180_entry.substr(0, angle_180_entry.find("kind")) +
+      "kind = \"angle\"\natoms = [1, 2, 3]\nreference = 120.0\n"
+      "[[coordinates]]\nname = \"r\"\nkind = \"distance\"\natoms = [2, 1]\nreference = 1.16\n"
+      "[[terms]]\nkind = \"polynomial\"\ncoordinate = \"r\"\nf2 = 1000.0\n"
+      "[[terms]]\nkind = \"cosine_series\"\ncoordinate = \"s\"\nbarriers = [80.0, 5.0]\nphases = [180.0, "
+      "0.0]\n";
+  const Molecule co2 = read_example("carbon-dioxide.xyz");
+  const auto potential = parse_valence_force_field(field, "cosine.toml", co2);
+  const Eigen::VectorXd linear = co2.coordinates();
+  // At 180°: V₁ term 0, V₂ term ½ V₂ (1 − cos 360°) = 0.
+  EXPECT_NEAR(potential->energy(linear), 0.0, 1e-12);
+  for (const Eigen::VectorXd& x : linear_and_near_linear(linear))
+    expect_derivatives_match_differences(*potential, x, "cosine series near 180°");
+  // Curvature along the bend of the first oxygen: d²E/dy² = (V₁/2 + 2 V₂)(1/r)² … with
+  // the carbon and the other oxygen fixed, s = y/r₁ at first order, E ≈ ½ (V₁/2 + 2 V₂) s².
+  const Eigen::MatrixXd hessian = potential->hessian(linear);
+  EXPECT_NEAR(hessian(0, 0), (80.0 / 2.0 + 2.0 * 5.0) / (1.16 * 1.16), 1e-9);
+}
+
+TEST(ValenceForceFieldLinear, BentReferenceAngleAtExactlyLinearHasASymmetricGradientAndNoHessian) {
+  // Water's angle term f (θ − θ₀)²/2 with θ₀ = 104.52° has a cusp at θ = 180°: the energy
+  // there is f (π − θ₀)²/2 (closed form), the gradient across the axis is the symmetric
+  // one (zero), and there is no second derivative — a clear error, not NaN.
+  const std::string field = water_file("[[terms]]\nkind = \"polynomial\"\ncoordinate = \"a\"\nf2 = 0.7\n");
+  Molecule linear_water = water_molecule();
+  linear_water.atoms[1].position_angstrom = Eigen::Vector3d(0.9572, 0.0, 0.0);
+  linear_water.atoms[2].position_angstrom = Eigen::Vector3d(-0.9572, 0.0, 0.0);
+  const auto potential = parse_valence_force_field(field, "water.toml", linear_water);
+  const Eigen::VectorXd x = linear_water.coordinates();
+  const double excess = units::pi - 104.52 * units::pi / 180.0;
+  EXPECT_NEAR(potential->energy(x), 0.7 * units::kcal_mol_per_attojoule * excess * excess / 2.0, 1e-10);
+  Eigen::VectorXd gradient;
+  potential->energy_and_gradient(x, gradient);
+  ASSERT_TRUE(gradient.allFinite());
+  EXPECT_EQ(gradient.cwiseAbs().maxCoeff(), 0.0);
+  const std::string message = error_message([&] { potential->hessian(x); });
+  EXPECT_NE(message.find("cusp"), std::string::npos) << message;
+  EXPECT_NE(message.find("angle 'a'"), std::string::npos) << message;
+}
+
+TEST(ValenceForceFieldLinear, CoordinatesUndefinedAtCollinearAtomsAreClearErrors) {
+  // A dihedral over a linear chain, an out-of-plane angle whose plane is a line and a
+  // pyramid height over collinear atoms have no value: each evaluation says which.
+  auto field = [](const std::string& kind, const std::string& reference) {
+    return "format_version = 1\ntitle = \"collinear\"\nelements = [\"N\", \"H\", \"H\", \"H\"]\n"
+           "[units]\nenergy = \"kcal/mol\"\nlength = \"angstrom\"\nangle = \"degree\"\n"
+           "[source]\ncitation = \"test\"\nstatus = \"from memory\"\n"
+           "[[coordinates]]\nname = \"q\"\nkind = \"" +
+           kind + "\"\natoms = [1, 2, 3, 4]\nreference = " + reference +
+           "\n[[terms]]\nkind = \"polynomial\"\ncoordinate = \"q\"\nf2 = 10.0\n";
+  };
+  Molecule ammonia = read_example("ammonia.xyz");
+  // Atoms 1, 2, 3 on the x axis (H2 on one side of N, H3 on the other), atom 4 off it.
+  ammonia.atoms[0].position_angstrom = Eigen::Vector3d(0.0, 0.0, 0.0);
+  ammonia.atoms[1].position_angstrom = Eigen::Vector3d(1.0, 0.0, 0.0);
+  ammonia.atoms[2].position_angstrom = Eigen::Vector3d(-1.0, 0.0, 0.0);
+  ammonia.atoms[3].position_angstrom = Eigen::Vector3d(0.3, 1.0, 0.2);
+  for (const auto& [kind, reference] : std::vector<std::pair<std::string, std::string>>{
+           {"dihedral", "60.0"}, {"out_of_plane_angle", "10.0"}}) {
+    SCOPED_TRACE(kind);
+    const auto potential = parse_valence_force_field(field(kind, reference), "collinear.toml", ammonia);
+    const std::string message = error_message([&] { potential->energy(ammonia.coordinates()); });
+    EXPECT_NE(message.find("coordinate 'q'"), std::string::npos) << message;
+    EXPECT_NE(message.find("exactly collinear"), std::string::npos) << message;
+  }
+  // Pyramid height: its base atoms 2, 3, 4 on one line.
+  ammonia.atoms[3].position_angstrom = Eigen::Vector3d(2.0, 0.0, 0.0);
+  ammonia.atoms[0].position_angstrom = Eigen::Vector3d(0.0, 0.5, 0.0);
+  const auto pyramid = parse_valence_force_field(field("pyramid_height", "0.3"), "collinear.toml", ammonia);
+  const std::string message = error_message([&] { pyramid->energy(ammonia.coordinates()); });
+  EXPECT_NE(message.find("exactly collinear"), std::string::npos) << message;
+}
+
 // ---- Errors --------------------------------------------------------------------------------------
 
 TEST(ValenceForceFieldErrors, MissingFileNamesThePath) {
@@ -596,6 +741,79 @@ TEST(ValenceForceFieldErrors, UnknownUnitAndMissingSourceAreRejected) {
               parse_valence_force_field(no_source, "source.toml", water_molecule());
             }).find("missing key 'source'"),
             std::string::npos);
+}
+
+TEST(ValenceForceFieldErrors, MagnitudesBeyondTheDocumentedLimitsAreRefused) {
+  // Limits of docs/valence-force-field.md (file_limits.hpp): a quartic constant or a Morse
+  // depth of 1e300 drove atoms to 1e138 Å; each is refused naming the key and the limit.
+  const std::string quartic = error_message([] {
+    parse_valence_force_field(
+        water_file("[[terms]]\nkind = \"polynomial\"\ncoordinate = \"r1\"\nf4 = 1e300\n"), "quartic.toml",
+        water_molecule());
+  });
+  EXPECT_NE(quartic.find("key 'f4'"), std::string::npos) << quartic;
+  EXPECT_NE(quartic.find("1e+06"), std::string::npos) << quartic;
+  const std::string morse = error_message([] {
+    parse_valence_force_field(
+        water_file("[[terms]]\nkind = \"morse\"\ncoordinate = \"r1\"\ndepth = 1e300\nwidth = 1e300\n"),
+        "morse.toml", water_molecule());
+  });
+  EXPECT_NE(morse.find("key 'depth'"), std::string::npos) << morse;
+  const std::string width = error_message([] {
+    parse_valence_force_field(
+        water_file("[[terms]]\nkind = \"morse\"\ncoordinate = \"r1\"\ndepth = 0.8\nwidth = 25.0\n"),
+        "width.toml", water_molecule());
+  });
+  EXPECT_NE(width.find("key 'width'"), std::string::npos) << width;
+  const std::string coupling = error_message([] {
+    parse_valence_force_field(
+        water_file("[[terms]]\nkind = \"coupling\"\ncoordinates = [\"r1\", \"a\"]\nf = -1e9\n"),
+        "coupling.toml", water_molecule());
+  });
+  EXPECT_NE(coupling.find("key 'f'"), std::string::npos) << coupling;
+  const std::string barrier = error_message([] {
+    parse_valence_force_field(
+        water_file("[[terms]]\nkind = \"cosine_series\"\ncoordinate = \"a\"\nbarriers = [1.0, 1e5]\n"),
+        "barrier.toml", water_molecule());
+  });
+  EXPECT_NE(barrier.find("key 'barriers'"), std::string::npos) << barrier;
+  // References outside what the coordinate can take.
+  std::string angle = water_file(one_term);
+  angle.replace(angle.find("reference = 104.52"), 18, "reference = 190.0");
+  const std::string angle_message =
+      error_message([&] { parse_valence_force_field(angle, "angle.toml", water_molecule()); });
+  EXPECT_NE(angle_message.find("outside the range 0 to 180 degree"), std::string::npos) << angle_message;
+  std::string far = water_file(one_term);
+  far.replace(far.find("reference = 0.9572"), 18, "reference = 1e200");
+  EXPECT_NE(error_message([&] {
+              parse_valence_force_field(far, "far.toml", water_molecule());
+            }).find("outside the range"),
+            std::string::npos);
+  // The largest real constants pass: C≡O's f_rr ≈ 19 aJ/Å² and a Morse stretch of CO.
+  EXPECT_NO_THROW(parse_valence_force_field(
+      water_file("[[terms]]\nkind = \"polynomial\"\ncoordinate = \"r1\"\nf2 = 19.0\nf4 = 150.0\n"
+                 "[[terms]]\nkind = \"morse\"\ncoordinate = \"r2\"\ndepth = 1.8\nwidth = 2.3\n"),
+      "real.toml", water_molecule()));
+}
+
+TEST(ValenceForceFieldErrors, EmptyCoordinateOrTermListsAreRefused) {
+  // A field without terms is flat (every frequency zero): code and document both require
+  // at least one [[coordinates]] and one [[terms]] entry.
+  // Top-level keys go before the first table; water_file's body comes after its tables.
+  std::string terms_empty = water_file("");
+  terms_empty.insert(terms_empty.find("[units]"), "terms = []\n");
+  const std::string no_terms =
+      error_message([&] { parse_valence_force_field(terms_empty, "empty.toml", water_molecule()); });
+  EXPECT_NE(no_terms.find("'terms' is empty"), std::string::npos) << no_terms;
+  const std::string no_coordinates = error_message([] {
+    parse_valence_force_field(
+        "format_version = 1\ntitle = \"empty\"\nelements = [\"O\", \"H\", \"H\"]\ncoordinates = []\nterms = "
+        "[]\n"
+        "[units]\nenergy = \"aJ\"\nlength = \"angstrom\"\nangle = \"degree\"\n"
+        "[source]\ncitation = \"test\"\nstatus = \"from memory\"\n",
+        "empty.toml", water_molecule());
+  });
+  EXPECT_NE(no_coordinates.find("'coordinates' is empty"), std::string::npos) << no_coordinates;
 }
 
 TEST(ValenceForceField, EveryShippedFileNamesItsSource) {
