@@ -45,7 +45,8 @@ void add_molecule_arguments(CLI::App& command, MoleculeArguments& arguments) {
       ->required();
   command
       .add_option("-p,--potential", arguments.potential,
-                  "force field name (MMFF94, MMFF94s, UFF, GAFF, Ghemical) or potential file")
+                  "force field name (MMFF94, MMFF94s, MMFF94-openbabel, MMFF94s-openbabel, UFF, GAFF, "
+                  "Ghemical) or potential file")
       ->capture_default_str();
   command.add_option("-i,--isotope", arguments.isotopes,
                      "N=A: atom N (1-based, as in the file) gets mass number A; repeatable");
