@@ -52,26 +52,32 @@ inline Radial bond_radial(const MmffBondTerm& t, double r) {
 }
 
 // Buffered 14-7 (Halgren II, eq. 2): E = ε A B with A = (1.07 R/(r + 0.07 R))⁷,
-// B = 1.12 R⁷/(r⁷ + 0.12 R⁷) − 2.
-inline Radial vdw_radial(const MmffPairTerm& t, double r) {
+// B = 1.12 R⁷/(r⁷ + 0.12 R⁷) − 2. The second derivative only when asked for.
+template <bool Second = true>
+Radial vdw_radial(const MmffPairTerm& t, double r) {
   const double radius = t.vdw_radius;
-  const double radius7 = std::pow(radius, 7);
-  const double shifted = r + 0.07 * radius;
-  const double ratio = 1.07 * radius / shifted;
+  const double radius7 = t.vdw_radius7;
+  const double inverse_shifted = 1.0 / (r + 0.07 * radius);
+  const double ratio = 1.07 * radius * inverse_shifted;
   const double ratio2 = ratio * ratio;
   const double a = ratio2 * ratio2 * ratio2 * ratio;
   const double r2 = r * r;
-  const double r5 = r2 * r2 * r;
-  const double r6 = r5 * r;
-  const double denominator = r6 * r + 0.12 * radius7;
-  const double b = 1.12 * radius7 / denominator - 2.0;
-  const double a1 = -7.0 * a / shifted;
-  const double a2 = 56.0 * a / (shifted * shifted);
-  const double b1 = -1.12 * radius7 * 7.0 * r6 / (denominator * denominator);
-  const double b2 = -1.12 * radius7 * (42.0 * r5 * denominator - 98.0 * r6 * r6) /
-                    (denominator * denominator * denominator);
+  const double r6 = r2 * r2 * r2;
+  const double inverse_denominator = 1.0 / (r6 * r + 0.12 * radius7);
+  const double attraction = 1.12 * radius7 * inverse_denominator;
+  const double b = attraction - 2.0;
+  const double a1 = -7.0 * a * inverse_shifted;
+  const double b1 = -7.0 * attraction * r6 * inverse_denominator;
   const double e = t.vdw_epsilon;
-  return {e * a * b, e * (a1 * b + a * b1), e * (a2 * b + 2.0 * a1 * b1 + a * b2)};
+  Radial radial{e * a * b, e * (a1 * b + a * b1), 0.0};
+  if constexpr (Second) {
+    // B'' = −1.12 R⁷ (42 r⁵ D − 98 r¹²)/D³ with D = r⁷ + 0.12 R⁷.
+    const double a2 = 56.0 * a * inverse_shifted * inverse_shifted;
+    const double b2 =
+        -attraction * inverse_denominator * (42.0 * r2 * r2 * r - 98.0 * r6 * r6 * inverse_denominator);
+    radial.second = e * (a2 * b + 2.0 * a1 * b1 + a * b2);
+  }
+  return radial;
 }
 
 // Buffered Coulomb (Halgren I, eq. 8): E = q/(r + δ)^n, n = 1 or 2.

@@ -618,6 +618,7 @@ MmffTerms assign_mmff_terms(OBMol& mol, const MmffParameters& parameters,
       term.vdw_radius = 0.5 * (r_aa + r_bb) * (1.0 + 0.2 * (1.0 - std::exp(-12.0 * gamma * gamma)));
       term.vdw_epsilon = epsilon_numerator * (1.0 / std::pow(term.vdw_radius, 6));
     }
+    term.vdw_radius7 = std::pow(term.vdw_radius, 7);
     double qq = electrostatic_kcal_angstrom_per_mol_e2 * a->GetPartialCharge() * b->GetPartialCharge() /
                 options.dielectric_constant;
     if (qq != 0.0 && a->IsOneFour(b)) qq *= 0.75;

@@ -71,6 +71,7 @@ struct MmffOutOfPlaneTerm {
 struct MmffPairTerm {
   int a = 0, b = 0;
   double vdw_radius = 0.0;   // R*_ab, Å
+  double vdw_radius7 = 0.0;  // R*_ab⁷, Å⁷ (kept: a power per evaluation costs more than the rest)
   double vdw_epsilon = 0.0;  // ε_ab, kcal/mol
   // 332.0716 q_a q_b / D, times 0.75 for 1-4 pairs; kcal Å^n/mol.
   double charge_product = 0.0;

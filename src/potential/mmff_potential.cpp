@@ -236,7 +236,7 @@ double MmffPotential::evaluate(const Eigen::VectorXd& coordinates, double* gradi
   for (const auto& t : terms_.pairs) {
     const Vec3<double> d = position(x, t.a) - position(x, t.b);
     const double r = norm(d);
-    const mmff::Radial vdw = mmff::vdw_radial(t, r);
+    const mmff::Radial vdw = mmff::vdw_radial<false>(t, r);
     e.van_der_waals += vdw.energy;
     double first = vdw.first;
     if (t.charge_product != 0.0) {
