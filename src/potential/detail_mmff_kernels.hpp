@@ -51,41 +51,61 @@ inline Radial bond_radial(const MmffBondTerm& t, double r) {
           k * (2.0 + 6.0 * c1 * d + 12.0 * c2 * d * d)};
 }
 
-// Buffered 14-7 (Halgren II, eq. 2): E = ε A B with A = (1.07 R/(r + 0.07 R))⁷,
-// B = 1.12 R⁷/(r⁷ + 0.12 R⁷) − 2. The second derivative only when asked for.
-template <bool Second = true>
-Radial vdw_radial(const MmffPairTerm& t, double r) {
+// One non-bonded pair at distance r: buffered 14-7 (Halgren II, eq. 2),
+// E = ε A B with A = (1.07 R/(r + 0.07 R))⁷, B = 1.12 R⁷/(r⁷ + 0.12 R⁷) − 2, plus buffered
+// Coulomb (Halgren I, eq. 8), E = q/(r + δ)^n, n = 1 or 2. Both energies, the summed first
+// derivative and, when Second, the summed second derivative.
+struct PairRadial {
+  double vdw_energy = 0.0;
+  double coulomb_energy = 0.0;
+  double first = 0.0;
+  double second = 0.0;
+  double inverse_r = 0.0;
+};
+
+template <bool Second>
+PairRadial pair_radial(const MmffPairTerm& t, double r, bool distance_dependent) {
   const double radius = t.vdw_radius;
   const double radius7 = t.vdw_radius7;
-  const double inverse_shifted = 1.0 / (r + 0.07 * radius);
+  const double shifted = r + 0.07 * radius;
+  const double r2 = r * r;
+  const double r6 = r2 * r2 * r2;
+  const double denominator = r6 * r + 0.12 * radius7;
+  const double inverse_shifted = 1.0 / shifted;
+  const double inverse_denominator = 1.0 / denominator;
+  PairRadial p;
+  p.inverse_r = 1.0 / r;
+
   const double ratio = 1.07 * radius * inverse_shifted;
   const double ratio2 = ratio * ratio;
   const double a = ratio2 * ratio2 * ratio2 * ratio;
-  const double r2 = r * r;
-  const double r6 = r2 * r2 * r2;
-  const double inverse_denominator = 1.0 / (r6 * r + 0.12 * radius7);
   const double attraction = 1.12 * radius7 * inverse_denominator;
   const double b = attraction - 2.0;
   const double a1 = -7.0 * a * inverse_shifted;
   const double b1 = -7.0 * attraction * r6 * inverse_denominator;
   const double e = t.vdw_epsilon;
-  Radial radial{e * a * b, e * (a1 * b + a * b1), 0.0};
+  p.vdw_energy = e * a * b;
+  p.first = e * (a1 * b + a * b1);
   if constexpr (Second) {
     // B'' = −1.12 R⁷ (42 r⁵ D − 98 r¹²)/D³ with D = r⁷ + 0.12 R⁷.
     const double a2 = 56.0 * a * inverse_shifted * inverse_shifted;
     const double b2 =
         -attraction * inverse_denominator * (42.0 * r2 * r2 * r - 98.0 * r6 * r6 * inverse_denominator);
-    radial.second = e * (a2 * b + 2.0 * a1 * b1 + a * b2);
+    p.second = e * (a2 * b + 2.0 * a1 * b1 + a * b2);
   }
-  return radial;
-}
-
-// Buffered Coulomb (Halgren I, eq. 8): E = q/(r + δ)^n, n = 1 or 2.
-inline Radial coulomb_radial(const MmffPairTerm& t, double r, bool distance_dependent) {
-  const double s = 1.0 / (r + coulomb_buffer_angstrom);
   const double q = t.charge_product;
-  if (!distance_dependent) return {q * s, -q * s * s, 2.0 * q * s * s * s};
-  return {q * s * s, -2.0 * q * s * s * s, 6.0 * q * s * s * s * s};
+  if (q == 0.0) return p;  // many pairs (hydrogens on carbon, carbons) carry no charge product
+  const double s = 1.0 / (r + coulomb_buffer_angstrom);
+  if (!distance_dependent) {
+    p.coulomb_energy = q * s;
+    p.first -= q * s * s;
+    if constexpr (Second) p.second += 2.0 * q * s * s * s;
+  } else {
+    p.coulomb_energy = q * s * s;
+    p.first -= 2.0 * q * s * s * s;
+    if constexpr (Second) p.second += 6.0 * q * s * s * s * s;
+  }
+  return p;
 }
 
 // Bend (and stretch–bend) about centre p[1] with ends p[0], p[2]. Adds dE/dp to g when

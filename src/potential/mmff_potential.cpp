@@ -6,6 +6,7 @@
 
 #include <array>
 #include <cctype>
+#include <cmath>
 
 #include "core/error.hpp"
 #include "molecule/openbabel_bridge.hpp"
@@ -235,18 +236,13 @@ double MmffPotential::evaluate(const Eigen::VectorXd& coordinates, double* gradi
   const bool distance_dependent = options_.distance_dependent_dielectric;
   for (const auto& t : terms_.pairs) {
     const Vec3<double> d = position(x, t.a) - position(x, t.b);
-    const double r = norm(d);
-    const mmff::Radial vdw = mmff::vdw_radial<false>(t, r);
-    e.van_der_waals += vdw.energy;
-    double first = vdw.first;
-    if (t.charge_product != 0.0) {
-      const mmff::Radial coulomb = mmff::coulomb_radial(t, r, distance_dependent);
-      e.electrostatic += coulomb.energy;
-      first += coulomb.first;
-    }
+    const mmff::PairRadial p = mmff::pair_radial<false>(t, std::sqrt(dot(d, d)), distance_dependent);
+    e.van_der_waals += p.vdw_energy;
+    e.electrostatic += p.coulomb_energy;
     if constexpr (Gradient) {
-      add(gradient, t.a, scaled(d, first / r));
-      add(gradient, t.b, scaled(d, -first / r));
+      const double factor = p.first * p.inverse_r;
+      add(gradient, t.a, scaled(d, factor));
+      add(gradient, t.b, scaled(d, -factor));
     }
   }
   if (energies) *energies = e;
@@ -297,13 +293,8 @@ Eigen::MatrixXd MmffPotential::compute_hessian(const Eigen::VectorXd& coordinate
   for (const auto& t : terms_.pairs) {
     const Vec3<double> d = position(x, t.a) - position(x, t.b);
     const double r = norm(d);
-    mmff::Radial radial = mmff::vdw_radial(t, r);
-    if (t.charge_product != 0.0) {
-      const mmff::Radial coulomb = mmff::coulomb_radial(t, r, distance_dependent);
-      radial.first += coulomb.first;
-      radial.second += coulomb.second;
-    }
-    add_radial_hessian(hessian, t.a, t.b, radial_block(d, r, radial.first, radial.second));
+    const mmff::PairRadial p = mmff::pair_radial<true>(t, r, distance_dependent);
+    add_radial_hessian(hessian, t.a, t.b, radial_block(d, r, p.first, p.second));
   }
   // The dual-number rows are exact derivatives of the gradient, symmetric up to rounding.
   const Eigen::MatrixXd symmetric = 0.5 * (hessian + hessian.transpose());
@@ -338,13 +329,8 @@ Eigen::VectorXd MmffPotential::compute_hessian_vector_product(const Eigen::Vecto
   for (const auto& t : terms_.pairs) {
     const Vec3<double> d = position(x, t.a) - position(x, t.b);
     const double r = norm(d);
-    mmff::Radial radial = mmff::vdw_radial(t, r);
-    if (t.charge_product != 0.0) {
-      const mmff::Radial coulomb = mmff::coulomb_radial(t, r, distance_dependent);
-      radial.first += coulomb.first;
-      radial.second += coulomb.second;
-    }
-    add_radial_product(t.a, t.b, d, r, radial.first, radial.second, v, out);
+    const mmff::PairRadial p = mmff::pair_radial<true>(t, r, distance_dependent);
+    add_radial_product(t.a, t.b, d, r, p.first, p.second, v, out);
   }
   return product;
 }
