@@ -537,6 +537,18 @@ TEST(MmffPotential, UntypableAtomsAndUnknownVariantsAreClearErrors) {
     EXPECT_NE(message.find("no atom type for atom 1"), std::string::npos) << message;
     EXPECT_NE(message.find("S with 6 bonded neighbours"), std::string::npos) << message;
   }
+  // F–F has neither a bond line in mmffbond.par nor an empirical-rule reference in
+  // mmffbndk.par (Open Babel's copy of the empirical rule's reference pairs): the
+  // message names both atoms with their types and the missing term.
+  try {
+    MmffPotential potential("MMFF94", from_smiles("FF"));
+    FAIL() << "MMFF94 has no F-F bond parameter";
+  } catch (const Error& error) {
+    const std::string message = error.what();
+    EXPECT_NE(message.find("no bond-stretch parameter for atoms 1 (F, type 11) – 2 (F, type 11)"),
+              std::string::npos)
+        << message;
+  }
   EXPECT_THROW(MmffPotential("MMFF95", sulfur_hexafluoride), Error);
 }
 
