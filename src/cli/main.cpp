@@ -54,7 +54,8 @@ void add_molecule_arguments(CLI::App& command, MoleculeArguments& arguments) {
                   "smiles:STRING, or a Taylor-expansion potential file (.toml) with its geometry")
       ->required();
   command.add_option("-p,--potential", arguments.potential,
-                     std::string("force field name (MMFF94, MMFF94s, UFF, GAFF, Ghemical) or potential file; "
+                     std::string("force field name (MMFF94, MMFF94s, MMFF94-openbabel, MMFF94s-openbabel, "
+                                 "UFF, GAFF, Ghemical) or potential file; "
                                  "default ") +
                          default_force_field + ", or the MOLECULE file when it is a Taylor expansion");
   command.add_option("--isotope", arguments.isotopes,

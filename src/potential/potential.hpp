@@ -17,9 +17,10 @@
 namespace overtone {
 
 struct EvaluationCounts {
-  std::size_t energies = 0;   // energy-only evaluations
-  std::size_t gradients = 0;  // energy+gradient evaluations
-  std::size_t hessians = 0;   // analytic Hessian evaluations
+  std::size_t energies = 0;                 // energy-only evaluations
+  std::size_t gradients = 0;                // energy+gradient evaluations
+  std::size_t hessians = 0;                 // analytic Hessian evaluations
+  std::size_t hessian_vector_products = 0;  // analytic Hessian–vector products
 };
 
 class Potential {
@@ -35,6 +36,7 @@ class Potential {
   // feature of the surface met while evaluating it (such as a cusp). The list may grow
   // as evaluations find something; empty by default.
   virtual std::vector<std::string> warnings() const { return {}; }
+  virtual bool has_analytic_hessian_vector_product() const { return false; }
 
   double energy(const Eigen::VectorXd& x) const {
     check_size(x);
@@ -55,6 +57,15 @@ class Potential {
     return compute_hessian(x);
   }
 
+  // H(x)·direction without forming H (kcal/mol/Å² times the direction's unit); throws
+  // Error when has_analytic_hessian_vector_product() is false.
+  Eigen::VectorXd hessian_vector_product(const Eigen::VectorXd& x, const Eigen::VectorXd& direction) const {
+    check_size(x);
+    check_size(direction);
+    ++counts_.hessian_vector_products;
+    return compute_hessian_vector_product(x, direction);
+  }
+
   const EvaluationCounts& counts() const { return counts_; }
   void reset_counts() const { counts_ = {}; }
 
@@ -62,6 +73,8 @@ class Potential {
   virtual double compute_energy(const Eigen::VectorXd& x) const = 0;
   virtual double compute_energy_and_gradient(const Eigen::VectorXd& x, Eigen::VectorXd& gradient) const = 0;
   virtual Eigen::MatrixXd compute_hessian(const Eigen::VectorXd& x) const;
+  virtual Eigen::VectorXd compute_hessian_vector_product(const Eigen::VectorXd& x,
+                                                         const Eigen::VectorXd& direction) const;
 
  private:
   void check_size(const Eigen::VectorXd& x) const;
