@@ -121,7 +121,9 @@ TEST(ForceConstants, WaterConstantsForbiddenByC2vVanish) {
   EXPECT_EQ(forbidden, 4u);  // φ113, φ123, φ223, φ333
   for (const auto& e : without.constants.quartic_entries(-1.0)) {
     const int b2 = (e.i == 2) + (e.j == 2) + (e.k == 2) + (e.l == 2);
-    if (b2 % 2 == 1) EXPECT_LT(std::abs(e.value), forbidden_tolerance_cm1);
+    if (b2 % 2 == 1) {
+      EXPECT_LT(std::abs(e.value), forbidden_tolerance_cm1);
+    }
   }
   // −h along the b2 mode is the image of +h under C2; so are the mixed displacements
   // with the b2 mode: 19 − 1 − 2·2 = 14 Hessians evaluated.

@@ -137,7 +137,9 @@ TEST(FamilyTypes, InterpolatedAndDirectVariationalEquationsAgree) {
       EXPECT_EQ(a.points[k].stable, b.points[k].stable);
       some_unstable = some_unstable || !a.points[k].stable;
     }
-    if (family.standing && family.seed.shift_denominator == 2) EXPECT_TRUE(some_unstable);
+    if (family.standing && family.seed.shift_denominator == 2) {
+      EXPECT_TRUE(some_unstable);
+    }
   }
 }
 

@@ -47,9 +47,10 @@ TEST(Analysis, MethaneSpeciesAndExactDegeneracy) {
   EXPECT_EQ(species_by_fundamental(methane), (std::vector<std::string>{"A1", "E", "T2", "T2"}));
   for (const auto& mode : methane.modes) {
     for (const auto& partner : methane.modes)
-      if (partner.degenerate_set == mode.degenerate_set)
+      if (partner.degenerate_set == mode.degenerate_set) {
         EXPECT_NEAR(methane.harmonic.frequencies_cm1[partner.harmonic_index],
                     methane.harmonic.frequencies_cm1[mode.harmonic_index], degeneracy_tolerance_cm1);
+      }
   }
   EXPECT_GT(methane.harmonic.frequencies_cm1[methane.modes[3].harmonic_index],
             methane.harmonic.frequencies_cm1[methane.modes[6].harmonic_index]);  // ν3 above ν4

@@ -60,7 +60,9 @@ TEST(LaterStages, CarbonDioxideFermiDyadSeenByBothStages) {
   for (std::size_t set = 0; set < anharmonic.vpt2.sets.size(); ++set) {
     const int first_mode = anharmonic.vpt2.sets[set].modes.front();
     for (const ModeLabel& mode : co2.analysis.modes)
-      if (mode.harmonic_index == first_mode) EXPECT_EQ(anharmonic.set_numbers[set], mode.fundamental);
+      if (mode.harmonic_index == first_mode) {
+        EXPECT_EQ(anharmonic.set_numbers[set], mode.fundamental);
+      }
   }
   const FamiliesResult families = analyze_families(co2.analysis, *co2.potential, enumeration_only());
   const auto checks = cross_check_resonances(co2.analysis, anharmonic, families);
@@ -124,7 +126,9 @@ TEST(LaterStages, ModeSelectionUsesTheNuNumbersOfTheModesTable) {
   ASSERT_EQ(families.families.size(), 3u);  // one per nondegenerate mode
   for (const FamilyResult& family : families.families) {
     EXPECT_EQ(family.continued, family.type.mode_numbers == std::vector<int>{2});
-    if (family.continued) EXPECT_EQ(family.backbone.status, ContinuationStatus::reached_energy_max);
+    if (family.continued) {
+      EXPECT_EQ(family.backbone.status, ContinuationStatus::reached_energy_max);
+    }
   }
 }
 

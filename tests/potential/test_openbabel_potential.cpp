@@ -247,8 +247,9 @@ TEST(OpenBabelPotential, GaffAndGhemicalKeepTheDifferencedOutOfPlaneGradient) {
     SCOPED_TRACE(name);
     const OpenBabelPotential potential(name, molecule);
     EXPECT_FALSE(potential.out_of_plane_is_analytic());
-    if (potential.out_of_plane_atom_count() > 0)
+    if (potential.out_of_plane_atom_count() > 0) {
       EXPECT_NE(potential.out_of_plane_gradient_note().find("no fitted model"), std::string::npos);
+    }
   }
 }
 
