@@ -726,7 +726,8 @@ Candidate realize(const Geometry& geometry, const std::vector<FittedOperation>& 
     }
     for (auto& p : c.symmetric_in_symmetry_frame) p /= order;
     Eigen::Matrix3d covariance = Eigen::Matrix3d::Zero();
-    for (int i = 0; i < n; ++i) covariance += c.symmetric_in_symmetry_frame[i] * geometry.points[i].transpose();
+    for (int i = 0; i < n; ++i)
+      covariance += c.symmetric_in_symmetry_frame[i] * geometry.points[i].transpose();
     q = detail::orthogonal_procrustes(covariance, 1);
   }
   c.symmetry_from_file = q;
@@ -769,9 +770,9 @@ Candidate realize_linear(const Geometry& geometry, const Eigen::Vector3d& axis, 
     c.symmetric_in_symmetry_frame[i] = Eigen::Vector3d(0, 0, z);
   }
   for (int i = 0; i < n; ++i)
-    c.deviation =
-        std::max(c.deviation,
-                 (c.symmetry_from_file.transpose() * c.symmetric_in_symmetry_frame[i] - geometry.points[i]).norm());
+    c.deviation = std::max(
+        c.deviation,
+        (c.symmetry_from_file.transpose() * c.symmetric_in_symmetry_frame[i] - geometry.points[i]).norm());
   return c;
 }
 

@@ -17,7 +17,8 @@ namespace {
 // The file each input is written to; removed when the fuzzer exits normally.
 struct InputFile {
   std::string path =
-      (std::filesystem::temp_directory_path() / ("overtone-fuzz-" + std::to_string(getpid()) + ".xyz")).string();
+      (std::filesystem::temp_directory_path() / ("overtone-fuzz-" + std::to_string(getpid()) + ".xyz"))
+          .string();
   ~InputFile() {
     std::error_code ignored;
     std::filesystem::remove(path, ignored);

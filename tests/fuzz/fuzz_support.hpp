@@ -31,8 +31,9 @@ inline Molecule molecule_on_helix(const std::vector<int>& atomic_numbers) {
     atom.atomic_number = atomic_numbers[i];
     atom.mass_da = OpenBabel::OBElements::GetMass(static_cast<unsigned>(atomic_numbers[i]));
     const double angle = turn_radian * static_cast<double>(i);
-    atom.position_angstrom = Eigen::Vector3d(radius_angstrom * std::cos(angle), radius_angstrom * std::sin(angle),
-                                             rise_angstrom * static_cast<double>(i));
+    atom.position_angstrom =
+        Eigen::Vector3d(radius_angstrom * std::cos(angle), radius_angstrom * std::sin(angle),
+                        rise_angstrom * static_cast<double>(i));
     molecule.atoms.push_back(atom);
   }
   return molecule;
