@@ -23,6 +23,9 @@ struct MinimizeOptions {
   double newton_max_atom_step_angstrom = 0.1;  // trust radius: largest move of any atom per step
   // Hessian for Newton steps: analytic where available, else this central-difference step.
   double hessian_step_angstrom = 0.005;
+  // Negative curvature seen with that step is confirmed with this finer one (the
+  // harmonic stage's default) before a saddle point is left or reported.
+  double curvature_check_step_angstrom = 5e-4;
   // Curvature (kcal/mol/Å²) below which a direction counts as negative at the end.
   double negative_curvature_threshold = -1e-3;
   // On reaching a saddle point, step downhill along the most negative curvature

@@ -18,6 +18,13 @@ namespace overtone {
 
 namespace {
 
+// A retried symmetry detection accepts at most this fraction of the largest distance the
+// rejected symmetrization moved an atom, so that the rejected group cannot be found again.
+constexpr double symmetry_retry_tolerance_fraction = 0.5;
+// Symmetrization that moved atoms by less than this (Å) only removed the optimizer's
+// residual noise and cannot have carried a minimum onto a saddle.
+constexpr double smallest_retry_tolerance_angstrom = 1e-6;
+
 double seconds_since(std::chrono::steady_clock::time_point start) {
   return std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count();
 }
@@ -267,27 +274,53 @@ AnalysisResult analyze_molecule(const Molecule& molecule, const Potential& poten
   }
   result.timings.optimize_s = seconds_since(clock);
 
-  clock = std::chrono::steady_clock::now();
-  if (options.use_symmetry) {
-    result.point_group = detect_point_group(result.molecule, options.symmetry);
-    result.symmetry_used = true;
-    result.molecule.set_coordinates(result.point_group.symmetrized_coordinates_angstrom);
+  // Symmetrizing moves a minimum that lies within the tolerance of a more symmetric
+  // saddle point (a shallow double well) onto that saddle. When the optimized structure
+  // is a minimum but its symmetrized copy has an imaginary frequency, the group is
+  // detected again with a tolerance below the distance the symmetrization moved atoms,
+  // which finds the lower group the minimum really has.
+  const Eigen::VectorXd optimized_coordinates = result.molecule.coordinates();
+  SymmetryOptions symmetry_options = options.symmetry;
+  for (;;) {
+    clock = std::chrono::steady_clock::now();
+    result.molecule.set_coordinates(optimized_coordinates);
+    if (options.use_symmetry) {
+      result.point_group = detect_point_group(result.molecule, symmetry_options);
+      result.symmetry_used = true;
+      result.molecule.set_coordinates(result.point_group.symmetrized_coordinates_angstrom);
+    }
+    result.timings.symmetry_s += seconds_since(clock);
+
+    clock = std::chrono::steady_clock::now();
+    const Eigen::VectorXd x = result.molecule.coordinates();
+    result.hessian = compute_hessian(potential, x, options.hessian);
+    result.timings.hessian_s += seconds_since(clock);
+
+    clock = std::chrono::steady_clock::now();
+    if (result.symmetry_used)
+      result.hessian.hessian = symmetrize_cartesian_hessian(result.hessian.hessian, result.point_group);
+    result.timings.symmetry_s += seconds_since(clock);
+
+    clock = std::chrono::steady_clock::now();
+    result.harmonic =
+        analyze_normal_modes(x, result.molecule.masses(), result.hessian.hessian, options.modes);
+    result.timings.normal_modes_s += seconds_since(clock);
+
+    const bool minimum_before_symmetrizing = result.optimized && result.optimization.converged();
+    const bool imaginary = result.harmonic.mode_count() > 0 &&
+                           result.harmonic.frequencies_cm1.minCoeff() < -options.modes.imaginary_warning_cm1;
+    const double moved = result.symmetry_used ? result.point_group.max_deviation_angstrom : 0.0;
+    const double lower_tolerance = moved * symmetry_retry_tolerance_fraction;
+    if (!result.symmetry_used || !minimum_before_symmetrizing || !imaginary ||
+        lower_tolerance < smallest_retry_tolerance_angstrom || result.point_group.group.order() == 1)
+      break;
+    result.warnings.push_back(fmt::format(
+        "symmetrizing the optimized minimum to {} moved atoms by {:.2g} Å onto a saddle point (imaginary "
+        "frequency {:.1f}i cm-1); the point group was detected again with tolerance {:.2g} Å",
+        result.point_group.group.name, moved, std::abs(result.harmonic.frequencies_cm1.minCoeff()),
+        lower_tolerance));
+    symmetry_options.tolerance_angstrom = lower_tolerance;
   }
-  result.timings.symmetry_s += seconds_since(clock);
-
-  clock = std::chrono::steady_clock::now();
-  const Eigen::VectorXd x = result.molecule.coordinates();
-  result.hessian = compute_hessian(potential, x, options.hessian);
-  result.timings.hessian_s = seconds_since(clock);
-
-  clock = std::chrono::steady_clock::now();
-  if (result.symmetry_used)
-    result.hessian.hessian = symmetrize_cartesian_hessian(result.hessian.hessian, result.point_group);
-  result.timings.symmetry_s += seconds_since(clock);
-
-  clock = std::chrono::steady_clock::now();
-  result.harmonic = analyze_normal_modes(x, result.molecule.masses(), result.hessian.hessian, options.modes);
-  result.timings.normal_modes_s = seconds_since(clock);
   for (const auto& warning : result.harmonic.warnings) result.warnings.push_back(warning);
 
   clock = std::chrono::steady_clock::now();

@@ -3,6 +3,7 @@
 #include <gtest/gtest.h>
 
 #include <cmath>
+#include <filesystem>
 #include <string>
 
 #include "core/error.hpp"
@@ -62,6 +63,20 @@ TEST(Minimize, LeavesTheSaddleDownhillWhenAllowed) {
   EXPECT_GE(result.saddle_escapes, 1);
   EXPECT_GT(pyramid_height(result.coordinates_angstrom),
             0.2);  // a real pyramid (≈0.38 Å in NH3, from memory)
+}
+
+TEST(Minimize, NearlyFreeTorsionIsNotTakenForASaddle) {
+  // HOCH2–C≡C–CH2OH: the torsion of the two ends about the C≡C axis has a curvature of
+  // a few 1e-3 kcal/mol/Å², below the truncation error of a 0.005 Å difference step.
+  const std::string path = "/usr/share/chemical-structures/alcohols/but-2-yne-1_4-diol.cml";
+  if (!std::filesystem::exists(path))
+    GTEST_SKIP() << path << " is missing (Debian package chemical-structures-data; tools/setup installs it)";
+  const Molecule molecule = read_molecule(path).molecule;
+  const auto potential = make_potential("MMFF94", molecule);
+  const MinimizeResult result = minimize(*potential, molecule.coordinates());
+  EXPECT_EQ(result.status, MinimizeStatus::converged) << result.message;
+  EXPECT_EQ(result.negative_curvature_directions, 0);
+  EXPECT_EQ(result.saddle_escapes, 0);
 }
 
 TEST(Minimize, NonConvergenceIsReportedNotHidden) {
