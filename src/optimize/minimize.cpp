@@ -4,6 +4,7 @@
 #include <fmt/format.h>
 
 #include <cmath>
+#include <limits>
 #include <stdexcept>
 
 #include "core/error.hpp"
@@ -22,6 +23,8 @@ void check_options(const MinimizeOptions& o) {
   positive(o.newton_max_atom_step_angstrom, "newton_max_atom_step_angstrom");
   positive(o.hessian_step_angstrom, "hessian_step_angstrom");
   positive(o.curvature_check_step_angstrom, "curvature_check_step_angstrom");
+  positive(o.max_energy_per_atom_kcal_mol, "max_energy_per_atom_kcal_mol");
+  positive(o.max_expansion_angstrom, "max_expansion_angstrom");
   if (o.lbfgs_max_iterations < 0 || o.newton_max_steps < 0 || o.lbfgs_memory < 1)
     throw Error(
         "minimize options lbfgs_max_iterations and newton_max_steps must be non-negative and "
@@ -29,6 +32,18 @@ void check_options(const MinimizeOptions& o) {
 }
 
 double rms(const Eigen::VectorXd& g) { return g.norm() / std::sqrt(static_cast<double>(g.size())); }
+
+// Largest distance (Å) of an atom from the centroid of all atoms.
+double extent(const Eigen::VectorXd& x) {
+  const Eigen::Index atoms = x.size() / 3;
+  Eigen::Vector3d centroid = Eigen::Vector3d::Zero();
+  for (Eigen::Index i = 0; i < atoms; ++i) centroid += x.segment<3>(3 * i);
+  centroid /= static_cast<double>(atoms);
+  double largest = 0.0;
+  for (Eigen::Index i = 0; i < atoms; ++i)
+    largest = std::max(largest, (x.segment<3>(3 * i) - centroid).norm());
+  return largest;
+}
 
 double largest_atom_move(const Eigen::VectorXd& step) {
   double largest = 0.0;
@@ -47,6 +62,8 @@ std::string to_string(MinimizeStatus status) {
       return "not converged";
     case MinimizeStatus::saddle_point:
       return "saddle point";
+    case MinimizeStatus::diverged:
+      return "diverged";
   }
   return "unknown";
 }
@@ -190,14 +207,37 @@ MinimizeResult minimize(const Potential& potential, const Eigen::VectorXd& start
   result.coordinates_angstrom = x;
   result.energy_kcal_mol = energy;
   result.rms_gradient = rms(gradient);
-  result.max_gradient = gradient.cwiseAbs().maxCoeff();
+  result.max_gradient = gradient.size() > 0 ? gradient.cwiseAbs().maxCoeff() : 0.0;
   result.negative_curvature_directions = negative_directions;
   const EvaluationCounts& after = potential.counts();
   result.energy_evaluations = after.energies - before.energies;
   result.gradient_evaluations = after.gradients - before.gradients;
   result.hessian_evaluations = after.hessians - before.hessians;
 
-  if (result.rms_gradient > options.rms_gradient_tolerance) {
+  const double atoms = static_cast<double>(n / 3);
+  const double start_extent = extent(start_angstrom);
+  const double end_extent = x.allFinite() ? extent(x) : std::numeric_limits<double>::infinity();
+  const double expansion_limit = 2.0 * start_extent + options.max_expansion_angstrom;
+  if (!std::isfinite(energy) || !gradient.allFinite() || !x.allFinite() ||
+      std::abs(energy) > options.max_energy_per_atom_kcal_mol * atoms || end_extent > expansion_limit) {
+    result.status = MinimizeStatus::diverged;
+    std::string reason;
+    if (!x.allFinite() || end_extent > expansion_limit)
+      reason =
+          fmt::format("an atom ended {:.3g} Å from the centre of the molecule (it started within {:.3g} Å)",
+                      end_extent, start_extent);
+    else if (!std::isfinite(energy) || !gradient.allFinite())
+      reason =
+          fmt::format("the energy ({:.3g} kcal/mol) or the gradient (rms {:.3g} kcal/mol/Å) is not finite",
+                      energy, result.rms_gradient);
+    else
+      reason = fmt::format("the energy reached {:.3g} kcal/mol, beyond {:.0e} kcal/mol per atom", energy,
+                           options.max_energy_per_atom_kcal_mol);
+    result.message = fmt::format(
+        "the optimization diverged: {} after {} L-BFGS iterations and {} Newton steps; the potential is "
+        "absurd (check the magnitudes and units of its constants) or not bound at this structure",
+        reason, result.lbfgs_iterations, result.newton_steps);
+  } else if (result.rms_gradient > options.rms_gradient_tolerance) {
     result.status = MinimizeStatus::not_converged;
     result.message = fmt::format(
         "optimization stopped with rms gradient {:.2e} kcal/mol/Å above the criterion {:.1e} after {} L-BFGS "

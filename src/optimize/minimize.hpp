@@ -33,9 +33,17 @@ struct MinimizeOptions {
   // most max_saddle_escapes times. Symmetric starting structures often stop on one.
   int max_saddle_escapes = 3;
   double saddle_escape_step_angstrom = 0.05;
+  // An optimization has diverged when it ends with a non-finite energy or gradient,
+  // with |energy| above this bound times the atom count (kcal/mol; bond energies are
+  // ~100 kcal/mol, so 1e5 per atom only catches absurd constants or units), or with an
+  // atom farther from the centroid than twice the starting extent plus
+  // max_expansion_angstrom (the structure flew apart).
+  double max_energy_per_atom_kcal_mol = 1e5;
+  double max_expansion_angstrom = 20.0;
 };
 
-enum class MinimizeStatus { converged, not_converged, saddle_point };
+// diverged: the result is meaningless (see MinimizeOptions); stages must not use it.
+enum class MinimizeStatus { converged, not_converged, saddle_point, diverged };
 
 struct MinimizeResult {
   MinimizeStatus status = MinimizeStatus::not_converged;
@@ -53,6 +61,7 @@ struct MinimizeResult {
   std::size_t hessian_evaluations = 0;
   double rms_gradient_tolerance = 0.0;  // the criterion actually used
   bool converged() const { return status == MinimizeStatus::converged; }
+  bool diverged() const { return status == MinimizeStatus::diverged; }
 };
 
 // Throws Error for invalid options or a non-finite energy/gradient at the start.

@@ -268,6 +268,7 @@ AnalysisResult analyze_molecule(const Molecule& molecule, const Potential& poten
   auto clock = std::chrono::steady_clock::now();
   if (options.optimize) {
     result.optimization = minimize(potential, molecule.coordinates(), options.minimize);
+    if (result.optimization.diverged()) throw Error(result.optimization.message);
     result.optimized = true;
     result.molecule.set_coordinates(result.optimization.coordinates_angstrom);
     if (!result.optimization.converged()) result.warnings.push_back(result.optimization.message);

@@ -4,8 +4,10 @@
 
 #include <algorithm>
 #include <cmath>
+#include <fstream>
 #include <numeric>
 #include <random>
+#include <sstream>
 #include <string>
 #include <vector>
 
@@ -219,6 +221,33 @@ TEST(Harmonic, InconsistentInputIsAnError) {
   EXPECT_THROW(
       analyze_normal_modes(Eigen::VectorXd::Zero(6), Eigen::Vector2d(1.0, -1.0), Eigen::MatrixXd::Zero(6, 6)),
       Error);
+}
+
+TEST(Harmonic, AbsurdForceConstantsAreAnErrorNotANumber) {
+  // HCl on its Morse potential, with the well depth raised from 42341.9 cm⁻¹ to 1e300
+  // cm⁻¹: the harmonic wavenumber scales with sqrt(depth), to about 1e151 cm⁻¹.
+  const Molecule molecule = read_molecule(source_dir + "/molecules/hcl.xyz").molecule;
+  std::ifstream in(source_dir + "/potentials/hcl-morse.toml");
+  std::stringstream text;
+  text << in.rdbuf();
+  std::string file = text.str();
+  const std::string depth_line = "depth = 42341.8927";
+  ASSERT_NE(file.find(depth_line), std::string::npos);
+  file.replace(file.find(depth_line), depth_line.size(), "depth = 1e300");
+  const std::string path = ::testing::TempDir() + "hcl-absurd-depth.toml";
+  std::ofstream(path) << file;
+  const auto potential = make_potential(path, molecule);
+  const Eigen::VectorXd x = molecule.coordinates();
+  const Eigen::MatrixXd hessian = compute_hessian(*potential, x).hessian;
+  try {
+    analyze_normal_modes(x, molecule.masses(), hessian);
+    FAIL() << "expected an error for a wavenumber of ~1e151 cm-1";
+  } catch (const Error& error) {
+    EXPECT_NE(std::string(error.what()).find("far above any molecular vibration"), std::string::npos)
+        << error.what();
+  }
+  // Entries whose row sums overflow cannot be diagonalized at all.
+  EXPECT_THROW(analyze_normal_modes(x, molecule.masses(), hessian * 1e160), Error);
 }
 
 }  // namespace

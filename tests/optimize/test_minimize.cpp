@@ -4,6 +4,8 @@
 
 #include <cmath>
 #include <filesystem>
+#include <fstream>
+#include <sstream>
 #include <string>
 
 #include "core/error.hpp"
@@ -98,6 +100,56 @@ TEST(Minimize, InvalidOptionsAreRejected) {
   MinimizeOptions options;
   options.rms_gradient_tolerance = -1.0;
   EXPECT_THROW(minimize(*potential, molecule.coordinates(), options), Error);
+}
+
+// Two atoms pushed apart with energy −c·ln r: there is no minimum, the energy stays
+// moderate far out (−c·ln r), and the gradient c/r decays slowly, so only the distance
+// the atoms travel tells that the optimization ran away.
+class LogarithmicRepulsion : public Potential {
+ public:
+  static constexpr double strength_kcal_mol = 1e3;
+  std::string description() const override { return "logarithmic repulsion"; }
+  std::size_t atom_count() const override { return 2; }
+
+ protected:
+  double compute_energy(const Eigen::VectorXd& x) const override {
+    return -strength_kcal_mol * std::log((x.tail<3>() - x.head<3>()).norm());
+  }
+  double compute_energy_and_gradient(const Eigen::VectorXd& x, Eigen::VectorXd& gradient) const override {
+    const Eigen::Vector3d d = x.tail<3>() - x.head<3>();
+    gradient.head<3>() = strength_kcal_mol * d / d.squaredNorm();
+    gradient.tail<3>() = -strength_kcal_mol * d / d.squaredNorm();
+    return compute_energy(x);
+  }
+};
+
+TEST(Minimize, StructureThatFliesApartHasDiverged) {
+  const LogarithmicRepulsion potential;
+  Eigen::VectorXd start(6);
+  start << 0.0, 0.0, 0.0, 1.0, 0.0, 0.0;
+  const MinimizeResult result = minimize(potential, start);
+  EXPECT_EQ(result.status, MinimizeStatus::diverged) << result.message;
+  EXPECT_NE(result.message.find("from the centre of the molecule"), std::string::npos) << result.message;
+}
+
+TEST(Minimize, AbsurdConstantsGiveADivergedOptimization) {
+  // Water's valence force field with its stretch quartic constant raised from 306 aJ/Å⁴
+  // to 1e300: the energy and the gradient overflow as soon as a bond stretches.
+  const Molecule molecule = load("molecules/water.xyz");
+  std::ifstream in(source_dir + "/potentials/water.toml");
+  std::stringstream text;
+  text << in.rdbuf();
+  std::string file = text.str();
+  for (std::size_t at = file.find("f4 = 306.0"); at != std::string::npos; at = file.find("f4 = 306.0"))
+    file.replace(at, 10, "f4 = 1e300");
+  const std::string path = ::testing::TempDir() + "water-absurd-quartic.toml";
+  std::ofstream(path) << file;
+  const auto potential = make_potential(path, molecule);
+  Eigen::VectorXd start = molecule.coordinates();
+  start[3] += 0.01;  // stretch one bond
+  const MinimizeResult result = minimize(*potential, start);
+  EXPECT_EQ(result.status, MinimizeStatus::diverged) << result.message;
+  EXPECT_FALSE(result.converged());
 }
 
 }  // namespace

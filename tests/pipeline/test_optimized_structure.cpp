@@ -5,8 +5,11 @@
 
 #include <cmath>
 #include <filesystem>
+#include <fstream>
+#include <sstream>
 #include <string>
 
+#include "core/error.hpp"
 #include "molecule/read_molecule.hpp"
 #include "pipeline/analysis.hpp"
 #include "potential/make_potential.hpp"
@@ -130,6 +133,31 @@ TEST(OptimizedStructure, ButynediolFromItsCentrosymmetricStartIsAMinimum) {
   EXPECT_GT(analysis.harmonic.frequencies_cm1.minCoeff(), 0.0);
   // HOCH2–C≡C–CH2OH with its two ends anti: the inversion centre of the start survives.
   EXPECT_EQ(analysis.point_group.group.name, "Ci");
+}
+
+TEST(OptimizedStructure, DivergedOptimizationIsAnErrorNotAResult) {
+  // Water's valence force field with the stretch quartic constant 306 aJ/Å⁴ replaced by
+  // −1e300: the surface has no minimum beyond a tiny stretch and the energy runs to
+  // −1e301 kcal/mol. No frequency computed from there may be reported.
+  const std::string source_dir = OVERTONE_SOURCE_DIR;
+  const Molecule molecule = read_molecule(source_dir + "/molecules/water.xyz").molecule;
+  std::ifstream in(source_dir + "/potentials/water.toml");
+  std::stringstream text;
+  text << in.rdbuf();
+  std::string file = text.str();
+  for (std::size_t at = file.find("f4 = 306.0"); at != std::string::npos; at = file.find("f4 = 306.0"))
+    file.replace(at, 10, "f4 = -1e300");
+  const std::string path = ::testing::TempDir() + "water-unbounded-quartic.toml";
+  std::ofstream(path) << file;
+  const auto potential = make_potential(path, molecule);
+  Molecule stretched = molecule;
+  stretched.atoms[1].position_angstrom.x() += 0.05;
+  try {
+    analyze_molecule(stretched, *potential);
+    FAIL() << "expected an error for a diverged optimization";
+  } catch (const Error& error) {
+    EXPECT_NE(std::string(error.what()).find("the optimization diverged"), std::string::npos) << error.what();
+  }
 }
 
 }  // namespace
