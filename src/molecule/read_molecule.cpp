@@ -66,17 +66,7 @@ void build_three_dimensional(OpenBabel::OBMol& mol, const std::string& what,
   OpenBabel::OBBuilder builder;
   if (!builder.Build(mol)) throw Error("open babel could not build a 3-d structure from " + what);
   mol.SetDimension(3);
-  // The builder can leave angles at exactly 180° where they do not belong (O–P–C in a
-  // phosphonate) and puts sp centres at exactly 180°, where an angle's derivative is
-  // 0/0. A small displacement of every atom, fixed so that runs repeat, moves the
-  // structure off those points; the optimizations that follow remove it.
-  constexpr double builder_shake_angstrom = 0.01;
-  int coordinate = 0;
-  FOR_ATOMS_OF_MOL(atom, mol) {
-    Eigen::Vector3d shift;
-    for (int k = 0; k < 3; ++k) shift[k] = builder_shake_angstrom * std::sin(12.9898 * ++coordinate);
-    atom->SetVector(atom->GetX() + shift.x(), atom->GetY() + shift.y(), atom->GetZ() + shift.z());
-  }
+  shake_off_exact_angles(mol);
   // The builder joins fragments without looking at clashes (atoms 0.33 Å apart in 7 of
   // the 200 NCI records); 100 conjugate-gradient steps separate them and leave the rest
   // to the optimizer (measured on those records: 100 steps give the same outcomes as

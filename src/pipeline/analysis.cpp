@@ -7,12 +7,15 @@
 #include <cmath>
 #include <map>
 #include <numeric>
+#include <optional>
 #include <vector>
 
 #include "anharmonic/amplitude_scan.hpp"
 #include "anharmonic/anharmonic_report.hpp"
 #include "anharmonic/mode_symmetry.hpp"
 #include "core/error.hpp"
+#include "core/units.hpp"
+#include "potential/openbabel_potential.hpp"
 
 namespace overtone {
 
@@ -106,6 +109,39 @@ void require_minimum(const AnalysisResult& analysis, const std::string& stage) {
 double seconds_between(std::chrono::steady_clock::time_point start,
                        std::chrono::steady_clock::time_point end) {
   return std::chrono::duration<double>(end - start).count();
+}
+
+struct RelaxedStart {
+  Eigen::VectorXd coordinates_angstrom;
+  double energy_kcal_mol = 0.0;
+  std::string origin;
+};
+
+// Relaxes every start with L-BFGS alone (its energy at the hand-over gradient lies
+// within ~g²/k of its basin's minimum, far below the margin) and returns the lowest
+// that kept the stereo identity; none when no start relaxed.
+std::optional<RelaxedStart> lowest_relaxed_start(const Molecule& molecule, const Potential& potential,
+                                                 const AnalysisOptions& options,
+                                                 ConformerFindings& findings) {
+  const ConformerStartsResult starts = generate_conformer_starts(molecule, options.conformer_starts);
+  findings.starts = static_cast<int>(starts.starts.size());
+  MinimizeOptions relax = options.minimize;
+  relax.newton_max_steps = 0;
+  relax.max_saddle_escapes = 0;
+  std::optional<RelaxedStart> lowest;
+  for (const ConformerStart& start : starts.starts) {
+    try {
+      const MinimizeResult relaxed = minimize(potential, start.coordinates_angstrom, relax);
+      if (relaxed.diverged() || relaxed.rms_gradient > relax.lbfgs_rms_gradient_target) continue;
+      if (stereo_identity(molecule, relaxed.coordinates_angstrom) != starts.stereo_identity) continue;
+      ++findings.relaxed;
+      if (!lowest || relaxed.energy_kcal_mol < lowest->energy_kcal_mol)
+        lowest = RelaxedStart{relaxed.coordinates_angstrom, relaxed.energy_kcal_mol, start.origin};
+    } catch (const Error&) {
+      // A start the potential cannot evaluate (an exactly linear angle, say) is no conformer.
+    }
+  }
+  return lowest;
 }
 
 }  // namespace
@@ -257,6 +293,51 @@ std::vector<ResonanceCrossCheck> cross_check_resonances(const AnalysisResult& an
   return result;
 }
 
+namespace {
+
+// Runs the quick conformer search after the input was optimized (result.optimization)
+// and, for ConformerSearch::analyse_best, replaces that optimization with one from the
+// lowest structure found.
+void search_conformers(AnalysisResult& result, const Potential& potential, const AnalysisOptions& options) {
+  if (!(options.conformer_energy_margin_kcal_mol >= 0.0))
+    throw Error(fmt::format("analysis option conformer_energy_margin_kcal_mol must be non-negative, got {}",
+                            options.conformer_energy_margin_kcal_mol));
+  ConformerFindings& findings = result.conformers;
+  findings.searched = true;
+  findings.input_minimum_kcal_mol = result.optimization.energy_kcal_mol;
+  findings.best_kcal_mol = findings.input_minimum_kcal_mol;
+  const std::optional<RelaxedStart> lowest =
+      lowest_relaxed_start(result.molecule, potential, options, findings);
+  if (!lowest ||
+      lowest->energy_kcal_mol >= findings.input_minimum_kcal_mol - options.conformer_energy_margin_kcal_mol)
+    return;
+  findings.best_kcal_mol = lowest->energy_kcal_mol;
+  findings.best_origin = lowest->origin;
+  const double gap = findings.input_minimum_kcal_mol - lowest->energy_kcal_mol;
+  if (options.conformers == ConformerSearch::analyse_best) {
+    MinimizeResult best = minimize(potential, lowest->coordinates_angstrom, options.minimize);
+    if (!best.diverged() && best.energy_kcal_mol < findings.input_minimum_kcal_mol) {
+      findings.best_kcal_mol = best.energy_kcal_mol;
+      result.optimization = std::move(best);
+      result.warnings.push_back(fmt::format(
+          "conformer search: analysed the lowest structure found ({}, {} starts), {:.2f} kcal/mol ({:.0f} "
+          "cm-1) below the minimum reached from the input structure",
+          findings.best_origin, findings.starts, findings.input_minimum_kcal_mol - findings.best_kcal_mol,
+          (findings.input_minimum_kcal_mol - findings.best_kcal_mol) * units::cm1_per_kcal_mol));
+      return;
+    }
+  }
+  findings.analysed_lowest_found = false;
+  findings.analysed_above_best_kcal_mol = gap;
+  result.warnings.push_back(
+      fmt::format("the analysed structure is a local minimum: a conformer at least {:.2f} kcal/mol ({:.0f} "
+                  "cm-1) lower was "
+                  "found ({}, one of {} starts); --conformer-search analyses the lowest conformer found",
+                  gap, gap * units::cm1_per_kcal_mol, findings.best_origin, findings.starts));
+}
+
+}  // namespace
+
 AnalysisResult analyze_molecule(const Molecule& molecule, const Potential& potential,
                                 const AnalysisOptions& options) {
   if (molecule.atom_count() != potential.atom_count())
@@ -270,6 +351,9 @@ AnalysisResult analyze_molecule(const Molecule& molecule, const Potential& poten
     result.optimization = minimize(potential, molecule.coordinates(), options.minimize);
     if (result.optimization.diverged()) throw Error(result.optimization.message);
     result.optimized = true;
+    const bool general_force_field = dynamic_cast<const OpenBabelPotential*>(&potential) != nullptr;
+    if (options.conformers != ConformerSearch::off && general_force_field)
+      search_conformers(result, potential, options);
     result.molecule.set_coordinates(result.optimization.coordinates_angstrom);
     if (!result.optimization.converged()) result.warnings.push_back(result.optimization.message);
   }
