@@ -111,6 +111,13 @@ double seconds_between(std::chrono::steady_clock::time_point start,
   return std::chrono::duration<double>(end - start).count();
 }
 
+// A general force field describes every conformation of a molecule; a valence force
+// field or a Taylor expansion describes one well, and far from it its energies mean
+// nothing. Every class of general force field is listed here.
+bool is_general_force_field(const Potential& potential) {
+  return dynamic_cast<const OpenBabelPotential*>(&potential) != nullptr;
+}
+
 struct RelaxedStart {
   Eigen::VectorXd coordinates_angstrom;
   double energy_kcal_mol = 0.0;
@@ -351,8 +358,7 @@ AnalysisResult analyze_molecule(const Molecule& molecule, const Potential& poten
     result.optimization = minimize(potential, molecule.coordinates(), options.minimize);
     if (result.optimization.diverged()) throw Error(result.optimization.message);
     result.optimized = true;
-    const bool general_force_field = dynamic_cast<const OpenBabelPotential*>(&potential) != nullptr;
-    if (options.conformers != ConformerSearch::off && general_force_field)
+    if (options.conformers != ConformerSearch::off && is_general_force_field(potential))
       search_conformers(result, potential, options);
     result.molecule.set_coordinates(result.optimization.coordinates_angstrom);
     if (!result.optimization.converged()) result.warnings.push_back(result.optimization.message);
