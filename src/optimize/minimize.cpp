@@ -25,6 +25,12 @@ void check_options(const MinimizeOptions& o) {
   positive(o.curvature_check_step_angstrom, "curvature_check_step_angstrom");
   positive(o.max_energy_per_atom_kcal_mol, "max_energy_per_atom_kcal_mol");
   positive(o.max_expansion_angstrom, "max_expansion_angstrom");
+  if (o.max_refinement_rounds < 0)
+    throw Error(fmt::format("minimize option max_refinement_rounds must be non-negative, got {}",
+                            o.max_refinement_rounds));
+  if (!(o.refinement_target_factor > 0.0 && o.refinement_target_factor <= 1.0))
+    throw Error(fmt::format("minimize option refinement_target_factor must lie in (0, 1], got {}",
+                            o.refinement_target_factor));
   if (o.lbfgs_max_iterations < 0 || o.newton_max_steps < 0 || o.lbfgs_memory < 1)
     throw Error(
         "minimize options lbfgs_max_iterations and newton_max_steps must be non-negative and "
@@ -87,15 +93,16 @@ MinimizeResult minimize(const Potential& potential, const Eigen::VectorXd& start
   int negative_directions = 0;
   Eigen::VectorXd most_negative_direction;
 
-  for (int attempt = 0;; ++attempt) {
+  double lbfgs_target = options.lbfgs_rms_gradient_target;
+  int refinements = 0;
+  for (;;) {
     // Stage 1: L-BFGS down to the hand-over gradient.
-    if (rms(gradient) > options.lbfgs_rms_gradient_target && options.lbfgs_max_iterations > 0) {
+    if (rms(gradient) > lbfgs_target && options.lbfgs_max_iterations > 0) {
       LBFGSpp::LBFGSParam<double> parameters;
       parameters.m = options.lbfgs_memory;
       // This L-BFGS version stops at |g| < ε·max(1, |x|); scale ε so that the test is on
       // the rms gradient at the starting |x| (Newton steps own the final criterion).
-      parameters.epsilon =
-          options.lbfgs_rms_gradient_target * std::sqrt(static_cast<double>(n)) / std::max(1.0, x.norm());
+      parameters.epsilon = lbfgs_target * std::sqrt(static_cast<double>(n)) / std::max(1.0, x.norm());
       parameters.max_iterations = options.lbfgs_max_iterations;
       parameters.max_linesearch = 60;
       LBFGSpp::LBFGSSolver<double> solver(parameters);
@@ -168,7 +175,7 @@ MinimizeResult minimize(const Potential& potential, const Eigen::VectorXd& start
       }
       if (rms(gradient) <= options.rms_gradient_tolerance) break;  // curvature now known at the final point
       // Negative curvature: leaving downhill along it beats Newton steps on |λ|.
-      if (negative_directions > 0 && attempt < options.max_saddle_escapes) break;
+      if (negative_directions > 0 && result.saddle_escapes < options.max_saddle_escapes) break;
       const double move = largest_atom_move(newton_step);
       if (move > options.newton_max_atom_step_angstrom)
         newton_step *= options.newton_max_atom_step_angstrom / move;
@@ -192,7 +199,18 @@ MinimizeResult minimize(const Potential& potential, const Eigen::VectorXd& start
       if (!accepted) break;
     }
 
-    if (negative_directions == 0 || attempt >= options.max_saddle_escapes) break;
+    // Newton steps are straight lines in Cartesian space: along a nearly free torsion
+    // (a methyl group turning about a C≡C axis) a step long enough to matter also
+    // stretches the bonds it turns, so they stall. L-BFGS, with a tighter hand-over
+    // gradient, follows such a valley; then Newton steps finish.
+    if (negative_directions == 0 && rms(gradient) > options.rms_gradient_tolerance &&
+        refinements < options.max_refinement_rounds && options.lbfgs_max_iterations > 0) {
+      ++refinements;
+      lbfgs_target =
+          std::max(options.rms_gradient_tolerance, lbfgs_target * options.refinement_target_factor);
+      continue;
+    }
+    if (negative_directions == 0 || result.saddle_escapes >= options.max_saddle_escapes) break;
     // Leave the saddle (or the region of negative curvature) downhill along the most
     // negative curvature direction, then minimize again.
     ++result.saddle_escapes;

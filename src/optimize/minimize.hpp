@@ -20,6 +20,11 @@ struct MinimizeOptions {
   int lbfgs_max_iterations = 5000;
   int lbfgs_memory = 8;  // number of correction pairs
   int newton_max_steps = 12;
+  // When the Newton steps stop short of the criterion, L-BFGS runs again with its
+  // hand-over gradient multiplied by refinement_target_factor, at most
+  // max_refinement_rounds times.
+  int max_refinement_rounds = 2;
+  double refinement_target_factor = 1e-2;
   double newton_max_atom_step_angstrom = 0.1;  // trust radius: largest move of any atom per step
   // Hessian for Newton steps: analytic where available, else this central-difference step.
   double hessian_step_angstrom = 0.005;

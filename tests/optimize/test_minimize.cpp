@@ -81,6 +81,22 @@ TEST(Minimize, NearlyFreeTorsionIsNotTakenForASaddle) {
   EXPECT_EQ(result.saddle_escapes, 0);
 }
 
+TEST(Minimize, LbfgsTakesOverAgainWhereNewtonStepsStall) {
+  // Without Newton steps, L-BFGS alone must carry the optimization to the criterion in
+  // its refinement rounds (hand-over gradient 1e-3, then 1e-5, then the criterion).
+  const Molecule molecule = load("tests/data/formats/acetaldehyde.xyz");
+  const auto potential = make_potential("MMFF94", molecule);
+  Eigen::VectorXd start = molecule.coordinates();
+  for (Eigen::Index k = 0; k < start.size(); ++k) start[k] += 0.05 * std::cos(2.3 * static_cast<double>(k));
+  MinimizeOptions options;
+  options.newton_max_steps = 0;
+  const MinimizeResult refined = minimize(*potential, start, options);
+  EXPECT_TRUE(refined.converged()) << refined.message;
+  options.max_refinement_rounds = 0;
+  const MinimizeResult stalled = minimize(*potential, start, options);
+  EXPECT_EQ(stalled.status, MinimizeStatus::not_converged) << stalled.message;
+}
+
 TEST(Minimize, NonConvergenceIsReportedNotHidden) {
   const Molecule molecule = load("tests/data/formats/acetaldehyde.xyz");
   const auto potential = make_potential("MMFF94", molecule);
