@@ -151,7 +151,12 @@ HarmonicResult analyze_normal_modes(const Eigen::VectorXd& coordinates_angstrom,
   if (!(options.linearity_tolerance > 0.0 && options.linearity_tolerance < 1.0))
     throw Error(fmt::format("normal-mode option linearity_tolerance must lie in (0, 1), got {}",
                             options.linearity_tolerance));
+  if (!(options.max_wavenumber_cm1 > 0.0))
+    throw Error(fmt::format("normal-mode option max_wavenumber_cm1 must be positive, got {}",
+                            options.max_wavenumber_cm1));
   require_finite(cartesian_hessian, "the hessian");
+  if (!coordinates_angstrom.allFinite())
+    throw Error("the geometry contains non-finite coordinates (nan or inf)");
 
   HarmonicResult result;
   result.coordinates_angstrom = coordinates_angstrom;
@@ -180,14 +185,29 @@ HarmonicResult analyze_normal_modes(const Eigen::VectorXd& coordinates_angstrom,
   projected.noalias() -= f_rigid * rigid.transpose();
   projected.noalias() += rigid * (rigid_block * rigid.transpose());
   const double spectral_bound = mass_weighted.cwiseAbs().rowwise().sum().maxCoeff();  // Gershgorin
+  if (!std::isfinite(spectral_bound))
+    throw Error(
+        "the hessian's entries are too large to diagonalize (their sums overflow): the potential's "
+        "constants are absurd; check their values and units");
   const double lift = 2.0 * spectral_bound + 1.0;
   projected.noalias() += lift * rigid * rigid.transpose();
   projected = 0.5 * (projected + projected.transpose()).eval();
 
-  const Eigen::SelfAdjointEigenSolver<Eigen::MatrixXd> solver(projected);
-  if (solver.info() != Eigen::Success)
-    throw Error("the symmetric eigensolver failed on the mass-weighted hessian");
-  result.eigenvalues = solver.eigenvalues().head(vib);
+  Eigen::SelfAdjointEigenSolver<Eigen::MatrixXd> solver(projected);
+  double eigenvalue_scale = 1.0;
+  if (solver.info() != Eigen::Success) {
+    // The implicit-QR iteration has a fixed iteration budget; scaling the matrix to unit
+    // size changes its shifts, which lets a rare stalled case converge.
+    eigenvalue_scale = projected.cwiseAbs().maxCoeff();
+    if (std::isfinite(eigenvalue_scale) && eigenvalue_scale > 0.0)
+      solver.compute(projected / eigenvalue_scale);
+    if (solver.info() != Eigen::Success)
+      throw Error(fmt::format(
+          "the symmetric eigensolver did not converge on the mass-weighted hessian ({} x {}, largest entry "
+          "{:.3g} kcal/mol/(Å² Da))",
+          projected.rows(), projected.cols(), eigenvalue_scale));
+  }
+  result.eigenvalues = eigenvalue_scale * solver.eigenvalues().head(vib);
   result.mass_weighted_modes = solver.eigenvectors().leftCols(vib);
   result.rigid_body_eigenvalues = Eigen::SelfAdjointEigenSolver<Eigen::MatrixXd>(rigid_block).eigenvalues();
 
@@ -203,6 +223,19 @@ HarmonicResult analyze_normal_modes(const Eigen::VectorXd& coordinates_angstrom,
     result.frequencies_cm1[k] = units::wavenumber_cm1_from_eigenvalue(result.eigenvalues[k]);
     update_mode_properties(result, k, inverse_sqrt_mass);
   }
+  // An absurd potential (constants of 1e300) gives finite but meaningless numbers, or
+  // non-finite ones; neither may reach a report.
+  if (!result.frequencies_cm1.allFinite() || !result.cartesian_displacements.allFinite() ||
+      !result.reduced_masses_da.allFinite() || !result.force_constants_mdyn_per_angstrom.allFinite())
+    throw Error("the normal-mode analysis gave non-finite numbers: the potential's constants are absurd");
+  const double largest = result.frequencies_cm1.cwiseAbs().maxCoeff();
+  if (largest > options.max_wavenumber_cm1)
+    throw Error(fmt::format(
+        "a harmonic wavenumber of {:.3g} cm-1 lies far above any molecular vibration (limit {:.0f} cm-1; the "
+        "highest, the H2 stretch, is near 4400 cm-1): the potential's force constants are absurd; check "
+        "their "
+        "values and units",
+        largest, options.max_wavenumber_cm1));
   const Eigen::Index imaginary = (result.frequencies_cm1.array() < -options.imaginary_warning_cm1).count();
   if (imaginary > 0)
     result.warnings.push_back(fmt::format(

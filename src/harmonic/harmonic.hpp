@@ -51,6 +51,10 @@ struct NormalModeOptions {
   // Frequencies below this magnitude (cm⁻¹) that are negative are imaginary and warned
   // about only if their magnitude exceeds this threshold; smaller ones are noise.
   double imaginary_warning_cm1 = 1.0;
+  // Largest |wavenumber| (cm⁻¹) accepted as a vibration; beyond it the potential is
+  // absurd and Error is thrown. Molecular fundamentals end near 4400 cm⁻¹ (H2, common
+  // practice, no source); 100000 cm⁻¹ is an electronic, not a vibrational, energy.
+  double max_wavenumber_cm1 = 1e5;
 };
 
 struct HarmonicResult {
@@ -74,7 +78,8 @@ struct HarmonicResult {
 };
 
 // Mass-weights, projects and diagonalizes the given Cartesian Hessian at the given
-// geometry. Throws Error on inconsistent sizes or non-positive masses.
+// geometry. Throws Error on inconsistent sizes, non-positive masses, non-finite input,
+// or results that are non-finite or beyond NormalModeOptions::max_wavenumber_cm1.
 HarmonicResult analyze_normal_modes(const Eigen::VectorXd& coordinates_angstrom,
                                     const Eigen::VectorXd& masses_da,
                                     const Eigen::MatrixXd& cartesian_hessian,

@@ -8,6 +8,7 @@
 #include <openbabel/oberror.h>
 #include <openbabel/obiter.h>
 
+#include <cmath>
 #include <sstream>
 
 #include "core/error.hpp"
@@ -15,6 +16,18 @@
 namespace overtone {
 
 void run_openbabel_on_one_thread() { omp_set_num_threads(1); }
+
+void shake_off_exact_angles(OpenBabel::OBMol& mol) {
+  constexpr double shake_angstrom = 0.01;
+  // sin of a large multiple of the coordinate index: a fixed, irregular pattern.
+  constexpr double pattern_frequency = 12.9898;
+  int coordinate = 0;
+  FOR_ATOMS_OF_MOL(atom, mol) {
+    double shift[3];
+    for (double& component : shift) component = shake_angstrom * std::sin(pattern_frequency * ++coordinate);
+    atom->SetVector(atom->GetX() + shift[0], atom->GetY() + shift[1], atom->GetZ() + shift[2]);
+  }
+}
 
 Molecule molecule_from_openbabel(OpenBabel::OBMol& mol) {
   Molecule molecule;

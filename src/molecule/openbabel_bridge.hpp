@@ -20,6 +20,12 @@ Molecule molecule_from_openbabel(OpenBabel::OBMol& mol);
 // depend on mass and Open Babel's typing rules fail on isotope-labelled atoms.
 void openbabel_from_molecule(const Molecule& molecule, OpenBabel::OBMol& mol, bool with_isotopes = false);
 
+// Open Babel's builder can leave angles at exactly 180° where they do not belong (O–P–C
+// in a phosphonate) and puts sp centres at exactly 180°, where an angle's derivative is
+// 0/0. This moves every atom by at most 0.01 Å (a fixed pattern, so that runs repeat);
+// an optimization afterwards removes the displacement.
+void shake_off_exact_angles(OpenBabel::OBMol& mol);
+
 // Open Babel's force fields run OpenMP parallel loops over a few dozen terms. Thread
 // start-up, barriers and (with more threads than free cores, as under a parallel test
 // run) spin-waiting cost far more than the loops (measured: 83% of instructions in

@@ -20,9 +20,17 @@ struct MinimizeOptions {
   int lbfgs_max_iterations = 5000;
   int lbfgs_memory = 8;  // number of correction pairs
   int newton_max_steps = 12;
+  // When the Newton steps stop short of the criterion, L-BFGS runs again with its
+  // hand-over gradient multiplied by refinement_target_factor, at most
+  // max_refinement_rounds times.
+  int max_refinement_rounds = 2;
+  double refinement_target_factor = 1e-2;
   double newton_max_atom_step_angstrom = 0.1;  // trust radius: largest move of any atom per step
   // Hessian for Newton steps: analytic where available, else this central-difference step.
   double hessian_step_angstrom = 0.005;
+  // Negative curvature seen with that step is confirmed with this finer one (the
+  // harmonic stage's default) before a saddle point is left or reported.
+  double curvature_check_step_angstrom = 5e-4;
   // Curvature (kcal/mol/Å²) below which a direction counts as negative at the end.
   double negative_curvature_threshold = -1e-3;
   // On reaching a saddle point, step downhill along the most negative curvature
@@ -30,9 +38,17 @@ struct MinimizeOptions {
   // most max_saddle_escapes times. Symmetric starting structures often stop on one.
   int max_saddle_escapes = 3;
   double saddle_escape_step_angstrom = 0.05;
+  // An optimization has diverged when it ends with a non-finite energy or gradient,
+  // with |energy| above this bound times the atom count (kcal/mol; bond energies are
+  // ~100 kcal/mol, so 1e5 per atom only catches absurd constants or units), or with an
+  // atom farther from the centroid than twice the starting extent plus
+  // max_expansion_angstrom (the structure flew apart).
+  double max_energy_per_atom_kcal_mol = 1e5;
+  double max_expansion_angstrom = 20.0;
 };
 
-enum class MinimizeStatus { converged, not_converged, saddle_point };
+// diverged: the result is meaningless (see MinimizeOptions); stages must not use it.
+enum class MinimizeStatus { converged, not_converged, saddle_point, diverged };
 
 struct MinimizeResult {
   MinimizeStatus status = MinimizeStatus::not_converged;
@@ -50,6 +66,7 @@ struct MinimizeResult {
   std::size_t hessian_evaluations = 0;
   double rms_gradient_tolerance = 0.0;  // the criterion actually used
   bool converged() const { return status == MinimizeStatus::converged; }
+  bool diverged() const { return status == MinimizeStatus::diverged; }
 };
 
 // Throws Error for invalid options or a non-finite energy/gradient at the start.

@@ -7,15 +7,26 @@
 #include <cmath>
 #include <map>
 #include <numeric>
+#include <optional>
 #include <vector>
 
 #include "core/error.hpp"
+#include "core/units.hpp"
 #include "families/amplitude_scan.hpp"
+#include "potential/mmff_potential.hpp"
+#include "potential/openbabel_potential.hpp"
 #include "symmetry/mode_symmetry.hpp"
 
 namespace overtone {
 
 namespace {
+
+// A retried symmetry detection accepts at most this fraction of the largest distance the
+// rejected symmetrization moved an atom, so that the rejected group cannot be found again.
+constexpr double symmetry_retry_tolerance_fraction = 0.5;
+// Symmetrization that moved atoms by less than this (Å) only removed the optimizer's
+// residual noise and cannot have carried a minimum onto a saddle.
+constexpr double smallest_retry_tolerance_angstrom = 1e-6;
 
 double seconds_since(std::chrono::steady_clock::time_point start) {
   return std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count();
@@ -39,6 +50,47 @@ void require_minimum(const AnalysisResult& analysis, const std::string& stage) {
 double seconds_between(std::chrono::steady_clock::time_point start,
                        std::chrono::steady_clock::time_point end) {
   return std::chrono::duration<double>(end - start).count();
+}
+
+// A general force field describes every conformation of a molecule; a valence force
+// field or a Taylor expansion describes one well, and far from it its energies mean
+// nothing. Every class of general force field is listed here.
+bool is_general_force_field(const Potential& potential) {
+  return dynamic_cast<const OpenBabelPotential*>(&potential) != nullptr ||
+         dynamic_cast<const MmffPotential*>(&potential) != nullptr;
+}
+
+struct RelaxedStart {
+  Eigen::VectorXd coordinates_angstrom;
+  double energy_kcal_mol = 0.0;
+  std::string origin;
+};
+
+// Relaxes every start with L-BFGS alone (its energy at the hand-over gradient lies
+// within ~g²/k of its basin's minimum, far below the margin) and returns the lowest
+// that kept the stereo identity; none when no start relaxed.
+std::optional<RelaxedStart> lowest_relaxed_start(const Molecule& molecule, const Potential& potential,
+                                                 const AnalysisOptions& options,
+                                                 ConformerFindings& findings) {
+  const ConformerStartsResult starts = generate_conformer_starts(molecule, options.conformer_starts);
+  findings.starts = static_cast<int>(starts.starts.size());
+  MinimizeOptions relax = options.minimize;
+  relax.newton_max_steps = 0;
+  relax.max_saddle_escapes = 0;
+  std::optional<RelaxedStart> lowest;
+  for (const ConformerStart& start : starts.starts) {
+    try {
+      const MinimizeResult relaxed = minimize(potential, start.coordinates_angstrom, relax);
+      if (relaxed.diverged() || relaxed.rms_gradient > relax.lbfgs_rms_gradient_target) continue;
+      if (stereo_identity(molecule, relaxed.coordinates_angstrom) != starts.stereo_identity) continue;
+      ++findings.relaxed;
+      if (!lowest || relaxed.energy_kcal_mol < lowest->energy_kcal_mol)
+        lowest = RelaxedStart{relaxed.coordinates_angstrom, relaxed.energy_kcal_mol, start.origin};
+    } catch (const Error&) {
+      // A start the potential cannot evaluate (an exactly linear angle, say) is no conformer.
+    }
+  }
+  return lowest;
 }
 
 }  // namespace
@@ -148,6 +200,51 @@ std::vector<ResonanceCrossCheck> cross_check_resonances(const AnalysisResult& an
   return result;
 }
 
+namespace {
+
+// Runs the quick conformer search after the input was optimized (result.optimization)
+// and, for ConformerSearch::analyse_best, replaces that optimization with one from the
+// lowest structure found.
+void search_conformers(AnalysisResult& result, const Potential& potential, const AnalysisOptions& options) {
+  if (!(options.conformer_energy_margin_kcal_mol >= 0.0))
+    throw Error(fmt::format("analysis option conformer_energy_margin_kcal_mol must be non-negative, got {}",
+                            options.conformer_energy_margin_kcal_mol));
+  ConformerFindings& findings = result.conformers;
+  findings.searched = true;
+  findings.input_minimum_kcal_mol = result.optimization.energy_kcal_mol;
+  findings.best_kcal_mol = findings.input_minimum_kcal_mol;
+  const std::optional<RelaxedStart> lowest =
+      lowest_relaxed_start(result.molecule, potential, options, findings);
+  if (!lowest ||
+      lowest->energy_kcal_mol >= findings.input_minimum_kcal_mol - options.conformer_energy_margin_kcal_mol)
+    return;
+  findings.best_kcal_mol = lowest->energy_kcal_mol;
+  findings.best_origin = lowest->origin;
+  const double gap = findings.input_minimum_kcal_mol - lowest->energy_kcal_mol;
+  if (options.conformers == ConformerSearch::analyse_best) {
+    MinimizeResult best = minimize(potential, lowest->coordinates_angstrom, options.minimize);
+    if (!best.diverged() && best.energy_kcal_mol < findings.input_minimum_kcal_mol) {
+      findings.best_kcal_mol = best.energy_kcal_mol;
+      result.optimization = std::move(best);
+      result.warnings.push_back(fmt::format(
+          "conformer search: analysed the lowest structure found ({}, {} starts), {:.2f} kcal/mol ({:.0f} "
+          "cm-1) below the minimum reached from the input structure",
+          findings.best_origin, findings.starts, findings.input_minimum_kcal_mol - findings.best_kcal_mol,
+          (findings.input_minimum_kcal_mol - findings.best_kcal_mol) * units::cm1_per_kcal_mol));
+      return;
+    }
+  }
+  findings.analysed_lowest_found = false;
+  findings.analysed_above_best_kcal_mol = gap;
+  result.warnings.push_back(
+      fmt::format("the analysed structure is a local minimum: a conformer at least {:.2f} kcal/mol ({:.0f} "
+                  "cm-1) lower was "
+                  "found ({}, one of {} starts); --conformer-search analyses the lowest conformer found",
+                  gap, gap * units::cm1_per_kcal_mol, findings.best_origin, findings.starts));
+}
+
+}  // namespace
+
 AnalysisResult analyze_molecule(const Molecule& molecule, const Potential& potential,
                                 const AnalysisOptions& options) {
   if (molecule.atom_count() != potential.atom_count())
@@ -159,33 +256,62 @@ AnalysisResult analyze_molecule(const Molecule& molecule, const Potential& poten
   auto clock = std::chrono::steady_clock::now();
   if (options.optimize) {
     result.optimization = minimize(potential, molecule.coordinates(), options.minimize);
+    if (result.optimization.diverged()) throw Error(result.optimization.message);
     result.optimized = true;
+    if (options.conformers != ConformerSearch::off && is_general_force_field(potential))
+      search_conformers(result, potential, options);
     result.molecule.set_coordinates(result.optimization.coordinates_angstrom);
     if (!result.optimization.converged()) result.warnings.push_back(result.optimization.message);
   }
   result.timings.optimize_s = seconds_since(clock);
 
-  clock = std::chrono::steady_clock::now();
-  if (options.use_symmetry) {
-    result.point_group = detect_point_group(result.molecule, options.symmetry);
-    result.symmetry_used = true;
-    result.molecule.set_coordinates(result.point_group.symmetrized_coordinates_angstrom);
+  // Symmetrizing moves a minimum that lies within the tolerance of a more symmetric
+  // saddle point (a shallow double well) onto that saddle. When the optimized structure
+  // is a minimum but its symmetrized copy has an imaginary frequency, the group is
+  // detected again with a tolerance below the distance the symmetrization moved atoms,
+  // which finds the lower group the minimum really has.
+  const Eigen::VectorXd optimized_coordinates = result.molecule.coordinates();
+  SymmetryOptions symmetry_options = options.symmetry;
+  for (;;) {
+    clock = std::chrono::steady_clock::now();
+    result.molecule.set_coordinates(optimized_coordinates);
+    if (options.use_symmetry) {
+      result.point_group = detect_point_group(result.molecule, symmetry_options);
+      result.symmetry_used = true;
+      result.molecule.set_coordinates(result.point_group.symmetrized_coordinates_angstrom);
+    }
+    result.timings.symmetry_s += seconds_since(clock);
+
+    clock = std::chrono::steady_clock::now();
+    const Eigen::VectorXd x = result.molecule.coordinates();
+    result.hessian = compute_hessian(potential, x, options.hessian);
+    result.timings.hessian_s += seconds_since(clock);
+
+    clock = std::chrono::steady_clock::now();
+    if (result.symmetry_used)
+      result.hessian.hessian = symmetrize_cartesian_hessian(result.hessian.hessian, result.point_group);
+    result.timings.symmetry_s += seconds_since(clock);
+
+    clock = std::chrono::steady_clock::now();
+    result.harmonic =
+        analyze_normal_modes(x, result.molecule.masses(), result.hessian.hessian, options.modes);
+    result.timings.normal_modes_s += seconds_since(clock);
+
+    const bool minimum_before_symmetrizing = result.optimized && result.optimization.converged();
+    const bool imaginary = result.harmonic.mode_count() > 0 &&
+                           result.harmonic.frequencies_cm1.minCoeff() < -options.modes.imaginary_warning_cm1;
+    const double moved = result.symmetry_used ? result.point_group.max_deviation_angstrom : 0.0;
+    const double lower_tolerance = moved * symmetry_retry_tolerance_fraction;
+    if (!result.symmetry_used || !minimum_before_symmetrizing || !imaginary ||
+        lower_tolerance < smallest_retry_tolerance_angstrom || result.point_group.group.order() == 1)
+      break;
+    result.warnings.push_back(fmt::format(
+        "symmetrizing the optimized minimum to {} moved atoms by {:.2g} Å onto a saddle point (imaginary "
+        "frequency {:.1f}i cm-1); the point group was detected again with tolerance {:.2g} Å",
+        result.point_group.group.name, moved, std::abs(result.harmonic.frequencies_cm1.minCoeff()),
+        lower_tolerance));
+    symmetry_options.tolerance_angstrom = lower_tolerance;
   }
-  result.timings.symmetry_s += seconds_since(clock);
-
-  clock = std::chrono::steady_clock::now();
-  const Eigen::VectorXd x = result.molecule.coordinates();
-  result.hessian = compute_hessian(potential, x, options.hessian);
-  result.timings.hessian_s = seconds_since(clock);
-
-  clock = std::chrono::steady_clock::now();
-  if (result.symmetry_used)
-    result.hessian.hessian = symmetrize_cartesian_hessian(result.hessian.hessian, result.point_group);
-  result.timings.symmetry_s += seconds_since(clock);
-
-  clock = std::chrono::steady_clock::now();
-  result.harmonic = analyze_normal_modes(x, result.molecule.masses(), result.hessian.hessian, options.modes);
-  result.timings.normal_modes_s = seconds_since(clock);
   for (const auto& warning : result.harmonic.warnings) result.warnings.push_back(warning);
 
   clock = std::chrono::steady_clock::now();

@@ -11,6 +11,7 @@
 #include "core/molecule.hpp"
 #include "families/families.hpp"
 #include "harmonic/harmonic.hpp"
+#include "molecule/conformer_starts.hpp"
 #include "optimize/minimize.hpp"
 #include "pipeline/mode_numbering.hpp"
 #include "potential/potential.hpp"
@@ -19,9 +20,26 @@
 
 namespace overtone {
 
+// A quick conformer search on the general force fields (Open Babel's; a valence force
+// field or a Taylor expansion describes one well and is never searched):
+//   off:          none;
+//   note:         the input is optimized and analysed as always; starts from
+//                 generate_conformer_starts are relaxed, and when one ends lower than
+//                 the analysed minimum by more than conformer_energy_margin_kcal_mol a
+//                 warning says that the analysed structure is a local minimum and by how
+//                 much the best found lies below it;
+//   analyse_best: the lowest structure found (the input's minimum or a relaxed start) is
+//                 optimized fully and analysed.
+enum class ConformerSearch { off, note, analyse_best };
+
 struct AnalysisOptions {
   bool optimize = true;  // false: analyse the input geometry as given
   MinimizeOptions minimize;
+  ConformerSearch conformers = ConformerSearch::note;
+  ConformerStartOptions conformer_starts;
+  // Conformers closer in energy than this (kcal/mol, ≈35 cm⁻¹) are not reported: general
+  // force fields do not order conformers that close reliably.
+  double conformer_energy_margin_kcal_mol = 0.1;
   HessianOptions hessian;
   NormalModeOptions modes;
   // Detect the point group of the optimized structure, symmetrize geometry and
@@ -38,11 +56,25 @@ struct StageTimings {
   double symmetry_s = 0.0;
 };
 
+struct ConformerFindings {
+  bool searched = false;
+  int starts = 0;                         // starting structures generated
+  int relaxed = 0;                        // of them, relaxed to the same stereoisomer without trouble
+  double input_minimum_kcal_mol = 0.0;    // energy of the minimum reached from the input
+  double best_kcal_mol = 0.0;             // lowest energy found (input minimum included)
+  std::string best_origin = "the input";  // where the lowest structure came from
+  // Energy of the analysed structure above the lowest found (kcal/mol); 0 when it is
+  // the lowest or within the margin.
+  double analysed_above_best_kcal_mol = 0.0;
+  bool analysed_lowest_found = true;  // false: a lower conformer was found and not analysed
+};
+
 struct AnalysisResult {
   Molecule molecule;  // at the analysed (optimized) geometry
   std::string potential_description;
   bool optimized = false;
   MinimizeResult optimization;  // filled when optimized
+  ConformerFindings conformers;
   HessianResult hessian;
   HarmonicResult harmonic;
   bool symmetry_used = false;

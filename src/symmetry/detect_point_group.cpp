@@ -1,5 +1,7 @@
 #include "symmetry/detect_point_group.hpp"
 
+#include <fmt/format.h>
+
 #include <algorithm>
 #include <cmath>
 #include <limits>
@@ -15,9 +17,9 @@
 namespace overtone {
 
 void SymmetryOptions::validate() const {
-  if (!(tolerance_angstrom > 0.0) || !std::isfinite(tolerance_angstrom))
-    throw Error("SymmetryOptions::tolerance_angstrom must be positive and finite, got " +
-                std::to_string(tolerance_angstrom));
+  if (!(tolerance_angstrom > 0.0) || !(tolerance_angstrom <= max_symmetry_tolerance_angstrom))
+    throw Error(fmt::format("the symmetry tolerance must lie in (0, {}] Å, got {} Å",
+                            max_symmetry_tolerance_angstrom, tolerance_angstrom));
   if (!(mass_tolerance_da >= 0.0) || !std::isfinite(mass_tolerance_da))
     throw Error("SymmetryOptions::mass_tolerance_da must be non-negative, got " +
                 std::to_string(mass_tolerance_da));
@@ -937,6 +939,19 @@ PointGroupResult detect_point_group(const Eigen::VectorXd& coordinates_angstrom,
   const Candidate chosen = off_line <= tolerance ? detect_linear(geometry, line, options, result)
                                                  : detect_nonlinear(geometry, options, result);
   record_candidate(chosen, center, result);
+  // However large the tolerance, the symmetrized structure must not merge atoms (a
+  // 10 Å tolerance once made ammonia linear with N and H at one point).
+  for (int i = 0; i < n; ++i)
+    for (int j = i + 1; j < n; ++j) {
+      const double d = (result.symmetrized_coordinates_angstrom.segment<3>(3 * i) -
+                        result.symmetrized_coordinates_angstrom.segment<3>(3 * j))
+                           .norm();
+      if (d < symmetrized_minimum_distance_angstrom)
+        throw Error(fmt::format(
+            "symmetrizing to {} with tolerance {} Å puts atoms {} and {} {:.3f} Å apart "
+            "(overlapping); expected at least {} Å: use a smaller symmetry tolerance",
+            result.group.name, tolerance, i + 1, j + 1, d, symmetrized_minimum_distance_angstrom));
+    }
   result.notes.push_back("tolerance " + format_double(tolerance, 3) +
                          " Å (largest displacement of an atom by symmetrization), as given; not adapted");
   result.message = "point group " + result.group.name + " (order " + std::to_string(result.group.order()) +

@@ -27,6 +27,14 @@
 
 namespace overtone {
 
+// Largest accepted SymmetryOptions::tolerance_angstrom: about a quarter of the shortest bond
+// (H–H, 0.74 Å, common practice), so that symmetrization cannot move two bonded atoms
+// together; real structures need at most a few hundredths of an Å.
+inline constexpr double max_symmetry_tolerance_angstrom = 0.2;
+// Two atoms of a symmetrized structure closer than this (Å) overlap: Error. The same
+// physical floor as for reading (far below the shortest bond).
+inline constexpr double symmetrized_minimum_distance_angstrom = 0.4;
+
 struct SymmetryOptions {
   // Largest Cartesian deviation (Å) allowed between any atom of the input and of the
   // symmetrized geometry. Optimized structures deviate by ~1e-4 Å; 0.02 Å accepts
@@ -39,7 +47,8 @@ struct SymmetryOptions {
   // Axis order m of the finite group C_mv / D_mh standing in for C∞v / D∞h (even, 4–60).
   int linear_axis_order = 8;
 
-  // Throws Error naming the field when a value is out of range.
+  // Throws Error naming the field when a value is out of range (the tolerance must lie
+  // in (0, max_symmetry_tolerance_angstrom]).
   void validate() const;
 };
 
@@ -74,7 +83,8 @@ struct PointGroupResult {
 };
 
 // Throws Error for no atoms, a single atom, mismatched sizes, non-finite coordinates,
-// non-positive masses or invalid options.
+// non-positive masses, invalid options, or a symmetrized structure with two atoms closer
+// than symmetrized_minimum_distance_angstrom.
 PointGroupResult detect_point_group(const Eigen::VectorXd& coordinates_angstrom,
                                     const std::vector<int>& atomic_numbers, const Eigen::VectorXd& masses_da,
                                     const SymmetryOptions& options = {});

@@ -4,8 +4,10 @@
 
 #include <algorithm>
 #include <cmath>
+#include <fstream>
 #include <numeric>
 #include <random>
+#include <sstream>
 #include <string>
 #include <vector>
 
@@ -219,6 +221,26 @@ TEST(Harmonic, InconsistentInputIsAnError) {
   EXPECT_THROW(
       analyze_normal_modes(Eigen::VectorXd::Zero(6), Eigen::Vector2d(1.0, -1.0), Eigen::MatrixXd::Zero(6, 6)),
       Error);
+}
+
+TEST(Harmonic, AbsurdForceConstantsAreAnErrorNotANumber) {
+  // HCl's Morse Hessian scaled by 1e60 (a stiffness the potential loaders refuse, so it is
+  // built here directly): the harmonic wavenumber scales with the square root, to about
+  // 3e33 cm⁻¹.
+  const Molecule molecule = read_molecule(source_dir + "/molecules/hcl.xyz").molecule;
+  const auto potential = make_potential(source_dir + "/potentials/hcl-morse.toml", molecule);
+  const Eigen::VectorXd x = molecule.coordinates();
+  const Eigen::MatrixXd hessian = compute_hessian(*potential, x).hessian;
+  constexpr double absurd_stiffness_factor = 1e60;
+  try {
+    analyze_normal_modes(x, molecule.masses(), hessian * absurd_stiffness_factor);
+    FAIL() << "expected an error for a wavenumber of ~3e33 cm-1";
+  } catch (const Error& error) {
+    EXPECT_NE(std::string(error.what()).find("far above any molecular vibration"), std::string::npos)
+        << error.what();
+  }
+  // Entries whose row sums overflow cannot be diagonalized at all.
+  EXPECT_THROW(analyze_normal_modes(x, molecule.masses(), hessian * 1e160), Error);
 }
 
 }  // namespace

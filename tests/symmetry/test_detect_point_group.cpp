@@ -349,5 +349,37 @@ TEST(DetectPointGroup, RejectsBadInputAndOptions) {
   EXPECT_THROW(detect_point_group(massless), Error);
 }
 
+TEST(DetectPointGroup, ToleranceIsBoundedBelowTheShortestBond) {
+  // A 10 Å tolerance once turned ammonia into a linear structure with N and H at one
+  // point; the bound keeps the tolerance near a quarter of the H–H bond.
+  SymmetryOptions huge;
+  huge.tolerance_angstrom = 10.0;
+  EXPECT_THROW(huge.validate(), Error);
+  EXPECT_THROW(detect_point_group(load("ammonia.C3v.xyz"), huge), Error);
+  SymmetryOptions not_a_number;
+  not_a_number.tolerance_angstrom = std::nan("");
+  EXPECT_THROW(not_a_number.validate(), Error);
+  SymmetryOptions largest;
+  largest.tolerance_angstrom = max_symmetry_tolerance_angstrom;
+  EXPECT_NO_THROW(largest.validate());
+}
+
+TEST(DetectPointGroup, SymmetrizationThatMergesAtomsIsRefused) {
+  // Two H atoms 0.19 Å either side of the axis through N: within the largest tolerance
+  // the structure is linear, and making it so would put both H at one point.
+  Molecule m = load("water.C2v.xyz");  // O, H, H
+  m.atoms[0].position_angstrom = Eigen::Vector3d(0.0, 0.0, 0.0);
+  m.atoms[1].position_angstrom = Eigen::Vector3d(0.19, 0.0, 1.0);
+  m.atoms[2].position_angstrom = Eigen::Vector3d(-0.19, 0.0, 1.0);
+  SymmetryOptions options;
+  options.tolerance_angstrom = max_symmetry_tolerance_angstrom;
+  try {
+    const PointGroupResult r = detect_point_group(m, options);
+    FAIL() << "expected an error; found " << r.group.name << " moving atoms by " << r.max_deviation_angstrom;
+  } catch (const Error& error) {
+    EXPECT_NE(std::string(error.what()).find("atoms 2 and 3"), std::string::npos) << error.what();
+  }
+}
+
 }  // namespace
 }  // namespace overtone
