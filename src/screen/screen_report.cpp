@@ -170,7 +170,8 @@ std::string screen_report_text(const ScreenReport& report) {
     }
     text += fmt::format("failures: {}\n", run.failures.size());
     for (const ReportedFailure& failure : run.failures)
-      text += fmt::format("  {} [{}]{} at {}: {}\n", printable_text(failure.molecule), printable_text(failure.origin),
+      text += fmt::format("  {}{}{} at {}: {}\n", printable_text(failure.molecule),
+                          failure.origin == failure.molecule ? "" : " [" + printable_text(failure.origin) + "]",
                           failure.variant.empty() ? "" : " variant " + printable_text(failure.variant), failure.stage,
                           printable_text(failure.message));
   }
