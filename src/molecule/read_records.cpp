@@ -154,8 +154,13 @@ std::vector<MoleculeFileRecord> split_with_openbabel(const std::string& path, co
   std::vector<MoleculeFileRecord> records;
   OpenBabel::OBMol mol;
   bool first = true;
+  std::streamoff position = 0;
   while (first ? conversion.Read(&mol, &stream) : conversion.Read(&mol)) {
     first = false;
+    // Some formats report success at the end of the input without reading anything.
+    const std::streamoff now = stream.tellg();
+    if (mol.NumAtoms() == 0 && (now < 0 || now == position)) break;
+    position = now;
     const std::string name = mol.GetTitle();
     std::string text = conversion.WriteString(&mol);
     // The CTfile name line is the first one; the content is the rest of the molecule block.

@@ -191,6 +191,8 @@ std::vector<ScreenRecord> file_records(const std::string& path, const InputOptio
 
 bool is_screen_input(const fs::path& path) {
   const std::string extension = extension_of(path.string());
+  // Open Babel reads any text file as titles ("txt"): not a molecule file in a folder.
+  if (extension == "txt") return false;
   return is_smiles_extension(extension) || extension == "csv" || is_readable_format(extension);
 }
 
