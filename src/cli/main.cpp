@@ -366,6 +366,10 @@ void add_screen_arguments(CLI::App& command, ScreenArguments& arguments) {
                      "seconds one molecule may take (all its variants) before its worker is stopped and it is "
                      "recorded as failed; 0: no limit")
       ->capture_default_str();
+  command.add_option("--memory-limit", request.memory_limit_mb,
+                     "MiB of address space each worker process may use; a molecule over it is recorded as failed; "
+                     "0: no limit")
+      ->capture_default_str();
   command.add_option("--shard", arguments.shard,
                      "i/N: take only the i-th of N parts of the molecules (by content hash), for job arrays; "
                      "combine the stores with merge-stores");

@@ -124,7 +124,7 @@ struct MpiSession {
 
 void run_worker(const ScreenRequest& request, const std::vector<IsotopeRule>& rules) {
   prepare_parent_for_workers(request.settings);
-  ProcessPool pool(1, request.timeout_s);
+  ProcessPool pool(1, request.timeout_s, request.memory_limit_mb);
   send_text("", coordinator_rank, tag_ready);
   for (;;) {
     MPI_Status status;

@@ -6,6 +6,7 @@
 #include <sched.h>
 #include <signal.h>
 #include <sys/prctl.h>
+#include <sys/resource.h>
 #include <sys/wait.h>
 #include <unistd.h>
 
@@ -16,6 +17,7 @@
 #include <cstdint>
 #include <cstring>
 #include <exception>
+#include <new>
 
 #include "core/error.hpp"
 
@@ -54,7 +56,9 @@ void write_frame(int fd, char type, const std::string& payload) {
   write_all(fd, payload.data(), payload.size());
 }
 
-[[noreturn]] void run_child(int fd, pid_t parent, const ChildWork& work) {
+constexpr double bytes_per_mib = 1024.0 * 1024.0;
+
+[[noreturn]] void run_child(int fd, pid_t parent, double memory_limit_mb, const ChildWork& work) {
   // Die with the parent: a screen killed with SIGKILL must not leave children computing.
   prctl(PR_SET_PDEATHSIG, SIGKILL);
   if (getppid() != parent) _exit(4);
@@ -67,9 +71,16 @@ void write_frame(int fd, char type, const std::string& payload) {
     if (null_fd > STDERR_FILENO) ::close(null_fd);
   }
   signal(SIGPIPE, SIG_DFL);
+  if (memory_limit_mb > 0.0) {
+    const auto bytes = static_cast<rlim_t>(memory_limit_mb * bytes_per_mib);
+    const rlimit limit{bytes, bytes};
+    setrlimit(RLIMIT_AS, &limit);
+  }
   try {
     const std::string result = work([fd](const std::string& stage) { write_frame(fd, frame_stage, stage); });
     write_frame(fd, frame_result, result);
+  } catch (const std::bad_alloc&) {
+    write_frame(fd, frame_error, "out of memory (the worker's memory limit was reached)");
   } catch (const std::exception& error) {
     write_frame(fd, frame_error, error.what());
   } catch (...) {
@@ -149,6 +160,7 @@ int wait_for(pid_t pid) {
 struct ProcessPool::Impl {
   int slots = 1;
   double timeout_s = 0.0;
+  double memory_limit_mb = 0.0;
   std::vector<Child> children;
 
   FinishedChild finish(Child& child, bool timed_out) {
@@ -184,11 +196,14 @@ struct ProcessPool::Impl {
   }
 };
 
-ProcessPool::ProcessPool(int slots, double timeout_s) : impl_(std::make_unique<Impl>()) {
+ProcessPool::ProcessPool(int slots, double timeout_s, double memory_limit_mb) : impl_(std::make_unique<Impl>()) {
   if (slots < 1) throw Error(fmt::format("a process pool needs at least one slot, got {}", slots));
   if (!(timeout_s >= 0.0)) throw Error(fmt::format("the time limit must be 0 (none) or positive, got {}", timeout_s));
+  if (!(memory_limit_mb >= 0.0))
+    throw Error(fmt::format("the memory limit must be 0 (none) or positive, got {}", memory_limit_mb));
   impl_->slots = slots;
   impl_->timeout_s = timeout_s;
+  impl_->memory_limit_mb = memory_limit_mb;
 }
 
 ProcessPool::~ProcessPool() {
@@ -216,7 +231,7 @@ void ProcessPool::start(std::size_t task, ChildWork work) {
   if (pid == 0) {
     ::close(fds[0]);
     for (const Child& other : impl_->children) ::close(other.fd);
-    run_child(fds[1], parent, work);
+    run_child(fds[1], parent, impl_->memory_limit_mb, work);
   }
   ::close(fds[1]);
   fcntl(fds[0], F_SETFL, fcntl(fds[0], F_GETFL) | O_NONBLOCK);

@@ -38,8 +38,10 @@ struct FinishedChild {
 
 class ProcessPool {
  public:
-  // slots: children at once (≥ 1); timeout_s: wall-time limit per task (0: none).
-  ProcessPool(int slots, double timeout_s);
+  // slots: children at once (≥ 1); timeout_s: wall-time limit per task (0: none);
+  // memory_limit_mb: address space of each child (RLIMIT_AS, MiB; 0: none). A child over it
+  // sees its allocations fail (a failure or a crash, never the machine swapping).
+  ProcessPool(int slots, double timeout_s, double memory_limit_mb = 0.0);
   ~ProcessPool();  // kills children still running
   ProcessPool(const ProcessPool&) = delete;
   ProcessPool& operator=(const ProcessPool&) = delete;

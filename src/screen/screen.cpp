@@ -3,6 +3,7 @@
 #include <fmt/format.h>
 
 #include <algorithm>
+#include <cmath>
 #include <cstdlib>
 
 #include "core/error.hpp"
@@ -32,6 +33,8 @@ void ScreenRequest::validate() const {
                             max_jobs_per_processor * available_processors(), jobs));
   if (!(timeout_s >= 0.0) || !std::isfinite(timeout_s))
     throw Error(fmt::format("--timeout must be 0 (no limit) or a positive number of seconds, got {}", timeout_s));
+  if (!(memory_limit_mb >= 0.0) || !std::isfinite(memory_limit_mb))
+    throw Error(fmt::format("--memory-limit must be 0 (no limit) or a positive number of MiB, got {}", memory_limit_mb));
   if (shard_count < 1 || shard_index < 1 || shard_index > shard_count)
     throw Error(fmt::format("--shard must be i/N with 1 <= i <= N, got {}/{}", shard_index, shard_count));
 }
@@ -186,7 +189,7 @@ ScreenSummary run_with_processes(const ScreenRequest& request, const std::vector
   detail::ProgressTracker progress(tasks.size(), summary.workers, on_progress);
   if (!tasks.empty()) {
     detail::prepare_parent_for_workers(request.settings);
-    ProcessPool pool(summary.workers, request.timeout_s);
+    ProcessPool pool(summary.workers, request.timeout_s, request.memory_limit_mb);
     std::size_t next = 0;
     while (next < tasks.size() || pool.running() > 0) {
       while (pool.has_free_slot() && next < tasks.size()) {

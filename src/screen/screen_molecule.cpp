@@ -10,6 +10,7 @@
 #include <filesystem>
 #include <fstream>
 #include <memory>
+#include <new>
 #include <set>
 
 #include "core/error.hpp"
@@ -326,6 +327,10 @@ class MoleculeScreen {
       outcome.status = status_failed;
       outcome.failed_stage = stage_;
       outcome.message = error.what();
+    } catch (const std::bad_alloc&) {
+      outcome.status = status_failed;
+      outcome.failed_stage = stage_;
+      outcome.message = "ran out of memory (the worker's memory limit, or the machine's, was reached)";
     } catch (const std::exception& error) {
       outcome.status = status_failed;
       outcome.failed_stage = stage_;
