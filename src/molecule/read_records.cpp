@@ -111,8 +111,8 @@ std::vector<MoleculeFileRecord> split_mol2(const std::string& text, const std::s
     const std::size_t end = r + 1 < starts.size() ? starts[r + 1] : lines.size();
     const std::string name = begin + 1 < end ? lines[begin + 1] : std::string();
     std::string content = lines[begin] + "\n" + joined(lines, begin + 2, end);
-    records.push_back(make_record(static_cast<int>(r) + 1, format, name, joined(lines, begin, end),
-                                  std::move(content)));
+    records.push_back(
+        make_record(static_cast<int>(r) + 1, format, name, joined(lines, begin, end), std::move(content)));
   }
   return records;
 }
@@ -130,9 +130,9 @@ std::vector<MoleculeFileRecord> split_xyz(const std::string& text, const std::st
     }
     std::size_t end = lines.size();
     const std::string count_text = trimmed(lines[at]);
-    const bool is_count = !count_text.empty() && std::all_of(count_text.begin(), count_text.end(), [](char c) {
-      return std::isdigit(static_cast<unsigned char>(c));
-    });
+    const bool is_count = !count_text.empty() &&
+                          std::all_of(count_text.begin(), count_text.end(),
+                                      [](char c) { return std::isdigit(static_cast<unsigned char>(c)); });
     if (is_count && count_text.size() < 10) end = std::min(lines.size(), at + 2 + std::stoul(count_text));
     const std::string name = at + 1 < end ? lines[at + 1] : std::string();
     std::string content = lines[at] + "\n" + joined(lines, at + 2, end);
@@ -202,9 +202,10 @@ std::vector<MoleculeFileRecord> read_records(const std::string& path, const std:
     throw Error(fmt::format("'{}' is a directory, expected a molecule file", path));
   const std::string name = record_format_of(path, format);
   if (name.empty())
-    throw Error(
-        fmt::format("cannot tell the format of '{}': give the file an extension such as .sdf or .mol2", path));
-  if (name == "sdf" || name == "sd" || name == "mol" || name == "mdl") return split_sdf(file_text(path), name);
+    throw Error(fmt::format(
+        "cannot tell the format of '{}': give the file an extension such as .sdf or .mol2", path));
+  if (name == "sdf" || name == "sd" || name == "mol" || name == "mdl")
+    return split_sdf(file_text(path), name);
   if (name == "mol2" || name == "ml2") return split_mol2(file_text(path), name);
   if (name == "xyz") return split_xyz(file_text(path), name);
   return split_with_openbabel(path, name);

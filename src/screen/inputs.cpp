@@ -52,7 +52,8 @@ std::string read_text(const std::string& path) {
 
 std::string origin_of(const std::string& path, int number) { return fmt::format("{}#{}", path, number); }
 
-ScreenRecord smiles_record(const std::string& path, int line, const std::string& smiles, const std::string& name) {
+ScreenRecord smiles_record(const std::string& path, int line, const std::string& smiles,
+                           const std::string& name) {
   ScreenRecord record;
   record.origin = origin_of(path, line);
   record.id = name.empty() ? record.origin : name;
@@ -146,8 +147,8 @@ std::vector<ScreenRecord> csv_records(const std::string& path, const InputOption
       if (lower(trimmed(rows[0][c])) == lower(wanted)) return c;
     std::string names;
     for (const std::string& name : rows[0]) names += (names.empty() ? "" : ", ") + trimmed(name);
-    throw Error(fmt::format("csv file '{}' has no column '{}' ({}); its columns are: {}", path, wanted, option,
-                            names));
+    throw Error(fmt::format("csv file '{}' has no column '{}' ({}); its columns are: {}", path, wanted,
+                            option, names));
   };
   const std::size_t smiles_column = column(options.smiles_column, "--smiles-column");
   const std::size_t id_column = column(options.id_column, "--id-column");

@@ -34,7 +34,7 @@ struct ScreenRecord {
 };
 
 struct InputOptions {
-  std::string format;  // Open Babel format of every file input; empty: from the extension
+  std::string format;                    // Open Babel format of every file input; empty: from the extension
   std::string smiles_column = "smiles";  // CSV column names (compared without case)
   std::string id_column = "id";
 };

@@ -26,9 +26,10 @@ IsotopeSubstitution parse_substitution(const std::string& text, const std::strin
                       std::all_of(mass_text.begin(), mass_text.end(),
                                   [](char c) { return std::isdigit(static_cast<unsigned char>(c)); });
   if (!digits)
-    throw Error(fmt::format(
-        "isotope rule '{}': '{}' is not of the form SMARTS=A (A a mass number, e.g. C(=O)=13 or H@[O,N;!H0]=2)",
-        rule, text));
+    throw Error(
+        fmt::format("isotope rule '{}': '{}' is not of the form SMARTS=A (A a mass number, e.g. C(=O)=13 or "
+                    "H@[O,N;!H0]=2)",
+                    rule, text));
   IsotopeSubstitution substitution;
   substitution.mass_number = std::stoi(mass_text);
   if (substitution.mass_number < 1 || substitution.mass_number > largest_mass_number)
@@ -69,7 +70,8 @@ std::vector<IsotopeChoice> isotope_choices(const IsotopeRule& rule, const Molecu
       if (found.mapped_positions.empty()) {
         targets.push_back(match.at(0));
       } else {
-        for (int position : found.mapped_positions) targets.push_back(match.at(static_cast<std::size_t>(position)));
+        for (int position : found.mapped_positions)
+          targets.push_back(match.at(static_cast<std::size_t>(position)));
       }
     }
     if (substitution.hydrogens_of_targets) {
@@ -83,8 +85,8 @@ std::vector<IsotopeChoice> isotope_choices(const IsotopeRule& rule, const Molecu
     for (int atom : targets) {
       const auto [where, inserted] = mass_of_atom.emplace(atom, substitution.mass_number);
       if (!inserted && where->second != substitution.mass_number)
-        throw Error(fmt::format("isotope rule '{}' gives atom {} both mass number {} and {}", rule.text, atom + 1,
-                                where->second, substitution.mass_number));
+        throw Error(fmt::format("isotope rule '{}' gives atom {} both mass number {} and {}", rule.text,
+                                atom + 1, where->second, substitution.mass_number));
     }
   }
   std::vector<IsotopeChoice> choices;

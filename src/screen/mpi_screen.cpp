@@ -68,7 +68,8 @@ std::string receive_text(const MPI_Status& status) {
   int count = 0;
   MPI_Get_count(&status, MPI_CHAR, &count);
   std::string text(static_cast<std::size_t>(count), '\0');
-  MPI_Recv(text.data(), count, MPI_CHAR, status.MPI_SOURCE, status.MPI_TAG, MPI_COMM_WORLD, MPI_STATUS_IGNORE);
+  MPI_Recv(text.data(), count, MPI_CHAR, status.MPI_SOURCE, status.MPI_TAG, MPI_COMM_WORLD,
+           MPI_STATUS_IGNORE);
   return text;
 }
 
@@ -94,7 +95,7 @@ ScreenTask task_from_json(const nlohmann::json& document) {
   task.record.format = document.at("format").get<std::string>();
   task.record.text = document.at("text").get<std::string>();
   task.record.content_hash = document.at("content_hash").get<std::string>();
-  task.variants = document.at("variants").get<std::vector<std::string>>();
+  task.variants = document.at("variants").get<std::vector<std::string> >();
   return task;
 }
 

@@ -28,27 +28,27 @@ inline constexpr const char* families = "families";
 }  // namespace screen_stage
 
 struct ScreenModeRow {
-  int mode = 0;         // mode number (report order)
-  int fundamental = 0;  // ν number
-  std::string species;  // ASCII Mulliken label; empty without symmetry
-  double harmonic_cm1 = 0.0;  // signed: negative is imaginary
+  int mode = 0;                   // mode number (report order)
+  int fundamental = 0;            // ν number
+  std::string species;            // ASCII Mulliken label; empty without symmetry
+  double harmonic_cm1 = 0.0;      // signed: negative is imaginary
   std::optional<bool> ir_active;  // empty when the species is unknown
   std::optional<bool> raman_active;
   double reduced_mass_da = 0.0;
   double stiffness_aj_per_angstrom2 = 0.0;
-  std::optional<double> vpt2_cm1;            // VPT2 fundamental (deperturbed), anharmonic stage
-  std::optional<double> corrected_cm1;       // after its resonance polyad, when in one
-  std::optional<double> x_diagonal_cm1;      // x_ii (component form, Coriolis included)
-  std::optional<int> parent_mode;            // variants: the parent's mode of largest overlap
-  std::optional<double> shift_cm1;           // variants: harmonic_cm1 − that parent mode's
-  std::optional<double> labelled_share;      // variants: kinetic-energy share of the labelled atoms
+  std::optional<double> vpt2_cm1;        // VPT2 fundamental (deperturbed), anharmonic stage
+  std::optional<double> corrected_cm1;   // after its resonance polyad, when in one
+  std::optional<double> x_diagonal_cm1;  // x_ii (component form, Coriolis included)
+  std::optional<int> parent_mode;        // variants: the parent's mode of largest overlap
+  std::optional<double> shift_cm1;       // variants: harmonic_cm1 − that parent mode's
+  std::optional<double> labelled_share;  // variants: kinetic-energy share of the labelled atoms
 };
 
 struct ScreenResonanceRow {
-  int resonance = 0;     // 1-based, in the order of the anharmonic stage
-  std::string kind;      // overtone-fundamental, combination-fundamental, overtone-overtone
-  std::string label;     // e.g. "2v3 / v1"
-  int first = 0;         // ν numbers: 2ν_first or ν_first + ν_second ↔ ν_partner (or 2ν_partner)
+  int resonance = 0;  // 1-based, in the order of the anharmonic stage
+  std::string kind;   // overtone-fundamental, combination-fundamental, overtone-overtone
+  std::string label;  // e.g. "2v3 / v1"
+  int first = 0;      // ν numbers: 2ν_first or ν_first + ν_second ↔ ν_partner (or 2ν_partner)
   int second = 0;
   int partner = 0;
   std::string lower_label;  // "2v3", "v2+v5"
@@ -106,7 +106,7 @@ struct VariantOutcome {
   std::string labelled_atoms;  // variants: "3=13 7=18" (atom number = mass number)
   std::string point_group;
   std::optional<bool> optimization_converged;
-  std::optional<double> rms_gradient;   // kcal/mol/Å
+  std::optional<double> rms_gradient;  // kcal/mol/Å
   std::optional<double> energy_kcal_mol;
   int imaginary_modes = 0;
   std::optional<double> lowest_cm1;

@@ -196,9 +196,11 @@ struct ProcessPool::Impl {
   }
 };
 
-ProcessPool::ProcessPool(int slots, double timeout_s, double memory_limit_mb) : impl_(std::make_unique<Impl>()) {
+ProcessPool::ProcessPool(int slots, double timeout_s, double memory_limit_mb)
+    : impl_(std::make_unique<Impl>()) {
   if (slots < 1) throw Error(fmt::format("a process pool needs at least one slot, got {}", slots));
-  if (!(timeout_s >= 0.0)) throw Error(fmt::format("the time limit must be 0 (none) or positive, got {}", timeout_s));
+  if (!(timeout_s >= 0.0))
+    throw Error(fmt::format("the time limit must be 0 (none) or positive, got {}", timeout_s));
   if (!(memory_limit_mb >= 0.0))
     throw Error(fmt::format("the memory limit must be 0 (none) or positive, got {}", memory_limit_mb));
   impl_->slots = slots;
@@ -258,7 +260,8 @@ std::vector<FinishedChild> ProcessPool::wait(double max_wait_s) {
   for (const Child& child : children) fds.push_back({child.fd, POLLIN, 0});
   const int timeout_ms = static_cast<int>(std::ceil(wait_s * 1000.0));
   const int ready = poll(fds.data(), fds.size(), timeout_ms);
-  if (ready < 0 && errno != EINTR) throw Error(std::string("waiting for worker processes failed: ") + std::strerror(errno));
+  if (ready < 0 && errno != EINTR)
+    throw Error(std::string("waiting for worker processes failed: ") + std::strerror(errno));
   for (std::size_t i = 0; i < children.size(); ++i)
     if (ready > 0 && (fds[i].revents & (POLLIN | POLLHUP | POLLERR))) drain(children[i]);
   const auto after = Clock::now();

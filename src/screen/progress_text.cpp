@@ -13,7 +13,8 @@ constexpr double seconds_per_minute = 60.0;
 constexpr double seconds_per_hour = 3600.0;
 
 double fraction_done(const ScreenProgress& progress) {
-  return progress.total > 0 ? static_cast<double>(progress.finished) / static_cast<double>(progress.total) : 1.0;
+  return progress.total > 0 ? static_cast<double>(progress.finished) / static_cast<double>(progress.total)
+                            : 1.0;
 }
 
 }  // namespace
@@ -42,10 +43,9 @@ std::string progress_bar_line(const ScreenProgress& progress, int bar_width) {
 }
 
 std::string progress_plain_line(const ScreenProgress& progress) {
-  std::string line =
-      fmt::format("screen: {} of {} molecules ({:.0f}%), {} failed, {:.2f} mol/s, {} elapsed", progress.finished,
-                  progress.total, 100.0 * fraction_done(progress), progress.failed, progress.rate_per_s,
-                  duration_text(progress.elapsed_s));
+  std::string line = fmt::format("screen: {} of {} molecules ({:.0f}%), {} failed, {:.2f} mol/s, {} elapsed",
+                                 progress.finished, progress.total, 100.0 * fraction_done(progress),
+                                 progress.failed, progress.rate_per_s, duration_text(progress.elapsed_s));
   if (!progress.done && progress.eta_s > 0.0) line += ", about " + duration_text(progress.eta_s) + " left";
   return line;
 }

@@ -25,16 +25,19 @@ constexpr int max_jobs_per_processor = 8;
 }  // namespace
 
 void ScreenRequest::validate() const {
-  if (inputs.empty()) throw Error("a screen needs at least one INPUT (molecule file, smiles file, csv or directory)");
+  if (inputs.empty())
+    throw Error("a screen needs at least one INPUT (molecule file, smiles file, csv or directory)");
   if (store_path.empty()) throw Error("a screen needs --store FILE.sqlite");
   settings.validate();
   if (jobs < 0 || jobs > max_jobs_per_processor * available_processors())
     throw Error(fmt::format("--jobs must be 0 (one per processor) or 1 to {}, got {}",
                             max_jobs_per_processor * available_processors(), jobs));
   if (!(timeout_s >= 0.0) || !std::isfinite(timeout_s))
-    throw Error(fmt::format("--timeout must be 0 (no limit) or a positive number of seconds, got {}", timeout_s));
+    throw Error(
+        fmt::format("--timeout must be 0 (no limit) or a positive number of seconds, got {}", timeout_s));
   if (!(memory_limit_mb >= 0.0) || !std::isfinite(memory_limit_mb))
-    throw Error(fmt::format("--memory-limit must be 0 (no limit) or a positive number of MiB, got {}", memory_limit_mb));
+    throw Error(fmt::format("--memory-limit must be 0 (no limit) or a positive number of MiB, got {}",
+                            memory_limit_mb));
   if (shard_count < 1 || shard_index < 1 || shard_index > shard_count)
     throw Error(fmt::format("--shard must be i/N with 1 <= i <= N, got {}/{}", shard_index, shard_count));
 }
@@ -45,8 +48,8 @@ std::vector<IsotopeRule> parse_rules(const std::vector<std::string>& texts) {
   std::vector<IsotopeRule> rules;
   for (const std::string& text : texts) {
     IsotopeRule rule = parse_isotope_rule(text);
-    const bool repeated =
-        std::any_of(rules.begin(), rules.end(), [&](const IsotopeRule& other) { return other.text == rule.text; });
+    const bool repeated = std::any_of(rules.begin(), rules.end(),
+                                      [&](const IsotopeRule& other) { return other.text == rule.text; });
     if (!repeated) rules.push_back(std::move(rule));
   }
   return rules;
@@ -128,14 +131,16 @@ ProgressTracker::ProgressTracker(std::size_t total, int workers, const ProgressL
 
 void ProgressTracker::report() {
   progress_.elapsed_s = std::chrono::duration<double>(std::chrono::steady_clock::now() - start_).count();
-  progress_.rate_per_s = progress_.elapsed_s > 0.0 ? static_cast<double>(progress_.finished) / progress_.elapsed_s : 0.0;
+  progress_.rate_per_s =
+      progress_.elapsed_s > 0.0 ? static_cast<double>(progress_.finished) / progress_.elapsed_s : 0.0;
   progress_.eta_s = progress_.rate_per_s > 0.0
                         ? static_cast<double>(progress_.total - progress_.finished) / progress_.rate_per_s
                         : 0.0;
   if (listener_) listener_(progress_);
 }
 
-void ProgressTracker::finished(const ScreenTask& task, const MoleculeOutcome& outcome, ScreenSummary& summary) {
+void ProgressTracker::finished(const ScreenTask& task, const MoleculeOutcome& outcome,
+                               ScreenSummary& summary) {
   ++summary.computed;
   bool failed = false;
   for (const VariantOutcome& variant : outcome.variants) {
@@ -227,7 +232,8 @@ ScreenSummary run_screen(const ScreenRequest& request, const ProgressListener& o
   if (started_by_mpi_launcher()) {
     if (!built_with_mpi())
       throw Error(
-          "this overtone was built without MPI, so its copies under an MPI launcher cannot share the work; run "
+          "this overtone was built without MPI, so its copies under an MPI launcher cannot share the work; "
+          "run "
           "it without mpirun, or give each copy a --shard i/N of its own and store, then merge-stores");
     return detail::run_screen_mpi(request, rules, on_progress);
   }

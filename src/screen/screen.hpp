@@ -19,9 +19,9 @@ struct ScreenRequest {
   std::string store_path;
   ScreenSettings settings;
   std::vector<std::string> isotope_rules;  // rule texts (isotope_rules.hpp), one variant each
-  int jobs = 0;            // worker processes at once; 0: one per available processor
-  double timeout_s = 0.0;  // wall-time limit per molecule (all its variants); 0: none
-  double memory_limit_mb = 0.0;  // address space of each worker process (MiB); 0: none
+  int jobs = 0;                            // worker processes at once; 0: one per available processor
+  double timeout_s = 0.0;                  // wall-time limit per molecule (all its variants); 0: none
+  double memory_limit_mb = 0.0;            // address space of each worker process (MiB); 0: none
   // Scheduler job arrays: this process takes the records whose content hash, taken modulo
   // shard_count, is shard_index − 1 (shard_index 1 … shard_count).
   int shard_index = 1;

@@ -154,7 +154,9 @@ void add_anharmonic_rows(const AnalysisResult& analysis, const AnharmonicResult&
     row.kind = to_string(resonance.kind);
     row.label = resonance_label(resonance, numbers, true);
     const auto set = [&](std::size_t k) { return resonance.sets.at(k); };
-    const auto omega = [&](std::size_t k) { return vpt2.sets.at(static_cast<std::size_t>(set(k))).harmonic_cm1; };
+    const auto omega = [&](std::size_t k) {
+      return vpt2.sets.at(static_cast<std::size_t>(set(k))).harmonic_cm1;
+    };
     std::vector<int> lower_quanta(set_count, 0);
     std::vector<int> upper_quanta(set_count, 0);
     row.first = numbers.at(static_cast<std::size_t>(set(0)));
@@ -179,7 +181,8 @@ void add_anharmonic_rows(const AnalysisResult& analysis, const AnharmonicResult&
     }
     row.lower_label = level_label(lower_quanta, numbers, true);
     row.upper_label = level_label(upper_quanta, numbers, true);
-    if (const VibrationalLevel* upper = level_with_quanta(vpt2, upper_quanta)) row.band_cm1 = upper->anharmonic_cm1;
+    if (const VibrationalLevel* upper = level_with_quanta(vpt2, upper_quanta))
+      row.band_cm1 = upper->anharmonic_cm1;
     row.gap_cm1 = resonance.gap_cm1;
     row.coupling_cm1 = resonance.coupling_cm1;
     row.criterion_value = std::isfinite(resonance.criterion_value) ? resonance.criterion_value
@@ -210,7 +213,8 @@ void add_anharmonic_rows(const AnalysisResult& analysis, const AnharmonicResult&
   }
 }
 
-void add_family_rows(const AnalysisResult& analysis, const FamiliesResult& families, VariantOutcome& outcome) {
+void add_family_rows(const AnalysisResult& analysis, const FamiliesResult& families,
+                     VariantOutcome& outcome) {
   int counter = 0;
   for (const FamilyResult& family : families.families) {
     ScreenFamilyRow row;
@@ -252,7 +256,8 @@ void compare_with_parent(const AnalysisResult& parent, const AnalysisResult& var
   const std::vector<int> parent_number = mode_number_of_index(parent.modes);
   for (ScreenModeRow& row : outcome.modes) {
     const int index = variant.modes.at(static_cast<std::size_t>(row.mode - 1)).harmonic_index;
-    const Eigen::VectorXd overlaps = (p.cartesian_displacements.transpose() * v.cartesian_displacements.col(index)).cwiseAbs();
+    const Eigen::VectorXd overlaps =
+        (p.cartesian_displacements.transpose() * v.cartesian_displacements.col(index)).cwiseAbs();
     Eigen::Index best = 0;
     overlaps.maxCoeff(&best);
     row.parent_mode = parent_number.at(static_cast<std::size_t>(best));
@@ -362,7 +367,8 @@ FamiliesOptions screen_families_options(const AnalysisResult& analysis, const An
   std::set<int> fundamentals;
   for (const Resonance& resonance : anharmonic.vpt2.resonances)
     if (resonance.flagged)
-      for (int set : resonance.sets) fundamentals.insert(anharmonic.set_numbers.at(static_cast<std::size_t>(set)));
+      for (int set : resonance.sets)
+        fundamentals.insert(anharmonic.set_numbers.at(static_cast<std::size_t>(set)));
   if (fundamentals.empty()) {
     options.continue_families = false;
     return options;
@@ -391,8 +397,8 @@ MoleculeOutcome screen_molecule(const ScreenTask& task, const ScreenSettings& se
     potential = make_potential(settings.potential, molecule);
   } catch (const std::exception& error) {
     const bool ours = dynamic_cast<const Error*>(&error) != nullptr;
-    MoleculeOutcome failed = failed_outcome(task.variants, screen.stage(),
-                                            ours ? error.what() : std::string("internal error: ") + error.what());
+    MoleculeOutcome failed = failed_outcome(
+        task.variants, screen.stage(), ours ? error.what() : std::string("internal error: ") + error.what());
     failed.formula = molecule.atom_count() > 0 ? molecule.formula() : std::string();
     failed.atom_count = static_cast<int>(molecule.atom_count());
     for (VariantOutcome& variant : failed.variants) variant.seconds = seconds_since(start);
@@ -406,12 +412,14 @@ MoleculeOutcome screen_molecule(const ScreenTask& task, const ScreenSettings& se
   VariantRun parent;
   if (parent_wanted || variants_wanted) {
     parent = screen.run(molecule, *potential, "", !parent_wanted);
-    parent.outcome.warnings.insert(parent.outcome.warnings.begin(), read_warnings.begin(), read_warnings.end());
+    parent.outcome.warnings.insert(parent.outcome.warnings.begin(), read_warnings.begin(),
+                                   read_warnings.end());
     if (parent_wanted) outcome.variants.push_back(parent.outcome);
   }
   for (const std::string& variant : task.variants) {
     if (variant.empty()) continue;
-    const auto rule = std::find_if(rules.begin(), rules.end(), [&](const IsotopeRule& r) { return r.text == variant; });
+    const auto rule =
+        std::find_if(rules.begin(), rules.end(), [&](const IsotopeRule& r) { return r.text == variant; });
     if (rule == rules.end()) throw Error(fmt::format("no isotope rule '{}' was given", variant));
     VariantOutcome labelled_outcome;
     labelled_outcome.variant = variant;
@@ -436,7 +444,8 @@ MoleculeOutcome screen_molecule(const ScreenTask& task, const ScreenSettings& se
     }
     VariantRun run = screen.run(labelled, *potential, variant, false);
     run.outcome.labelled_atoms = labelled_text(choices);
-    if (parent.analysis && run.analysis) compare_with_parent(*parent.analysis, *run.analysis, choices, run.outcome);
+    if (parent.analysis && run.analysis)
+      compare_with_parent(*parent.analysis, *run.analysis, choices, run.outcome);
     outcome.variants.push_back(std::move(run.outcome));
   }
   return outcome;

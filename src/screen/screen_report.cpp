@@ -20,7 +20,9 @@ std::optional<double> optional_real(const SQLite::Column& column) {
   return column.getDouble();
 }
 
-std::string text_of(const SQLite::Column& column) { return column.isNull() ? std::string() : column.getString(); }
+std::string text_of(const SQLite::Column& column) {
+  return column.isNull() ? std::string() : column.getString();
+}
 
 std::string number_text(const std::optional<double>& value, int decimals) {
   return value ? fmt::format("{:.{}f}", *value, decimals) : std::string("-");
@@ -60,7 +62,8 @@ ScreenReport screen_report(const std::string& store_path, const ScreenReportOpti
   ScreenReport report;
   report.store_path = store_path;
   report.options = options;
-  SQLite::Statement runs(db, "SELECT run_id, settings_hash, potential, stages, created FROM runs ORDER BY run_id");
+  SQLite::Statement runs(
+      db, "SELECT run_id, settings_hash, potential, stages, created FROM runs ORDER BY run_id");
   while (runs.executeStep()) {
     ReportedRun run;
     run.run_id = runs.getColumn(0).getInt64();
@@ -74,9 +77,10 @@ ScreenReport screen_report(const std::string& store_path, const ScreenReportOpti
   if (options.run_id && report.runs.empty())
     throw Error(fmt::format("store '{}' has no run {}", store_path, *options.run_id));
   for (ReportedRun& run : report.runs) {
-    SQLite::Statement counts(db,
-                             "SELECT count(DISTINCT molecule_id), sum(status = 'done'), sum(status = 'failed'), "
-                             "sum(status = 'not_applicable') FROM results WHERE run_id = ?");
+    SQLite::Statement counts(
+        db,
+        "SELECT count(DISTINCT molecule_id), sum(status = 'done'), sum(status = 'failed'), "
+        "sum(status = 'not_applicable') FROM results WHERE run_id = ?");
     counts.bind(1, static_cast<int64_t>(run.run_id));
     if (counts.executeStep()) {
       run.molecules = static_cast<std::size_t>(counts.getColumn(0).getInt64());
@@ -86,7 +90,8 @@ ScreenReport screen_report(const std::string& store_path, const ScreenReportOpti
     }
     SQLite::Statement resonances(
         db,
-        "SELECT m.name, m.origin, r.variant, s.kind, s.label, s.lower_label, s.upper_label, s.partner_species, "
+        "SELECT m.name, m.origin, r.variant, s.kind, s.label, s.lower_label, s.upper_label, "
+        "s.partner_species, "
         "s.band_cm1, s.upper_harmonic_cm1, s.gap_cm1, s.coupling_cm1, s.criterion_value, s.symmetry_allowed, "
         "s.flagged FROM resonances s JOIN results r ON r.result_id = s.result_id "
         "JOIN molecules m ON m.molecule_id = r.molecule_id "
@@ -136,23 +141,24 @@ ScreenReport screen_report(const std::string& store_path, const ScreenReportOpti
 }
 
 std::string screen_report_text(const ScreenReport& report) {
-  std::string text = fmt::format("store {}: {} run{}\n", printable_text(report.store_path), report.runs.size(),
-                                 report.runs.size() == 1 ? "" : "s");
+  std::string text = fmt::format("store {}: {} run{}\n", printable_text(report.store_path),
+                                 report.runs.size(), report.runs.size() == 1 ? "" : "s");
   const std::string selection =
       report.options.min_criterion
           ? fmt::format("resonance candidates with criterion >= {:g} cm-1", *report.options.min_criterion)
           : std::string("flagged resonances");
   for (const ReportedRun& run : report.runs) {
-    text += fmt::format("\nrun {} ({}, {} stages; settings {}; started {}): {} molecules, {} results done, {} failed, "
-                        "{} not applicable\n",
-                        run.run_id, printable_text(run.potential), run.stages, run.settings_hash.substr(0, 12),
-                        run.created, run.molecules, run.done, run.failed, run.not_applicable);
+    text += fmt::format(
+        "\nrun {} ({}, {} stages; settings {}; started {}): {} molecules, {} results done, {} failed, "
+        "{} not applicable\n",
+        run.run_id, printable_text(run.potential), run.stages, run.settings_hash.substr(0, 12), run.created,
+        run.molecules, run.done, run.failed, run.not_applicable);
     text += fmt::format("{} with the upper level at {}: {}\n", selection, window_text(report.options),
                         run.resonances.size());
     if (!run.resonances.empty()) {
-      text += fmt::format("  {} {} {} {} {:>9} {:>9} {:>9} {:>10}  {}\n", padded("molecule", 20), padded("variant", 14),
-                          padded("levels", 16), padded("kind", 24), "band", "gap", "coupling", "criterion",
-                          "symmetry");
+      text += fmt::format("  {} {} {} {} {:>9} {:>9} {:>9} {:>10}  {}\n", padded("molecule", 20),
+                          padded("variant", 14), padded("levels", 16), padded("kind", 24), "band", "gap",
+                          "coupling", "criterion", "symmetry");
       std::string last_molecule;
       for (const ReportedResonance& row : run.resonances) {
         const std::string molecule = printable_text(row.molecule);
@@ -160,20 +166,22 @@ std::string screen_report_text(const ScreenReport& report) {
         last_molecule = molecule;
         text += fmt::format("  {} {} {} {} {:>9} {:>9.1f} {:>9.2f} {:>10.3g}  {}{}\n", padded(shown, 20),
                             padded(row.variant.empty() ? "parent" : printable_text(row.variant), 14),
-                            padded(row.label, 16), padded(row.kind, 24), number_text(row.band_cm1, 1), row.gap_cm1,
-                            row.coupling_cm1, row.criterion_value,
+                            padded(row.label, 16), padded(row.kind, 24), number_text(row.band_cm1, 1),
+                            row.gap_cm1, row.coupling_cm1, row.criterion_value,
                             row.symmetry_allowed ? "allowed" : "forbidden",
                             row.partner_species.empty() ? "" : " (" + row.partner_species + ")");
       }
-      text += "  band: VPT2 position of the upper level (cm-1); gap: harmonic (cm-1); coupling W (cm-1); "
-              "criterion: W^4/|gap|^3 (Fermi) or W (overtone-overtone), cm-1\n";
+      text +=
+          "  band: VPT2 position of the upper level (cm-1); gap: harmonic (cm-1); coupling W (cm-1); "
+          "criterion: W^4/|gap|^3 (Fermi) or W (overtone-overtone), cm-1\n";
     }
     text += fmt::format("failures: {}\n", run.failures.size());
     for (const ReportedFailure& failure : run.failures)
-      text += fmt::format("  {}{}{} at {}: {}\n", printable_text(failure.molecule),
-                          failure.origin == failure.molecule ? "" : " [" + printable_text(failure.origin) + "]",
-                          failure.variant.empty() ? "" : " variant " + printable_text(failure.variant), failure.stage,
-                          printable_text(failure.message));
+      text +=
+          fmt::format("  {}{}{} at {}: {}\n", printable_text(failure.molecule),
+                      failure.origin == failure.molecule ? "" : " [" + printable_text(failure.origin) + "]",
+                      failure.variant.empty() ? "" : " variant " + printable_text(failure.variant),
+                      failure.stage, printable_text(failure.message));
   }
   return text;
 }
@@ -194,13 +202,14 @@ std::string screen_report_csv(const ScreenReport& report) {
       "upper_harmonic_cm1,gap_cm1,coupling_cm1,criterion_value,symmetry_allowed,flagged\n";
   for (const ReportedRun& run : report.runs)
     for (const ReportedResonance& row : run.resonances)
-      text += fmt::format("{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{}\n", run.run_id,
-                          csv_field(valid_utf8(row.molecule)), csv_field(valid_utf8(row.origin)),
-                          csv_field(valid_utf8(row.variant)), row.kind, csv_field(row.label),
-                          csv_field(row.lower_label), csv_field(row.upper_label), csv_field(row.partner_species),
-                          row.band_cm1 ? fmt::format("{}", *row.band_cm1) : std::string(),
-                          row.upper_harmonic_cm1, row.gap_cm1, row.coupling_cm1, row.criterion_value,
-                          row.symmetry_allowed ? 1 : 0, row.flagged ? 1 : 0);
+      text +=
+          fmt::format("{},{},{},{},{},{},{},{},{},{},{},{},{},{},{},{}\n", run.run_id,
+                      csv_field(valid_utf8(row.molecule)), csv_field(valid_utf8(row.origin)),
+                      csv_field(valid_utf8(row.variant)), row.kind, csv_field(row.label),
+                      csv_field(row.lower_label), csv_field(row.upper_label), csv_field(row.partner_species),
+                      row.band_cm1 ? fmt::format("{}", *row.band_cm1) : std::string(), row.upper_harmonic_cm1,
+                      row.gap_cm1, row.coupling_cm1, row.criterion_value, row.symmetry_allowed ? 1 : 0,
+                      row.flagged ? 1 : 0);
   return text;
 }
 
@@ -214,8 +223,7 @@ std::string store_table_csv(const std::string& store_path, const std::string& ta
   const std::unique_ptr<SQLite::Database> database = open_store_for_reading(store_path);
   SQLite::Statement query(*database, "SELECT * FROM " + table);
   std::string text;
-  for (int c = 0; c < query.getColumnCount(); ++c)
-    text += (c ? "," : "") + csv_field(query.getColumnName(c));
+  for (int c = 0; c < query.getColumnCount(); ++c) text += (c ? "," : "") + csv_field(query.getColumnName(c));
   text += "\n";
   while (query.executeStep()) {
     for (int c = 0; c < query.getColumnCount(); ++c) {

@@ -45,9 +45,8 @@ ScreenStages screen_stages_from_string(const std::string& name) {
 
 void ScreenSettings::validate() const {
   if (potential.empty()) throw Error("the potential of a screen must be named, got an empty name");
-  if (family_energy_max_cm1 != 0.0 &&
-      !(std::isfinite(family_energy_max_cm1) && family_energy_max_cm1 > 0.0 &&
-        family_energy_max_cm1 <= max_family_energy_cm1))
+  if (family_energy_max_cm1 != 0.0 && !(std::isfinite(family_energy_max_cm1) && family_energy_max_cm1 > 0.0 &&
+                                        family_energy_max_cm1 <= max_family_energy_cm1))
     throw Error(fmt::format("--energy-max must be an energy in cm-1 in the range 0 < value <= {}, got {}",
                             max_family_energy_cm1, family_energy_max_cm1));
   if (!(std::isfinite(family_quanta) && family_quanta > 0.0 && family_quanta <= max_family_quanta))

@@ -30,8 +30,8 @@ struct ScreenSettings {
   // Families: by default only the fundamentals that take part in a flagged resonance are
   // continued (the others are enumerated, not continued); all_families continues every one.
   bool all_families = false;
-  double family_quanta = 3.0;        // continue each family to (quanta + 1) quanta of its own mode
-  double family_energy_max_cm1 = 0;  // > 0: to this energy above the minimum instead (cm⁻¹)
+  double family_quanta = 3.0;                 // continue each family to (quanta + 1) quanta of its own mode
+  double family_energy_max_cm1 = 0;           // > 0: to this energy above the minimum instead (cm⁻¹)
   double symmetry_tolerance_angstrom = 0.02;  // largest displacement when symmetrizing (Å)
 
   // Throws Error naming the field and its valid range.

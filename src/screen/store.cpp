@@ -128,8 +128,7 @@ const char* const schema_statements[] = {
       last_energy_cm1 REAL,
       events INTEGER NOT NULL,
       allowed_threats INTEGER NOT NULL,
-      PRIMARY KEY (result_id, family)) WITHOUT ROWID)",
-    R"(CREATE INDEX results_by_molecule ON results (molecule_id))",
+      PRIMARY KEY (result_id, family)) WITHOUT ROWID)",   R"(CREATE INDEX results_by_molecule ON results (molecule_id))",
     R"(CREATE VIEW failures AS
       SELECT results.run_id, molecules.name, molecules.origin, results.variant,
              results.failed_stage AS stage, results.message, molecules.content_hash
@@ -234,8 +233,8 @@ void check_schema(SQLite::Database& database, const std::string& path) {
 }  // namespace
 
 const std::vector<std::string>& store_table_names() {
-  static const std::vector<std::string> names = {"runs",   "molecules", "results", "modes",
-                                                 "resonances", "levels", "families", "failures"};
+  static const std::vector<std::string> names = {"runs",       "molecules", "results",  "modes",
+                                                 "resonances", "levels",    "families", "failures"};
   return names;
 }
 
@@ -248,12 +247,13 @@ struct ScreenStore::Statements {
                         "COALESCE(molecules.atom_count, excluded.atom_count)"),
         molecule_id(db, "SELECT molecule_id FROM molecules WHERE content_hash = ?"),
         delete_result(db, "DELETE FROM results WHERE run_id = ? AND molecule_id = ? AND variant = ?"),
-        insert_result(db, fmt::format("INSERT INTO results (run_id, molecule_id, variant, {}) VALUES (?, ?, ?, {})",
-                                      result_columns, placeholders(result_columns))),
+        insert_result(
+            db, fmt::format("INSERT INTO results (run_id, molecule_id, variant, {}) VALUES (?, ?, ?, {})",
+                            result_columns, placeholders(result_columns))),
         insert_mode(db, fmt::format("INSERT INTO modes (result_id, {}) VALUES (?, {})", mode_columns,
                                     placeholders(mode_columns))),
-        insert_resonance(db, fmt::format("INSERT INTO resonances (result_id, {}) VALUES (?, {})", resonance_columns,
-                                         placeholders(resonance_columns))),
+        insert_resonance(db, fmt::format("INSERT INTO resonances (result_id, {}) VALUES (?, {})",
+                                         resonance_columns, placeholders(resonance_columns))),
         insert_level(db, fmt::format("INSERT INTO levels (result_id, {}) VALUES (?, {})", level_columns,
                                      placeholders(level_columns))),
         insert_family(db, fmt::format("INSERT INTO families (result_id, {}) VALUES (?, {})", family_columns,
@@ -306,7 +306,8 @@ long long ScreenStore::ensure_run(const nlohmann::json& settings, const std::str
   SQLite::Statement find(db, "SELECT run_id FROM runs WHERE settings_hash = ?");
   find.bind(1, settings_hash);
   if (find.executeStep()) return find.getColumn(0).getInt64();
-  SQLite::Statement insert(db, "INSERT INTO runs (settings_hash, settings, potential, stages, created) VALUES (?, ?, ?, ?, ?)");
+  SQLite::Statement insert(
+      db, "INSERT INTO runs (settings_hash, settings, potential, stages, created) VALUES (?, ?, ?, ?, ?)");
   values(insert)(settings_hash)(settings.dump())(settings.value("potential", std::string()))(
       settings.value("stages", std::string()))(utc_now())
       .run();
@@ -324,13 +325,15 @@ std::map<std::string, std::map<std::string, std::string>> ScreenStore::result_st
   return statuses;
 }
 
-void ScreenStore::write_outcome(long long run_id, const ScreenRecord& record, const MoleculeOutcome& outcome) {
+void ScreenStore::write_outcome(long long run_id, const ScreenRecord& record,
+                                const MoleculeOutcome& outcome) {
   SQLite::Database& db = *database_;
   Statements& s = *statements_;
   try {
     SQLite::Transaction transaction(db);
     values(s.insert_molecule)(record.content_hash)(record.id)(record.origin)(record.format)(record.text)
-        .text_or_null(outcome.formula)(outcome.atom_count > 0 ? std::optional<int>(outcome.atom_count) : std::nullopt)
+        .text_or_null(outcome.formula)(outcome.atom_count > 0 ? std::optional<int>(outcome.atom_count)
+                                                              : std::nullopt)
         .run();
     s.molecule_id.reset();
     s.molecule_id.bind(1, record.content_hash);
@@ -360,8 +363,8 @@ void ScreenStore::write_outcome(long long run_id, const ScreenRecord& record, co
       for (const ScreenResonanceRow& r : v.resonances)
         values(s.insert_resonance)(result_id)(r.resonance)(r.kind)(r.label)(r.first)(r.second)(r.partner)(
             r.lower_label)(r.upper_label)
-            .text_or_null(r.partner_species)(r.lower_harmonic_cm1)(r.upper_harmonic_cm1)(r.band_cm1)(r.gap_cm1)(
-                r.coupling_cm1)(r.criterion_value)(r.symmetry_allowed)(r.flagged)
+            .text_or_null(r.partner_species)(r.lower_harmonic_cm1)(r.upper_harmonic_cm1)(r.band_cm1)(
+                r.gap_cm1)(r.coupling_cm1)(r.criterion_value)(r.symmetry_allowed)(r.flagged)
             .run();
       for (const ScreenLevelRow& l : v.levels)
         values(s.insert_level)(result_id)(l.level)(l.kind)(l.label)
@@ -379,14 +382,16 @@ void ScreenStore::write_outcome(long long run_id, const ScreenRecord& record, co
     }
     transaction.commit();
   } catch (const SQLite::Exception& error) {
-    throw Error(fmt::format("writing molecule '{}' to store '{}' failed: {}", record.id, path_, error.what()));
+    throw Error(
+        fmt::format("writing molecule '{}' to store '{}' failed: {}", record.id, path_, error.what()));
   }
 }
 
 std::unique_ptr<SQLite::Database> open_store_for_reading(const std::string& path) {
   std::error_code ec;
   if (!fs::exists(path, ec)) throw Error(fmt::format("store '{}' does not exist", path));
-  if (fs::is_directory(path, ec)) throw Error(fmt::format("store '{}' is a directory, expected an sqlite file", path));
+  if (fs::is_directory(path, ec))
+    throw Error(fmt::format("store '{}' is a directory, expected an sqlite file", path));
   try {
     auto database = std::make_unique<SQLite::Database>(path, SQLite::OPEN_READONLY, busy_timeout_ms);
     check_schema(*database, path);
@@ -423,13 +428,13 @@ MergeCounts merge_store(ScreenStore& output, const std::string& input_path) {
       }
     } detach{db};
     SQLite::Transaction transaction(db);
-    counts.runs_added = static_cast<std::size_t>(
-        db.exec("INSERT OR IGNORE INTO runs (settings_hash, settings, potential, stages, created) "
-                "SELECT settings_hash, settings, potential, stages, created FROM incoming.runs ORDER BY run_id"));
-    counts.molecules_added = static_cast<std::size_t>(
-        db.exec("INSERT OR IGNORE INTO molecules (content_hash, name, origin, record_format, record, formula, "
-                "atom_count) SELECT content_hash, name, origin, record_format, record, formula, atom_count "
-                "FROM incoming.molecules ORDER BY molecule_id"));
+    counts.runs_added = static_cast<std::size_t>(db.exec(
+        "INSERT OR IGNORE INTO runs (settings_hash, settings, potential, stages, created) "
+        "SELECT settings_hash, settings, potential, stages, created FROM incoming.runs ORDER BY run_id"));
+    counts.molecules_added = static_cast<std::size_t>(db.exec(
+        "INSERT OR IGNORE INTO molecules (content_hash, name, origin, record_format, record, formula, "
+        "atom_count) SELECT content_hash, name, origin, record_format, record, formula, atom_count "
+        "FROM incoming.molecules ORDER BY molecule_id"));
     SQLite::Statement pending(
         db,
         "SELECT ir.result_id, mr.run_id, mm.molecule_id, ir.variant, ir.status, "
@@ -439,17 +444,21 @@ MergeCounts merge_store(ScreenStore& output, const std::string& input_path) {
         "JOIN incoming.molecules im ON im.molecule_id = ir.molecule_id "
         "JOIN main.runs mr ON mr.settings_hash = irun.settings_hash "
         "JOIN main.molecules mm ON mm.content_hash = im.content_hash ORDER BY ir.result_id");
-    SQLite::Statement remove(db, "DELETE FROM main.results WHERE run_id = ? AND molecule_id = ? AND variant = ?");
+    SQLite::Statement remove(db,
+                             "DELETE FROM main.results WHERE run_id = ? AND molecule_id = ? AND variant = ?");
     SQLite::Statement copy_result(
-        db, fmt::format("INSERT INTO main.results (run_id, molecule_id, variant, {0}) SELECT ?, ?, variant, {0} "
-                        "FROM incoming.results WHERE result_id = ?",
-                        result_columns));
+        db,
+        fmt::format("INSERT INTO main.results (run_id, molecule_id, variant, {0}) SELECT ?, ?, variant, {0} "
+                    "FROM incoming.results WHERE result_id = ?",
+                    result_columns));
     std::vector<std::unique_ptr<SQLite::Statement>> copy_rows;
-    for (const auto& [table, columns] : {std::pair{"modes", mode_columns}, std::pair{"resonances", resonance_columns},
-                                         std::pair{"levels", level_columns}, std::pair{"families", family_columns}})
+    for (const auto& [table, columns] :
+         {std::pair{"modes", mode_columns}, std::pair{"resonances", resonance_columns},
+          std::pair{"levels", level_columns}, std::pair{"families", family_columns}})
       copy_rows.push_back(std::make_unique<SQLite::Statement>(
-          db, fmt::format("INSERT INTO main.{0} (result_id, {1}) SELECT ?, {1} FROM incoming.{0} WHERE result_id = ?",
-                          table, columns)));
+          db, fmt::format(
+                  "INSERT INTO main.{0} (result_id, {1}) SELECT ?, {1} FROM incoming.{0} WHERE result_id = ?",
+                  table, columns)));
     struct Pending {
       long long incoming_id, run_id, molecule_id;
       std::string variant, status;
@@ -457,8 +466,9 @@ MergeCounts merge_store(ScreenStore& output, const std::string& input_path) {
     };
     std::vector<Pending> rows;
     while (pending.executeStep()) {
-      Pending row{pending.getColumn(0).getInt64(), pending.getColumn(1).getInt64(), pending.getColumn(2).getInt64(),
-                  pending.getColumn(3).getString(), pending.getColumn(4).getString(), std::nullopt};
+      Pending row{pending.getColumn(0).getInt64(),  pending.getColumn(1).getInt64(),
+                  pending.getColumn(2).getInt64(),  pending.getColumn(3).getString(),
+                  pending.getColumn(4).getString(), std::nullopt};
       if (!pending.getColumn(5).isNull()) row.existing = pending.getColumn(5).getString();
       rows.push_back(std::move(row));
     }
@@ -475,11 +485,12 @@ MergeCounts merge_store(ScreenStore& output, const std::string& input_path) {
       }
       values(copy_result)(row.run_id)(row.molecule_id)(row.incoming_id).run();
       const long long result_id = db.getLastInsertRowid();
-      for (auto& copy : copy_rows) values(*copy)(result_id)(row.incoming_id).run();
+      for (auto& copy : copy_rows) values (*copy)(result_id)(row.incoming_id).run();
     }
     transaction.commit();
   } catch (const SQLite::Exception& error) {
-    throw Error(fmt::format("merging store '{}' into '{}' failed: {}", input_path, output.path(), error.what()));
+    throw Error(
+        fmt::format("merging store '{}' into '{}' failed: {}", input_path, output.path(), error.what()));
   }
   return counts;
 }

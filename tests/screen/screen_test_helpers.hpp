@@ -4,8 +4,8 @@
 // the columns that record when and how long), so that two stores compare as text.
 #include <SQLiteCpp/Database.h>
 #include <SQLiteCpp/Statement.h>
-#include <fmt/format.h>
 #include <fcntl.h>
+#include <fmt/format.h>
 #include <signal.h>
 #include <spawn.h>
 #include <sys/wait.h>
@@ -30,7 +30,8 @@ inline std::string screen_data(const std::string& name) { return source_path("te
 
 // A fresh folder per test (CTest runs tests as parallel processes).
 inline std::filesystem::path scratch_folder(const std::string& name) {
-  const auto folder = std::filesystem::temp_directory_path() / fmt::format("overtone-screen-test-{}-{}", name, getpid());
+  const auto folder =
+      std::filesystem::temp_directory_path() / fmt::format("overtone-screen-test-{}-{}", name, getpid());
   std::filesystem::remove_all(folder);
   std::filesystem::create_directories(folder);
   return folder;
@@ -72,7 +73,8 @@ inline int wait_exit_status(pid_t pid) {
   return WIFEXITED(status) ? WEXITSTATUS(status) : 128 + (WIFSIGNALED(status) ? WTERMSIG(status) : 0);
 }
 
-inline ProgramRun run_program(const std::vector<std::string>& arguments, const std::filesystem::path& folder) {
+inline ProgramRun run_program(const std::vector<std::string>& arguments,
+                              const std::filesystem::path& folder) {
   const auto out = folder / "run.out";
   const auto err = folder / "run.err";
   ProgramRun run;
@@ -91,7 +93,8 @@ inline ProgramRun run_overtone(std::vector<std::string> arguments, const std::fi
 
 inline std::string column_text(const SQLite::Column& column) {
   if (column.isNull()) return "NULL";
-  if (column.isFloat()) return fmt::format("{}", column.getDouble());  // shortest text that reads back exactly
+  if (column.isFloat())
+    return fmt::format("{}", column.getDouble());  // shortest text that reads back exactly
   return column.getString();
 }
 
@@ -100,7 +103,8 @@ inline std::string column_text(const SQLite::Column& column) {
 inline std::vector<std::string> store_dump(const std::filesystem::path& path) {
   SQLite::Database db(path.string(), SQLite::OPEN_READONLY);
   std::vector<std::string> lines;
-  auto add_rows = [&](const std::string& table, const std::string& sql, const std::vector<std::string>& skip) {
+  auto add_rows = [&](const std::string& table, const std::string& sql,
+                      const std::vector<std::string>& skip) {
     SQLite::Statement query(db, sql);
     while (query.executeStep()) {
       std::string line = table;
@@ -113,7 +117,8 @@ inline std::vector<std::string> store_dump(const std::filesystem::path& path) {
     }
   };
   add_rows("run", "SELECT settings_hash, settings, potential, stages FROM runs", {});
-  add_rows("molecule", "SELECT content_hash, name, origin, record_format, record, formula, atom_count FROM molecules",
+  add_rows("molecule",
+           "SELECT content_hash, name, origin, record_format, record, formula, atom_count FROM molecules",
            {});
   const std::string keys =
       "SELECT runs.settings_hash, molecules.content_hash, results.variant, t.* FROM {} t JOIN results USING "

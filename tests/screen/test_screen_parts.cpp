@@ -121,8 +121,8 @@ TEST(InputRecords, SdfRecordsKeepNamesEmptyRecordsAndHashTheMoleculeBlockOnly) {
   const std::string one = file_text(source_path("tests/data/formats/acetaldehyde.sdf"));
   const std::string block = one.substr(one.find('\n') + 1, one.find("M  END") - one.find('\n') - 1);
   const std::string text = "acetaldehyde\n" + block + "M  END\n>  <NOTE>\nfirst\n\n$$$$\n" + "$$$$\n" +
-                           "another name\n" + block + "M  END\n>  <NOTE>\nsecond copy\n\n$$$$\n" + "\n" + block +
-                           "M  END\n$$$$\n";
+                           "another name\n" + block + "M  END\n>  <NOTE>\nsecond copy\n\n$$$$\n" + "\n" +
+                           block + "M  END\n$$$$\n";
   const std::string path = write_file(folder / "set.sdf", text);
   const std::vector<MoleculeFileRecord> records = read_records(path);
   ASSERT_EQ(records.size(), 4u);
@@ -163,7 +163,8 @@ TEST(InputRecords, SmilesFilesCsvFilesAndDirectories) {
   fs::create_directories(folder / "set" / "sub");
   write_file(folder / "set" / "a.smi", "# a comment\nCCO ethanol\n\nC=O\tformaldehyde gas\nO\n");
   // RFC 4180: quoted fields may hold commas and doubled quotes.
-  write_file(folder / "set" / "sub" / "b.csv", "Name,SMILES,note\n\"acid, acetic\",CC(=O)O,x\nwater,O,\"say \"\"hi\"\"\"\n");
+  write_file(folder / "set" / "sub" / "b.csv",
+             "Name,SMILES,note\n\"acid, acetic\",CC(=O)O,x\nwater,O,\"say \"\"hi\"\"\"\n");
   write_file(folder / "set" / "notes.txt", "not a molecule file\n");
   InputOptions options;
   options.smiles_column = "SMILES";
@@ -210,11 +211,11 @@ TEST(ScreenSettings, HashNamesTheSettingsNotTheExecution) {
 
 TEST(IsotopeRules, SyntaxErrorsAreRefusedWithTheRule) {
   EXPECT_THROW(parse_isotope_rule(""), Error);
-  EXPECT_THROW(parse_isotope_rule("C(=O)"), Error);       // no mass number
-  EXPECT_THROW(parse_isotope_rule("C(=O)=x"), Error);     // not a number
-  EXPECT_THROW(parse_isotope_rule("C(=O)=0"), Error);     // no mass number 0
-  EXPECT_THROW(parse_isotope_rule("C(=O=13"), Error);     // not SMARTS
-  EXPECT_THROW(parse_isotope_rule("H@=2"), Error);        // no pattern
+  EXPECT_THROW(parse_isotope_rule("C(=O)"), Error);    // no mass number
+  EXPECT_THROW(parse_isotope_rule("C(=O)=x"), Error);  // not a number
+  EXPECT_THROW(parse_isotope_rule("C(=O)=0"), Error);  // no mass number 0
+  EXPECT_THROW(parse_isotope_rule("C(=O=13"), Error);  // not SMARTS
+  EXPECT_THROW(parse_isotope_rule("H@=2"), Error);     // no pattern
   const IsotopeRule rule = parse_isotope_rule("  C(=O)=13   C=[O:1]=18 ");
   EXPECT_EQ(rule.text, "C(=O)=13 C=[O:1]=18");
   ASSERT_EQ(rule.substitutions.size(), 2u);
@@ -249,10 +250,12 @@ TEST(IsotopeRules, CarbonylAndExchangeableHydrogenRulesPickTheRightAtomsOnASerie
     std::size_t carbonyls;
     std::size_t exchangeable;
   };
-  for (const Case& c : {Case{"CC(C)=O", 1, 0}, Case{"CC(=O)O", 1, 1}, Case{"CC(N)=O", 1, 2}, Case{"CCO", 0, 1}}) {
+  for (const Case& c :
+       {Case{"CC(C)=O", 1, 0}, Case{"CC(=O)O", 1, 1}, Case{"CC(N)=O", 1, 2}, Case{"CCO", 0, 1}}) {
     const Molecule molecule = molecule_from_smiles(c.smiles);
     EXPECT_EQ(labelled_elements("C(=O)=13", molecule, 13), std::vector<int>(c.carbonyls, carbon)) << c.smiles;
-    EXPECT_EQ(labelled_elements("C=[O:1]=18", molecule, 18), std::vector<int>(c.carbonyls, oxygen)) << c.smiles;
+    EXPECT_EQ(labelled_elements("C=[O:1]=18", molecule, 18), std::vector<int>(c.carbonyls, oxygen))
+        << c.smiles;
     EXPECT_EQ(labelled_elements("H@[O,N;!H0]=2", molecule, 2), std::vector<int>(c.exchangeable, hydrogen))
         << c.smiles;
   }
@@ -264,7 +267,8 @@ TEST(IsotopeRules, CarbonylAndExchangeableHydrogenRulesPickTheRightAtomsOnASerie
 Eigen::Vector3d principal_moments(const HarmonicResult& harmonic) {
   const Eigen::Index n = harmonic.masses_da.size();
   Eigen::Vector3d center = Eigen::Vector3d::Zero();
-  for (Eigen::Index a = 0; a < n; ++a) center += harmonic.masses_da[a] * harmonic.coordinates_angstrom.segment<3>(3 * a);
+  for (Eigen::Index a = 0; a < n; ++a)
+    center += harmonic.masses_da[a] * harmonic.coordinates_angstrom.segment<3>(3 * a);
   center /= harmonic.masses_da.sum();
   Eigen::Matrix3d inertia = Eigen::Matrix3d::Zero();
   for (Eigen::Index a = 0; a < n; ++a) {

@@ -3,11 +3,11 @@
 // Each check compares the store with another run of the program (an uninterrupted run,
 // the analyze command, a single-process run) or with facts about the inputs.
 #include <gtest/gtest.h>
-#include <nlohmann/json.hpp>
 
 #include <chrono>
 #include <cmath>
 #include <map>
+#include <nlohmann/json.hpp>
 #include <thread>
 
 #include "screen_test_helpers.hpp"
@@ -34,7 +34,8 @@ constexpr double same_computation_tolerance = 1e-12;
 
 std::vector<std::string> screen_arguments(const std::string& input, const fs::path& store,
                                           std::vector<std::string> extra = {}) {
-  std::vector<std::string> arguments = {"screen", input, "--store", store.string(), "--jobs", "2", "--progress", "none"};
+  std::vector<std::string> arguments = {"screen", input, "--store",    store.string(),
+                                        "--jobs", "2",   "--progress", "none"};
   arguments.insert(arguments.end(), extra.begin(), extra.end());
   return arguments;
 }
@@ -80,10 +81,11 @@ TEST(ScreenRuns, KillPartWayThenResumeEqualsUninterruptedRunAndRerunDoesNothing)
   const long long at_kill = count_rows(killed, "SELECT count(*) FROM results");
   EXPECT_LT(at_kill, small_set_molecules) << "the kill came after the last molecule";
   // No half-written molecule: every result that is done has its modes.
-  EXPECT_EQ(count_rows(killed,
-                       "SELECT count(*) FROM results WHERE status = 'done' AND NOT EXISTS (SELECT 1 FROM modes "
-                       "WHERE modes.result_id = results.result_id)"),
-            0);
+  EXPECT_EQ(
+      count_rows(killed,
+                 "SELECT count(*) FROM results WHERE status = 'done' AND NOT EXISTS (SELECT 1 FROM modes "
+                 "WHERE modes.result_id = results.result_id)"),
+      0);
 
   const ProgramRun resumed = run_overtone(screen_arguments(input, killed), folder);
   ASSERT_EQ(resumed.status, 0) << resumed.err;
@@ -94,7 +96,8 @@ TEST(ScreenRuns, KillPartWayThenResumeEqualsUninterruptedRunAndRerunDoesNothing)
   const long long id_sum = count_rows(full, "SELECT sum(result_id) FROM results");
   const ProgramRun again = run_overtone(screen_arguments(input, full), folder);
   ASSERT_EQ(again.status, 0) << again.err;
-  EXPECT_NE(again.out.find(fmt::format("{} already done, 0 computed now", small_set_molecules)), std::string::npos)
+  EXPECT_NE(again.out.find(fmt::format("{} already done, 0 computed now", small_set_molecules)),
+            std::string::npos)
       << again.out;
   EXPECT_EQ(count_rows(full, "SELECT sum(result_id) FROM results"), id_sum);
   EXPECT_EQ(count_rows(full, "SELECT count(*) FROM runs"), 1);
@@ -105,16 +108,19 @@ TEST(ScreenRuns, BadRecordsAreRecordedAsFailuresAndEveryGoodMoleculeIsDone) {
   const fs::path store = folder / "bad.sqlite";
   const std::string sdf = screen_data("bad-records.sdf");
   const ProgramRun run = run_overtone(
-      {"screen", sdf, screen_data("bad-records.smi"), "--store", store.string(), "--progress", "none"}, folder);
+      {"screen", sdf, screen_data("bad-records.smi"), "--store", store.string(), "--progress", "none"},
+      folder);
   ASSERT_EQ(run.status, 0) << run.err;
   std::map<std::string, std::pair<std::string, std::string>> outcome;  // name -> status, stage
   {
     SQLite::Database db(store.string(), SQLite::OPEN_READONLY);
-    SQLite::Statement query(db,
-                            "SELECT molecules.name, results.status, COALESCE(results.failed_stage, '') FROM results "
-                            "JOIN molecules USING (molecule_id)");
+    SQLite::Statement query(
+        db,
+        "SELECT molecules.name, results.status, COALESCE(results.failed_stage, '') FROM results "
+        "JOIN molecules USING (molecule_id)");
     while (query.executeStep())
-      outcome[query.getColumn(0).getString()] = {query.getColumn(1).getString(), query.getColumn(2).getString()};
+      outcome[query.getColumn(0).getString()] = {query.getColumn(1).getString(),
+                                                 query.getColumn(2).getString()};
   }
   // "Xx" is no element (IUPAC periodic table): the record cannot be read.
   EXPECT_EQ(outcome["unknown_element"], std::make_pair(std::string("failed"), std::string("read")));
@@ -123,7 +129,8 @@ TEST(ScreenRuns, BadRecordsAreRecordedAsFailuresAndEveryGoodMoleculeIsDone) {
   EXPECT_EQ(outcome[sdf + "#3"], std::make_pair(std::string("failed"), std::string("read")));
   // MMFF94 has no parameters for platinum (Halgren, J. Comput. Chem. 17, 490 (1996):
   // H, C, N, O, F, Si, P, S, Cl, Br, I and a few ions).
-  EXPECT_EQ(outcome["cisplatin_untypable_metal"], std::make_pair(std::string("failed"), std::string("potential")));
+  EXPECT_EQ(outcome["cisplatin_untypable_metal"],
+            std::make_pair(std::string("failed"), std::string("potential")));
   // An unclosed ring bond and branch are not SMILES (OpenSMILES specification).
   EXPECT_EQ(outcome["broken_smiles"], std::make_pair(std::string("failed"), std::string("read")));
   for (const char* good : {"ethanol", "acetic_acid", "methanol", "formic_acid"})
@@ -157,18 +164,20 @@ TEST(ScreenRuns, MoleculeOverTheTimeLimitIsRecordedWithItsStage) {
 TEST(ScreenRuns, MpiStoreEqualsSingleProcessStore) {
   const std::string launcher = OVERTONE_MPIEXEC;
   if (!OVERTONE_MPI_BUILT || launcher.empty() || !fs::exists(launcher))
-    GTEST_SKIP() << "overtone was built without MPI (install openmpi-bin and libopenmpi-dev, see tools/setup)";
+    GTEST_SKIP()
+        << "overtone was built without MPI (install openmpi-bin and libopenmpi-dev, see tools/setup)";
   const fs::path folder = scratch_folder("mpi");
   const std::string input = small_subset(folder, 10).string();
   const fs::path single = folder / "single.sqlite";
-  const ProgramRun one = run_overtone(screen_arguments(input, single, {"--isotope-rule", "C(=O)=13"}), folder);
+  const ProgramRun one =
+      run_overtone(screen_arguments(input, single, {"--isotope-rule", "C(=O)=13"}), folder);
   ASSERT_EQ(one.status, 0) << one.err;
   const fs::path parallel = folder / "mpi.sqlite";
   // Root may start ranks only with --allow-run-as-root; 3 ranks on 2 cores need --oversubscribe.
-  const ProgramRun mpi = run_program({launcher, "--allow-run-as-root", "--oversubscribe", "-n", "3", OVERTONE_BINARY,
-                                      "screen", input, "--store", parallel.string(), "--progress", "none",
-                                      "--isotope-rule", "C(=O)=13"},
-                                     folder);
+  const ProgramRun mpi =
+      run_program({launcher, "--allow-run-as-root", "--oversubscribe", "-n", "3", OVERTONE_BINARY, "screen",
+                   input, "--store", parallel.string(), "--progress", "none", "--isotope-rule", "C(=O)=13"},
+                  folder);
   ASSERT_EQ(mpi.status, 0) << mpi.out << mpi.err;
   EXPECT_NE(mpi.out.find("2 mpi ranks"), std::string::npos) << mpi.out;
   EXPECT_EQ(store_dump(parallel), store_dump(single));
@@ -183,7 +192,8 @@ TEST(ScreenRuns, ShardsMergedEqualTheWholeScreen) {
   long long shard_total = 0;
   for (int shard = 1; shard <= 3; ++shard) {
     const fs::path part = folder / fmt::format("part{}.sqlite", shard);
-    const ProgramRun run = run_overtone(screen_arguments(input, part, {"--shard", fmt::format("{}/3", shard)}), folder);
+    const ProgramRun run =
+        run_overtone(screen_arguments(input, part, {"--shard", fmt::format("{}/3", shard)}), folder);
     ASSERT_EQ(run.status, 0) << run.err;
     shard_total += count_rows(part, "SELECT count(*) FROM results");
     parts.push_back(part.string());
@@ -227,7 +237,8 @@ TEST(ScreenRuns, ShardsMergedEqualTheWholeScreen) {
 // The numbers of the analyze command's analysis.json for one molecule.
 nlohmann::json analyze_document(const std::string& molecule, const std::vector<std::string>& extra,
                                 const fs::path& folder, const std::string& name) {
-  std::vector<std::string> arguments = {"analyze", molecule, "--no-families", "--out", (folder / name).string()};
+  std::vector<std::string> arguments = {"analyze", molecule, "--no-families", "--out",
+                                        (folder / name).string()};
   arguments.insert(arguments.end(), extra.begin(), extra.end());
   const ProgramRun run = run_overtone(arguments, folder);
   EXPECT_EQ(run.status, 0) << run.err;
@@ -240,13 +251,16 @@ void expect_close(double screened, double analyzed, const std::string& what) {
 
 // Compares one result of the store with analyze's document: modes, point group, x matrix,
 // VPT2 fundamentals and every resonance candidate.
-void expect_result_equals_document(SQLite::Database& db, const std::string& variant, const nlohmann::json& document) {
-  SQLite::Statement result(db, "SELECT result_id, point_group, x_matrix_cm1, energy_kcal_mol FROM results WHERE variant = ?");
+void expect_result_equals_document(SQLite::Database& db, const std::string& variant,
+                                   const nlohmann::json& document) {
+  SQLite::Statement result(
+      db, "SELECT result_id, point_group, x_matrix_cm1, energy_kcal_mol FROM results WHERE variant = ?");
   result.bind(1, variant);
   ASSERT_TRUE(result.executeStep()) << variant;
   const long long id = result.getColumn(0).getInt64();
   EXPECT_EQ(result.getColumn(1).getString(), document.at("point_group").get<std::string>());
-  expect_close(result.getColumn(3).getDouble(), document.at("optimization").at("energy").get<double>(), "energy");
+  expect_close(result.getColumn(3).getDouble(), document.at("optimization").at("energy").get<double>(),
+               "energy");
   const nlohmann::json x = nlohmann::json::parse(result.getColumn(2).getString());
   const nlohmann::json& x_document = document.at("anharmonicity").at("x_cm1");
   ASSERT_EQ(x.size(), x_document.size());
@@ -254,27 +268,33 @@ void expect_result_equals_document(SQLite::Database& db, const std::string& vari
     for (std::size_t j = 0; j < x.size(); ++j)
       expect_close(x[i][j].get<double>(), x_document[i][j].get<double>(), fmt::format("x[{}][{}]", i, j));
 
-  SQLite::Statement modes(db, "SELECT mode, fundamental, species, harmonic_cm1, vpt2_cm1 FROM modes WHERE result_id = ? ORDER BY mode");
+  SQLite::Statement modes(db,
+                          "SELECT mode, fundamental, species, harmonic_cm1, vpt2_cm1 FROM modes WHERE "
+                          "result_id = ? ORDER BY mode");
   modes.bind(1, static_cast<int64_t>(id));
   std::size_t count = 0;
   std::map<int, double> fundamentals;
   for (const nlohmann::json& level : document.at("levels"))
     if (level.at("kind") == "fundamental")
       for (std::size_t q = 0; q < level.at("quanta").size(); ++q)
-        if (level.at("quanta")[q] == 1) fundamentals[static_cast<int>(q) + 1] = level.at("anharmonic_cm1").get<double>();
+        if (level.at("quanta")[q] == 1)
+          fundamentals[static_cast<int>(q) + 1] = level.at("anharmonic_cm1").get<double>();
   while (modes.executeStep()) {
     const nlohmann::json& mode = document.at("modes").at(count++);
     EXPECT_EQ(modes.getColumn(0).getInt(), mode.at("number").get<int>());
     EXPECT_EQ(modes.getColumn(1).getInt(), mode.at("fundamental").get<int>());
     EXPECT_EQ(modes.getColumn(2).getString(), mode.at("species").get<std::string>());
-    expect_close(modes.getColumn(3).getDouble(), mode.at("frequency_cm1").get<double>(), "harmonic wavenumber");
-    expect_close(modes.getColumn(4).getDouble(), fundamentals.at(modes.getColumn(1).getInt()), "vpt2 fundamental");
+    expect_close(modes.getColumn(3).getDouble(), mode.at("frequency_cm1").get<double>(),
+                 "harmonic wavenumber");
+    expect_close(modes.getColumn(4).getDouble(), fundamentals.at(modes.getColumn(1).getInt()),
+                 "vpt2 fundamental");
   }
   EXPECT_EQ(count, document.at("modes").size());
 
-  SQLite::Statement resonances(db,
-                               "SELECT kind, gap_cm1, coupling_cm1, criterion_value, symmetry_allowed, flagged FROM "
-                               "resonances WHERE result_id = ? ORDER BY resonance");
+  SQLite::Statement resonances(
+      db,
+      "SELECT kind, gap_cm1, coupling_cm1, criterion_value, symmetry_allowed, flagged FROM "
+      "resonances WHERE result_id = ? ORDER BY resonance");
   resonances.bind(1, static_cast<int64_t>(id));
   count = 0;
   while (resonances.executeStep()) {
@@ -282,7 +302,8 @@ void expect_result_equals_document(SQLite::Database& db, const std::string& vari
     EXPECT_EQ(resonances.getColumn(0).getString(), resonance.at("kind").get<std::string>());
     expect_close(resonances.getColumn(1).getDouble(), resonance.at("gap_cm1").get<double>(), "gap");
     expect_close(resonances.getColumn(2).getDouble(), resonance.at("coupling_cm1").get<double>(), "coupling");
-    expect_close(resonances.getColumn(3).getDouble(), resonance.at("criterion_value").get<double>(), "criterion");
+    expect_close(resonances.getColumn(3).getDouble(), resonance.at("criterion_value").get<double>(),
+                 "criterion");
     EXPECT_EQ(resonances.getColumn(4).getInt() != 0, resonance.at("symmetry_allowed").get<bool>());
     EXPECT_EQ(resonances.getColumn(5).getInt() != 0, resonance.at("flagged").get<bool>());
   }
@@ -293,7 +314,8 @@ TEST(ScreenRuns, ScreenResultsEqualAnalyzeForTheSameMoleculeAndSettings) {
   const fs::path folder = scratch_folder("analyze");
   const std::string molecule = source_path("tests/data/formats/acetaldehyde.sdf");
   const fs::path store = folder / "one.sqlite";
-  const ProgramRun run = run_overtone(screen_arguments(molecule, store, {"--isotope-rule", "C(=O)=13"}), folder);
+  const ProgramRun run =
+      run_overtone(screen_arguments(molecule, store, {"--isotope-rule", "C(=O)=13"}), folder);
   ASSERT_EQ(run.status, 0) << run.err;
   SQLite::Database db(store.string(), SQLite::OPEN_READONLY);
   // Acetaldehyde has one carbonyl carbon: the rule labels exactly one atom, which analyze
@@ -304,7 +326,8 @@ TEST(ScreenRuns, ScreenResultsEqualAnalyzeForTheSameMoleculeAndSettings) {
   ASSERT_EQ(choice.find(' '), std::string::npos) << choice;
   ASSERT_EQ(choice.substr(choice.find('=')), "=13") << choice;
   expect_result_equals_document(db, "", analyze_document(molecule, {}, folder, "parent"));
-  expect_result_equals_document(db, "C(=O)=13", analyze_document(molecule, {"--isotope", choice}, folder, "labelled"));
+  expect_result_equals_document(db, "C(=O)=13",
+                                analyze_document(molecule, {"--isotope", choice}, folder, "labelled"));
 }
 
 }  // namespace

@@ -101,13 +101,15 @@ Timed screen(const fs::path& input, const fs::path& store, int jobs, const Scree
   request.jobs = jobs;
   Timed timed;
   timed.summary = run_screen(request);
-  timed.rate = timed.summary.seconds > 0.0 ? static_cast<double>(timed.summary.computed) / timed.summary.seconds : 0.0;
+  timed.rate =
+      timed.summary.seconds > 0.0 ? static_cast<double>(timed.summary.computed) / timed.summary.seconds : 0.0;
   return timed;
 }
 
 void print_run(const std::string& what, const Timed& run) {
-  std::cout << fmt::format("{:<34} {:>5} molecules in {:>8.1f} s = {:>7.3f} mol/s ({} with a failure)\n", what,
-                           run.summary.computed, run.summary.seconds, run.rate, run.summary.failed_molecules);
+  std::cout << fmt::format("{:<34} {:>5} molecules in {:>8.1f} s = {:>7.3f} mol/s ({} with a failure)\n",
+                           what, run.summary.computed, run.summary.seconds, run.rate,
+                           run.summary.failed_molecules);
 }
 
 }  // namespace
@@ -144,11 +146,13 @@ int main(int argc, char** argv) {
   fs::create_directories(folder);
   std::cout << "machine before: " << load_average() << "\n";
   const Selection selection = select_molecules(input, count);
-  std::cout << fmt::format("set: first {} molecules of {} that MMFF94 types ({} scanned, {} untypable skipped); "
-                           "stages {}, time limit {} s, memory limit {} MiB per worker\n",
-                           selection.lines.size(), input, selection.scanned, selection.untyped,
-                           to_string(base.settings.stages), base.timeout_s, base.memory_limit_mb);
-  const auto subset_size = static_cast<std::size_t>(std::min<int>(subset, static_cast<int>(selection.lines.size())));
+  std::cout << fmt::format(
+      "set: first {} molecules of {} that MMFF94 types ({} scanned, {} untypable skipped); "
+      "stages {}, time limit {} s, memory limit {} MiB per worker\n",
+      selection.lines.size(), input, selection.scanned, selection.untyped, to_string(base.settings.stages),
+      base.timeout_s, base.memory_limit_mb);
+  const auto subset_size =
+      static_cast<std::size_t>(std::min<int>(subset, static_cast<int>(selection.lines.size())));
   const fs::path subset_file = write_set(folder, "subset.smi", selection.lines, subset_size);
   const fs::path full_file = write_set(folder, "set.smi", selection.lines, selection.lines.size());
 
@@ -168,9 +172,10 @@ int main(int argc, char** argv) {
                            full.summary.seconds <= budget ? "met" : "not met");
 
   const Timed again = screen(full_file, folder / "set.sqlite", 2, base);
-  std::cout << fmt::format("resume of the finished screen: {:.2f} s, {} molecules computed (target < {:.0f} s: {})\n",
-                           again.summary.seconds, again.summary.computed, target_resume_s,
-                           again.summary.seconds < target_resume_s && again.summary.computed == 0 ? "met" : "not met");
+  std::cout << fmt::format(
+      "resume of the finished screen: {:.2f} s, {} molecules computed (target < {:.0f} s: {})\n",
+      again.summary.seconds, again.summary.computed, target_resume_s,
+      again.summary.seconds < target_resume_s && again.summary.computed == 0 ? "met" : "not met");
   std::cout << "machine after: " << load_average() << "\n";
   std::cout << "stores in " << folder.string() << "\n";
   return 0;
