@@ -11,8 +11,10 @@
 #include <openbabel/forcefield.h>
 #include <openbabel/mol.h>
 #include <openbabel/obconversion.h>
+#include <sys/resource.h>
 #include <unistd.h>
 
+#include <algorithm>
 #include <cstdlib>
 #include <filesystem>
 #include <fstream>
@@ -92,7 +94,20 @@ fs::path write_set(const fs::path& folder, const std::string& name, const std::v
 struct Timed {
   ScreenSummary summary;
   double rate = 0.0;
+  double cpu_s = 0.0;  // processor time of this process and its finished workers
 };
+
+// User + system time of this process and of every waited-for child so far (s).
+double processor_seconds() {
+  double total = 0.0;
+  for (int who : {RUSAGE_SELF, RUSAGE_CHILDREN}) {
+    rusage usage{};
+    getrusage(who, &usage);
+    total += static_cast<double>(usage.ru_utime.tv_sec + usage.ru_stime.tv_sec) +
+             1e-6 * static_cast<double>(usage.ru_utime.tv_usec + usage.ru_stime.tv_usec);
+  }
+  return total;
+}
 
 Timed screen(const fs::path& input, const fs::path& store, int jobs, const ScreenRequest& base) {
   ScreenRequest request = base;
@@ -100,7 +115,9 @@ Timed screen(const fs::path& input, const fs::path& store, int jobs, const Scree
   request.store_path = store.string();
   request.jobs = jobs;
   Timed timed;
+  const double cpu_start = processor_seconds();
   timed.summary = run_screen(request);
+  timed.cpu_s = processor_seconds() - cpu_start;
   timed.rate =
       timed.summary.seconds > 0.0 ? static_cast<double>(timed.summary.computed) / timed.summary.seconds : 0.0;
   return timed;
