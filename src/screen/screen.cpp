@@ -196,12 +196,18 @@ ScreenSummary run_with_processes(const ScreenRequest& request, const std::vector
     detail::prepare_parent_for_workers(request.settings);
     ProcessPool pool(summary.workers, request.timeout_s, request.memory_limit_mb);
     std::size_t next = 0;
-    while (next < tasks.size() || pool.running() > 0) {
+    const auto fill_slots = [&] {
       while (pool.has_free_slot() && next < tasks.size()) {
         pool.start(next, detail::molecule_work(tasks[next], request.settings, rules));
         ++next;
       }
+    };
+    while (next < tasks.size() || pool.running() > 0) {
+      fill_slots();
       const std::vector<FinishedChild> finished = pool.wait(progress_interval_s);
+      // The next molecules start before the finished ones are written: no worker waits
+      // for the store.
+      fill_slots();
       for (const FinishedChild& child : finished) {
         const ScreenTask& task = tasks.at(child.task);
         const MoleculeOutcome outcome = detail::outcome_of(child, task);
