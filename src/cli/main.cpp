@@ -3,10 +3,12 @@
 // stderr starting "overtone: error:" and exit status 1; --help prints help and exits 0;
 // an internal error exits 2.
 #include <fmt/format.h>
+#include <unistd.h>
 
 #include <CLI/CLI.hpp>
 #include <algorithm>
 #include <cctype>
+#include <chrono>
 #include <cmath>
 #include <filesystem>
 #include <fstream>
@@ -25,6 +27,10 @@
 #include "report/document.hpp"
 #include "report/output_folder.hpp"
 #include "report/symmetry_report.hpp"
+#include "screen/progress_text.hpp"
+#include "screen/screen.hpp"
+#include "screen/screen_report.hpp"
+#include "screen/store.hpp"
 #include "symmetry/detect_point_group.hpp"
 
 namespace {
@@ -312,6 +318,229 @@ int run_symmetry(const MoleculeArguments& arguments, bool optimize_first) {
   return 0;
 }
 
+// Screening: `screen`, `screen-report`, `merge-stores` (docs/screening.md).
+
+struct ScreenArguments {
+  ScreenRequest request;
+  std::string stages = "anharmonic";
+  std::string shard;  // "i/N"
+  std::string progress = "auto";
+  const CLI::Option* energy_option = nullptr;
+};
+
+void add_screen_arguments(CLI::App& command, ScreenArguments& arguments) {
+  ScreenRequest& request = arguments.request;
+  command
+      .add_option("INPUT", request.inputs,
+                  "molecule files (SDF, MOL2, XYZ, any multi-record format Open Babel reads), SMILES files "
+                  "(.smi: SMILES then an optional name per line), CSV files, or directories of them")
+      ->required();
+  command.add_option("--store", request.store_path, "the SQLite store to write (created when missing)")
+      ->required();
+  command
+      .add_option("-p,--potential", request.settings.potential,
+                  "force field name (MMFF94, MMFF94s, UFF, GAFF, Ghemical) or potential file")
+      ->capture_default_str();
+  command
+      .add_option(
+          "--stages", arguments.stages,
+          "how far each molecule goes: harmonic (modes and species), anharmonic (+ force constants, x "
+          "matrix, VPT2 fundamentals, resonance flags) or families (+ families of the resonant modes)")
+      ->capture_default_str();
+  command.add_flag("--levels", request.settings.levels,
+                   "also store the VPT2 line list (overtones, combinations, resonance polyads)");
+  command.add_flag(
+      "--all-families", request.settings.all_families,
+      "with --stages families: continue the families of every mode, not only of those in flagged "
+      "resonances");
+  auto* quanta =
+      command.add_option("--quanta", request.settings.family_quanta,
+                         "families: continue to the energy of this many quanta of each family's mode "
+                         "(0 < n <= 20, default 3)");
+  auto* energy = command.add_option("--energy-max", request.settings.family_energy_max_cm1,
+                                    "families: continue to this energy above the minimum (cm-1)");
+  quanta->excludes(energy);
+  energy->excludes(quanta);
+  arguments.energy_option = energy;
+  command.add_option(
+      "--isotope-rule", request.isotope_rules,
+      "an isotopologue of every molecule: SMARTS=A gives the first (or the [X:1]-mapped) atom of "
+      "each match mass number A; H@SMARTS=A its hydrogens; e.g. 'C(=O)=13', 'C=[O:1]=18', "
+      "'H@[O,N;!H0]=2'; repeatable, one variant each");
+  command.add_option("-j,--jobs", request.jobs, "worker processes at once (default: one per processor)");
+  command
+      .add_option("--timeout", request.timeout_s,
+                  "seconds one molecule may take (all its variants) before its worker is stopped and it is "
+                  "recorded as failed; 0: no limit")
+      ->capture_default_str();
+  command
+      .add_option(
+          "--memory-limit", request.memory_limit_mb,
+          "MiB of address space each worker process may use; a molecule over it is recorded as failed; "
+          "0: no limit")
+      ->capture_default_str();
+  command.add_option("--shard", arguments.shard,
+                     "i/N: take only the i-th of N parts of the molecules (by content hash), for job arrays; "
+                     "combine the stores with merge-stores");
+  command.add_flag("--retry-failures", request.retry_failures,
+                   "compute the failed molecules of this run again");
+  command.add_option("--format", request.input_options.format,
+                     "Open Babel format of every file input when the extensions do not tell it");
+  command.add_option("--smiles-column", request.input_options.smiles_column, "CSV column holding the SMILES")
+      ->capture_default_str();
+  command.add_option("--id-column", request.input_options.id_column, "CSV column holding the molecule id")
+      ->capture_default_str();
+  command
+      .add_option("--symmetry-tolerance", request.settings.symmetry_tolerance_angstrom,
+                  "largest distance (Å) an atom may move when the structure is made exactly symmetric")
+      ->capture_default_str();
+  command
+      .add_option("--progress", arguments.progress,
+                  "auto (a bar on a terminal, a line every 10 s otherwise), bar, lines or none")
+      ->capture_default_str();
+}
+
+void parse_shard(const std::string& text, ScreenRequest& request) {
+  if (text.empty()) return;
+  const auto slash = text.find('/');
+  try {
+    std::size_t used_index = 0;
+    std::size_t used_count = 0;
+    if (slash == std::string::npos) throw std::invalid_argument("no slash");
+    request.shard_index = std::stoi(text.substr(0, slash), &used_index);
+    request.shard_count = std::stoi(text.substr(slash + 1), &used_count);
+    if (used_index != slash || used_count != text.size() - slash - 1)
+      throw std::invalid_argument("trailing text");
+  } catch (const std::exception&) {
+    throw Error("--shard must be i/N with whole numbers, e.g. 3/8, got '" + printable_text(text) + "'");
+  }
+}
+
+// A plain line on a pipe this often (s), so that a log shows the screen is alive.
+constexpr double progress_line_interval_s = 10.0;
+// A terminal bar is redrawn at most this often (s).
+constexpr double progress_bar_interval_s = 0.2;
+
+class ProgressPrinter {
+ public:
+  explicit ProgressPrinter(const std::string& mode) {
+    if (mode == "auto")
+      style_ = isatty(STDERR_FILENO) ? Style::bar : Style::lines;
+    else if (mode == "bar")
+      style_ = Style::bar;
+    else if (mode == "lines")
+      style_ = Style::lines;
+    else if (mode == "none")
+      style_ = Style::none;
+    else
+      throw Error("--progress must be auto, bar, lines or none, got '" + printable_text(mode) + "'");
+  }
+  void operator()(const ScreenProgress& progress) {
+    if (style_ == Style::none) return;
+    const auto now = std::chrono::steady_clock::now();
+    const double since = std::chrono::duration<double>(now - last_).count();
+    if (style_ == Style::bar) {
+      if (!progress.done && printed_ && since < progress_bar_interval_s) return;
+      std::cerr << "\r" << progress_bar_line(progress) << "\033[K" << (progress.done ? "\n" : "")
+                << std::flush;
+    } else {
+      if (!progress.done && printed_ && since < progress_line_interval_s) return;
+      if (progress.done && progress.total == 0) return;
+      std::cerr << progress_plain_line(progress) << "\n" << std::flush;
+    }
+    printed_ = true;
+    last_ = now;
+  }
+
+ private:
+  enum class Style { bar, lines, none };
+  Style style_ = Style::lines;
+  bool printed_ = false;
+  std::chrono::steady_clock::time_point last_ = std::chrono::steady_clock::now();
+};
+
+int run_screen_command(ScreenArguments& arguments) {
+  ScreenRequest& request = arguments.request;
+  request.settings.stages = screen_stages_from_string(arguments.stages);
+  parse_shard(arguments.shard, request);
+  if (!(arguments.energy_option && arguments.energy_option->count() > 0))
+    request.settings.family_energy_max_cm1 = 0.0;
+  ProgressPrinter printer(arguments.progress);
+  const ScreenSummary summary =
+      run_screen(request, [&](const ScreenProgress& progress) { printer(progress); });
+  if (!summary.coordinator) return 0;
+  for (const std::string& warning : summary.warnings) warn(warning);
+  std::cout << fmt::format(
+      "store {} run {} (settings {}): {} records listed ({} duplicates), {} molecules in this {}, {} already "
+      "done, "
+      "{} computed now on {} {} ({} with a failure, {} failed and {} not-applicable results) in {}\n",
+      printable_text(summary.store_path), summary.run_id, summary.settings_hash.substr(0, 12), summary.listed,
+      summary.duplicates, summary.in_shard, request.shard_count > 1 ? "shard" : "screen",
+      summary.already_done, summary.computed, summary.workers,
+      summary.engine == "mpi" ? "mpi ranks" : "worker processes", summary.failed_molecules,
+      summary.failed_results, summary.not_applicable_results, duration_text(summary.seconds));
+  return 0;
+}
+
+struct ScreenReportArguments {
+  std::string store;
+  std::string window;  // "A:B", either side may be empty
+  std::optional<double> min_criterion;
+  std::string csv_path;
+  std::optional<long long> run_id;
+  std::string table;
+};
+
+std::optional<double> window_end(const std::string& text, const std::string& whole) {
+  if (text.empty()) return std::nullopt;
+  try {
+    std::size_t used = 0;
+    const double value = std::stod(text, &used);
+    if (used != text.size()) throw std::invalid_argument("trailing text");
+    return value;
+  } catch (const std::exception&) {
+    throw Error("--window must be A:B in cm-1 (either end may be left out), got '" + printable_text(whole) +
+                "'");
+  }
+}
+
+int run_screen_report(const ScreenReportArguments& arguments) {
+  if (!arguments.table.empty()) {
+    write_text(arguments.csv_path.empty() ? "-" : arguments.csv_path,
+               store_table_csv(arguments.store, arguments.table));
+    return 0;
+  }
+  ScreenReportOptions options;
+  if (!arguments.window.empty()) {
+    const auto colon = arguments.window.find(':');
+    if (colon == std::string::npos)
+      throw Error("--window must be A:B in cm-1 (either end may be left out), got '" +
+                  printable_text(arguments.window) + "'");
+    options.window_min_cm1 = window_end(arguments.window.substr(0, colon), arguments.window);
+    options.window_max_cm1 = window_end(arguments.window.substr(colon + 1), arguments.window);
+  }
+  options.min_criterion = arguments.min_criterion;
+  options.run_id = arguments.run_id;
+  const ScreenReport report = screen_report(arguments.store, options);
+  if (!arguments.csv_path.empty()) write_text(arguments.csv_path, screen_report_csv(report));
+  if (arguments.csv_path != "-") std::cout << screen_report_text(report);
+  return 0;
+}
+
+int run_merge_stores(const std::string& output, const std::vector<std::string>& inputs) {
+  ScreenStore store(output);
+  for (const std::string& input : inputs) {
+    const MergeCounts counts = merge_store(store, input);
+    std::cout << fmt::format(
+        "merged {} into {}: {} runs and {} molecules new, {} results added, {} failed results replaced by "
+        "done "
+        "ones, {} already there\n",
+        printable_text(input), printable_text(output), counts.runs_added, counts.molecules_added,
+        counts.results_added, counts.results_replaced, counts.results_skipped);
+  }
+  return 0;
+}
+
 // CLI11's messages start with a capital and name its own error kinds; ours are one
 // lower-case line that says where to look.
 std::string usage_error_line(const CLI::ParseError& error) {
@@ -397,15 +626,50 @@ int main(int argc, char** argv) {
   symmetry->add_flag("--with-modes", with_modes,
                      "optimize on the potential first and assign the species of the computed modes");
 
+  ScreenArguments screen_arguments;
+  CLI::App* screen = app.add_subcommand(
+      "screen", "screen sets of molecules into an SQLite store that a rerun resumes (docs/screening.md)");
+  add_screen_arguments(*screen, screen_arguments);
+
+  ScreenReportArguments report_arguments;
+  CLI::App* screen_report_command = app.add_subcommand(
+      "screen-report", "per molecule, the flagged resonances of a store in a window, and the failures");
+  screen_report_command->add_option("STORE", report_arguments.store, "the SQLite store of a screen")
+      ->required();
+  screen_report_command->add_option("--window", report_arguments.window,
+                                    "A:B: only resonances whose upper level lies between A and B cm-1");
+  screen_report_command->add_option(
+      "--min-criterion", report_arguments.min_criterion,
+      "list every candidate whose criterion value reaches C (cm-1), flagged or not");
+  screen_report_command->add_option("--csv", report_arguments.csv_path,
+                                    "write the listed resonances (or with --table, the table) as CSV to PATH "
+                                    "('-' for standard output)");
+  screen_report_command->add_option("--run", report_arguments.run_id,
+                                    "only this run of the store (its run_id)");
+  screen_report_command->add_option("--table", report_arguments.table,
+                                    "export this table as CSV instead: runs, molecules, results, modes, "
+                                    "resonances, levels, families, failures");
+
+  std::string merge_output;
+  std::vector<std::string> merge_inputs;
+  CLI::App* merge = app.add_subcommand(
+      "merge-stores",
+      "add the results of screening stores (e.g. of --shard parts) to one store, without duplicates");
+  merge->add_option("OUT", merge_output, "the store to merge into (created when missing)")->required();
+  merge->add_option("IN", merge_inputs, "stores to merge")->required();
+
   // CLI11 calls an unknown command word "a subcommand is required"; say what it was.
   const auto is_command = [&](const std::string& word) {
-    for (const CLI::App* command : {modes, analyze, anharmonic, families, symmetry})
+    for (const CLI::App* command :
+         {modes, analyze, anharmonic, families, symmetry, screen, screen_report_command, merge})
       if (command->check_name(word)) return true;
     return false;
   };
   if (argc > 1 && argv[1][0] != '-' && !is_command(argv[1])) {
     std::cerr << "overtone: error: unknown command '" << printable_text(argv[1])
-              << "' (commands: modes, analyze, anharmonic, families, symmetry; see overtone --help)\n";
+              << "' (commands: modes, analyze, anharmonic, families, symmetry, screen, screen-report, "
+                 "merge-stores; see "
+                 "overtone --help)\n";
     return user_error_status;
   }
   try {
@@ -425,6 +689,9 @@ int main(int argc, char** argv) {
       return run_anharmonic(anharmonic_arguments, anharmonic_json_path, lines_path, taylor_path);
     if (*families) return run_families(families_arguments, family_arguments, families_json_path, csv_folder);
     if (*symmetry) return run_symmetry(symmetry_arguments, with_modes);
+    if (*screen) return run_screen_command(screen_arguments);
+    if (*screen_report_command) return run_screen_report(report_arguments);
+    if (*merge) return run_merge_stores(merge_output, merge_inputs);
   } catch (const overtone::Error& error) {
     std::cerr << "overtone: error: " << printable_text(error.what()) << "\n";
     return user_error_status;

@@ -62,7 +62,7 @@ TEST(TomlText, NonAsciiOutsideStringsIsRejected) {
 TEST(TomlText, InvalidUtf8IsRejected) {
   // A lone continuation byte, a truncated sequence, an overlong form and a surrogate.
   for (const std::string& text : {std::string("a = \"\x80\"\n"), std::string("a = \"\xE2\x82\"\n"),
-                                 std::string("a = \"\xC0\xAF\"\n"), std::string("a = \"\xED\xA0\x80\"\n")}) {
+                                  std::string("a = \"\xC0\xAF\"\n"), std::string("a = \"\xED\xA0\x80\"\n")}) {
     const std::string message = check_message(text);
     EXPECT_NE(message.find("line 1, column 6"), std::string::npos) << message;
     EXPECT_NE(message.find("UTF-8"), std::string::npos) << message;

@@ -142,7 +142,8 @@ std::vector<ProgramRun> chemical_structures() {
   std::vector<ProgramRun> runs;
   for (const auto& entry : fs::recursive_directory_iterator(structures_dir))
     if (entry.is_regular_file() && entry.path().extension() == ".cml")
-      runs.push_back(ProgramRun{fs::relative(entry.path(), structures_dir).string(), entry.path().string(), -1, {}, {}});
+      runs.push_back(
+          ProgramRun{fs::relative(entry.path(), structures_dir).string(), entry.path().string(), -1, {}, {}});
   std::sort(runs.begin(), runs.end(),
             [](const ProgramRun& a, const ProgramRun& b) { return a.path < b.path; });
   return runs;
