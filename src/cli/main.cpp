@@ -51,6 +51,8 @@ struct MoleculeArguments {
   std::vector<std::string> isotopes;
   std::string format;
   double symmetry_tolerance_angstrom = SymmetryOptions{}.tolerance_angstrom;
+  bool refuse_incomplete = false;
+  bool conformer_search = false;
 };
 
 void add_molecule_arguments(CLI::App& command, MoleculeArguments& arguments) {
@@ -71,12 +73,19 @@ void add_molecule_arguments(CLI::App& command, MoleculeArguments& arguments) {
       .add_option("--symmetry-tolerance", arguments.symmetry_tolerance_angstrom,
                   "largest distance (Å) an atom may move when the structure is made exactly symmetric")
       ->capture_default_str();
+  command.add_flag("--refuse-incomplete", arguments.refuse_incomplete,
+                   "refuse a 2-D drawing or a structure with implicit hydrogens instead of adding the "
+                   "hydrogens and building 3-D coordinates");
+  command.add_flag("--conformer-search", arguments.conformer_search,
+                   "analyse the lowest conformer found by a quick search (general force fields) instead of "
+                   "the minimum the input structure relaxes to");
 }
 
 LoadedMolecule load_input(const MoleculeArguments& arguments) {
   MoleculeInput input;
   input.path_or_smiles = arguments.molecule;
   input.format = arguments.format;
+  if (arguments.refuse_incomplete) input.incomplete_structures = IncompleteStructurePolicy::refuse;
   for (const auto& text : arguments.isotopes) input.isotopes.push_back(parse_isotope_choice(text));
   if (input.path_or_smiles.rfind(smiles_prefix, 0) == 0) {
     input.is_smiles = true;
@@ -136,6 +145,7 @@ AnalysedMolecule run_analysis(const MoleculeArguments& arguments) {
   result.potential = potential_for(arguments, input);
   AnalysisOptions options;
   options.symmetry.tolerance_angstrom = arguments.symmetry_tolerance_angstrom;
+  if (arguments.conformer_search) options.conformers = ConformerSearch::analyse_best;
   result.analysis = analyze_molecule(input.molecule, *result.potential, options);
   return result;
 }
@@ -312,6 +322,7 @@ int run_symmetry(const MoleculeArguments& arguments, bool optimize_first) {
   const auto potential = potential_for(arguments, input);
   AnalysisOptions analysis_options;
   analysis_options.symmetry = options;
+  if (arguments.conformer_search) analysis_options.conformers = ConformerSearch::analyse_best;
   const AnalysisResult analysis = analyze_molecule(input.molecule, *potential, analysis_options);
   if (analysis.optimized) std::cout << "structure: " << analysis.optimization.message << "\n";
   std::cout << format_symmetry_report(analysis.point_group, &analysis.mode_symmetry);

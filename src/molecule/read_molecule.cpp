@@ -279,7 +279,8 @@ void complete_structure(OpenBabel::OBMol& mol, const std::string& what, const Re
   if (options.incomplete_structures == IncompleteStructurePolicy::refuse)
     throw Error(
         fmt::format("{} is not a complete 3-d structure: {}; the analysis needs every atom at a 3-d "
-                    "position, and completing such structures was turned off",
+                    "position, and completing such structures was turned off (leave out --refuse-incomplete "
+                    "to add the hydrogens and build 3-d coordinates)",
                     what, state));
   const int atoms_before = static_cast<int>(mol.NumAtoms());
   if (add_hydrogens) {
@@ -300,15 +301,22 @@ void complete_structure(OpenBabel::OBMol& mol, const std::string& what, const Re
       fmt::format("{}: {}; {}, then optimized on the chosen potential", what, state, done));
 }
 
-void check_geometry(const Molecule& molecule, double minimum_distance) {
+// built: the coordinates come from Open Babel's builder (SMILES or a completed drawing),
+// so overlapping atoms mean the builder failed, not that the file is wrong.
+void check_geometry(const Molecule& molecule, double minimum_distance, bool built) {
   for (std::size_t i = 0; i < molecule.atoms.size(); ++i)
     for (std::size_t j = i + 1; j < molecule.atoms.size(); ++j) {
       const double d = (molecule.atoms[i].position_angstrom - molecule.atoms[j].position_angstrom).norm();
-      if (d < minimum_distance)
-        throw Error(
-            fmt::format("atoms {} and {} are {:.3f} Å apart, closer than the physical minimum {:.2f} Å "
-                        "(overlapping atoms in the input?)",
-                        i + 1, j + 1, d, minimum_distance));
+      if (d >= minimum_distance) continue;
+      if (built)
+        throw Error(fmt::format(
+            "open babel's builder could not build a 3-d structure of {} (it put atoms {} and {} {:.3f} Å "
+            "apart; metal complexes, ions and several fragments are beyond it): give a 3-d file instead",
+            molecule.formula(), i + 1, j + 1, d));
+      throw Error(
+          fmt::format("atoms {} and {} are {:.3f} Å apart, closer than the physical minimum {:.2f} Å "
+                      "(overlapping atoms in the input?)",
+                      i + 1, j + 1, d, minimum_distance));
     }
 }
 
@@ -327,7 +335,8 @@ ReadResult finish(OpenBabel::OBMol& mol, const std::string& source, const std::s
   result.molecule.source = source;
   result.format_used = format_name;
   result.geometry_built_from_smiles = from_smiles;
-  check_geometry(result.molecule, options.minimum_interatomic_distance_angstrom);
+  check_geometry(result.molecule, options.minimum_interatomic_distance_angstrom,
+                 from_smiles || result.geometry_built_from_drawing);
   apply_isotopes(result.molecule, options.isotopes);
   return result;
 }

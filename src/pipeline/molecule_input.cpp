@@ -84,6 +84,7 @@ LoadedMolecule load_molecule(const MoleculeInput& input) {
   options.format = input.format;
   options.input_is_smiles = input.is_smiles;
   options.isotopes = input.isotopes;
+  options.incomplete_structures = input.incomplete_structures;
   ReadResult read = read_molecule(input.path_or_smiles, options);
   loaded.molecule = std::move(read.molecule);
   loaded.warnings = std::move(read.warnings);

@@ -18,6 +18,8 @@ struct MoleculeInput {
   bool is_smiles = false;
   std::string format;  // Open Babel format name; empty: from the extension
   std::vector<IsotopeChoice> isotopes;
+  // A 2-D drawing or a structure with implicit hydrogens: completed (default) or refused.
+  IncompleteStructurePolicy incomplete_structures = IncompleteStructurePolicy::complete;
 };
 
 struct LoadedMolecule {

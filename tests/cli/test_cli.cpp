@@ -365,3 +365,41 @@ TEST(Cli, FamiliesOfOneFundamentalAreNamedWithItsNuNumber) {
     EXPECT_NE(name.find("-nu2.csv"), std::string::npos) << name;
   }
 }
+
+namespace {
+
+TEST(Cli, DrawingsAreCompletedUnlessRefused) {
+  // Ethanol as a 2-D drawing without hydrogens (tests/data/incomplete): completed by
+  // default with a warning, refused with --refuse-incomplete naming the way back.
+  const std::string drawing = source_dir + "/tests/data/incomplete/ethanol-drawing.mol";
+  const ProgramRun completed = run("modes " + drawing + " --json -");
+  ASSERT_EQ(completed.status, 0) << completed.err;
+  EXPECT_NE(completed.err.find("hydrogen"), std::string::npos) << completed.err;
+  EXPECT_EQ(nlohmann::json::parse(completed.out)["atoms"].size(), 9u);  // C2H6O: ethanol's 9 atoms
+  expect_one_line_error(run("modes " + drawing + " --refuse-incomplete"), "--refuse-incomplete");
+}
+
+TEST(Cli, ConformerSearchAnalysesTheLowerConformer) {
+  // n-Butane started gauche (C–C–C–C 60°): the structure relaxes to the gauche minimum,
+  // which lies above the anti conformer (about 0.6–0.9 kcal/mol on general force fields;
+  // 0.67 kcal/mol measured, from memory). Without the search a note says so; with it the
+  // anti conformer (C2h, common practice, no source) is analysed.
+  const std::string gauche = write_temp("butane-gauche.xyz",
+                                        "14\nbutane gauche\n"
+                                        "C   -1.9385  0.4700 -0.4450\nC   -0.7236  0.7230  0.4464\n"
+                                        "C    0.5831 -0.0100  0.1010\nC    1.0990 -1.2200  0.8800\n"
+                                        "H   -2.7910  1.0516 -0.0784\nH   -2.2260 -0.5865 -0.4390\n"
+                                        "H   -1.7330  0.7575 -1.4834\nH   -0.9930  0.4610  1.4784\n"
+                                        "H   -0.5310  1.7990  0.4422\nH    0.4360  0.2950 -0.9423\n"
+                                        "H    1.3710  0.6800  0.4280\nH    0.3560 -2.0250  0.8600\n"
+                                        "H    1.2960 -0.9600  1.9290\nH    2.0290 -1.6080  0.4490\n");
+  const ProgramRun plain = run("modes " + gauche);
+  ASSERT_EQ(plain.status, 0) << plain.err;
+  EXPECT_NE((plain.out + plain.err).find("lower was found"), std::string::npos) << plain.out << plain.err;
+  EXPECT_NE(plain.out.find("point group C₂ "), std::string::npos) << plain.out;
+  const ProgramRun searched = run("modes " + gauche + " --conformer-search");
+  ASSERT_EQ(searched.status, 0) << searched.err;
+  EXPECT_NE(searched.out.find("point group C₂h"), std::string::npos) << searched.out;
+}
+
+}  // namespace
