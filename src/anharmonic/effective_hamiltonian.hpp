@@ -10,8 +10,14 @@
 //                 + ½ Σ_{k∉P} ⟨m|V₃|k⟩⟨k|V₃|n⟩ [1/(E_m − E_k) + 1/(E_n − E_k)]
 // V₃ is first order and V₄ second order, as in VPT2. Quartic constants that were not
 // computed count as zero.
+//
+// Cost: an intermediate k of the second-order sum differs from m by one cubic term (at
+// most three modes, one or three quanta) and from n by another, so only the terms that
+// touch a mode where m and n differ (and, when they differ by two quanta, the terms that
+// move a single quantum) can contribute; second_order visits those and nothing else, and
+// keeps no state between calls (memory independent of how many states are coupled).
 #include <Eigen/Dense>
-#include <map>
+#include <array>
 #include <set>
 #include <vector>
 
@@ -30,28 +36,29 @@ class AnharmonicOperator {
   double zeroth_order(const Quanta& n) const;
   double cubic_element(const Quanta& m, const Quanta& n) const;
   double quartic_element(const Quanta& m, const Quanta& n) const;
-  // Every |k⟩ with ⟨k|V₃|n⟩ ≠ 0 and that element.
-  const std::map<Quanta, double>& apply_cubic(const Quanta& n) const;
   // The Van Vleck second-order term between m and n, intermediates in `excluded` left out.
   double second_order(const Quanta& m, const Quanta& n, const std::set<Quanta>& excluded) const;
   // H_eff(m, n) as in the header comment.
   double element(const Quanta& m, const Quanta& n, const std::set<Quanta>& excluded) const;
-  // H_eff on the block, with the block itself excluded from the intermediates.
-  Eigen::MatrixXd block(const std::vector<Quanta>& states) const;
 
  private:
+  // One unique nonzero φ_ijk as a product of powers of distinct modes.
+  struct CubicTerm {
+    std::array<int, 3> modes{};
+    std::array<int, 3> powers{};
+    int factor_count = 0;
+    double value = 0.0;  // φ / Π power!
+  };
   double term(const std::vector<int>& counts, const Quanta& m, const Quanta& n, int rank) const;
   double constant(const std::vector<int>& indices) const;
+  // ⟨k|V₃|n⟩ where k − n is nonzero only at the given modes (by the given changes).
+  double cubic_between(const Quanta& n, const std::vector<std::pair<int, int>>& difference) const;
 
   const ForceConstantTensors& constants_;
   Eigen::VectorXd omega_;
-  struct CubicTerm {
-    std::vector<std::pair<int, int>> factors;  // (mode, power)
-    double value;                              // φ / Π power!
-  };
   std::vector<CubicTerm> cubic_terms_;
-  // apply_cubic results by state: the same states recur in many matrix elements.
-  mutable std::map<Quanta, std::map<Quanta, double>> applied_;
+  std::vector<std::vector<int>> terms_of_mode_;  // cubic terms in which each mode occurs
+  std::vector<int> single_quantum_terms_;        // terms with a squared or cubed factor
 };
 
 // ⟨a|q^power|b⟩ for one harmonic oscillator, q = (a + a†)/√2.
