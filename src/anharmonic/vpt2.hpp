@@ -73,7 +73,10 @@ struct Vpt2Options {
   bool include_coriolis = true;
   // Polyad closure stops at states with more quanta in total than this.
   int polyad_max_quanta = 4;
-  // ... or when a polyad would hold more component states than this.
+  // A polyad (a connected component of the graph of flagged couplings between manifolds,
+  // explored from a line-list level) holds at most this many component states: a larger
+  // component keeps the whole layers of graph distance from that level that fit, and is
+  // reported as cut. Bounds the dense diagonalization (time ∝ states³, memory ∝ states²).
   int polyad_max_states = 200;
   // Eigenvalues closer than this (cm⁻¹) form one degenerate level.
   double level_degeneracy_tolerance_cm1 = 0.01;
@@ -151,7 +154,9 @@ struct Polyad {
   std::vector<int> levels;                  // line-list levels it contains
   std::vector<int> resonances;              // indices into Vpt2Result::resonances
   int state_count = 0;                      // component states diagonalized
-  bool truncated = false;                   // closure stopped by a limit
+  bool truncated = false;                   // closure stopped by a limit (one of the two below)
+  bool reached_quanta_limit = false;        // a flagged coupling leads beyond polyad_max_quanta
+  bool cut_at_state_limit = false;          // the component was cut at polyad_max_states
 };
 
 // x_tt and g_tt of a doubly degenerate set (G = ω(v+1) + x_tt(v+1)² + g_tt l² + …).
