@@ -516,24 +516,27 @@ bool moved(const std::vector<int>& from, const Move& move, int sign, std::vector
 
 // A component grows one layer of graph distance at a time, so that one larger than
 // polyad_max_states keeps whole layers nearest to the line-list manifold it started from,
-// whatever the order of the moves. A manifold belongs to one group only.
+// whatever the order of the moves. A line-list manifold belongs to one group only; the
+// line-list manifolds a cut left out start groups of their own, which may share other
+// manifolds with the cut one.
 std::vector<ResonanceGroup> resonance_groups(const Vpt2Context& c, const WantedManifolds& wanted,
                                              const std::vector<Move>& moves) {
-  ManifoldIndex group_of;
+  ManifoldIndex group_of_wanted;  // the group that holds each line-list manifold
+  for (const auto& w : wanted) group_of_wanted.emplace(w.first, -1);
   std::vector<ResonanceGroup> groups;
   std::vector<int> next;
   const auto state_limit = static_cast<std::size_t>(c.options.polyad_max_states);
   for (const auto& seed : wanted) {
-    if (group_of.count(seed.first)) continue;
+    if (group_of_wanted.at(seed.first) >= 0) continue;
     const int id = static_cast<int>(groups.size());
     ResonanceGroup group;
     group.manifolds.push_back(seed.first);
-    group_of[seed.first] = id;
+    group_of_wanted[seed.first] = id;
+    ManifoldIndex members{{seed.first, 0}};
     std::size_t states = manifold_states(seed.first, c.sets, c.m).size();
     for (std::size_t layer_begin = 0; layer_begin < group.manifolds.size();) {
       const std::size_t layer_end = group.manifolds.size();
       std::vector<std::vector<int>> layer;
-      ManifoldIndex in_layer;
       std::size_t layer_states = 0;
       for (std::size_t head = layer_begin; head < layer_end; ++head)
         for (const auto& move : moves)
@@ -543,12 +546,14 @@ std::vector<ResonanceGroup> resonance_groups(const Vpt2Context& c, const WantedM
               group.beyond_quanta = true;
               continue;
             }
-            const auto owner = group_of.find(next);
-            if (owner != group_of.end()) {
-              group.beyond_states = group.beyond_states || owner->second != id;  // kept by a cut group
+            // A whole component is explored from its first line-list manifold, so another
+            // group can hold a line-list manifold of this one only if that group was cut.
+            const auto line_list = group_of_wanted.find(next);
+            if (line_list != group_of_wanted.end() && line_list->second >= 0 && line_list->second != id) {
+              group.beyond_states = true;
               continue;
             }
-            if (!in_layer.emplace(next, 0).second) continue;
+            if (!members.emplace(next, 0).second) continue;
             layer_states += manifold_states(next, c.sets, c.m).size();
             layer.push_back(next);
           }
@@ -558,7 +563,8 @@ std::vector<ResonanceGroup> resonance_groups(const Vpt2Context& c, const WantedM
       }
       states += layer_states;
       for (auto& v : layer) {
-        group_of[v] = id;
+        if (const auto line_list = group_of_wanted.find(v); line_list != group_of_wanted.end())
+          line_list->second = id;
         group.manifolds.push_back(std::move(v));
       }
       layer_begin = layer_end;

@@ -152,6 +152,28 @@ json resonances_to_json(const AnharmonicResult& anharmonic) {
   return resonances;
 }
 
+json polyads_to_json(const AnharmonicResult& anharmonic) {
+  const Vpt2Result& vpt2 = anharmonic.vpt2;
+  const std::vector<int>& numbers = anharmonic.set_numbers;
+  json polyads = json::array();
+  for (const Polyad& polyad : vpt2.polyads) {
+    json manifolds = json::array(), levels = json::array(), resonances = json::array();
+    for (const auto& manifold : polyad.manifolds) manifolds.push_back(level_label(manifold, numbers));
+    for (const int level : polyad.levels)
+      levels.push_back(level_label(vpt2.levels[static_cast<std::size_t>(level)].set_quanta, numbers));
+    for (const int resonance : polyad.resonances)
+      resonances.push_back(resonance_label(vpt2.resonances[static_cast<std::size_t>(resonance)], numbers));
+    polyads.push_back({{"number", polyads.size() + 1},
+                       {"levels", levels},
+                       {"manifolds", manifolds},
+                       {"resonances", resonances},
+                       {"state_count", polyad.state_count},
+                       {"reached_quanta_limit", polyad.reached_quanta_limit},
+                       {"cut_at_state_limit", polyad.cut_at_state_limit}});
+  }
+  return polyads;
+}
+
 }  // namespace
 
 nlohmann::json anharmonic_to_json(const AnalysisResult& analysis, const AnharmonicResult& anharmonic) {
@@ -161,6 +183,7 @@ nlohmann::json anharmonic_to_json(const AnalysisResult& analysis, const Anharmon
   document["anharmonicity"] = anharmonicity_to_json(analysis, anharmonic);
   document["levels"] = levels_to_json(anharmonic);
   document["resonances"] = resonances_to_json(anharmonic);
+  document["polyads"] = polyads_to_json(anharmonic);
   document["anharmonic_summary"] = {{"status", to_string(anharmonic.vpt2.status)},
                                     {"message", anharmonic.vpt2.message},
                                     {"warnings", anharmonic.vpt2.warnings},
