@@ -51,8 +51,8 @@ json force_constants_to_json(const AnharmonicResult& anharmonic, const std::vect
           {"evaluations_without_symmetry", counts_to_json(result.naive_evaluations)},
           {"seconds", anharmonic.force_constants_s},
           {"warnings", result.warnings},
-          {"cubic", cubic},
-          {"quartic", quartic}};
+          {"cubic", std::move(cubic)},
+          {"quartic", std::move(quartic)}};
 }
 
 // A per-mode matrix (harmonic order) rearranged into report order.
