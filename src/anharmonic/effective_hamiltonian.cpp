@@ -99,7 +99,10 @@ Step unpack(std::uint64_t key) {
 AnharmonicOperator::AnharmonicOperator(const ForceConstantTensors& constants,
                                        const Eigen::VectorXd& frequencies_cm1)
     : constants_(constants), omega_(frequencies_cm1) {
-  terms_of_mode_.assign(static_cast<std::size_t>(mode_count()), {});
+  const auto modes = static_cast<std::size_t>(mode_count());
+  terms_of_mode_.assign(modes, {});
+  paired_terms_of_mode_.assign(modes, {});
+  std::vector<std::vector<int>> triples_of_pair(modes * modes);
   for (const auto& entry : constants.cubic_entries(0.0)) {
     // V₃ = (1/6) Σ_unrestricted φ q q q = Σ_sorted φ Π q_i^{p_i} / p_i!.
     CubicTerm t;
@@ -118,9 +121,26 @@ AnharmonicOperator::AnharmonicOperator(const ForceConstantTensors& constants,
     const int index = static_cast<int>(cubic_terms_.size());
     for (int f = 0; f < t.factor_count; ++f)
       terms_of_mode_[static_cast<std::size_t>(t.modes[static_cast<std::size_t>(f)])].push_back(index);
-    if (t.factor_count < 3) single_quantum_terms_.push_back(index);
+    if (t.factor_count < 3) {
+      single_quantum_terms_.push_back(index);
+      for (int f = 0; f < t.factor_count; ++f)
+        paired_terms_of_mode_[static_cast<std::size_t>(t.modes[static_cast<std::size_t>(f)])].push_back(
+            index);
+    } else {
+      for (int a = 0; a < 3; ++a)
+        for (int b = a + 1; b < 3; ++b)
+          triples_of_pair[static_cast<std::size_t>(t.modes[static_cast<std::size_t>(a)]) * modes +
+                          static_cast<std::size_t>(t.modes[static_cast<std::size_t>(b)])]
+              .push_back(index);
+    }
     cubic_terms_.push_back(t);
   }
+  pair_start_.reserve(modes * modes + 1);
+  for (const auto& terms : triples_of_pair) {
+    pair_start_.push_back(static_cast<int>(terms_of_pair_.size()));
+    terms_of_pair_.insert(terms_of_pair_.end(), terms.begin(), terms.end());
+  }
+  pair_start_.push_back(static_cast<int>(terms_of_pair_.size()));
 }
 
 double AnharmonicOperator::zeroth_order(const Quanta& n) const {
@@ -221,8 +241,7 @@ double AnharmonicOperator::cubic_between(const Quanta& n,
   return sum;
 }
 
-double AnharmonicOperator::second_order(const Quanta& m, const Quanta& n,
-                                        const std::set<Quanta>& excluded) const {
+double AnharmonicOperator::second_order(const Quanta& m, const Quanta& n, const StateSet& excluded) const {
   const int modes = mode_count();
   std::vector<int> delta(static_cast<std::size_t>(modes), 0);  // n − m
   std::vector<int> differing;
@@ -241,7 +260,9 @@ double AnharmonicOperator::second_order(const Quanta& m, const Quanta& n,
 
   // The terms that can reach an intermediate within one cubic step of n: those touching
   // a mode where m and n differ; when they differ by two quanta or less, also every term
-  // that moves one quantum; when they are equal, all. Each term is visited once.
+  // that moves one quantum; when they are equal, all. Four or more quanta apart, a term of
+  // three different modes moves each by one quantum and must bring two of them closer to
+  // n. Each term is visited once.
   std::vector<int> candidates;
   auto touches_earlier = [&](const CubicTerm& t, std::size_t position) {
     for (std::size_t p = 0; p < position; ++p)
@@ -252,14 +273,35 @@ double AnharmonicOperator::second_order(const Quanta& m, const Quanta& n,
   if (distance == 0) {
     candidates.resize(cubic_terms_.size());
     for (std::size_t t = 0; t < cubic_terms_.size(); ++t) candidates[t] = static_cast<int>(t);
-  } else {
+  } else if (distance == 2) {
     for (std::size_t p = 0; p < differing.size(); ++p)
       for (int t : terms_of_mode_[static_cast<std::size_t>(differing[p])])
         if (!touches_earlier(cubic_terms_[static_cast<std::size_t>(t)], p)) candidates.push_back(t);
-    if (distance == 2)
-      for (int t : single_quantum_terms_)
-        if (!touches_earlier(cubic_terms_[static_cast<std::size_t>(t)], differing.size()))
-          candidates.push_back(t);
+    for (int t : single_quantum_terms_)
+      if (!touches_earlier(cubic_terms_[static_cast<std::size_t>(t)], differing.size()))
+        candidates.push_back(t);
+  } else {
+    for (std::size_t p = 0; p < differing.size(); ++p)
+      for (int t : paired_terms_of_mode_[static_cast<std::size_t>(differing[p])])
+        if (!touches_earlier(cubic_terms_[static_cast<std::size_t>(t)], p)) candidates.push_back(t);
+    // A term touching three of the differing modes is listed under three pairs: take it
+    // from the pair of its first two.
+    const auto modes = static_cast<std::size_t>(mode_count());
+    for (std::size_t p = 0; p < differing.size(); ++p)
+      for (std::size_t q = p + 1; q < differing.size(); ++q) {
+        const auto [low, high] = std::minmax(differing[p], differing[q]);
+        const std::size_t pair = static_cast<std::size_t>(low) * modes + static_cast<std::size_t>(high);
+        for (int e = pair_start_[pair]; e < pair_start_[pair + 1]; ++e) {
+          const int t = terms_of_pair_[static_cast<std::size_t>(e)];
+          const CubicTerm& term = cubic_terms_[static_cast<std::size_t>(t)];
+          bool first_pair = true;
+          for (std::size_t r = 0; r < q && first_pair; ++r)
+            if (r != p)
+              for (int f = 0; f < 3; ++f)
+                first_pair = first_pair && term.modes[static_cast<std::size_t>(f)] != differing[r];
+          if (first_pair) candidates.push_back(t);
+        }
+      }
   }
 
   // ⟨k|V₃|m⟩ summed over terms per intermediate k = m + step.
@@ -338,7 +380,7 @@ double AnharmonicOperator::second_order(const Quanta& m, const Quanta& n,
   return total;
 }
 
-double AnharmonicOperator::element(const Quanta& m, const Quanta& n, const std::set<Quanta>& excluded) const {
+double AnharmonicOperator::element(const Quanta& m, const Quanta& n, const StateSet& excluded) const {
   double value = cubic_element(m, n) + quartic_element(m, n) + second_order(m, n, excluded);
   if (m == n) value += zeroth_order(m);
   return value;

@@ -4,6 +4,7 @@
 
 #include <algorithm>
 #include <cmath>
+#include <cstdint>
 #include <map>
 #include <numeric>
 #include <set>
@@ -69,6 +70,19 @@ void validate(const Vpt2Options& options) {
   if (options.polyad_max_states < 2)
     throw Error(
         fmt::format("vpt2 option polyad_max_states must be at least 2, got {}", options.polyad_max_states));
+}
+
+SparseQuanta sparse_quanta(const std::vector<int>& set_quanta) {
+  SparseQuanta quanta;
+  for (std::size_t s = 0; s < set_quanta.size(); ++s)
+    if (set_quanta[s] != 0) quanta.emplace_back(static_cast<int>(s), set_quanta[s]);
+  return quanta;
+}
+
+std::vector<int> dense_quanta(const SparseQuanta& quanta, std::size_t set_count) {
+  std::vector<int> set_quanta(set_count, 0);
+  for (const auto& [set, count] : quanta) set_quanta.at(static_cast<std::size_t>(set)) = count;
+  return set_quanta;
 }
 
 namespace detail {
@@ -351,7 +365,7 @@ double largest_singular_value(const Eigen::MatrixXd& block) {
 double manifold_coupling(const Vpt2Context& c, const std::vector<int>& lower, const std::vector<int>& upper,
                          bool first_order) {
   const auto a = manifold_states(lower, c.sets, c.m), b = manifold_states(upper, c.sets, c.m);
-  std::set<Quanta> excluded;
+  detail::StateSet excluded;
   if (!first_order) {
     excluded.insert(a.begin(), a.end());
     excluded.insert(b.begin(), b.end());
@@ -442,22 +456,22 @@ void deperturbed_constants(const Vpt2Context& c, Vpt2Result& result) {
 
 // A move between manifolds made by a flagged resonance (set-quanta difference).
 struct Move {
-  std::vector<int> delta;
+  std::vector<std::pair<int, int>> entries;  // (set, change of quanta), ascending set
   int resonance;
   bool first_order;
 };
 
-std::vector<Move> flagged_moves(const Vpt2Context& c, const Vpt2Result& result) {
+std::vector<Move> flagged_moves(const Vpt2Result& result) {
   std::vector<Move> moves;
   for (std::size_t k = 0; k < result.resonances.size(); ++k) {
     const auto& r = result.resonances[k];
     if (!r.flagged) continue;
-    if (r.kind == ResonanceKind::fermi_1)
-      moves.push_back({c.unit({{r.sets[0], 2}, {r.sets[1], -1}}), static_cast<int>(k), true});
-    if (r.kind == ResonanceKind::fermi_2)
-      moves.push_back({c.unit({{r.sets[0], 1}, {r.sets[1], 1}, {r.sets[2], -1}}), static_cast<int>(k), true});
-    if (r.kind == ResonanceKind::darling_dennison)
-      moves.push_back({c.unit({{r.sets[0], 2}, {r.sets[1], -2}}), static_cast<int>(k), false});
+    std::map<int, int> change;
+    if (r.kind == ResonanceKind::fermi_1) change = {{r.sets[0], 2}, {r.sets[1], -1}};
+    if (r.kind == ResonanceKind::fermi_2) change = {{r.sets[0], 1}, {r.sets[1], 1}, {r.sets[2], -1}};
+    if (r.kind == ResonanceKind::darling_dennison) change = {{r.sets[0], 2}, {r.sets[1], -2}};
+    moves.push_back(
+        {{change.begin(), change.end()}, static_cast<int>(k), r.kind != ResonanceKind::darling_dennison});
   }
   return moves;
 }
@@ -474,15 +488,6 @@ WantedManifolds line_list_manifolds(const Vpt2Context& c) {
     for (int t = s + 1; t < n; ++t) wanted.push_back({c.unit({{s, 1}, {t, 1}}), LevelKind::combination});
   return wanted;
 }
-
-struct ManifoldHash {
-  std::size_t operator()(const std::vector<int>& v) const {
-    std::size_t h = v.size();
-    for (int q : v) h ^= static_cast<std::size_t>(q) + 0x9e3779b97f4a7c15ULL + (h << 6) + (h >> 2);
-    return h;
-  }
-};
-using ManifoldIndex = std::unordered_map<std::vector<int>, int, ManifoldHash>;
 
 // A flagged coupling inside a group: manifold `upper` is manifold `lower` moved by the
 // move's delta.
@@ -504,14 +509,58 @@ struct ResonanceGroup {
   bool truncated() const { return beyond_quanta || beyond_states; }
 };
 
-// `from` moved by a flagged move (sign +1 or −1); false if a set would go negative.
-bool moved(const std::vector<int>& from, const Move& move, int sign, std::vector<int>& to) {
-  to = from;
-  for (std::size_t s = 0; s < to.size(); ++s) {
-    to[s] += sign * move.delta[s];
-    if (to[s] < 0) return false;
+// A manifold as its nonzero (set, quanta) entries in ascending set order, packed one per
+// integer: a polyad manifold has a handful of quanta, so keys stay a few integers long
+// whatever the number of modes.
+using ManifoldKey = std::vector<std::uint32_t>;
+constexpr int quanta_bits = 8;
+
+struct ManifoldKeyHash {
+  std::size_t operator()(const ManifoldKey& key) const {
+    std::size_t h = key.size();
+    for (std::uint32_t e : key)
+      h ^= static_cast<std::size_t>(e) + 0x9e3779b97f4a7c15ULL + (h << 6) + (h >> 2);
+    return h;
   }
+};
+template <class Value>
+using ManifoldMap = std::unordered_map<ManifoldKey, Value, ManifoldKeyHash>;
+
+ManifoldKey key_of(const std::vector<int>& manifold) {
+  ManifoldKey key;
+  for (std::size_t s = 0; s < manifold.size(); ++s)
+    if (manifold[s] != 0)
+      key.push_back(static_cast<std::uint32_t>(s) << quanta_bits | static_cast<std::uint32_t>(manifold[s]));
+  return key;
+}
+
+std::vector<int> manifold_of(const ManifoldKey& key, int set_count) {
+  std::vector<int> manifold(static_cast<std::size_t>(set_count), 0);
+  for (std::uint32_t e : key) manifold[e >> quanta_bits] = static_cast<int>(e & ((1u << quanta_bits) - 1));
+  return manifold;
+}
+
+// `from` moved by a flagged move (sign +1 or −1); false if a set would go negative.
+bool moved(const ManifoldKey& from, const Move& move, int sign, ManifoldKey& to) {
+  to.clear();
+  std::size_t f = 0;
+  for (const auto& [set, change] : move.entries) {
+    for (; f < from.size() && static_cast<int>(from[f] >> quanta_bits) < set; ++f) to.push_back(from[f]);
+    int quanta = sign * change;
+    if (f < from.size() && static_cast<int>(from[f] >> quanta_bits) == set)
+      quanta += static_cast<int>(from[f++] & ((1u << quanta_bits) - 1));
+    if (quanta < 0) return false;
+    if (quanta > 0)
+      to.push_back(static_cast<std::uint32_t>(set) << quanta_bits | static_cast<std::uint32_t>(quanta));
+  }
+  for (; f < from.size(); ++f) to.push_back(from[f]);
   return true;
+}
+
+int key_quanta(const ManifoldKey& key) {
+  int total = 0;
+  for (std::uint32_t e : key) total += static_cast<int>(e & ((1u << quanta_bits) - 1));
+  return total;
 }
 
 // A component grows one layer of graph distance at a time, so that one larger than
@@ -521,28 +570,28 @@ bool moved(const std::vector<int>& from, const Move& move, int sign, std::vector
 // manifolds with the cut one.
 std::vector<ResonanceGroup> resonance_groups(const Vpt2Context& c, const WantedManifolds& wanted,
                                              const std::vector<Move>& moves) {
-  ManifoldIndex group_of_wanted;  // the group that holds each line-list manifold
-  for (const auto& w : wanted) group_of_wanted.emplace(w.first, -1);
+  ManifoldMap<int> group_of_wanted;  // the group that holds each line-list manifold
+  for (const auto& w : wanted) group_of_wanted.emplace(key_of(w.first), -1);
   std::vector<ResonanceGroup> groups;
-  std::vector<int> next;
+  ManifoldKey next;
   const auto state_limit = static_cast<std::size_t>(c.options.polyad_max_states);
   for (const auto& seed : wanted) {
-    if (group_of_wanted.at(seed.first) >= 0) continue;
+    const ManifoldKey seed_key = key_of(seed.first);
+    if (group_of_wanted.at(seed_key) >= 0) continue;
     const int id = static_cast<int>(groups.size());
     ResonanceGroup group;
-    group.manifolds.push_back(seed.first);
-    group_of_wanted[seed.first] = id;
-    ManifoldIndex members{{seed.first, 0}};
+    std::vector<ManifoldKey> keys{seed_key};
+    group_of_wanted[seed_key] = id;
+    ManifoldMap<int> position{{seed_key, 0}};
     std::size_t states = manifold_states(seed.first, c.sets, c.m).size();
-    for (std::size_t layer_begin = 0; layer_begin < group.manifolds.size();) {
-      const std::size_t layer_end = group.manifolds.size();
-      std::vector<std::vector<int>> layer;
+    for (std::size_t layer_begin = 0; layer_begin < keys.size();) {
+      const std::size_t layer_end = keys.size();
       std::size_t layer_states = 0;
       for (std::size_t head = layer_begin; head < layer_end; ++head)
         for (const auto& move : moves)
           for (int sign : {1, -1}) {
-            if (!moved(group.manifolds[head], move, sign, next)) continue;
-            if (total_quanta(next) > c.options.polyad_max_quanta) {
+            if (!moved(keys[head], move, sign, next)) continue;
+            if (key_quanta(next) > c.options.polyad_max_quanta) {
               group.beyond_quanta = true;
               continue;
             }
@@ -553,32 +602,31 @@ std::vector<ResonanceGroup> resonance_groups(const Vpt2Context& c, const WantedM
               group.beyond_states = true;
               continue;
             }
-            if (!members.emplace(next, 0).second) continue;
-            layer_states += manifold_states(next, c.sets, c.m).size();
-            layer.push_back(next);
+            if (!position.emplace(next, static_cast<int>(keys.size())).second) continue;
+            layer_states += manifold_states(manifold_of(next, c.set_count()), c.sets, c.m).size();
+            keys.push_back(next);
           }
       if (states + layer_states > state_limit) {
         group.beyond_states = true;
+        for (std::size_t k = layer_end; k < keys.size(); ++k) position.erase(keys[k]);
+        keys.resize(layer_end);
         break;
       }
       states += layer_states;
-      for (auto& v : layer) {
-        if (const auto line_list = group_of_wanted.find(v); line_list != group_of_wanted.end())
+      for (std::size_t k = layer_end; k < keys.size(); ++k)
+        if (const auto line_list = group_of_wanted.find(keys[k]); line_list != group_of_wanted.end())
           line_list->second = id;
-        group.manifolds.push_back(std::move(v));
-      }
       layer_begin = layer_end;
     }
-    ManifoldIndex position;
-    for (std::size_t v = 0; v < group.manifolds.size(); ++v)
-      position[group.manifolds[v]] = static_cast<int>(v);
-    for (std::size_t v = 0; v < group.manifolds.size(); ++v)
+    for (std::size_t v = 0; v < keys.size(); ++v) {
+      group.manifolds.push_back(manifold_of(keys[v], c.set_count()));
       for (std::size_t k = 0; k < moves.size(); ++k) {
-        if (!moved(group.manifolds[v], moves[k], 1, next)) continue;
+        if (!moved(keys[v], moves[k], 1, next)) continue;
         const auto found = position.find(next);
         if (found != position.end())
           group.couplings.push_back({static_cast<int>(v), found->second, static_cast<int>(k)});
       }
+    }
     groups.push_back(std::move(group));
   }
   return groups;
@@ -614,7 +662,7 @@ void group_hamiltonian(const Vpt2Context& c, const ResonanceGroup& group, const 
     }
   }
   first_state.push_back(g.states.size());
-  const std::set<Quanta> excluded(g.states.begin(), g.states.end());
+  const detail::StateSet excluded(g.states.begin(), g.states.end());
   const auto size = static_cast<Eigen::Index>(g.states.size());
   g.h = Eigen::MatrixXd::Zero(size, size);
   auto second_order = [&](std::size_t a, std::size_t b) {
@@ -700,9 +748,9 @@ void sublevel_species(const Vpt2Context& c, GroupStates& g) {
   }
 }
 
-// Weights below this in a resonance-corrected state are round-off of the eigenvectors'
-// squares; above coupled_weight a sublevel takes part in the resonance.
-constexpr double negligible_weight = 1e-10;
+// Above this weight in a resonance-corrected state a sublevel takes part in the
+// resonance (and is listed in the mixing): an intensity share of 1e-6 is far below
+// anything a spectrum shows.
 constexpr double coupled_weight = 1e-6;
 
 // Resonance-corrected states: the whole group diagonalized, its eigenvalue clusters
@@ -787,12 +835,12 @@ std::vector<LevelComponent> level_mixing(const ResonanceGroup& group, const Grou
   std::vector<LevelComponent> mixing;
   const auto& weights = g.composition[index];
   for (std::size_t t = 0; t < weights.size(); ++t) {
-    if (!(weights[t] > negligible_weight)) continue;
+    if (!(weights[t] > coupled_weight)) continue;
     const Sublevel& other = g.sublevels[t];
     const auto& other_subs = g.sublevels_of_manifold[static_cast<std::size_t>(other.manifold)];
     const int other_index = static_cast<int>(
         std::find(other_subs.begin(), other_subs.end(), static_cast<int>(t)) - other_subs.begin());
-    mixing.push_back({group.manifolds[static_cast<std::size_t>(other.manifold)], other_index,
+    mixing.push_back({sparse_quanta(group.manifolds[static_cast<std::size_t>(other.manifold)]), other_index,
                       static_cast<int>(other_subs.size()), g.species[t], g.tags[t], weights[t]});
   }
   std::sort(mixing.begin(), mixing.end(),
@@ -802,15 +850,16 @@ std::vector<LevelComponent> level_mixing(const ResonanceGroup& group, const Grou
 
 // Levels of the line list in one group; returns their indices in result.levels.
 std::vector<int> add_group_levels(const Vpt2Context& c, const ResonanceGroup& group, const GroupStates& g,
-                                  const WantedManifolds& wanted, bool is_polyad, Vpt2Result& result) {
+                                  const WantedManifolds& wanted, const ManifoldMap<int>& wanted_index,
+                                  bool is_polyad, Vpt2Result& result) {
   std::vector<int> group_levels;
   for (std::size_t v = 0; v < group.manifolds.size(); ++v) {
-    const auto found = std::find_if(wanted.begin(), wanted.end(),
-                                    [&](const auto& w) { return w.first == group.manifolds[v]; });
-    if (found == wanted.end()) continue;
+    const auto found = wanted_index.find(key_of(group.manifolds[v]));
+    if (found == wanted_index.end()) continue;
+    const LevelKind kind = wanted[static_cast<std::size_t>(found->second)].second;
     const auto& subs = g.sublevels_of_manifold[v];
     for (std::size_t k = 0; k < subs.size(); ++k) {
-      VibrationalLevel level = sublevel_level(c, g, group.manifolds[v], found->second, subs, k);
+      VibrationalLevel level = sublevel_level(c, g, group.manifolds[v], kind, subs, k);
       const auto index = static_cast<std::size_t>(subs[k]);
       if (is_polyad && g.coupled[index]) {
         level.resonance_corrected_cm1 = g.corrected[index];
@@ -829,7 +878,7 @@ std::vector<int> add_group_levels(const Vpt2Context& c, const ResonanceGroup& gr
 void add_polyad(const ResonanceGroup& group, const std::vector<Move>& moves,
                 const std::vector<int>& group_levels, int state_count, Vpt2Result& result) {
   Polyad polyad;
-  polyad.manifolds = group.manifolds;
+  for (const auto& manifold : group.manifolds) polyad.manifolds.push_back(sparse_quanta(manifold));
   polyad.state_count = state_count;
   polyad.truncated = group.truncated();
   polyad.reached_quanta_limit = group.beyond_quanta;
@@ -841,8 +890,9 @@ void add_polyad(const ResonanceGroup& group, const std::vector<Move>& moves,
                   polyad.resonances.end()),
       polyad.resonances.end());
   auto weight_of = [&](const VibrationalLevel& in, const VibrationalLevel& of) {
+    const SparseQuanta quanta = sparse_quanta(of.set_quanta);
     for (const auto& component : in.mixing)
-      if (component.set_quanta == of.set_quanta && component.sublevel == of.sublevel) return component.weight;
+      if (component.quanta == quanta && component.sublevel == of.sublevel) return component.weight;
     return 0.0;
   };
   for (int level : group_levels)
@@ -861,23 +911,21 @@ void add_polyad(const ResonanceGroup& group, const std::vector<Move>& moves,
 
 // Line-list order: fundamentals, overtones, combinations, each by set; partner and polyad
 // indices follow the levels.
-void sort_levels(const WantedManifolds& wanted, Vpt2Result& result) {
+void sort_levels(const ManifoldMap<int>& wanted_index, Vpt2Result& result) {
   std::vector<int> order_index(result.levels.size());
   std::iota(order_index.begin(), order_index.end(), 0);
-  auto rank = [&](const VibrationalLevel& level) {
-    const auto it = std::find_if(wanted.begin(), wanted.end(),
-                                 [&](const auto& w) { return w.first == level.set_quanta; });
-    return std::make_pair(static_cast<int>(it - wanted.begin()), level.sublevel);
-  };
+  std::vector<std::pair<int, int>> rank;
+  for (const VibrationalLevel& level : result.levels)
+    rank.emplace_back(wanted_index.at(key_of(level.set_quanta)), level.sublevel);
   std::stable_sort(order_index.begin(), order_index.end(), [&](int a, int b) {
-    return rank(result.levels[static_cast<std::size_t>(a)]) <
-           rank(result.levels[static_cast<std::size_t>(b)]);
+    return rank[static_cast<std::size_t>(a)] < rank[static_cast<std::size_t>(b)];
   });
   std::vector<int> new_position(result.levels.size());
   for (std::size_t k = 0; k < order_index.size(); ++k)
     new_position[static_cast<std::size_t>(order_index[k])] = static_cast<int>(k);
   std::vector<VibrationalLevel> sorted;
-  for (int k : order_index) sorted.push_back(result.levels[static_cast<std::size_t>(k)]);
+  sorted.reserve(result.levels.size());
+  for (int k : order_index) sorted.push_back(std::move(result.levels[static_cast<std::size_t>(k)]));
   for (auto& level : sorted)
     for (int& partner : level.partners) partner = new_position[static_cast<std::size_t>(partner)];
   for (auto& polyad : result.polyads)
@@ -917,8 +965,9 @@ void degenerate_set_constants(const Vpt2Context& c, Vpt2Result& result) {
 
 // Every resonance group: its Hamiltonian, sublevels, species, corrected states, the line-list
 // levels it holds and, for a polyad, the polyad record.
-void diagonalize_groups(const Vpt2Context& c, const WantedManifolds& wanted, Vpt2Result& result) {
-  const std::vector<Move> moves = flagged_moves(c, result);
+void diagonalize_groups(const Vpt2Context& c, const WantedManifolds& wanted,
+                        const ManifoldMap<int>& wanted_index, Vpt2Result& result) {
+  const std::vector<Move> moves = flagged_moves(result);
   std::size_t beyond_quanta = 0, beyond_states = 0;
   for (const ResonanceGroup& group : resonance_groups(c, wanted, moves)) {
     if (group.manifolds.empty()) continue;
@@ -928,7 +977,8 @@ void diagonalize_groups(const Vpt2Context& c, const WantedManifolds& wanted, Vpt
     sublevel_species(c, g);
     const bool is_polyad = group.manifolds.size() > 1;
     if (is_polyad) resonance_corrected_states(c, g);
-    const std::vector<int> group_levels = add_group_levels(c, group, g, wanted, is_polyad, result);
+    const std::vector<int> group_levels =
+        add_group_levels(c, group, g, wanted, wanted_index, is_polyad, result);
     if (!is_polyad) continue;
     add_polyad(group, moves, group_levels, static_cast<int>(g.states.size()), result);
     beyond_quanta += group.beyond_quanta ? 1 : 0;
@@ -983,8 +1033,11 @@ Vpt2Result run_vpt2(const ForceConstantResult& force_constants, const HarmonicRe
   resonance_candidates(c, result);
   deperturbed_constants(c, result);
   const WantedManifolds wanted = line_list_manifolds(c);
-  diagonalize_groups(c, wanted, result);
-  sort_levels(wanted, result);
+  ManifoldMap<int> wanted_index;  // position in the line-list order
+  for (std::size_t k = 0; k < wanted.size(); ++k)
+    wanted_index.emplace(key_of(wanted[k].first), static_cast<int>(k));
+  diagonalize_groups(c, wanted, wanted_index, result);
+  sort_levels(wanted_index, result);
   degenerate_set_constants(c, result);
 
   std::size_t flagged = 0;

@@ -108,11 +108,12 @@ json levels_to_json(const AnharmonicResult& anharmonic) {
       partners.push_back(level_label(vpt2.levels[static_cast<std::size_t>(partner)].set_quanta, numbers));
     json mixing = json::array();
     for (const LevelComponent& component : level.mixing)
-      mixing.push_back({{"label", level_label(component.set_quanta, numbers)},
-                        {"quanta", quanta_by_fundamental(component.set_quanta, numbers)},
-                        {"sublevel", component.tag},
-                        {"species", component.species},
-                        {"weight", component.weight}});
+      mixing.push_back(
+          {{"label", level_label(dense_quanta(component.quanta, numbers.size()), numbers)},
+           {"quanta", quanta_by_fundamental(dense_quanta(component.quanta, numbers.size()), numbers)},
+           {"sublevel", component.tag},
+           {"species", component.species},
+           {"weight", component.weight}});
     const json activity_ir = level.activity_known ? json(level.ir_active) : json(nullptr);
     const json activity_raman = level.activity_known ? json(level.raman_active) : json(nullptr);
     levels.push_back({{"label", level_label(level.set_quanta, numbers)},
@@ -158,7 +159,8 @@ json polyads_to_json(const AnharmonicResult& anharmonic) {
   json polyads = json::array();
   for (const Polyad& polyad : vpt2.polyads) {
     json manifolds = json::array(), levels = json::array(), resonances = json::array();
-    for (const auto& manifold : polyad.manifolds) manifolds.push_back(level_label(manifold, numbers));
+    for (const auto& manifold : polyad.manifolds)
+      manifolds.push_back(level_label(dense_quanta(manifold, numbers.size()), numbers));
     for (const int level : polyad.levels)
       levels.push_back(level_label(vpt2.levels[static_cast<std::size_t>(level)].set_quanta, numbers));
     for (const int resonance : polyad.resonances)

@@ -143,7 +143,7 @@ TEST(Vpt2ClosedForm, DeperturbedConstantsEqualSumsWithoutResonantPartners) {
   const detail::AnharmonicOperator op(fc.constants, w);
   const std::vector<detail::Quanta> moves{{2, 0, -1}, {1, 1, -1}};
   auto partners = [&](const detail::Quanta& n) {
-    std::set<detail::Quanta> excluded{n};
+    detail::StateSet excluded{n};
     for (const auto& d : moves)
       for (int sign : {1, -1}) {
         detail::Quanta p = n;
@@ -198,7 +198,7 @@ TEST(Vpt2ClosedForm, SecondOrderCouplingsEqualSumsOverTheDenseBasis) {
         for (int d = 0; d < 7; ++d) basis.push_back({a, b, c, d});
   for (const auto& m : states)
     for (const auto& n : states) {
-      const std::set<detail::Quanta> excluded{m, n};
+      const detail::StateSet excluded{m, n};
       const double em = op.zeroth_order(m), en = op.zeroth_order(n);
       double brute = 0.0;
       for (const auto& k : basis) {
