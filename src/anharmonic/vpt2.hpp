@@ -73,7 +73,10 @@ struct Vpt2Options {
   bool include_coriolis = true;
   // Polyad closure stops at states with more quanta in total than this.
   int polyad_max_quanta = 4;
-  // ... or when a polyad would hold more component states than this.
+  // A polyad (a connected component of the graph of flagged couplings between manifolds,
+  // explored from a line-list level) holds at most this many component states: a larger
+  // component keeps the whole layers of graph distance from that level that fit, and is
+  // reported as cut. Bounds the dense diagonalization (time ∝ states³, memory ∝ states²).
   int polyad_max_states = 200;
   // Eigenvalues closer than this (cm⁻¹) form one degenerate level.
   double level_degeneracy_tolerance_cm1 = 0.01;
@@ -113,16 +116,25 @@ struct Resonance {
   bool flagged = false;  // treated (deperturbed and diagonalized in a polyad)
 };
 
+// The quanta of a manifold as its nonzero (set, quanta) entries in ascending set order: a
+// polyad holds many manifolds of a few quanta each, whatever the number of modes.
+using SparseQuanta = std::vector<std::pair<int, int>>;
+SparseQuanta sparse_quanta(const std::vector<int>& set_quanta);
+std::vector<int> dense_quanta(const SparseQuanta& quanta, std::size_t set_count);
+
 // Weight of one zeroth-order (deperturbed) level in a resonance-corrected state.
 struct LevelComponent {
-  std::vector<int> set_quanta;  // quanta per set
-  int sublevel = 0;             // which sublevel of that manifold (see VibrationalLevel)
-  int sublevel_count = 1;       // sublevels of that manifold
-  std::string species;          // of that sublevel; "" without a character table
+  SparseQuanta quanta;     // of the manifold
+  int sublevel = 0;        // which sublevel of that manifold (see VibrationalLevel)
+  int sublevel_count = 1;  // sublevels of that manifold
+  std::string species;     // of that sublevel; "" without a character table
   // Distinguishes the sublevel within its manifold: "" when there is only one, else the
   // species, with "#k" appended when that species occurs more than once, or just "k".
   std::string tag;
-  double weight = 0.0;  // squared coefficient, summed over degenerate partners; Σ = 1
+  // Squared coefficient, summed over degenerate partners. Components of weight 1e-6 or
+  // more are listed (a sublevel below that takes no part in the resonance), so the listed
+  // weights sum to 1 within 1e-6 times the polyad's sublevels.
+  double weight = 0.0;
 };
 
 struct VibrationalLevel {
@@ -147,11 +159,13 @@ struct VibrationalLevel {
 };
 
 struct Polyad {
-  std::vector<std::vector<int>> manifolds;  // set quanta of the zeroth-order levels coupled
-  std::vector<int> levels;                  // line-list levels it contains
-  std::vector<int> resonances;              // indices into Vpt2Result::resonances
-  int state_count = 0;                      // component states diagonalized
-  bool truncated = false;                   // closure stopped by a limit
+  std::vector<SparseQuanta> manifolds;  // the zeroth-order levels coupled
+  std::vector<int> levels;              // line-list levels it contains
+  std::vector<int> resonances;          // indices into Vpt2Result::resonances
+  int state_count = 0;                  // component states diagonalized
+  bool truncated = false;               // closure stopped by a limit (one of the two below)
+  bool reached_quanta_limit = false;    // a flagged coupling leads beyond polyad_max_quanta
+  bool cut_at_state_limit = false;      // the component was cut at polyad_max_states
 };
 
 // x_tt and g_tt of a doubly degenerate set (G = ω(v+1) + x_tt(v+1)² + g_tt l² + …).

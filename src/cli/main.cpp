@@ -12,6 +12,7 @@
 #include <cmath>
 #include <filesystem>
 #include <fstream>
+#include <functional>
 #include <iostream>
 #include <memory>
 #include <optional>
@@ -106,15 +107,15 @@ std::unique_ptr<Potential> potential_for(const MoleculeArguments& arguments, con
 
 // A single output file, written beside its target first and renamed into place, so that
 // a failed or interrupted run never leaves a truncated file under the name.
-void write_text(const std::string& path, const std::string& text) {
+void write_output(const std::string& path, const std::function<void(std::ostream&)>& write) {
   if (path == "-") {
-    std::cout << text;
+    write(std::cout);
     return;
   }
   std::error_code ec;
   if (std::filesystem::exists(path, ec) && !std::filesystem::is_regular_file(path, ec)) {
     std::ofstream out(path, std::ios::binary);  // a device or pipe, e.g. /dev/stdout
-    out << text;
+    write(out);
     if (!out) throw Error("writing '" + path + "' failed");
     return;
   }
@@ -122,7 +123,7 @@ void write_text(const std::string& path, const std::string& text) {
   {
     std::ofstream out(incomplete, std::ios::binary);
     if (!out) throw Error("cannot open '" + path + "' for writing");
-    out << text;
+    write(out);
     out.close();
     if (!out) throw Error("writing '" + path + "' failed");
   }
@@ -131,6 +132,10 @@ void write_text(const std::string& path, const std::string& text) {
     std::filesystem::remove(incomplete, ec);
     throw Error("cannot write '" + path + "': " + ec.message());
   }
+}
+
+void write_text(const std::string& path, const std::string& text) {
+  write_output(path, [&](std::ostream& out) { out << text; });
 }
 
 // The molecule, its potential (which later stages evaluate again) and the analysis.
@@ -154,7 +159,8 @@ AnalysedMolecule run_analysis(const MoleculeArguments& arguments) {
 // Returns whether the text report is still to be printed.
 bool write_document(const std::string& json_path, const RunResults& results) {
   if (json_path.empty()) return true;
-  write_text(json_path, json_text(analysis_document(results)));
+  const nlohmann::json document = analysis_document(results);
+  write_output(json_path, [&](std::ostream& out) { write_json(out, document); });
   return json_path != "-";
 }
 

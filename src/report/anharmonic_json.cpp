@@ -51,8 +51,8 @@ json force_constants_to_json(const AnharmonicResult& anharmonic, const std::vect
           {"evaluations_without_symmetry", counts_to_json(result.naive_evaluations)},
           {"seconds", anharmonic.force_constants_s},
           {"warnings", result.warnings},
-          {"cubic", cubic},
-          {"quartic", quartic}};
+          {"cubic", std::move(cubic)},
+          {"quartic", std::move(quartic)}};
 }
 
 // A per-mode matrix (harmonic order) rearranged into report order.
@@ -108,11 +108,12 @@ json levels_to_json(const AnharmonicResult& anharmonic) {
       partners.push_back(level_label(vpt2.levels[static_cast<std::size_t>(partner)].set_quanta, numbers));
     json mixing = json::array();
     for (const LevelComponent& component : level.mixing)
-      mixing.push_back({{"label", level_label(component.set_quanta, numbers)},
-                        {"quanta", quanta_by_fundamental(component.set_quanta, numbers)},
-                        {"sublevel", component.tag},
-                        {"species", component.species},
-                        {"weight", component.weight}});
+      mixing.push_back(
+          {{"label", level_label(dense_quanta(component.quanta, numbers.size()), numbers)},
+           {"quanta", quanta_by_fundamental(dense_quanta(component.quanta, numbers.size()), numbers)},
+           {"sublevel", component.tag},
+           {"species", component.species},
+           {"weight", component.weight}});
     const json activity_ir = level.activity_known ? json(level.ir_active) : json(nullptr);
     const json activity_raman = level.activity_known ? json(level.raman_active) : json(nullptr);
     levels.push_back({{"label", level_label(level.set_quanta, numbers)},
@@ -152,6 +153,29 @@ json resonances_to_json(const AnharmonicResult& anharmonic) {
   return resonances;
 }
 
+json polyads_to_json(const AnharmonicResult& anharmonic) {
+  const Vpt2Result& vpt2 = anharmonic.vpt2;
+  const std::vector<int>& numbers = anharmonic.set_numbers;
+  json polyads = json::array();
+  for (const Polyad& polyad : vpt2.polyads) {
+    json manifolds = json::array(), levels = json::array(), resonances = json::array();
+    for (const auto& manifold : polyad.manifolds)
+      manifolds.push_back(level_label(dense_quanta(manifold, numbers.size()), numbers));
+    for (const int level : polyad.levels)
+      levels.push_back(level_label(vpt2.levels[static_cast<std::size_t>(level)].set_quanta, numbers));
+    for (const int resonance : polyad.resonances)
+      resonances.push_back(resonance_label(vpt2.resonances[static_cast<std::size_t>(resonance)], numbers));
+    polyads.push_back({{"number", polyads.size() + 1},
+                       {"levels", levels},
+                       {"manifolds", manifolds},
+                       {"resonances", resonances},
+                       {"state_count", polyad.state_count},
+                       {"reached_quanta_limit", polyad.reached_quanta_limit},
+                       {"cut_at_state_limit", polyad.cut_at_state_limit}});
+  }
+  return polyads;
+}
+
 }  // namespace
 
 nlohmann::json anharmonic_to_json(const AnalysisResult& analysis, const AnharmonicResult& anharmonic) {
@@ -161,6 +185,7 @@ nlohmann::json anharmonic_to_json(const AnalysisResult& analysis, const Anharmon
   document["anharmonicity"] = anharmonicity_to_json(analysis, anharmonic);
   document["levels"] = levels_to_json(anharmonic);
   document["resonances"] = resonances_to_json(anharmonic);
+  document["polyads"] = polyads_to_json(anharmonic);
   document["anharmonic_summary"] = {{"status", to_string(anharmonic.vpt2.status)},
                                     {"message", anharmonic.vpt2.message},
                                     {"warnings", anharmonic.vpt2.warnings},

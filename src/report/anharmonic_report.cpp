@@ -24,7 +24,7 @@ std::vector<int> numbers_for(const Vpt2Result& vpt2, const AnharmonicReportOptio
 }
 
 std::string component_label(const LevelComponent& c, const std::vector<int>& numbers, bool ascii) {
-  std::string label = level_label(c.set_quanta, numbers, ascii);
+  std::string label = level_label(dense_quanta(c.quanta, numbers.size()), numbers, ascii);
   if (!c.tag.empty()) label += "(" + c.tag + ")";
   return label;
 }

@@ -2,6 +2,8 @@
 
 #include <fmt/format.h>
 
+#include <memory>
+
 #include "anharmonic/taylor_export.hpp"
 #include "core/error.hpp"
 #include "core/text.hpp"
@@ -19,11 +21,12 @@ using nlohmann::json;
 
 // Adds the sections of one stage writer; a key written twice is a programming error of
 // the report stage, not something a user could cause.
-void merge_sections(json& document, const json& sections) {
+// Sections are moved in: a document of a large molecule holds tens of megabytes.
+void merge_sections(json& document, json sections) {
   for (auto item = sections.begin(); item != sections.end(); ++item) {
     if (document.contains(item.key()))
       throw Error("the report would write the JSON key '" + item.key() + "' twice");
-    document[item.key()] = item.value();
+    document[item.key()] = std::move(item.value());
   }
 }
 
@@ -104,6 +107,14 @@ std::string json_text(const nlohmann::json& document) {
   return document.dump(2, ' ', false, json::error_handler_t::replace) + "\n";
 }
 
+void write_json(std::ostream& out, const nlohmann::json& document) {
+  // What dump() does, into the stream instead of a string.
+  nlohmann::detail::serializer<json> serializer(nlohmann::detail::output_adapter<char>(out), ' ',
+                                                json::error_handler_t::replace);
+  serializer.dump(document, true, false, 2);
+  out << "\n";
+}
+
 std::string text_report(const RunResults& results) {
   const AnalysisResult& analysis = analysis_of(results);
   std::string text = modes_table(analysis);
@@ -137,7 +148,8 @@ std::vector<OutputFile> family_backbone_files(const AnalysisResult& analysis, co
 std::vector<OutputFile> analysis_files(const RunResults& results) {
   const AnalysisResult& analysis = analysis_of(results);
   std::vector<OutputFile> files;
-  files.push_back({"analysis.json", json_text(analysis_document(results))});
+  auto document = std::make_shared<const json>(analysis_document(results));
+  files.push_back({"analysis.json", "", [document](std::ostream& out) { write_json(out, *document); }});
   files.push_back({"modes.csv", modes_csv(analysis)});
   if (results.anharmonic)
     files.push_back(

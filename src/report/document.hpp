@@ -8,6 +8,7 @@
 // document; analysis_document merges them and refuses a key written twice. Every string
 // in the document is valid UTF-8 (text from input files passes through valid_utf8).
 #include <nlohmann/json.hpp>
+#include <ostream>
 #include <string>
 #include <vector>
 
@@ -40,6 +41,8 @@ nlohmann::json analysis_document(const RunResults& results);
 // The document as text: two-space indentation, a final newline; any string that is not
 // valid UTF-8 is replaced rather than refused.
 std::string json_text(const nlohmann::json& document);
+// The same text written to a stream as it is produced (no copy of the whole text).
+void write_json(std::ostream& out, const nlohmann::json& document);
 
 // The console report: the modes table, then each later stage that ran, then (when both
 // ran) the resonance cross-check.
