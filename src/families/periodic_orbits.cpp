@@ -613,9 +613,11 @@ bool FamilySolver::analyze_point(const Unknowns& u, OrbitPoint& point, PointAnal
     }
     point.amplitude_angstrom = refined_maximum(x, v, h, 3);
   }
+  // Over the integrator's own states: the interpolated samples would add their
+  // interpolation error to the drift being measured.
   double lowest = std::numeric_limits<double>::infinity(), highest = -lowest;
-  for (int j = 0; j < count; ++j) {
-    const double energy = 0.5 * p[j].squaredNorm() + system_.potential(q[j]);
+  for (const Eigen::VectorXd& state : run.step_states) {
+    const double energy = total_energy(state, length);
     lowest = std::min(lowest, energy);
     highest = std::max(highest, energy);
   }
