@@ -27,6 +27,7 @@ void FamiliesOptions::validate() const {
   if (encounter_max_ratio < 1)
     throw Error(
         fmt::format("families option encounter_max_ratio = {} must be at least 1", encounter_max_ratio));
+  if (threads < 0) throw Error(fmt::format("families option threads = {} must be non-negative", threads));
   if (!(enumeration.resonance_window_cm1 >= 0.0))
     throw Error(fmt::format("families option enumeration.resonance_window_cm1 = {} must be non-negative",
                             enumeration.resonance_window_cm1));
@@ -175,6 +176,8 @@ FamiliesResult compute_families(const VibrationalSystem& system, const std::vect
       result.variational_integrations += family.backbone.variational_integrations;
       result.orbit_integrations += family.backbone.orbit_integrations;
       result.gradient_evaluations += family.backbone.gradient_evaluations;
+      result.hessian_evaluations += family.backbone.hessian_evaluations;
+      result.hessian_vector_products += family.backbone.hessian_vector_products;
     }
     result.families.push_back(std::move(family));
   }

@@ -31,6 +31,10 @@ struct FamiliesOptions {
   // Resonance encounters between two continued families: their frequency ratio passes
   // p:q with 1 ≤ p, q ≤ encounter_max_ratio (coprime) at equal energy.
   int encounter_max_ratio = 3;
+  // Threads that continue families at once (each family on one thread; the results do
+  // not depend on the number). 0: one per core. Potentials that cannot be evaluated
+  // from several threads at once (Potential::supports_concurrent_evaluation) run on one.
+  int threads = 0;
 
   // Throws Error naming the field when a value is out of range (the continuation options
   // are checked per family, once energy_max is known).
@@ -58,6 +62,8 @@ struct FamiliesResult {
   int variational_integrations = 0;
   int orbit_integrations = 0;
   std::size_t gradient_evaluations = 0;
+  std::size_t hessian_evaluations = 0;
+  std::size_t hessian_vector_products = 0;
   double seconds = 0.0;
 };
 

@@ -209,7 +209,7 @@ class FamilySolver {
   // Cost of the point being computed: corrector work since the last accepted point.
   struct PointCost {
     int iterations = 0, variational = 0, orbits = 0;
-    std::size_t gradients_at_start = 0;
+    SystemEvaluationCounts counts_at_start;
     std::chrono::steady_clock::time_point started;
   };
   ContinuationResult finish(ContinuationResult& result, ContinuationStatus status, std::string message);
@@ -265,7 +265,7 @@ class FamilySolver {
   double tangent_length_ = 1.0;
   double tangent_time_scale_ = 1.0;
   std::chrono::steady_clock::time_point started_;
-  std::size_t gradients_before_ = 0;
+  SystemEvaluationCounts counts_before_;  // this thread's counts when run() started
 };
 
 FamilySolver::FamilySolver(const VibrationalSystem& system, const FamilySeed& seed,
@@ -613,9 +613,11 @@ bool FamilySolver::analyze_point(const Unknowns& u, OrbitPoint& point, PointAnal
     }
     point.amplitude_angstrom = refined_maximum(x, v, h, 3);
   }
+  // Over the integrator's own states: the interpolated samples would add their
+  // interpolation error to the drift being measured.
   double lowest = std::numeric_limits<double>::infinity(), highest = -lowest;
-  for (int j = 0; j < count; ++j) {
-    const double energy = 0.5 * p[j].squaredNorm() + system_.potential(q[j]);
+  for (const Eigen::VectorXd& state : run.step_states) {
+    const double energy = total_energy(state, length);
     lowest = std::min(lowest, energy);
     highest = std::max(highest, energy);
   }
@@ -713,7 +715,10 @@ ContinuationResult FamilySolver::finish(ContinuationResult& result, Continuation
   detect_events(result);
   if (!result.points.empty()) build_ladder(result);
   const auto& counters = integrator_->counters();
-  result.gradient_evaluations = system_.counts().gradients - gradients_before_;
+  const SystemEvaluationCounts used = VibrationalSystem::thread_counts() - counts_before_;
+  result.gradient_evaluations = used.gradients;
+  result.hessian_evaluations = used.hessians;
+  result.hessian_vector_products = used.hessian_vector_products;
   result.integration_steps = counters.steps;
   result.seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - started_).count();
   if (counters.full_variational_periods > 0.0)
@@ -773,7 +778,10 @@ bool FamilySolver::accept(const CorrectorOutcome& corrected, const PointCost& co
   point.energy_direction = tangent_(2 * m_ + 1) >= 0.0 ? 1 : -1;
   point.initial_positions = basis_ * corrected.solution.a;
   point.initial_momenta = basis_ * corrected.solution.b;
-  point.gradient_evaluations = system_.counts().gradients - cost.gradients_at_start;
+  const SystemEvaluationCounts used = VibrationalSystem::thread_counts() - cost.counts_at_start;
+  point.gradient_evaluations = used.gradients;
+  point.hessian_evaluations = used.hessians;
+  point.hessian_vector_products = used.hessian_vector_products;
   point.seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - cost.started).count();
   fill_converted(point);
   result.points.push_back(std::move(point));
@@ -788,7 +796,7 @@ bool FamilySolver::start(ContinuationResult& result, std::string& failure) {
   for (int attempt = 0; attempt < 4; ++attempt, start_energy *= 0.1) {
     PointCost cost;
     cost.started = std::chrono::steady_clock::now();
-    cost.gradients_at_start = system_.counts().gradients;
+    cost.counts_at_start = VibrationalSystem::thread_counts();
     const Eigen::VectorXcd& v = seed_.linear_mode;
     const double amplitude = std::sqrt(2.0 * start_energy) / (omega_ * v.norm());
     Unknowns guess;
@@ -907,7 +915,7 @@ double FamilySolver::next_step(double step, double trial_step, int iterations) c
 
 ContinuationResult FamilySolver::run() {
   started_ = std::chrono::steady_clock::now();
-  gradients_before_ = system_.counts().gradients;
+  counts_before_ = VibrationalSystem::thread_counts();
   ContinuationResult result;
   result.reduced_dimension = m_;
   result.shift_denominator = r_;
@@ -926,7 +934,7 @@ ContinuationResult FamilySolver::run() {
   double step = options_.initial_step;
   PointCost cost;
   cost.started = std::chrono::steady_clock::now();
-  cost.gradients_at_start = system_.counts().gradients;
+  cost.counts_at_start = VibrationalSystem::thread_counts();
   std::string last_failure;
   bool last_failure_escape = false;
   while (true) {
@@ -963,7 +971,7 @@ ContinuationResult FamilySolver::run() {
     step = next_step(step, trial_step, corrected.iterations);
     cost = PointCost{};
     cost.started = std::chrono::steady_clock::now();
-    cost.gradients_at_start = system_.counts().gradients;
+    cost.counts_at_start = VibrationalSystem::thread_counts();
     if (final_step) return finish(result, ContinuationStatus::reached_energy_max, "reached energy_max");
     if (result.points.back().energy > energy_max) return finish_at_energy_max(result, cost);
     const double period_limit = options_.max_period_factor * 2.0 * units::pi / omega_;

@@ -172,7 +172,9 @@ struct OrbitPoint {
   int newton_iterations = 0;
   int variational_integrations = 0;
   int orbit_integrations = 0;
-  std::size_t gradient_evaluations = 0;
+  std::size_t gradient_evaluations = 0;     // including those of finite-difference Hessian products
+  std::size_t hessian_evaluations = 0;      // analytic Hessians of a molecule's potential
+  std::size_t hessian_vector_products = 0;  // analytic Hessian–vector products of a molecule's potential
   double seconds = 0.0;
 };
 
@@ -226,7 +228,10 @@ struct ContinuationResult {
   int orbit_integrations = 0;
   int rejected_steps = 0;             // continuation steps retried with a smaller step
   std::size_t integration_steps = 0;  // accepted integrator steps, all integrations
+  // Evaluations, the ladder's included (see OrbitPoint):
   std::size_t gradient_evaluations = 0;
+  std::size_t hessian_evaluations = 0;
+  std::size_t hessian_vector_products = 0;
   double seconds = 0.0;
   // Mean time of one period with whole-space variational equations (the benchmark's
   // unit of cost); 0 when none was run.

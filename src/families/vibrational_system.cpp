@@ -15,6 +15,30 @@ UnitConventions molecular_unit_conventions() {
   return conventions;
 }
 
+SystemEvaluationCounts& SystemEvaluationCounts::operator+=(const SystemEvaluationCounts& other) {
+  potentials += other.potentials;
+  gradients += other.gradients;
+  hessian_directions += other.hessian_directions;
+  hessians += other.hessians;
+  hessian_vector_products += other.hessian_vector_products;
+  return *this;
+}
+
+SystemEvaluationCounts SystemEvaluationCounts::operator-(const SystemEvaluationCounts& other) const {
+  SystemEvaluationCounts difference;
+  difference.potentials = potentials - other.potentials;
+  difference.gradients = gradients - other.gradients;
+  difference.hessian_directions = hessian_directions - other.hessian_directions;
+  difference.hessians = hessians - other.hessians;
+  difference.hessian_vector_products = hessian_vector_products - other.hessian_vector_products;
+  return difference;
+}
+
+SystemEvaluationCounts& VibrationalSystem::counters() {
+  thread_local SystemEvaluationCounts counts;
+  return counts;
+}
+
 Eigen::VectorXd VibrationalSystem::cartesian_displacement_angstrom(const Eigen::VectorXd&) const {
   return {};
 }

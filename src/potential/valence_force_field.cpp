@@ -277,6 +277,8 @@ class ValenceForceField final : public Potential {
   std::string description() const override { return description_; }
   std::size_t atom_count() const override { return atom_count_; }
   bool has_analytic_hessian() const override { return true; }
+  // The evaluation reads only the terms parsed at construction.
+  bool supports_concurrent_evaluation() const override { return true; }
 
  protected:
   double compute_energy(const Eigen::VectorXd& x) const override {
