@@ -8,6 +8,7 @@
 #include <string>
 #include <vector>
 
+#include "core/progress.hpp"
 #include "families/family_types.hpp"
 #include "families/molecular_system.hpp"
 #include "families/periodic_orbits.hpp"
@@ -35,6 +36,8 @@ struct FamiliesOptions {
   // not depend on the number). 0: one per core. Potentials that cannot be evaluated
   // from several threads at once (Potential::supports_concurrent_evaluation) run on one.
   int threads = 0;
+  // Told after each family and at accepted points (stage "families", done/total families).
+  ProgressCallback progress;
 
   // Throws Error naming the field when a value is out of range (the continuation options
   // are checked per family, once energy_max is known).
