@@ -270,8 +270,6 @@ std::vector<std::vector<int>> cluster_eigenvalues(const Eigen::VectorXd& values,
   return clusters;
 }
 
-int total_quanta(const std::vector<int>& v) { return std::accumulate(v.begin(), v.end(), 0); }
-
 // The states of one manifold are consecutive in a group's basis, so a sublevel's vectors
 // are kept on those rows only: the work on a polyad stays proportional to its states times
 // the states of each manifold, not to the square of its size per sublevel.
