@@ -357,7 +357,7 @@ namespace {
 // largest change made by the average.
 double symmetrize_and_zero(ForceConstantTensors& constants, const ModeSymmetry& symmetry,
                            std::size_t& forbidden_cubic, std::size_t& forbidden_quartic) {
-  const auto sets = symmetry.sets();
+  const auto& sets = symmetry.sets();
   const int set_count = static_cast<int>(sets.size());
   const InvariantOverlap overlap(symmetry);
   double change = 0.0;

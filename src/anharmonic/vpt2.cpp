@@ -135,8 +135,8 @@ void coriolis_constants(const HarmonicResult& harmonic, std::vector<Eigen::Matri
   const Eigen::VectorXd& x = harmonic.coordinates_angstrom;
   const Eigen::Index atoms = masses.size();
   const Eigen::SelfAdjointEigenSolver<Eigen::Matrix3d> principal(inertia_tensor(x, masses));
-  const Eigen::Vector3d moments = principal.eigenvalues();
-  const Eigen::Matrix3d axes = principal.eigenvectors();
+  const Eigen::Vector3d& moments = principal.eigenvalues();
+  const Eigen::Matrix3d& axes = principal.eigenvectors();
   // A moment this small relative to the largest is the axis of a linear molecule.
   constexpr double vanishing_moment = 1e-8;
   for (int alpha = 0; alpha < 3; ++alpha)
