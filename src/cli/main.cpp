@@ -234,23 +234,55 @@ FamiliesOptions families_options(const AnalysisResult& analysis, const FamilyArg
   return options;
 }
 
-int run_anharmonic(const MoleculeArguments& arguments, const std::string& json_path,
-                   const std::string& lines_path, const std::string& taylor_path) {
+// Where the console summary says the full lists are, from the files this run writes.
+std::string full_lists_note(const std::vector<std::pair<std::string, std::string>>& written) {
+  std::string note;
+  for (const auto& [path, what] : written) {
+    if (path.empty() || path == "-") continue;
+    note += (note.empty() ? "" : ", ") + printable_text(path) + " (" + what + ")";
+  }
+  return note.empty() ? std::string("add --full-report PATH (full text), --lines PATH or --json PATH") : note;
+}
+
+void write_full_report(const std::string& path, const RunResults& results) {
+  if (path.empty()) return;
+  TextReportOptions full;
+  full.detail = ReportDetail::full;
+  write_text(path, text_report(results, full));
+}
+
+struct AnharmonicPaths {
+  std::string json;
+  std::string lines;
+  std::string taylor;
+  std::string full_report;
+};
+
+int run_anharmonic(const MoleculeArguments& arguments, const AnharmonicPaths& paths) {
+  const std::string& json_path = paths.json;
   const AnalysedMolecule analysed = run_analysis(arguments);
   const AnharmonicResult anharmonic = analyze_anharmonic(analysed.analysis, *analysed.potential);
   RunResults results;
   results.analysis = &analysed.analysis;
   results.anharmonic = &anharmonic;
-  if (!lines_path.empty())
-    write_text(lines_path, line_list_csv(anharmonic.vpt2, AnharmonicReportOptions{anharmonic.set_numbers}));
-  if (!taylor_path.empty()) write_text(taylor_path, taylor_expansion_text(analysed.analysis, anharmonic));
-  if (json_path != "-") std::cout << text_report(results);
+  if (!paths.lines.empty()) {
+    AnharmonicReportOptions line_options;
+    line_options.set_numbers = anharmonic.set_numbers;
+    write_text(paths.lines, line_list_csv(anharmonic.vpt2, line_options));
+  }
+  if (!paths.taylor.empty()) write_text(paths.taylor, taylor_expansion_text(analysed.analysis, anharmonic));
+  write_full_report(paths.full_report, results);
+  TextReportOptions summary;
+  summary.full_lists_note = full_lists_note(
+      {{paths.full_report, "full text"}, {paths.lines, "line list"}, {json_path, "JSON document"}});
+  if (json_path != "-") std::cout << text_report(results, summary);
   write_document(json_path, results);
   return 0;
 }
 
 int run_families(const MoleculeArguments& arguments, const FamilyArguments& family_arguments,
-                 const std::string& json_path, const std::string& csv_folder) {
+                 const std::string& json_path, const std::string& csv_folder,
+                 const std::string& full_report) {
   check_family_arguments(family_arguments);
   const AnalysedMolecule analysed = run_analysis(arguments);
   const AnalysisResult& analysis = analysed.analysis;
@@ -259,6 +291,7 @@ int run_families(const MoleculeArguments& arguments, const FamilyArguments& fami
   RunResults results;
   results.analysis = &analysis;
   results.families = &families;
+  write_full_report(full_report, results);
   if (json_path != "-") std::cout << text_report(results);
   write_document(json_path, results);
   if (!csv_folder.empty()) {
@@ -310,8 +343,11 @@ int run_analyze(const MoleculeArguments& arguments, const FamilyArguments& famil
   }
 
   const OutputFolderResult written = write_output_folder(out_directory, analysis_files(results));
-  std::cout << text_report(results);
-  std::cout << "\nwrote " << written.written.size() << " files (analysis.json, modes.csv"
+  TextReportOptions summary;
+  summary.full_lists_note =
+      "report.txt (full text), analysis.json and lines.csv in " + printable_text(out_directory);
+  std::cout << text_report(results, summary);
+  std::cout << "\nwrote " << written.written.size() << " files (analysis.json, report.txt, modes.csv"
             << (anharmonic ? ", lines.csv" : "") << (families ? ", families/*.csv" : "") << ") to "
             << out_directory << "\n";
   return 0;
@@ -609,17 +645,18 @@ int main(int argc, char** argv) {
   analyze->add_flag("--no-families", analyze_switches.skip_families, "leave out the families stage");
 
   MoleculeArguments anharmonic_arguments;
-  std::string anharmonic_json_path;
-  std::string lines_path;
+  AnharmonicPaths anharmonic_paths;
   CLI::App* anharmonic = app.add_subcommand(
       "anharmonic", "cubic and quartic force constants, VPT2 levels, resonances and the line list");
   add_molecule_arguments(*anharmonic, anharmonic_arguments);
-  anharmonic->add_option("--json", anharmonic_json_path,
+  anharmonic->add_option("--json", anharmonic_paths.json,
                          "write the JSON document to PATH ('-' for standard output)");
-  anharmonic->add_option("--lines", lines_path, "write the line list (CSV) to PATH");
-  std::string taylor_path;
+  anharmonic->add_option("--lines", anharmonic_paths.lines, "write the line list (CSV) to PATH");
   anharmonic->add_option(
-      "--export-taylor", taylor_path,
+      "--full-report", anharmonic_paths.full_report,
+      "write the full text report (x matrices, every resonance candidate and level) to PATH");
+  anharmonic->add_option(
+      "--export-taylor", anharmonic_paths.taylor,
       "write the quartic force field as a Taylor-expansion potential file (normal coordinates)");
 
   MoleculeArguments families_arguments;
@@ -632,6 +669,9 @@ int main(int argc, char** argv) {
   add_family_arguments(*families, family_arguments);
   families->add_option("--json", families_json_path,
                        "write the JSON document to PATH ('-' for standard output)");
+  std::string families_full_report;
+  families->add_option("--full-report", families_full_report,
+                       "write the full text report (one section per family) to PATH");
   families->add_option("--csv", csv_folder,
                        "write one CSV of backbone points per family into this folder (replaced as a whole)");
 
@@ -702,9 +742,10 @@ int main(int argc, char** argv) {
     if (*modes) return run_modes(modes_arguments, json_path);
     if (*analyze)
       return run_analyze(analyze_arguments, analyze_family_arguments, analyze_switches, out_directory);
-    if (*anharmonic)
-      return run_anharmonic(anharmonic_arguments, anharmonic_json_path, lines_path, taylor_path);
-    if (*families) return run_families(families_arguments, family_arguments, families_json_path, csv_folder);
+    if (*anharmonic) return run_anharmonic(anharmonic_arguments, anharmonic_paths);
+    if (*families)
+      return run_families(families_arguments, family_arguments, families_json_path, csv_folder,
+                          families_full_report);
     if (*symmetry) return run_symmetry(symmetry_arguments, with_modes);
     if (*screen) return run_screen_command(screen_arguments);
     if (*screen_report_command) return run_screen_report(report_arguments);

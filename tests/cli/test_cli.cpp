@@ -198,6 +198,21 @@ TEST(Cli, AnalyzeIncludesTheAnharmonicAndFamiliesStages) {
   EXPECT_TRUE(std::filesystem::exists(out + "/lines.csv"));
   EXPECT_TRUE(std::filesystem::exists(out + "/families"));
   EXPECT_NE(result.out.find("2ν2 / ν1"), std::string::npos) << result.out;
+  // The console shows the summary and says where the full lists went; report.txt has them.
+  EXPECT_NE(result.out.find("report.txt (full text)"), std::string::npos) << result.out;
+  EXPECT_EQ(result.out.find("Anharmonicity constants x"), std::string::npos) << result.out;
+  const std::string full = slurp(out + "/report.txt");
+  EXPECT_NE(full.find("Anharmonicity constants x"), std::string::npos);
+  EXPECT_NE(full.find("semiclassical ladder"), std::string::npos);
+}
+
+TEST(Cli, AnharmonicFullReportGoesToTheNamedFile) {
+  const std::string full = write_temp("full-report.txt", "");
+  const ProgramRun result = run("anharmonic " + example_arguments("water") + " --full-report " + full);
+  ASSERT_EQ(result.status, 0) << result.err;
+  EXPECT_NE(result.out.find(full + " (full text)"), std::string::npos) << result.out;
+  EXPECT_NE(slurp(full).find("Levels (cm⁻¹"), std::string::npos);
+  EXPECT_EQ(result.out.find("Levels (cm⁻¹"), std::string::npos);
 }
 
 TEST(Cli, ExportedTaylorExpansionIsAPotentialForEveryCommand) {
