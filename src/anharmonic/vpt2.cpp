@@ -3,6 +3,7 @@
 #include <fmt/format.h>
 
 #include <algorithm>
+#include <chrono>
 #include <cmath>
 #include <cstdint>
 #include <map>
@@ -965,11 +966,31 @@ void degenerate_set_constants(const Vpt2Context& c, Vpt2Result& result) {
 
 // Every resonance group: its Hamiltonian, sublevels, species, corrected states, the line-list
 // levels it holds and, for a polyad, the polyad record.
+// Tells options.progress, when set, how far the stage is.
+class Vpt2Progress {
+ public:
+  explicit Vpt2Progress(const ProgressCallback& callback) : callback_(callback) {}
+  void operator()(int done, int total, const std::string& detail) const {
+    if (!callback_) return;
+    callback_({"VPT2", done, total, detail,
+               std::chrono::duration<double>(std::chrono::steady_clock::now() - start_).count()});
+  }
+
+ private:
+  const ProgressCallback& callback_;
+  std::chrono::steady_clock::time_point start_ = std::chrono::steady_clock::now();
+};
+
 void diagonalize_groups(const Vpt2Context& c, const WantedManifolds& wanted,
-                        const ManifoldMap<int>& wanted_index, Vpt2Result& result) {
+                        const ManifoldMap<int>& wanted_index, const Vpt2Progress& progress,
+                        Vpt2Result& result) {
   const std::vector<Move> moves = flagged_moves(result);
   std::size_t beyond_quanta = 0, beyond_states = 0;
-  for (const ResonanceGroup& group : resonance_groups(c, wanted, moves)) {
+  const std::vector<ResonanceGroup> groups = resonance_groups(c, wanted, moves);
+  const int group_count = static_cast<int>(groups.size());
+  for (int done = 0; done < group_count; ++done) {
+    progress(done, group_count, "levels and resonance polyads");
+    const ResonanceGroup& group = groups[static_cast<std::size_t>(done)];
     if (group.manifolds.empty()) continue;
     GroupStates g;
     group_hamiltonian(c, group, moves, result.x_cm1, g);
@@ -984,6 +1005,7 @@ void diagonalize_groups(const Vpt2Context& c, const WantedManifolds& wanted,
     beyond_quanta += group.beyond_quanta ? 1 : 0;
     beyond_states += group.beyond_states ? 1 : 0;
   }
+  progress(group_count, group_count, "levels and resonance polyads");
   // One warning per limit, with a count: a molecule with many resonances reaches them often.
   const std::size_t polyads = result.polyads.size();
   if (beyond_quanta > 0)
@@ -1028,15 +1050,18 @@ Vpt2Result run_vpt2(const ForceConstantResult& force_constants, const HarmonicRe
                       detail::AnharmonicOperator(force_constants.constants, omega),
                       symmetry.block_operations()};
 
+  const Vpt2Progress progress(options.progress);
+  progress(0, 0, "anharmonicity constants");
   coriolis_terms(harmonic, c, result);
   result.x_vibrational_plain_cm1 = detail::anharmonicity_constants(force_constants.constants, omega);
+  progress(0, 0, "resonance candidates");
   resonance_candidates(c, result);
   deperturbed_constants(c, result);
   const WantedManifolds wanted = line_list_manifolds(c);
   ManifoldMap<int> wanted_index;  // position in the line-list order
   for (std::size_t k = 0; k < wanted.size(); ++k)
     wanted_index.emplace(key_of(wanted[k].first), static_cast<int>(k));
-  diagonalize_groups(c, wanted, wanted_index, result);
+  diagonalize_groups(c, wanted, wanted_index, progress, result);
   sort_levels(wanted_index, result);
   degenerate_set_constants(c, result);
 

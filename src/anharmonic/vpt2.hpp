@@ -49,6 +49,7 @@
 #include <vector>
 
 #include "anharmonic/force_constants.hpp"
+#include "core/progress.hpp"
 #include "harmonic/harmonic.hpp"
 
 namespace overtone {
@@ -80,6 +81,9 @@ struct Vpt2Options {
   int polyad_max_states = 200;
   // Eigenvalues closer than this (cm⁻¹) form one degenerate level.
   double level_degeneracy_tolerance_cm1 = 0.01;
+  // Told as the stage moves on (stage "VPT2": the constants and resonance candidates, then
+  // done of total resonance groups diagonalized).
+  ProgressCallback progress;
 };
 
 // Throws Error naming the first invalid field.

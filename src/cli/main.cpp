@@ -27,6 +27,7 @@
 #include "report/anharmonic_report.hpp"
 #include "report/document.hpp"
 #include "report/output_folder.hpp"
+#include "report/progress_text.hpp"
 #include "report/symmetry_report.hpp"
 #include "screen/progress_text.hpp"
 #include "screen/screen.hpp"
@@ -42,8 +43,71 @@ constexpr int user_error_status = 1;
 constexpr int internal_error_status = 2;
 constexpr const char* smiles_prefix = "smiles:";
 
+// On a terminal the status line is redrawn this often at most (s); on a pipe (--progress)
+// a line is written this often at most, and whenever a stage starts or ends.
+constexpr double status_redraw_interval_s = 0.1;
+constexpr double status_line_interval_s = 2.0;
+
+// Progress of the long stages on stderr: a status line redrawn in place when stderr is a
+// terminal, plain lines on a pipe only when --progress asks, nothing otherwise. The
+// library reports through the ProgressCallback fields of the stages' options.
+class StageProgressDisplay {
+ public:
+  void enable(bool forced) {
+    terminal_ = isatty(STDERR_FILENO) != 0;
+    enabled_ = forced || terminal_;
+  }
+  ProgressCallback callback() {
+    if (!enabled_) return {};
+    return [this](const ProgressEvent& event) { show(event); };
+  }
+  // Removes the status line, before other text goes to the terminal.
+  void clear() {
+    if (terminal_ && drawn_) std::cerr << "\r\033[K" << std::flush;
+    drawn_ = false;
+  }
+
+ private:
+  void show(const ProgressEvent& event) {
+    const auto now = std::chrono::steady_clock::now();
+    const bool new_stage = event.stage != stage_;
+    const bool finished = event.total > 0 && event.done >= event.total;
+    const double interval = terminal_ ? status_redraw_interval_s : status_line_interval_s;
+    if (!new_stage && !finished && std::chrono::duration<double>(now - last_).count() < interval) return;
+    const std::string line =
+        "overtone: " + stage_progress_line(event, std::chrono::duration<double>(now - start_).count());
+    if (terminal_) {
+      std::cerr << "\r" << printable_text(line) << "\033[K" << std::flush;
+      drawn_ = true;
+    } else {
+      std::cerr << printable_text(line) << "\n" << std::flush;
+    }
+    stage_ = event.stage;
+    last_ = now;
+  }
+
+  bool enabled_ = false;
+  bool terminal_ = false;
+  bool drawn_ = false;
+  std::string stage_;
+  std::chrono::steady_clock::time_point start_ = std::chrono::steady_clock::now();
+  std::chrono::steady_clock::time_point last_ = start_;
+};
+
+StageProgressDisplay& progress_display() {
+  static StageProgressDisplay display;
+  return display;
+}
+
 void warn(const std::string& message) {
+  progress_display().clear();
   std::cerr << "overtone: warning: " << printable_text(message) << "\n";
+}
+
+// Standard output gets the report only after the status line is gone.
+std::ostream& report_out() {
+  progress_display().clear();
+  return std::cout;
 }
 
 struct MoleculeArguments {
@@ -54,6 +118,7 @@ struct MoleculeArguments {
   double symmetry_tolerance_angstrom = SymmetryOptions{}.tolerance_angstrom;
   bool refuse_incomplete = false;
   bool conformer_search = false;
+  bool progress = false;  // progress lines on stderr also when it is not a terminal
 };
 
 void add_molecule_arguments(CLI::App& command, MoleculeArguments& arguments) {
@@ -80,6 +145,8 @@ void add_molecule_arguments(CLI::App& command, MoleculeArguments& arguments) {
   command.add_flag("--conformer-search", arguments.conformer_search,
                    "analyse the lowest conformer found by a quick search (general force fields) instead of "
                    "the minimum the input structure relaxes to");
+  command.add_flag("--progress", arguments.progress,
+                   "show the progress of long stages on stderr also when it is not a terminal");
 }
 
 LoadedMolecule load_input(const MoleculeArguments& arguments) {
@@ -109,7 +176,7 @@ std::unique_ptr<Potential> potential_for(const MoleculeArguments& arguments, con
 // a failed or interrupted run never leaves a truncated file under the name.
 void write_output(const std::string& path, const std::function<void(std::ostream&)>& write) {
   if (path == "-") {
-    write(std::cout);
+    write(report_out());
     return;
   }
   std::error_code ec;
@@ -145,12 +212,14 @@ struct AnalysedMolecule {
 };
 
 AnalysedMolecule run_analysis(const MoleculeArguments& arguments) {
+  progress_display().enable(arguments.progress);
   const LoadedMolecule input = load_input(arguments);
   AnalysedMolecule result;
   result.potential = potential_for(arguments, input);
   AnalysisOptions options;
   options.symmetry.tolerance_angstrom = arguments.symmetry_tolerance_angstrom;
   if (arguments.conformer_search) options.conformers = ConformerSearch::analyse_best;
+  options.progress = progress_display().callback();
   result.analysis = analyze_molecule(input.molecule, *result.potential, options);
   return result;
 }
@@ -168,7 +237,7 @@ int run_modes(const MoleculeArguments& arguments, const std::string& json_path) 
   const AnalysisResult analysis = run_analysis(arguments).analysis;
   RunResults results;
   results.analysis = &analysis;
-  if (json_path != "-") std::cout << text_report(results);
+  if (json_path != "-") report_out() << text_report(results);
   write_document(json_path, results);
   return 0;
 }
@@ -231,6 +300,13 @@ FamiliesOptions families_options(const AnalysisResult& analysis, const FamilyArg
   // One frequency window for the families' resonance threats and the perturbative Fermi
   // candidates, so that the two lists can be compared pair by pair.
   options.enumeration.resonance_window_cm1 = Vpt2Options{}.fermi_gap_cm1;
+  options.progress = progress_display().callback();
+  return options;
+}
+
+AnharmonicOptions anharmonic_options() {
+  AnharmonicOptions options;
+  options.progress = progress_display().callback();
   return options;
 }
 
@@ -261,7 +337,8 @@ struct AnharmonicPaths {
 int run_anharmonic(const MoleculeArguments& arguments, const AnharmonicPaths& paths) {
   const std::string& json_path = paths.json;
   const AnalysedMolecule analysed = run_analysis(arguments);
-  const AnharmonicResult anharmonic = analyze_anharmonic(analysed.analysis, *analysed.potential);
+  const AnharmonicResult anharmonic =
+      analyze_anharmonic(analysed.analysis, *analysed.potential, anharmonic_options());
   RunResults results;
   results.analysis = &analysed.analysis;
   results.anharmonic = &anharmonic;
@@ -275,7 +352,7 @@ int run_anharmonic(const MoleculeArguments& arguments, const AnharmonicPaths& pa
   TextReportOptions summary;
   summary.full_lists_note = full_lists_note(
       {{paths.full_report, "full text"}, {paths.lines, "line list"}, {json_path, "JSON document"}});
-  if (json_path != "-") std::cout << text_report(results, summary);
+  if (json_path != "-") report_out() << text_report(results, summary);
   write_document(json_path, results);
   return 0;
 }
@@ -292,7 +369,7 @@ int run_families(const MoleculeArguments& arguments, const FamilyArguments& fami
   results.analysis = &analysis;
   results.families = &families;
   write_full_report(full_report, results);
-  if (json_path != "-") std::cout << text_report(results);
+  if (json_path != "-") report_out() << text_report(results);
   write_document(json_path, results);
   if (!csv_folder.empty()) {
     const OutputFolderResult written =
@@ -324,7 +401,7 @@ int run_analyze(const MoleculeArguments& arguments, const FamilyArguments& famil
   std::optional<AnharmonicResult> anharmonic;
   if (!switches.skip_anharmonic) {
     try {
-      anharmonic = analyze_anharmonic(analysis, potential);
+      anharmonic = analyze_anharmonic(analysis, potential, anharmonic_options());
       results.anharmonic = &*anharmonic;
     } catch (const Error& error) {
       warn(std::string("anharmonic stage skipped: ") + error.what());
@@ -346,7 +423,7 @@ int run_analyze(const MoleculeArguments& arguments, const FamilyArguments& famil
   TextReportOptions summary;
   summary.full_lists_note =
       "report.txt (full text), analysis.json and lines.csv in " + printable_text(out_directory);
-  std::cout << text_report(results, summary);
+  report_out() << text_report(results, summary);
   std::cout << "\nwrote " << written.written.size() << " files (analysis.json, report.txt, modes.csv"
             << (anharmonic ? ", lines.csv" : "") << (families ? ", families/*.csv" : "") << ") to "
             << out_directory << "\n";
@@ -751,9 +828,11 @@ int main(int argc, char** argv) {
     if (*screen_report_command) return run_screen_report(report_arguments);
     if (*merge) return run_merge_stores(merge_output, merge_inputs);
   } catch (const overtone::Error& error) {
+    progress_display().clear();
     std::cerr << "overtone: error: " << printable_text(error.what()) << "\n";
     return user_error_status;
   } catch (const std::exception& error) {
+    progress_display().clear();
     std::cerr << "overtone: internal error: " << printable_text(error.what()) << "\n";
     return internal_error_status;
   }

@@ -206,6 +206,17 @@ TEST(Cli, AnalyzeIncludesTheAnharmonicAndFamiliesStages) {
   EXPECT_NE(full.find("semiclassical ladder"), std::string::npos);
 }
 
+TEST(Cli, ProgressGoesToStderrOnlyWhenAskedOnAPipe) {
+  const ProgramRun quiet = run("anharmonic " + example_arguments("water"));
+  ASSERT_EQ(quiet.status, 0) << quiet.err;
+  EXPECT_EQ(quiet.err.find("force constants"), std::string::npos) << quiet.err;
+  const ProgramRun shown = run("anharmonic " + example_arguments("water") + " --progress");
+  ASSERT_EQ(shown.status, 0) << shown.err;
+  EXPECT_NE(shown.err.find("overtone: force constants 19/19 (100%)"), std::string::npos) << shown.err;
+  EXPECT_NE(shown.err.find("overtone: VPT2"), std::string::npos) << shown.err;
+  EXPECT_EQ(shown.out.find("overtone: VPT2"), std::string::npos);
+}
+
 TEST(Cli, AnharmonicFullReportGoesToTheNamedFile) {
   const std::string full = write_temp("full-report.txt", "");
   const ProgramRun result = run("anharmonic " + example_arguments("water") + " --full-report " + full);
