@@ -304,10 +304,24 @@ FamiliesOptions families_options(const AnalysisResult& analysis, const FamilyArg
   return options;
 }
 
-AnharmonicOptions anharmonic_options() {
+AnharmonicOptions anharmonic_options(double exclude_below_cm1) {
   AnharmonicOptions options;
   options.progress = progress_display().callback();
+  options.vpt2.exclude_below_cm1 = exclude_below_cm1;
   return options;
+}
+
+// Checked before any work starts, as the families' limits are.
+void check_exclusion(double exclude_below_cm1) {
+  if (!(std::isfinite(exclude_below_cm1) && exclude_below_cm1 >= 0.0))
+    throw Error(
+        fmt::format("--vpt2-exclude-below must be a wavenumber >= 0 in cm-1, got {}", exclude_below_cm1));
+}
+
+void add_exclusion_option(CLI::App& command, double& exclude_below_cm1) {
+  command.add_option("--vpt2-exclude-below", exclude_below_cm1,
+                     "reduced-dimensional VPT2: drop the modes below W cm-1 (and every force constant that "
+                     "involves them) from the perturbative treatment");
 }
 
 // Where the console summary says the full lists are, from the files this run writes.
@@ -332,13 +346,15 @@ struct AnharmonicPaths {
   std::string lines;
   std::string taylor;
   std::string full_report;
+  double exclude_below_cm1 = 0.0;
 };
 
 int run_anharmonic(const MoleculeArguments& arguments, const AnharmonicPaths& paths) {
   const std::string& json_path = paths.json;
+  check_exclusion(paths.exclude_below_cm1);
   const AnalysedMolecule analysed = run_analysis(arguments);
   const AnharmonicResult anharmonic =
-      analyze_anharmonic(analysed.analysis, *analysed.potential, anharmonic_options());
+      analyze_anharmonic(analysed.analysis, *analysed.potential, anharmonic_options(paths.exclude_below_cm1));
   RunResults results;
   results.analysis = &analysed.analysis;
   results.anharmonic = &anharmonic;
@@ -383,11 +399,13 @@ int run_families(const MoleculeArguments& arguments, const FamilyArguments& fami
 struct AnalyzeSwitches {
   bool skip_anharmonic = false;
   bool skip_families = false;
+  double exclude_below_cm1 = 0.0;
 };
 
 int run_analyze(const MoleculeArguments& arguments, const FamilyArguments& family_arguments,
                 const AnalyzeSwitches& switches, const std::string& out_directory) {
   check_family_arguments(family_arguments);
+  check_exclusion(switches.exclude_below_cm1);
   const AnalysedMolecule analysed = run_analysis(arguments);
   const AnalysisResult& analysis = analysed.analysis;
   const Potential& potential = *analysed.potential;
@@ -401,7 +419,7 @@ int run_analyze(const MoleculeArguments& arguments, const FamilyArguments& famil
   std::optional<AnharmonicResult> anharmonic;
   if (!switches.skip_anharmonic) {
     try {
-      anharmonic = analyze_anharmonic(analysis, potential, anharmonic_options());
+      anharmonic = analyze_anharmonic(analysis, potential, anharmonic_options(switches.exclude_below_cm1));
       results.anharmonic = &*anharmonic;
     } catch (const Error& error) {
       warn(std::string("anharmonic stage skipped: ") + error.what());
@@ -720,6 +738,7 @@ int main(int argc, char** argv) {
       ->capture_default_str();
   analyze->add_flag("--no-anharmonic", analyze_switches.skip_anharmonic, "leave out the anharmonic stage");
   analyze->add_flag("--no-families", analyze_switches.skip_families, "leave out the families stage");
+  add_exclusion_option(*analyze, analyze_switches.exclude_below_cm1);
 
   MoleculeArguments anharmonic_arguments;
   AnharmonicPaths anharmonic_paths;
@@ -732,6 +751,7 @@ int main(int argc, char** argv) {
   anharmonic->add_option(
       "--full-report", anharmonic_paths.full_report,
       "write the full text report (x matrices, every resonance candidate and level) to PATH");
+  add_exclusion_option(*anharmonic, anharmonic_paths.exclude_below_cm1);
   anharmonic->add_option(
       "--export-taylor", anharmonic_paths.taylor,
       "write the quartic force field as a Taylor-expansion potential file (normal coordinates)");

@@ -176,6 +176,21 @@ json polyads_to_json(const AnharmonicResult& anharmonic) {
   return polyads;
 }
 
+json validity_to_json(const AnharmonicResult& anharmonic) {
+  const Vpt2Result& vpt2 = anharmonic.vpt2;
+  json modes = json::array();
+  for (const PerturbationCheck& check : vpt2.perturbation_checks)
+    modes.push_back({{"fundamental", anharmonic.set_numbers[static_cast<std::size_t>(check.set)]},
+                     {"harmonic_cm1", check.harmonic_cm1},
+                     {"anharmonic_ratio", check.anharmonic_ratio},
+                     {"largest_term", term_label(check.largest_term, vpt2, anharmonic.set_numbers)},
+                     {"beyond_perturbation", check.beyond_perturbation},
+                     {"excluded", check.excluded}});
+  return {{"ratio_limit", vpt2.perturbation_ratio_limit},
+          {"exclude_below_cm1", vpt2.exclude_below_cm1},
+          {"modes", modes}};
+}
+
 }  // namespace
 
 nlohmann::json anharmonic_to_json(const AnalysisResult& analysis, const AnharmonicResult& anharmonic) {
@@ -186,6 +201,7 @@ nlohmann::json anharmonic_to_json(const AnalysisResult& analysis, const Anharmon
   document["levels"] = levels_to_json(anharmonic);
   document["resonances"] = resonances_to_json(anharmonic);
   document["polyads"] = polyads_to_json(anharmonic);
+  document["vpt2_validity"] = validity_to_json(anharmonic);
   document["anharmonic_summary"] = {{"status", to_string(anharmonic.vpt2.status)},
                                     {"message", anharmonic.vpt2.message},
                                     {"warnings", anharmonic.vpt2.warnings},

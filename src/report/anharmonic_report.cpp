@@ -289,7 +289,14 @@ std::string fundamentals_text(const ReportContext& context) {
                      "anharmonic", "shift", "corrected", "x_ii", "mixing");
   for (int s : context.sets_by_number()) {
     const int index = fundamental_of_set[static_cast<std::size_t>(s)];
-    if (index < 0) continue;
+    if (index < 0) {
+      out += fmt::format("  {:<6} {:<10} {:>10.2f}  excluded from VPT2\n", context.set_name(s),
+                         vpt2.sets[static_cast<std::size_t>(s)].species.empty()
+                             ? "-"
+                             : vpt2.sets[static_cast<std::size_t>(s)].species,
+                         vpt2.sets[static_cast<std::size_t>(s)].harmonic_cm1);
+      continue;
+    }
     const VibrationalLevel& level = vpt2.levels[static_cast<std::size_t>(index)];
     bool known = true;
     const double x_ii = context.set_x(vpt2.x_cm1, s, s, &known);
@@ -306,6 +313,31 @@ std::string fundamentals_text(const ReportContext& context) {
     }
   }
   return out;
+}
+
+// The modes beyond perturbation theory and those excluded from it, one line each.
+std::string validity_text(const ReportContext& context) {
+  const Vpt2Result& vpt2 = context.vpt2;
+  std::string rows;
+  for (const PerturbationCheck& check : vpt2.perturbation_checks) {
+    if (!check.beyond_perturbation && !check.excluded) continue;
+    rows += fmt::format(
+        "  {:<6} {:>10.2f} {:>10.3g}  {:<20} {}\n", context.set_name(check.set), check.harmonic_cm1,
+        check.anharmonic_ratio, term_label(check.largest_term, vpt2, context.numbers, context.ascii),
+        check.beyond_perturbation ? (check.excluded ? "beyond; excluded" : "beyond") : "excluded");
+  }
+  if (rows.empty()) return "";
+  std::string out = fmt::format(
+      "Modes beyond perturbation theory (anharmonic ratio ≥ {:g}: the largest cubic or quartic term against "
+      "½ωq² at "
+      "the turning point of the fundamental){}\n",
+      vpt2.perturbation_ratio_limit,
+      vpt2.exclude_below_cm1 > 0.0
+          ? fmt::format("; modes below {:g} cm⁻¹ excluded from VPT2 (reduced-dimensional)",
+                        vpt2.exclude_below_cm1)
+          : std::string());
+  out += fmt::format("  {:<6} {:>10} {:>10}  {:<20} {}\n", "mode", "harmonic", "ratio", "largest term", "");
+  return out + rows;
 }
 
 std::string full_lists_text(const Vpt2Result& vpt2, const std::string& note) {
@@ -329,6 +361,16 @@ std::string level_label(const std::vector<int>& set_quanta, const std::vector<in
     label += nu(ascii) + std::to_string(number);
   }
   return label;
+}
+
+std::string term_label(const std::vector<int>& modes, const Vpt2Result& vpt2,
+                       const std::vector<int>& set_numbers, bool ascii) {
+  std::string text;
+  for (int mode : modes)
+    text += (text.empty() ? "" : ",") + std::string(nu(ascii)) +
+            std::to_string(set_numbers.at(
+                static_cast<std::size_t>(vpt2.set_of_mode.at(static_cast<std::size_t>(mode)))));
+  return (ascii ? "phi(" : "φ(") + text + ")";
 }
 
 std::string resonance_label(const Resonance& r, const std::vector<int>& set_numbers, bool ascii) {
@@ -395,6 +437,8 @@ std::string anharmonic_report(const ForceConstantResult& fc, const Vpt2Result& v
     out += fundamentals_text(context) + "\n";
     out += resonances_text(context, true) + "\n";
   }
+  const std::string validity = validity_text(context);
+  if (!validity.empty()) out += validity + "\n";
   for (const auto& w : fc.warnings) out += "warning: " + w + "\n";
   for (const auto& w : vpt2.warnings) out += "warning: " + w + "\n";
   if (options.detail == ReportDetail::summary) out += full_lists_text(vpt2, options.full_lists_note);

@@ -36,6 +36,10 @@ std::string level_label(const std::vector<int>& set_quanta, const std::vector<in
 std::string resonance_label(const Resonance& resonance, const std::vector<int>& set_numbers,
                             bool ascii = false);
 
+// "φ(ν54,ν54,ν36)": a force constant named by the ν numbers of its modes (harmonic indices).
+std::string term_label(const std::vector<int>& modes, const Vpt2Result& vpt2,
+                       const std::vector<int>& set_numbers, bool ascii = false);
+
 // The line list as CSV text (UTF-8, header row, one row per level sorted by the best
 // position: resonance-corrected where a polyad applies, else anharmonic). Throws Error for
 // set_numbers of the wrong length.

@@ -217,6 +217,26 @@ TEST(Cli, ProgressGoesToStderrOnlyWhenAskedOnAPipe) {
   EXPECT_EQ(shown.out.find("overtone: VPT2"), std::string::npos);
 }
 
+TEST(Cli, Vpt2ExclusionDropsTheLowModesAndRefusesBadValues) {
+  // Water's bend (about 1600 cm⁻¹) lies below 2000 cm⁻¹, its stretches above.
+  const ProgramRun reduced =
+      run("anharmonic " + example_arguments("water") + " --vpt2-exclude-below 2000 --json -");
+  ASSERT_EQ(reduced.status, 0) << reduced.err;
+  const auto document = nlohmann::json::parse(reduced.out);
+  EXPECT_EQ(document["vpt2_validity"]["exclude_below_cm1"].get<double>(), 2000.0);
+  int excluded = 0;
+  for (const auto& mode : document["vpt2_validity"]["modes"])
+    excluded += mode["excluded"].get<bool>() ? 1 : 0;
+  EXPECT_EQ(excluded, 1);
+  EXPECT_EQ(document["levels"].size(), 5u);  // 2 fundamentals, 2 overtones, 1 combination
+  const ProgramRun text = run("anharmonic " + example_arguments("water") + " --vpt2-exclude-below 2000");
+  EXPECT_NE(text.out.find("excluded from VPT2"), std::string::npos) << text.out;
+  expect_one_line_error(run("anharmonic " + example_arguments("water") + " --vpt2-exclude-below -3"),
+                        "--vpt2-exclude-below");
+  expect_one_line_error(run("anharmonic " + example_arguments("water") + " --vpt2-exclude-below 9000"),
+                        "excludes every mode");
+}
+
 TEST(Cli, AnharmonicFullReportGoesToTheNamedFile) {
   const std::string full = write_temp("full-report.txt", "");
   const ProgramRun result = run("anharmonic " + example_arguments("water") + " --full-report " + full);
