@@ -226,7 +226,7 @@ std::string resonances_text(const ReportContext& context, bool flagged_only) {
     const auto forbidden = std::count_if(resonances.begin(), resonances.end(), [](const Resonance& r) {
       return !r.flagged && !r.symmetry_allowed;
     });
-    out += fmt::format("  {} candidates did not pass ({} of them forbidden by symmetry)\n",
+    out += fmt::format("  candidates that did not pass: {} ({} of them forbidden by symmetry)\n",
                        resonances.size() - flagged, forbidden);
   }
   return out;
@@ -343,7 +343,7 @@ std::string validity_text(const ReportContext& context) {
 std::string full_lists_text(const Vpt2Result& vpt2, const std::string& note) {
   const std::string where =
       note.empty() ? std::string("the full report (detail full), the JSON document and the line list") : note;
-  return fmt::format("\nFull x matrices, all {} resonance candidates and all {} levels: {}\n",
+  return fmt::format("\nFull x matrices, every resonance candidate ({}) and every level ({}): {}\n",
                      vpt2.resonances.size(), vpt2.levels.size(), where);
 }
 }  // namespace

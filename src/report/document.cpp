@@ -65,8 +65,8 @@ std::string cross_check_text(const AnalysisResult& analysis, const RunResults& r
   if (!full) {
     if (lines.empty() && agreeing == 0) return "";
     return fmt::format(
-               "\nFermi 1:2 resonances, perturbative rule against the families: {} pairs listed by both "
-               "agree{}\n",
+               "\nFermi 1:2 resonances, perturbative rule against the families: pairs listed by both that "
+               "agree: {}{}\n",
                agreeing, lines.empty() ? "" : "; these disagree:") +
            lines;
   }
