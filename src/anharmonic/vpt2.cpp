@@ -3,6 +3,7 @@
 #include <fmt/format.h>
 
 #include <algorithm>
+#include <chrono>
 #include <cmath>
 #include <cstdint>
 #include <map>
@@ -70,7 +71,86 @@ void validate(const Vpt2Options& options) {
   if (options.polyad_max_states < 2)
     throw Error(
         fmt::format("vpt2 option polyad_max_states must be at least 2, got {}", options.polyad_max_states));
+  positive(options.perturbation_ratio_limit, "perturbation_ratio_limit", "a ratio");
+  if (!(options.exclude_below_cm1 >= 0.0) || !std::isfinite(options.exclude_below_cm1))
+    throw Error(fmt::format("vpt2 option exclude_below_cm1 must be a wavenumber >= 0 (cm-1), got {}",
+                            options.exclude_below_cm1));
 }
+
+namespace detail {
+
+namespace {
+
+// The ratios of PerturbationCheck, for one term of mode i.
+constexpr double turning_point_q2_fundamental = 3.0;  // q² at the turning point of v = 1: 2v + 1
+struct TermRatio {
+  double ratio = 0.0;
+  std::vector<int> modes;
+};
+
+void keep_larger(TermRatio& best, double ratio, std::vector<int> modes) {
+  if (ratio > best.ratio) best = {ratio, std::move(modes)};
+}
+
+}  // namespace
+
+std::vector<PerturbationCheck> perturbation_checks(const ForceConstantTensors& constants,
+                                                   const Eigen::VectorXd& omega,
+                                                   const std::vector<DegenerateSet>& sets,
+                                                   double ratio_limit) {
+  const int m = constants.mode_count();
+  std::vector<TermRatio> per_mode(static_cast<std::size_t>(m));
+  const double root = std::sqrt(turning_point_q2_fundamental);
+  for (const auto& e : constants.cubic_entries(0.0)) {
+    const double v = std::abs(e.value);
+    if (e.i == e.j && e.j == e.k) {
+      keep_larger(per_mode[static_cast<std::size_t>(e.i)], root * v / (3.0 * omega[e.i]), {e.i, e.j, e.k});
+    } else if (e.i == e.j || e.j == e.k) {  // φ_iij: i the repeated index
+      const int i = e.j;
+      keep_larger(per_mode[static_cast<std::size_t>(i)], v / omega[i], {e.i, e.j, e.k});
+    }
+  }
+  for (const auto& e : constants.quartic_entries(0.0)) {
+    const double v = std::abs(e.value);
+    if (e.i == e.l) {
+      keep_larger(per_mode[static_cast<std::size_t>(e.i)],
+                  turning_point_q2_fundamental * v / (12.0 * omega[e.i]), {e.i, e.j, e.k, e.l});
+    } else if (e.i == e.j && e.k == e.l) {  // φ_iijj: both modes see it
+      for (int i : {e.i, e.k})
+        keep_larger(per_mode[static_cast<std::size_t>(i)], v / (2.0 * omega[i]), {e.i, e.j, e.k, e.l});
+    }
+  }
+  std::vector<PerturbationCheck> checks;
+  for (std::size_t s = 0; s < sets.size(); ++s) {
+    PerturbationCheck check;
+    check.set = static_cast<int>(s);
+    check.harmonic_cm1 = sets[s].harmonic_cm1;
+    for (int mode : sets[s].modes)
+      if (per_mode[static_cast<std::size_t>(mode)].ratio >= check.anharmonic_ratio) {
+        check.anharmonic_ratio = per_mode[static_cast<std::size_t>(mode)].ratio;
+        check.largest_term = per_mode[static_cast<std::size_t>(mode)].modes;
+      }
+    check.beyond_perturbation = check.anharmonic_ratio >= ratio_limit;
+    checks.push_back(std::move(check));
+  }
+  return checks;
+}
+
+ForceConstantTensors without_modes(const ForceConstantTensors& constants, const std::vector<bool>& excluded) {
+  auto out = [&](int mode) { return excluded[static_cast<std::size_t>(mode)]; };
+  ForceConstantTensors kept(constants.mode_count());
+  for (const auto& e : constants.cubic_entries(0.0))
+    if (!out(e.i) && !out(e.j) && !out(e.k)) kept.set_cubic(e.i, e.j, e.k, e.value);
+  for (int i = 0; i < constants.mode_count(); ++i)
+    for (int j = i; j < constants.mode_count(); ++j)
+      for (int k = j; k < constants.mode_count(); ++k)
+        for (int l = k; l < constants.mode_count(); ++l)
+          if (constants.has_quartic(i, j, k, l) && !out(i) && !out(j) && !out(k) && !out(l))
+            kept.set_quartic(i, j, k, l, constants.quartic(i, j, k, l));
+  return kept;
+}
+
+}  // namespace detail
 
 SparseQuanta sparse_quanta(const std::vector<int>& set_quanta) {
   SparseQuanta quanta;
@@ -302,6 +382,14 @@ struct Vpt2Context {
   detail::AnharmonicOperator op;
   // R(g) exactly block-diagonal over the sets, for the action on oscillator states.
   std::vector<Eigen::MatrixXd> block_operations;
+  // Per set: dropped from the treatment (reduced-dimensional VPT2).
+  std::vector<bool> excluded_sets;
+
+  bool kept(std::initializer_list<int> set_indices) const {
+    for (int s : set_indices)
+      if (excluded_sets[static_cast<std::size_t>(s)]) return false;
+    return true;
+  }
 
   int set_count() const { return static_cast<int>(sets.size()); }
   std::vector<int> unit(std::initializer_list<std::pair<int, int>> entries) const {
@@ -392,7 +480,8 @@ void resonance_candidates(const Vpt2Context& c, Vpt2Result& result) {
   auto omega = [&](int s) { return c.sets[static_cast<std::size_t>(s)].harmonic_cm1; };
   for (int s = 0; s < n; ++s)
     for (int t = 0; t < n; ++t) {
-      if (s == t || std::abs(2.0 * omega(s) - omega(t)) > c.options.fermi_gap_cm1) continue;
+      if (s == t || std::abs(2.0 * omega(s) - omega(t)) > c.options.fermi_gap_cm1 || !c.kept({s, t}))
+        continue;
       Resonance r;
       r.kind = ResonanceKind::fermi_1;
       r.sets = std::vector<int>{s, t};
@@ -405,7 +494,9 @@ void resonance_candidates(const Vpt2Context& c, Vpt2Result& result) {
   for (int s = 0; s < n; ++s)
     for (int t = s + 1; t < n; ++t)
       for (int u = 0; u < n; ++u) {
-        if (u == s || u == t || std::abs(omega(s) + omega(t) - omega(u)) > c.options.fermi_gap_cm1) continue;
+        if (u == s || u == t || std::abs(omega(s) + omega(t) - omega(u)) > c.options.fermi_gap_cm1 ||
+            !c.kept({s, t, u}))
+          continue;
         Resonance r;
         r.kind = ResonanceKind::fermi_2;
         r.sets = std::vector<int>{s, t, u};
@@ -417,7 +508,8 @@ void resonance_candidates(const Vpt2Context& c, Vpt2Result& result) {
       }
   for (int s = 0; s < n; ++s)
     for (int t = s + 1; t < n; ++t) {
-      if (std::abs(2.0 * omega(s) - 2.0 * omega(t)) > c.options.darling_dennison_gap_cm1) continue;
+      if (std::abs(2.0 * omega(s) - 2.0 * omega(t)) > c.options.darling_dennison_gap_cm1 || !c.kept({s, t}))
+        continue;
       Resonance r;
       r.kind = ResonanceKind::darling_dennison;
       r.sets = std::vector<int>{s, t};
@@ -480,10 +572,13 @@ using WantedManifolds = std::vector<std::pair<std::vector<int>, LevelKind>>;
 WantedManifolds line_list_manifolds(const Vpt2Context& c) {
   WantedManifolds wanted;
   const int n = c.set_count();
-  for (int s = 0; s < n; ++s) wanted.push_back({c.unit({{s, 1}}), LevelKind::fundamental});
-  for (int s = 0; s < n; ++s) wanted.push_back({c.unit({{s, 2}}), LevelKind::overtone});
   for (int s = 0; s < n; ++s)
-    for (int t = s + 1; t < n; ++t) wanted.push_back({c.unit({{s, 1}, {t, 1}}), LevelKind::combination});
+    if (c.kept({s})) wanted.push_back({c.unit({{s, 1}}), LevelKind::fundamental});
+  for (int s = 0; s < n; ++s)
+    if (c.kept({s})) wanted.push_back({c.unit({{s, 2}}), LevelKind::overtone});
+  for (int s = 0; s < n; ++s)
+    for (int t = s + 1; t < n; ++t)
+      if (c.kept({s, t})) wanted.push_back({c.unit({{s, 1}, {t, 1}}), LevelKind::combination});
   return wanted;
 }
 
@@ -963,11 +1058,31 @@ void degenerate_set_constants(const Vpt2Context& c, Vpt2Result& result) {
 
 // Every resonance group: its Hamiltonian, sublevels, species, corrected states, the line-list
 // levels it holds and, for a polyad, the polyad record.
+// Tells options.progress, when set, how far the stage is.
+class Vpt2Progress {
+ public:
+  explicit Vpt2Progress(const ProgressCallback& callback) : callback_(callback) {}
+  void operator()(int done, int total, const std::string& detail) const {
+    if (!callback_) return;
+    callback_({"VPT2", done, total, detail,
+               std::chrono::duration<double>(std::chrono::steady_clock::now() - start_).count()});
+  }
+
+ private:
+  const ProgressCallback& callback_;
+  std::chrono::steady_clock::time_point start_ = std::chrono::steady_clock::now();
+};
+
 void diagonalize_groups(const Vpt2Context& c, const WantedManifolds& wanted,
-                        const ManifoldMap<int>& wanted_index, Vpt2Result& result) {
+                        const ManifoldMap<int>& wanted_index, const Vpt2Progress& progress,
+                        Vpt2Result& result) {
   const std::vector<Move> moves = flagged_moves(result);
   std::size_t beyond_quanta = 0, beyond_states = 0;
-  for (const ResonanceGroup& group : resonance_groups(c, wanted, moves)) {
+  const std::vector<ResonanceGroup> groups = resonance_groups(c, wanted, moves);
+  const int group_count = static_cast<int>(groups.size());
+  for (int done = 0; done < group_count; ++done) {
+    progress(done, group_count, "levels and resonance polyads");
+    const ResonanceGroup& group = groups[static_cast<std::size_t>(done)];
     if (group.manifolds.empty()) continue;
     GroupStates g;
     group_hamiltonian(c, group, moves, result.x_cm1, g);
@@ -982,6 +1097,7 @@ void diagonalize_groups(const Vpt2Context& c, const WantedManifolds& wanted,
     beyond_quanta += group.beyond_quanta ? 1 : 0;
     beyond_states += group.beyond_states ? 1 : 0;
   }
+  progress(group_count, group_count, "levels and resonance polyads");
   // One warning per limit, with a count: a molecule with many resonances reaches them often.
   const std::size_t polyads = result.polyads.size();
   if (beyond_quanta > 0)
@@ -994,6 +1110,46 @@ void diagonalize_groups(const Vpt2Context& c, const WantedManifolds& wanted,
         "{} of {} resonance polyads were cut at {} component states (the states farthest from the line-list "
         "level, by number of flagged couplings, were left out)",
         beyond_states, polyads, c.options.polyad_max_states));
+}
+
+// Modes (whole sets) below exclude_below_cm1; a warning names the modes beyond
+// perturbation theory and says what excluding them would take.
+std::vector<bool> excluded_modes(const Vpt2Options& options, Vpt2Result& result) {
+  std::vector<bool> excluded(static_cast<std::size_t>(result.harmonic_cm1.size()), false);
+  result.exclude_below_cm1 = options.exclude_below_cm1;
+  result.perturbation_ratio_limit = options.perturbation_ratio_limit;
+  std::size_t kept = 0;
+  double highest_flagged = 0.0;
+  std::size_t flagged = 0;
+  for (PerturbationCheck& check : result.perturbation_checks) {
+    check.excluded = check.harmonic_cm1 < options.exclude_below_cm1;
+    for (int mode : result.sets[static_cast<std::size_t>(check.set)].modes)
+      excluded[static_cast<std::size_t>(mode)] = check.excluded;
+    kept += check.excluded ? 0 : 1;
+    if (check.beyond_perturbation && !check.excluded) {
+      ++flagged;
+      highest_flagged = std::max(highest_flagged, check.harmonic_cm1);
+    }
+  }
+  if (kept == 0)
+    throw Error(
+        fmt::format("vpt2 option exclude_below_cm1 ({} cm-1) excludes every mode (the highest is {:.2f} "
+                    "cm-1)",
+                    options.exclude_below_cm1, result.harmonic_cm1.maxCoeff()));
+  if (flagged > 0)
+    result.warnings.push_back(fmt::format(
+        "{} {} beyond perturbation theory (an anharmonic term at least {} times the harmonic one at the "
+        "turning point of the fundamental); their levels and their couplings to the others are unreliable; "
+        "reduced-dimensional VPT2 without them: --vpt2-exclude-below {:.0f}",
+        flagged, flagged == 1 ? "mode is" : "modes are", options.perturbation_ratio_limit,
+        std::floor(highest_flagged) + 1.0));
+  return excluded;
+}
+
+std::vector<bool> excluded_sets(const Vpt2Result& result) {
+  std::vector<bool> sets;
+  for (const PerturbationCheck& check : result.perturbation_checks) sets.push_back(check.excluded);
+  return sets;
 }
 
 }  // namespace
@@ -1016,25 +1172,40 @@ Vpt2Result run_vpt2(const ForceConstantResult& force_constants, const HarmonicRe
   result.point_group = symmetry.point_group();
   result.set_of_mode = symmetry.degenerate_set();
   result.sets = degenerate_sets(symmetry, omega);
-  const Vpt2Context c{force_constants.constants,
+  result.perturbation_checks = detail::perturbation_checks(force_constants.constants, omega, result.sets,
+                                                           options.perturbation_ratio_limit);
+  const std::vector<bool> excluded = excluded_modes(options, result);
+  const ForceConstantTensors reduced = detail::without_modes(force_constants.constants, excluded);
+  const bool reduce = result.exclude_below_cm1 > 0.0;
+  const ForceConstantTensors& constants = reduce ? reduced : force_constants.constants;
+  const Vpt2Context c{constants,
                       symmetry,
                       options,
                       omega,
                       force_constants.symmetry_used && symmetry.has_group(),
                       m,
                       result.sets,
-                      detail::AnharmonicOperator(force_constants.constants, omega),
-                      symmetry.block_operations()};
+                      detail::AnharmonicOperator(constants, omega),
+                      symmetry.block_operations(),
+                      excluded_sets(result)};
 
+  const Vpt2Progress progress(options.progress);
+  progress(0, 0, "anharmonicity constants");
   coriolis_terms(harmonic, c, result);
-  result.x_vibrational_plain_cm1 = detail::anharmonicity_constants(force_constants.constants, omega);
+  for (int i = 0; i < m; ++i)
+    if (excluded[static_cast<std::size_t>(i)]) {
+      result.x_coriolis_cm1.row(i).setZero();
+      result.x_coriolis_cm1.col(i).setZero();
+    }
+  result.x_vibrational_plain_cm1 = detail::anharmonicity_constants(constants, omega);
+  progress(0, 0, "resonance candidates");
   resonance_candidates(c, result);
   deperturbed_constants(c, result);
   const WantedManifolds wanted = line_list_manifolds(c);
   ManifoldMap<int> wanted_index;  // position in the line-list order
   for (std::size_t k = 0; k < wanted.size(); ++k)
     wanted_index.emplace(key_of(wanted[k].first), static_cast<int>(k));
-  diagonalize_groups(c, wanted, wanted_index, result);
+  diagonalize_groups(c, wanted, wanted_index, progress, result);
   sort_levels(wanted_index, result);
   degenerate_set_constants(c, result);
 

@@ -96,8 +96,11 @@ std::optional<RelaxedStart> lowest_relaxed_start(const Molecule& molecule, const
 }  // namespace
 
 AnharmonicResult analyze_anharmonic(const AnalysisResult& analysis, const Potential& potential,
-                                    const AnharmonicOptions& options) {
+                                    const AnharmonicOptions& given_options) {
   require_minimum(analysis, "the anharmonic analysis");
+  AnharmonicOptions options = given_options;
+  if (!options.force_constants.progress) options.force_constants.progress = options.progress;
+  if (!options.vpt2.progress) options.vpt2.progress = options.progress;
   AnharmonicResult result;
   const auto start = std::chrono::steady_clock::now();
   if (analysis.symmetry_used) {
@@ -253,13 +256,20 @@ AnalysisResult analyze_molecule(const Molecule& molecule, const Potential& poten
   result.molecule = molecule;
   result.potential_description = potential.description();
 
+  const auto started = std::chrono::steady_clock::now();
+  const auto tell = [&](const char* step) {
+    if (options.progress) options.progress({step, 0, 0, "", seconds_since(started)});
+  };
   auto clock = std::chrono::steady_clock::now();
   if (options.optimize) {
+    tell("optimize");
     result.optimization = minimize(potential, molecule.coordinates(), options.minimize);
     if (result.optimization.diverged()) throw Error(result.optimization.message);
     result.optimized = true;
-    if (options.conformers != ConformerSearch::off && is_general_force_field(potential))
+    if (options.conformers != ConformerSearch::off && is_general_force_field(potential)) {
+      tell("conformer search");
       search_conformers(result, potential, options);
+    }
     result.molecule.set_coordinates(result.optimization.coordinates_angstrom);
     if (!result.optimization.converged()) result.warnings.push_back(result.optimization.message);
   }
@@ -284,6 +294,7 @@ AnalysisResult analyze_molecule(const Molecule& molecule, const Potential& poten
 
     clock = std::chrono::steady_clock::now();
     const Eigen::VectorXd x = result.molecule.coordinates();
+    tell("Hessian");
     result.hessian = compute_hessian(potential, x, options.hessian);
     result.timings.hessian_s += seconds_since(clock);
 
@@ -293,6 +304,7 @@ AnalysisResult analyze_molecule(const Molecule& molecule, const Potential& poten
     result.timings.symmetry_s += seconds_since(clock);
 
     clock = std::chrono::steady_clock::now();
+    tell("normal modes");
     result.harmonic =
         analyze_normal_modes(x, result.molecule.masses(), result.hessian.hessian, options.modes);
     result.timings.normal_modes_s += seconds_since(clock);

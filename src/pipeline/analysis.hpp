@@ -9,6 +9,7 @@
 #include "anharmonic/force_constants.hpp"
 #include "anharmonic/vpt2.hpp"
 #include "core/molecule.hpp"
+#include "core/progress.hpp"
 #include "families/families.hpp"
 #include "harmonic/harmonic.hpp"
 #include "molecule/conformer_starts.hpp"
@@ -47,6 +48,9 @@ struct AnalysisOptions {
   bool use_symmetry = true;
   SymmetryOptions symmetry;
   ModeSpeciesOptions species;
+  // Told when each step starts (stage "optimize", "conformer search", "Hessian", "normal
+  // modes"; no counts: these steps are short next to the later stages).
+  ProgressCallback progress;
 };
 
 struct StageTimings {
@@ -106,6 +110,8 @@ inline std::vector<int> mode_numbers_of_fundamentals(const AnalysisResult& analy
 struct AnharmonicOptions {
   ForceConstantOptions force_constants;
   Vpt2Options vpt2;
+  // Given to the force constants and VPT2 where their own progress fields are empty.
+  ProgressCallback progress;
 };
 
 struct AnharmonicResult {

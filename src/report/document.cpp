@@ -50,6 +50,30 @@ AnharmonicReportOptions anharmonic_options(const AnharmonicResult& anharmonic) {
   return options;
 }
 
+// Every cross-checked pair (full), or the pairs where the stages disagree and a count.
+std::string cross_check_text(const AnalysisResult& analysis, const RunResults& results, bool full) {
+  std::string lines;
+  int agreeing = 0;
+  for (const ResonanceCrossCheck& check :
+       cross_check_resonances(analysis, *results.anharmonic, *results.families)) {
+    if (!full && (!check.compared || check.agree)) {
+      agreeing += check.compared ? 1 : 0;
+      continue;
+    }
+    lines += "  " + resonance_cross_check_line(check) + "\n";
+  }
+  if (!full) {
+    if (lines.empty() && agreeing == 0) return "";
+    return fmt::format(
+               "\nFermi 1:2 resonances, perturbative rule against the families: pairs listed by both that "
+               "agree: {}{}\n",
+               agreeing, lines.empty() ? "" : "; these disagree:") +
+           lines;
+  }
+  if (lines.empty()) return "";
+  return "\nFermi 1:2 resonances, perturbative rule against the families:\n" + lines;
+}
+
 }  // namespace
 
 nlohmann::json resonance_cross_check_to_json(const std::vector<ResonanceCrossCheck>& checks) {
@@ -115,20 +139,21 @@ void write_json(std::ostream& out, const nlohmann::json& document) {
   out << "\n";
 }
 
-std::string text_report(const RunResults& results) {
+std::string text_report(const RunResults& results, const TextReportOptions& options) {
   const AnalysisResult& analysis = analysis_of(results);
+  const bool full = options.detail == ReportDetail::full;
   std::string text = modes_table(analysis);
-  if (results.anharmonic)
-    text += "\n" + anharmonic_report(results.anharmonic->force_constants, results.anharmonic->vpt2,
-                                     anharmonic_options(*results.anharmonic));
-  if (results.families) text += "\n" + families_text_report(*results.families, analysis.modes);
-  if (results.anharmonic && results.families) {
-    std::string lines;
-    for (const ResonanceCrossCheck& check :
-         cross_check_resonances(analysis, *results.anharmonic, *results.families))
-      lines += "  " + resonance_cross_check_line(check) + "\n";
-    if (!lines.empty()) text += "\nFermi 1:2 resonances, perturbative rule against the families:\n" + lines;
+  if (results.anharmonic) {
+    AnharmonicReportOptions anharmonic = anharmonic_options(*results.anharmonic);
+    anharmonic.detail = options.detail;
+    anharmonic.full_lists_note = options.full_lists_note;
+    text +=
+        "\n" + anharmonic_report(results.anharmonic->force_constants, results.anharmonic->vpt2, anharmonic);
   }
+  if (results.families)
+    text += "\n" + (full ? families_text_report(*results.families, analysis.modes)
+                         : families_summary_text(*results.families, analysis.modes));
+  if (results.anharmonic && results.families) text += cross_check_text(analysis, results, full);
   return text;
 }
 
@@ -150,6 +175,9 @@ std::vector<OutputFile> analysis_files(const RunResults& results) {
   std::vector<OutputFile> files;
   auto document = std::make_shared<const json>(analysis_document(results));
   files.push_back({"analysis.json", "", [document](std::ostream& out) { write_json(out, *document); }});
+  TextReportOptions full;
+  full.detail = ReportDetail::full;
+  files.push_back({"report.txt", text_report(results, full)});
   files.push_back({"modes.csv", modes_csv(analysis)});
   if (results.anharmonic)
     files.push_back(

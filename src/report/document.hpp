@@ -13,6 +13,7 @@
 #include <vector>
 
 #include "pipeline/analysis.hpp"
+#include "report/anharmonic_report.hpp"
 #include "report/output_folder.hpp"
 
 namespace overtone {
@@ -44,9 +45,18 @@ std::string json_text(const nlohmann::json& document);
 // The same text written to a stream as it is produced (no copy of the whole text).
 void write_json(std::ostream& out, const nlohmann::json& document);
 
+struct TextReportOptions {
+  // summary: what the console shows (fits a few screens at fifty modes: the anharmonic
+  // summary of AnharmonicReportOptions, one line per family, only the cross-check pairs
+  // where the stages disagree); full: every list and matrix (report.txt, --full-report).
+  ReportDetail detail = ReportDetail::summary;
+  // Where the full lists were written, said in the summary (AnharmonicReportOptions).
+  std::string full_lists_note;
+};
+
 // The console report: the modes table, then each later stage that ran, then (when both
 // ran) the resonance cross-check.
-std::string text_report(const RunResults& results);
+std::string text_report(const RunResults& results, const TextReportOptions& options = {});
 
 // The files of `overtone analyze`: analysis.json, modes.csv, lines.csv (when the
 // anharmonic stage ran) and families/family-NN-nuK.csv (one per continued family).

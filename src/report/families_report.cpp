@@ -77,7 +77,7 @@ std::string families_summary(const FamiliesResult& result, const std::vector<Mod
   return out.str();
 }
 
-std::string families_text_report(const FamiliesResult& result, const std::vector<ModeLabel>& modes) {
+std::string families_summary_text(const FamiliesResult& result, const std::vector<ModeLabel>& modes) {
   const std::string& unit = result.units.energy_label;
   std::ostringstream out;
   out << "Families of nonlinear normal modes\n";
@@ -109,7 +109,13 @@ std::string families_text_report(const FamiliesResult& result, const std::vector
                          points.back().frequency_cm1, points.back().energy_cm1, status);
     }
   }
+  return out.str();
+}
 
+std::string families_text_report(const FamiliesResult& result, const std::vector<ModeLabel>& modes) {
+  const std::string& unit = result.units.energy_label;
+  std::ostringstream out;
+  out << families_summary_text(result, modes);
   for (std::size_t i = 0; i < result.families.size(); ++i) {
     const FamilyResult& family = result.families[i];
     const FamilyType& type = family.type;

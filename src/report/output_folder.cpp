@@ -18,7 +18,7 @@ namespace {
 // replaced by a new run.
 bool is_own_file_name(const std::string& name) {
   const bool csv = name.size() > 4 && name.compare(name.size() - 4, 4, ".csv") == 0;
-  return name == "analysis.json" || name == "modes.csv" || name == "lines.csv" ||
+  return name == "analysis.json" || name == "modes.csv" || name == "lines.csv" || name == "report.txt" ||
          (csv && name.rfind("family-", 0) == 0);
 }
 

@@ -52,6 +52,25 @@ const ResonanceCrossCheck* find_pair(const std::vector<ResonanceCrossCheck>& che
   return nullptr;
 }
 
+TEST(LaterStages, ProgressReachesEveryStageThroughTheOptions) {
+  std::vector<std::string> stages;
+  AnalysisOptions analysis_options;
+  analysis_options.progress = [&](const ProgressEvent& event) { stages.push_back(event.stage); };
+  const Analysed water = run("water", analysis_options);
+  for (const char* step : {"optimize", "Hessian", "normal modes"})
+    EXPECT_NE(std::find(stages.begin(), stages.end(), step), stages.end()) << step;
+  std::vector<ProgressEvent> events;
+  AnharmonicOptions options;
+  options.progress = [&](const ProgressEvent& event) { events.push_back(event); };
+  const AnharmonicResult anharmonic = analyze_anharmonic(water.analysis, *water.potential, options);
+  ASSERT_FALSE(events.empty());
+  EXPECT_EQ(events.front().stage, "force constants");
+  // The last event closes the VPT2 stage: every resonance group done.
+  EXPECT_EQ(events.back().stage, "VPT2");
+  EXPECT_GT(events.back().total, 0);
+  EXPECT_EQ(events.back().done, events.back().total);
+}
+
 TEST(LaterStages, CarbonDioxideFermiDyadSeenByBothStages) {
   const Analysed co2 = run("carbon-dioxide");
   const AnharmonicResult anharmonic = analyze_anharmonic(co2.analysis, *co2.potential);
