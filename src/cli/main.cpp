@@ -19,6 +19,8 @@
 #include <string>
 #include <vector>
 
+#include "cli/intensity_hook.hpp"
+#include "cli/spectrum_assign.hpp"
 #include "core/error.hpp"
 #include "core/text.hpp"
 #include "pipeline/analysis.hpp"
@@ -54,6 +56,7 @@ struct MoleculeArguments {
   double symmetry_tolerance_angstrom = SymmetryOptions{}.tolerance_angstrom;
   bool refuse_incomplete = false;
   bool conformer_search = false;
+  std::string electric_response;  // atomic polar tensors for intensities (docs/intensities.md)
 };
 
 void add_molecule_arguments(CLI::App& command, MoleculeArguments& arguments) {
@@ -77,6 +80,9 @@ void add_molecule_arguments(CLI::App& command, MoleculeArguments& arguments) {
   command.add_flag("--refuse-incomplete", arguments.refuse_incomplete,
                    "refuse a 2-D drawing or a structure with implicit hydrogens instead of adding the "
                    "hydrogens and building 3-D coordinates");
+  command.add_option("--electric-response", arguments.electric_response,
+                     "atomic polar tensors (and polarizability derivatives) for intensities, a file of "
+                     "docs/intensities.md; default: the force field's partial charges");
   command.add_flag("--conformer-search", arguments.conformer_search,
                    "analyse the lowest conformer found by a quick search (general force fields) instead of "
                    "the minimum the input structure relaxes to");
@@ -141,13 +147,27 @@ void write_text(const std::string& path, const std::string& text) {
 // The molecule, its potential (which later stages evaluate again) and the analysis.
 struct AnalysedMolecule {
   std::unique_ptr<Potential> potential;
+  std::string potential_choice;  // what was named (force field or file)
   AnalysisResult analysis;
 };
+
+// Intensities of a run into the results (or the reason there are none).
+void add_intensities(const MoleculeArguments& arguments, const AnalysedMolecule& analysed,
+                     const AnharmonicResult* anharmonic, cli::IntensityOutcome& outcome,
+                     RunResults& results) {
+  outcome = cli::run_intensities(analysed.analysis, anharmonic, *analysed.potential,
+                                 analysed.potential_choice, arguments.electric_response);
+  if (!outcome.skipped.empty()) warn("intensities skipped: " + outcome.skipped);
+  results.intensities = outcome.results ? &*outcome.results : nullptr;
+  results.intensities_skipped = outcome.skipped;
+}
 
 AnalysedMolecule run_analysis(const MoleculeArguments& arguments) {
   const LoadedMolecule input = load_input(arguments);
   AnalysedMolecule result;
   result.potential = potential_for(arguments, input);
+  result.potential_choice =
+      arguments.potential.empty() && input.is_taylor_expansion ? arguments.molecule : arguments.potential;
   AnalysisOptions options;
   options.symmetry.tolerance_angstrom = arguments.symmetry_tolerance_angstrom;
   if (arguments.conformer_search) options.conformers = ConformerSearch::analyse_best;
@@ -165,9 +185,11 @@ bool write_document(const std::string& json_path, const RunResults& results) {
 }
 
 int run_modes(const MoleculeArguments& arguments, const std::string& json_path) {
-  const AnalysisResult analysis = run_analysis(arguments).analysis;
+  const AnalysedMolecule analysed = run_analysis(arguments);
   RunResults results;
-  results.analysis = &analysis;
+  results.analysis = &analysed.analysis;
+  cli::IntensityOutcome intensities;
+  add_intensities(arguments, analysed, nullptr, intensities, results);
   if (json_path != "-") std::cout << text_report(results);
   write_document(json_path, results);
   return 0;
@@ -241,8 +263,12 @@ int run_anharmonic(const MoleculeArguments& arguments, const std::string& json_p
   RunResults results;
   results.analysis = &analysed.analysis;
   results.anharmonic = &anharmonic;
-  if (!lines_path.empty())
-    write_text(lines_path, line_list_csv(anharmonic.vpt2, AnharmonicReportOptions{anharmonic.set_numbers}));
+  cli::IntensityOutcome intensities;
+  add_intensities(arguments, analysed, &anharmonic, intensities, results);
+  AnharmonicReportOptions line_options{anharmonic.set_numbers};
+  if (intensities.results && intensities.results->levels)
+    line_options.intensities = &*intensities.results->levels;
+  if (!lines_path.empty()) write_text(lines_path, line_list_csv(anharmonic.vpt2, line_options));
   if (!taylor_path.empty()) write_text(taylor_path, taylor_expansion_text(analysed.analysis, anharmonic));
   if (json_path != "-") std::cout << text_report(results);
   write_document(json_path, results);
@@ -309,6 +335,8 @@ int run_analyze(const MoleculeArguments& arguments, const FamilyArguments& famil
     }
   }
 
+  cli::IntensityOutcome intensities;
+  add_intensities(arguments, analysed, results.anharmonic, intensities, results);
   const OutputFolderResult written = write_output_folder(out_directory, analysis_files(results));
   std::cout << text_report(results);
   std::cout << "\nwrote " << written.written.size() << " files (analysis.json, modes.csv"
@@ -675,17 +703,22 @@ int main(int argc, char** argv) {
   merge->add_option("OUT", merge_output, "the store to merge into (created when missing)")->required();
   merge->add_option("IN", merge_inputs, "stores to merge")->required();
 
+  cli::SpectrumArguments spectrum_arguments;
+  CLI::App* spectrum = cli::add_spectrum_command(app, spectrum_arguments);
+  cli::AssignArguments assign_arguments;
+  CLI::App* assign = cli::add_assign_command(app, assign_arguments);
+
   // CLI11 calls an unknown command word "a subcommand is required"; say what it was.
   const auto is_command = [&](const std::string& word) {
-    for (const CLI::App* command :
-         {modes, analyze, anharmonic, families, symmetry, screen, screen_report_command, merge})
+    for (const CLI::App* command : {modes, analyze, anharmonic, families, symmetry, screen,
+                                    screen_report_command, merge, spectrum, assign})
       if (command->check_name(word)) return true;
     return false;
   };
   if (argc > 1 && argv[1][0] != '-' && !is_command(argv[1])) {
     std::cerr << "overtone: error: unknown command '" << printable_text(argv[1])
               << "' (commands: modes, analyze, anharmonic, families, symmetry, screen, screen-report, "
-                 "merge-stores; see "
+                 "merge-stores, spectrum, assign; see "
                  "overtone --help)\n";
     return user_error_status;
   }
@@ -709,6 +742,8 @@ int main(int argc, char** argv) {
     if (*screen) return run_screen_command(screen_arguments);
     if (*screen_report_command) return run_screen_report(report_arguments);
     if (*merge) return run_merge_stores(merge_output, merge_inputs);
+    if (*spectrum) return cli::run_spectrum(spectrum_arguments);
+    if (*assign) return cli::run_assign(assign_arguments);
   } catch (const overtone::Error& error) {
     std::cerr << "overtone: error: " << printable_text(error.what()) << "\n";
     return user_error_status;

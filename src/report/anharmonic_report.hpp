@@ -10,6 +10,7 @@
 
 #include "anharmonic/force_constants.hpp"
 #include "anharmonic/vpt2.hpp"
+#include "intensity/level_intensities.hpp"
 #include "pipeline/mode_numbering.hpp"
 
 namespace overtone {
@@ -17,6 +18,9 @@ namespace overtone {
 struct AnharmonicReportOptions {
   std::vector<int> set_numbers;  // per set (index into Vpt2Result::sets); empty: default_set_numbers
   bool ascii = false;            // "v2" and "2v1+v3" instead of "ν₂"-style Greek (CSV keeps its own rule)
+  // Line-list intensities (per Vpt2Result level) for the CSV's intensity columns; null:
+  // the columns stay empty.
+  const LevelIntensityResult* intensities = nullptr;
 };
 
 // "ν1", "2ν2", "ν1+ν3" (numbers in ascending order); ASCII uses "v".

@@ -13,6 +13,7 @@
 #include <vector>
 
 #include "pipeline/analysis.hpp"
+#include "pipeline/intensities.hpp"
 #include "report/output_folder.hpp"
 
 namespace overtone {
@@ -25,6 +26,10 @@ struct RunResults {
   std::string anharmonic_skipped;
   const FamiliesResult* families = nullptr;
   std::string families_skipped;
+  // Intensities (src/pipeline/intensities.hpp); null with a reason, or null and empty when
+  // not requested (then the document has no intensity fields).
+  const IntensityResults* intensities = nullptr;
+  std::string intensities_skipped;
 };
 
 // Top-level key resonance_cross_check: one entry per Fermi 1:2 pair listed by either
