@@ -173,6 +173,10 @@ void fit_scale(const Problem& problem, const std::vector<int>& columns, double& 
   standard_error = pairs.size() > 1 ? std::sqrt(squares / static_cast<double>(pairs.size() - 1) / pp) : 0.0;
 }
 
+Eigen::Index unassigned_column(const Problem& problem, int band) {
+  return static_cast<Eigen::Index>(problem.columns.size() - problem.bands->size()) + band;
+}
+
 std::vector<BandAssignment> describe(const Problem& problem, const Eigen::MatrixXd& cost,
                                      const std::vector<int>& columns, double scale) {
   std::vector<BandAssignment> result;
@@ -188,9 +192,11 @@ std::vector<BandAssignment> describe(const Problem& problem, const Eigen::Matrix
       entry.predicted_cm1 = scale * level_of(problem, column).position_cm1;
       entry.residual_cm1 = (*problem.bands)[b].wavenumber_cm1 - entry.predicted_cm1;
     }
-    // The runner-up: the same problem with this band's choice forbidden.
+    // The runner-up: the best other level for this band, i.e. the same problem with its
+    // choice and its unassigned option forbidden.
     Eigen::MatrixXd without = cost;
     without(static_cast<Eigen::Index>(b), columns[b]) = forbidden_cost;
+    without(static_cast<Eigen::Index>(b), unassigned_column(problem, static_cast<int>(b))) = forbidden_cost;
     const std::vector<int> second = minimum_cost_assignment(without);
     const Column& alternative = problem.columns[static_cast<std::size_t>(second[b])];
     const double second_total = assignment_cost(without, second);

@@ -20,9 +20,10 @@
 //
 // Each level takes at most one band per technique and isotopologue; a band of isotopologue
 // T is offered only the levels predicted for T, and all bands of all isotopologues are
-// assigned in one problem. Margin: for each band, the problem is solved again with its
-// chosen option forbidden; the runner-up is what the band gets then and the margin the rise
-// of the total cost (small: ambiguous).
+// assigned in one problem. Runner-up: for each band, the problem is solved again with its
+// chosen option and its unassigned option forbidden; the runner-up is the level the band gets
+// then and the margin the rise of the total cost (small: ambiguous; the other bands may
+// move too).
 #include <optional>
 #include <string>
 #include <vector>

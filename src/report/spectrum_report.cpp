@@ -15,6 +15,8 @@ namespace {
 constexpr double plot_width = 900.0, plot_height = 420.0;
 constexpr double margin_left = 60.0, margin_right = 20.0, margin_top = 40.0, margin_bottom = 50.0;
 constexpr int axis_ticks = 8;
+// Sticks shorter than this fraction of the plot height get no label.
+constexpr double min_labelled_fraction = 0.04;
 
 std::string xml_escape(const std::string& text) {
   std::string out;
@@ -50,25 +52,35 @@ struct Frame {
   }
 };
 
+// A tick spacing of 1, 2 or 5 times a power of ten giving about axis_ticks intervals.
+double tick_step(double span) {
+  const double raw = span / axis_ticks;
+  const double power = std::pow(10.0, std::floor(std::log10(raw)));
+  for (const double factor : {1.0, 2.0, 5.0})
+    if (factor * power >= raw) return factor * power;
+  return 10.0 * power;
+}
+
 std::string axes(const Frame& frame, const SpectrumPlotLabels& labels) {
   std::string out = fmt::format(
       "<line x1=\"{0}\" y1=\"{1}\" x2=\"{2}\" y2=\"{1}\" stroke=\"black\"/>\n"
       "<text x=\"{3}\" y=\"{4}\" text-anchor=\"middle\" font-size=\"13\">wavenumber / cm-1</text>\n"
-      "<text x=\"{5}\" y=\"24\" font-size=\"14\">{6}</text>\n",
+      "<text x=\"{5}\" y=\"18\" font-size=\"14\">{6}</text>\n"
+      "<text x=\"{5}\" y=\"33\" font-size=\"10\" fill=\"#555\">curve and sticks each scaled to their "
+      "maximum; sticks: integrated intensity in {7}; red: members of a resonance polyad [polyad number]; "
+      "dashed: hot bands</text>\n",
       margin_left, Frame::y(0.0), plot_width - margin_right, 0.5 * (plot_width + margin_left - margin_right),
-      plot_height - 10.0, margin_left, xml_escape(labels.title));
-  for (int t = 0; t <= axis_ticks; ++t) {
-    const double w = frame.low + (frame.high - frame.low) * t / axis_ticks;
+      plot_height - 10.0, margin_left, xml_escape(labels.title), xml_escape(labels.intensity_unit));
+  const double step = tick_step(frame.high - frame.low);
+  for (double w = std::ceil(frame.low / step) * step; w <= frame.high + 1e-9 * step; w += step)
     out += fmt::format(
         "<line x1=\"{0:.1f}\" y1=\"{1}\" x2=\"{0:.1f}\" y2=\"{2}\" stroke=\"black\"/>"
         "<text x=\"{0:.1f}\" y=\"{3}\" text-anchor=\"middle\" font-size=\"11\">{4:.0f}</text>\n",
         frame.x(w), Frame::y(0.0), Frame::y(0.0) + 5.0, Frame::y(0.0) + 18.0, w);
-  }
   out += fmt::format(
-      "<text x=\"14\" y=\"{0}\" font-size=\"12\" transform=\"rotate(-90 14 {0})\" "
-      "text-anchor=\"middle\">intensity (curve and sticks each scaled to their maximum; sticks in "
-      "{1})</text>\n",
-      0.5 * (plot_height + margin_top - margin_bottom), xml_escape(labels.intensity_unit));
+      "<text x=\"20\" y=\"{0}\" font-size=\"12\" transform=\"rotate(-90 20 {0})\" "
+      "text-anchor=\"middle\">relative intensity</text>\n",
+      0.5 * (plot_height + margin_top - margin_bottom));
   return out;
 }
 

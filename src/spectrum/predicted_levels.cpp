@@ -16,6 +16,10 @@ namespace {
 
 using nlohmann::json;
 
+// Lines weaker than this fraction of the strongest are round-off, not bands: a forbidden
+// band's intensity is ~1e-30 of an allowed one, the weakest observable ~1e-6.
+constexpr double negligible_fraction = 1e-12;
+
 const json& field(const json& object, const char* key, const std::string& where) {
   if (!object.is_object() || !object.contains(key))
     throw Error(fmt::format("analysis document: {} lacks the field '{}'", where, key));
@@ -152,10 +156,14 @@ const PredictedLevel* find_level(const PredictedSpectrum& predicted, const std::
 }  // namespace
 
 std::vector<SpectrumLine> spectrum_lines(const PredictedSpectrum& predicted, SpectrumKind kind) {
+  double strongest = 0.0;
+  for (const PredictedLevel& level : predicted.levels)
+    strongest = std::max(strongest, intensity_of(level, kind).value_or(0.0));
   std::vector<SpectrumLine> lines;
   for (const PredictedLevel& level : predicted.levels) {
     const std::optional<double> value = intensity_of(level, kind);
-    if (!value || !(*value > 0.0)) continue;
+    // Symmetry-forbidden bands come out as round-off (~1e-30 of the allowed ones).
+    if (!value || !(*value > negligible_fraction * strongest)) continue;
     lines.push_back({level.position_cm1, *value, level.label, level.polyad, level.partners, false});
   }
   return lines;

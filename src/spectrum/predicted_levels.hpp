@@ -48,7 +48,8 @@ PredictedSpectrum predicted_from_document(const nlohmann::json& document, bool a
 
 enum class SpectrumKind { infrared, raman };
 
-// The stick lines of one technique: levels with a known, positive intensity.
+// The stick lines of one technique: levels with a known intensity above round-off (1e-12 of
+// the strongest).
 std::vector<SpectrumLine> spectrum_lines(const PredictedSpectrum& predicted, SpectrumKind kind);
 
 // The cold lines weighted by the ground-state population and the hot bands out of the
