@@ -315,3 +315,75 @@ polarizability_derivative = [[0,0,0,0,2.0,0], [0,0,0,0,0,2.0], [0.4,0.4,1.7,0,0,
 
 }  // namespace
 }  // namespace overtone
+
+namespace overtone {
+namespace {
+
+// Carbon dioxide on its shipped valence force field with the model response of
+// tests/data/intensity (bond polarizabilities; make_co2_model.py).
+struct ModelCarbonDioxide {
+  AnalysisResult analysis;
+  AnharmonicResult anharmonic;
+  IntensityResults intensities;
+};
+
+ModelCarbonDioxide model_carbon_dioxide() {
+  const Molecule molecule = read_shipped("carbon-dioxide");
+  const auto potential = make_potential(source_path("potentials/carbon-dioxide.toml"), molecule);
+  ModelCarbonDioxide run;
+  run.analysis = analyze_molecule(molecule, *potential);
+  run.anharmonic = analyze_anharmonic(run.analysis, *potential);
+  const PolarTensorDipole source(
+      read_electric_response(source_path("tests/data/intensity/co2-model-response.toml")),
+      run.analysis.molecule);
+  run.intensities = analyze_intensities(run.analysis, &run.anharmonic, source);
+  return run;
+}
+
+TEST(RamanActivities, MutualExclusionAndPolarizationInCarbonDioxide) {
+  // D∞h: only Σg+ is Raman-active (the rule of mutual exclusion for a centrosymmetric
+  // molecule; character table). A totally symmetric band has ρ < 3/4; every other species
+  // has a = 0 (closed form), so ρ = 3/4 wherever its activity is not zero.
+  const ModelCarbonDioxide run = model_carbon_dioxide();
+  const HarmonicIntensityResult& h = run.intensities.harmonic;
+  ASSERT_TRUE(h.has_raman);
+  const double strongest = h.raman_activity_a4_per_u.maxCoeff();
+  for (const ModeLabel& label : run.analysis.modes) {
+    const double activity = h.raman_activity_a4_per_u[label.harmonic_index];
+    if (label.raman_active) {
+      EXPECT_GT(activity, forbidden_fraction * strongest) << label.species;
+      EXPECT_LT(h.depolarization_ratio[label.harmonic_index], 0.75) << label.species;
+    } else {
+      EXPECT_LT(activity, forbidden_fraction * strongest) << label.species;
+    }
+  }
+  EXPECT_LT(h.crawford.relative_residual, sum_rule_tolerance);
+}
+
+TEST(LevelIntensities, FermiDyadSharesTheFundamentalsRamanActivity) {
+  // I(ψ) = w_f I_f (level_intensities.hpp): the two dyad members carry the ν1 activity in
+  // proportion to their ν1 weights, and their sum is ν1's harmonic activity (the weights of
+  // ν1 over the polyad's states sum to 1).
+  const ModelCarbonDioxide run = model_carbon_dioxide();
+  const Vpt2Result& vpt2 = run.anharmonic.vpt2;
+  ASSERT_TRUE(run.intensities.levels);
+  double dyad_sum = 0.0, symmetric_stretch = 0.0;
+  int members = 0;
+  for (std::size_t i = 0; i < vpt2.levels.size(); ++i) {
+    const VibrationalLevel& level = vpt2.levels[i];
+    const auto& raman = run.intensities.levels->raman_activity_a4_per_u[i];
+    if (level.in_polyad() && level.species == "Sigma_g+" && raman && *raman > 0.0) {
+      dyad_sum += *raman;
+      ++members;
+    }
+  }
+  for (const ModeLabel& label : run.analysis.modes)
+    if (label.species == "Sigma_g+")
+      symmetric_stretch = run.intensities.harmonic.raman_activity_a4_per_u[label.harmonic_index];
+  EXPECT_EQ(members, 2);
+  // Listed weights sum to 1 within 1e-6 per sublevel (vpt2.hpp).
+  EXPECT_NEAR(dyad_sum / symmetric_stretch, 1.0, 1e-5);
+}
+
+}  // namespace
+}  // namespace overtone
