@@ -120,7 +120,8 @@ double option_cost(const Problem& problem, int b, const Column& column, double s
   if (!active(level, band.technique)) return forbidden_cost;
   const double sigma = options.expected_error_cm1 * std::max(1, level.total_quanta);
   const double residual = (band.wavenumber_cm1 - scale * level.position_cm1) / sigma;
-  return std::min(forbidden_cost, residual * residual +
+  const double prior = options.extra_quantum_cost * std::max(0, level.total_quanta - 1);
+  return std::min(forbidden_cost, residual * residual + prior +
                                       intensity_cost(problem, band, level, column.tag, options) +
                                       polarization_cost(band, level, options));
 }
@@ -242,6 +243,7 @@ void validate(const AssignOptions& options) {
       throw Error(fmt::format("assignment option {} must be positive, got {}", name, value));
   const std::tuple<const char*, double> non_negative[] = {
       {"intensity_weight", options.intensity_weight},
+      {"extra_quantum_cost", options.extra_quantum_cost},
       {"polarized_mismatch_cost", options.polarized_mismatch_cost},
       {"depolarized_mismatch_cost", options.depolarized_mismatch_cost}};
   for (const auto& [name, value] : non_negative)

@@ -15,6 +15,9 @@
 //   polarization a Raman band marked polarized on a level that is not totally symmetric:
 //                polarized_mismatch_cost (such a band cannot be polarized); depolarized on a
 //                totally symmetric level: depolarized_mismatch_cost (possible when ρ is near ¾);
+//   quanta       extra_quantum_cost per quantum beyond the first: overtones and combinations
+//                are weaker and less often listed than fundamentals, so with equal residuals the
+//                fundamental is the likelier assignment (a prior; common practice, no source);
 //   unassigned   unassigned_cost per band left out (a band further than √cost σ from every
 //                level is better left unassigned).
 //
@@ -61,6 +64,7 @@ struct IsotopologueLevels {
 struct AssignOptions {
   double expected_error_cm1 = 20.0;  // σ of a fundamental, cm⁻¹ (a general force field's typical error)
   double unassigned_cost = 9.0;      // a 3σ residual
+  double extra_quantum_cost = 1.0;   // per quantum beyond the first (a 1σ residual)
   double intensity_weight = 1.0;
   double intensity_floor = 0.01;  // relative intensities below 1 % count as 1 %
   double polarized_mismatch_cost = 16.0;
