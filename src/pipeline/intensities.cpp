@@ -53,7 +53,9 @@ IntensityResults analyze_intensities(const AnalysisResult& analysis, const Anhar
   }
   IntensityResults results;
   results.harmonic = compute_harmonic_intensities(analysis.harmonic, source, options);
-  if (anharmonic) results.levels = compute_level_intensities(anharmonic->vpt2, results.harmonic);
+  if (anharmonic)
+    results.levels = compute_anharmonic_level_intensities(anharmonic->vpt2, anharmonic->force_constants,
+                                                          anharmonic->harmonic, source);
   return results;
 }
 

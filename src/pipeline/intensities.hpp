@@ -5,6 +5,7 @@
 #include <optional>
 #include <string>
 
+#include "intensity/anharmonic_intensities.hpp"
 #include "intensity/dipole_source.hpp"
 #include "intensity/harmonic_intensities.hpp"
 #include "intensity/level_intensities.hpp"
@@ -29,8 +30,9 @@ struct IntensityResults {
   std::optional<LevelIntensityResult> levels;  // when the anharmonic stage ran
 };
 
-// Intensities at the analysed geometry; degenerate sets from analysis.modes. Throws Error
-// for sizes that disagree.
+// Intensities at the analysed geometry; degenerate sets from analysis.modes; the line list's
+// from compute_anharmonic_level_intensities when the anharmonic stage ran. Throws Error for
+// sizes that disagree.
 IntensityResults analyze_intensities(const AnalysisResult& analysis, const AnharmonicResult* anharmonic,
                                      const DipoleSource& source);
 

@@ -360,30 +360,5 @@ TEST(RamanActivities, MutualExclusionAndPolarizationInCarbonDioxide) {
   EXPECT_LT(h.crawford.relative_residual, sum_rule_tolerance);
 }
 
-TEST(LevelIntensities, FermiDyadSharesTheFundamentalsRamanActivity) {
-  // I(ψ) = w_f I_f (level_intensities.hpp): the two dyad members carry the ν1 activity in
-  // proportion to their ν1 weights, and their sum is ν1's harmonic activity (the weights of
-  // ν1 over the polyad's states sum to 1).
-  const ModelCarbonDioxide run = model_carbon_dioxide();
-  const Vpt2Result& vpt2 = run.anharmonic.vpt2;
-  ASSERT_TRUE(run.intensities.levels);
-  double dyad_sum = 0.0, symmetric_stretch = 0.0;
-  int members = 0;
-  for (std::size_t i = 0; i < vpt2.levels.size(); ++i) {
-    const VibrationalLevel& level = vpt2.levels[i];
-    const auto& raman = run.intensities.levels->raman_activity_a4_per_u[i];
-    if (level.in_polyad() && level.species == "Sigma_g+" && raman && *raman > 0.0) {
-      dyad_sum += *raman;
-      ++members;
-    }
-  }
-  for (const ModeLabel& label : run.analysis.modes)
-    if (label.species == "Sigma_g+")
-      symmetric_stretch = run.intensities.harmonic.raman_activity_a4_per_u[label.harmonic_index];
-  EXPECT_EQ(members, 2);
-  // Listed weights sum to 1 within 1e-6 per sublevel (vpt2.hpp).
-  EXPECT_NEAR(dyad_sum / symmetric_stretch, 1.0, 1e-5);
-}
-
 }  // namespace
 }  // namespace overtone
