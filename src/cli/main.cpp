@@ -23,6 +23,7 @@
 #include "cli/spectrum_assign.hpp"
 #include "core/error.hpp"
 #include "core/text.hpp"
+#include "intensity/taylor_dipole.hpp"
 #include "pipeline/analysis.hpp"
 #include "pipeline/molecule_input.hpp"
 #include "potential/make_potential.hpp"
@@ -269,7 +270,13 @@ int run_anharmonic(const MoleculeArguments& arguments, const std::string& json_p
   if (intensities.results && intensities.results->levels)
     line_options.intensities = &*intensities.results->levels;
   if (!lines_path.empty()) write_text(lines_path, line_list_csv(anharmonic.vpt2, line_options));
-  if (!taylor_path.empty()) write_text(taylor_path, taylor_expansion_text(analysed.analysis, anharmonic));
+  if (!taylor_path.empty()) {
+    std::string text = taylor_expansion_text(analysed.analysis, anharmonic);
+    const auto source = dipole_source_for(*analysed.potential, analysed.potential_choice,
+                                          analysed.analysis.molecule, arguments.electric_response);
+    if (source) text += dipole_surface_text(anharmonic.harmonic, *source);
+    write_text(taylor_path, text);
+  }
   if (json_path != "-") std::cout << text_report(results);
   write_document(json_path, results);
   return 0;

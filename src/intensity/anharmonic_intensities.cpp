@@ -100,6 +100,19 @@ Eigen::VectorXd two_quantum_transition_moment(const ForceConstantTensors& phi, c
   return moment;
 }
 
+Eigen::Vector3d electrical_moment(const std::array<Eigen::MatrixXd, 3>& second, const std::vector<int>& f) {
+  std::vector<int> excited;
+  for (std::size_t k = 0; k < f.size(); ++k)
+    for (int q = 0; q < f[k]; ++q) excited.push_back(static_cast<int>(k));
+  Eigen::Vector3d moment = Eigen::Vector3d::Zero();
+  if (excited.size() != 2) return moment;
+  // ⟨0|½ q_i²|2_i⟩ = 1/(2√2); ⟨0|½(q_i q_j + q_j q_i)|1_i 1_j⟩ = 1/2.
+  const double factor = excited[0] == excited[1] ? 1.0 / (2.0 * std::sqrt(2.0)) : 0.5;
+  for (int c = 0; c < 3; ++c)
+    moment[c] = factor * second[static_cast<std::size_t>(c)](excited[0], excited[1]);
+  return moment;
+}
+
 }  // namespace detail
 
 namespace {
@@ -114,6 +127,7 @@ struct Context {
   Eigen::MatrixXd dipole;                         // 3 × M: ∂μ/∂q_k (e·Å)
   std::optional<Eigen::MatrixXd> polarizability;  // 6 × M: ∂α/∂q_k (Å³)
   std::map<SparseQuanta, int> polyad_of_manifold;
+  std::optional<std::array<Eigen::MatrixXd, 3>> dipole_second;  // ∂²μ_α/∂q_k∂q_l (M × M each)
 };
 
 double harmonic_energy(const Context& c, const State& n) {
@@ -140,8 +154,11 @@ int polyad_of(const Context& c, const State& n) {
 
 Eigen::VectorXd two_quantum_moment(const Context& c, const State& f, const Eigen::MatrixXd& g) {
   const int polyad = polyad_of(c, f);
-  return detail::two_quantum_transition_moment(
+  Eigen::VectorXd moment = detail::two_quantum_transition_moment(
       *c.phi, c.omega, g, f, [&](const State& one) { return polyad >= 0 && polyad_of(c, one) == polyad; });
+  // Electrical anharmonicity: only the dipole has second derivatives here.
+  if (&g == &c.dipole && c.dipole_second) moment += detail::electrical_moment(*c.dipole_second, f);
+  return moment;
 }
 
 // Effective derivative D = M √(2/λ_f) of one component state.
@@ -275,7 +292,7 @@ std::optional<double> plain_intensity(const Context& c, const VibrationalLevel& 
 
 Context make_context(const Vpt2Result& vpt2, const ForceConstantResult& fc, const HarmonicResult& harmonic,
                      const DipoleSource& source) {
-  Context c{&vpt2, &fc.constants, fc.frequencies_cm1, {}, {}, std::nullopt, {}};
+  Context c{&vpt2, &fc.constants, fc.frequencies_cm1, {}, {}, std::nullopt, {}, std::nullopt};
   const Eigen::Index modes = c.omega.size();
   c.length_squared.resize(modes);
   Eigen::MatrixXd displacement = harmonic.mass_weighted_modes;
@@ -286,6 +303,13 @@ Context make_context(const Vpt2Result& vpt2, const ForceConstantResult& fc, cons
     displacement.col(k) *= std::sqrt(c.length_squared[k]);
   }
   c.dipole = source.dipole_derivatives(harmonic.coordinates_angstrom) * displacement;
+  if (source.has_dipole_second_derivatives()) {
+    const std::array<Eigen::MatrixXd, 3> cartesian =
+        source.dipole_second_derivatives(harmonic.coordinates_angstrom);
+    c.dipole_second = std::array<Eigen::MatrixXd, 3>{};
+    for (std::size_t a = 0; a < 3; ++a)
+      (*c.dipole_second)[a] = displacement.transpose() * cartesian[a] * displacement;
+  }
   if (source.has_polarizability_derivatives())
     c.polarizability = source.polarizability_derivatives(harmonic.coordinates_angstrom) * displacement;
   for (std::size_t p = 0; p < vpt2.polyads.size(); ++p)

@@ -16,9 +16,9 @@
 // resonance polyad is left out (the polyad's diagonalization treats that coupling), as VPT2
 // deperturbs the positions. The same sums with α in place of μ give transition
 // polarizabilities. Electrical anharmonicity needs second derivatives μ_kl: fixed charges
-// have none (μ is linear in the Cartesian, hence in the rectilinear normal coordinates), and
-// atomic polar tensors do not carry them, so it is zero for the first and left out for the
-// second.
+// have none (μ is linear in the Cartesian, hence in the rectilinear normal coordinates),
+// atomic polar tensors do not carry them (left out), a Taylor expansion's dipole surface may
+// (taylor_dipole.hpp); polarizability second derivatives are never used.
 //
 // Intensities: each moment becomes an effective derivative D_f = M_f √(2/λ_f) with λ_f =
 // ħ/ω_f (ω_f the harmonic energy of f), so that a fundamental's D is ∂μ/∂Q exactly, and
@@ -34,6 +34,7 @@
 // components weighted by the mixing weights (interference left out; a warning names it). Second-order
 // corrections to the fundamentals' own moments (third dipole derivatives, quartic constants) are left out:
 // the fundamentals keep their double-harmonic moments.
+#include <array>
 #include <functional>
 #include <optional>
 #include <string>
@@ -67,6 +68,9 @@ double cubic_matrix_element(const ForceConstantTensors& constants, const std::ve
 Eigen::VectorXd two_quantum_transition_moment(
     const ForceConstantTensors& constants, const Eigen::VectorXd& omega, const Eigen::MatrixXd& derivatives,
     const std::vector<int>& f, const std::function<bool(const std::vector<int>&)>& resonant = {});
+
+// ⟨0|½ Σ_kl μ_kl q_k q_l|f⟩ for a two-quantum state f (second derivatives per component).
+Eigen::Vector3d electrical_moment(const std::array<Eigen::MatrixXd, 3>& second, const std::vector<int>& f);
 
 }  // namespace detail
 

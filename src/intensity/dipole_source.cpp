@@ -28,6 +28,11 @@ Eigen::MatrixXd DipoleSource::polarizability_derivatives(
   throw Error("the dipole source '" + description() + "' gives no polarizability derivatives");
 }
 
+std::array<Eigen::MatrixXd, 3> DipoleSource::dipole_second_derivatives(
+    const Eigen::VectorXd& /*coordinates*/) const {
+  throw Error("the dipole source '" + description() + "' gives no second dipole derivatives");
+}
+
 void DipoleSource::check_size(const Eigen::VectorXd& coordinates_angstrom) const {
   if (coordinates_angstrom.size() != static_cast<Eigen::Index>(3 * atom_count()))
     throw Error(fmt::format("the dipole source expects {} coordinates, got {}", 3 * atom_count(),

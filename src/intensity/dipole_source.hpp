@@ -16,6 +16,7 @@
 // Layouts: dipole derivatives are 3 × 3N, column 3a+β holding ∂μ/∂x_{aβ}; polarizability
 // derivatives are 6 × 3N, rows αxx, αyy, αzz, αxy, αxz, αyz.
 #include <Eigen/Dense>
+#include <array>
 #include <memory>
 #include <optional>
 #include <string>
@@ -37,6 +38,10 @@ class DipoleSource {
   virtual Eigen::MatrixXd dipole_derivatives(const Eigen::VectorXd& coordinates_angstrom) const = 0;
   // The permanent dipole at the geometry (e·Å), when the source knows it.
   virtual std::optional<Eigen::Vector3d> dipole(const Eigen::VectorXd& coordinates_angstrom) const = 0;
+  // Second derivatives ∂²μ_α/∂x∂x (one 3N × 3N matrix per component α, e/Å), when known.
+  virtual bool has_dipole_second_derivatives() const { return false; }
+  virtual std::array<Eigen::MatrixXd, 3> dipole_second_derivatives(
+      const Eigen::VectorXd& coordinates_angstrom) const;
   virtual bool has_polarizability_derivatives() const { return false; }
   // ∂α/∂x (6 × 3N, Å²); throws Error when has_polarizability_derivatives() is false.
   virtual Eigen::MatrixXd polarizability_derivatives(const Eigen::VectorXd& coordinates_angstrom) const;

@@ -1,7 +1,12 @@
 #include "pipeline/intensities.hpp"
 
+#include <fstream>
+#include <sstream>
+
 #include "core/error.hpp"
+#include "intensity/taylor_dipole.hpp"
 #include "potential/mmff_potential.hpp"
+#include "potential/taylor_expansion_potential.hpp"
 #include "potential/valence_force_field.hpp"
 
 namespace overtone {
@@ -23,6 +28,20 @@ std::vector<double> file_charges(const std::string& potential_choice) {
   }
 }
 
+// The dipole surface of a Taylor-expansion file in normal coordinates, or null.
+std::unique_ptr<DipoleSource> taylor_dipole(const std::string& path, const Molecule& molecule) {
+  if (!ends_with(path, ".toml") || !is_taylor_expansion_file(path)) return nullptr;
+  const TaylorExpansionData data = read_taylor_expansion(path);
+  if (data.coordinates != ExpansionCoordinates::normal) return nullptr;
+  std::ifstream in(path, std::ios::binary);
+  std::ostringstream text;
+  text << in.rdbuf();
+  DipoleSurfaceTerms terms =
+      parse_dipole_surface(text.str(), path, static_cast<int>(data.frequencies_cm1.size()));
+  if (terms.empty()) return nullptr;
+  return std::make_unique<TaylorDipole>(data, std::move(terms), molecule, path);
+}
+
 }  // namespace
 
 std::unique_ptr<DipoleSource> dipole_source_for(const Potential& potential,
@@ -30,6 +49,7 @@ std::unique_ptr<DipoleSource> dipole_source_for(const Potential& potential,
                                                 const std::string& electric_response_path) {
   if (!electric_response_path.empty())
     return std::make_unique<PolarTensorDipole>(read_electric_response(electric_response_path), molecule);
+  if (auto surface = taylor_dipole(potential_choice, molecule)) return surface;
   if (const auto* mmff = dynamic_cast<const MmffPotential*>(&potential))
     return std::make_unique<FixedChargeDipole>(mmff->partial_charges(), mmff->variant_name());
   const std::vector<double> charges = file_charges(potential_choice);

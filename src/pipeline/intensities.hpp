@@ -15,9 +15,11 @@ namespace overtone {
 
 // The dipole source of a run, first that applies:
 //   1. electric_response_path, when given (atomic polar tensors, docs/intensities.md);
-//   2. the potential's own charges: the compiled MMFF94/MMFF94s, or the `charges` key of the
+//   2. the dipole surface terms ([dipole]) of a Taylor-expansion file named by
+//      potential_choice (docs/taylor-expansion-format.md);
+//   3. the potential's own charges: the compiled MMFF94/MMFF94s, or the `charges` key of the
 //      valence force-field file named by potential_choice;
-//   3. MMFF94 charges assigned to the molecule by Open Babel (the potential has none), with
+//   4. MMFF94 charges assigned to the molecule by Open Babel (the potential has none), with
 //      a note saying so;
 // or null when none applies (MMFF94 cannot type the molecule). Throws Error for an
 // electric-response file that cannot be read or does not fit the molecule.
