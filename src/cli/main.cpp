@@ -613,6 +613,39 @@ std::string usage_error_line(const CLI::ParseError& error) {
   return "overtone: error: " + printable_text(message) + " (see overtone --help)";
 }
 
+// `screen-report` and its options.
+CLI::App* add_screen_report_command(CLI::App& app, ScreenReportArguments& report_arguments) {
+  CLI::App* screen_report_command = app.add_subcommand(
+      "screen-report", "per molecule, the flagged resonances of a store in a window, and the failures");
+  screen_report_command->add_option("STORE", report_arguments.store, "the SQLite store of a screen")
+      ->required();
+  screen_report_command->add_option("--window", report_arguments.window,
+                                    "A:B: only resonances whose upper level lies between A and B cm-1");
+  screen_report_command->add_option(
+      "--min-criterion", report_arguments.min_criterion,
+      "list every candidate whose criterion value reaches C (cm-1), flagged or not");
+  screen_report_command->add_option("--csv", report_arguments.csv_path,
+                                    "write the listed resonances (or with --table, the table) as CSV to PATH "
+                                    "('-' for standard output)");
+  screen_report_command->add_option("--run", report_arguments.run_id,
+                                    "only this run of the store (its run_id)");
+  screen_report_command->add_option("--table", report_arguments.table,
+                                    "export this table as CSV instead: runs, molecules, results, modes, "
+                                    "resonances, levels, families, failures");
+  return screen_report_command;
+}
+
+// CLI11 calls an unknown command word "a subcommand is required"; say what it was.
+bool unknown_command(CLI::App& app, int argc, char** argv) {
+  if (argc <= 1 || argv[1][0] == '-') return false;
+  for (const CLI::App* command : app.get_subcommands([](CLI::App*) { return true; }))
+    if (command->check_name(argv[1])) return false;
+  std::cerr << "overtone: error: unknown command '" << printable_text(argv[1])
+            << "' (commands: modes, analyze, anharmonic, families, symmetry, screen, screen-report, "
+               "merge-stores, spectrum, assign; see overtone --help)\n";
+  return true;
+}
+
 }  // namespace
 
 int main(int argc, char** argv) {
@@ -684,23 +717,7 @@ int main(int argc, char** argv) {
   add_screen_arguments(*screen, screen_arguments);
 
   ScreenReportArguments report_arguments;
-  CLI::App* screen_report_command = app.add_subcommand(
-      "screen-report", "per molecule, the flagged resonances of a store in a window, and the failures");
-  screen_report_command->add_option("STORE", report_arguments.store, "the SQLite store of a screen")
-      ->required();
-  screen_report_command->add_option("--window", report_arguments.window,
-                                    "A:B: only resonances whose upper level lies between A and B cm-1");
-  screen_report_command->add_option(
-      "--min-criterion", report_arguments.min_criterion,
-      "list every candidate whose criterion value reaches C (cm-1), flagged or not");
-  screen_report_command->add_option("--csv", report_arguments.csv_path,
-                                    "write the listed resonances (or with --table, the table) as CSV to PATH "
-                                    "('-' for standard output)");
-  screen_report_command->add_option("--run", report_arguments.run_id,
-                                    "only this run of the store (its run_id)");
-  screen_report_command->add_option("--table", report_arguments.table,
-                                    "export this table as CSV instead: runs, molecules, results, modes, "
-                                    "resonances, levels, families, failures");
+  CLI::App* screen_report_command = add_screen_report_command(app, report_arguments);
 
   std::string merge_output;
   std::vector<std::string> merge_inputs;
@@ -715,20 +732,7 @@ int main(int argc, char** argv) {
   cli::AssignArguments assign_arguments;
   CLI::App* assign = cli::add_assign_command(app, assign_arguments);
 
-  // CLI11 calls an unknown command word "a subcommand is required"; say what it was.
-  const auto is_command = [&](const std::string& word) {
-    for (const CLI::App* command : {modes, analyze, anharmonic, families, symmetry, screen,
-                                    screen_report_command, merge, spectrum, assign})
-      if (command->check_name(word)) return true;
-    return false;
-  };
-  if (argc > 1 && argv[1][0] != '-' && !is_command(argv[1])) {
-    std::cerr << "overtone: error: unknown command '" << printable_text(argv[1])
-              << "' (commands: modes, analyze, anharmonic, families, symmetry, screen, screen-report, "
-                 "merge-stores, spectrum, assign; see "
-                 "overtone --help)\n";
-    return user_error_status;
-  }
+  if (unknown_command(app, argc, argv)) return user_error_status;
   try {
     app.parse(argc, argv);
   } catch (const CLI::Success& success) {
