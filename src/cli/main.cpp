@@ -19,8 +19,11 @@
 #include <string>
 #include <vector>
 
+#include "cli/intensity_hook.hpp"
+#include "cli/spectrum_assign.hpp"
 #include "core/error.hpp"
 #include "core/text.hpp"
+#include "intensity/taylor_dipole.hpp"
 #include "pipeline/analysis.hpp"
 #include "pipeline/molecule_input.hpp"
 #include "potential/make_potential.hpp"
@@ -119,6 +122,7 @@ struct MoleculeArguments {
   bool refuse_incomplete = false;
   bool conformer_search = false;
   bool progress = false;  // progress lines on stderr also when it is not a terminal
+  std::string electric_response;  // atomic polar tensors for intensities (docs/intensities.md)
 };
 
 void add_molecule_arguments(CLI::App& command, MoleculeArguments& arguments) {
@@ -142,6 +146,9 @@ void add_molecule_arguments(CLI::App& command, MoleculeArguments& arguments) {
   command.add_flag("--refuse-incomplete", arguments.refuse_incomplete,
                    "refuse a 2-D drawing or a structure with implicit hydrogens instead of adding the "
                    "hydrogens and building 3-D coordinates");
+  command.add_option("--electric-response", arguments.electric_response,
+                     "atomic polar tensors (and polarizability derivatives) for intensities, a file of "
+                     "docs/intensities.md; default: the force field's partial charges");
   command.add_flag("--conformer-search", arguments.conformer_search,
                    "analyse the lowest conformer found by a quick search (general force fields) instead of "
                    "the minimum the input structure relaxes to");
@@ -208,14 +215,28 @@ void write_text(const std::string& path, const std::string& text) {
 // The molecule, its potential (which later stages evaluate again) and the analysis.
 struct AnalysedMolecule {
   std::unique_ptr<Potential> potential;
+  std::string potential_choice;  // what was named (force field or file)
   AnalysisResult analysis;
 };
+
+// Intensities of a run into the results (or the reason there are none).
+void add_intensities(const MoleculeArguments& arguments, const AnalysedMolecule& analysed,
+                     const AnharmonicResult* anharmonic, cli::IntensityOutcome& outcome,
+                     RunResults& results) {
+  outcome = cli::run_intensities(analysed.analysis, anharmonic, *analysed.potential,
+                                 analysed.potential_choice, arguments.electric_response);
+  if (!outcome.skipped.empty()) warn("intensities skipped: " + outcome.skipped);
+  results.intensities = outcome.results ? &*outcome.results : nullptr;
+  results.intensities_skipped = outcome.skipped;
+}
 
 AnalysedMolecule run_analysis(const MoleculeArguments& arguments) {
   progress_display().enable(arguments.progress);
   const LoadedMolecule input = load_input(arguments);
   AnalysedMolecule result;
   result.potential = potential_for(arguments, input);
+  result.potential_choice =
+      arguments.potential.empty() && input.is_taylor_expansion ? arguments.molecule : arguments.potential;
   AnalysisOptions options;
   options.symmetry.tolerance_angstrom = arguments.symmetry_tolerance_angstrom;
   if (arguments.conformer_search) options.conformers = ConformerSearch::analyse_best;
@@ -234,9 +255,11 @@ bool write_document(const std::string& json_path, const RunResults& results) {
 }
 
 int run_modes(const MoleculeArguments& arguments, const std::string& json_path) {
-  const AnalysisResult analysis = run_analysis(arguments).analysis;
+  const AnalysedMolecule analysed = run_analysis(arguments);
   RunResults results;
-  results.analysis = &analysis;
+  results.analysis = &analysed.analysis;
+  cli::IntensityOutcome intensities;
+  add_intensities(arguments, analysed, nullptr, intensities, results);
   if (json_path != "-") report_out() << text_report(results);
   write_document(json_path, results);
   return 0;
@@ -358,12 +381,22 @@ int run_anharmonic(const MoleculeArguments& arguments, const AnharmonicPaths& pa
   RunResults results;
   results.analysis = &analysed.analysis;
   results.anharmonic = &anharmonic;
+  cli::IntensityOutcome intensities;
+  add_intensities(arguments, analysed, &anharmonic, intensities, results);
   if (!paths.lines.empty()) {
     AnharmonicReportOptions line_options;
     line_options.set_numbers = anharmonic.set_numbers;
+    if (intensities.results && intensities.results->levels)
+      line_options.intensities = &*intensities.results->levels;
     write_text(paths.lines, line_list_csv(anharmonic.vpt2, line_options));
   }
-  if (!paths.taylor.empty()) write_text(paths.taylor, taylor_expansion_text(analysed.analysis, anharmonic));
+  if (!paths.taylor.empty()) {
+    std::string text = taylor_expansion_text(analysed.analysis, anharmonic);
+    const auto source = dipole_source_for(*analysed.potential, analysed.potential_choice,
+                                          analysed.analysis.molecule, arguments.electric_response);
+    if (source) text += dipole_surface_text(anharmonic.harmonic, *source);
+    write_text(paths.taylor, text);
+  }
   write_full_report(paths.full_report, results);
   TextReportOptions summary;
   summary.full_lists_note = full_lists_note(
@@ -437,6 +470,8 @@ int run_analyze(const MoleculeArguments& arguments, const FamilyArguments& famil
     }
   }
 
+  cli::IntensityOutcome intensities;
+  add_intensities(arguments, analysed, results.anharmonic, intensities, results);
   const OutputFolderResult written = write_output_folder(out_directory, analysis_files(results));
   TextReportOptions summary;
   summary.full_lists_note =
@@ -709,6 +744,39 @@ std::string usage_error_line(const CLI::ParseError& error) {
   return "overtone: error: " + printable_text(message) + " (see overtone --help)";
 }
 
+// `screen-report` and its options.
+CLI::App* add_screen_report_command(CLI::App& app, ScreenReportArguments& report_arguments) {
+  CLI::App* screen_report_command = app.add_subcommand(
+      "screen-report", "per molecule, the flagged resonances of a store in a window, and the failures");
+  screen_report_command->add_option("STORE", report_arguments.store, "the SQLite store of a screen")
+      ->required();
+  screen_report_command->add_option("--window", report_arguments.window,
+                                    "A:B: only resonances whose upper level lies between A and B cm-1");
+  screen_report_command->add_option(
+      "--min-criterion", report_arguments.min_criterion,
+      "list every candidate whose criterion value reaches C (cm-1), flagged or not");
+  screen_report_command->add_option("--csv", report_arguments.csv_path,
+                                    "write the listed resonances (or with --table, the table) as CSV to PATH "
+                                    "('-' for standard output)");
+  screen_report_command->add_option("--run", report_arguments.run_id,
+                                    "only this run of the store (its run_id)");
+  screen_report_command->add_option("--table", report_arguments.table,
+                                    "export this table as CSV instead: runs, molecules, results, modes, "
+                                    "resonances, levels, families, failures");
+  return screen_report_command;
+}
+
+// CLI11 calls an unknown command word "a subcommand is required"; say what it was.
+bool unknown_command(CLI::App& app, int argc, char** argv) {
+  if (argc <= 1 || argv[1][0] == '-') return false;
+  for (const CLI::App* command : app.get_subcommands([](CLI::App*) { return true; }))
+    if (command->check_name(argv[1])) return false;
+  std::cerr << "overtone: error: unknown command '" << printable_text(argv[1])
+            << "' (commands: modes, analyze, anharmonic, families, symmetry, screen, screen-report, "
+               "merge-stores, spectrum, assign; see overtone --help)\n";
+  return true;
+}
+
 }  // namespace
 
 int main(int argc, char** argv) {
@@ -786,23 +854,7 @@ int main(int argc, char** argv) {
   add_screen_arguments(*screen, screen_arguments);
 
   ScreenReportArguments report_arguments;
-  CLI::App* screen_report_command = app.add_subcommand(
-      "screen-report", "per molecule, the flagged resonances of a store in a window, and the failures");
-  screen_report_command->add_option("STORE", report_arguments.store, "the SQLite store of a screen")
-      ->required();
-  screen_report_command->add_option("--window", report_arguments.window,
-                                    "A:B: only resonances whose upper level lies between A and B cm-1");
-  screen_report_command->add_option(
-      "--min-criterion", report_arguments.min_criterion,
-      "list every candidate whose criterion value reaches C (cm-1), flagged or not");
-  screen_report_command->add_option("--csv", report_arguments.csv_path,
-                                    "write the listed resonances (or with --table, the table) as CSV to PATH "
-                                    "('-' for standard output)");
-  screen_report_command->add_option("--run", report_arguments.run_id,
-                                    "only this run of the store (its run_id)");
-  screen_report_command->add_option("--table", report_arguments.table,
-                                    "export this table as CSV instead: runs, molecules, results, modes, "
-                                    "resonances, levels, families, failures");
+  CLI::App* screen_report_command = add_screen_report_command(app, report_arguments);
 
   std::string merge_output;
   std::vector<std::string> merge_inputs;
@@ -812,20 +864,12 @@ int main(int argc, char** argv) {
   merge->add_option("OUT", merge_output, "the store to merge into (created when missing)")->required();
   merge->add_option("IN", merge_inputs, "stores to merge")->required();
 
-  // CLI11 calls an unknown command word "a subcommand is required"; say what it was.
-  const auto is_command = [&](const std::string& word) {
-    for (const CLI::App* command :
-         {modes, analyze, anharmonic, families, symmetry, screen, screen_report_command, merge})
-      if (command->check_name(word)) return true;
-    return false;
-  };
-  if (argc > 1 && argv[1][0] != '-' && !is_command(argv[1])) {
-    std::cerr << "overtone: error: unknown command '" << printable_text(argv[1])
-              << "' (commands: modes, analyze, anharmonic, families, symmetry, screen, screen-report, "
-                 "merge-stores; see "
-                 "overtone --help)\n";
-    return user_error_status;
-  }
+  cli::SpectrumArguments spectrum_arguments;
+  CLI::App* spectrum = cli::add_spectrum_command(app, spectrum_arguments);
+  cli::AssignArguments assign_arguments;
+  CLI::App* assign = cli::add_assign_command(app, assign_arguments);
+
+  if (unknown_command(app, argc, argv)) return user_error_status;
   try {
     app.parse(argc, argv);
   } catch (const CLI::Success& success) {
@@ -847,6 +891,8 @@ int main(int argc, char** argv) {
     if (*screen) return run_screen_command(screen_arguments);
     if (*screen_report_command) return run_screen_report(report_arguments);
     if (*merge) return run_merge_stores(merge_output, merge_inputs);
+    if (*spectrum) return cli::run_spectrum(spectrum_arguments);
+    if (*assign) return cli::run_assign(assign_arguments);
   } catch (const overtone::Error& error) {
     progress_display().clear();
     std::cerr << "overtone: error: " << printable_text(error.what()) << "\n";

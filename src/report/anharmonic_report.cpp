@@ -391,6 +391,20 @@ std::string resonance_label(const Resonance& r, const std::vector<int>& set_numb
   return "";
 }
 
+namespace {
+
+// The two intensity columns of one level (empty where unknown), then the line end.
+std::string intensity_columns(const LevelIntensityResult* intensities, int index) {
+  auto cell = [&](const std::vector<std::optional<double>>& values) {
+    const auto& value = intensities ? values[static_cast<std::size_t>(index)] : std::optional<double>();
+    return value ? fmt::format("{:.6g}", *value) : std::string();
+  };
+  if (!intensities) return ",\n";
+  return cell(intensities->ir_km_per_mol) + "," + cell(intensities->raman_activity_a4_per_u) + "\n";
+}
+
+}  // namespace
+
 std::string line_list_csv(const Vpt2Result& vpt2, const AnharmonicReportOptions& options) {
   const std::vector<int> numbers = numbers_for(vpt2, options);
   // Quanta columns in mode-number order.
@@ -399,7 +413,8 @@ std::string line_list_csv(const Vpt2Result& vpt2, const AnharmonicReportOptions&
     set_by_number[static_cast<std::size_t>(numbers[s] - 1)] = static_cast<int>(s);
   std::string out =
       "label,kind,quanta,sublevel,degeneracy,species,ir_active,raman_active,harmonic_cm1,anharmonic_cm1,"
-      "resonance_corrected_cm1,best_estimate_cm1,polyad,partners,mixing\n";
+      "resonance_corrected_cm1,best_estimate_cm1,polyad,partners,mixing,ir_intensity_km_per_mol,"
+      "raman_activity_a4_per_u\n";
   for (int index : levels_by_position(vpt2)) {
     const VibrationalLevel& level = vpt2.levels[static_cast<std::size_t>(index)];
     std::string quanta;
@@ -416,6 +431,8 @@ std::string line_list_csv(const Vpt2Result& vpt2, const AnharmonicReportOptions&
         best_position(level), level.in_polyad() ? std::to_string(level.polyad + 1) : std::string(),
         csv_field(partners_text(vpt2, level, numbers, options.ascii)),
         csv_field(mixing_text(level, numbers, options.ascii)));
+    out.back() = ',';  // the intensity columns follow on the same row
+    out += intensity_columns(options.intensities, index);
   }
   return out;
 }

@@ -10,6 +10,7 @@
 
 #include "anharmonic/force_constants.hpp"
 #include "anharmonic/vpt2.hpp"
+#include "intensity/level_intensities.hpp"
 #include "pipeline/mode_numbering.hpp"
 
 namespace overtone {
@@ -27,6 +28,9 @@ struct AnharmonicReportOptions {
   // Where the full matrices and lists were written (summary only), e.g. "report.txt (full
   // text), analysis.json, lines.csv in overtone-out"; empty: the report says how to get them.
   std::string full_lists_note;
+  // Line-list intensities (per Vpt2Result level) for the CSV's intensity columns; null:
+  // the columns stay empty.
+  const LevelIntensityResult* intensities = nullptr;
 };
 
 // "ν1", "2ν2", "ν1+ν3" (numbers in ascending order); ASCII uses "v".

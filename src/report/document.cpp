@@ -12,6 +12,7 @@
 #include "report/families_json.hpp"
 #include "report/families_report.hpp"
 #include "report/harmonic_report.hpp"
+#include "report/intensity_json.hpp"
 
 namespace overtone {
 
@@ -44,9 +45,11 @@ const AnalysisResult& analysis_of(const RunResults& results) {
   return *results.analysis;
 }
 
-AnharmonicReportOptions anharmonic_options(const AnharmonicResult& anharmonic) {
+AnharmonicReportOptions anharmonic_options(const AnharmonicResult& anharmonic,
+                                           const IntensityResults* intensities = nullptr) {
   AnharmonicReportOptions options;
   options.set_numbers = anharmonic.set_numbers;
+  if (intensities && intensities->levels) options.intensities = &*intensities->levels;
   return options;
 }
 
@@ -123,6 +126,8 @@ nlohmann::json analysis_document(const RunResults& results) {
   if (results.anharmonic && results.families)
     merge_sections(document, resonance_cross_check_to_json(
                                  cross_check_resonances(analysis, *results.anharmonic, *results.families)));
+  if (results.intensities || !results.intensities_skipped.empty())
+    add_intensity_fields(document, analysis, results.intensities, results.intensities_skipped);
   make_strings_valid(document);
   return document;
 }
@@ -181,7 +186,8 @@ std::vector<OutputFile> analysis_files(const RunResults& results) {
   files.push_back({"modes.csv", modes_csv(analysis)});
   if (results.anharmonic)
     files.push_back(
-        {"lines.csv", line_list_csv(results.anharmonic->vpt2, anharmonic_options(*results.anharmonic))});
+        {"lines.csv", line_list_csv(results.anharmonic->vpt2,
+                                    anharmonic_options(*results.anharmonic, results.intensities))});
   if (results.families)
     for (OutputFile& file : family_backbone_files(analysis, *results.families, "families"))
       files.push_back(std::move(file));

@@ -14,6 +14,7 @@
 
 #include "pipeline/analysis.hpp"
 #include "report/anharmonic_report.hpp"
+#include "pipeline/intensities.hpp"
 #include "report/output_folder.hpp"
 
 namespace overtone {
@@ -26,6 +27,10 @@ struct RunResults {
   std::string anharmonic_skipped;
   const FamiliesResult* families = nullptr;
   std::string families_skipped;
+  // Intensities (src/pipeline/intensities.hpp); null with a reason, or null and empty when
+  // not requested (then the document has no intensity fields).
+  const IntensityResults* intensities = nullptr;
+  std::string intensities_skipped;
 };
 
 // Top-level key resonance_cross_check: one entry per Fermi 1:2 pair listed by either

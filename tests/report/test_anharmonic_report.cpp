@@ -32,7 +32,8 @@ TEST(AnharmonicReport, LineListHasOneRowPerLevelWithDocumentedColumns) {
   EXPECT_EQ(
       header,
       "label,kind,quanta,sublevel,degeneracy,species,ir_active,raman_active,harmonic_cm1,anharmonic_cm1,"
-      "resonance_corrected_cm1,best_estimate_cm1,polyad,partners,mixing");
+      "resonance_corrected_cm1,best_estimate_cm1,polyad,partners,mixing,ir_intensity_km_per_mol,"
+      "raman_activity_a4_per_u");
   std::size_t rows = 0;
   bool saw_dyad_row = false;
   for (std::string line; std::getline(lines, line);) {
