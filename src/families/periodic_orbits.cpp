@@ -5,6 +5,7 @@
 #include <algorithm>
 #include <chrono>
 #include <cmath>
+#include <memory>
 #include <numeric>
 #include <optional>
 
@@ -49,6 +50,8 @@ void validate(const ContinuationOptions& o) {
           "in (0, 1e-2)");
   require(o.closure_tolerance >= 10.0 * o.integration_tolerance, "closure_tolerance", o.closure_tolerance,
           "at least 10 times integration_tolerance (Newton cannot beat the integrator)");
+  require(o.newton_tolerance_max >= o.integration_tolerance && o.newton_tolerance_max <= 1e-6,
+          "newton_tolerance_max", o.newton_tolerance_max, "between integration_tolerance and 1e-6");
   require(o.max_newton_iterations >= 2, "max_newton_iterations", o.max_newton_iterations, "at least 2");
   require(o.min_step > 0.0, "min_step", o.min_step, "positive");
   require(o.initial_step >= o.min_step && o.initial_step <= o.max_step, "initial_step", o.initial_step,
@@ -91,6 +94,9 @@ struct CorrectorSetup {
   Eigen::VectorXd phase_direction;  // unit, 2m
   Eigen::VectorXd tangent;          // scaled (â, b̂, τ, Ê): arclength mode only
   Eigen::VectorXd predicted;
+  // Integrate the last (full-accuracy) iteration over the whole period with samples, so
+  // that a converged orbit comes with its verification pass.
+  bool verify = false;
 };
 
 struct CorrectorOutcome {
@@ -102,6 +108,9 @@ struct CorrectorOutcome {
   int iterations = 0;
   int variational_integrations = 0;
   int orbit_integrations = 0;
+  // setup.verify: the converged iteration's whole-period sampled integration and its scaling.
+  std::shared_ptr<const detail::IntegrationOutcome> verification;
+  detail::OrbitScaling verification_scaling;
 };
 
 // Everything that is computed once per accepted point beyond the corrector.
@@ -226,7 +235,17 @@ class FamilySolver {
   // integration fails.
   bool accept(const CorrectorOutcome& corrected, const PointCost& cost, ContinuationResult& result);
   CorrectorOutcome correct(const Unknowns& guess, const CorrectorSetup& setup);
-  bool analyze_point(const Unknowns& u, OrbitPoint& point, PointAnalysis& analysis);
+  // How accurately a corrector iteration integrates, from the residual expected there.
+  struct IterationPlan {
+    double tolerance = 0.0;  // of the orbit integration
+    bool accurate = false;   // at integration_tolerance: convergence may be declared
+    bool verifying = false;  // the whole period with samples (the verification pass)
+  };
+  IterationPlan plan_iteration(bool fresh, double expected_norm, bool verify) const;
+  static double expected_next_norm(double norm, double previous_norm);
+  // `verified`: the corrector's whole-period sampled run of this orbit, if it made one.
+  bool analyze_point(const Unknowns& u, const CorrectorOutcome& verified, OrbitPoint& point,
+                     PointAnalysis& analysis);
   Eigen::VectorXd tangent_at(const Unknowns& u, const Eigen::MatrixXd& reduced_transition, double length,
                              double time_scale) const;
   // The period enters the unknowns relative to the current one, so that an arclength
@@ -353,6 +372,36 @@ double FamilySolver::total_energy(const Eigen::VectorXd& y, double length) const
   return 0.5 * p.squaredNorm() + system_.potential(integrator_->positions(y, scaling));
 }
 
+FamilySolver::IterationPlan FamilySolver::plan_iteration(bool fresh, double expected_norm, bool verify) const {
+  IterationPlan plan;
+  const double full = options_.integration_tolerance;
+  if (fresh) {  // variational integrations run at their own tolerance
+    plan.accurate = options_.variational_tolerance <= full;
+    return plan;
+  }
+  // The residual is measured to about a tenth of itself when each step errs by a
+  // thousandth of it (a period takes tens of steps).
+  constexpr double tolerance_per_residual = 1e-3;
+  const bool final_expected = expected_norm >= 0.0 && expected_norm < options_.closure_tolerance;
+  plan.tolerance = expected_norm < 0.0 ? options_.newton_tolerance_max
+                                       : std::clamp(tolerance_per_residual * expected_norm, full,
+                                                    options_.newton_tolerance_max);
+  if (final_expected) plan.tolerance = full;
+  plan.accurate = plan.tolerance <= full;
+  plan.verifying = verify && final_expected;
+  return plan;
+}
+
+// Chord and Broyden steps converge about linearly at the rate last seen (a tenth when
+// unknown); a residual already below the target needs only the accurate confirmation.
+double FamilySolver::expected_next_norm(double norm, double previous_norm) {
+  constexpr double assumed_rate = 0.1;
+  const double rate = std::isfinite(previous_norm) && previous_norm > 0.0
+                          ? std::min(1.0, norm / previous_norm)
+                          : assumed_rate;
+  return norm * rate;
+}
+
 CorrectorOutcome FamilySolver::correct(const Unknowns& guess, const CorrectorSetup& setup) {
   CorrectorOutcome outcome;
   const double length = setup.length;
@@ -368,6 +417,7 @@ CorrectorOutcome FamilySolver::correct(const Unknowns& guess, const CorrectorSet
 
   bool fresh = !have_hint_;
   double previous_norm = std::numeric_limits<double>::infinity();
+  double expected_norm = -1.0;  // residual expected at this iteration; negative: unknown
   Eigen::VectorXd residual(equations);
   Eigen::MatrixXd jacobian(equations, unknowns);
   Eigen::VectorXd gradient;
@@ -385,12 +435,23 @@ CorrectorOutcome FamilySolver::correct(const Unknowns& guess, const CorrectorSet
       return outcome;
     }
     const Eigen::VectorXd y0 = u.head(2 * m_);
+    const IterationPlan plan = plan_iteration(fresh, expected_norm, setup.verify);
     detail::IntegrationRequest request;
     request.scaled_state = y0;
-    request.duration = period / r_;
+    request.duration = plan.verifying ? period : period / r_;
     request.variational_basis = fresh ? &basis_ : nullptr;
+    request.tolerance = plan.tolerance;
+    if (plan.verifying) {
+      request.sample_count = sample_count_;
+      if (r_ > 1) request.checkpoint = period / r_;
+    }
     integrator_->set_full_period(period);
-    const detail::IntegrationOutcome run = integrator_->integrate(request, scaling);
+    const auto shared_run = std::make_shared<detail::IntegrationOutcome>(integrator_->integrate(request, scaling));
+    const detail::IntegrationOutcome& run = *shared_run;
+    const bool checkpointed = plan.verifying && r_ > 1;
+    const Eigen::VectorXd& end_state = checkpointed ? run.checkpoint_state : run.scaled_state;
+    const double square_integral =
+        checkpointed ? run.checkpoint_momentum_square_integral : run.momentum_square_integral;
     ++outcome.iterations;
     if (fresh)
       ++outcome.variational_integrations;
@@ -406,7 +467,7 @@ CorrectorOutcome FamilySolver::correct(const Unknowns& guess, const CorrectorSet
       hint_ = run.transition;
       have_hint_ = true;
     }
-    const Eigen::VectorXd shooting = run.scaled_state - shift_phase_ * y0;
+    const Eigen::VectorXd shooting = end_state - shift_phase_ * y0;
     if (!fresh && have_previous_step) {
       const Eigen::VectorXd state_step = previous_step.head(2 * m_);
       const double step_norm2 = state_step.squaredNorm();
@@ -426,17 +487,23 @@ CorrectorOutcome FamilySolver::correct(const Unknowns& guess, const CorrectorSet
       outcome.failure = "the shooting residual became non-finite";
       return outcome;
     }
-    if (norm < options_.closure_tolerance) {
+    if (norm < options_.closure_tolerance && plan.accurate) {
       outcome.converged = true;
       outcome.solution = unscaled(y0, period, energy, length);
-      outcome.action = r_ * run.momentum_square_integral / (2.0 * units::pi);
+      outcome.action = r_ * square_integral / (2.0 * units::pi);
+      if (plan.verifying) {
+        outcome.verification = shared_run;
+        outcome.verification_scaling = scaling;
+      }
       return outcome;
     }
+    expected_norm = expected_next_norm(norm, fresh ? std::numeric_limits<double>::infinity() : previous_norm);
     if (!fresh && iteration > 0 && norm > 0.25 * previous_norm) {
       // Chord steps stall: refresh the Jacobian at the current iterate.
       fresh = true;
       have_previous_step = false;
       previous_norm = std::numeric_limits<double>::infinity();
+      expected_norm = norm;
       continue;
     }
     if (iteration > 1 && norm > 2.0 * previous_norm) {
@@ -578,19 +645,24 @@ void FamilySolver::classify_multipliers(const Eigen::MatrixXd& monodromy, const 
   point.stable = point.unstable_count == 0;
 }
 
-bool FamilySolver::analyze_point(const Unknowns& u, OrbitPoint& point, PointAnalysis& analysis) {
-  const double length = length_for(u.energy);
+bool FamilySolver::analyze_point(const Unknowns& u, const CorrectorOutcome& verified, OrbitPoint& point,
+                                 PointAnalysis& analysis) {
+  const double length = verified.verification ? verified.verification_scaling.length : length_for(u.energy);
   const detail::OrbitScaling scaling{length, omega_};
   const Eigen::VectorXd y0 = scaled_state(u, length);
   integrator_->set_full_period(u.period);
 
-  // Whole period with samples.
-  detail::IntegrationRequest sampled;
-  sampled.scaled_state = y0;
-  sampled.duration = u.period;
-  sampled.sample_count = sample_count_;
-  const detail::IntegrationOutcome run = integrator_->integrate(sampled, scaling);
-  ++point.orbit_integrations;
+  // Whole period with samples, unless the corrector's last iteration was that integration.
+  std::shared_ptr<const detail::IntegrationOutcome> verification = verified.verification;
+  if (!verification) {
+    detail::IntegrationRequest sampled;
+    sampled.scaled_state = y0;
+    sampled.duration = u.period;
+    sampled.sample_count = sample_count_;
+    verification = std::make_shared<detail::IntegrationOutcome>(integrator_->integrate(sampled, scaling));
+    ++point.orbit_integrations;
+  }
+  const detail::IntegrationOutcome& run = *verification;
   if (!run.ok) {
     analysis.ok = false;
     analysis.failure = run.failure;
@@ -741,6 +813,7 @@ CorrectorSetup FamilySolver::fixed_energy_setup(const Unknowns& reference, doubl
   setup.phase_reference = scaled_state(reference, setup.length);
   setup.phase_direction =
       integrator_->scaled_velocity(setup.phase_reference, {setup.length, omega_}).normalized();
+  setup.verify = true;  // the start and the point at energy_max are accepted points
   return setup;
 }
 
@@ -753,7 +826,7 @@ bool FamilySolver::accept(const CorrectorOutcome& corrected, const PointCost& co
   point.variational_integrations = cost.variational;
   point.orbit_integrations = cost.orbits;
   PointAnalysis analysis;
-  if (!analyze_point(corrected.solution, point, analysis)) {
+  if (!analyze_point(corrected.solution, corrected, point, analysis)) {
     last_integration_failure_ = analysis.failure;
     return false;
   }
@@ -788,6 +861,7 @@ bool FamilySolver::accept(const CorrectorOutcome& corrected, const PointCost& co
   accepted_.push_back(corrected.solution);
   accepted_transitions_.push_back(analysis.reduced_transition);
   accepted_actions_.push_back(corrected.action);
+  if (options_.on_point) options_.on_point(result.points.back().energy);
   return true;
 }
 
@@ -884,6 +958,7 @@ CorrectorOutcome FamilySolver::continuation_step(double step, double& trial_step
   setup.target_energy = energy_max;
   setup.tangent = tangent_;
   setup.predicted = predicted;
+  setup.verify = true;
   if (final_step) guess.energy = energy_max;
   return correct(guess, setup);
 }

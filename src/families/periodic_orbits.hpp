@@ -27,6 +27,7 @@
 #include <Eigen/Dense>
 #include <complex>
 #include <cstddef>
+#include <functional>
 #include <limits>
 #include <string>
 #include <vector>
@@ -78,6 +79,12 @@ struct ContinuationOptions {
   // momenta divided by the amplitude and ω·amplitude) and the energy residual divided by
   // the harmonic energy scale ω²·amplitude² are below this. Dimensionless.
   double closure_tolerance = 1e-9;
+  // Newton iterations far from convergence integrate with a looser tolerance: a thousandth
+  // of the residual expected at that iteration, between integration_tolerance and this.
+  // Convergence is only declared on an integration at integration_tolerance, which at
+  // continuation points is also the whole-period verification pass (closure, drift,
+  // samples). Equal to integration_tolerance: every iteration at full accuracy.
+  double newton_tolerance_max = 1e-8;
   int max_newton_iterations = 10;  // per corrector, counting chord steps
   // Pseudo-arclength step in the scaled unknowns (≈ relative change of the orbit).
   double initial_step = 0.1;
@@ -121,6 +128,9 @@ struct ContinuationOptions {
   // Newton in energy until |J − (n+½)ħ| < ladder_tolerance · ħ (dimensionless); 0 turns
   // refinement off (Hermite interpolation only).
   double ladder_tolerance = 1e-9;
+  // Told the energy (system units) of every accepted point, on the thread running the
+  // continuation; must not throw. Empty: nobody listens.
+  std::function<void(double energy)> on_point;
 };
 
 // Validates every field; throws Error naming the field, its value and the constraint.
