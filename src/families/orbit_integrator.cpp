@@ -206,7 +206,9 @@ IntegrationOutcome OrbitIntegrator::integrate(const IntegrationRequest& request,
   bool checkpoint_reached = !checkpointing;
   while (ok && duration - t > finish_slack) {
     const double stop = checkpoint_reached ? duration : request.checkpoint;
-    double trial = std::min(dt, stop - t);
+    // Two even steps instead of a full one and a sliver: the samples are interpolated
+    // between step ends, which nearly coincident ends would make ill-conditioned.
+    double trial = stop - t <= dt ? stop - t : (stop - t < 1.5 * dt ? 0.5 * (stop - t) : dt);
     const bool clipped = trial < dt;
     odeint::controlled_step_result step_result = odeint::fail;
     try {

@@ -217,6 +217,7 @@ void run_case(const Case& c, int threads) {
   int points = 0, iterations = 0, variational = 0, orbits = 0;
   double point_s = 0.0, reference_weighted = 0.0, ladder_s = 0.0, references_s = 0.0;
   std::size_t gradients = 0, hessians = 0, products = 0;
+  double worst_closure = 0.0, worst_drift = 0.0, worst_symmetry = 0.0;
   for (std::size_t i = 0; i < result.families.size(); ++i) {
     FamilyResult& family = result.families[i];
     const int block = family.type.block;
@@ -265,6 +266,11 @@ void run_case(const Case& c, int threads) {
     gradients += b.gradient_evaluations;
     hessians += b.hessian_evaluations;
     products += b.hessian_vector_products;
+    for (const OrbitPoint& point : b.points) {
+      worst_closure = std::max(worst_closure, point.closure_error);
+      worst_drift = std::max(worst_drift, point.energy_drift);
+      worst_symmetry = std::max(worst_symmetry, point.symmetry_residual);
+    }
   }
   const double families_s = seconds_since(start);
   const double families_cpu_s = process_cpu_seconds() - cpu_start;
@@ -288,6 +294,9 @@ void run_case(const Case& c, int threads) {
       families_s, families_cpu_s, references_s, point_s, ladder_s, counts.gradients - counts_before.gradients,
       counts.hessians - counts_before.hessians,
       counts.hessian_vector_products - counts_before.hessian_vector_products));
+  print_line(fmt::format("    checks, largest over all points: closure error {:.2g}, energy drift {:.2g}, symmetry "
+                         "residual {:.2g}",
+                         worst_closure, worst_drift, worst_symmetry));
   for (const std::string& warning : result.warnings) print_line("    warning: " + warning);
 
   if (threads <= 1) return;
