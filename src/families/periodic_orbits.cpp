@@ -58,6 +58,10 @@ void validate(const ContinuationOptions& o) {
           "between min_step and max_step");
   require(o.max_energy_step_fraction > 0.0 && o.max_energy_step_fraction <= 1.0, "max_energy_step_fraction",
           o.max_energy_step_fraction, "in (0, 1]");
+  require(o.straight_energy_step_fraction > 0.0 && o.straight_energy_step_fraction <= 1.0,
+          "straight_energy_step_fraction", o.straight_energy_step_fraction, "in (0, 1]");
+  require(o.backbone_tolerance > 0.0 && o.backbone_tolerance < 0.1, "backbone_tolerance", o.backbone_tolerance,
+          "in (0, 0.1)");
   require(o.max_points >= 2, "max_points", o.max_points, "at least 2");
   require(o.variational_nodes_per_period >= 0, "variational_nodes_per_period", o.variational_nodes_per_period,
           "non-negative");
@@ -116,6 +120,8 @@ struct CorrectorOutcome {
 // Everything that is computed once per accepted point beyond the corrector.
 struct PointAnalysis {
   Eigen::MatrixXd reduced_transition;  // Φ̂ on F × F over T/r
+  // Smallest distance of a non-neutral multiplier from ±1 (∞ without them).
+  double collision_distance = std::numeric_limits<double>::infinity();
   bool ok = true;
   std::string failure;
 };
@@ -203,6 +209,16 @@ Eigen::MatrixXd phase_space_block(const Eigen::MatrixXd& m) {
   return block;
 }
 
+// Where a stability event can happen: period doubling and branch points need a
+// non-neutral multiplier at −1 or +1, a real pair that returns to the unit circle meets
+// there too. (Collisions elsewhere on the circle, between multipliers of many modes, are
+// too common in a molecule to steer the step; they are still detected between points.)
+double collision_distance(const std::vector<std::complex<double>>& multipliers) {
+  double distance = std::numeric_limits<double>::infinity();
+  for (const auto& mu : multipliers) distance = std::min({distance, std::abs(mu - 1.0), std::abs(mu + 1.0)});
+  return distance;
+}
+
 class FamilySolver {
  public:
   FamilySolver(const VibrationalSystem& system, const FamilySeed& seed, const ContinuationOptions& options);
@@ -252,8 +268,12 @@ class FamilySolver {
   // step changes it by a bounded fraction even where it diverges (near a separatrix).
   static double time_scale_for(double period) { return period / (2.0 * units::pi); }
   // monodromy in scaled coordinates at the orbit's initial state (q, p).
-  void classify_multipliers(const Eigen::MatrixXd& monodromy, const Eigen::VectorXd& q,
-                            const Eigen::VectorXd& p, double length, OrbitPoint& point) const;
+  // Returns the collision distance of the non-neutral multipliers (see PointAnalysis).
+  double classify_multipliers(const Eigen::MatrixXd& monodromy, const Eigen::VectorXd& q,
+                              const Eigen::VectorXd& p, double length, OrbitPoint& point) const;
+  // The energy step allowed from the last accepted point (step control by curvature and
+  // nearby events, ContinuationOptions::straight_energy_step_fraction).
+  double energy_step_cap() const;
   void detect_events(ContinuationResult& result) const;
   void build_ladder(ContinuationResult& result);
   void fill_converted(OrbitPoint& point) const;
@@ -279,6 +299,10 @@ class FamilySolver {
   std::vector<Unknowns> accepted_;  // parallel to result points
   std::vector<Eigen::MatrixXd> accepted_transitions_;
   std::vector<double> accepted_actions_;
+  struct StepMemory {
+    double energy, angular_frequency, collision_distance;
+  };
+  std::vector<StepMemory> recent_;  // the last three accepted points, oldest first
   std::string last_integration_failure_;
   Eigen::VectorXd tangent_;  // unit tangent at the last accepted point, scaled (â, b̂, τ, Ê)
   double tangent_length_ = 1.0;
@@ -504,7 +528,10 @@ CorrectorOutcome FamilySolver::correct(const Unknowns& guess, const CorrectorSet
     const bool within_noise = previous_tolerance > options_.integration_tolerance &&
                               norm < options_.closure_tolerance + 1e2 * previous_tolerance;
     previous_tolerance = plan.tolerance;
-    if (!fresh && iteration > 0 && norm > 0.25 * previous_norm && !within_noise) {
+    // Broyden steps still gain at this rate; a fresh Jacobian (variational equations with
+    // Hessians) costs as much as several orbit integrations.
+    constexpr double stall_ratio = 0.25;
+    if (!fresh && iteration > 0 && norm > stall_ratio * previous_norm && !within_noise) {
       // Chord steps stall: refresh the Jacobian at the current iterate.
       fresh = true;
       have_previous_step = false;
@@ -564,8 +591,8 @@ Eigen::VectorXd FamilySolver::tangent_at(const Unknowns& point, const Eigen::Mat
   return svd.matrixV().col(2 * m_ + 1);
 }
 
-void FamilySolver::classify_multipliers(const Eigen::MatrixXd& monodromy, const Eigen::VectorXd& q,
-                                        const Eigen::VectorXd& p, double length, OrbitPoint& point) const {
+double FamilySolver::classify_multipliers(const Eigen::MatrixXd& monodromy, const Eigen::VectorXd& q,
+                                          const Eigen::VectorXd& p, double length, OrbitPoint& point) const {
   // The neutral multipliers at +1 form Jordan blocks that round-off splits by
   // ~sqrt(ε); they are removed exactly instead. In scaled phase-space coordinates
   // (q/ℓ, p/(ω₀ℓ)), with H and each conserved momentum L = pᵀGq of a continuous
@@ -649,6 +676,7 @@ void FamilySolver::classify_multipliers(const Eigen::MatrixXd& monodromy, const 
     }
   }
   point.stable = point.unstable_count == 0;
+  return collision_distance(free_multipliers);
 }
 
 bool FamilySolver::analyze_point(const Unknowns& u, const CorrectorOutcome& verified, OrbitPoint& point,
@@ -764,7 +792,7 @@ bool FamilySolver::analyze_point(const Unknowns& u, const CorrectorOutcome& veri
       Eigen::MatrixXd monodromy = Eigen::MatrixXd::Identity(2 * n_, 2 * n_);
       for (int k = 0; k < r_; ++k) monodromy = shift * monodromy * step;
       // monodromy = D^r (D⁻¹Φ)^r, built as D(D(…)(D⁻¹Φ))(D⁻¹Φ); equal because products associate.
-      classify_multipliers(monodromy, q[0], p[0], length, point);
+      analysis.collision_distance = classify_multipliers(monodromy, q[0], p[0], length, point);
     }
   } else {
     analysis.reduced_transition = transition;
@@ -863,10 +891,13 @@ bool FamilySolver::accept(const CorrectorOutcome& corrected, const PointCost& co
   point.hessian_vector_products = used.hessian_vector_products;
   point.seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - cost.started).count();
   fill_converted(point);
+  const double point_energy = point.energy, point_frequency = point.angular_frequency;
   result.points.push_back(std::move(point));
   accepted_.push_back(corrected.solution);
   accepted_transitions_.push_back(analysis.reduced_transition);
   accepted_actions_.push_back(corrected.action);
+  recent_.push_back({point_energy, point_frequency, analysis.collision_distance});
+  if (recent_.size() > 3) recent_.erase(recent_.begin());
   if (options_.on_point) options_.on_point(result.points.back().energy);
   return true;
 }
@@ -941,8 +972,7 @@ CorrectorOutcome FamilySolver::continuation_step(double step, double& trial_step
   const double time_scale = tangent_time_scale_;
   const double scale = energy_scale(length);
   const double energy_rate = tangent_(2 * m_ + 1) * scale;  // dE per unit step
-  // Resolution of the backbone: cap the energy change per step.
-  const double energy_cap = options_.max_energy_step_fraction * energy_max;
+  const double energy_cap = energy_step_cap();
   trial_step = step;
   if (std::abs(energy_rate) * trial_step > energy_cap) trial_step = energy_cap / std::abs(energy_rate);
   final_step = energy_rate > 0.0 && current.energy + energy_rate * trial_step >= energy_max;
@@ -967,6 +997,35 @@ CorrectorOutcome FamilySolver::continuation_step(double step, double& trial_step
   setup.verify = true;
   if (final_step) guess.energy = energy_max;
   return correct(guess, setup);
+}
+
+double FamilySolver::energy_step_cap() const {
+  const double energy_max = options_.energy_max;
+  const double resolution = options_.max_energy_step_fraction * energy_max;
+  double cap = options_.straight_energy_step_fraction * energy_max;
+  if (recent_.size() < 3 || cap <= resolution) return resolution;
+  const StepMemory& a = recent_[0];
+  const StepMemory& b = recent_[1];
+  const StepMemory& c = recent_[2];
+  if (!(a.energy < b.energy && b.energy < c.energy)) return resolution;  // near a fold
+  // Curvature: the chord between points errs by ΔE²·|ω''|/8 at its middle.
+  const double second_derivative = 2.0 *
+                                   ((c.angular_frequency - b.angular_frequency) / (c.energy - b.energy) -
+                                    (b.angular_frequency - a.angular_frequency) / (b.energy - a.energy)) /
+                                   (c.energy - a.energy);
+  if (second_derivative != 0.0)
+    cap = std::min(cap, std::sqrt(8.0 * options_.backbone_tolerance * c.angular_frequency /
+                                  std::abs(second_derivative)));
+  // Events: where two multipliers approach each other, at most half the way to their
+  // meeting at the current rate; close to a meeting, the resolution.
+  if (std::isfinite(c.collision_distance)) {
+    constexpr double near_distance = 0.05;  // multipliers this close may meet within a step
+    if (c.collision_distance < near_distance) return resolution;
+    const double closing_rate = (b.collision_distance - c.collision_distance) / (c.energy - b.energy);
+    if (std::isfinite(closing_rate) && closing_rate > 0.0)
+      cap = std::min(cap, 0.5 * c.collision_distance / closing_rate);
+  }
+  return std::max(resolution, cap);
 }
 
 // Why the family stops after a corrector failure at the smallest step.

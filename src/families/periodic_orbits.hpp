@@ -90,9 +90,16 @@ struct ContinuationOptions {
   double initial_step = 0.1;
   double min_step = 1e-5;
   double max_step = 0.5;
-  // Largest energy increase per step as a fraction of energy_max (sets the resolution of
-  // the backbone curve).
+  // Largest energy increase per step as a fraction of energy_max where the backbone bends
+  // or a stability event is near (the resolution of the backbone curve there).
   double max_energy_step_fraction = 0.05;
+  // Where the backbone is straight and no event is near, steps may grow up to this
+  // fraction of energy_max: the frequency, linearly interpolated between neighbouring
+  // points, stays within backbone_tolerance (relative) of the curve through the last
+  // three points, and no non-neutral Floquet multiplier is near ±1 or on course to reach
+  // it within the step. At most max_energy_step_fraction: fixed steps.
+  double straight_energy_step_fraction = 0.25;
+  double backbone_tolerance = 1e-4;
   int max_points = 400;  // accepted points per family
   // Samples per period for amplitude, energy drift and trajectory symmetry checks
   // (rounded up to a multiple of every time-shift denominator).
