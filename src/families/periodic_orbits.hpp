@@ -14,13 +14,18 @@
 //        φ_{T/r}(y₀) = D(g) y₀        (y = (q, p), both in F).
 //  * Newton–Gauss on the consistent over-determined system {shooting equation, energy
 //    equation H(y₀) = E, phase condition ⟨y₀ − y_ref, ẏ_ref⟩ = 0}; the Jacobian of the
-//    last accepted point is reused (chord steps) and refreshed when convergence slows.
+//    last accepted point is reused with Broyden updates and refreshed when convergence
+//    stalls. Iterations integrate with a tolerance matched to the residual expected
+//    (newton_tolerance_max down to integration_tolerance); convergence is declared only on
+//    an accurate iteration, which at continuation points integrates the whole period with
+//    samples and so is the point's verification pass.
 //  * Pseudo-arclength continuation in (y₀, T, E) with a tangent predictor and step-size
-//    control, so folds in energy are passed and reported; the last point is solved at
-//    energy_max exactly with the energy fixed.
-//  * At every accepted point: one integration of the whole period with samples (closure,
-//    energy drift, amplitude, action, symmetry residuals on the trajectory) and one with
-//    the variational equations in the whole space (Floquet multipliers
+//    control by the corrector's effort, the backbone's curvature and the distance of the
+//    Floquet multipliers from ±1, so folds in energy are passed and reported; the last
+//    point is solved at energy_max exactly with the energy fixed.
+//  * At every accepted point: the whole period with samples (closure, energy drift,
+//    amplitude, action, symmetry residuals on the trajectory) and the variational
+//    equations in the whole space (Floquet multipliers
 //    M = D(g)^r (D(g)⁻¹ Φ(T/r))^r).
 //  * Semiclassical ladder: levels where J = ∮P·dQ / 2π = (n + ½)ħ, located by Hermite
 //    interpolation of E(J) (dE/dJ = ω) and refined by Newton in energy on the family.

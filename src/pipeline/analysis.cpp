@@ -8,6 +8,7 @@
 #include <map>
 #include <numeric>
 #include <optional>
+#include <set>
 #include <vector>
 
 #include "core/error.hpp"
@@ -177,6 +178,15 @@ FamiliesResult analyze_families(const AnalysisResult& analysis, const Potential&
         finding.hole ? " and falls into a hole" : ""));
   }
   return result;
+}
+
+std::vector<int> flagged_resonance_mode_numbers(const AnalysisResult& analysis,
+                                                const AnharmonicResult& anharmonic) {
+  std::set<int> fundamentals;
+  for (const Resonance& resonance : anharmonic.vpt2.resonances)
+    if (resonance.flagged)
+      for (const int set : resonance.sets) fundamentals.insert(anharmonic.set_numbers.at(static_cast<std::size_t>(set)));
+  return mode_numbers_of_fundamentals(analysis, std::vector<int>(fundamentals.begin(), fundamentals.end()));
 }
 
 std::vector<ResonanceCrossCheck> cross_check_resonances(const AnalysisResult& analysis,

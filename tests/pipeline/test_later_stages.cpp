@@ -78,6 +78,10 @@ TEST(LaterStages, CarbonDioxideFermiDyadSeenByBothStages) {
   EXPECT_EQ(dyad->families_of_lower, 2);
   EXPECT_EQ(dyad->families_allowed, 1);
   EXPECT_TRUE(dyad->agree);
+  // The default selection of large molecules keeps the dyad's modes: ν1 and both ν2 modes
+  // (the bend is doubly degenerate), not ν3.
+  std::vector<int> expected = mode_numbers_of_fundamentals(co2.analysis, {1, 2});
+  EXPECT_EQ(flagged_resonance_mode_numbers(co2.analysis, anharmonic), expected);
 }
 
 TEST(LaterStages, MethaneAndAmmoniaResonanceRulesAgree) {
