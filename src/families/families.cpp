@@ -1,6 +1,7 @@
 #include "families/families.hpp"
 
 #include <fmt/format.h>
+#include <omp.h>
 
 #include <algorithm>
 #include <atomic>
@@ -34,8 +35,9 @@ void FamiliesOptions::validate() const {
         fmt::format("families option encounter_max_ratio = {} must be at least 1", encounter_max_ratio));
   if (threads < 0) throw Error(fmt::format("families option threads = {} must be non-negative", threads));
   if (all_modes && !mode_numbers.empty())
-    throw Error(fmt::format("families options ask for all modes and for {} mode number(s); expected one of the two",
-                            mode_numbers.size()));
+    throw Error(
+        fmt::format("families options ask for all modes and for {} mode number(s); expected one of the two",
+                    mode_numbers.size()));
   if (all_modes_up_to < 0)
     throw Error(fmt::format("families option all_modes_up_to = {} must be non-negative", all_modes_up_to));
   if (!std::isfinite(selection_min_cm1) || selection_min_cm1 < 0.0)
@@ -151,9 +153,8 @@ bool block_has_mode(const ModeBlock& block, const std::vector<int>& numbers) {
 
 void require_known_modes(const std::vector<ModeBlock>& blocks, const std::vector<int>& numbers) {
   for (const int number : numbers) {
-    const bool known = std::any_of(blocks.begin(), blocks.end(), [&](const ModeBlock& block) {
-      return block_has_mode(block, {number});
-    });
+    const bool known = std::any_of(blocks.begin(), blocks.end(),
+                                   [&](const ModeBlock& block) { return block_has_mode(block, {number}); });
     if (!known) throw Error(fmt::format("mode number {} is not among the system's modes", number));
   }
 }
@@ -165,22 +166,26 @@ std::vector<bool> select_blocks(const FamiliesOptions& options, int dimension, F
   std::vector<bool> selected(blocks.size(), options.continue_families);
   if (!options.continue_families || options.all_modes) return selected;
   if (!options.mode_numbers.empty()) {
-    for (std::size_t b = 0; b < blocks.size(); ++b) selected[b] = block_has_mode(blocks[b], options.mode_numbers);
+    for (std::size_t b = 0; b < blocks.size(); ++b)
+      selected[b] = block_has_mode(blocks[b], options.mode_numbers);
     return selected;
   }
   if (dimension <= options.all_modes_up_to) return selected;
   std::set<int> left_out;
   for (std::size_t b = 0; b < blocks.size(); ++b) {
     const double wavenumber = blocks[b].angular_frequency * result.units.cm1_per_angular_frequency;
-    selected[b] = wavenumber >= options.selection_min_cm1 || block_has_mode(blocks[b], options.resonance_mode_numbers);
+    selected[b] =
+        wavenumber >= options.selection_min_cm1 || block_has_mode(blocks[b], options.resonance_mode_numbers);
     if (!selected[b]) left_out.insert(blocks[b].mode_numbers.begin(), blocks[b].mode_numbers.end());
   }
   result.left_out_mode_numbers.assign(left_out.begin(), left_out.end());
   if (!left_out.empty())
     result.selection_note = fmt::format(
         "the families of {} of the {} modes were not continued: above {} modes only the modes of flagged "
-        "resonances and those at or above {:.0f} {} are continued unless other modes or all modes are asked for",
-        left_out.size(), dimension, options.all_modes_up_to, options.selection_min_cm1, result.units.energy_label);
+        "resonances and those at or above {:.0f} {} are continued unless other modes or all modes are asked "
+        "for",
+        left_out.size(), dimension, options.all_modes_up_to, options.selection_min_cm1,
+        result.units.energy_label);
   return selected;
 }
 
@@ -218,10 +223,10 @@ class ProgressReporter {
     event.done = done_;
     event.total = total_;
     const FamilyType& type = result_.families[static_cast<std::size_t>(family)].type;
-    event.detail = fmt::format("family {} of {} (modes {}{}{}) {} {:.0f} {}", family + 1,
-                               result_.families.size(), fmt::join(type.mode_numbers, ","),
-                               type.species.empty() ? "" : " ", type.species, verb,
-                               energy * result_.units.cm1_per_energy, result_.units.energy_label);
+    event.detail =
+        fmt::format("family {} of {} (modes {}{}{}) {} {:.0f} {}", family + 1, result_.families.size(),
+                    fmt::join(type.mode_numbers, ","), type.species.empty() ? "" : " ", type.species, verb,
+                    energy * result_.units.cm1_per_energy, result_.units.energy_label);
     event.seconds = std::chrono::duration<double>(now - started_).count();
     callback_(event);
   }
@@ -269,9 +274,20 @@ void continue_families(const VibrationalSystem& system, const FamiliesOptions& o
     }
   };
   result.threads_used = worker_count(system, options, jobs.size());
+  // Eigen hands larger matrix products to OpenMP teams; next to the family workers those
+  // would put more threads than cores to work (and spinning), so each worker keeps to one.
+  // The setting is per thread; the calling thread gets its own back.
+  const bool parallel = result.threads_used > 1;
+  const int caller_openmp_threads = omp_get_max_threads();
+  auto worker = [&work] {
+    omp_set_num_threads(1);
+    work();
+  };
   std::vector<std::thread> pool;
-  for (int t = 1; t < result.threads_used; ++t) pool.emplace_back(work);
+  for (int t = 1; t < result.threads_used; ++t) pool.emplace_back(worker);
+  if (parallel) omp_set_num_threads(1);
   work();
+  if (parallel) omp_set_num_threads(caller_openmp_threads);
   for (std::thread& thread : pool) thread.join();
   for (const std::exception_ptr& error : errors)
     if (error) std::rethrow_exception(error);

@@ -43,14 +43,14 @@ struct IntegrationRequest {
 
 struct IntegrationOutcome {
   bool ok = false;
-  std::string failure;                       // why not ok (escape, step limit, non-finite state)
-  Eigen::VectorXd scaled_state;              // (â, b̂) at the end
-  Eigen::VectorXd checkpoint_state;          // (â, b̂) at the requested checkpoint
+  std::string failure;                               // why not ok (escape, step limit, non-finite state)
+  Eigen::VectorXd scaled_state;                      // (â, b̂) at the end
+  Eigen::VectorXd checkpoint_state;                  // (â, b̂) at the requested checkpoint
   double checkpoint_momentum_square_integral = 0.0;  // ∫|p|² dt up to the checkpoint
-  Eigen::MatrixXd transition;                // Φ̂, 2c × 2c, when requested
-  double momentum_square_integral = 0.0;     // ∫|p|² dt over the duration, physical units
-  std::vector<Eigen::VectorXd> samples;      // scaled states at the sample times (first = start)
-  std::vector<Eigen::VectorXd> step_states;  // scaled states the integrator reached (first = start)
+  Eigen::MatrixXd transition;                        // Φ̂, 2c × 2c, when requested
+  double momentum_square_integral = 0.0;             // ∫|p|² dt over the duration, physical units
+  std::vector<Eigen::VectorXd> samples;              // scaled states at the sample times (first = start)
+  std::vector<Eigen::VectorXd> step_states;          // scaled states the integrator reached (first = start)
   std::size_t steps = 0;
   std::size_t rejected_steps = 0;
   double seconds = 0.0;

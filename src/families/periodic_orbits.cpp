@@ -60,8 +60,8 @@ void validate(const ContinuationOptions& o) {
           o.max_energy_step_fraction, "in (0, 1]");
   require(o.straight_energy_step_fraction > 0.0 && o.straight_energy_step_fraction <= 1.0,
           "straight_energy_step_fraction", o.straight_energy_step_fraction, "in (0, 1]");
-  require(o.backbone_tolerance > 0.0 && o.backbone_tolerance < 0.1, "backbone_tolerance", o.backbone_tolerance,
-          "in (0, 0.1)");
+  require(o.backbone_tolerance > 0.0 && o.backbone_tolerance < 0.1, "backbone_tolerance",
+          o.backbone_tolerance, "in (0, 0.1)");
   require(o.max_points >= 2, "max_points", o.max_points, "at least 2");
   require(o.variational_nodes_per_period >= 0, "variational_nodes_per_period", o.variational_nodes_per_period,
           "non-negative");
@@ -396,7 +396,8 @@ double FamilySolver::total_energy(const Eigen::VectorXd& y, double length) const
   return 0.5 * p.squaredNorm() + system_.potential(integrator_->positions(y, scaling));
 }
 
-FamilySolver::IterationPlan FamilySolver::plan_iteration(bool fresh, double expected_norm, bool verify) const {
+FamilySolver::IterationPlan FamilySolver::plan_iteration(bool fresh, double expected_norm,
+                                                         bool verify) const {
   IterationPlan plan;
   const double full = options_.integration_tolerance;
   if (fresh) {  // variational integrations run at their own tolerance
@@ -441,7 +442,7 @@ CorrectorOutcome FamilySolver::correct(const Unknowns& guess, const CorrectorSet
 
   bool fresh = !have_hint_;
   double previous_norm = std::numeric_limits<double>::infinity();
-  double expected_norm = -1.0;  // residual expected at this iteration; negative: unknown
+  double expected_norm = -1.0;      // residual expected at this iteration; negative: unknown
   double previous_tolerance = 0.0;  // integration tolerance of the previous iteration
   Eigen::VectorXd residual(equations);
   Eigen::MatrixXd jacobian(equations, unknowns);
@@ -471,7 +472,8 @@ CorrectorOutcome FamilySolver::correct(const Unknowns& guess, const CorrectorSet
       if (r_ > 1) request.checkpoint = period / r_;
     }
     integrator_->set_full_period(period);
-    const auto shared_run = std::make_shared<detail::IntegrationOutcome>(integrator_->integrate(request, scaling));
+    const auto shared_run =
+        std::make_shared<detail::IntegrationOutcome>(integrator_->integrate(request, scaling));
     const detail::IntegrationOutcome& run = *shared_run;
     const bool checkpointed = plan.verifying && r_ > 1;
     const Eigen::VectorXd& end_state = checkpointed ? run.checkpoint_state : run.scaled_state;

@@ -134,7 +134,8 @@ void require_rise_along_every_mode(const AnalysisResult& analysis, const Amplitu
         analysis.modes, mode_number_of_index(analysis.modes).at(static_cast<std::size_t>(finding.mode)));
     const double first_q = std::sqrt(2.0 * scan_options.max_quanta + 1.0) / scan_options.points;
     throw Error(fmt::format(
-        "the structure is not a minimum of this potential along ν{}: in the {} direction the energy {} at the "
+        "the structure is not a minimum of this potential along ν{}: in the {} direction the energy {} at "
+        "the "
         "first step of the amplitude scan ({:.3g} of the dimensionless normal coordinate){}; the families of "
         "nonlinear normal modes need a minimum",
         fundamental, finding.direction > 0 ? "positive" : "negative",
@@ -185,7 +186,8 @@ std::vector<int> flagged_resonance_mode_numbers(const AnalysisResult& analysis,
   std::set<int> fundamentals;
   for (const Resonance& resonance : anharmonic.vpt2.resonances)
     if (resonance.flagged)
-      for (const int set : resonance.sets) fundamentals.insert(anharmonic.set_numbers.at(static_cast<std::size_t>(set)));
+      for (const int set : resonance.sets)
+        fundamentals.insert(anharmonic.set_numbers.at(static_cast<std::size_t>(set)));
   return mode_numbers_of_fundamentals(analysis, std::vector<int>(fundamentals.begin(), fundamentals.end()));
 }
 

@@ -452,8 +452,8 @@ TEST(MolecularFamilies, LargeSystemsContinueStretchesAndResonantModesByDefault) 
   EXPECT_EQ(result.left_out_mode_numbers, expected_left_out);
   EXPECT_NE(result.selection_note.find("3 of the 9 modes"), std::string::npos) << result.selection_note;
   for (const FamilyResult& family : result.families) {
-    const double wavenumber = result.blocks[family.type.block].angular_frequency *
-                              result.units.cm1_per_angular_frequency;
+    const double wavenumber =
+        result.blocks[family.type.block].angular_frequency * result.units.cm1_per_angular_frequency;
     const bool resonant = family.type.mode_numbers.front() == e_block.front() + 1;
     EXPECT_EQ(family.continued, wavenumber >= 2000.0 || resonant) << family.type.description;
   }
