@@ -383,10 +383,11 @@ void run_case(const Case& c, int threads) {
                   "{:.2f}; results {}",
                   serial_wall, serial_cpu, threads, parallel_wall, parallel_cpu, serial_wall / parallel_wall,
                   same ? "identical" : "differ (" + difference + ")"));
-  print_line(fmt::format("    the family schedule allows a speed-up of {:.2f} on {} idle cores; load average during "
-                         "the run {:.1f} on {} cores",
-                         makespan > 0.0 ? total_family_s / makespan : 0.0, threads, load[0],
-                         std::thread::hardware_concurrency()));
+  print_line(
+      fmt::format("    the family schedule allows a speed-up of {:.2f} on {} idle cores; load average during "
+                  "the run {:.1f} on {} cores",
+                  makespan > 0.0 ? total_family_s / makespan : 0.0, threads, load[0],
+                  std::thread::hardware_concurrency()));
 }
 
 }  // namespace
