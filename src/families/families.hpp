@@ -23,9 +23,19 @@ struct FamiliesOptions {
   // ladder to reach level `quanta` unless the mode hardens strongly.
   double energy_max_cm1 = 0.0;
   double quanta = 0.0;
-  // Continue only the families of blocks containing one of these mode numbers (empty: all).
-  // The other families are still enumerated and reported without backbones.
+  // Continue only the families of blocks containing one of these mode numbers. The other
+  // families are still enumerated and reported without backbones. Empty: the default
+  // selection below, or every block when all_modes is set.
   std::vector<int> mode_numbers;
+  bool all_modes = false;
+  // Default selection. Systems with at most all_modes_up_to coordinates: every block.
+  // Larger ones: the blocks holding one of resonance_mode_numbers (the caller's flagged
+  // resonances, e.g. the perturbative stage's) and the blocks whose harmonic wavenumber is
+  // at least selection_min_cm1 (the stretches whose overtones are measured). What is left
+  // out is listed in FamiliesResult::left_out_mode_numbers.
+  int all_modes_up_to = 36;
+  std::vector<int> resonance_mode_numbers;
+  double selection_min_cm1 = 1500.0;
   bool continue_families = true;  // false: enumeration and resonance threats only
   EnumerationOptions enumeration;
   ContinuationOptions continuation;  // energy_max is set per family from the fields above
@@ -59,6 +69,11 @@ struct FamiliesResult {
   std::vector<FamilyResult> families;  // by block (ascending frequency), then larger subgroups first
   std::vector<std::string> notes;      // model assumptions the report must state
   std::vector<std::string> warnings;
+  // Modes whose families the default selection left out (report numbers, ascending), and
+  // one line saying why and how to get them; both empty when nothing was left out.
+  std::vector<int> left_out_mode_numbers;
+  std::string selection_note;
+  int threads_used = 1;  // threads that continued families
   // Totals over all continued families:
   int points = 0;
   int newton_iterations = 0;

@@ -166,7 +166,8 @@ IntegrationOutcome OrbitIntegrator::integrate(const IntegrationRequest& request,
   }
 
   ScaledEquations equations(system_, basis_, variational, scaling);
-  const double tolerance = variational ? variational_tolerance_ : tolerance_;
+  const double tolerance =
+      variational ? variational_tolerance_ : (request.tolerance > 0.0 ? request.tolerance : tolerance_);
   auto stepper = odeint::make_controlled(tolerance, tolerance, odeint::runge_kutta_fehlberg78<State>());
   double& hint = variational ? variational_step_hint_ : step_hint_;
 
@@ -201,8 +202,13 @@ IntegrationOutcome OrbitIntegrator::integrate(const IntegrationRequest& request,
     refused(refusal);
   }
   if (ok) record();
+  const bool checkpointing = request.checkpoint > 0.0 && request.checkpoint < duration;
+  bool checkpoint_reached = !checkpointing;
   while (ok && duration - t > finish_slack) {
-    double trial = std::min(dt, duration - t);
+    const double stop = checkpoint_reached ? duration : request.checkpoint;
+    // Two even steps instead of a full one and a sliver: the samples are interpolated
+    // between step ends, which nearly coincident ends would make ill-conditioned.
+    double trial = stop - t <= dt ? stop - t : (stop - t < 1.5 * dt ? 0.5 * (stop - t) : dt);
     const bool clipped = trial < dt;
     odeint::controlled_step_result step_result = odeint::fail;
     try {
@@ -230,6 +236,12 @@ IntegrationOutcome OrbitIntegrator::integrate(const IntegrationRequest& request,
         break;
       }
       record();
+      if (!checkpoint_reached && request.checkpoint - t <= finish_slack) {
+        checkpoint_reached = true;
+        outcome.checkpoint_state = Eigen::Map<const Eigen::VectorXd>(x.data(), 2 * m);
+        outcome.checkpoint_momentum_square_integral =
+            x[2 * m] * scaling.angular_frequency * scaling.length * scaling.length;
+      }
     } else {
       ++outcome.rejected_steps;
       dt = trial;

@@ -8,6 +8,7 @@
 #include <map>
 #include <numeric>
 #include <optional>
+#include <set>
 #include <vector>
 
 #include "core/error.hpp"
@@ -123,6 +124,31 @@ AnharmonicResult analyze_anharmonic(const AnalysisResult& analysis, const Potent
   return result;
 }
 
+namespace {
+
+// A scan that turns over at its first displacement found no barrier at all: along that
+// coordinate the energy falls (or cannot be evaluated) right next to the structure, which
+// is then no minimum of the potential there, whatever the Hessian said.
+void require_rise_along_every_mode(const AnalysisResult& analysis, const AmplitudeScanResult& scan,
+                                   const AmplitudeScanOptions& scan_options) {
+  for (const TurnoverFinding& finding : scan.findings) {
+    if (finding.barrier_cm1 > 0.0) continue;
+    const int fundamental = fundamental_of_mode_number(
+        analysis.modes, mode_number_of_index(analysis.modes).at(static_cast<std::size_t>(finding.mode)));
+    const double first_q = std::sqrt(2.0 * scan_options.max_quanta + 1.0) / scan_options.points;
+    throw Error(fmt::format(
+        "the structure is not a minimum of this potential along ν{}: in the {} direction the energy {} at "
+        "the "
+        "first step of the amplitude scan ({:.3g} of the dimensionless normal coordinate){}; the families of "
+        "nonlinear normal modes need a minimum",
+        fundamental, finding.direction > 0 ? "positive" : "negative",
+        finding.note.empty() ? "already falls below the structure's" : "cannot be evaluated", first_q,
+        finding.note.empty() ? "" : " (" + finding.note + ")"));
+  }
+}
+
+}  // namespace
+
 FamiliesResult analyze_families(const AnalysisResult& analysis, const Potential& potential,
                                 const FamiliesOptions& options) {
   require_minimum(analysis, "the families of nonlinear normal modes");
@@ -138,6 +164,7 @@ FamiliesResult analyze_families(const AnalysisResult& analysis, const Potential&
   AmplitudeScanOptions scan_options;
   scan_options.max_quanta = std::max(scan_options.max_quanta, top_energy_cm1 / frequencies.minCoeff());
   const AmplitudeScanResult scan = scan_normal_coordinates(potential, analysis.harmonic, scan_options);
+  require_rise_along_every_mode(analysis, scan, scan_options);
   MolecularSystemOptions system_options;
   if (scan.turns_over) system_options.escape_energy_cm1 = scan.lowest_barrier_cm1;
   FamiliesResult result =
@@ -155,6 +182,16 @@ FamiliesResult analyze_families(const AnalysisResult& analysis, const Potential&
         finding.hole ? " and falls into a hole" : ""));
   }
   return result;
+}
+
+std::vector<int> flagged_resonance_mode_numbers(const AnalysisResult& analysis,
+                                                const AnharmonicResult& anharmonic) {
+  std::set<int> fundamentals;
+  for (const Resonance& resonance : anharmonic.vpt2.resonances)
+    if (resonance.flagged)
+      for (const int set : resonance.sets)
+        fundamentals.insert(anharmonic.set_numbers.at(static_cast<std::size_t>(set)));
+  return mode_numbers_of_fundamentals(analysis, std::vector<int>(fundamentals.begin(), fundamentals.end()));
 }
 
 std::vector<ResonanceCrossCheck> cross_check_resonances(const AnalysisResult& analysis,

@@ -138,6 +138,12 @@ AnharmonicResult analyze_anharmonic(const AnalysisResult& analysis, const Potent
 FamiliesResult analyze_families(const AnalysisResult& analysis, const Potential& potential,
                                 const FamiliesOptions& options);
 
+// The mode numbers (report numbering) of every set taking part in a resonance the
+// perturbative stage flagged: FamiliesOptions::resonance_mode_numbers, so that the default
+// selection for large molecules keeps the families that resonances involve.
+std::vector<int> flagged_resonance_mode_numbers(const AnalysisResult& analysis,
+                                                const AnharmonicResult& anharmonic);
+
 // A Fermi resonance 2ν_lower ≈ ν_upper as the two stages see it: the perturbative
 // symmetry rule (Γ_upper in the symmetric square of Γ_lower) against the families'
 // per-family rule (the second harmonic of the family's motion has a component in the
