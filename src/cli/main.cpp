@@ -121,7 +121,7 @@ struct MoleculeArguments {
   double symmetry_tolerance_angstrom = SymmetryOptions{}.tolerance_angstrom;
   bool refuse_incomplete = false;
   bool conformer_search = false;
-  bool progress = false;  // progress lines on stderr also when it is not a terminal
+  bool progress = false;          // progress lines on stderr also when it is not a terminal
   std::string electric_response;  // atomic polar tensors for intensities (docs/intensities.md)
 };
 
@@ -274,7 +274,8 @@ constexpr double max_family_energy_cm1 = 100000.0;
 constexpr double default_family_quanta = 3.0;  // the first overtones a spectrum usually shows
 
 struct FamilyArguments {
-  std::vector<int> fundamentals;  // ν numbers; empty: all
+  std::vector<int> fundamentals;  // ν numbers; empty: the default selection
+  bool all_modes = false;         // every family, also above the default selection's size
   double energy_max_cm1 = 0.0;
   double quanta = default_family_quanta;
   const CLI::Option* energy_option = nullptr;  // tells whether the value was given
@@ -287,6 +288,13 @@ void add_family_arguments(CLI::App& command, FamilyArguments& arguments) {
   command.add_option(
       "--mode", arguments.fundamentals,
       "continue only the families of fundamental νN (the ν column of the modes table); repeatable");
+  const FamiliesOptions defaults;
+  command
+      .add_flag("--all-modes", arguments.all_modes,
+                fmt::format("continue the families of every mode (above {} modes the default continues only "
+                            "the modes of flagged resonances and those at or above {:.0f} cm-1)",
+                            defaults.all_modes_up_to, defaults.selection_min_cm1))
+      ->excludes("--mode");
   auto* energy = command.add_option("--energy-max", arguments.energy_max_cm1,
                                     "continue every family up to this energy above the minimum (cm-1), "
                                     "0 < E <= 100000");
@@ -320,6 +328,7 @@ FamiliesOptions families_options(const AnalysisResult& analysis, const FamilyArg
   else
     options.quanta = arguments.quanta;
   options.mode_numbers = mode_numbers_of_fundamentals(analysis, arguments.fundamentals);
+  options.all_modes = arguments.all_modes;
   // One frequency window for the families' resonance threats and the perturbative Fermi
   // candidates, so that the two lists can be compared pair by pair.
   options.enumeration.resonance_window_cm1 = Vpt2Options{}.fermi_gap_cm1;
@@ -443,7 +452,7 @@ int run_analyze(const MoleculeArguments& arguments, const FamilyArguments& famil
   const AnalysisResult& analysis = analysed.analysis;
   const Potential& potential = *analysed.potential;
   // A bad --mode is the user's mistake, not a stage that cannot run: refuse it now.
-  const FamiliesOptions options = families_options(analysis, family_arguments);
+  FamiliesOptions options = families_options(analysis, family_arguments);
 
   // A later stage that cannot run (a saddle point, say) does not discard the harmonic
   // results: the reason is printed and stored in the JSON document.
@@ -454,6 +463,8 @@ int run_analyze(const MoleculeArguments& arguments, const FamilyArguments& famil
     try {
       anharmonic = analyze_anharmonic(analysis, potential, anharmonic_options(switches.exclude_below_cm1));
       results.anharmonic = &*anharmonic;
+      // The default selection for large molecules keeps the families of flagged resonances.
+      options.resonance_mode_numbers = flagged_resonance_mode_numbers(analysis, *anharmonic);
     } catch (const Error& error) {
       warn(std::string("anharmonic stage skipped: ") + error.what());
       results.anharmonic_skipped = error.what();

@@ -13,8 +13,8 @@
 #include <vector>
 
 #include "pipeline/analysis.hpp"
-#include "report/anharmonic_report.hpp"
 #include "pipeline/intensities.hpp"
+#include "report/anharmonic_report.hpp"
 #include "report/output_folder.hpp"
 
 namespace overtone {

@@ -83,6 +83,8 @@ std::string families_summary_text(const FamiliesResult& result, const std::vecto
   out << "Families of nonlinear normal modes\n";
   out << "  system: " << printable_text(result.system_description) << "\n";
   for (const auto& note : result.notes) out << "  note: " << note << "\n";
+  if (!result.selection_note.empty())
+    out << "  note: " << result.selection_note << " (--mode N for one, --all-modes for every one)\n";
   out << fmt::format("  energies and wavenumbers in {}; periods in {}; actions in units of hbar\n", unit,
                      result.units.energy_label == "cm-1" ? "fs" : "time units");
   for (const auto& warning : result.warnings) out << "  warning: " << warning << "\n";

@@ -16,7 +16,7 @@ struct OutputFile {
   std::string content;
   // When set, writes the file instead of `content`: a large document goes straight to the
   // file rather than through one string of its whole text.
-  std::function<void(std::ostream&)> write;
+  std::function<void(std::ostream&)> write = nullptr;
 };
 
 struct OutputFolderResult {

@@ -96,7 +96,9 @@ TEST(ForceConstants, ProgressCountsEveryPointOfTheDifferenceScheme) {
     EXPECT_EQ(events[k].stage, "force constants");
     EXPECT_EQ(events[k].done, static_cast<int>(k) + 1);
     EXPECT_EQ(events[k].total, 1 + 2 * m * m);
-    if (k > 0) EXPECT_GE(events[k].seconds, events[k - 1].seconds);
+    if (k > 0) {
+      EXPECT_GE(events[k].seconds, events[k - 1].seconds);
+    }
   }
 }
 

@@ -157,8 +157,9 @@ TEST(LineListIntensities, LevelsOfInactiveSpeciesAreDarkAndActiveOvertonesAreNot
     for (std::size_t i = 0; i < vpt2.levels.size(); ++i) {
       const VibrationalLevel& level = vpt2.levels[i];
       if (!ir[i]) continue;
-      if (level.activity_known && !level.ir_active)
+      if (level.activity_known && !level.ir_active) {
         EXPECT_LT(*ir[i], dark_fraction * strongest) << name << " " << i;
+      }
       if (level.kind != LevelKind::fundamental && level.ir_active && *ir[i] > dark_fraction * strongest)
         ++bright_overtones;
     }

@@ -209,7 +209,9 @@ TEST(HarmonicIntensities, CrawfordSumRuleHoldsForMoleculesAndIsotopologues) {
     EXPECT_LT(sum.relative_residual, sum_rule_tolerance)
         << name << " with " << isotopes.size() << " isotopes";
     // Water and ammonia are polar: the rotational correction takes part.
-    if (name == "water" || name == "ammonia") EXPECT_GT(sum.rotation_km_per_mol, 0.0) << name;
+    if (name == "water" || name == "ammonia") {
+      EXPECT_GT(sum.rotation_km_per_mol, 0.0) << name;
+    }
   }
 }
 
