@@ -49,10 +49,47 @@ struct Problem {
   std::vector<Column> columns;
   // Strongest observed (per tag and technique) and predicted (per tag and technique) intensities.
   std::map<std::pair<int, Technique>, double> strongest_observed, strongest_predicted;
+  int parent_tag = -1;  // the molecule as given ("" tag), −1 when no band or level set has it
+  // Per tag and level: the parent's level with the same quanta and sublevel, −1 when none.
+  std::vector<std::vector<int>> counterpart;
 };
 
+// The observed wavenumbers of the parent's assigned levels in one solution: a band of the
+// same technique first, else any band on that level.
+struct ParentBands {
+  std::map<std::pair<int, Technique>, double> by_technique;
+  std::map<int, double> any;
+
+  std::optional<double> of(int level, Technique technique) const {
+    if (const auto found = by_technique.find({level, technique}); found != by_technique.end())
+      return found->second;
+    if (const auto found = any.find(level); found != any.end()) return found->second;
+    return std::nullopt;
+  }
+};
+
+void find_counterparts(Problem& problem) {
+  const auto& levels = *problem.levels;
+  for (std::size_t t = 0; t < levels.size(); ++t)
+    if (levels[t].tag.empty()) problem.parent_tag = static_cast<int>(t);
+  problem.counterpart.assign(levels.size(), {});
+  if (problem.parent_tag < 0) return;
+  const auto& parent = levels[static_cast<std::size_t>(problem.parent_tag)].predicted.levels;
+  for (std::size_t t = 0; t < levels.size(); ++t) {
+    const auto& own = levels[t].predicted.levels;
+    problem.counterpart[t].assign(own.size(), -1);
+    if (static_cast<int>(t) == problem.parent_tag) continue;
+    for (std::size_t l = 0; l < own.size(); ++l)
+      for (std::size_t p = 0; p < parent.size(); ++p)
+        if (parent[p].quanta == own[l].quanta && parent[p].sublevel == own[l].sublevel) {
+          problem.counterpart[t][l] = static_cast<int>(p);
+          break;
+        }
+  }
+}
+
 Problem set_up(const std::vector<ObservedBand>& bands, const std::vector<IsotopologueLevels>& levels) {
-  Problem problem{&bands, &levels, {}, {}, {}, {}};
+  Problem problem{&bands, &levels, {}, {}, {}, {}, -1, {}};
   std::map<std::pair<int, Technique>, bool> slots;
   for (const ObservedBand& band : bands) {
     int tag = -1;
@@ -83,6 +120,7 @@ Problem set_up(const std::vector<ObservedBand>& bands, const std::vector<Isotopo
   }
   for (std::size_t b = 0; b < bands.size(); ++b)
     problem.columns.push_back({-1, -1, Technique::unspecified, static_cast<int>(b)});
+  find_counterparts(problem);
   return problem;
 }
 
@@ -109,8 +147,28 @@ double polarization_cost(const ObservedBand& band, const PredictedLevel& level,
   return 0.0;
 }
 
+// Observed and predicted (scaled) shift of an isotopologue band on `column` from the parent
+// band on the counterpart level, when there is one.
+std::optional<std::pair<double, double>> isotope_shift(const Problem& problem, const ObservedBand& band,
+                                                       const Column& column, double scale,
+                                                       const ParentBands* parent_bands) {
+  if (!parent_bands || column.tag < 0 || column.tag == problem.parent_tag || problem.parent_tag < 0)
+    return std::nullopt;
+  const int partner =
+      problem.counterpart[static_cast<std::size_t>(column.tag)][static_cast<std::size_t>(column.level)];
+  if (partner < 0) return std::nullopt;
+  const std::optional<double> parent_observed = parent_bands->of(partner, band.technique);
+  if (!parent_observed) return std::nullopt;
+  const PredictedLevel& own = (*problem.levels)[static_cast<std::size_t>(column.tag)]
+                                  .predicted.levels[static_cast<std::size_t>(column.level)];
+  const PredictedLevel& parent = (*problem.levels)[static_cast<std::size_t>(problem.parent_tag)]
+                                     .predicted.levels[static_cast<std::size_t>(partner)];
+  return std::make_pair(band.wavenumber_cm1 - *parent_observed,
+                        scale * (own.position_cm1 - parent.position_cm1));
+}
+
 double option_cost(const Problem& problem, int b, const Column& column, double scale,
-                   const AssignOptions& options) {
+                   const AssignOptions& options, const ParentBands* parent_bands) {
   const ObservedBand& band = (*problem.bands)[static_cast<std::size_t>(b)];
   if (column.tag < 0) return column.band == b ? options.unassigned_cost : forbidden_cost;
   if (column.tag != problem.band_tag[static_cast<std::size_t>(b)] || column.technique != band.technique)
@@ -118,21 +176,29 @@ double option_cost(const Problem& problem, int b, const Column& column, double s
   const PredictedLevel& level = (*problem.levels)[static_cast<std::size_t>(column.tag)]
                                     .predicted.levels[static_cast<std::size_t>(column.level)];
   if (!active(level, band.technique)) return forbidden_cost;
-  const double sigma = options.expected_error_cm1 * std::max(1, level.total_quanta);
-  const double residual = (band.wavenumber_cm1 - scale * level.position_cm1) / sigma;
+  const int quanta = std::max(1, level.total_quanta);
+  double residual =
+      (band.wavenumber_cm1 - scale * level.position_cm1) / (options.expected_error_cm1 * quanta);
+  if (const auto shift = isotope_shift(problem, band, column, scale, parent_bands)) {
+    const auto& [observed, predicted] = *shift;
+    const double sigma =
+        quanta * std::max(options.shift_error_floor_cm1, options.shift_relative_error * std::abs(predicted));
+    residual = (observed - predicted) / sigma;
+  }
   const double prior = options.extra_quantum_cost * std::max(0, level.total_quanta - 1);
   return std::min(forbidden_cost, residual * residual + prior +
                                       intensity_cost(problem, band, level, column.tag, options) +
                                       polarization_cost(band, level, options));
 }
 
-Eigen::MatrixXd cost_matrix(const Problem& problem, double scale, const AssignOptions& options) {
+Eigen::MatrixXd cost_matrix(const Problem& problem, double scale, const AssignOptions& options,
+                            const ParentBands* parent_bands) {
   const Eigen::Index n = static_cast<Eigen::Index>(problem.bands->size());
   Eigen::MatrixXd cost(n, static_cast<Eigen::Index>(problem.columns.size()));
   for (Eigen::Index b = 0; b < n; ++b)
     for (std::size_t c = 0; c < problem.columns.size(); ++c)
       cost(b, static_cast<Eigen::Index>(c)) =
-          option_cost(problem, static_cast<int>(b), problem.columns[c], scale, options);
+          option_cost(problem, static_cast<int>(b), problem.columns[c], scale, options, parent_bands);
   return cost;
 }
 
@@ -178,8 +244,44 @@ Eigen::Index unassigned_column(const Problem& problem, int band) {
   return static_cast<Eigen::Index>(problem.columns.size() - problem.bands->size()) + band;
 }
 
+ParentBands parent_bands_of(const Problem& problem, const std::vector<int>& columns) {
+  ParentBands parent;
+  for (std::size_t b = 0; b < columns.size(); ++b) {
+    const Column& column = problem.columns[static_cast<std::size_t>(columns[b])];
+    if (column.tag < 0 || column.tag != problem.parent_tag) continue;
+    const double observed = (*problem.bands)[b].wavenumber_cm1;
+    parent.by_technique.emplace(std::make_pair(column.level, column.technique), observed);
+    parent.any.emplace(column.level, observed);
+  }
+  return parent;
+}
+
+// The minimum-cost assignment at one scale; with isotope shifts, solved again with the
+// parent bands of the last solution as reference until it no longer changes. `columns` holds
+// the starting solution (empty: none) and returns the final one.
+Eigen::MatrixXd solve(const Problem& problem, double scale, const AssignOptions& options,
+                      std::vector<int>& columns, ParentBands& parent_bands, int& shift_rounds) {
+  const bool shifts = options.isotope_shifts && problem.parent_tag >= 0 && problem.levels->size() > 1;
+  Eigen::MatrixXd cost = cost_matrix(problem, scale, options, nullptr);
+  if (columns.empty() || !shifts) columns = minimum_cost_assignment(cost);
+  if (!shifts) return cost;
+  for (int round = 1; round <= options.max_shift_rounds; ++round) {
+    parent_bands = parent_bands_of(problem, columns);
+    cost = cost_matrix(problem, scale, options, &parent_bands);
+    const std::vector<int> again = minimum_cost_assignment(cost);
+    shift_rounds = round;
+    const bool stable = again == columns;
+    columns = again;
+    if (stable) break;
+  }
+  // The reported costs are those of the final solution's own reference.
+  parent_bands = parent_bands_of(problem, columns);
+  return cost_matrix(problem, scale, options, &parent_bands);
+}
+
 std::vector<BandAssignment> describe(const Problem& problem, const Eigen::MatrixXd& cost,
-                                     const std::vector<int>& columns, double scale) {
+                                     const std::vector<int>& columns, double scale,
+                                     const ParentBands& parent_bands) {
   std::vector<BandAssignment> result;
   const double total = assignment_cost(cost, columns);
   for (std::size_t b = 0; b < columns.size(); ++b) {
@@ -192,6 +294,10 @@ std::vector<BandAssignment> describe(const Problem& problem, const Eigen::Matrix
       entry.level = column.level;
       entry.predicted_cm1 = scale * level_of(problem, column).position_cm1;
       entry.residual_cm1 = (*problem.bands)[b].wavenumber_cm1 - entry.predicted_cm1;
+      if (const auto shift = isotope_shift(problem, (*problem.bands)[b], column, scale, &parent_bands)) {
+        entry.observed_shift_cm1 = shift->first;
+        entry.predicted_shift_cm1 = shift->second;
+      }
     }
     // The runner-up: the best other level for this band, i.e. the same problem with its
     // choice and its unassigned option forbidden.
@@ -235,9 +341,11 @@ std::vector<FundamentalFound> fundamentals_found(const Problem& problem, const s
 }  // namespace
 
 void validate(const AssignOptions& options) {
-  const std::tuple<const char*, double> positive[] = {{"expected_error_cm1", options.expected_error_cm1},
-                                                      {"unassigned_cost", options.unassigned_cost},
-                                                      {"intensity_floor", options.intensity_floor}};
+  const std::tuple<const char*, double> positive[] = {
+      {"expected_error_cm1", options.expected_error_cm1},
+      {"unassigned_cost", options.unassigned_cost},
+      {"intensity_floor", options.intensity_floor},
+      {"shift_error_floor_cm1", options.shift_error_floor_cm1}};
   for (const auto& [name, value] : positive)
     if (!(std::isfinite(value) && value > 0.0))
       throw Error(fmt::format("assignment option {} must be positive, got {}", name, value));
@@ -245,13 +353,14 @@ void validate(const AssignOptions& options) {
       {"intensity_weight", options.intensity_weight},
       {"extra_quantum_cost", options.extra_quantum_cost},
       {"polarized_mismatch_cost", options.polarized_mismatch_cost},
-      {"depolarized_mismatch_cost", options.depolarized_mismatch_cost}};
+      {"depolarized_mismatch_cost", options.depolarized_mismatch_cost},
+      {"shift_relative_error", options.shift_relative_error}};
   for (const auto& [name, value] : non_negative)
     if (!(std::isfinite(value) && value >= 0.0))
       throw Error(fmt::format("assignment option {} must be at least 0, got {}", name, value));
-  if (options.max_scale_rounds < 1)
-    throw Error(fmt::format("assignment option max_scale_rounds must be at least 1, got {}",
-                            options.max_scale_rounds));
+  for (const auto& [name, value] : {std::pair<const char*, int>{"max_scale_rounds", options.max_scale_rounds},
+                                    {"max_shift_rounds", options.max_shift_rounds}})
+    if (value < 1) throw Error(fmt::format("assignment option {} must be at least 1, got {}", name, value));
 }
 
 AssignResult assign_bands(const std::vector<ObservedBand>& bands,
@@ -260,25 +369,22 @@ AssignResult assign_bands(const std::vector<ObservedBand>& bands,
   if (bands.empty()) throw Error("assignment: expected at least one observed band, got none");
   const Problem problem = set_up(bands, levels);
   AssignResult result;
-  Eigen::MatrixXd cost = cost_matrix(problem, 1.0, options);
-  std::vector<int> columns = minimum_cost_assignment(cost);
-  const std::vector<BandAssignment> unscaled = describe(problem, cost, columns, 1.0);
-  result.unscaled = summarize(unscaled);
-  result.bands = unscaled;
+  ParentBands parent_bands;
+  std::vector<int> columns;
+  Eigen::MatrixXd cost = solve(problem, 1.0, options, columns, parent_bands, result.shift_rounds);
+  result.bands = describe(problem, cost, columns, 1.0, parent_bands);
+  result.unscaled = summarize(result.bands);
   fit_scale(problem, columns, result.scale, result.scale_standard_error);
   if (options.fit_scale) {
     result.scale_fitted = true;
     for (result.scale_rounds = 1; result.scale_rounds <= options.max_scale_rounds; ++result.scale_rounds) {
-      cost = cost_matrix(problem, result.scale, options);
-      const std::vector<int> again = minimum_cost_assignment(cost);
-      const bool stable = again == columns;
-      columns = again;
+      const std::vector<int> before = columns;
+      solve(problem, result.scale, options, columns, parent_bands, result.shift_rounds);
       fit_scale(problem, columns, result.scale, result.scale_standard_error);
-      if (stable) break;
+      if (columns == before) break;
     }
-    cost = cost_matrix(problem, result.scale, options);
-    columns = minimum_cost_assignment(cost);
-    result.bands = describe(problem, cost, columns, result.scale);
+    cost = solve(problem, result.scale, options, columns, parent_bands, result.shift_rounds);
+    result.bands = describe(problem, cost, columns, result.scale, parent_bands);
     result.scaled = summarize(result.bands);
   } else {
     result.scale = 1.0;

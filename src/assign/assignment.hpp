@@ -19,11 +19,19 @@
 //                are weaker and less often listed than fundamentals, so with equal residuals the
 //                fundamental is the likelier assignment (a prior; common practice, no source);
 //   unassigned   unassigned_cost per band left out (a band further than √cost σ from every
-//                level is better left unassigned).
+//                level is better left unassigned);
+//   isotope      a band of an isotopologue on a level whose parent counterpart (same quanta
+//   shift        and sublevel) holds a parent band: the position term is replaced by
+//                (((ν̃_obs − ν̃_obs,parent) − s (ν̃_pred − ν̃_pred,parent)) / σ_shift,n)² with
+//                σ_shift,n = n · max(shift_error_floor_cm1, shift_relative_error · |s Δν̃_pred|):
+//                a force field's error largely cancels in a shift, so the observed shift
+//                pattern, not the absolute positions, decides between close levels.
 //
 // Each level takes at most one band per technique and isotopologue; a band of isotopologue
 // T is offered only the levels predicted for T, and all bands of all isotopologues are
-// assigned in one problem. Runner-up: for each band, the problem is solved again with its
+// assigned in one problem. The shift term depends on the parent's assignment: the problem
+// is solved again with the parent bands of the last solution until the assignment no longer
+// changes (at most max_shift_rounds). Runner-up: for each band, the problem is solved again with its
 // chosen option and its unassigned option forbidden; the runner-up is the level the band gets
 // then and the margin the rise of the total cost (small: ambiguous; the other bands may
 // move too).
@@ -69,6 +77,13 @@ struct AssignOptions {
   double intensity_floor = 0.01;  // relative intensities below 1 % count as 1 %
   double polarized_mismatch_cost = 16.0;
   double depolarized_mismatch_cost = 4.0;
+  // Isotope shifts: an error of this fraction of the predicted shift (a force field's shift
+  // is typically good to about 10 %, its absolute position to 1–2 %; common practice, no
+  // source), never below the floor (anharmonic and resonance effects of a few cm⁻¹).
+  bool isotope_shifts = true;
+  double shift_relative_error = 0.1;
+  double shift_error_floor_cm1 = 3.0;
+  int max_shift_rounds = 5;
   bool fit_scale = false;    // fit one scale factor and assign again with it
   int max_scale_rounds = 5;  // assignment and fit alternate until stable, at most this often
 };
@@ -86,6 +101,10 @@ struct BandAssignment {
   double cost = 0.0;
   int runner_up_level = -1;  // −1: unassigned; no_alternative: nothing else is allowed
   double margin = 0.0;       // total-cost rise when the chosen option is forbidden (∞: none)
+  // An isotopologue band whose level's parent counterpart holds a parent band: the observed
+  // and predicted (scaled) shifts from the parent, which the cost compared.
+  std::optional<double> observed_shift_cm1;
+  std::optional<double> predicted_shift_cm1;
 };
 
 struct FundamentalFound {
@@ -111,6 +130,7 @@ struct AssignResult {
   double scale_standard_error = 0.0;
   ResidualSummary scaled;  // with the factor (when fitted)
   int scale_rounds = 0;
+  int shift_rounds = 0;  // solutions with the parent's bands as reference (0: no isotope shifts)
   std::vector<std::string> warnings;
 };
 

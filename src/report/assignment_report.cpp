@@ -110,6 +110,8 @@ nlohmann::json assignment_json(const AssignmentReportInput& input) {
          {"species", level ? json(level->species) : json(nullptr)},
          {"predicted_cm1", level ? json(band.predicted_cm1) : json(nullptr)},
          {"residual_cm1", level ? json(band.residual_cm1) : json(nullptr)},
+         {"observed_shift_cm1", band.observed_shift_cm1 ? json(*band.observed_shift_cm1) : json(nullptr)},
+         {"predicted_shift_cm1", band.predicted_shift_cm1 ? json(*band.predicted_shift_cm1) : json(nullptr)},
          {"cost", band.cost},
          {"runner_up", band.runner_up_level == no_alternative ? json(nullptr)
                        : runner                               ? json(runner->label)

@@ -6,6 +6,7 @@
 #include <algorithm>
 #include <numeric>
 #include <random>
+#include <tuple>
 
 #include "assign/assignment.hpp"
 #include "assign/hungarian.hpp"
@@ -175,6 +176,50 @@ TEST(Assignment, HeavyWaterIsAssignedJointlyWithWater) {
   EXPECT_EQ(result.bands[5].isotopologue, "D2O");
   ObservedBand unknown = band(1000.0, Technique::infrared, "HDO");
   EXPECT_THROW(assign_bands({unknown}, levels), Error);
+}
+
+// Two fundamentals of a parent and an isotopologue, positions in cm⁻¹ (quanta per ν number).
+PredictedSpectrum two_fundamentals(double nu1, double nu2) {
+  PredictedSpectrum model;
+  for (const auto& [label, quanta, position] :
+       {std::tuple<std::string, std::vector<int>, double>{"ν1", {1, 0}, nu1}, {"ν2", {0, 1}, nu2}}) {
+    PredictedLevel level;
+    level.label = label;
+    level.quanta = quanta;
+    level.position_cm1 = position;
+    model.levels.push_back(level);
+  }
+  return model;
+}
+
+TEST(Assignment, ConsistentIsotopeShiftsDecideBetweenCloseLevels) {
+  // Constructed so that the absolute positions and the shifts disagree (arithmetic, no
+  // outside data): the parent's bands lie 30 cm⁻¹ above ν1 and 30 below ν2; the
+  // isotopologue's levels are predicted at 990 (shift −10) and 1030 (shift −70), and its
+  // bands at 1020 and 1000 are the parent's bands moved by exactly those shifts. By
+  // absolute position alone the swapped assignment is cheaper (residuals 10 against 30);
+  // by the shifts the straight one is exact.
+  const std::vector<IsotopologueLevels> levels = {{"", two_fundamentals(1000.0, 1100.0)},
+                                                  {"heavy", two_fundamentals(990.0, 1030.0)}};
+  const std::vector<ObservedBand> bands = {
+      band(1030.0, Technique::unspecified), band(1070.0, Technique::unspecified),
+      band(1020.0, Technique::unspecified, "heavy"), band(1000.0, Technique::unspecified, "heavy")};
+  AssignOptions absolute_only;
+  absolute_only.isotope_shifts = false;
+  const AssignResult by_position = assign_bands(bands, levels, absolute_only);
+  EXPECT_EQ(assigned_label(by_position, levels, 2), "ν2");
+  EXPECT_EQ(assigned_label(by_position, levels, 3), "ν1");
+
+  const AssignResult by_shift = assign_bands(bands, levels);
+  EXPECT_EQ(assigned_label(by_shift, levels, 0), "ν1");
+  EXPECT_EQ(assigned_label(by_shift, levels, 1), "ν2");
+  EXPECT_EQ(assigned_label(by_shift, levels, 2), "ν1");
+  EXPECT_EQ(assigned_label(by_shift, levels, 3), "ν2");
+  EXPECT_GE(by_shift.shift_rounds, 2);  // the first solution had no parent reference
+  ASSERT_TRUE(by_shift.bands[3].observed_shift_cm1 && by_shift.bands[3].predicted_shift_cm1);
+  EXPECT_DOUBLE_EQ(*by_shift.bands[3].observed_shift_cm1, -70.0);
+  EXPECT_DOUBLE_EQ(*by_shift.bands[3].predicted_shift_cm1, -70.0);
+  EXPECT_FALSE(by_shift.bands[0].observed_shift_cm1);  // parent bands carry no shift
 }
 
 TEST(Assignment, InactiveLevelsAreProhibitedAndPolarizationCounts) {
