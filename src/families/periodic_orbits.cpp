@@ -251,6 +251,13 @@ class FamilySolver {
   // integration fails.
   bool accept(const CorrectorOutcome& corrected, const PointCost& cost, ContinuationResult& result);
   CorrectorOutcome correct(const Unknowns& guess, const CorrectorSetup& setup);
+  // Broyden's rank-one correction of hint_ from the shooting residual's change along the
+  // last chord step.
+  void broyden_update(const Eigen::VectorXd& shooting_change, const Eigen::VectorXd& previous_step,
+                      const Eigen::VectorXd& previous_time_column);
+  // The corrector's Jacobian: shooting rows from hint_, energy, phase and arclength rows.
+  void fill_jacobian(const Eigen::VectorXd& end_state, const Eigen::VectorXd& y0, const CorrectorSetup& setup,
+                     const detail::OrbitScaling& scaling, Eigen::MatrixXd& jacobian) const;
   // How accurately a corrector iteration integrates, from the residual expected there.
   struct IterationPlan {
     double tolerance = 0.0;  // of the orbit integration
@@ -427,6 +434,35 @@ double FamilySolver::expected_next_norm(double norm, double previous_norm) {
   return norm * rate;
 }
 
+void FamilySolver::broyden_update(const Eigen::VectorXd& shooting_change,
+                                  const Eigen::VectorXd& previous_step,
+                                  const Eigen::VectorXd& previous_time_column) {
+  const Eigen::VectorXd state_step = previous_step.head(2 * m_);
+  const double step_norm2 = state_step.squaredNorm();
+  if (!(step_norm2 > 0.0)) return;
+  const Eigen::VectorXd predicted =
+      (hint_ - shift_phase_) * state_step + previous_time_column * previous_step(2 * m_);
+  hint_ += (shooting_change - predicted) * state_step.transpose() / step_norm2;
+}
+
+void FamilySolver::fill_jacobian(const Eigen::VectorXd& end_state, const Eigen::VectorXd& y0,
+                                 const CorrectorSetup& setup, const detail::OrbitScaling& scaling,
+                                 Eigen::MatrixXd& jacobian) const {
+  const bool arclength = !setup.fixed_energy;
+  jacobian.setZero();
+  jacobian.topLeftCorner(2 * m_, 2 * m_) = hint_ - shift_phase_;
+  jacobian.block(0, 2 * m_, 2 * m_, 1) =
+      integrator_->scaled_velocity(end_state, scaling) * setup.time_scale / r_;
+  Eigen::VectorXd gradient;
+  system_.gradient(integrator_->positions(y0, scaling), gradient);
+  jacobian.block(2 * m_, 0, 1, m_) =
+      (basis_.transpose() * gradient).transpose() / (omega_ * omega_ * setup.length);
+  jacobian.block(2 * m_, m_, 1, m_) = y0.tail(m_).transpose();
+  if (arclength) jacobian(2 * m_, 2 * m_ + 1) = -1.0;
+  jacobian.block(2 * m_ + 1, 0, 1, 2 * m_) = setup.phase_direction.transpose();
+  if (arclength) jacobian.row(2 * m_ + 2) = setup.tangent.transpose();
+}
+
 CorrectorOutcome FamilySolver::correct(const Unknowns& guess, const CorrectorSetup& setup) {
   CorrectorOutcome outcome;
   const double length = setup.length;
@@ -446,7 +482,6 @@ CorrectorOutcome FamilySolver::correct(const Unknowns& guess, const CorrectorSet
   double previous_tolerance = 0.0;  // integration tolerance of the previous iteration
   Eigen::VectorXd residual(equations);
   Eigen::MatrixXd jacobian(equations, unknowns);
-  Eigen::VectorXd gradient;
   // Broyden's update of the transition-matrix block between chord steps: the shooting
   // residual's change along the last step corrects the reused Jacobian at no extra
   // integration, which turns linear chord convergence superlinear.
@@ -495,15 +530,8 @@ CorrectorOutcome FamilySolver::correct(const Unknowns& guess, const CorrectorSet
       have_hint_ = true;
     }
     const Eigen::VectorXd shooting = end_state - shift_phase_ * y0;
-    if (!fresh && have_previous_step) {
-      const Eigen::VectorXd state_step = previous_step.head(2 * m_);
-      const double step_norm2 = state_step.squaredNorm();
-      if (step_norm2 > 0.0) {
-        const Eigen::VectorXd predicted =
-            (hint_ - shift_phase_) * state_step + previous_time_column * previous_step(2 * m_);
-        hint_ += ((shooting - previous_shooting) - predicted) * state_step.transpose() / step_norm2;
-      }
-    }
+    if (!fresh && have_previous_step)
+      broyden_update(shooting - previous_shooting, previous_step, previous_time_column);
     const double energy = arclength ? u(2 * m_ + 1) * scale : setup.target_energy;
     residual.head(2 * m_) = shooting;
     residual(2 * m_) = (total_energy(y0, length) - energy) / scale;
@@ -548,17 +576,7 @@ CorrectorOutcome FamilySolver::correct(const Unknowns& guess, const CorrectorSet
     previous_norm = norm;
     fresh = false;
 
-    jacobian.setZero();
-    jacobian.topLeftCorner(2 * m_, 2 * m_) = hint_ - shift_phase_;
-    jacobian.block(0, 2 * m_, 2 * m_, 1) =
-        integrator_->scaled_velocity(run.scaled_state, scaling) * setup.time_scale / r_;
-    system_.gradient(integrator_->positions(y0, scaling), gradient);
-    jacobian.block(2 * m_, 0, 1, m_) =
-        (basis_.transpose() * gradient).transpose() / (omega_ * omega_ * length);
-    jacobian.block(2 * m_, m_, 1, m_) = y0.tail(m_).transpose();
-    if (arclength) jacobian(2 * m_, 2 * m_ + 1) = -1.0;
-    jacobian.block(2 * m_ + 1, 0, 1, 2 * m_) = setup.phase_direction.transpose();
-    if (arclength) jacobian.row(2 * m_ + 2) = setup.tangent.transpose();
+    fill_jacobian(run.scaled_state, y0, setup, scaling, jacobian);
     const Eigen::VectorXd step = jacobian.colPivHouseholderQr().solve(-residual);
     if (!step.allFinite()) {
       outcome.failure = "the newton step was not finite";
