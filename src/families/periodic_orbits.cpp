@@ -265,6 +265,10 @@ class FamilySolver {
     bool verifying = false;  // the whole period with samples (the verification pass)
   };
   IterationPlan plan_iteration(bool fresh, double expected_norm, bool verify) const;
+  // One corrector iteration's integration: a 1/r period (the whole period with samples
+  // when verifying), with variational equations when the Jacobian is refreshed.
+  detail::IntegrationRequest iteration_request(const Eigen::VectorXd& y0, double period,
+                                               const IterationPlan& plan, bool fresh) const;
   static double expected_next_norm(double norm, double previous_norm);
   // `verified`: the corrector's whole-period sampled run of this orbit, if it made one.
   bool analyze_point(const Unknowns& u, const CorrectorOutcome& verified, OrbitPoint& point,
@@ -463,6 +467,20 @@ void FamilySolver::fill_jacobian(const Eigen::VectorXd& end_state, const Eigen::
   if (arclength) jacobian.row(2 * m_ + 2) = setup.tangent.transpose();
 }
 
+detail::IntegrationRequest FamilySolver::iteration_request(const Eigen::VectorXd& y0, double period,
+                                                           const IterationPlan& plan, bool fresh) const {
+  detail::IntegrationRequest request;
+  request.scaled_state = y0;
+  request.duration = plan.verifying ? period : period / r_;
+  request.variational_basis = fresh ? &basis_ : nullptr;
+  request.tolerance = plan.tolerance;
+  if (plan.verifying) {
+    request.sample_count = sample_count_;
+    if (r_ > 1) request.checkpoint = period / r_;
+  }
+  return request;
+}
+
 CorrectorOutcome FamilySolver::correct(const Unknowns& guess, const CorrectorSetup& setup) {
   CorrectorOutcome outcome;
   const double length = setup.length;
@@ -497,18 +515,9 @@ CorrectorOutcome FamilySolver::correct(const Unknowns& guess, const CorrectorSet
     }
     const Eigen::VectorXd y0 = u.head(2 * m_);
     const IterationPlan plan = plan_iteration(fresh, expected_norm, setup.verify);
-    detail::IntegrationRequest request;
-    request.scaled_state = y0;
-    request.duration = plan.verifying ? period : period / r_;
-    request.variational_basis = fresh ? &basis_ : nullptr;
-    request.tolerance = plan.tolerance;
-    if (plan.verifying) {
-      request.sample_count = sample_count_;
-      if (r_ > 1) request.checkpoint = period / r_;
-    }
     integrator_->set_full_period(period);
-    const auto shared_run =
-        std::make_shared<detail::IntegrationOutcome>(integrator_->integrate(request, scaling));
+    const auto shared_run = std::make_shared<detail::IntegrationOutcome>(
+        integrator_->integrate(iteration_request(y0, period, plan, fresh), scaling));
     const detail::IntegrationOutcome& run = *shared_run;
     const bool checkpointed = plan.verifying && r_ > 1;
     const Eigen::VectorXd& end_state = checkpointed ? run.checkpoint_state : run.scaled_state;
