@@ -15,7 +15,7 @@ namespace {
 constexpr double plot_width = 900.0, plot_height = 420.0;
 constexpr double margin_left = 60.0, margin_right = 20.0, margin_top = 40.0, margin_bottom = 50.0;
 constexpr int axis_ticks = 8;
-// Sticks shorter than this fraction of the plot height get no label.
+// Sticks shorter than this fraction of the plot height get no label (they would overlap).
 constexpr double min_labelled_fraction = 0.04;
 
 std::string xml_escape(const std::string& text) {
@@ -96,6 +96,8 @@ std::string sticks(const Frame& frame, const SpectrumResult& spectrum) {
         "stroke-width=\"2\"{4}/>\n",
         frame.x(line.position_cm1), Frame::y(0.0), Frame::y(fraction), colour,
         line.hot ? " stroke-dasharray=\"4 3\"" : "");
+    // Resonance partners keep their label however weak: the mark is what they are drawn for.
+    if (fraction < min_labelled_fraction && line.polyad == 0) continue;
     const std::string text =
         line.polyad > 0 ? fmt::format("{} [polyad {}]", line.label, line.polyad) : line.label;
     out += fmt::format(
