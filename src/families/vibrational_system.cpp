@@ -63,6 +63,7 @@ void VibrationalSystem::compute_hessian_times(const Eigen::VectorXd& q, const Ei
     out.noalias() = hessian * directions;
     return;
   }
+  out.resize(n, directions.cols());  // callers may pass an empty scratch matrix
   for (Eigen::Index k = 0; k < directions.cols(); ++k) {
     const double norm = directions.col(k).norm();
     if (norm == 0.0) {
