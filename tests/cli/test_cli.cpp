@@ -13,49 +13,24 @@
 #include <utility>
 #include <vector>
 
+#include "support/program_run.hpp"
+
 namespace {
 
 const std::string source_dir = OVERTONE_SOURCE_DIR;
-const std::string program = OVERTONE_BINARY;
 
-struct ProgramRun {
-  int status = -1;
-  std::string out;
-  std::string err;
-};
-
-std::string slurp(const std::string& path) {
-  std::ifstream in(path);
-  std::stringstream buffer;
-  buffer << in.rdbuf();
-  return buffer.str();
-}
+using overtone::testing::expect_one_line_error;
+using overtone::testing::ProgramRun;
+using overtone::testing::slurp;
 
 ProgramRun run(const std::string& arguments) {
-  // CTest runs tests as parallel processes: give every run its own files.
-  static int counter = 0;
-  const std::string base =
-      ::testing::TempDir() + "overtone-cli-" + std::to_string(getpid()) + "-" + std::to_string(++counter);
-  const std::string command = program + " " + arguments + " >" + base + ".out 2>" + base + ".err";
-  ProgramRun result;
-  const int raw = std::system(command.c_str());
-  result.status = WIFEXITED(raw) ? WEXITSTATUS(raw) : -1;
-  result.out = slurp(base + ".out");
-  result.err = slurp(base + ".err");
-  return result;
+  return overtone::testing::run_program_line(arguments, "overtone-cli-");
 }
 
 std::string write_temp(const std::string& name, const std::string& text) {
   const std::string path = ::testing::TempDir() + std::to_string(getpid()) + "-" + name;
   std::ofstream(path) << text;
   return path;
-}
-
-void expect_one_line_error(const ProgramRun& result, const std::string& fragment) {
-  EXPECT_EQ(result.status, 1) << result.err;
-  EXPECT_EQ(result.err.rfind("overtone: error: ", 0), 0u) << result.err;
-  EXPECT_EQ(std::count(result.err.begin(), result.err.end(), '\n'), 1) << result.err;
-  EXPECT_NE(result.err.find(fragment), std::string::npos) << result.err;
 }
 
 TEST(Cli, AnalyzeWritesJsonAndCsvWithTheDocumentedFields) {
