@@ -588,6 +588,7 @@ void add_screen_arguments(CLI::App& command, ScreenArguments& arguments) {
       .add_option("--symmetry-tolerance", request.settings.symmetry_tolerance_angstrom,
                   "largest distance (Å) an atom may move when the structure is made exactly symmetric")
       ->capture_default_str();
+  add_exclusion_option(command, request.settings.vpt2_exclude_below_cm1);
   command
       .add_option("--progress", arguments.progress,
                   "auto (a bar on a terminal, a line every 10 s otherwise), bar, lines or none")

@@ -319,7 +319,9 @@ class MoleculeScreen {
         return run;
       }
       enter(screen_stage::anharmonic);
-      const AnharmonicResult anharmonic = analyze_anharmonic(analysis, potential);
+      AnharmonicOptions anharmonic_options;
+      anharmonic_options.vpt2.exclude_below_cm1 = settings_.vpt2_exclude_below_cm1;
+      const AnharmonicResult anharmonic = analyze_anharmonic(analysis, potential, anharmonic_options);
       for (const std::string& warning : anharmonic.vpt2.warnings) outcome.warnings.push_back(warning);
       add_anharmonic_rows(analysis, anharmonic, settings_.levels, outcome);
       if (settings_.stages == ScreenStages::families) {

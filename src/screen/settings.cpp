@@ -52,6 +52,9 @@ void ScreenSettings::validate() const {
   if (!(std::isfinite(family_quanta) && family_quanta > 0.0 && family_quanta <= max_family_quanta))
     throw Error(fmt::format("--quanta must be a number of quanta in the range 0 < value <= {}, got {}",
                             max_family_quanta, family_quanta));
+  if (!(std::isfinite(vpt2_exclude_below_cm1) && vpt2_exclude_below_cm1 >= 0.0))
+    throw Error(fmt::format("--vpt2-exclude-below must be a wavenumber >= 0 in cm-1, got {}",
+                            vpt2_exclude_below_cm1));
   if (!(std::isfinite(symmetry_tolerance_angstrom) && symmetry_tolerance_angstrom > 0.0 &&
         symmetry_tolerance_angstrom <= max_symmetry_tolerance_angstrom))
     throw Error(fmt::format("--symmetry-tolerance must be in the range 0 < value <= {} Å, got {}",
@@ -74,6 +77,10 @@ nlohmann::json settings_json(const ScreenSettings& settings) {
   document["stages"] = to_string(settings.stages);
   document["levels"] = settings.levels;
   document["symmetry_tolerance_angstrom"] = settings.symmetry_tolerance_angstrom;
+  // Written only when set, so that the runs stored before this setting existed (all of
+  // them without exclusion) keep their hash and a rerun resumes them.
+  if (settings.stages != ScreenStages::harmonic && settings.vpt2_exclude_below_cm1 > 0.0)
+    document["vpt2_exclude_below_cm1"] = settings.vpt2_exclude_below_cm1;
   if (settings.stages == ScreenStages::families) {
     document["all_families"] = settings.all_families;
     if (settings.family_energy_max_cm1 > 0.0)

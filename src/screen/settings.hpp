@@ -33,6 +33,9 @@ struct ScreenSettings {
   double family_quanta = 3.0;                 // continue each family to (quanta + 1) quanta of its own mode
   double family_energy_max_cm1 = 0;           // > 0: to this energy above the minimum instead (cm⁻¹)
   double symmetry_tolerance_angstrom = 0.02;  // largest displacement when symmetrizing (Å)
+  // > 0: VPT2 without the modes below this wavenumber (cm⁻¹), as `--vpt2-exclude-below`
+  // of analyze: torsions and other floppy modes whose perturbative treatment fails.
+  double vpt2_exclude_below_cm1 = 0.0;
 
   // Throws Error naming the field and its valid range.
   void validate() const;

@@ -209,6 +209,22 @@ TEST(ScreenSettings, HashNamesTheSettingsNotTheExecution) {
   EXPECT_NO_THROW(ScreenSettings{}.validate());
 }
 
+TEST(ScreenSettings, Vpt2ExclusionIsANewRunAndTheDefaultKeepsOldHashes) {
+  const ScreenSettings settings;
+  // Stores written before the exclusion existed hold runs without the key: the default
+  // (no exclusion) must leave the settings document as it was.
+  EXPECT_FALSE(settings_json(settings).contains("vpt2_exclude_below_cm1"));
+  ScreenSettings excluded = settings;
+  excluded.vpt2_exclude_below_cm1 = 200.0;
+  EXPECT_NE(settings_hash(settings_json(excluded)), settings_hash(settings_json(settings)));
+  excluded.stages = ScreenStages::harmonic;  // no VPT2 below the anharmonic stage
+  ScreenSettings harmonic = settings;
+  harmonic.stages = ScreenStages::harmonic;
+  EXPECT_EQ(settings_hash(settings_json(excluded)), settings_hash(settings_json(harmonic)));
+  excluded.vpt2_exclude_below_cm1 = -1.0;
+  EXPECT_THROW(excluded.validate(), Error);
+}
+
 TEST(IsotopeRules, SyntaxErrorsAreRefusedWithTheRule) {
   EXPECT_THROW(parse_isotope_rule(""), Error);
   EXPECT_THROW(parse_isotope_rule("C(=O)"), Error);    // no mass number
