@@ -789,122 +789,169 @@ bool unknown_command(CLI::App& app, int argc, char** argv) {
   return true;
 }
 
-}  // namespace
+// A command of the program: its parser, and what runs it once the arguments are parsed
+// (the arguments live as long as the closure).
+struct Command {
+  CLI::App* parser = nullptr;
+  std::function<int()> run;
+};
 
-int main(int argc, char** argv) {
-  CLI::App app{"overtone: harmonic and anharmonic vibrational analysis for assigning spectra"};
-  app.require_subcommand(1);
-
-  MoleculeArguments modes_arguments;
-  std::string json_path;
+Command add_modes_command(CLI::App& app) {
+  struct Arguments {
+    MoleculeArguments molecule;
+    std::string json_path;
+  };
+  auto arguments = std::make_shared<Arguments>();
   CLI::App* modes = app.add_subcommand("modes", "optimize the structure and print the harmonic normal modes");
-  add_molecule_arguments(*modes, modes_arguments);
-  modes->add_option("--json", json_path, "write the JSON document to PATH ('-' for standard output)");
+  add_molecule_arguments(*modes, arguments->molecule);
+  modes->add_option("--json", arguments->json_path,
+                    "write the JSON document to PATH ('-' for standard output)");
+  return {modes, [arguments] { return run_modes(arguments->molecule, arguments->json_path); }};
+}
 
-  MoleculeArguments analyze_arguments;
-  FamilyArguments analyze_family_arguments;
-  AnalyzeSwitches analyze_switches;
-  std::string out_directory = "overtone-out";
+Command add_analyze_command(CLI::App& app) {
+  struct Arguments {
+    MoleculeArguments molecule;
+    FamilyArguments families;
+    AnalyzeSwitches switches;
+    std::string out_directory = "overtone-out";
+  };
+  auto arguments = std::make_shared<Arguments>();
   CLI::App* analyze = app.add_subcommand(
       "analyze",
       "the full analysis: modes, anharmonic levels, families; writes analysis.json, modes.csv, lines.csv and "
       "families/*.csv");
-  add_molecule_arguments(*analyze, analyze_arguments);
-  add_family_arguments(*analyze, analyze_family_arguments);
+  add_molecule_arguments(*analyze, arguments->molecule);
+  add_family_arguments(*analyze, arguments->families);
   analyze
-      ->add_option("-o,--out", out_directory,
+      ->add_option("-o,--out", arguments->out_directory,
                    "output folder (replaced as a whole when complete; an existing one may hold only "
                    "earlier output)")
       ->capture_default_str();
-  analyze->add_flag("--no-anharmonic", analyze_switches.skip_anharmonic, "leave out the anharmonic stage");
-  analyze->add_flag("--no-families", analyze_switches.skip_families, "leave out the families stage");
-  add_exclusion_option(*analyze, analyze_switches.exclude_below_cm1);
+  analyze->add_flag("--no-anharmonic", arguments->switches.skip_anharmonic, "leave out the anharmonic stage");
+  analyze->add_flag("--no-families", arguments->switches.skip_families, "leave out the families stage");
+  add_exclusion_option(*analyze, arguments->switches.exclude_below_cm1);
+  return {analyze, [arguments] {
+            return run_analyze(arguments->molecule, arguments->families, arguments->switches,
+                               arguments->out_directory);
+          }};
+}
 
-  MoleculeArguments anharmonic_arguments;
-  AnharmonicPaths anharmonic_paths;
+Command add_anharmonic_command(CLI::App& app) {
+  struct Arguments {
+    MoleculeArguments molecule;
+    AnharmonicPaths paths;
+  };
+  auto arguments = std::make_shared<Arguments>();
+  AnharmonicPaths& paths = arguments->paths;
   CLI::App* anharmonic = app.add_subcommand(
       "anharmonic", "cubic and quartic force constants, VPT2 levels, resonances and the line list");
-  add_molecule_arguments(*anharmonic, anharmonic_arguments);
-  anharmonic->add_option("--json", anharmonic_paths.json,
-                         "write the JSON document to PATH ('-' for standard output)");
-  anharmonic->add_option("--lines", anharmonic_paths.lines, "write the line list (CSV) to PATH");
+  add_molecule_arguments(*anharmonic, arguments->molecule);
+  anharmonic->add_option("--json", paths.json, "write the JSON document to PATH ('-' for standard output)");
+  anharmonic->add_option("--lines", paths.lines, "write the line list (CSV) to PATH");
   anharmonic->add_option(
-      "--full-report", anharmonic_paths.full_report,
+      "--full-report", paths.full_report,
       "write the full text report (x matrices, every resonance candidate and level) to PATH");
-  add_exclusion_option(*anharmonic, anharmonic_paths.exclude_below_cm1);
+  add_exclusion_option(*anharmonic, paths.exclude_below_cm1);
   anharmonic->add_option(
-      "--export-taylor", anharmonic_paths.taylor,
+      "--export-taylor", paths.taylor,
       "write the quartic force field as a Taylor-expansion potential file (normal coordinates)");
+  return {anharmonic, [arguments] { return run_anharmonic(arguments->molecule, arguments->paths); }};
+}
 
-  MoleculeArguments families_arguments;
-  FamilyArguments family_arguments;
-  std::string families_json_path;
-  std::string csv_folder;
+Command add_families_command(CLI::App& app) {
+  struct Arguments {
+    MoleculeArguments molecule;
+    FamilyArguments families;
+    std::string json_path;
+    std::string csv_folder;
+    std::string full_report;
+  };
+  auto arguments = std::make_shared<Arguments>();
   CLI::App* families = app.add_subcommand(
       "families", "symmetry-predicted families of nonlinear normal modes and their backbone curves");
-  add_molecule_arguments(*families, families_arguments);
-  add_family_arguments(*families, family_arguments);
-  families->add_option("--json", families_json_path,
+  add_molecule_arguments(*families, arguments->molecule);
+  add_family_arguments(*families, arguments->families);
+  families->add_option("--json", arguments->json_path,
                        "write the JSON document to PATH ('-' for standard output)");
-  std::string families_full_report;
-  families->add_option("--full-report", families_full_report,
+  families->add_option("--full-report", arguments->full_report,
                        "write the full text report (one section per family) to PATH");
-  families->add_option("--csv", csv_folder,
+  families->add_option("--csv", arguments->csv_folder,
                        "write one CSV of backbone points per family into this folder (replaced as a whole)");
+  return {families, [arguments] {
+            return run_families(arguments->molecule, arguments->families, arguments->json_path,
+                                arguments->csv_folder, arguments->full_report);
+          }};
+}
 
-  MoleculeArguments symmetry_arguments;
-  bool with_modes = false;
+Command add_symmetry_command(CLI::App& app) {
+  struct Arguments {
+    MoleculeArguments molecule;
+    bool with_modes = false;
+  };
+  auto arguments = std::make_shared<Arguments>();
   CLI::App* symmetry = app.add_subcommand(
       "symmetry", "point group, operations, character table and the species of the vibrations");
-  add_molecule_arguments(*symmetry, symmetry_arguments);
-  symmetry->add_flag("--with-modes", with_modes,
+  add_molecule_arguments(*symmetry, arguments->molecule);
+  symmetry->add_flag("--with-modes", arguments->with_modes,
                      "optimize on the potential first and assign the species of the computed modes");
+  return {symmetry, [arguments] { return run_symmetry(arguments->molecule, arguments->with_modes); }};
+}
 
-  ScreenArguments screen_arguments;
+Command add_screen_command(CLI::App& app) {
+  auto arguments = std::make_shared<ScreenArguments>();
   CLI::App* screen = app.add_subcommand(
       "screen", "screen sets of molecules into an SQLite store that a rerun resumes (docs/screening.md)");
-  add_screen_arguments(*screen, screen_arguments);
+  add_screen_arguments(*screen, *arguments);
+  return {screen, [arguments] { return run_screen_command(*arguments); }};
+}
 
-  ScreenReportArguments report_arguments;
-  CLI::App* screen_report_command = add_screen_report_command(app, report_arguments);
+Command add_screen_report(CLI::App& app) {
+  auto arguments = std::make_shared<ScreenReportArguments>();
+  CLI::App* command = add_screen_report_command(app, *arguments);
+  return {command, [arguments] { return run_screen_report(*arguments); }};
+}
 
-  std::string merge_output;
-  std::vector<std::string> merge_inputs;
+Command add_merge_command(CLI::App& app) {
+  struct Arguments {
+    std::string output;
+    std::vector<std::string> inputs;
+  };
+  auto arguments = std::make_shared<Arguments>();
   CLI::App* merge = app.add_subcommand(
       "merge-stores",
       "add the results of screening stores (e.g. of --shard parts) to one store, without duplicates");
-  merge->add_option("OUT", merge_output, "the store to merge into (created when missing)")->required();
-  merge->add_option("IN", merge_inputs, "stores to merge")->required();
+  merge->add_option("OUT", arguments->output, "the store to merge into (created when missing)")->required();
+  merge->add_option("IN", arguments->inputs, "stores to merge")->required();
+  return {merge, [arguments] { return run_merge_stores(arguments->output, arguments->inputs); }};
+}
 
-  cli::SpectrumArguments spectrum_arguments;
-  CLI::App* spectrum = cli::add_spectrum_command(app, spectrum_arguments);
-  cli::AssignArguments assign_arguments;
-  CLI::App* assign = cli::add_assign_command(app, assign_arguments);
+Command add_spectrum(CLI::App& app) {
+  auto arguments = std::make_shared<cli::SpectrumArguments>();
+  CLI::App* command = cli::add_spectrum_command(app, *arguments);
+  return {command, [arguments] { return cli::run_spectrum(*arguments); }};
+}
 
-  if (unknown_command(app, argc, argv)) return user_error_status;
+Command add_assign(CLI::App& app) {
+  auto arguments = std::make_shared<cli::AssignArguments>();
+  CLI::App* command = cli::add_assign_command(app, *arguments);
+  return {command, [arguments] { return cli::run_assign(*arguments); }};
+}
+
+// Every command, in the order of the help text.
+std::vector<Command> add_commands(CLI::App& app) {
+  return {add_modes_command(app),      add_analyze_command(app),
+          add_anharmonic_command(app), add_families_command(app),
+          add_symmetry_command(app),   add_screen_command(app),
+          add_screen_report(app),      add_merge_command(app),
+          add_spectrum(app),           add_assign(app)};
+}
+
+// The chosen command, with an Error turned into one line and a non-zero status.
+int run_chosen(const std::vector<Command>& commands) {
   try {
-    app.parse(argc, argv);
-  } catch (const CLI::Success& success) {
-    return app.exit(success);  // --help: the help text, exit status 0
-  } catch (const CLI::ParseError& error) {
-    std::cerr << usage_error_line(error) << "\n";
-    return user_error_status;
-  }
-
-  try {
-    if (*modes) return run_modes(modes_arguments, json_path);
-    if (*analyze)
-      return run_analyze(analyze_arguments, analyze_family_arguments, analyze_switches, out_directory);
-    if (*anharmonic) return run_anharmonic(anharmonic_arguments, anharmonic_paths);
-    if (*families)
-      return run_families(families_arguments, family_arguments, families_json_path, csv_folder,
-                          families_full_report);
-    if (*symmetry) return run_symmetry(symmetry_arguments, with_modes);
-    if (*screen) return run_screen_command(screen_arguments);
-    if (*screen_report_command) return run_screen_report(report_arguments);
-    if (*merge) return run_merge_stores(merge_output, merge_inputs);
-    if (*spectrum) return cli::run_spectrum(spectrum_arguments);
-    if (*assign) return cli::run_assign(assign_arguments);
+    for (const Command& command : commands)
+      if (*command.parser) return command.run();
   } catch (const overtone::Error& error) {
     progress_display().clear();
     std::cerr << "overtone: error: " << printable_text(error.what()) << "\n";
@@ -915,4 +962,23 @@ int main(int argc, char** argv) {
     return internal_error_status;
   }
   return 0;
+}
+
+}  // namespace
+
+int main(int argc, char** argv) {
+  CLI::App app{"overtone: harmonic and anharmonic vibrational analysis for assigning spectra"};
+  app.require_subcommand(1);
+  const std::vector<Command> commands = add_commands(app);
+
+  if (unknown_command(app, argc, argv)) return user_error_status;
+  try {
+    app.parse(argc, argv);
+  } catch (const CLI::Success& success) {
+    return app.exit(success);  // --help: the help text, exit status 0
+  } catch (const CLI::ParseError& error) {
+    std::cerr << usage_error_line(error) << "\n";
+    return user_error_status;
+  }
+  return run_chosen(commands);
 }
