@@ -290,10 +290,12 @@ void add_family_arguments(CLI::App& command, FamilyArguments& arguments) {
       "continue only the families of fundamental νN (the ν column of the modes table); repeatable");
   const FamiliesOptions defaults;
   command
-      .add_flag("--all-modes", arguments.all_modes,
-                fmt::format("continue the families of every mode (above {} modes the default continues only "
-                            "the modes of flagged resonances and those at or above {:.0f} cm-1)",
-                            defaults.all_modes_up_to, defaults.selection_min_cm1))
+      .add_flag(
+          "--all-modes", arguments.all_modes,
+          fmt::format("continue the families of every mode (above {} modes the default continues only "
+                      "the modes at or above {:.0f} cm-1 and their partners at or above {:.0f} cm-1 in "
+                      "flagged resonances)",
+                      defaults.all_modes_up_to, defaults.selection_min_cm1, defaults.selection_floor_cm1))
       ->excludes("--mode");
   auto* energy = command.add_option("--energy-max", arguments.energy_max_cm1,
                                     "continue every family up to this energy above the minimum (cm-1), "
@@ -463,8 +465,10 @@ int run_analyze(const MoleculeArguments& arguments, const FamilyArguments& famil
     try {
       anharmonic = analyze_anharmonic(analysis, potential, anharmonic_options(switches.exclude_below_cm1));
       results.anharmonic = &*anharmonic;
-      // The default selection for large molecules keeps the families of flagged resonances.
-      options.resonance_mode_numbers = flagged_resonance_mode_numbers(analysis, *anharmonic);
+      // The default selection for large molecules keeps the families of flagged resonances
+      // with the stretches it continues anyway.
+      options.resonance_mode_numbers =
+          flagged_resonance_mode_numbers(analysis, *anharmonic, options.selection_min_cm1);
     } catch (const Error& error) {
       warn(std::string("anharmonic stage skipped: ") + error.what());
       results.anharmonic_skipped = error.what();

@@ -67,8 +67,8 @@ inline double eigenvalue_from_wavenumber_cm1(double wavenumber_cm1) {
   return wavenumber_cm1 < 0.0 ? -root * root : root * root;
 }
 
-// Force constant in kcal/mol/Å² to mdyn/Å (= aJ/Å²), the unit of the trade.
-inline constexpr double mdyn_per_angstrom_per_kcal_mol_per_angstrom2 = 1.0 / kcal_mol_per_attojoule;
+// Curvature in kcal/mol/Å² to aJ/Å² (numerically mdyn/Å), the unit of our potential files.
+inline constexpr double attojoule_per_angstrom2_per_kcal_mol_per_angstrom2 = 1.0 / kcal_mol_per_attojoule;
 
 // Dipole units: the debye is 1e-21/c C·m by definition (10⁻¹⁸ statC·cm); e·Å in debye.
 inline constexpr double debye_c_m = 1e-21 / speed_of_light_m_per_s;

@@ -43,6 +43,9 @@ void FamiliesOptions::validate() const {
   if (!std::isfinite(selection_min_cm1) || selection_min_cm1 < 0.0)
     throw Error(fmt::format("families option selection_min_cm1 = {} must be a non-negative wavenumber",
                             selection_min_cm1));
+  if (!std::isfinite(selection_floor_cm1) || selection_floor_cm1 < 0.0)
+    throw Error(fmt::format("families option selection_floor_cm1 = {} must be a non-negative wavenumber",
+                            selection_floor_cm1));
   if (!(enumeration.resonance_window_cm1 >= 0.0))
     throw Error(fmt::format("families option enumeration.resonance_window_cm1 = {} must be non-negative",
                             enumeration.resonance_window_cm1));
@@ -174,18 +177,20 @@ std::vector<bool> select_blocks(const FamiliesOptions& options, int dimension, F
   std::set<int> left_out;
   for (std::size_t b = 0; b < blocks.size(); ++b) {
     const double wavenumber = blocks[b].angular_frequency * result.units.cm1_per_angular_frequency;
-    selected[b] =
-        wavenumber >= options.selection_min_cm1 || block_has_mode(blocks[b], options.resonance_mode_numbers);
+    const bool resonant = wavenumber >= options.selection_floor_cm1 &&
+                          block_has_mode(blocks[b], options.resonance_mode_numbers);
+    selected[b] = wavenumber >= options.selection_min_cm1 || resonant;
     if (!selected[b]) left_out.insert(blocks[b].mode_numbers.begin(), blocks[b].mode_numbers.end());
   }
   result.left_out_mode_numbers.assign(left_out.begin(), left_out.end());
   if (!left_out.empty())
     result.selection_note = fmt::format(
-        "the families of {} of the {} modes were not continued: above {} modes only the modes of flagged "
-        "resonances and those at or above {:.0f} {} are continued unless other modes or all modes are asked "
-        "for",
+        "the families of {} of the {} modes were not continued: above {} modes only the modes at or above "
+        "{:.0f} {} and those of flagged resonances at or above {:.0f} {} are continued unless other modes or "
+        "all "
+        "modes are asked for",
         left_out.size(), dimension, options.all_modes_up_to, options.selection_min_cm1,
-        result.units.energy_label);
+        result.units.energy_label, options.selection_floor_cm1, result.units.energy_label);
   return selected;
 }
 

@@ -31,11 +31,17 @@ struct FamiliesOptions {
   // Default selection. Systems with at most all_modes_up_to coordinates: every block.
   // Larger ones: the blocks holding one of resonance_mode_numbers (the caller's flagged
   // resonances, e.g. the perturbative stage's) and the blocks whose harmonic wavenumber is
-  // at least selection_min_cm1 (the stretches whose overtones are measured). What is left
-  // out is listed in FamiliesResult::left_out_mode_numbers.
+  // at least selection_min_cm1 (the stretches whose overtones are measured), except the
+  // resonant blocks below selection_floor_cm1. What is left out is listed in
+  // FamiliesResult::left_out_mode_numbers.
   int all_modes_up_to = 36;
   std::vector<int> resonance_mode_numbers;
   double selection_min_cm1 = 1500.0;
+  // Torsions and other floppy modes: one period of theirs spans ω_max/ω steps of the fastest
+  // motion (a 30 cm⁻¹ torsion costs a hundred times a C–H stretch's family), and their
+  // quartic surface is the least trustworthy part of a force field. In a drug-sized
+  // molecule nearly every one of them takes part in some flagged combination resonance.
+  double selection_floor_cm1 = 400.0;
   bool continue_families = true;  // false: enumeration and resonance threats only
   EnumerationOptions enumeration;
   ContinuationOptions continuation;  // energy_max is set per family from the fields above

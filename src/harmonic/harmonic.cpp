@@ -26,8 +26,8 @@ void update_mode_properties(HarmonicResult& result, Eigen::Index k,
   const double squared_norm = cartesian.squaredNorm();
   result.cartesian_displacements.col(k) = cartesian / std::sqrt(squared_norm);
   result.reduced_masses_da[k] = 1.0 / squared_norm;
-  result.force_constants_mdyn_per_angstrom[k] = result.eigenvalues[k] * result.reduced_masses_da[k] *
-                                                units::mdyn_per_angstrom_per_kcal_mol_per_angstrom2;
+  result.stiffness_aj_per_angstrom2[k] = result.eigenvalues[k] * result.reduced_masses_da[k] *
+                                         units::attojoule_per_angstrom2_per_kcal_mol_per_angstrom2;
 }
 
 Eigen::VectorXd inverse_sqrt_masses(const Eigen::VectorXd& masses_da) {
@@ -213,7 +213,7 @@ HarmonicResult analyze_normal_modes(const Eigen::VectorXd& coordinates_angstrom,
 
   result.frequencies_cm1.resize(vib);
   result.reduced_masses_da.resize(vib);
-  result.force_constants_mdyn_per_angstrom.resize(vib);
+  result.stiffness_aj_per_angstrom2.resize(vib);
   result.cartesian_displacements.resize(n, vib);
   for (Eigen::Index k = 0; k < vib; ++k) {
     auto mode = result.mass_weighted_modes.col(k);
@@ -226,7 +226,7 @@ HarmonicResult analyze_normal_modes(const Eigen::VectorXd& coordinates_angstrom,
   // An absurd potential (constants of 1e300) gives finite but meaningless numbers, or
   // non-finite ones; neither may reach a report.
   if (!result.frequencies_cm1.allFinite() || !result.cartesian_displacements.allFinite() ||
-      !result.reduced_masses_da.allFinite() || !result.force_constants_mdyn_per_angstrom.allFinite())
+      !result.reduced_masses_da.allFinite() || !result.stiffness_aj_per_angstrom2.allFinite())
     throw Error("the normal-mode analysis gave non-finite numbers: the potential's constants are absurd");
   const double largest = result.frequencies_cm1.cwiseAbs().maxCoeff();
   if (largest > options.max_wavenumber_cm1)

@@ -61,15 +61,16 @@ struct HarmonicResult {
   Eigen::VectorXd coordinates_angstrom;  // 3N geometry the analysis was done at
   Eigen::VectorXd masses_da;             // N
   bool linear = false;
-  int rigid_body_count = 6;                           // 6, or 5 for a linear molecule
-  Eigen::MatrixXd cartesian_hessian;                  // kcal/mol/Å²
-  Eigen::MatrixXd rigid_body_basis;                   // R, 3N × r, orthonormal (mass-weighted)
-  Eigen::VectorXd eigenvalues;                        // kcal/mol/(Å² Da), ascending
-  Eigen::VectorXd frequencies_cm1;                    // signed: negative means imaginary; ascending
-  Eigen::MatrixXd mass_weighted_modes;                // L, 3N × (3N−r), orthonormal columns
-  Eigen::MatrixXd cartesian_displacements;            // columns M^{-1/2} L_k normalized to unit length
-  Eigen::VectorXd reduced_masses_da;                  // 1 / |M^{-1/2} L_k|²
-  Eigen::VectorXd force_constants_mdyn_per_angstrom;  // λ_k μ_k in mdyn/Å
+  int rigid_body_count = 6;                 // 6, or 5 for a linear molecule
+  Eigen::MatrixXd cartesian_hessian;        // kcal/mol/Å²
+  Eigen::MatrixXd rigid_body_basis;         // R, 3N × r, orthonormal (mass-weighted)
+  Eigen::VectorXd eigenvalues;              // kcal/mol/(Å² Da), ascending
+  Eigen::VectorXd frequencies_cm1;          // signed: negative means imaginary; ascending
+  Eigen::MatrixXd mass_weighted_modes;      // L, 3N × (3N−r), orthonormal columns
+  Eigen::MatrixXd cartesian_displacements;  // columns M^{-1/2} L_k normalized to unit length
+  Eigen::VectorXd reduced_masses_da;        // 1 / |M^{-1/2} L_k|²
+  Eigen::VectorXd
+      stiffness_aj_per_angstrom2;  // λ_k μ_k: curvature along the unit Cartesian displacement (aJ/Å²)
   Eigen::VectorXd
       rigid_body_eigenvalues;  // of the unprojected F restricted to rigid-body space, kcal/mol/(Å² Da)
   std::vector<std::string> warnings;

@@ -185,12 +185,18 @@ FamiliesResult analyze_families(const AnalysisResult& analysis, const Potential&
 }
 
 std::vector<int> flagged_resonance_mode_numbers(const AnalysisResult& analysis,
-                                                const AnharmonicResult& anharmonic) {
+                                                const AnharmonicResult& anharmonic, double upper_min_cm1) {
   std::set<int> fundamentals;
-  for (const Resonance& resonance : anharmonic.vpt2.resonances)
-    if (resonance.flagged)
-      for (const int set : resonance.sets)
-        fundamentals.insert(anharmonic.set_numbers.at(static_cast<std::size_t>(set)));
+  for (const Resonance& resonance : anharmonic.vpt2.resonances) {
+    if (!resonance.flagged) continue;
+    double highest_cm1 = 0.0;
+    for (const int set : resonance.sets)
+      highest_cm1 =
+          std::max(highest_cm1, anharmonic.vpt2.sets.at(static_cast<std::size_t>(set)).harmonic_cm1);
+    if (highest_cm1 < upper_min_cm1) continue;
+    for (const int set : resonance.sets)
+      fundamentals.insert(anharmonic.set_numbers.at(static_cast<std::size_t>(set)));
+  }
   return mode_numbers_of_fundamentals(analysis, std::vector<int>(fundamentals.begin(), fundamentals.end()));
 }
 

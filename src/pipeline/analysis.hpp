@@ -139,10 +139,13 @@ FamiliesResult analyze_families(const AnalysisResult& analysis, const Potential&
                                 const FamiliesOptions& options);
 
 // The mode numbers (report numbering) of every set taking part in a resonance the
-// perturbative stage flagged: FamiliesOptions::resonance_mode_numbers, so that the default
-// selection for large molecules keeps the families that resonances involve.
+// perturbative stage flagged whose highest fundamental lies at or above upper_min_cm1
+// (harmonic): FamiliesOptions::resonance_mode_numbers, so that the default selection for
+// large molecules keeps the families of the resonances that split measured bands (with
+// upper_min_cm1 = FamiliesOptions::selection_min_cm1: the partners of the stretches).
 std::vector<int> flagged_resonance_mode_numbers(const AnalysisResult& analysis,
-                                                const AnharmonicResult& anharmonic);
+                                                const AnharmonicResult& anharmonic,
+                                                double upper_min_cm1 = 0.0);
 
 // A Fermi resonance 2ν_lower ≈ ν_upper as the two stages see it: the perturbative
 // symmetry rule (Γ_upper in the symmetric square of Γ_lower) against the families'

@@ -125,7 +125,7 @@ nlohmann::json harmonic_to_json(const AnalysisResult& analysis) {
                  {"frequency_cm1", harmonic.frequencies_cm1[index]},
                  {"imaginary", harmonic.frequencies_cm1[index] < 0.0},
                  {"reduced_mass_da", harmonic.reduced_masses_da[index]},
-                 {"stiffness_aj_per_angstrom2", harmonic.force_constants_mdyn_per_angstrom[index]},
+                 {"stiffness_aj_per_angstrom2", harmonic.stiffness_aj_per_angstrom2[index]},
                  {"species", label.species.empty() ? json(nullptr) : json(label.species)},
                  {"ir_active", label.activity_known ? json(label.ir_active) : json(nullptr)},
                  {"raman_active", label.activity_known ? json(label.raman_active) : json(nullptr)},
@@ -150,7 +150,7 @@ std::string modes_csv(const AnalysisResult& analysis) {
     const int index = label.harmonic_index;
     text += fmt::format("{},{},{},{},{:.4f},{:.6f},{:.6f},{},{}\n", label.number, label.fundamental,
                         label.degenerate_set, label.species, harmonic.frequencies_cm1[index],
-                        harmonic.reduced_masses_da[index], harmonic.force_constants_mdyn_per_angstrom[index],
+                        harmonic.reduced_masses_da[index], harmonic.stiffness_aj_per_angstrom2[index],
                         flag(label, label.ir_active), flag(label, label.raman_active));
   }
   return text;
@@ -209,8 +209,7 @@ std::string modes_table(const AnalysisResult& analysis) {
     }
     text += fundamental_part + "  │" + pad(std::to_string(label.number), mode_width) + "  " +
             pad(fmt::format("{:.4f}", harmonic.reduced_masses_da[index]), mass_width) + "  " +
-            pad(fmt::format("{:.4f}", harmonic.force_constants_mdyn_per_angstrom[index]), stiffness_width) +
-            "\n";
+            pad(fmt::format("{:.4f}", harmonic.stiffness_aj_per_angstrom2[index]), stiffness_width) + "\n";
   }
   text += "deg: vectors sharing the ν number; μ: reduced mass; k: stiffness λμ along the vector (aJ/Å²)\n";
   for (const auto& warning : analysis.warnings) text += "warning: " + printable_text(warning) + "\n";

@@ -106,7 +106,7 @@ void add_harmonic_rows(const AnalysisResult& analysis, VariantOutcome& outcome) 
       row.raman_active = label.raman_active;
     }
     row.reduced_mass_da = harmonic.reduced_masses_da[index];
-    row.stiffness_aj_per_angstrom2 = harmonic.force_constants_mdyn_per_angstrom[index];
+    row.stiffness_aj_per_angstrom2 = harmonic.stiffness_aj_per_angstrom2[index];
     if (row.harmonic_cm1 < 0.0) ++outcome.imaginary_modes;
     outcome.modes.push_back(row);
   }

@@ -3,6 +3,7 @@
 // groups, and the predicted spatio-temporal symmetry checked on computed trajectories.
 #include <gtest/gtest.h>
 
+#include <algorithm>
 #include <cmath>
 #include <map>
 #include <tuple>
@@ -458,6 +459,18 @@ TEST(MolecularFamilies, LargeSystemsContinueStretchesAndResonantModesByDefault) 
     EXPECT_EQ(family.continued, wavenumber >= 2000.0 || resonant) << family.type.description;
   }
   expect_orbits_keep_their_symmetry(result);
+
+  // A resonant block below the floor is left out too (ν2, about 1534 cm⁻¹ here).
+  options.selection_floor_cm1 = 1700.0;
+  const FamiliesResult floored =
+      compute_molecular_families(*p.potential, p.harmonic, p.group, p.species, {}, options);
+  EXPECT_EQ(floored.left_out_mode_numbers.size(), 5u);  // the T2 bend and the E bend
+  for (const int mode : e_block)
+    EXPECT_NE(std::find(floored.left_out_mode_numbers.begin(), floored.left_out_mode_numbers.end(), mode + 1),
+              floored.left_out_mode_numbers.end());
+  options.selection_floor_cm1 = -1.0;
+  EXPECT_THROW(options.validate(), Error);
+  options.selection_floor_cm1 = FamiliesOptions{}.selection_floor_cm1;
 
   options.continue_families = false;  // the selection alone: everything when asked for all
   options.all_modes = true;

@@ -101,6 +101,11 @@ TEST(LaterStages, CarbonDioxideFermiDyadSeenByBothStages) {
   // (the bend is doubly degenerate), not ν3.
   std::vector<int> expected = mode_numbers_of_fundamentals(co2.analysis, {1, 2});
   EXPECT_EQ(flagged_resonance_mode_numbers(co2.analysis, anharmonic), expected);
+  // Tied to the stretches continued anyway: the dyad's upper member ν1 lies between 1000
+  // and 2000 cm⁻¹ (the observed dyad is at 1285/1388 cm⁻¹, Herzberg, Infrared and Raman
+  // Spectra, 1945).
+  EXPECT_EQ(flagged_resonance_mode_numbers(co2.analysis, anharmonic, 1000.0), expected);
+  EXPECT_TRUE(flagged_resonance_mode_numbers(co2.analysis, anharmonic, 2000.0).empty());
 }
 
 TEST(LaterStages, MethaneAndAmmoniaResonanceRulesAgree) {
