@@ -15,8 +15,22 @@ namespace {
 namespace odeint = boost::numeric::odeint;
 using State = std::vector<double>;
 
-// The variational part of the state: X̂ and Ŷ, c × 2c each, column-major, after â, b̂, Ĵ.
+// The entries of X̂ or of Ŷ (c × 2c, column-major) in the variational part of a state,
+// which holds X̂ then Ŷ.
 Eigen::Index transition_block_size(int c) { return static_cast<Eigen::Index>(c) * 2 * c; }
+
+// The variational equations X̂' = ω₀Ŷ, Ŷ' = −(S/ω₀)X̂ with S the symmetrized projected
+// Hessian CᵀHC: rates of the variational part at `part` written to `rate`.
+void variational_rates(const double* part, double* rate, int c, double omega,
+                       const Eigen::MatrixXd& hessian) {
+  const Eigen::Index block = transition_block_size(c);
+  Eigen::Map<const Eigen::MatrixXd> transition_positions(part, c, 2 * c);
+  Eigen::Map<const Eigen::MatrixXd> transition_momenta(part + block, c, 2 * c);
+  Eigen::Map<Eigen::MatrixXd> positions_rate(rate, c, 2 * c), momenta_rate(rate + block, c, 2 * c);
+  positions_rate = omega * transition_momenta;
+  momenta_rate.noalias() = hessian * transition_positions;
+  momenta_rate *= -1.0 / omega;
+}
 
 // Right-hand side of the scaled equations of motion, the action integrand and, when a
 // variational basis C is given, the variational equations X̂' = ω₀Ŷ, Ŷ' = −(CᵀHC/ω₀)X̂.
@@ -48,15 +62,7 @@ class ScaledEquations {
     system_.hessian_times(positions_, *variational_, hessian_columns_);
     projected_hessian_.noalias() = variational_->transpose() * hessian_columns_;
     symmetric_hessian_ = 0.5 * (projected_hessian_ + projected_hessian_.transpose());
-    const Eigen::Index block = transition_block_size(c_);
-    const double* x_var = x.data() + 2 * m_ + 1;
-    double* d_var = dxdt.data() + 2 * m_ + 1;
-    Eigen::Map<const Eigen::MatrixXd> transition_positions(x_var, c_, 2 * c_);
-    Eigen::Map<const Eigen::MatrixXd> transition_momenta(x_var + block, c_, 2 * c_);
-    Eigen::Map<Eigen::MatrixXd> positions_rate(d_var, c_, 2 * c_), momenta_rate(d_var + block, c_, 2 * c_);
-    positions_rate = omega * transition_momenta;
-    momenta_rate.noalias() = symmetric_hessian_ * transition_positions;
-    momenta_rate *= -1.0 / omega;
+    variational_rates(x.data() + 2 * m_ + 1, dxdt.data() + 2 * m_ + 1, c_, omega, symmetric_hessian_);
   }
 
  private:
@@ -416,13 +422,7 @@ bool interpolated_transition(const VibrationalSystem& system, const Interpolated
     weights(position, start, offsets, lagrange);
     hessian.setZero();
     for (int i = 0; i < stencil; ++i) hessian += lagrange[static_cast<std::size_t>(i)] * node(start + i);
-    Eigen::Map<const Eigen::MatrixXd> transition_positions(x.data(), c, 2 * c);
-    Eigen::Map<const Eigen::MatrixXd> transition_momenta(x.data() + block, c, 2 * c);
-    Eigen::Map<Eigen::MatrixXd> positions_rate(dxdt.data(), c, 2 * c),
-        momenta_rate(dxdt.data() + block, c, 2 * c);
-    positions_rate = omega * transition_momenta;
-    momenta_rate.noalias() = hessian * transition_positions;
-    momenta_rate *= -1.0 / omega;
+    variational_rates(x.data(), dxdt.data(), c, omega, hessian);
   };
   State x(static_cast<std::size_t>(2 * block), 0.0);
   start_transition_at_identity(x.data(), c);
