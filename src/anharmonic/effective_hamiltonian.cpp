@@ -241,28 +241,28 @@ double AnharmonicOperator::cubic_between(const Quanta& n,
   return sum;
 }
 
-double AnharmonicOperator::second_order(const Quanta& m, const Quanta& n, const StateSet& excluded) const {
+AnharmonicOperator::Separation AnharmonicOperator::separation(const Quanta& m, const Quanta& n) const {
   const int modes = mode_count();
-  std::vector<int> delta(static_cast<std::size_t>(modes), 0);  // n − m
-  std::vector<int> differing;
-  int distance = 0;
-  double gap = 0.0;  // E_n − E_m
+  Separation apart;
+  apart.delta.assign(static_cast<std::size_t>(modes), 0);
   for (int i = 0; i < modes; ++i) {
     const int d = n[static_cast<std::size_t>(i)] - m[static_cast<std::size_t>(i)];
     if (d == 0) continue;
-    delta[static_cast<std::size_t>(i)] = d;
-    differing.push_back(i);
-    distance += std::abs(d);
-    gap += omega_[i] * d;
+    apart.delta[static_cast<std::size_t>(i)] = d;
+    apart.differing.push_back(i);
+    apart.distance += std::abs(d);
+    apart.gap += omega_[i] * d;
   }
-  // Two cubic steps move an even number of quanta, at most six.
-  if (distance % 2 != 0 || distance > 6) return 0.0;
+  return apart;
+}
 
-  // The terms that can reach an intermediate within one cubic step of n: those touching
-  // a mode where m and n differ; when they differ by two quanta or less, also every term
-  // that moves one quantum; when they are equal, all. Four or more quanta apart, a term of
-  // three different modes moves each by one quantum and must bring two of them closer to
-  // n. Each term is visited once.
+// The terms that can reach an intermediate within one cubic step of n: those touching
+// a mode where m and n differ; when they differ by two quanta or less, also every term
+// that moves one quantum; when they are equal, all. Four or more quanta apart, a term of
+// three different modes moves each by one quantum and must bring two of them closer to
+// n. Each term is visited once.
+std::vector<int> AnharmonicOperator::terms_towards(const Separation& apart) const {
+  const std::vector<int>& differing = apart.differing;
   std::vector<int> candidates;
   auto touches_earlier = [&](const CubicTerm& t, std::size_t position) {
     for (std::size_t p = 0; p < position; ++p)
@@ -270,42 +270,49 @@ double AnharmonicOperator::second_order(const Quanta& m, const Quanta& n, const 
         if (t.modes[static_cast<std::size_t>(f)] == differing[p]) return true;
     return false;
   };
-  if (distance == 0) {
+  if (apart.distance == 0) {
     candidates.resize(cubic_terms_.size());
     for (std::size_t t = 0; t < cubic_terms_.size(); ++t) candidates[t] = static_cast<int>(t);
-  } else if (distance == 2) {
+    return candidates;
+  }
+  if (apart.distance == 2) {
     for (std::size_t p = 0; p < differing.size(); ++p)
       for (int t : terms_of_mode_[static_cast<std::size_t>(differing[p])])
         if (!touches_earlier(cubic_terms_[static_cast<std::size_t>(t)], p)) candidates.push_back(t);
     for (int t : single_quantum_terms_)
       if (!touches_earlier(cubic_terms_[static_cast<std::size_t>(t)], differing.size()))
         candidates.push_back(t);
-  } else {
-    for (std::size_t p = 0; p < differing.size(); ++p)
-      for (int t : paired_terms_of_mode_[static_cast<std::size_t>(differing[p])])
-        if (!touches_earlier(cubic_terms_[static_cast<std::size_t>(t)], p)) candidates.push_back(t);
-    // A term touching three of the differing modes is listed under three pairs: take it
-    // from the pair of its first two.
-    const auto modes = static_cast<std::size_t>(mode_count());
-    for (std::size_t p = 0; p < differing.size(); ++p)
-      for (std::size_t q = p + 1; q < differing.size(); ++q) {
-        const auto [low, high] = std::minmax(differing[p], differing[q]);
-        const std::size_t pair = static_cast<std::size_t>(low) * modes + static_cast<std::size_t>(high);
-        for (int e = pair_start_[pair]; e < pair_start_[pair + 1]; ++e) {
-          const int t = terms_of_pair_[static_cast<std::size_t>(e)];
-          const CubicTerm& term = cubic_terms_[static_cast<std::size_t>(t)];
-          bool first_pair = true;
-          for (std::size_t r = 0; r < q && first_pair; ++r)
-            if (r != p)
-              for (int f = 0; f < 3; ++f)
-                first_pair = first_pair && term.modes[static_cast<std::size_t>(f)] != differing[r];
-          if (first_pair) candidates.push_back(t);
-        }
-      }
+    return candidates;
   }
+  for (std::size_t p = 0; p < differing.size(); ++p)
+    for (int t : paired_terms_of_mode_[static_cast<std::size_t>(differing[p])])
+      if (!touches_earlier(cubic_terms_[static_cast<std::size_t>(t)], p)) candidates.push_back(t);
+  // A term touching three of the differing modes is listed under three pairs: take it
+  // from the pair of its first two.
+  const auto modes = static_cast<std::size_t>(mode_count());
+  for (std::size_t p = 0; p < differing.size(); ++p)
+    for (std::size_t q = p + 1; q < differing.size(); ++q) {
+      const auto [low, high] = std::minmax(differing[p], differing[q]);
+      const std::size_t pair = static_cast<std::size_t>(low) * modes + static_cast<std::size_t>(high);
+      for (int e = pair_start_[pair]; e < pair_start_[pair + 1]; ++e) {
+        const int t = terms_of_pair_[static_cast<std::size_t>(e)];
+        const CubicTerm& term = cubic_terms_[static_cast<std::size_t>(t)];
+        bool first_pair = true;
+        for (std::size_t r = 0; r < q && first_pair; ++r)
+          if (r != p)
+            for (int f = 0; f < 3; ++f)
+              first_pair = first_pair && term.modes[static_cast<std::size_t>(f)] != differing[r];
+        if (first_pair) candidates.push_back(t);
+      }
+    }
+  return candidates;
+}
 
-  // ⟨k|V₃|m⟩ summed over terms per intermediate k = m + step.
-  std::vector<std::pair<std::uint64_t, double>> reached;
+// ⟨k|V₃|m⟩ of every candidate term for each intermediate k = m + step within three quanta
+// of n, sorted by step so that the terms reaching one intermediate are adjacent.
+std::vector<AnharmonicOperator::ReachedState> AnharmonicOperator::intermediates_from(
+    const Quanta& m, const Separation& apart, const std::vector<int>& candidates) const {
+  std::vector<ReachedState> reached;
   for (int index : candidates) {
     const CubicTerm& t = cubic_terms_[static_cast<std::size_t>(index)];
     std::array<int, 3> change{};
@@ -313,14 +320,14 @@ double AnharmonicOperator::second_order(const Quanta& m, const Quanta& n, const 
       change[static_cast<std::size_t>(f)] = -t.powers[static_cast<std::size_t>(f)];
     // Odometer over the changes −p, −p+2, …, p of each factor.
     while (true) {
-      int moved_distance = distance;
+      int moved_distance = apart.distance;
       double amplitude = t.value;
       Step step;
       for (int f = 0; f < t.factor_count && amplitude != 0.0; ++f) {
         const auto fi = static_cast<std::size_t>(f);
         const int mode = t.modes[fi];
         const int from = m[static_cast<std::size_t>(mode)];
-        const int d = delta[static_cast<std::size_t>(mode)];
+        const int d = apart.delta[static_cast<std::size_t>(mode)];
         moved_distance += std::abs(change[fi] - d) - std::abs(d);
         amplitude *=
             from + change[fi] < 0 ? 0.0 : coordinate_power_element(from + change[fi], from, t.powers[fi]);
@@ -345,7 +352,14 @@ double AnharmonicOperator::second_order(const Quanta& m, const Quanta& n, const 
     }
   }
   std::sort(reached.begin(), reached.end(), [](const auto& a, const auto& b) { return a.first < b.first; });
+  return reached;
+}
 
+// Σ_k ⟨n|V₃|k⟩⟨k|V₃|m⟩ · ½ (1/(E_m − E_k) + 1/(E_n − E_k)) over the reached intermediates
+// not in `excluded`.
+double AnharmonicOperator::sum_over_intermediates(const Quanta& m, const Quanta& n, const Separation& apart,
+                                                  const std::vector<ReachedState>& reached,
+                                                  const StateSet& excluded) const {
   double total = 0.0;
   Quanta k = m;
   std::vector<std::pair<int, int>> to_n;  // k − n, mode by mode
@@ -363,21 +377,30 @@ double AnharmonicOperator::second_order(const Quanta& m, const Quanta& n, const 
     }
     if (!excluded.count(k)) {
       to_n.clear();
-      for (int i : differing)
+      for (int i : apart.differing)
         to_n.emplace_back(i, k[static_cast<std::size_t>(i)] - n[static_cast<std::size_t>(i)]);
       for (int f = 0; f < step.count; ++f) {
         const int mode = step.modes[static_cast<std::size_t>(f)];
-        if (delta[static_cast<std::size_t>(mode)] == 0)
+        if (apart.delta[static_cast<std::size_t>(mode)] == 0)
           to_n.emplace_back(mode, k[static_cast<std::size_t>(mode)] - n[static_cast<std::size_t>(mode)]);
       }
       const double from_n = cubic_between(n, to_n);
-      if (from_n != 0.0) total += from_m * from_n * 0.5 * (1.0 / (-step_energy) + 1.0 / (gap - step_energy));
+      if (from_n != 0.0)
+        total += from_m * from_n * 0.5 * (1.0 / (-step_energy) + 1.0 / (apart.gap - step_energy));
     }
     for (int f = 0; f < step.count; ++f)
       k[static_cast<std::size_t>(step.modes[static_cast<std::size_t>(f)])] -=
           step.changes[static_cast<std::size_t>(f)];
   }
   return total;
+}
+
+double AnharmonicOperator::second_order(const Quanta& m, const Quanta& n, const StateSet& excluded) const {
+  const Separation apart = separation(m, n);
+  // Two cubic steps move an even number of quanta, at most six.
+  if (apart.distance % 2 != 0 || apart.distance > 6) return 0.0;
+  const std::vector<ReachedState> reached = intermediates_from(m, apart, terms_towards(apart));
+  return sum_over_intermediates(m, n, apart, reached, excluded);
 }
 
 double AnharmonicOperator::element(const Quanta& m, const Quanta& n, const StateSet& excluded) const {

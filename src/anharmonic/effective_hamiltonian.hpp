@@ -20,7 +20,9 @@
 // Darling–Dennison coupling, O(M²) for two quanta apart) and keeps no state between calls.
 #include <Eigen/Dense>
 #include <array>
+#include <cstdint>
 #include <unordered_set>
+#include <utility>
 #include <vector>
 
 #include "anharmonic/force_constants.hpp"
@@ -60,6 +62,22 @@ class AnharmonicOperator {
     int factor_count = 0;
     double value = 0.0;  // φ / Π power!
   };
+  // How n differs from m: n − m by mode, the modes where they differ, the quanta apart and
+  // E_n − E_m (cm⁻¹).
+  struct Separation {
+    std::vector<int> delta;
+    std::vector<int> differing;
+    int distance = 0;
+    double gap = 0.0;
+  };
+  // An intermediate k = m + step (packed) with ⟨k|V₃|m⟩ summed over the terms reaching it.
+  using ReachedState = std::pair<std::uint64_t, double>;
+  Separation separation(const Quanta& m, const Quanta& n) const;
+  std::vector<int> terms_towards(const Separation& apart) const;
+  std::vector<ReachedState> intermediates_from(const Quanta& m, const Separation& apart,
+                                               const std::vector<int>& candidates) const;
+  double sum_over_intermediates(const Quanta& m, const Quanta& n, const Separation& apart,
+                                const std::vector<ReachedState>& reached, const StateSet& excluded) const;
   double term(const std::vector<int>& counts, const Quanta& m, const Quanta& n, int rank) const;
   double constant(const std::vector<int>& indices) const;
   // ⟨k|V₃|n⟩ where k − n is nonzero only at the given modes (by the given changes).

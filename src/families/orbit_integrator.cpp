@@ -12,7 +12,25 @@ namespace overtone::detail {
 
 namespace {
 
+namespace odeint = boost::numeric::odeint;
 using State = std::vector<double>;
+
+// The entries of X̂ or of Ŷ (c × 2c, column-major) in the variational part of a state,
+// which holds X̂ then Ŷ.
+Eigen::Index transition_block_size(int c) { return static_cast<Eigen::Index>(c) * 2 * c; }
+
+// The variational equations X̂' = ω₀Ŷ, Ŷ' = −(S/ω₀)X̂ with S the symmetrized projected
+// Hessian CᵀHC: rates of the variational part at `part` written to `rate`.
+void variational_rates(const double* part, double* rate, int c, double omega,
+                       const Eigen::MatrixXd& hessian) {
+  const Eigen::Index block = transition_block_size(c);
+  Eigen::Map<const Eigen::MatrixXd> transition_positions(part, c, 2 * c);
+  Eigen::Map<const Eigen::MatrixXd> transition_momenta(part + block, c, 2 * c);
+  Eigen::Map<Eigen::MatrixXd> positions_rate(rate, c, 2 * c), momenta_rate(rate + block, c, 2 * c);
+  positions_rate = omega * transition_momenta;
+  momenta_rate.noalias() = hessian * transition_positions;
+  momenta_rate *= -1.0 / omega;
+}
 
 // Right-hand side of the scaled equations of motion, the action integrand and, when a
 // variational basis C is given, the variational equations X̂' = ω₀Ŷ, Ŷ' = −(CᵀHC/ω₀)X̂.
@@ -44,14 +62,7 @@ class ScaledEquations {
     system_.hessian_times(positions_, *variational_, hessian_columns_);
     projected_hessian_.noalias() = variational_->transpose() * hessian_columns_;
     symmetric_hessian_ = 0.5 * (projected_hessian_ + projected_hessian_.transpose());
-    const Eigen::Index block = static_cast<Eigen::Index>(c_) * 2 * c_;
-    const double* x_var = x.data() + 2 * m_ + 1;
-    double* d_var = dxdt.data() + 2 * m_ + 1;
-    Eigen::Map<const Eigen::MatrixXd> X(x_var, c_, 2 * c_), Y(x_var + block, c_, 2 * c_);
-    Eigen::Map<Eigen::MatrixXd> dX(d_var, c_, 2 * c_), dY(d_var + block, c_, 2 * c_);
-    dX = omega * Y;
-    dY.noalias() = symmetric_hessian_ * X;
-    dY *= -1.0 / omega;
+    variational_rates(x.data() + 2 * m_ + 1, dxdt.data() + 2 * m_ + 1, c_, omega, symmetric_hessian_);
   }
 
  private:
@@ -110,6 +121,156 @@ std::vector<Eigen::VectorXd> hermite_samples(const std::vector<double>& times,
   return samples;
 }
 
+// X̂ = [I 0], Ŷ = [0 I]: the identity on span(C) × span(C), written to the variational
+// part of a state.
+void start_transition_at_identity(double* variational_part, int c) {
+  Eigen::Map<Eigen::MatrixXd> transition_positions(variational_part, c, 2 * c);
+  Eigen::Map<Eigen::MatrixXd> transition_momenta(variational_part + transition_block_size(c), c, 2 * c);
+  transition_positions.leftCols(c).setIdentity();
+  transition_momenta.rightCols(c).setIdentity();
+}
+
+// Φ̂ = [X̂; Ŷ] from the variational part of a state.
+Eigen::MatrixXd transition_of(const double* variational_part, int c) {
+  Eigen::MatrixXd transition(2 * c, 2 * c);
+  transition.topRows(c) = Eigen::Map<const Eigen::MatrixXd>(variational_part, c, 2 * c);
+  transition.bottomRows(c) =
+      Eigen::Map<const Eigen::MatrixXd>(variational_part + transition_block_size(c), c, 2 * c);
+  return transition;
+}
+
+// (â, b̂) from the request, Ĵ = 0 and, with c variational directions, the identity
+// transition.
+State initial_state(const Eigen::VectorXd& scaled_state, int m, int c) {
+  State x(static_cast<std::size_t>(2 * m + 1 + 2 * transition_block_size(c)), 0.0);
+  Eigen::Map<Eigen::VectorXd>(x.data(), 2 * m) = scaled_state;
+  if (c > 0) start_transition_at_identity(x.data() + 2 * m + 1, c);
+  return x;
+}
+
+using Stepper = decltype(odeint::make_controlled(1.0, 1.0, odeint::runge_kutta_fehlberg78<State>()));
+
+// The stepping of one integration from t = 0 to the request's duration: step-size control,
+// the checkpoint, the escape, non-finite and step-limit tests, and for sampled
+// integrations the record of every accepted state with its derivative, interpolated
+// afterwards so that the step size is never cut to hit a sample time.
+class OrbitRun {
+ public:
+  OrbitRun(ScaledEquations& equations, State& x, int m, const IntegrationRequest& request,
+           const OrbitScaling& scaling, IntegrationOutcome& outcome)
+      : equations_(equations),
+        x_(x),
+        dxdt_(x.size()),
+        m_(m),
+        request_(request),
+        scaling_(scaling),
+        outcome_(outcome),
+        sampling_(request.sample_count > 0) {}
+
+  // Integrates to the duration with first trial step dt (left at the last full accepted
+  // step); false, with the outcome's failure set, when the orbit cannot be completed.
+  bool advance(Stepper& stepper, double& dt, double escape_radius, std::size_t max_steps) {
+    const double duration = request_.duration;
+    const double finish_slack = 1e-13 * duration;  // round-off in accumulated times
+    try {
+      equations_(x_, dxdt_, t_);
+    } catch (const Error& refusal) {
+      return refuse(refusal);
+    }
+    record();
+    const bool checkpointing = request_.checkpoint > 0.0 && request_.checkpoint < duration;
+    bool checkpoint_reached = !checkpointing;
+    while (duration - t_ > finish_slack) {
+      const double stop = checkpoint_reached ? duration : request_.checkpoint;
+      // Two even steps instead of a full one and a sliver: the samples are interpolated
+      // between step ends, which nearly coincident ends would make ill-conditioned.
+      double trial = stop - t_ <= dt ? stop - t_ : (stop - t_ < 1.5 * dt ? 0.5 * (stop - t_) : dt);
+      const bool clipped = trial < dt;
+      odeint::controlled_step_result step_result = odeint::fail;
+      try {
+        // The derivative at the current state serves every trial from it (it is the first
+        // stage of each), so a rejected step costs one evaluation less.
+        step_result = stepper.try_step(equations_, x_, dxdt_, t_, trial);
+        if (step_result == odeint::success) equations_(x_, dxdt_, t_);
+      } catch (const Error& refusal) {
+        return refuse(refusal);
+      }
+      if (step_result == odeint::success) {
+        ++outcome_.steps;
+        if (!clipped) dt = trial;
+        if (!accept_step(escape_radius)) return false;
+        if (!checkpoint_reached && request_.checkpoint - t_ <= finish_slack) {
+          checkpoint_reached = true;
+          keep_checkpoint();
+        }
+      } else {
+        ++outcome_.rejected_steps;
+        dt = trial;
+      }
+      if (outcome_.steps + outcome_.rejected_steps > max_steps)
+        return fail("the integrator needed more than the allowed number of steps");
+    }
+    return true;
+  }
+
+  // The samples and step states of a completed sampled integration.
+  void interpolate_samples() {
+    step_times_.back() = request_.duration;  // within the finish slack of it
+    outcome_.samples = hermite_samples(step_times_, step_states_, step_derivatives_, request_.sample_count);
+    outcome_.step_states = std::move(step_states_);
+  }
+
+ private:
+  bool fail(const char* reason) {
+    outcome_.failure = reason;
+    return false;
+  }
+
+  // A potential that refuses a point (the hole guard of a Taylor expansion that has turned
+  // over) ends this orbit like an escape, with the potential's reason.
+  bool refuse(const Error& refusal) {
+    outcome_.failure =
+        std::string("escape: the potential refused to evaluate the orbit (") + refusal.what() + ")";
+    return false;
+  }
+
+  bool accept_step(double escape_radius) {
+    Eigen::Map<const Eigen::VectorXd> a(x_.data(), m_);
+    const double radius = scaling_.length * a.norm();
+    if (!std::isfinite(radius) || !std::isfinite(x_[2 * m_]))
+      return fail("the orbit's state became non-finite");
+    if (radius > escape_radius)
+      return fail("the orbit left the bound region (|q| grew past the escape radius)");
+    record();
+    return true;
+  }
+
+  void keep_checkpoint() {
+    outcome_.checkpoint_state = Eigen::Map<const Eigen::VectorXd>(x_.data(), 2 * m_);
+    outcome_.checkpoint_momentum_square_integral =
+        x_[2 * m_] * scaling_.angular_frequency * scaling_.length * scaling_.length;
+  }
+
+  void record() {
+    if (!sampling_) return;
+    step_times_.push_back(t_);
+    step_states_.push_back(Eigen::Map<const Eigen::VectorXd>(x_.data(), 2 * m_));
+    step_derivatives_.push_back(Eigen::Map<const Eigen::VectorXd>(dxdt_.data(), 2 * m_));
+  }
+
+  ScaledEquations& equations_;
+  State& x_;
+  State dxdt_;
+  int m_;
+  const IntegrationRequest& request_;
+  const OrbitScaling& scaling_;
+  IntegrationOutcome& outcome_;
+  bool sampling_;
+  double t_ = 0.0;
+  std::vector<double> step_times_;
+  std::vector<Eigen::VectorXd> step_states_, step_derivatives_;
+};
+
 }  // namespace
 
 OrbitIntegrator::OrbitIntegrator(const VibrationalSystem& system, Eigen::MatrixXd basis, double tolerance,
@@ -146,150 +307,53 @@ Eigen::VectorXd OrbitIntegrator::scaled_velocity(const Eigen::VectorXd& scaled_s
 
 IntegrationOutcome OrbitIntegrator::integrate(const IntegrationRequest& request,
                                               const OrbitScaling& scaling) {
-  namespace odeint = boost::numeric::odeint;
   const auto started = std::chrono::steady_clock::now();
   const int m = reduced_dimension();
   const Eigen::MatrixXd* variational = request.variational_basis;
   const int c = variational ? static_cast<int>(variational->cols()) : 0;
-  const std::size_t variational_size = static_cast<std::size_t>(4) * c * c;
 
-  State x(static_cast<std::size_t>(2 * m + 1) + variational_size, 0.0);
-  Eigen::Map<Eigen::VectorXd>(x.data(), 2 * m) = request.scaled_state;
-  if (variational) {
-    // X̂ = [I 0], Ŷ = [0 I]: the identity on span(C) × span(C).
-    Eigen::Map<Eigen::MatrixXd> X(x.data() + 2 * m + 1, c, 2 * c);
-    Eigen::Map<Eigen::MatrixXd> Y(x.data() + 2 * m + 1 + static_cast<Eigen::Index>(c) * 2 * c, c, 2 * c);
-    X.setZero();
-    Y.setZero();
-    X.leftCols(c).setIdentity();
-    Y.rightCols(c).setIdentity();
-  }
-
+  State x = initial_state(request.scaled_state, m, c);
   ScaledEquations equations(system_, basis_, variational, scaling);
   const double tolerance =
       variational ? variational_tolerance_ : (request.tolerance > 0.0 ? request.tolerance : tolerance_);
-  auto stepper = odeint::make_controlled(tolerance, tolerance, odeint::runge_kutta_fehlberg78<State>());
+  Stepper stepper = odeint::make_controlled(tolerance, tolerance, odeint::runge_kutta_fehlberg78<State>());
   double& hint = variational ? variational_step_hint_ : step_hint_;
 
   IntegrationOutcome outcome;
   const double duration = request.duration;
-  const bool sampling = request.sample_count > 0;
-  // Sampled integrations record every accepted state with its derivative and interpolate
-  // the samples afterwards, so that the step size is never cut to hit a sample time.
-  std::vector<double> step_times;
-  std::vector<Eigen::VectorXd> step_states, step_derivatives;
-  double t = 0.0;
   double dt = hint > 0.0 ? hint * duration : duration / 64.0;
-  const double finish_slack = 1e-13 * duration;  // round-off in accumulated times
-  bool ok = true;
-  State dxdt(x.size());
-  auto refused = [&](const Error& refusal) {
-    // A potential that refuses a point (the hole guard of a Taylor expansion that has
-    // turned over) ends this orbit like an escape, with the potential's reason.
-    ok = false;
-    outcome.failure =
-        std::string("escape: the potential refused to evaluate the orbit (") + refusal.what() + ")";
-  };
-  auto record = [&] {
-    if (!sampling) return;
-    step_times.push_back(t);
-    step_states.push_back(Eigen::Map<const Eigen::VectorXd>(x.data(), 2 * m));
-    step_derivatives.push_back(Eigen::Map<const Eigen::VectorXd>(dxdt.data(), 2 * m));
-  };
-  try {
-    equations(x, dxdt, t);
-  } catch (const Error& refusal) {
-    refused(refusal);
-  }
-  if (ok) record();
-  const bool checkpointing = request.checkpoint > 0.0 && request.checkpoint < duration;
-  bool checkpoint_reached = !checkpointing;
-  while (ok && duration - t > finish_slack) {
-    const double stop = checkpoint_reached ? duration : request.checkpoint;
-    // Two even steps instead of a full one and a sliver: the samples are interpolated
-    // between step ends, which nearly coincident ends would make ill-conditioned.
-    double trial = stop - t <= dt ? stop - t : (stop - t < 1.5 * dt ? 0.5 * (stop - t) : dt);
-    const bool clipped = trial < dt;
-    odeint::controlled_step_result step_result = odeint::fail;
-    try {
-      // The derivative at the current state serves every trial from it (it is the first
-      // stage of each), so a rejected step costs one evaluation less.
-      step_result = stepper.try_step(equations, x, dxdt, t, trial);
-      if (step_result == odeint::success) equations(x, dxdt, t);
-    } catch (const Error& refusal) {
-      refused(refusal);
-      break;
-    }
-    if (step_result == odeint::success) {
-      ++outcome.steps;
-      if (!clipped) dt = trial;
-      Eigen::Map<const Eigen::VectorXd> a(x.data(), m);
-      const double radius = scaling.length * a.norm();
-      if (!std::isfinite(radius) || !std::isfinite(x[2 * m])) {
-        ok = false;
-        outcome.failure = "the orbit's state became non-finite";
-        break;
-      }
-      if (radius > escape_radius_) {
-        ok = false;
-        outcome.failure = "the orbit left the bound region (|q| grew past the escape radius)";
-        break;
-      }
-      record();
-      if (!checkpoint_reached && request.checkpoint - t <= finish_slack) {
-        checkpoint_reached = true;
-        outcome.checkpoint_state = Eigen::Map<const Eigen::VectorXd>(x.data(), 2 * m);
-        outcome.checkpoint_momentum_square_integral =
-            x[2 * m] * scaling.angular_frequency * scaling.length * scaling.length;
-      }
-    } else {
-      ++outcome.rejected_steps;
-      dt = trial;
-    }
-    if (outcome.steps + outcome.rejected_steps > max_steps_) {
-      ok = false;
-      outcome.failure = "the integrator needed more than the allowed number of steps";
-      break;
-    }
-  }
-  if (ok && sampling) {
-    step_times.back() = duration;  // within finish_slack of it
-    outcome.samples = hermite_samples(step_times, step_states, step_derivatives, request.sample_count);
-    outcome.step_states = std::move(step_states);
-  }
+  OrbitRun run(equations, x, m, request, scaling, outcome);
+  const bool ok = run.advance(stepper, dt, escape_radius_, max_steps_);
+  if (ok && request.sample_count > 0) run.interpolate_samples();
   if (ok && outcome.steps > 0) hint = dt / duration;
 
   outcome.ok = ok;
   outcome.scaled_state = Eigen::Map<const Eigen::VectorXd>(x.data(), 2 * m);
   outcome.momentum_square_integral = x[2 * m] * scaling.angular_frequency * scaling.length * scaling.length;
-  if (variational) {
-    Eigen::Map<const Eigen::MatrixXd> X(x.data() + 2 * m + 1, c, 2 * c);
-    Eigen::Map<const Eigen::MatrixXd> Y(x.data() + 2 * m + 1 + static_cast<Eigen::Index>(c) * 2 * c, c,
-                                        2 * c);
-    outcome.transition.resize(2 * c, 2 * c);
-    outcome.transition.topRows(c) = X;
-    outcome.transition.bottomRows(c) = Y;
-  }
+  if (variational) outcome.transition = transition_of(x.data() + 2 * m + 1, c);
   outcome.seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - started).count();
+  count_integration(outcome, variational, duration);
+  return outcome;
+}
 
+void OrbitIntegrator::count_integration(const IntegrationOutcome& outcome, const Eigen::MatrixXd* variational,
+                                        double duration) {
   counters_.steps += outcome.steps;
   counters_.rejected_steps += outcome.rejected_steps;
   if (variational == nullptr) {
     ++counters_.orbit_integrations;
-  } else {
-    ++counters_.variational_integrations;
-    if (variational->cols() == static_cast<Eigen::Index>(system_.dimension()) && period_ > 0.0) {
-      // The benchmark's unit of cost: one period with the whole-space variational equations.
-      counters_.full_variational_seconds += outcome.seconds;
-      counters_.full_variational_periods += duration / period_;
-    }
+    return;
   }
-  return outcome;
+  ++counters_.variational_integrations;
+  if (variational->cols() == static_cast<Eigen::Index>(system_.dimension()) && period_ > 0.0) {
+    // The benchmark's unit of cost: one period with the whole-space variational equations.
+    counters_.full_variational_seconds += outcome.seconds;
+    counters_.full_variational_periods += duration / period_;
+  }
 }
 
 bool interpolated_transition(const VibrationalSystem& system, const InterpolatedTransitionRequest& request,
                              Eigen::MatrixXd& transition, std::size_t& steps) {
-  namespace odeint = boost::numeric::odeint;
   transition.resize(0, 0);
   steps = 0;
   const auto& samples = *request.positions;
@@ -346,9 +410,8 @@ bool interpolated_transition(const VibrationalSystem& system, const Interpolated
     if ((predicted - node(k)).cwiseAbs().maxCoeff() > request.interpolation_tolerance * scale) return false;
   }
 
-  using State = std::vector<double>;
   const double omega = request.angular_frequency;
-  const Eigen::Index block = static_cast<Eigen::Index>(c) * 2 * c;
+  const Eigen::Index block = transition_block_size(c);
   const std::vector<int> offsets = {0, 1, 2, 3, 4, 5, 6, 7};
   Eigen::MatrixXd hessian(c, c);
   std::vector<double> lagrange;
@@ -359,24 +422,14 @@ bool interpolated_transition(const VibrationalSystem& system, const Interpolated
     weights(position, start, offsets, lagrange);
     hessian.setZero();
     for (int i = 0; i < stencil; ++i) hessian += lagrange[static_cast<std::size_t>(i)] * node(start + i);
-    Eigen::Map<const Eigen::MatrixXd> X(x.data(), c, 2 * c), Y(x.data() + block, c, 2 * c);
-    Eigen::Map<Eigen::MatrixXd> dX(dxdt.data(), c, 2 * c), dY(dxdt.data() + block, c, 2 * c);
-    dX = omega * Y;
-    dY.noalias() = hessian * X;
-    dY *= -1.0 / omega;
+    variational_rates(x.data(), dxdt.data(), c, omega, hessian);
   };
   State x(static_cast<std::size_t>(2 * block), 0.0);
-  {
-    Eigen::Map<Eigen::MatrixXd> X(x.data(), c, 2 * c), Y(x.data() + block, c, 2 * c);
-    X.leftCols(c).setIdentity();
-    Y.rightCols(c).setIdentity();
-  }
+  start_transition_at_identity(x.data(), c);
   auto stepper =
       odeint::make_controlled(request.tolerance, request.tolerance, odeint::runge_kutta_fehlberg78<State>());
   steps = odeint::integrate_adaptive(stepper, equations, x, 0.0, request.duration, node_spacing);
-  transition.resize(2 * c, 2 * c);
-  transition.topRows(c) = Eigen::Map<const Eigen::MatrixXd>(x.data(), c, 2 * c);
-  transition.bottomRows(c) = Eigen::Map<const Eigen::MatrixXd>(x.data() + block, c, 2 * c);
+  transition = transition_of(x.data(), c);
   return transition.allFinite();
 }
 

@@ -115,6 +115,9 @@ class OrbitIntegrator {
   void set_full_period(double period) { period_ = period; }
 
  private:
+  void count_integration(const IntegrationOutcome& outcome, const Eigen::MatrixXd* variational,
+                         double duration);
+
   const VibrationalSystem& system_;
   Eigen::MatrixXd basis_;
   double tolerance_;

@@ -140,6 +140,7 @@ double cubic_hermite_component(double v0, double d0, double v1, double d1, doubl
 double refined_maximum(const std::vector<Eigen::VectorXd>& values,
                        const std::vector<Eigen::VectorXd>& derivatives, double h, int block_size) {
   const int count = static_cast<int>(values.size());
+  if (count == 0) return 0.0;  // no samples: no amplitude (and no neighbour indices modulo 0)
   auto block_norm = [block_size](const Eigen::VectorXd& v) {
     double best = 0.0;
     for (Eigen::Index start = 0; start + block_size <= v.size(); start += block_size)

@@ -342,43 +342,10 @@ std::string describe(const OBAtom* atom) {
 
 int index0(const OBAtom* atom) { return static_cast<int>(atom->GetIdx()) - 1; }
 
-}  // namespace
-
-void check_mmff_atom_types(OBMol& typed, const MmffParameters& parameters) {
+// Bonds (Halgren I; no step-down; empirical rule of Halgren V, p. 625, eq. 4).
+void add_bond_terms(OBMol& mol, const Typing& typing, const MmffParameters& parameters, MmffTerms& terms) {
   const char* name = mmff_variant_name(parameters.variant());
-  FOR_ATOMS_OF_MOL(atom, typed) {
-    const int type = Typing::type(&*atom);
-    const MmffTypeProperties* p = parameters.properties(type);
-    const int z = static_cast<int>(atom->GetAtomicNum());
-    const int neighbours = static_cast<int>(atom->GetExplicitDegree());
-    if (!p)
-      throw Error(
-          fmt::format("{} has no atom type for atom {} ({} with {} bonded neighbours); try UFF or a "
-                      "potential file",
-                      name, atom->GetIdx(), element_symbol(z), neighbours));
-    if (p->atomic_number != z || p->coordination != neighbours)
-      throw Error(
-          fmt::format("{} has no atom type for atom {} ({} with {} bonded neighbours): the typing rules "
-                      "gave type {}, which is for {} with {} neighbours; try UFF or a potential file",
-                      name, atom->GetIdx(), element_symbol(z), neighbours, type,
-                      element_symbol(p->atomic_number), p->coordination));
-  }
-}
-
-MmffTerms assign_mmff_terms(OBMol& mol, const MmffParameters& parameters,
-                            const MmffAssignmentOptions& options) {
-  if (!(options.dielectric_constant > 0.0))
-    throw Error(fmt::format("dielectric_constant must be positive, got {}", options.dielectric_constant));
-  const char* name = mmff_variant_name(parameters.variant());
-  const Typing typing(mol, parameters);
   auto type = [](const OBAtom* atom) { return Typing::type(atom); };
-  MmffTerms terms;
-  FOR_ATOMS_OF_MOL(atom, mol) {
-    terms.atom_types.push_back(type(&*atom));
-    terms.partial_charges.push_back(atom->GetPartialCharge());
-  }
-
-  // Bonds (Halgren I; no step-down; empirical rule of Halgren V, p. 625, eq. 4).
   FOR_BONDS_OF_MOL(bond, mol) {
     OBAtom* a = bond->GetBeginAtom();
     OBAtom* b = bond->GetEndAtom();
@@ -404,9 +371,13 @@ MmffTerms assign_mmff_terms(OBMol& mol, const MmffParameters& parameters,
     }
     terms.bonds.push_back(term);
   }
+}
 
-  // Angles and stretch–bends (Halgren I, p. 513 step-down; Halgren V, p. 627 empirical
-  // rule). Open Babel lists each angle as (centre, end, end), 0-based.
+// Angles and stretch–bends (Halgren I, p. 513 step-down; Halgren V, p. 627 empirical
+// rule). Open Babel lists each angle as (centre, end, end), 0-based.
+void add_angle_terms(OBMol& mol, const Typing& typing, const MmffParameters& parameters, MmffTerms& terms) {
+  const char* name = mmff_variant_name(parameters.variant());
+  auto type = [](const OBAtom* atom) { return Typing::type(atom); };
   FOR_ANGLES_OF_MOL(angle, mol) {
     OBAtom* b = mol.GetAtom((*angle)[0] + 1);
     OBAtom* a = mol.GetAtom((*angle)[1] + 1);
@@ -483,9 +454,12 @@ MmffTerms assign_mmff_terms(OBMol& mol, const MmffParameters& parameters,
     }
     terms.angles.push_back(term);
   }
+}
 
-  // Torsions (Halgren I, p. 513 step-down 3-2-2-5, 5-2-2-3, 5-2-2-5; Halgren V, p. 631
-  // empirical rules as Open Babel applies them, see the header).
+// Torsions (Halgren I, p. 513 step-down 3-2-2-5, 5-2-2-3, 5-2-2-5; Halgren V, p. 631
+// empirical rules as Open Babel applies them, see the header).
+void add_torsion_terms(OBMol& mol, const Typing& typing, const MmffParameters& parameters, MmffTerms& terms) {
+  auto type = [](const OBAtom* atom) { return Typing::type(atom); };
   FOR_TORSIONS_OF_MOL(torsion, mol) {
     OBAtom* a = mol.GetAtom((*torsion)[0] + 1);
     OBAtom* b = mol.GetAtom((*torsion)[1] + 1);
@@ -542,10 +516,13 @@ MmffTerms assign_mmff_terms(OBMol& mol, const MmffParameters& parameters,
     if (term.v1 == 0.0 && term.v2 == 0.0 && term.v3 == 0.0) continue;
     terms.torsions.push_back(term);
   }
+}
 
-  // Out-of-plane bends (Halgren I, eq. 6): three Wilson angles per trivalent centre whose
-  // type has a line in the table, matched in any order of the neighbours; the centre's
-  // default line (*-b-*-*) applies only when no specific line has matched before it.
+// Out-of-plane bends (Halgren I, eq. 6): three Wilson angles per trivalent centre whose
+// type has a line in the table, matched in any order of the neighbours; the centre's
+// default line (*-b-*-*) applies only when no specific line has matched before it.
+void add_out_of_plane_terms(OBMol& mol, const MmffParameters& parameters, MmffTerms& terms) {
+  auto type = [](const OBAtom* atom) { return Typing::type(atom); };
   FOR_ATOMS_OF_MOL(atom, mol) {
     OBAtom* b = &*atom;
     const int tb = type(b);
@@ -582,10 +559,15 @@ MmffTerms assign_mmff_terms(OBMol& mol, const MmffParameters& parameters,
       if (x == 0 && y == 0 && z == 0 && !found) add_three(line.force_constant);
     }
   }
+}
 
-  // Non-bonded pairs: Open Babel's pair list (atoms neither bonded nor 1-3).
-  // Buffered 14-7 combination rules (Halgren II, eqs. 3–5 and the donor–acceptor
-  // scalings DARAD = 0.8, DAEPS = 0.5); Coulomb with 1-4 pairs scaled by 0.75.
+// Non-bonded pairs: Open Babel's pair list (atoms neither bonded nor 1-3).
+// Buffered 14-7 combination rules (Halgren II, eqs. 3–5 and the donor–acceptor
+// scalings DARAD = 0.8, DAEPS = 0.5); Coulomb with 1-4 pairs scaled by 0.75.
+void add_pair_terms(OBMol& mol, const MmffParameters& parameters, double dielectric_constant,
+                    MmffTerms& terms) {
+  const char* name = mmff_variant_name(parameters.variant());
+  auto type = [](const OBAtom* atom) { return Typing::type(atom); };
   constexpr double electrostatic_kcal_angstrom_per_mol_e2 = 332.0716;  // Halgren I, eq. 8
   FOR_PAIRS_OF_MOL(pair, mol) {
     OBAtom* a = mol.GetAtom((*pair)[0]);
@@ -620,11 +602,51 @@ MmffTerms assign_mmff_terms(OBMol& mol, const MmffParameters& parameters,
     }
     term.vdw_radius7 = std::pow(term.vdw_radius, 7);
     double qq = electrostatic_kcal_angstrom_per_mol_e2 * a->GetPartialCharge() * b->GetPartialCharge() /
-                options.dielectric_constant;
+                dielectric_constant;
     if (qq != 0.0 && a->IsOneFour(b)) qq *= 0.75;
     term.charge_product = qq;
     terms.pairs.push_back(term);
   }
+}
+
+}  // namespace
+
+void check_mmff_atom_types(OBMol& typed, const MmffParameters& parameters) {
+  const char* name = mmff_variant_name(parameters.variant());
+  FOR_ATOMS_OF_MOL(atom, typed) {
+    const int type = Typing::type(&*atom);
+    const MmffTypeProperties* p = parameters.properties(type);
+    const int z = static_cast<int>(atom->GetAtomicNum());
+    const int neighbours = static_cast<int>(atom->GetExplicitDegree());
+    if (!p)
+      throw Error(
+          fmt::format("{} has no atom type for atom {} ({} with {} bonded neighbours); try UFF or a "
+                      "potential file",
+                      name, atom->GetIdx(), element_symbol(z), neighbours));
+    if (p->atomic_number != z || p->coordination != neighbours)
+      throw Error(
+          fmt::format("{} has no atom type for atom {} ({} with {} bonded neighbours): the typing rules "
+                      "gave type {}, which is for {} with {} neighbours; try UFF or a potential file",
+                      name, atom->GetIdx(), element_symbol(z), neighbours, type,
+                      element_symbol(p->atomic_number), p->coordination));
+  }
+}
+
+MmffTerms assign_mmff_terms(OBMol& mol, const MmffParameters& parameters,
+                            const MmffAssignmentOptions& options) {
+  if (!(options.dielectric_constant > 0.0))
+    throw Error(fmt::format("dielectric_constant must be positive, got {}", options.dielectric_constant));
+  const Typing typing(mol, parameters);
+  MmffTerms terms;
+  FOR_ATOMS_OF_MOL(atom, mol) {
+    terms.atom_types.push_back(Typing::type(&*atom));
+    terms.partial_charges.push_back(atom->GetPartialCharge());
+  }
+  add_bond_terms(mol, typing, parameters, terms);
+  add_angle_terms(mol, typing, parameters, terms);
+  add_torsion_terms(mol, typing, parameters, terms);
+  add_out_of_plane_terms(mol, parameters, terms);
+  add_pair_terms(mol, parameters, options.dielectric_constant, terms);
   return terms;
 }
 

@@ -121,24 +121,22 @@ struct Reader {
   }
 };
 
-}  // namespace
+using View = toml::node_view<const toml::node>;
 
-// ---------------------------------------------------------------------------------------
-// Reading
-
-TaylorExpansionData parse_taylor_expansion(const std::string& toml_text, const std::string& origin) {
+toml::table parse_toml(const std::string& toml_text, const std::string& origin) {
   const std::string context = fmt::format("taylor-expansion file '{}'", origin);
   detail::check_toml_text(toml_text, context);
-  toml::table root;
   try {
-    root = toml::parse(toml_text, origin);
+    return toml::parse(toml_text, origin);
   } catch (const toml::parse_error& e) {
     throw Error(
         fmt::format("{} line {}: malformed TOML: {}", context, e.source().begin.line, e.description()));
   }
-  const Reader r{root, origin};
-  const toml::node_view<const toml::node> top{root};
+}
 
+// The format and version keys, then the title, source and coordinate kind.
+void read_header(const Reader& r, const View& top, TaylorExpansionData& data) {
+  const std::string& origin = r.origin;
   const auto format = top["format"].value<std::string>();
   if (!format || *format != format_name)
     throw Error(fmt::format("{}: key 'format' must be \"{}\", got {}", origin, format_name,
@@ -147,8 +145,6 @@ TaylorExpansionData parse_taylor_expansion(const std::string& toml_text, const s
   if (!version || *version != format_version)
     throw Error(fmt::format("{}: key 'version' must be {}, got {}", origin, format_version,
                             version ? std::to_string(*version) : std::string("nothing")));
-
-  TaylorExpansionData data;
   data.title = top["title"].value_or(std::string());
   data.source = top["source"].value_or(std::string());
   const std::string coordinates = r.string_at("coordinates", top["coordinates"]);
@@ -158,14 +154,13 @@ TaylorExpansionData parse_taylor_expansion(const std::string& toml_text, const s
     data.coordinates = ExpansionCoordinates::normal;
   else
     r.fail("coordinates", "must be \"cartesian\" or \"normal\", got \"" + coordinates + "\"");
+}
 
-  const double to_kcal =
-      energy_factor(r.string_at("units.energy", top["units"]["energy"]), origin + ": key 'units.energy'");
-  const double to_angstrom = length_factor(top["units"]["length"].value_or(std::string("angstrom")),
-                                           origin + ": key 'units.length'");
-
-  // Reference geometry.
-  const toml::array& elements = r.array("reference.elements", top["reference"]["elements"]);
+// Elements, positions, optional masses and reference energy of [reference].
+void read_reference(const Reader& r, const View& reference, double to_angstrom, double to_kcal,
+                    TaylorExpansionData& data) {
+  const std::string& origin = r.origin;
+  const toml::array& elements = r.array("reference.elements", reference["elements"]);
   for (const auto& e : elements) {
     const auto symbol = e.value<std::string>();
     if (!symbol) r.fail("reference.elements", "must hold element symbols (strings)");
@@ -173,7 +168,7 @@ TaylorExpansionData parse_taylor_expansion(const std::string& toml_text, const s
   }
   const int atoms = static_cast<int>(data.atomic_numbers.size());
   if (atoms < 1) r.fail("reference.elements", "is empty");
-  const toml::array& positions = r.array("reference.positions", top["reference"]["positions"]);
+  const toml::array& positions = r.array("reference.positions", reference["positions"]);
   if (static_cast<int>(positions.size()) != atoms)
     r.fail("reference.positions",
            fmt::format("has {} rows, expected one [x, y, z] per element ({})", positions.size(), atoms));
@@ -188,7 +183,7 @@ TaylorExpansionData parse_taylor_expansion(const std::string& toml_text, const s
                     r.number("reference.positions", *row->get(static_cast<std::size_t>(c))) * to_angstrom,
                     file_limits::position_angstrom, "Å");
   }
-  if (const toml::array* masses = top["reference"]["masses_da"].as_array()) {
+  if (const toml::array* masses = reference["masses_da"].as_array()) {
     if (static_cast<int>(masses->size()) != atoms)
       r.fail("reference.masses_da", fmt::format("has {} entries, expected {}", masses->size(), atoms));
     data.masses_da.resize(atoms);
@@ -199,84 +194,266 @@ TaylorExpansionData parse_taylor_expansion(const std::string& toml_text, const s
       r.bounded("reference.masses_da", data.masses_da[a], file_limits::mass_da, "Da");
     }
   }
-  if (const toml::node* energy = top["reference"]["energy"].node())
+  if (const toml::node* energy = reference["energy"].node())
     data.reference_energy_kcal_mol =
         r.bounded("reference.energy", r.number("reference.energy", *energy) * to_kcal,
                   file_limits::reference_energy_kcal_mol, "kcal/mol");
+}
 
-  std::set<std::string> seen;
-  auto read_list = [&](const std::string& key, const toml::node_view<const toml::node>& node, int order,
-                       int variable_count, double scale) {
+// The lists of derivatives of the file ([indices..., value] rows), each index set at most
+// once over all lists.
+class DerivativeLists {
+ public:
+  DerivativeLists(const Reader& r, TaylorExpansionData& data) : r_(r), data_(data) {}
+
+  // The list under `key` (absent: nothing) of derivatives of the given order in variables
+  // 1..variable_count, values multiplied by scale.
+  void read(const std::string& key, const View& node, int order, int variable_count, double scale) {
     if (!node) return;
-    for (const auto& entry : r.array(key, node)) {
+    for (const auto& entry : r_.array(key, node)) {
       const toml::array* row = entry.as_array();
       if (!row || static_cast<int>(row->size()) != order + 1)
-        r.fail(key, fmt::format("entries must be [{} indices, value]", order));
+        r_.fail(key, fmt::format("entries must be [{} indices, value]", order));
       ExpansionDerivative d;
       for (int k = 0; k < order; ++k) {
         const auto index = row->get(static_cast<std::size_t>(k))->value<int64_t>();
         if (!index || *index < 1 || *index > variable_count)
-          r.fail(key, fmt::format("has an index outside 1..{}", variable_count));
+          r_.fail(key, fmt::format("has an index outside 1..{}", variable_count));
         d.indices.push_back(static_cast<int>(*index) - 1);
       }
-      d.value = r.number(key, *row->get(static_cast<std::size_t>(order))) * scale;
-      if (!std::isfinite(d.value)) r.fail(key, "has a non-finite value");
-      r.bounded(key, d.value, file_limits::force_constant_kcal_mol, "kcal/mol per unit^n");
-      if (!seen.insert(key_of(d.indices)).second) {
+      d.value = r_.number(key, *row->get(static_cast<std::size_t>(order))) * scale;
+      if (!std::isfinite(d.value)) r_.fail(key, "has a non-finite value");
+      r_.bounded(key, d.value, file_limits::force_constant_kcal_mol, "kcal/mol per unit^n");
+      if (!seen_.insert(key_of(d.indices)).second) {
         std::string listed;
         for (int i : d.indices) listed += std::to_string(i + 1) + " ";
-        r.fail(key, "lists the derivative with indices " + listed + "twice (in some index order)");
+        r_.fail(key, "lists the derivative with indices " + listed + "twice (in some index order)");
       }
       std::sort(d.indices.begin(), d.indices.end());
-      data.derivatives.push_back(std::move(d));
+      data_.derivatives.push_back(std::move(d));
     }
-  };
-
-  if (data.coordinates == ExpansionCoordinates::cartesian) {
-    const auto table = top["cartesian"];
-    if (!table || !table.as_table()) r.fail("cartesian", "must be a table for coordinates = \"cartesian\"");
-    const int n = 3 * atoms;
-    read_list("cartesian.first", table["first"], 1, n, to_kcal / to_angstrom);
-    read_list("cartesian.second", table["second"], 2, n, to_kcal / std::pow(to_angstrom, 2));
-    read_list("cartesian.third", table["third"], 3, n, to_kcal / std::pow(to_angstrom, 3));
-    read_list("cartesian.fourth", table["fourth"], 4, n, to_kcal / std::pow(to_angstrom, 4));
-    if (!table["second"])
-      r.fail("cartesian.second", "is missing: the expansion needs its second derivatives");
-  } else {
-    if (data.masses_da.size() == 0) r.fail("reference.masses_da", "is required for coordinates = \"normal\"");
-    const auto table = top["normal"];
-    if (!table || !table.as_table()) r.fail("normal", "must be a table for coordinates = \"normal\"");
-    const toml::array* modes = table["modes"].as_array();
-    if (!modes || modes->empty()) r.fail("normal.modes", "must list the modes ([[normal.modes]] tables)");
-    const int m = static_cast<int>(modes->size());
-    data.frequencies_cm1.resize(m);
-    data.mode_displacements.resize(3 * atoms, m);
-    for (int k = 0; k < m; ++k) {
-      const toml::table* mode = modes->get(static_cast<std::size_t>(k))->as_table();
-      const std::string key = fmt::format("normal.modes[{}]", k + 1);
-      if (!mode) r.fail(key, "must be a table");
-      const toml::node_view<const toml::node> view{*mode};
-      const auto frequency = view["frequency_cm1"].value<double>();
-      if (!frequency || !(*frequency > 0.0)) r.fail(key + ".frequency_cm1", "must be a positive number");
-      data.frequencies_cm1[k] =
-          r.bounded(key + ".frequency_cm1", *frequency, file_limits::wavenumber_cm1, "cm-1");
-      const toml::array& displacement = r.array(key + ".displacement", view["displacement"]);
-      if (static_cast<int>(displacement.size()) != atoms)
-        r.fail(key + ".displacement", fmt::format("must have one [dx, dy, dz] per atom ({})", atoms));
-      for (int a = 0; a < atoms; ++a) {
-        const toml::array* row = displacement[static_cast<std::size_t>(a)].as_array();
-        if (!row || row->size() != 3)
-          r.fail(key + ".displacement", fmt::format("row {} must be [dx, dy, dz]", a + 1));
-        for (int c = 0; c < 3; ++c)
-          data.mode_displacements(3 * a + c, k) = r.bounded(
-              key + ".displacement", r.number(key + ".displacement", *row->get(static_cast<std::size_t>(c))),
-              file_limits::displacement_entry, "(pattern units)");
-      }
-      if (data.mode_displacements.col(k).norm() == 0.0) r.fail(key + ".displacement", "is zero");
-    }
-    read_list("normal.cubic", table["cubic"], 3, m, to_kcal);
-    read_list("normal.quartic", table["quartic"], 4, m, to_kcal);
   }
+
+ private:
+  const Reader& r_;
+  TaylorExpansionData& data_;
+  std::set<std::string> seen_;
+};
+
+void read_cartesian_section(const Reader& r, const View& top, double to_kcal, double to_angstrom,
+                            TaylorExpansionData& data) {
+  const auto table = top["cartesian"];
+  if (!table || !table.as_table()) r.fail("cartesian", "must be a table for coordinates = \"cartesian\"");
+  const int n = 3 * static_cast<int>(data.atomic_numbers.size());
+  DerivativeLists lists(r, data);
+  lists.read("cartesian.first", table["first"], 1, n, to_kcal / to_angstrom);
+  lists.read("cartesian.second", table["second"], 2, n, to_kcal / std::pow(to_angstrom, 2));
+  lists.read("cartesian.third", table["third"], 3, n, to_kcal / std::pow(to_angstrom, 3));
+  lists.read("cartesian.fourth", table["fourth"], 4, n, to_kcal / std::pow(to_angstrom, 4));
+  if (!table["second"]) r.fail("cartesian.second", "is missing: the expansion needs its second derivatives");
+}
+
+// One [[normal.modes]] table: its frequency and displacement pattern (column k).
+void read_normal_mode(const Reader& r, const toml::table* mode, int k, TaylorExpansionData& data) {
+  const int atoms = static_cast<int>(data.atomic_numbers.size());
+  const std::string key = fmt::format("normal.modes[{}]", k + 1);
+  if (!mode) r.fail(key, "must be a table");
+  const View view{*mode};
+  const auto frequency = view["frequency_cm1"].value<double>();
+  if (!frequency || !(*frequency > 0.0)) r.fail(key + ".frequency_cm1", "must be a positive number");
+  data.frequencies_cm1[k] =
+      r.bounded(key + ".frequency_cm1", *frequency, file_limits::wavenumber_cm1, "cm-1");
+  const toml::array& displacement = r.array(key + ".displacement", view["displacement"]);
+  if (static_cast<int>(displacement.size()) != atoms)
+    r.fail(key + ".displacement", fmt::format("must have one [dx, dy, dz] per atom ({})", atoms));
+  for (int a = 0; a < atoms; ++a) {
+    const toml::array* row = displacement[static_cast<std::size_t>(a)].as_array();
+    if (!row || row->size() != 3)
+      r.fail(key + ".displacement", fmt::format("row {} must be [dx, dy, dz]", a + 1));
+    for (int c = 0; c < 3; ++c)
+      data.mode_displacements(3 * a + c, k) = r.bounded(
+          key + ".displacement", r.number(key + ".displacement", *row->get(static_cast<std::size_t>(c))),
+          file_limits::displacement_entry, "(pattern units)");
+  }
+  if (data.mode_displacements.col(k).norm() == 0.0) r.fail(key + ".displacement", "is zero");
+}
+
+void read_normal_section(const Reader& r, const View& top, double to_kcal, TaylorExpansionData& data) {
+  const int atoms = static_cast<int>(data.atomic_numbers.size());
+  if (data.masses_da.size() == 0) r.fail("reference.masses_da", "is required for coordinates = \"normal\"");
+  const auto table = top["normal"];
+  if (!table || !table.as_table()) r.fail("normal", "must be a table for coordinates = \"normal\"");
+  const toml::array* modes = table["modes"].as_array();
+  if (!modes || modes->empty()) r.fail("normal.modes", "must list the modes ([[normal.modes]] tables)");
+  const int m = static_cast<int>(modes->size());
+  data.frequencies_cm1.resize(m);
+  data.mode_displacements.resize(3 * atoms, m);
+  for (int k = 0; k < m; ++k)
+    read_normal_mode(r, modes->get(static_cast<std::size_t>(k))->as_table(), k, data);
+  DerivativeLists lists(r, data);
+  lists.read("normal.cubic", table["cubic"], 3, m, to_kcal);
+  lists.read("normal.quartic", table["quartic"], 4, m, to_kcal);
+}
+
+void check_options(const TaylorExpansionOptions& options) {
+  if (!(options.hole_depth_cm1 > 0.0))
+    throw Error(fmt::format("taylor-expansion option hole_depth_cm1 must be positive, got {}",
+                            options.hole_depth_cm1));
+  if (!(options.superposition_tolerance_angstrom > 0.0))
+    throw Error(
+        fmt::format("taylor-expansion option superposition_tolerance_angstrom must be positive, got {}",
+                    options.superposition_tolerance_angstrom));
+  if (!(options.mode_orthogonality_tolerance > 0.0))
+    throw Error(fmt::format("taylor-expansion option mode_orthogonality_tolerance must be positive, got {}",
+                            options.mode_orthogonality_tolerance));
+}
+
+void check_same_atoms(const TaylorExpansionData& data, const Molecule& molecule, const std::string& name) {
+  const int atoms = static_cast<int>(data.atomic_numbers.size());
+  if (data.reference_angstrom.size() != 3 * atoms)
+    throw Error(fmt::format("{}: reference geometry has {} coordinates, expected {}", name,
+                            data.reference_angstrom.size(), 3 * atoms));
+  if (static_cast<int>(molecule.atom_count()) != atoms)
+    throw Error(
+        fmt::format("{} is for {} atoms but the molecule has {}", name, atoms, molecule.atom_count()));
+  for (int a = 0; a < atoms; ++a)
+    if (molecule.atoms[static_cast<std::size_t>(a)].atomic_number !=
+        data.atomic_numbers[static_cast<std::size_t>(a)])
+      throw Error(fmt::format(
+          "{}: atom {} is {} in the expansion but {} in the molecule (atoms must come in the same order)",
+          name, a + 1, element_symbol(data.atomic_numbers[static_cast<std::size_t>(a)]),
+          element_symbol(molecule.atoms[static_cast<std::size_t>(a)].atomic_number)));
+}
+
+// The fixed map x ↦ rigid·x + shift from the molecule's frame to displacements from the
+// file's reference geometry.
+struct Superposition {
+  Eigen::MatrixXd rigid;
+  Eigen::VectorXd shift;
+};
+
+// Superposition of the molecule's frame onto the file's (mass-weighted Kabsch); throws
+// when an atom stays farther than the tolerance from its reference position.
+Superposition superpose(const TaylorExpansionData& data, const Molecule& molecule, double tolerance_angstrom,
+                        const std::string& name) {
+  const int atoms = static_cast<int>(data.atomic_numbers.size());
+  const Eigen::VectorXd weights = molecule.masses();
+  const Eigen::VectorXd x_molecule = molecule.coordinates();
+  Eigen::Vector3d c_molecule = Eigen::Vector3d::Zero(), c_reference = Eigen::Vector3d::Zero();
+  for (int a = 0; a < atoms; ++a) {
+    c_molecule += weights[a] * x_molecule.segment<3>(3 * a);
+    c_reference += weights[a] * data.reference_angstrom.segment<3>(3 * a);
+  }
+  c_molecule /= weights.sum();
+  c_reference /= weights.sum();
+  Eigen::Matrix3d covariance = Eigen::Matrix3d::Zero();
+  for (int a = 0; a < atoms; ++a)
+    covariance += weights[a] * (data.reference_angstrom.segment<3>(3 * a) - c_reference) *
+                  (x_molecule.segment<3>(3 * a) - c_molecule).transpose();
+  const Eigen::JacobiSVD<Eigen::Matrix3d> svd(covariance, Eigen::ComputeFullU | Eigen::ComputeFullV);
+  Eigen::Matrix3d correction = Eigen::Matrix3d::Identity();
+  correction(2, 2) = (svd.matrixU() * svd.matrixV().transpose()).determinant() < 0.0 ? -1.0 : 1.0;
+  const Eigen::Matrix3d rotation = svd.matrixU() * correction * svd.matrixV().transpose();
+  double worst = 0.0;
+  int worst_atom = 0;
+  for (int a = 0; a < atoms; ++a) {
+    const double d = (rotation * (x_molecule.segment<3>(3 * a) - c_molecule) + c_reference -
+                      data.reference_angstrom.segment<3>(3 * a))
+                         .norm();
+    if (d > worst) {
+      worst = d;
+      worst_atom = a;
+    }
+  }
+  if (worst > tolerance_angstrom)
+    throw Error(
+        fmt::format("{}: the molecule does not match the expansion's reference geometry: after superposition "
+                    "atom {} is {:.3f} Å away (limit {} Å)",
+                    name, worst_atom + 1, worst, tolerance_angstrom));
+  Superposition superposition{Eigen::MatrixXd::Zero(3 * atoms, 3 * atoms), Eigen::VectorXd(3 * atoms)};
+  for (int a = 0; a < atoms; ++a) {
+    superposition.rigid.block<3, 3>(3 * a, 3 * a) = rotation;
+    superposition.shift.segment<3>(3 * a) =
+        c_reference - rotation * c_molecule - data.reference_angstrom.segment<3>(3 * a);
+  }
+  return superposition;
+}
+
+// Cartesian expansion variables: the displacements themselves.
+Eigen::MatrixXd cartesian_variables(const std::vector<ExpansionDerivative>& derivatives, int atoms,
+                                    const std::string& name) {
+  for (const auto& d : derivatives)
+    for (int i : d.indices)
+      if (i < 0 || i >= 3 * atoms)
+        throw Error(fmt::format("{}: a cartesian derivative index lies outside 1..{}", name, 3 * atoms));
+  return Eigen::MatrixXd::Identity(3 * atoms, 3 * atoms);
+}
+
+// Dimensionless normal coordinates from the file's modes (mass-weighted, made orthonormal
+// by Löwdin's nearest set once they pass the orthogonality test); adds the harmonic terms
+// ω_k q_k²/2 to the derivatives.
+Eigen::MatrixXd normal_variables(const TaylorExpansionData& data, double orthogonality_tolerance,
+                                 const std::string& name, std::vector<ExpansionDerivative>& derivatives) {
+  const int atoms = static_cast<int>(data.atomic_numbers.size());
+  const int m = static_cast<int>(data.frequencies_cm1.size());
+  if (data.masses_da.size() != atoms)
+    throw Error(fmt::format("{}: normal coordinates need one mass per atom", name));
+  if (data.mode_displacements.rows() != 3 * atoms || data.mode_displacements.cols() != m)
+    throw Error(fmt::format("{}: mode displacements are {}x{}, expected {}x{}", name,
+                            data.mode_displacements.rows(), data.mode_displacements.cols(), 3 * atoms, m));
+  Eigen::VectorXd sqrt_mass(3 * atoms);
+  for (int r = 0; r < 3 * atoms; ++r) sqrt_mass[r] = std::sqrt(data.masses_da[r / 3]);
+  Eigen::MatrixXd l = sqrt_mass.asDiagonal() * data.mode_displacements;
+  for (int k = 0; k < m; ++k) l.col(k).normalize();
+  const double rigid_overlap =
+      (rigid_body_vectors(data.reference_angstrom, data.masses_da).transpose() * l).cwiseAbs().maxCoeff();
+  const Eigen::MatrixXd gram = l.transpose() * l;
+  const double gram_error = (gram - Eigen::MatrixXd::Identity(m, m)).cwiseAbs().maxCoeff();
+  if (rigid_overlap > orthogonality_tolerance || gram_error > orthogonality_tolerance)
+    throw Error(
+        fmt::format("{}: the mode vectors (mass-weighted) are not orthonormal vibrations: overlap with "
+                    "translations/rotations {:.2g}, with each other {:.2g} (limit {})",
+                    name, rigid_overlap, gram_error, orthogonality_tolerance));
+  const Eigen::SelfAdjointEigenSolver<Eigen::MatrixXd> gram_solver(gram);
+  l = l * gram_solver.operatorInverseSqrt();  // Löwdin: the nearest orthonormal set
+  Eigen::MatrixXd to_variables(m, 3 * atoms);
+  for (int k = 0; k < m; ++k) {
+    const double omega = data.frequencies_cm1[k] / units::cm1_per_internal_angular_frequency;
+    to_variables.row(k) =
+        std::sqrt(omega / units::hbar_internal) * (sqrt_mass.asDiagonal() * l.col(k)).transpose();
+  }
+  for (const auto& d : derivatives) {
+    if (d.indices.size() < 3)
+      throw Error(
+          fmt::format("{}: a normal-coordinate expansion lists only cubic and quartic constants", name));
+    for (int i : d.indices)
+      if (i < 0 || i >= m) throw Error(fmt::format("{}: a mode index lies outside 1..{}", name, m));
+  }
+  for (int k = 0; k < m; ++k)
+    derivatives.push_back({{k, k}, data.frequencies_cm1[k] * units::kcal_mol_per_cm1});
+  return to_variables;
+}
+
+}  // namespace
+
+// ---------------------------------------------------------------------------------------
+// Reading
+
+TaylorExpansionData parse_taylor_expansion(const std::string& toml_text, const std::string& origin) {
+  const toml::table root = parse_toml(toml_text, origin);
+  const Reader r{root, origin};
+  const View top{root};
+  TaylorExpansionData data;
+  read_header(r, top, data);
+  const double to_kcal =
+      energy_factor(r.string_at("units.energy", top["units"]["energy"]), origin + ": key 'units.energy'");
+  const double to_angstrom = length_factor(top["units"]["length"].value_or(std::string("angstrom")),
+                                           origin + ": key 'units.length'");
+  read_reference(r, top["reference"], to_angstrom, to_kcal, data);
+  if (data.coordinates == ExpansionCoordinates::cartesian)
+    read_cartesian_section(r, top, to_kcal, to_angstrom, data);
+  else
+    read_normal_section(r, top, to_kcal, data);
   return data;
 }
 
@@ -315,125 +492,20 @@ std::unique_ptr<Potential> load_taylor_expansion_potential(const std::string& pa
 TaylorExpansionPotential::TaylorExpansionPotential(TaylorExpansionData data, const Molecule& molecule,
                                                    const TaylorExpansionOptions& options)
     : data_(std::move(data)), options_(options) {
-  if (!(options_.hole_depth_cm1 > 0.0))
-    throw Error(fmt::format("taylor-expansion option hole_depth_cm1 must be positive, got {}",
-                            options_.hole_depth_cm1));
-  if (!(options_.superposition_tolerance_angstrom > 0.0))
-    throw Error(
-        fmt::format("taylor-expansion option superposition_tolerance_angstrom must be positive, got {}",
-                    options_.superposition_tolerance_angstrom));
-  if (!(options_.mode_orthogonality_tolerance > 0.0))
-    throw Error(fmt::format("taylor-expansion option mode_orthogonality_tolerance must be positive, got {}",
-                            options_.mode_orthogonality_tolerance));
+  check_options(options_);
   const int atoms = static_cast<int>(data_.atomic_numbers.size());
   const std::string name = description();
-  if (data_.reference_angstrom.size() != 3 * atoms)
-    throw Error(fmt::format("{}: reference geometry has {} coordinates, expected {}", name,
-                            data_.reference_angstrom.size(), 3 * atoms));
-  if (static_cast<int>(molecule.atom_count()) != atoms)
-    throw Error(
-        fmt::format("{} is for {} atoms but the molecule has {}", name, atoms, molecule.atom_count()));
-  for (int a = 0; a < atoms; ++a)
-    if (molecule.atoms[static_cast<std::size_t>(a)].atomic_number !=
-        data_.atomic_numbers[static_cast<std::size_t>(a)])
-      throw Error(fmt::format(
-          "{}: atom {} is {} in the expansion but {} in the molecule (atoms must come in the same order)",
-          name, a + 1, element_symbol(data_.atomic_numbers[static_cast<std::size_t>(a)]),
-          element_symbol(molecule.atoms[static_cast<std::size_t>(a)].atomic_number)));
+  check_same_atoms(data_, molecule, name);
+  const Superposition superposition =
+      superpose(data_, molecule, options_.superposition_tolerance_angstrom, name);
 
-  // Fixed superposition of the molecule's frame onto the file's (mass-weighted Kabsch).
-  const Eigen::VectorXd weights = molecule.masses();
-  const Eigen::VectorXd x_molecule = molecule.coordinates();
-  Eigen::Vector3d c_molecule = Eigen::Vector3d::Zero(), c_reference = Eigen::Vector3d::Zero();
-  for (int a = 0; a < atoms; ++a) {
-    c_molecule += weights[a] * x_molecule.segment<3>(3 * a);
-    c_reference += weights[a] * data_.reference_angstrom.segment<3>(3 * a);
-  }
-  c_molecule /= weights.sum();
-  c_reference /= weights.sum();
-  Eigen::Matrix3d covariance = Eigen::Matrix3d::Zero();
-  for (int a = 0; a < atoms; ++a)
-    covariance += weights[a] * (data_.reference_angstrom.segment<3>(3 * a) - c_reference) *
-                  (x_molecule.segment<3>(3 * a) - c_molecule).transpose();
-  const Eigen::JacobiSVD<Eigen::Matrix3d> svd(covariance, Eigen::ComputeFullU | Eigen::ComputeFullV);
-  Eigen::Matrix3d correction = Eigen::Matrix3d::Identity();
-  correction(2, 2) = (svd.matrixU() * svd.matrixV().transpose()).determinant() < 0.0 ? -1.0 : 1.0;
-  const Eigen::Matrix3d rotation = svd.matrixU() * correction * svd.matrixV().transpose();
-  double worst = 0.0;
-  int worst_atom = 0;
-  for (int a = 0; a < atoms; ++a) {
-    const double d = (rotation * (x_molecule.segment<3>(3 * a) - c_molecule) + c_reference -
-                      data_.reference_angstrom.segment<3>(3 * a))
-                         .norm();
-    if (d > worst) {
-      worst = d;
-      worst_atom = a;
-    }
-  }
-  if (worst > options_.superposition_tolerance_angstrom)
-    throw Error(
-        fmt::format("{}: the molecule does not match the expansion's reference geometry: after superposition "
-                    "atom {} is {:.3f} Å away (limit {} Å)",
-                    name, worst_atom + 1, worst, options_.superposition_tolerance_angstrom));
-  Eigen::MatrixXd rigid = Eigen::MatrixXd::Zero(3 * atoms, 3 * atoms);
-  Eigen::VectorXd shift(3 * atoms);
-  for (int a = 0; a < atoms; ++a) {
-    rigid.block<3, 3>(3 * a, 3 * a) = rotation;
-    shift.segment<3>(3 * a) =
-        c_reference - rotation * c_molecule - data_.reference_angstrom.segment<3>(3 * a);
-  }
-
-  // Expansion variables.
-  Eigen::MatrixXd to_variables;
   std::vector<ExpansionDerivative> derivatives = data_.derivatives;
-  if (data_.coordinates == ExpansionCoordinates::cartesian) {
-    to_variables = Eigen::MatrixXd::Identity(3 * atoms, 3 * atoms);
-    for (const auto& d : derivatives)
-      for (int i : d.indices)
-        if (i < 0 || i >= 3 * atoms)
-          throw Error(fmt::format("{}: a cartesian derivative index lies outside 1..{}", name, 3 * atoms));
-  } else {
-    const int m = static_cast<int>(data_.frequencies_cm1.size());
-    if (data_.masses_da.size() != atoms)
-      throw Error(fmt::format("{}: normal coordinates need one mass per atom", name));
-    if (data_.mode_displacements.rows() != 3 * atoms || data_.mode_displacements.cols() != m)
-      throw Error(fmt::format("{}: mode displacements are {}x{}, expected {}x{}", name,
-                              data_.mode_displacements.rows(), data_.mode_displacements.cols(), 3 * atoms,
-                              m));
-    Eigen::VectorXd sqrt_mass(3 * atoms);
-    for (int r = 0; r < 3 * atoms; ++r) sqrt_mass[r] = std::sqrt(data_.masses_da[r / 3]);
-    Eigen::MatrixXd l = sqrt_mass.asDiagonal() * data_.mode_displacements;
-    for (int k = 0; k < m; ++k) l.col(k).normalize();
-    const double rigid_overlap =
-        (rigid_body_vectors(data_.reference_angstrom, data_.masses_da).transpose() * l).cwiseAbs().maxCoeff();
-    const Eigen::MatrixXd gram = l.transpose() * l;
-    const double gram_error = (gram - Eigen::MatrixXd::Identity(m, m)).cwiseAbs().maxCoeff();
-    if (rigid_overlap > options_.mode_orthogonality_tolerance ||
-        gram_error > options_.mode_orthogonality_tolerance)
-      throw Error(
-          fmt::format("{}: the mode vectors (mass-weighted) are not orthonormal vibrations: overlap with "
-                      "translations/rotations {:.2g}, with each other {:.2g} (limit {})",
-                      name, rigid_overlap, gram_error, options_.mode_orthogonality_tolerance));
-    const Eigen::SelfAdjointEigenSolver<Eigen::MatrixXd> gram_solver(gram);
-    l = l * gram_solver.operatorInverseSqrt();  // Löwdin: the nearest orthonormal set
-    to_variables.resize(m, 3 * atoms);
-    for (int k = 0; k < m; ++k) {
-      const double omega = data_.frequencies_cm1[k] / units::cm1_per_internal_angular_frequency;
-      to_variables.row(k) =
-          std::sqrt(omega / units::hbar_internal) * (sqrt_mass.asDiagonal() * l.col(k)).transpose();
-    }
-    for (const auto& d : derivatives) {
-      if (d.indices.size() < 3)
-        throw Error(
-            fmt::format("{}: a normal-coordinate expansion lists only cubic and quartic constants", name));
-      for (int i : d.indices)
-        if (i < 0 || i >= m) throw Error(fmt::format("{}: a mode index lies outside 1..{}", name, m));
-    }
-    for (int k = 0; k < m; ++k)
-      derivatives.push_back({{k, k}, data_.frequencies_cm1[k] * units::kcal_mol_per_cm1});
-  }
-  transform_ = to_variables * rigid;
-  offset_ = to_variables * shift;
+  const Eigen::MatrixXd to_variables =
+      data_.coordinates == ExpansionCoordinates::cartesian
+          ? cartesian_variables(derivatives, atoms, name)
+          : normal_variables(data_, options_.mode_orthogonality_tolerance, name, derivatives);
+  transform_ = to_variables * superposition.rigid;
+  offset_ = to_variables * superposition.shift;
 
   for (const auto& d : derivatives) {
     if (d.indices.empty() || d.indices.size() > 4)

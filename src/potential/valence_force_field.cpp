@@ -535,18 +535,11 @@ void read_charges(const Reader& reader, const toml::table& root, ParsedFile& par
                             " in magnitude (elementary charges)");
 }
 
-ParsedFile parse_file(const std::string& text, const std::string& origin) {
-  const toml::table root = parse_toml(text, origin);
-  const Reader reader(origin);
-  ParsedFile parsed;
-  reader.check_keys(
-      root, "the top level",
-      {"format_version", "title", "elements", "charges", "units", "source", "coordinates", "terms"});
-
+// format_version, title, elements and the optional charges.
+void read_header(const Reader& reader, const toml::table& root, ParsedFile& parsed) {
   const toml::node& version = reader.require(root, "format_version", "the top level");
   if (version.value<int64_t>() != int64_t{1})
     reader.fail(&version, "format_version must be the integer 1 (the only version this program reads)");
-
   parsed.title = reader.string(reader.require(root, "title", "the top level"), "title");
   parsed.source.title = parsed.title;
   for (const toml::node& element :
@@ -556,25 +549,35 @@ ParsedFile parse_file(const std::string& text, const std::string& origin) {
     reader.fail(root.get("elements"), "key 'elements' must list at least one element");
   parsed.source.elements = parsed.elements;
   read_charges(reader, root, parsed);
+}
 
-  // Units.
+// The [units] table as factors to internal units (kcal/mol, Å, rad).
+struct UnitFactors {
+  double energy = 1.0;
+  double angle = 1.0;
+  bool degrees = false;  // angles given in degrees
+};
+
+UnitFactors read_units(const Reader& reader, const toml::table& root) {
   const toml::table* units_table = &reader.table(root, "units");
   reader.check_keys(*units_table, "[units]", {"energy", "length", "angle"});
-  const double energy_factor =
-      energy_unit_in_kcal_mol(reader, reader.require(*units_table, "energy", "[units]"));
+  UnitFactors factors;
+  factors.energy = energy_unit_in_kcal_mol(reader, reader.require(*units_table, "energy", "[units]"));
   const toml::node& length_node = reader.require(*units_table, "length", "[units]");
   if (reader.string(length_node, "units.length") != "angstrom")
     reader.fail(&length_node, "unknown length unit '" + reader.string(length_node, "units.length") +
                                   "'; expected angstrom");
   const toml::node& angle_node = reader.require(*units_table, "angle", "[units]");
   const std::string angle_unit = reader.string(angle_node, "units.angle");
-  double angle_factor = 1.0;
-  if (angle_unit == "degree")
-    angle_factor = units::pi / 180.0;
+  factors.degrees = angle_unit == "degree";
+  if (factors.degrees)
+    factors.angle = units::pi / 180.0;
   else if (angle_unit != "radian")
     reader.fail(&angle_node, "unknown angle unit '" + angle_unit + "'; expected degree or radian");
+  return factors;
+}
 
-  // Source.
+void read_source(const Reader& reader, const toml::table& root, ParsedFile& parsed) {
   const toml::table* source_table = &reader.table(root, "source");
   reader.check_keys(*source_table, "[source]",
                     {"citation", "status", "notes", "isotopologue", "reported_harmonic_wavenumbers_cm1"});
@@ -594,193 +597,253 @@ ParsedFile parse_file(const std::string& text, const std::string& origin) {
   if (const toml::node* reported = source_table->get("reported_harmonic_wavenumbers_cm1"))
     parsed.source.reported_harmonic_wavenumbers_cm1 =
         reader.numbers(*reported, "source.reported_harmonic_wavenumbers_cm1");
+}
 
-  // Coordinates.
+const CoordinateKindInfo& coordinate_kind_of(const Reader& reader, const toml::node& kind_node) {
+  const std::string kind = reader.string(kind_node, "kind");
+  for (const auto& candidate : coordinate_kinds)
+    if (kind == candidate.name) return candidate;
+  reader.fail(&kind_node,
+              "unknown coordinate kind '" + kind +
+                  "'; expected one of: distance, angle, linear_bend, dihedral, out_of_plane_angle, "
+                  "pyramid_height");
+}
+
+// One [[coordinates]] entry; `names` holds the names read before it.
+CoordinateDefinition read_coordinate(const Reader& reader, const toml::table& table, int element_count,
+                                     const UnitFactors& factors, const std::map<std::string, int>& names) {
+  const std::string context = "a [[coordinates]] entry";
+  reader.check_keys(table, context, {"name", "kind", "atoms", "reference"});
+  CoordinateDefinition c;
+  const toml::node& name_node = reader.require(table, "name", context);
+  c.name = reader.string(name_node, "name");
+  if (names.count(c.name) != 0) reader.fail(&name_node, "coordinate name '" + c.name + "' is used twice");
+  const CoordinateKindInfo& info = coordinate_kind_of(reader, reader.require(table, "kind", context));
+  c.kind = info.kind;
+  const toml::node& atoms_node = reader.require(table, "atoms", context);
+  for (const toml::node& atom : reader.array(atoms_node, "atoms")) {
+    const auto index = atom.value<int64_t>();
+    if (!index || !atom.is_integer()) reader.fail(&atom, "atom numbers must be integers (1-based)");
+    if (*index < 1 || *index > element_count)
+      reader.fail(&atom, "atom number " + std::to_string(*index) + " of coordinate '" + c.name +
+                             "' is outside 1.." + std::to_string(element_count));
+    c.atoms.push_back(static_cast<int>(*index) - 1);
+  }
+  if (static_cast<int>(c.atoms.size()) != info.atom_count)
+    reader.fail(&atoms_node, "a " + std::string(info.name) + " coordinate takes " +
+                                 std::to_string(info.atom_count) + " atoms, got " +
+                                 std::to_string(c.atoms.size()));
+  if (std::set<int>(c.atoms.begin(), c.atoms.end()).size() != c.atoms.size())
+    reader.fail(&atoms_node, "coordinate '" + c.name + "' names the same atom twice");
+  const toml::node* reference = table.get("reference");
+  if (c.kind == CoordinateKind::linear_bend) {
+    if (reference != nullptr)
+      reader.fail(reference,
+                  "a linear_bend has no reference value (it is measured from the linear geometry)");
+    return c;
+  }
+  if (reference == nullptr) reader.fail(&table, "missing key 'reference' in coordinate '" + c.name + "'");
+  c.reference = reader.number(*reference, "reference") * (info.angular ? factors.angle : 1.0);
+  if (c.kind == CoordinateKind::distance && c.reference <= 0.0)
+    reader.fail(reference, "reference distance of '" + c.name + "' must be positive");
+  check_reference_range(reader, *reference, c, factors.degrees);
+  c.linear_reference =
+      c.kind == CoordinateKind::angle && std::abs(c.reference - units::pi) <= linear_reference_tolerance_rad;
+  return c;
+}
+
+// The [[coordinates]] entries; returns each name's index.
+std::map<std::string, int> read_coordinates(const Reader& reader, const toml::table& root,
+                                            const UnitFactors& factors, ParsedFile& parsed) {
   const int element_count = static_cast<int>(parsed.elements.size());
   std::map<std::string, int> coordinate_index;
   for (const toml::node& entry : reader.array_of_tables(root, "coordinates")) {
-    const toml::table& table = *entry.as_table();
-    const std::string context = "a [[coordinates]] entry";
-    reader.check_keys(table, context, {"name", "kind", "atoms", "reference"});
-    CoordinateDefinition c;
-    const toml::node& name_node = reader.require(table, "name", context);
-    c.name = reader.string(name_node, "name");
-    if (coordinate_index.count(c.name) != 0)
-      reader.fail(&name_node, "coordinate name '" + c.name + "' is used twice");
-    const toml::node& kind_node = reader.require(table, "kind", context);
-    const std::string kind = reader.string(kind_node, "kind");
-    const CoordinateKindInfo* info = nullptr;
-    for (const auto& candidate : coordinate_kinds)
-      if (kind == candidate.name) info = &candidate;
-    if (info == nullptr)
-      reader.fail(&kind_node,
-                  "unknown coordinate kind '" + kind +
-                      "'; expected one of: distance, angle, linear_bend, dihedral, out_of_plane_angle, "
-                      "pyramid_height");
-    c.kind = info->kind;
-    const toml::node& atoms_node = reader.require(table, "atoms", context);
-    for (const toml::node& atom : reader.array(atoms_node, "atoms")) {
-      const auto index = atom.value<int64_t>();
-      if (!index || !atom.is_integer()) reader.fail(&atom, "atom numbers must be integers (1-based)");
-      if (*index < 1 || *index > element_count)
-        reader.fail(&atom, "atom number " + std::to_string(*index) + " of coordinate '" + c.name +
-                               "' is outside 1.." + std::to_string(element_count));
-      c.atoms.push_back(static_cast<int>(*index) - 1);
-    }
-    if (static_cast<int>(c.atoms.size()) != info->atom_count)
-      reader.fail(&atoms_node, "a " + kind + " coordinate takes " + std::to_string(info->atom_count) +
-                                   " atoms, got " + std::to_string(c.atoms.size()));
-    if (std::set<int>(c.atoms.begin(), c.atoms.end()).size() != c.atoms.size())
-      reader.fail(&atoms_node, "coordinate '" + c.name + "' names the same atom twice");
-    const toml::node* reference = table.get("reference");
-    if (c.kind == CoordinateKind::linear_bend) {
-      if (reference != nullptr)
-        reader.fail(reference,
-                    "a linear_bend has no reference value (it is measured from the linear geometry)");
-    } else {
-      if (reference == nullptr) reader.fail(&table, "missing key 'reference' in coordinate '" + c.name + "'");
-      c.reference = reader.number(*reference, "reference") * (info->angular ? angle_factor : 1.0);
-      if (c.kind == CoordinateKind::distance && c.reference <= 0.0)
-        reader.fail(reference, "reference distance of '" + c.name + "' must be positive");
-      check_reference_range(reader, *reference, c, angle_unit == "degree");
-      c.linear_reference = c.kind == CoordinateKind::angle &&
-                           std::abs(c.reference - units::pi) <= linear_reference_tolerance_rad;
-    }
+    CoordinateDefinition c =
+        read_coordinate(reader, *entry.as_table(), element_count, factors, coordinate_index);
     coordinate_index[c.name] = static_cast<int>(parsed.coordinates.size());
-    parsed.coordinates.push_back(c);
+    parsed.coordinates.push_back(std::move(c));
+  }
+  return coordinate_index;
+}
+
+// The [[terms]] entries, one reader per kind of term, over coordinates already read.
+class TermReader {
+ public:
+  TermReader(const Reader& reader, const UnitFactors& factors,
+             const std::map<std::string, int>& coordinate_index,
+             const std::vector<CoordinateDefinition>& coordinates)
+      : reader_(reader), factors_(factors), coordinate_index_(coordinate_index), coordinates_(coordinates) {}
+
+  Term read(const toml::table& table) const {
+    const toml::node& kind_node = reader_.require(table, "kind", "a [[terms]] entry");
+    const std::string kind = reader_.string(kind_node, "kind");
+    Term term;
+    if (kind == "morse")
+      read_morse(table, term);
+    else if (kind == "polynomial")
+      read_polynomial(table, term);
+    else if (kind == "coupling")
+      read_coupling(table, term);
+    else if (kind == "cosine_series")
+      read_cosine_series(table, term);
+    else
+      reader_.fail(&kind_node, "unknown term kind '" + kind +
+                                   "'; expected one of: morse, polynomial, coupling, "
+                                   "cosine_series");
+    place_atoms(term);
+    return term;
   }
 
-  auto find_coordinate = [&](const toml::node& node, const std::string& key) {
-    const std::string name = reader.string(node, key);
-    auto it = coordinate_index.find(name);
-    if (it == coordinate_index.end()) reader.fail(&node, "term refers to unknown coordinate '" + name + "'");
+ private:
+  int find_coordinate(const toml::node& node, const std::string& key) const {
+    const std::string name = reader_.string(node, key);
+    auto it = coordinate_index_.find(name);
+    if (it == coordinate_index_.end())
+      reader_.fail(&node, "term refers to unknown coordinate '" + name + "'");
     return it->second;
-  };
+  }
 
-  // Terms.
-  for (const toml::node& entry : reader.array_of_tables(root, "terms")) {
-    const toml::table& table = *entry.as_table();
-    const std::string context = "a [[terms]] entry";
-    const toml::node& kind_node = reader.require(table, "kind", context);
-    const std::string kind = reader.string(kind_node, "kind");
-    Term term;
-    if (kind == "morse") {
-      reader.check_keys(table, "a morse term", {"kind", "label", "coordinate", "depth", "width"});
-      term.kind = TermKind::morse;
-      const toml::node& coordinate_node = reader.require(table, "coordinate", "a morse term");
-      term.factors.push_back({find_coordinate(coordinate_node, "coordinate"), 1});
-      if (parsed.coordinates[term.factors[0].coordinate].kind != CoordinateKind::distance)
-        reader.fail(&coordinate_node, "a morse term needs a distance coordinate");
-      const toml::node& depth = reader.require(table, "depth", "a morse term");
-      const toml::node& width = reader.require(table, "width", "a morse term");
-      term.depth = reader.number(depth, "depth") * energy_factor;
-      term.width = reader.number(width, "width");
-      if (term.depth <= 0.0) reader.fail(&depth, "morse depth must be positive");
-      if (term.width <= 0.0) reader.fail(&width, "morse width must be positive");
-      reader.bounded(depth, "depth", term.depth, file_limits::energy_scale_kcal_mol, "kcal/mol");
-      reader.bounded(width, "width", term.width, file_limits::morse_width_per_angstrom, "1/Å");
-    } else if (kind == "polynomial") {
-      reader.check_keys(table, "a polynomial term", {"kind", "label", "coordinate", "f2", "f3", "f4"});
-      term.kind = TermKind::polynomial;
-      const toml::node& coordinate_node = reader.require(table, "coordinate", "a polynomial term");
-      term.factors.push_back({find_coordinate(coordinate_node, "coordinate"), 1});
-      const CoordinateDefinition& bend = parsed.coordinates[term.factors[0].coordinate];
-      const bool linear = bend.even_in_bend();
-      bool any = false;
-      double factorial = 1.0;
-      for (int order = 2; order <= 4; ++order) {
-        factorial *= order;
-        const std::string key = "f" + std::to_string(order);
-        if (const toml::node* f = table.get(key)) {
-          if (linear && order % 2 == 1)
-            reader.fail(f, std::string(bend.kind == CoordinateKind::linear_bend
-                                           ? "a linear_bend"
-                                           : "an angle whose reference is 180° ('" + bend.name + "')") +
-                               " takes only even powers (f2, f4): the potential must be even in π − θ");
-          term.polynomial[order] =
-              reader.bounded(*f, key, reader.number(*f, key) * energy_factor,
-                             file_limits::force_constant_kcal_mol, "kcal/mol per unit^n") /
-              factorial;
-          any = true;
-        }
+  void read_morse(const toml::table& table, Term& term) const {
+    reader_.check_keys(table, "a morse term", {"kind", "label", "coordinate", "depth", "width"});
+    term.kind = TermKind::morse;
+    const toml::node& coordinate_node = reader_.require(table, "coordinate", "a morse term");
+    term.factors.push_back({find_coordinate(coordinate_node, "coordinate"), 1});
+    if (coordinates_[term.factors[0].coordinate].kind != CoordinateKind::distance)
+      reader_.fail(&coordinate_node, "a morse term needs a distance coordinate");
+    const toml::node& depth = reader_.require(table, "depth", "a morse term");
+    const toml::node& width = reader_.require(table, "width", "a morse term");
+    term.depth = reader_.number(depth, "depth") * factors_.energy;
+    term.width = reader_.number(width, "width");
+    if (term.depth <= 0.0) reader_.fail(&depth, "morse depth must be positive");
+    if (term.width <= 0.0) reader_.fail(&width, "morse width must be positive");
+    reader_.bounded(depth, "depth", term.depth, file_limits::energy_scale_kcal_mol, "kcal/mol");
+    reader_.bounded(width, "width", term.width, file_limits::morse_width_per_angstrom, "1/Å");
+  }
+
+  void read_polynomial(const toml::table& table, Term& term) const {
+    reader_.check_keys(table, "a polynomial term", {"kind", "label", "coordinate", "f2", "f3", "f4"});
+    term.kind = TermKind::polynomial;
+    const toml::node& coordinate_node = reader_.require(table, "coordinate", "a polynomial term");
+    term.factors.push_back({find_coordinate(coordinate_node, "coordinate"), 1});
+    const CoordinateDefinition& bend = coordinates_[term.factors[0].coordinate];
+    const bool linear = bend.even_in_bend();
+    bool any = false;
+    double factorial = 1.0;
+    for (int order = 2; order <= 4; ++order) {
+      factorial *= order;
+      const std::string key = "f" + std::to_string(order);
+      if (const toml::node* f = table.get(key)) {
+        if (linear && order % 2 == 1)
+          reader_.fail(f, std::string(bend.kind == CoordinateKind::linear_bend
+                                          ? "a linear_bend"
+                                          : "an angle whose reference is 180° ('" + bend.name + "')") +
+                              " takes only even powers (f2, f4): the potential must be even in π − θ");
+        term.polynomial[order] =
+            reader_.bounded(*f, key, reader_.number(*f, key) * factors_.energy,
+                            file_limits::force_constant_kcal_mol, "kcal/mol per unit^n") /
+            factorial;
+        any = true;
       }
-      if (!any) reader.fail(&table, "a polynomial term needs at least one of f2, f3, f4");
-    } else if (kind == "coupling") {
-      reader.check_keys(table, "a coupling term", {"kind", "label", "coordinates", "f"});
-      term.kind = TermKind::coupling;
-      const toml::node& list = reader.require(table, "coordinates", "a coupling term");
-      std::map<int, int> powers;
-      int order = 0;
-      for (const toml::node& name : reader.array(list, "coordinates")) {
-        ++powers[find_coordinate(name, "coordinates")];
-        ++order;
-      }
-      if (order < 2 || order > 6)
-        reader.fail(&list,
-                    "a coupling term takes 2 to 6 coordinates (with repeats), got " + std::to_string(order));
-      double factorials = 1.0;
-      for (const auto& [index, power] : powers) {
-        if (parsed.coordinates[index].even_in_bend() && power % 2 == 1)
-          reader.fail(&list,
-                      std::string(parsed.coordinates[index].kind == CoordinateKind::linear_bend
-                                      ? "linear_bend '"
-                                      : "angle (reference 180°) '") +
-                          parsed.coordinates[index].name +
-                          "' must appear an even number of times in a coupling (the potential is even in "
-                          "π − θ)");
-        for (int k = 2; k <= power; ++k) factorials *= k;
-        term.factors.push_back({index, power});
-      }
-      const toml::node& f_node = reader.require(table, "f", "a coupling term");
-      term.coefficient = reader.bounded(f_node, "f", reader.number(f_node, "f") * energy_factor,
-                                        file_limits::force_constant_kcal_mol, "kcal/mol per unit^n") /
-                         factorials;
-    } else if (kind == "cosine_series") {
-      reader.check_keys(table, "a cosine_series term", {"kind", "label", "coordinate", "barriers", "phases"});
-      term.kind = TermKind::cosine_series;
-      const toml::node& coordinate_node = reader.require(table, "coordinate", "a cosine_series term");
-      term.factors.push_back({find_coordinate(coordinate_node, "coordinate"), 1});
-      const CoordinateKind ck = parsed.coordinates[term.factors[0].coordinate].kind;
-      if (ck != CoordinateKind::dihedral && ck != CoordinateKind::out_of_plane_angle &&
-          ck != CoordinateKind::angle)
-        reader.fail(&coordinate_node,
-                    "a cosine_series needs a dihedral, angle or out_of_plane_angle coordinate");
-      const toml::node& barriers = reader.require(table, "barriers", "a cosine_series term");
-      term.barriers = reader.numbers(barriers, "barriers");
-      if (term.barriers.empty()) reader.fail(&barriers, "barriers must list at least one value");
-      for (double& b : term.barriers)
-        b = reader.bounded(barriers, "barriers", b * energy_factor, file_limits::energy_scale_kcal_mol,
-                           "kcal/mol");
-      term.phases.assign(term.barriers.size(), 0.0);
-      if (const toml::node* phases = table.get("phases")) {
-        term.phases = reader.numbers(*phases, "phases");
-        if (term.phases.size() != term.barriers.size())
-          reader.fail(phases, "phases must have as many entries as barriers (" +
-                                  std::to_string(term.barriers.size()) + "), got " +
-                                  std::to_string(term.phases.size()));
-        for (double& phase : term.phases)
-          phase = reader.bounded(*phases, "phases", phase * angle_factor,
-                                 file_limits::full_turn_rad + linear_reference_tolerance_rad, "rad");
-      }
-    } else {
-      reader.fail(&kind_node, "unknown term kind '" + kind +
-                                  "'; expected one of: morse, polynomial, coupling, "
-                                  "cosine_series");
     }
-    // The term's atoms and where each coordinate's atoms sit among them.
+    if (!any) reader_.fail(&table, "a polynomial term needs at least one of f2, f3, f4");
+  }
+
+  void read_coupling(const toml::table& table, Term& term) const {
+    reader_.check_keys(table, "a coupling term", {"kind", "label", "coordinates", "f"});
+    term.kind = TermKind::coupling;
+    const toml::node& list = reader_.require(table, "coordinates", "a coupling term");
+    std::map<int, int> powers;
+    int order = 0;
+    for (const toml::node& name : reader_.array(list, "coordinates")) {
+      ++powers[find_coordinate(name, "coordinates")];
+      ++order;
+    }
+    if (order < 2 || order > 6)
+      reader_.fail(&list,
+                   "a coupling term takes 2 to 6 coordinates (with repeats), got " + std::to_string(order));
+    double factorials = 1.0;
+    for (const auto& [index, power] : powers) {
+      if (coordinates_[index].even_in_bend() && power % 2 == 1)
+        reader_.fail(&list,
+                     std::string(coordinates_[index].kind == CoordinateKind::linear_bend
+                                     ? "linear_bend '"
+                                     : "angle (reference 180°) '") +
+                         coordinates_[index].name +
+                         "' must appear an even number of times in a coupling (the potential is even in "
+                         "π − θ)");
+      for (int k = 2; k <= power; ++k) factorials *= k;
+      term.factors.push_back({index, power});
+    }
+    const toml::node& f_node = reader_.require(table, "f", "a coupling term");
+    term.coefficient = reader_.bounded(f_node, "f", reader_.number(f_node, "f") * factors_.energy,
+                                       file_limits::force_constant_kcal_mol, "kcal/mol per unit^n") /
+                       factorials;
+  }
+
+  void read_cosine_series(const toml::table& table, Term& term) const {
+    reader_.check_keys(table, "a cosine_series term", {"kind", "label", "coordinate", "barriers", "phases"});
+    term.kind = TermKind::cosine_series;
+    const toml::node& coordinate_node = reader_.require(table, "coordinate", "a cosine_series term");
+    term.factors.push_back({find_coordinate(coordinate_node, "coordinate"), 1});
+    const CoordinateKind ck = coordinates_[term.factors[0].coordinate].kind;
+    if (ck != CoordinateKind::dihedral && ck != CoordinateKind::out_of_plane_angle &&
+        ck != CoordinateKind::angle)
+      reader_.fail(&coordinate_node,
+                   "a cosine_series needs a dihedral, angle or out_of_plane_angle coordinate");
+    const toml::node& barriers = reader_.require(table, "barriers", "a cosine_series term");
+    term.barriers = reader_.numbers(barriers, "barriers");
+    if (term.barriers.empty()) reader_.fail(&barriers, "barriers must list at least one value");
+    for (double& b : term.barriers)
+      b = reader_.bounded(barriers, "barriers", b * factors_.energy, file_limits::energy_scale_kcal_mol,
+                          "kcal/mol");
+    term.phases.assign(term.barriers.size(), 0.0);
+    if (const toml::node* phases = table.get("phases")) {
+      term.phases = reader_.numbers(*phases, "phases");
+      if (term.phases.size() != term.barriers.size())
+        reader_.fail(phases, "phases must have as many entries as barriers (" +
+                                 std::to_string(term.barriers.size()) + "), got " +
+                                 std::to_string(term.phases.size()));
+      for (double& phase : term.phases)
+        phase = reader_.bounded(*phases, "phases", phase * factors_.angle,
+                                file_limits::full_turn_rad + linear_reference_tolerance_rad, "rad");
+    }
+  }
+
+  // The term's atoms and where each coordinate's atoms sit among them.
+  void place_atoms(Term& term) const {
     std::set<int> atoms;
     for (const Factor& f : term.factors)
-      for (int a : parsed.coordinates[f.coordinate].atoms) atoms.insert(a);
+      for (int a : coordinates_[f.coordinate].atoms) atoms.insert(a);
     term.atoms.assign(atoms.begin(), atoms.end());
     for (const Factor& f : term.factors) {
       std::vector<int> local;
-      for (int a : parsed.coordinates[f.coordinate].atoms)
+      for (int a : coordinates_[f.coordinate].atoms)
         local.push_back(
             static_cast<int>(std::lower_bound(term.atoms.begin(), term.atoms.end(), a) - term.atoms.begin()));
       term.local_atoms.push_back(local);
     }
-    parsed.terms.push_back(term);
   }
+
+  const Reader& reader_;
+  const UnitFactors& factors_;
+  const std::map<std::string, int>& coordinate_index_;
+  const std::vector<CoordinateDefinition>& coordinates_;
+};
+
+ParsedFile parse_file(const std::string& text, const std::string& origin) {
+  const toml::table root = parse_toml(text, origin);
+  const Reader reader(origin);
+  ParsedFile parsed;
+  reader.check_keys(
+      root, "the top level",
+      {"format_version", "title", "elements", "charges", "units", "source", "coordinates", "terms"});
+  read_header(reader, root, parsed);
+  const UnitFactors factors = read_units(reader, root);
+  read_source(reader, root, parsed);
+  const std::map<std::string, int> coordinate_index = read_coordinates(reader, root, factors, parsed);
+  const TermReader terms(reader, factors, coordinate_index, parsed.coordinates);
+  for (const toml::node& entry : reader.array_of_tables(root, "terms"))
+    parsed.terms.push_back(terms.read(*entry.as_table()));
   return parsed;
 }
 

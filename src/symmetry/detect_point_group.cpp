@@ -192,8 +192,8 @@ std::vector<FittedOperation> find_operations(const Geometry& geometry, double to
   double widest = 0.0;
   for (int i = 0; i < n; ++i) widest = std::max(widest, perpendicular(i));
   // Nearly linear but not within the tolerance: the small bend still fixes the frame.
-  constexpr double kCollinear = 1e-6;
-  if (widest <= kCollinear) return found;
+  constexpr double collinear_width = 1e-6;
+  if (widest <= collinear_width) return found;
   // Reference atom b: off the line through a, few candidate image pairs, far from that line.
   const auto& class_a = geometry.classes[geometry.class_of[a]];
   int b = -1;
@@ -708,8 +708,8 @@ Candidate realize(const Geometry& geometry, const std::vector<FittedOperation>& 
         }
       }
       // Distinct operations of a point group differ by far more than this (Frobenius).
-      constexpr double kSameOperation = 0.3;
-      if (best_distance > kSameOperation || used[best]) {
+      constexpr double same_operation_distance = 0.3;
+      if (best_distance > same_operation_distance || used[best]) {
         // The fitted operations are mutually inconsistent (e.g. a nearly linear molecule
         // whose noise mimics a bend); the caller falls back to subgroups.
         c.realized = false;

@@ -26,8 +26,8 @@ void proper_axis_and_angle(const Eigen::Matrix3d& r, Eigen::Vector3d& axis, doub
   const double cosine = std::clamp((p.trace() - 1.0) / 2.0, -1.0, 1.0);
   angle_radians = std::acos(cosine);
   // Below this angle the axis is numerically undefined; point-group angles are ≥ 2π/120.
-  constexpr double kSmallestMeaningfulAngle = 1e-6;
-  if (angle_radians < kSmallestMeaningfulAngle) {
+  constexpr double smallest_meaningful_angle = 1e-6;
+  if (angle_radians < smallest_meaningful_angle) {
     axis.setZero();
     return;
   }
@@ -51,12 +51,12 @@ double signed_rotation_angle(const Eigen::Matrix3d& p, const Eigen::Vector3d& u)
 void rational_turns(double turns, int max_denominator, int& k, int& m) {
   // Angles of exactly built operations are good to ~1e-14 turns; 1e-7 leaves room for
   // fitted operations while still separating denominators up to the thousands.
-  constexpr double kTurnTolerance = 1e-7;
+  constexpr double turn_tolerance = 1e-7;
   turns -= std::floor(turns);
   for (m = 1; m <= max_denominator; ++m) {
     const double scaled = turns * m;
     k = static_cast<int>(std::lround(scaled));
-    if (std::abs(scaled - k) < kTurnTolerance * m) {
+    if (std::abs(scaled - k) < turn_tolerance * m) {
       k %= m;
       return;
     }

@@ -20,12 +20,12 @@ using detail::improper_rotation_about;
 using detail::reflection_through_plane;
 using detail::rotation_about;
 
-const Eigen::Vector3d kX(1, 0, 0), kY(0, 1, 0), kZ(0, 0, 1);
+const Eigen::Vector3d x_axis(1, 0, 0), y_axis(0, 1, 0), z_axis(0, 0, 1);
 // Exactly built matrices agree to ~1e-15; this separates elements and absorbs rounding.
-constexpr double kExactTolerance = 1e-8;
+constexpr double exact_tolerance = 1e-8;
 // Largest denominator recognized in rotation angles (n up to 60 in S_2n, C_n).
-constexpr int kMaxDenominator = 240;
-constexpr int kMaxAxisOrder = 60;
+constexpr int max_turn_denominator = 240;
+constexpr int max_axis_order = 60;
 
 bool is_axial(PointGroupFamily f) {
   switch (f) {
@@ -100,10 +100,10 @@ std::vector<Eigen::MatrixXd> generators_for(PointGroupFamily f, int n) {
   const double turn = 2.0 * units::pi;
   const double golden = (1.0 + std::sqrt(5.0)) / 2.0;
   const Eigen::Vector3d diagonal(1, 1, 1), five_fold(0, 1, golden);
-  const Eigen::Matrix3d cn = rotation_about(kZ, turn / n);
-  const Eigen::Matrix3d c2x = rotation_about(kX, turn / 2);
-  const Eigen::Matrix3d sigma_h = reflection_through_plane(kZ);
-  const Eigen::Matrix3d sigma_xz = reflection_through_plane(kY);
+  const Eigen::Matrix3d cn = rotation_about(z_axis, turn / n);
+  const Eigen::Matrix3d c2x = rotation_about(x_axis, turn / 2);
+  const Eigen::Matrix3d sigma_h = reflection_through_plane(z_axis);
+  const Eigen::Matrix3d sigma_xz = reflection_through_plane(y_axis);
   const Eigen::Matrix3d inversion = -Eigen::Matrix3d::Identity();
   const Eigen::Matrix3d c3_diagonal = rotation_about(diagonal, turn / 3);
   std::vector<Eigen::Matrix3d> g;
@@ -135,25 +135,25 @@ std::vector<Eigen::MatrixXd> generators_for(PointGroupFamily f, int n) {
       g = {cn, c2x, sigma_h};
       break;
     case PointGroupFamily::Dnd:
-      g = {improper_rotation_about(kZ, turn / (2 * n)), c2x};
+      g = {improper_rotation_about(z_axis, turn / (2 * n)), c2x};
       break;
     case PointGroupFamily::S2n:
-      g = {improper_rotation_about(kZ, turn / n)};
+      g = {improper_rotation_about(z_axis, turn / n)};
       break;
     case PointGroupFamily::T:
-      g = {rotation_about(kZ, turn / 2), c3_diagonal};
+      g = {rotation_about(z_axis, turn / 2), c3_diagonal};
       break;
     case PointGroupFamily::Td:
-      g = {improper_rotation_about(kZ, turn / 4), c3_diagonal};
+      g = {improper_rotation_about(z_axis, turn / 4), c3_diagonal};
       break;
     case PointGroupFamily::Th:
-      g = {rotation_about(kZ, turn / 2), c3_diagonal, inversion};
+      g = {rotation_about(z_axis, turn / 2), c3_diagonal, inversion};
       break;
     case PointGroupFamily::O:
-      g = {rotation_about(kZ, turn / 4), c3_diagonal};
+      g = {rotation_about(z_axis, turn / 4), c3_diagonal};
       break;
     case PointGroupFamily::Oh:
-      g = {rotation_about(kZ, turn / 4), c3_diagonal, inversion};
+      g = {rotation_about(z_axis, turn / 4), c3_diagonal, inversion};
       break;
     case PointGroupFamily::I:
       g = {rotation_about(five_fold, turn / 5), c3_diagonal};
@@ -169,13 +169,13 @@ std::vector<Eigen::MatrixXd> generators_for(PointGroupFamily f, int n) {
 // diagonals the direction with x·y·z > 0 (so that the two classes of threefold
 // rotations of T are C3 and C3² consistently); otherwise the first nonzero of z, y, x positive.
 Eigen::Vector3d canonical_direction(Eigen::Vector3d u) {
-  constexpr double kZeroComponent = 1e-9;
-  if ((u.array().abs() > kZeroComponent).all()) {
+  constexpr double zero_component = 1e-9;
+  if ((u.array().abs() > zero_component).all()) {
     if (u.x() * u.y() * u.z() < 0.0) u = -u;
     return u;
   }
   for (int i : {2, 1, 0}) {
-    if (std::abs(u(i)) > kZeroComponent) {
+    if (std::abs(u(i)) > zero_component) {
       if (u(i) < 0.0) u = -u;
       break;
     }
@@ -195,8 +195,8 @@ struct OperationInfo {
 OperationInfo analyze_operation(const Eigen::Matrix3d& r) {
   OperationInfo info;
   const bool proper = r.determinant() > 0.0;
-  if ((r - Eigen::Matrix3d::Identity()).cwiseAbs().maxCoeff() < kExactTolerance) return info;
-  if ((r + Eigen::Matrix3d::Identity()).cwiseAbs().maxCoeff() < kExactTolerance) {
+  if ((r - Eigen::Matrix3d::Identity()).cwiseAbs().maxCoeff() < exact_tolerance) return info;
+  if ((r + Eigen::Matrix3d::Identity()).cwiseAbs().maxCoeff() < exact_tolerance) {
     info.kind = OperationKind::Inversion;
     return info;
   }
@@ -206,7 +206,7 @@ OperationInfo analyze_operation(const Eigen::Matrix3d& r) {
   info.axis = canonical_direction(axis);
   const Eigen::Matrix3d rotation_part = proper ? r : Eigen::Matrix3d(reflection_through_plane(info.axis) * r);
   const double turns = detail::signed_rotation_angle(rotation_part, info.axis) / (2.0 * units::pi);
-  detail::rational_turns(turns, kMaxDenominator, info.k, info.m);
+  detail::rational_turns(turns, max_turn_denominator, info.k, info.m);
   if (info.m == 0) throw Error("internal: operation angle is not a rational fraction of a turn");
   if (proper) {
     info.kind = OperationKind::Rotation;
@@ -244,20 +244,20 @@ std::string base_name(const OperationInfo& info, bool typographic) {
 }
 
 bool parallel(const Eigen::Vector3d& a, const Eigen::Vector3d& b) {
-  return std::abs(std::abs(a.normalized().dot(b.normalized())) - 1.0) < kExactTolerance;
+  return std::abs(std::abs(a.normalized().dot(b.normalized())) - 1.0) < exact_tolerance;
 }
 
 std::string axis_letter(const Eigen::Vector3d& u) {
-  if (parallel(u, kX)) return "x";
-  if (parallel(u, kY)) return "y";
+  if (parallel(u, x_axis)) return "x";
+  if (parallel(u, y_axis)) return "y";
   return "z";
 }
 
 // Decorations that distinguish classes of the same kind (C2′/C2″, σv/σd/σh, axes of D2).
 void decorate(PointGroupFamily family, int n, const std::vector<std::vector<int>>& classes,
               const FiniteGroup& group, std::vector<OperationInfo>& info) {
-  const int c2x = group.find(rotation_about(kX, units::pi), kExactTolerance);
-  const int sigma_xz = group.find(reflection_through_plane(kY), kExactTolerance);
+  const int c2x = group.find(rotation_about(x_axis, units::pi), exact_tolerance);
+  const int sigma_xz = group.find(reflection_through_plane(y_axis), exact_tolerance);
   const bool cubic = !is_axial(family) && family != PointGroupFamily::C1 && family != PointGroupFamily::Ci;
   for (const auto& members : classes) {
     const bool has_c2x = std::find(members.begin(), members.end(), c2x) != members.end();
@@ -271,29 +271,29 @@ void decorate(PointGroupFamily family, int n, const std::vector<std::vector<int>
       if (op.kind == OperationKind::Rotation && op.m == 2) {
         if (is_dihedral_two(family, n)) {
           set("(" + axis_letter(op.axis) + ")", "(" + axis_letter(op.axis) + ")");
-        } else if (is_axial(family) && !parallel(op.axis, kZ)) {
+        } else if (is_axial(family) && !parallel(op.axis, z_axis)) {
           if (has_c2x || family == PointGroupFamily::Dnd)
             set("'", "′");
           else
             set("''", "″");
         } else if ((family == PointGroupFamily::O || family == PointGroupFamily::Oh) &&
-                   !parallel(op.axis, kX) && !parallel(op.axis, kY) && !parallel(op.axis, kZ)) {
+                   !parallel(op.axis, x_axis) && !parallel(op.axis, y_axis) && !parallel(op.axis, z_axis)) {
           set("'", "′");
         }
       } else if (op.kind == OperationKind::Reflection) {
         const Eigen::Vector3d& normal = op.axis;
         if (is_dihedral_two(family, n)) {
-          const std::string plane = normal.isApprox(kZ) || parallel(normal, kZ) ? "(xy)"
-                                    : parallel(normal, kY)                      ? "(xz)"
-                                                                                : "(yz)";
+          const std::string plane = normal.isApprox(z_axis) || parallel(normal, z_axis) ? "(xy)"
+                                    : parallel(normal, y_axis)                          ? "(xz)"
+                                                                                        : "(yz)";
           set(plane, plane);
         } else if (family == PointGroupFamily::Cnv && n == 2) {
-          if (parallel(normal, kY))
+          if (parallel(normal, y_axis))
             set("_v(xz)", "v(xz)");
           else
             set("_v'(yz)", "v′(yz)");
         } else if (is_axial(family)) {
-          if (parallel(normal, kZ))
+          if (parallel(normal, z_axis))
             set("_h", "h");
           else if (family == PointGroupFamily::Dnd)
             set("_d", "d");
@@ -302,7 +302,8 @@ void decorate(PointGroupFamily family, int n, const std::vector<std::vector<int>
           else
             set("_d", "d");
         } else if (cubic) {
-          const bool coordinate_plane = parallel(normal, kX) || parallel(normal, kY) || parallel(normal, kZ);
+          const bool coordinate_plane =
+              parallel(normal, x_axis) || parallel(normal, y_axis) || parallel(normal, z_axis);
           if (family == PointGroupFamily::Td)
             set("_d", "d");
           else if (family == PointGroupFamily::Th || (family == PointGroupFamily::Oh && coordinate_plane))
@@ -323,8 +324,8 @@ std::tuple<int, int, int, int, std::string> class_key(PointGroupFamily family, c
     case OperationKind::Identity:
       return {0, 0, 0, 0, ""};
     case OperationKind::Rotation: {
-      const bool on_axis = axial && parallel(op.axis, kZ);
-      if (on_axis) return {1, 0, op.k * kMaxDenominator / op.m, 0, ""};
+      const bool on_axis = axial && parallel(op.axis, z_axis);
+      if (on_axis) return {1, 0, op.k * max_turn_denominator / op.m, 0, ""};
       const std::string& d = op.decoration_ascii;
       const std::string rank = d == "(y)" ? "1" : d == "(x)" ? "2" : d;  // C2(z), C2(y), C2(x)
       return {1, 1, -op.m, op.k, rank};
@@ -388,13 +389,13 @@ std::vector<std::vector<std::complex<double>>> irreducible_characters(
       table.push_back(row);
     }
     // Check row orthonormality: Σ_k |K_k| χ_a(k) conj(χ_b(k)) = |G| δ_ab.
-    constexpr double kOrthogonality = 1e-6;
+    constexpr double orthogonality_tolerance = 1e-6;
     for (int a = 0; a < r && valid; ++a)
       for (int b = 0; b < r && valid; ++b) {
         std::complex<double> sum = 0.0;
         for (int k = 0; k < r; ++k)
           sum += static_cast<double>(classes[k].size()) * table[a][k] * std::conj(table[b][k]);
-        valid = std::abs(sum - (a == b ? static_cast<double>(order) : 0.0)) < kOrthogonality * order;
+        valid = std::abs(sum - (a == b ? static_cast<double>(order) : 0.0)) < orthogonality_tolerance * order;
       }
     if (valid) {
       // Clean rounding noise: exact zeros and real values where they are real.
@@ -456,7 +457,7 @@ FiniteGroup PointGroup::finite_group() const {
     matrices.emplace_back(op.matrix);
     names.push_back(op.name);
   }
-  return FiniteGroup::from_elements(matrices, names, kExactTolerance);
+  return FiniteGroup::from_elements(matrices, names, exact_tolerance);
 }
 
 int PointGroup::irrep_index(const std::string& label) const {
@@ -504,20 +505,20 @@ int checked_axis_order(PointGroupFamily family, int axis_order, int linear_axis_
     case PointGroupFamily::Dn:
     case PointGroupFamily::Dnh:
     case PointGroupFamily::Dnd:
-      if (n < 2 || n > kMaxAxisOrder)
+      if (n < 2 || n > max_axis_order)
         throw Error("axis order of " + name_for(family, n, false) + " must be between 2 and " +
-                    std::to_string(kMaxAxisOrder) + ", got " + std::to_string(n));
+                    std::to_string(max_axis_order) + ", got " + std::to_string(n));
       return n;
     case PointGroupFamily::S2n:
-      if (n < 4 || n % 2 != 0 || n > 2 * kMaxAxisOrder)
-        throw Error("S_2n needs an even subscript between 4 and " + std::to_string(2 * kMaxAxisOrder) +
+      if (n < 4 || n % 2 != 0 || n > 2 * max_axis_order)
+        throw Error("S_2n needs an even subscript between 4 and " + std::to_string(2 * max_axis_order) +
                     ", got " + std::to_string(n));
       return n;
     case PointGroupFamily::Cinfv:
     case PointGroupFamily::Dinfh:
-      if (linear_axis_order < 4 || linear_axis_order % 2 != 0 || linear_axis_order > kMaxAxisOrder)
+      if (linear_axis_order < 4 || linear_axis_order % 2 != 0 || linear_axis_order > max_axis_order)
         throw Error("the finite stand-in for a linear group needs an even axis order between 4 and " +
-                    std::to_string(kMaxAxisOrder) + ", got " + std::to_string(linear_axis_order));
+                    std::to_string(max_axis_order) + ", got " + std::to_string(linear_axis_order));
       return linear_axis_order;
     default:
       return 1;
@@ -528,7 +529,7 @@ int checked_axis_order(PointGroupFamily family, int axis_order, int linear_axis_
 // textbook class order (operations within a class by their power), and the classes.
 void build_operations(PointGroupFamily finite_family, int n, PointGroup& pg) {
   const FiniteGroup raw =
-      FiniteGroup::generated_by(generators_for(finite_family, n), {}, kExactTolerance, 2000);
+      FiniteGroup::generated_by(generators_for(finite_family, n), {}, exact_tolerance, 2000);
   std::vector<OperationInfo> info;
   for (int a = 0; a < raw.order(); ++a) info.push_back(analyze_operation(raw.matrix(a)));
   const auto raw_classes = raw.conjugacy_classes();
@@ -642,16 +643,16 @@ struct NamedOperations {
 
 NamedOperations named_operations(const PointGroup& pg, const FiniteGroup& group,
                                  PointGroupFamily finite_family) {
-  auto find_op = [&](const Eigen::Matrix3d& m) { return group.find(m, kExactTolerance); };
+  auto find_op = [&](const Eigen::Matrix3d& m) { return group.find(m, exact_tolerance); };
   const double turn = 2.0 * units::pi;
   NamedOperations named;
   named.inversion = find_op(-Eigen::Matrix3d::Identity());
-  named.sigma_h = find_op(reflection_through_plane(kZ));
-  named.sigma_xz = find_op(reflection_through_plane(kY));
-  named.c2x = find_op(rotation_about(kX, turn / 2));
+  named.sigma_h = find_op(reflection_through_plane(z_axis));
+  named.sigma_xz = find_op(reflection_through_plane(y_axis));
+  named.c2x = find_op(rotation_about(x_axis, turn / 2));
   int proper_order = 1, improper_order = 0;
   for (const auto& op : pg.operations) {
-    if (op.axis.isZero() || !parallel(op.axis, kZ)) continue;
+    if (op.axis.isZero() || !parallel(op.axis, z_axis)) continue;
     OperationInfo i = analyze_operation(op.matrix);
     if (op.proper) proper_order = std::max(proper_order, i.m);
     if (!op.proper && i.kind == OperationKind::ImproperRotation)
@@ -659,18 +660,18 @@ NamedOperations named_operations(const PointGroup& pg, const FiniteGroup& group,
   }
   if (is_axial(finite_family)) {
     if (named.inversion < 0 && improper_order > proper_order) {
-      named.principal = find_op(improper_rotation_about(kZ, turn / improper_order));
+      named.principal = find_op(improper_rotation_about(z_axis, turn / improper_order));
       named.principal_order = improper_order;
     } else if (proper_order > 1) {
-      named.principal = find_op(rotation_about(kZ, turn / proper_order));
+      named.principal = find_op(rotation_about(z_axis, turn / proper_order));
       named.principal_order = proper_order;
     }
   }
   const double golden = (1.0 + std::sqrt(5.0)) / 2.0;
   if (finite_family == PointGroupFamily::O || finite_family == PointGroupFamily::Oh)
-    named.cubic_reference = find_op(rotation_about(kZ, turn / 4));
+    named.cubic_reference = find_op(rotation_about(z_axis, turn / 4));
   else if (finite_family == PointGroupFamily::Td)
-    named.cubic_reference = find_op(improper_rotation_about(kZ, turn / 4));
+    named.cubic_reference = find_op(improper_rotation_about(z_axis, turn / 4));
   else if (finite_family == PointGroupFamily::I || finite_family == PointGroupFamily::Ih)
     named.cubic_reference = find_op(rotation_about(Eigen::Vector3d(0, 1, golden), turn / 5));
   return named;
@@ -681,7 +682,7 @@ NamedOperations named_operations(const PointGroup& pg, const FiniteGroup& group,
 LabelParts mulliken_parts(const RawIrrep& irrep, const std::vector<int>& class_of, const FiniteGroup& group,
                           const NamedOperations& named, PointGroupFamily finite_family, int n, bool linear) {
   auto chi = [&](int op) { return irrep.characters[class_of[op]]; };
-  auto find_op = [&](const Eigen::Matrix3d& m) { return group.find(m, kExactTolerance); };
+  auto find_op = [&](const Eigen::Matrix3d& m) { return group.find(m, exact_tolerance); };
   const double turn = 2.0 * units::pi;
   const double d = irrep.dimension;
   LabelParts p;
@@ -694,9 +695,9 @@ LabelParts mulliken_parts(const RawIrrep& irrep, const std::vector<int>& class_o
   if (is_dihedral_two(finite_family, n)) {
     // D2, D2h: A is symmetric under all three C2 (no subscript); B1, B2, B3 are
     // symmetric under C2(z), C2(y), C2(x) respectively.
-    const double cz = chi(find_op(rotation_about(kZ, turn / 2)));
-    const double cy = chi(find_op(rotation_about(kY, turn / 2)));
-    const double cx = chi(find_op(rotation_about(kX, turn / 2)));
+    const double cz = chi(find_op(rotation_about(z_axis, turn / 2)));
+    const double cy = chi(find_op(rotation_about(y_axis, turn / 2)));
+    const double cx = chi(find_op(rotation_about(x_axis, turn / 2)));
     if (cz > 0 && cy > 0 && cx > 0) {
       p.letter = "A";
     } else {
@@ -810,7 +811,7 @@ void cartesian_functions(const PointGroup& pg, const std::vector<int>& class_of,
   }();
   static const std::vector<std::string> quadratic_display_order = {"x²+y²+z²",  "x²+y²", "x²", "y²", "z²",
                                                                    "2z²−x²−y²", "x²−y²", "xy", "xz", "yz"};
-  constexpr double kMembership = 1e-8;
+  constexpr double membership_tolerance = 1e-8;
   const int order = pg.order();
   const double weight =
       (irrep.complex_pair ? irrep.dimension / 2 : irrep.dimension) / static_cast<double>(order);
@@ -825,8 +826,8 @@ void cartesian_functions(const PointGroup& pg, const std::vector<int>& class_of,
   const char* rotation_names[] = {"Rx", "Ry", "Rz"};
   for (int i = 0; i < 3; ++i) {
     const Eigen::Vector3d e = Eigen::Vector3d::Unit(i);
-    if ((vector_projector * e - e).norm() < kMembership) irrep.linear_functions.push_back(axes[i]);
-    if ((axial_projector * e - e).norm() < kMembership) irrep.rotations.push_back(rotation_names[i]);
+    if ((vector_projector * e - e).norm() < membership_tolerance) irrep.linear_functions.push_back(axes[i]);
+    if ((axial_projector * e - e).norm() < membership_tolerance) irrep.rotations.push_back(rotation_names[i]);
   }
   // Quadratic functions r·A·r transform as A → R·A·Rᵀ.
   std::vector<Eigen::VectorXd> kept;
@@ -837,7 +838,7 @@ void cartesian_functions(const PointGroup& pg, const std::vector<int>& class_of,
       const Eigen::Matrix3d& r = pg.operations[g].matrix;
       projected += irrep.characters[class_of[g]] * weight * r * a_matrix * r.transpose();
     }
-    if ((projected - a_matrix).norm() > kMembership) continue;
+    if ((projected - a_matrix).norm() > membership_tolerance) continue;
     Eigen::VectorXd v(6);
     v << a_matrix(0, 0), a_matrix(1, 1), a_matrix(2, 2), a_matrix(0, 1), a_matrix(0, 2), a_matrix(1, 2);
     Eigen::VectorXd residual = v;
