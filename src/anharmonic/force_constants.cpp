@@ -12,6 +12,7 @@
 #include <utility>
 
 #include "core/error.hpp"
+#include "core/option_checks.hpp"
 #include "core/units.hpp"
 
 namespace overtone {
@@ -88,22 +89,14 @@ std::string to_string(ForceConstantStatus status) {
   return "unknown";
 }
 
-void validate(const ForceConstantOptions& options) {
-  if (!(options.step > 0.0 && options.step <= 0.5))
-    throw Error(
-        fmt::format("force-constant option step must lie in (0, 0.5] (dimensionless), got {}", options.step));
-  if (options.full_quartic_max_modes < 0)
-    throw Error(fmt::format("force-constant option full_quartic_max_modes must be non-negative, got {}",
-                            options.full_quartic_max_modes));
-  if (!(options.symmetry_tolerance > 0.0))
-    throw Error(fmt::format("force-constant option symmetry_tolerance must be positive, got {}",
-                            options.symmetry_tolerance));
-  if (!(options.reuse_tolerance > 0.0))
-    throw Error(fmt::format("force-constant option reuse_tolerance must be positive, got {}",
-                            options.reuse_tolerance));
-  if (!(options.minimum_frequency_cm1 > 0.0))
-    throw Error(fmt::format("force-constant option minimum_frequency_cm1 must be positive (cm-1), got {}",
-                            options.minimum_frequency_cm1));
+void ForceConstantOptions::validate() const {
+  using namespace option_checks;
+  const char* owner = "force-constant";
+  require_in_left_open(owner, "step", step, 0.0, 0.5);
+  require_at_least(owner, "full_quartic_max_modes", full_quartic_max_modes, 0);
+  require_positive(owner, "symmetry_tolerance", symmetry_tolerance);
+  require_positive(owner, "reuse_tolerance", reuse_tolerance);
+  require_positive(owner, "minimum_frequency_cm1", minimum_frequency_cm1);
 }
 
 namespace detail {
@@ -849,7 +842,7 @@ ForceConstantResult compute_force_constants(const Potential& potential, const Ha
 ForceConstantResult compute_force_constants(const Potential& potential, const HarmonicResult& harmonic,
                                             const ModeSymmetry& symmetry,
                                             const ForceConstantOptions& options) {
-  validate(options);
+  options.validate();
   check_input(potential, harmonic, symmetry);
   const int m = static_cast<int>(harmonic.mode_count());
   ForceConstantResult result;

@@ -107,6 +107,8 @@ struct ForceConstantOptions {
   double minimum_frequency_cm1 = 5.0;
   // Told after each displaced point's Hessian (stage "force constants", done of total points).
   ProgressCallback progress;
+
+  void validate() const;  // throws Error naming the field that is out of range
 };
 
 enum class ForceConstantStatus { ok, not_a_minimum };
@@ -152,9 +154,6 @@ ForceConstantResult compute_force_constants(const Potential& potential, const Ha
 ForceConstantResult compute_force_constants(const Potential& potential, const HarmonicResult& harmonic,
                                             const ModeSymmetry& symmetry,
                                             const ForceConstantOptions& options = {});
-
-// Throws Error naming the first invalid field.
-void validate(const ForceConstantOptions& options);
 
 namespace detail {
 

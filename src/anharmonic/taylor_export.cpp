@@ -117,8 +117,14 @@ TaylorExpansionData taylor_expansion_from_force_constants(
   return data;
 }
 
+void TaylorExportOptions::validate() const {
+  force_constants.validate();
+  write.validate();
+}
+
 std::string export_taylor_expansion(const Potential& potential, const HarmonicResult& harmonic,
                                     const Molecule& molecule, const TaylorExportOptions& options) {
+  options.validate();
   ForceConstantOptions fc_options = options.force_constants;
   fc_options.full_quartic_max_modes = std::numeric_limits<int>::max();
   const ForceConstantResult fc = compute_force_constants(potential, harmonic, fc_options);

@@ -28,6 +28,8 @@ struct TaylorExportOptions {
   std::string title;                     // written into the file; empty: the molecule's formula
   ForceConstantOptions force_constants;  // all φ_ijkl are requested whatever its limit says
   TaylorWriteOptions write;
+
+  void validate() const;  // throws Error naming the field that is out of range
 };
 
 // Computes the full quartic force field of the potential at the harmonic result's geometry

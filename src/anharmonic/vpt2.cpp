@@ -14,6 +14,7 @@
 
 #include "anharmonic/effective_hamiltonian.hpp"
 #include "core/error.hpp"
+#include "core/option_checks.hpp"
 #include "core/units.hpp"
 #include "harmonic/inertia.hpp"
 
@@ -55,26 +56,18 @@ std::string to_string(LevelKind kind) {
   return "unknown";
 }
 
-void validate(const Vpt2Options& options) {
-  auto positive = [](double value, const char* name, const char* unit) {
-    if (!(value > 0.0))
-      throw Error(fmt::format("vpt2 option {} must be positive ({}), got {}", name, unit, value));
-  };
-  positive(options.fermi_gap_cm1, "fermi_gap_cm1", "cm-1");
-  positive(options.fermi_criterion_cm1, "fermi_criterion_cm1", "cm-1");
-  positive(options.darling_dennison_gap_cm1, "darling_dennison_gap_cm1", "cm-1");
-  positive(options.darling_dennison_coupling_cm1, "darling_dennison_coupling_cm1", "cm-1");
-  positive(options.level_degeneracy_tolerance_cm1, "level_degeneracy_tolerance_cm1", "cm-1");
-  if (options.polyad_max_quanta < 2)
-    throw Error(
-        fmt::format("vpt2 option polyad_max_quanta must be at least 2, got {}", options.polyad_max_quanta));
-  if (options.polyad_max_states < 2)
-    throw Error(
-        fmt::format("vpt2 option polyad_max_states must be at least 2, got {}", options.polyad_max_states));
-  positive(options.perturbation_ratio_limit, "perturbation_ratio_limit", "a ratio");
-  if (!(options.exclude_below_cm1 >= 0.0) || !std::isfinite(options.exclude_below_cm1))
-    throw Error(fmt::format("vpt2 option exclude_below_cm1 must be a wavenumber >= 0 (cm-1), got {}",
-                            options.exclude_below_cm1));
+void Vpt2Options::validate() const {
+  using namespace option_checks;
+  const char* owner = "vpt2";
+  require_positive(owner, "fermi_gap_cm1", fermi_gap_cm1);
+  require_positive(owner, "fermi_criterion_cm1", fermi_criterion_cm1);
+  require_positive(owner, "darling_dennison_gap_cm1", darling_dennison_gap_cm1);
+  require_positive(owner, "darling_dennison_coupling_cm1", darling_dennison_coupling_cm1);
+  require_positive(owner, "level_degeneracy_tolerance_cm1", level_degeneracy_tolerance_cm1);
+  require_at_least(owner, "polyad_max_quanta", polyad_max_quanta, 2);
+  require_at_least(owner, "polyad_max_states", polyad_max_states, 2);
+  require_positive(owner, "perturbation_ratio_limit", perturbation_ratio_limit);
+  require_non_negative(owner, "exclude_below_cm1", exclude_below_cm1);
 }
 
 namespace detail {
@@ -1156,7 +1149,7 @@ std::vector<bool> excluded_sets(const Vpt2Result& result) {
 
 Vpt2Result run_vpt2(const ForceConstantResult& force_constants, const HarmonicResult& harmonic,
                     const Vpt2Options& options) {
-  validate(options);
+  options.validate();
   if (!force_constants.ok())
     throw Error("vpt2 needs force constants with status ok, got " + to_string(force_constants.status) + ": " +
                 force_constants.message);

@@ -93,10 +93,9 @@ struct Vpt2Options {
   // Told as the stage moves on (stage "VPT2": the constants and resonance candidates, then
   // done of total resonance groups diagonalized).
   ProgressCallback progress;
-};
 
-// Throws Error naming the first invalid field.
-void validate(const Vpt2Options& options);
+  void validate() const;  // throws Error naming the field that is out of range
+};
 
 enum class Vpt2Status { ok, polyad_truncated };
 std::string to_string(Vpt2Status status);

@@ -10,6 +10,7 @@
 
 #include "assign/hungarian.hpp"
 #include "core/error.hpp"
+#include "core/option_checks.hpp"
 
 namespace overtone {
 
@@ -340,32 +341,26 @@ std::vector<FundamentalFound> fundamentals_found(const Problem& problem, const s
 
 }  // namespace
 
-void validate(const AssignOptions& options) {
-  const std::tuple<const char*, double> positive[] = {
-      {"expected_error_cm1", options.expected_error_cm1},
-      {"unassigned_cost", options.unassigned_cost},
-      {"intensity_floor", options.intensity_floor},
-      {"shift_error_floor_cm1", options.shift_error_floor_cm1}};
-  for (const auto& [name, value] : positive)
-    if (!(std::isfinite(value) && value > 0.0))
-      throw Error(fmt::format("assignment option {} must be positive, got {}", name, value));
-  const std::tuple<const char*, double> non_negative[] = {
-      {"intensity_weight", options.intensity_weight},
-      {"extra_quantum_cost", options.extra_quantum_cost},
-      {"polarized_mismatch_cost", options.polarized_mismatch_cost},
-      {"depolarized_mismatch_cost", options.depolarized_mismatch_cost},
-      {"shift_relative_error", options.shift_relative_error}};
-  for (const auto& [name, value] : non_negative)
-    if (!(std::isfinite(value) && value >= 0.0))
-      throw Error(fmt::format("assignment option {} must be at least 0, got {}", name, value));
-  for (const auto& [name, value] : {std::pair<const char*, int>{"max_scale_rounds", options.max_scale_rounds},
-                                    {"max_shift_rounds", options.max_shift_rounds}})
-    if (value < 1) throw Error(fmt::format("assignment option {} must be at least 1, got {}", name, value));
+void AssignOptions::validate() const {
+  for (const auto& [name, value] : {std::pair<const char*, double>{"expected_error_cm1", expected_error_cm1},
+                                    {"unassigned_cost", unassigned_cost},
+                                    {"intensity_floor", intensity_floor},
+                                    {"shift_error_floor_cm1", shift_error_floor_cm1}})
+    option_checks::require_positive("assignment", name, value);
+  for (const auto& [name, value] : {std::pair<const char*, double>{"intensity_weight", intensity_weight},
+                                    {"extra_quantum_cost", extra_quantum_cost},
+                                    {"polarized_mismatch_cost", polarized_mismatch_cost},
+                                    {"depolarized_mismatch_cost", depolarized_mismatch_cost},
+                                    {"shift_relative_error", shift_relative_error}})
+    option_checks::require_non_negative("assignment", name, value);
+  for (const auto& [name, value] : {std::pair<const char*, int>{"max_scale_rounds", max_scale_rounds},
+                                    {"max_shift_rounds", max_shift_rounds}})
+    option_checks::require_at_least("assignment", name, value, 1);
 }
 
 AssignResult assign_bands(const std::vector<ObservedBand>& bands,
                           const std::vector<IsotopologueLevels>& levels, const AssignOptions& options) {
-  validate(options);
+  options.validate();
   if (bands.empty()) throw Error("assignment: expected at least one observed band, got none");
   const Problem problem = set_up(bands, levels);
   AssignResult result;

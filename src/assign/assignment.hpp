@@ -86,9 +86,9 @@ struct AssignOptions {
   int max_shift_rounds = 5;
   bool fit_scale = false;    // fit one scale factor and assign again with it
   int max_scale_rounds = 5;  // assignment and fit alternate until stable, at most this often
-};
 
-void validate(const AssignOptions& options);  // throws Error naming the first invalid field
+  void validate() const;  // throws Error naming the field that is out of range
+};
 
 inline constexpr int no_alternative = -2;
 

@@ -152,7 +152,7 @@ int run_spectrum(const SpectrumArguments& arguments) {
   options.fwhm_cm1 = arguments.fwhm_cm1;
   options.step_cm1 = arguments.step_cm1;
   parse_range(arguments.range, options);
-  validate(options);
+  options.validate();
   const PredictedSpectrum levels = predicted(arguments.prediction, {});
   const SpectrumKind kind = arguments.raman ? SpectrumKind::raman : SpectrumKind::infrared;
   const std::vector<SpectrumLine> lines = arguments.temperature_k > 0.0
@@ -212,7 +212,7 @@ int run_assign(const AssignArguments& arguments) {
   AssignOptions options;
   options.fit_scale = arguments.scale == "fit";
   options.expected_error_cm1 = arguments.expected_error_cm1;
-  validate(options);
+  options.validate();
   const std::vector<ObservedBand> bands = read_observed_bands(arguments.observed);
   std::vector<IsotopologueLevels> levels;
   levels.push_back({"", predicted(arguments.prediction, arguments.prediction.isotopes)});

@@ -7,6 +7,7 @@
 #include <string>
 
 #include "core/error.hpp"
+#include "core/option_checks.hpp"
 #include "core/units.hpp"
 #include "harmonic/inertia.hpp"
 
@@ -37,6 +38,24 @@ Eigen::VectorXd inverse_sqrt_masses(const Eigen::VectorXd& masses_da) {
   return inverse_sqrt_mass;
 }
 
+// Imaginary modes beyond the warning threshold make the result a non-minimum: a status
+// and message for stages that need a minimum, and the same words as a warning for reports.
+void set_status(HarmonicResult& result, const NormalModeOptions& options) {
+  const Eigen::Index imaginary = (result.frequencies_cm1.array() < -options.imaginary_warning_cm1).count();
+  if (imaginary == 0) {
+    result.status = HarmonicStatus::ok;
+    result.message = fmt::format("{} vibrational modes, none imaginary beyond {} cm-1", result.mode_count(),
+                                 options.imaginary_warning_cm1);
+    return;
+  }
+  result.status = HarmonicStatus::not_a_minimum;
+  result.message = fmt::format(
+      "{} mode(s) with imaginary frequency (largest {:.2f}i cm-1): the geometry is not a minimum of this "
+      "potential",
+      imaginary, -result.frequencies_cm1.minCoeff());
+  result.warnings.push_back(result.message);
+}
+
 }  // namespace
 
 void replace_mode_vector(HarmonicResult& harmonic, Eigen::Index k,
@@ -52,11 +71,31 @@ void replace_mode_vector(HarmonicResult& harmonic, Eigen::Index k,
   update_mode_properties(harmonic, k, inverse_sqrt_masses(harmonic.masses_da));
 }
 
+std::string to_string(HarmonicStatus status) {
+  switch (status) {
+    case HarmonicStatus::ok:
+      return "ok";
+    case HarmonicStatus::not_a_minimum:
+      return "not_a_minimum";
+  }
+  return "unknown";
+}
+
+void HessianOptions::validate() const {
+  option_checks::require_positive("hessian", "finite_difference_step_angstrom",
+                                  finite_difference_step_angstrom);
+  option_checks::require_in_open("hessian", "linearity_tolerance", linearity_tolerance, 0.0, 1.0);
+}
+
+void NormalModeOptions::validate() const {
+  option_checks::require_in_open("normal-mode", "linearity_tolerance", linearity_tolerance, 0.0, 1.0);
+  option_checks::require_non_negative("normal-mode", "imaginary_warning_cm1", imaginary_warning_cm1);
+  option_checks::require_positive("normal-mode", "max_wavenumber_cm1", max_wavenumber_cm1);
+}
+
 HessianResult compute_hessian(const Potential& potential, const Eigen::VectorXd& coordinates_angstrom,
                               const HessianOptions& options) {
-  if (!(options.finite_difference_step_angstrom > 0.0))
-    throw Error(fmt::format("hessian option finite_difference_step_angstrom must be positive, got {}",
-                            options.finite_difference_step_angstrom));
+  options.validate();
   const Eigen::Index n = coordinates_angstrom.size();
   HessianResult result;
   if (options.prefer_analytic && potential.has_analytic_hessian()) {
@@ -87,8 +126,8 @@ HessianResult compute_hessian(const Potential& potential, const Eigen::VectorXd&
   result.asymmetry = (result.hessian - result.hessian.transpose()).cwiseAbs().maxCoeff();
   result.hessian = 0.5 * (result.hessian + result.hessian.transpose()).eval();
   if (options.enforce_rigid_body_invariance && n >= 6) {
-    const Eigen::MatrixXd rigid = rigid_body_basis(coordinates_angstrom, Eigen::VectorXd::Ones(n / 3),
-                                                   NormalModeOptions{}.linearity_tolerance);
+    const Eigen::MatrixXd rigid =
+        rigid_body_basis(coordinates_angstrom, Eigen::VectorXd::Ones(n / 3), options.linearity_tolerance);
     // P H P with P = I − RRᵀ, by rank-r updates.
     const Eigen::MatrixXd h_rigid = result.hessian * rigid;
     const Eigen::MatrixXd removed = rigid * h_rigid.transpose() + h_rigid * rigid.transpose() -
@@ -136,6 +175,7 @@ HarmonicResult analyze_normal_modes(const Eigen::VectorXd& coordinates_angstrom,
                                     const Eigen::VectorXd& masses_da,
                                     const Eigen::MatrixXd& cartesian_hessian,
                                     const NormalModeOptions& options) {
+  options.validate();
   const Eigen::Index atoms = masses_da.size();
   const Eigen::Index n = 3 * atoms;
   if (atoms < 2) throw Error(fmt::format("a vibrational analysis needs at least 2 atoms, got {}", atoms));
@@ -148,12 +188,6 @@ HarmonicResult analyze_normal_modes(const Eigen::VectorXd& coordinates_angstrom,
   for (Eigen::Index i = 0; i < atoms; ++i)
     if (!(masses_da[i] > 0.0))
       throw Error(fmt::format("atom {} has non-positive mass {} Da", i + 1, masses_da[i]));
-  if (!(options.linearity_tolerance > 0.0 && options.linearity_tolerance < 1.0))
-    throw Error(fmt::format("normal-mode option linearity_tolerance must lie in (0, 1), got {}",
-                            options.linearity_tolerance));
-  if (!(options.max_wavenumber_cm1 > 0.0))
-    throw Error(fmt::format("normal-mode option max_wavenumber_cm1 must be positive, got {}",
-                            options.max_wavenumber_cm1));
   require_finite(cartesian_hessian, "the hessian");
   if (!coordinates_angstrom.allFinite())
     throw Error("the geometry contains non-finite coordinates (nan or inf)");
@@ -236,12 +270,7 @@ HarmonicResult analyze_normal_modes(const Eigen::VectorXd& coordinates_angstrom,
         "their "
         "values and units",
         largest, options.max_wavenumber_cm1));
-  const Eigen::Index imaginary = (result.frequencies_cm1.array() < -options.imaginary_warning_cm1).count();
-  if (imaginary > 0)
-    result.warnings.push_back(fmt::format(
-        "{} mode(s) with imaginary frequency (largest {:.2f}i cm-1): the geometry is not a minimum of this "
-        "potential",
-        imaginary, -result.frequencies_cm1.minCoeff()));
+  set_status(result, options);
   return result;
 }
 

@@ -17,6 +17,11 @@
 
 namespace overtone {
 
+// A molecule is linear when its smallest principal moment of inertia is below this
+// fraction of the largest (dimensionless): far above the round-off of the moments of a
+// linear structure (~1e-16), far below the ratio of any bent one.
+inline constexpr double default_linearity_tolerance = 1e-8;
+
 struct HessianOptions {
   // Use the potential's analytic Hessian when it has one.
   bool prefer_analytic = true;
@@ -30,6 +35,11 @@ struct HessianOptions {
   // Hessian at a stationary point. Without it, finite-difference error leaks into the
   // rigid-body directions and isotopologues do not obey the product rule exactly.
   bool enforce_rigid_body_invariance = true;
+  // Linearity test of the rigid-body basis used by that projection (see
+  // default_linearity_tolerance).
+  double linearity_tolerance = default_linearity_tolerance;
+
+  void validate() const;  // throws Error naming the field that is out of range
 };
 
 struct HessianResult {
@@ -46,8 +56,8 @@ HessianResult compute_hessian(const Potential& potential, const Eigen::VectorXd&
 
 struct NormalModeOptions {
   // A molecule is linear when the smallest principal moment of inertia is below this
-  // fraction of the largest (dimensionless).
-  double linearity_tolerance = 1e-8;
+  // fraction of the largest (dimensionless), in (0, 1).
+  double linearity_tolerance = default_linearity_tolerance;
   // Frequencies below this magnitude (cm⁻¹) that are negative are imaginary and warned
   // about only if their magnitude exceeds this threshold; smaller ones are noise.
   double imaginary_warning_cm1 = 1.0;
@@ -55,9 +65,19 @@ struct NormalModeOptions {
   // absurd and Error is thrown. Molecular fundamentals end near 4400 cm⁻¹ (H2, common
   // practice, no source); 100000 cm⁻¹ is an electronic, not a vibrational, energy.
   double max_wavenumber_cm1 = 1e5;
+
+  void validate() const;  // throws Error naming the field that is out of range
 };
 
+// not_a_minimum: some mode is imaginary by more than NormalModeOptions::imaginary_warning_cm1;
+// the modes are still those of the given Hessian, but stages that expand about a minimum
+// must not use them.
+enum class HarmonicStatus { ok, not_a_minimum };
+std::string to_string(HarmonicStatus status);
+
 struct HarmonicResult {
+  HarmonicStatus status = HarmonicStatus::ok;
+  std::string message;
   Eigen::VectorXd coordinates_angstrom;  // 3N geometry the analysis was done at
   Eigen::VectorXd masses_da;             // N
   bool linear = false;
@@ -76,6 +96,7 @@ struct HarmonicResult {
   std::vector<std::string> warnings;
 
   std::size_t mode_count() const { return static_cast<std::size_t>(frequencies_cm1.size()); }
+  bool ok() const { return status == HarmonicStatus::ok; }
 };
 
 // Mass-weights, projects and diagonalizes the given Cartesian Hessian at the given

@@ -9,6 +9,7 @@
 #include <utility>
 
 #include "core/error.hpp"
+#include "core/option_checks.hpp"
 #include "core/units.hpp"
 #include "potential/detail_toml_text.hpp"
 
@@ -273,9 +274,19 @@ ElectricResponseData read_electric_response(const std::string& path) {
 
 // --- polar tensors ---------------------------------------------------------------------------
 
+void PolarTensorOptions::validate() const {
+  option_checks::require_positive("polar-tensor", "geometry_warning_angstrom", geometry_warning_angstrom);
+  option_checks::require(
+      geometry_limit_angstrom >= geometry_warning_angstrom && std::isfinite(geometry_limit_angstrom),
+      "polar-tensor", "geometry_limit_angstrom",
+      fmt::format("a finite number >= geometry_warning_angstrom ({})", geometry_warning_angstrom),
+      geometry_limit_angstrom);
+}
+
 PolarTensorDipole::PolarTensorDipole(ElectricResponseData data, const Molecule& molecule,
                                      const PolarTensorOptions& options)
     : data_(std::move(data)), options_(options) {
+  options_.validate();
   if (data_.elements.size() != molecule.atom_count())
     throw Error(fmt::format("electric-response file '{}' is for {} atoms, the molecule has {}", data_.title,
                             data_.elements.size(), molecule.atom_count()));

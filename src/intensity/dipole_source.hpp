@@ -101,6 +101,8 @@ struct PolarTensorOptions {
   double geometry_warning_angstrom = 0.05;
   // Beyond this (Å) the file describes another molecule or another atom order: refused.
   double geometry_limit_angstrom = 0.5;
+
+  void validate() const;  // throws Error naming the field that is out of range
 };
 
 class PolarTensorDipole final : public DipoleSource {

@@ -12,6 +12,7 @@
 #include <random>
 
 #include "core/error.hpp"
+#include "core/option_checks.hpp"
 #include "molecule/openbabel_bridge.hpp"
 
 namespace overtone {
@@ -74,15 +75,15 @@ std::string stereo_identity(const Molecule& molecule, const Eigen::VectorXd& coo
   return canonical_isomeric_smiles(mol);
 }
 
+void ConformerStartOptions::validate() const {
+  option_checks::require_at_least("conformer", "max_rotor_starts", max_rotor_starts, 0);
+  option_checks::require_non_negative("conformer", "minimum_distance_angstrom", minimum_distance_angstrom);
+}
+
 ConformerStartsResult generate_conformer_starts(const Molecule& molecule,
                                                 const ConformerStartOptions& options) {
+  options.validate();
   if (molecule.atom_count() == 0) throw Error("a conformer search needs atoms, got none");
-  if (options.max_rotor_starts < 0)
-    throw Error(fmt::format("conformer option max_rotor_starts must be non-negative, got {}",
-                            options.max_rotor_starts));
-  if (!(options.minimum_distance_angstrom >= 0.0))
-    throw Error(fmt::format("conformer option minimum_distance_angstrom must be non-negative, got {}",
-                            options.minimum_distance_angstrom));
   OpenBabelLogCapture quiet;
   run_openbabel_on_one_thread();
   ConformerStartsResult result;

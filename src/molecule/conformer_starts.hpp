@@ -27,6 +27,8 @@ struct ConformerStartOptions {
   // Two atoms of a start closer than this (Å) overlap and the start is dropped: the
   // optimizer could not separate them reliably.
   double minimum_distance_angstrom = 0.7;
+
+  void validate() const;  // throws Error naming the field that is out of range
 };
 
 struct ConformerStart {

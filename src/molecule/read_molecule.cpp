@@ -22,6 +22,7 @@
 #include <string_view>
 
 #include "core/error.hpp"
+#include "core/option_checks.hpp"
 #include "molecule/openbabel_bridge.hpp"
 
 namespace overtone {
@@ -410,38 +411,16 @@ void apply_isotopes(Molecule& molecule, const std::vector<IsotopeChoice>& isotop
   }
 }
 
-std::vector<ReadResult> read_all_molecules(const std::string& path, const ReadOptions& options) {
-  OpenBabelLogCapture messages;
-  check_readable_file(path);
-  OpenBabel::OBConversion conversion;
-  std::string format_name;
-  conversion.SetInFormat(choose_format(conversion, path, options, format_name));
-  if (format_name == "xyz") check_xyz_atom_counts(path);
-  std::ifstream stream(path);
-  std::vector<ReadResult> results;
-  OpenBabel::OBMol mol;
-  bool first = true;
-  while (first ? conversion.Read(&mol, &stream) : conversion.Read(&mol)) {
-    first = false;
-    if (mol.NumAtoms() == 0) break;
-    const std::string what = fmt::format("structure {} of '{}'", results.size() + 1, path);
-    try {
-      results.push_back(finish(mol, path, format_name, options, false, {}, what));
-    } catch (const Error& error) {
-      if (std::string_view(error.what()).substr(0, what.size()) == what) throw;
-      throw Error(fmt::format("{}: {}", what, error.what()));
-    }
-    mol.Clear();
-  }
-  if (results.empty()) {
-    const std::string detail = messages.first_message();
-    throw Error(fmt::format("no molecule could be read from '{}' as {}{}", path, format_name,
-                            detail.empty() ? "" : " (open babel: " + detail + ")"));
-  }
-  return results;
+void ReadOptions::validate() const {
+  option_checks::require_positive("read", "minimum_interatomic_distance_angstrom",
+                                  minimum_interatomic_distance_angstrom);
+  option_checks::require_at_least("read", "structure_index", structure_index, 0);
+  option_checks::require_non_negative("read", "flat_drawing_tolerance_angstrom",
+                                      flat_drawing_tolerance_angstrom);
 }
 
 ReadResult read_molecule(const std::string& path_or_smiles, const ReadOptions& options) {
+  options.validate();
   OpenBabelLogCapture messages;
   OpenBabel::OBConversion conversion;
   OpenBabel::OBMol mol;

@@ -49,6 +49,8 @@ struct ReadOptions {
   // molecule non-planar, is a drawing written with z = 0. Coordinates of drawings are
   // given to 0.0001 Å; a real tetrahedral centre lifts atoms ~0.5 Å out of any plane.
   double flat_drawing_tolerance_angstrom = 0.01;
+
+  void validate() const;  // throws Error naming the field that is out of range
 };
 
 struct ReadResult {
@@ -69,10 +71,6 @@ struct ReadResult {
 // Added hydrogens follow the atoms of the file, so atom numbers for isotopes stay
 // those of the file.
 ReadResult read_molecule(const std::string& path_or_smiles, const ReadOptions& options = {});
-
-// Reads every structure of a multi-structure file (for screening sets). Throws Error
-// naming the structure (its position in the file) that cannot be read or completed.
-std::vector<ReadResult> read_all_molecules(const std::string& path, const ReadOptions& options = {});
 
 // Applies isotope choices (1-based atom numbers) with masses from Open Babel's
 // isotope table; throws Error for a nonexistent isotope, an atom number outside the

@@ -8,34 +8,12 @@
 #include <stdexcept>
 
 #include "core/error.hpp"
+#include "core/option_checks.hpp"
 #include "harmonic/harmonic.hpp"
 
 namespace overtone {
 
 namespace {
-
-void check_options(const MinimizeOptions& o) {
-  auto positive = [](double value, const char* name) {
-    if (!(value > 0.0)) throw Error(fmt::format("minimize option {} must be positive, got {}", name, value));
-  };
-  positive(o.rms_gradient_tolerance, "rms_gradient_tolerance");
-  positive(o.lbfgs_rms_gradient_target, "lbfgs_rms_gradient_target");
-  positive(o.newton_max_atom_step_angstrom, "newton_max_atom_step_angstrom");
-  positive(o.hessian_step_angstrom, "hessian_step_angstrom");
-  positive(o.curvature_check_step_angstrom, "curvature_check_step_angstrom");
-  positive(o.max_energy_per_atom_kcal_mol, "max_energy_per_atom_kcal_mol");
-  positive(o.max_expansion_angstrom, "max_expansion_angstrom");
-  if (o.max_refinement_rounds < 0)
-    throw Error(fmt::format("minimize option max_refinement_rounds must be non-negative, got {}",
-                            o.max_refinement_rounds));
-  if (!(o.refinement_target_factor > 0.0 && o.refinement_target_factor <= 1.0))
-    throw Error(fmt::format("minimize option refinement_target_factor must lie in (0, 1], got {}",
-                            o.refinement_target_factor));
-  if (o.lbfgs_max_iterations < 0 || o.newton_max_steps < 0 || o.lbfgs_memory < 1)
-    throw Error(
-        "minimize options lbfgs_max_iterations and newton_max_steps must be non-negative and "
-        "lbfgs_memory positive");
-}
 
 double rms(const Eigen::VectorXd& g) { return g.norm() / std::sqrt(static_cast<double>(g.size())); }
 
@@ -111,11 +89,12 @@ Eigen::VectorXd newton_step_at(const Potential& potential, const Descent& at, co
                                CurvatureSurvey& survey) {
   const Eigen::Index n = at.x.size();
   const Eigen::VectorXd unit_masses = Eigen::VectorXd::Ones(n / 3);
-  const Eigen::MatrixXd rigid = rigid_body_basis(at.x, unit_masses, NormalModeOptions{}.linearity_tolerance);
+  const Eigen::MatrixXd rigid = rigid_body_basis(at.x, unit_masses, options.linearity_tolerance);
   const Eigen::MatrixXd projector = Eigen::MatrixXd::Identity(n, n) - rigid * rigid.transpose();
   const auto projected_hessian = [&](double finite_difference_step) {
     HessianOptions step_options;
     step_options.finite_difference_step_angstrom = finite_difference_step;
+    step_options.linearity_tolerance = options.linearity_tolerance;
     const Eigen::MatrixXd hessian = compute_hessian(potential, at.x, step_options).hessian;
     return Eigen::SelfAdjointEigenSolver<Eigen::MatrixXd>(projector * hessian * projector);
   };
@@ -255,6 +234,28 @@ void judge(MinimizeResult& result, const Descent& end, const Eigen::VectorXd& st
 
 }  // namespace
 
+void MinimizeOptions::validate() const {
+  using namespace option_checks;
+  const char* owner = "minimize";
+  require_positive(owner, "rms_gradient_tolerance", rms_gradient_tolerance);
+  require_positive(owner, "lbfgs_rms_gradient_target", lbfgs_rms_gradient_target);
+  require_at_least(owner, "lbfgs_max_iterations", lbfgs_max_iterations, 0);
+  require_at_least(owner, "lbfgs_memory", lbfgs_memory, 1);
+  require_at_least(owner, "newton_max_steps", newton_max_steps, 0);
+  require_at_least(owner, "max_refinement_rounds", max_refinement_rounds, 0);
+  require_in_left_open(owner, "refinement_target_factor", refinement_target_factor, 0.0, 1.0);
+  require_positive(owner, "newton_max_atom_step_angstrom", newton_max_atom_step_angstrom);
+  require_positive(owner, "hessian_step_angstrom", hessian_step_angstrom);
+  require_positive(owner, "curvature_check_step_angstrom", curvature_check_step_angstrom);
+  require(negative_curvature_threshold <= 0.0, owner, "negative_curvature_threshold", "a number <= 0",
+          negative_curvature_threshold);
+  require_at_least(owner, "max_saddle_escapes", max_saddle_escapes, 0);
+  require_positive(owner, "saddle_escape_step_angstrom", saddle_escape_step_angstrom);
+  require_positive(owner, "max_energy_per_atom_kcal_mol", max_energy_per_atom_kcal_mol);
+  require_positive(owner, "max_expansion_angstrom", max_expansion_angstrom);
+  require_in_open(owner, "linearity_tolerance", linearity_tolerance, 0.0, 1.0);
+}
+
 std::string to_string(MinimizeStatus status) {
   switch (status) {
     case MinimizeStatus::converged:
@@ -271,7 +272,7 @@ std::string to_string(MinimizeStatus status) {
 
 MinimizeResult minimize(const Potential& potential, const Eigen::VectorXd& start_angstrom,
                         const MinimizeOptions& options) {
-  check_options(options);
+  options.validate();
   const EvaluationCounts before = potential.counts();
   MinimizeResult result;
   result.rms_gradient_tolerance = options.rms_gradient_tolerance;

@@ -10,6 +10,7 @@
 #include <string>
 #include <vector>
 
+#include "harmonic/harmonic.hpp"
 #include "potential/potential.hpp"
 
 namespace overtone {
@@ -45,6 +46,11 @@ struct MinimizeOptions {
   // max_expansion_angstrom (the structure flew apart).
   double max_energy_per_atom_kcal_mol = 1e5;
   double max_expansion_angstrom = 20.0;
+  // Linearity test of the rigid-body basis removed from the Newton steps (see
+  // default_linearity_tolerance in harmonic/harmonic.hpp).
+  double linearity_tolerance = default_linearity_tolerance;
+
+  void validate() const;  // throws Error naming the field that is out of range
 };
 
 // diverged: the result is meaningless (see MinimizeOptions); stages must not use it.

@@ -6,6 +6,7 @@
 #include <set>
 
 #include "core/error.hpp"
+#include "core/option_checks.hpp"
 
 namespace overtone::detail {
 
@@ -19,14 +20,15 @@ double triple_sine(const Eigen::VectorXd& x, const BondedTriple& triple) {
   return u.cross(v).norm() / lengths;
 }
 
+void LinearLimitOptions::validate() const {
+  option_checks::require_in_open("linear-limit", "band_sine", band_sine, 0.0, 1.0);
+  option_checks::require_positive("linear-limit", "step_angstrom", step_angstrom);
+  option_checks::require_at_least("linear-limit", "attempts", attempts, 1);
+}
+
 LinearLimit::LinearLimit(std::vector<BondedTriple> triples, const LinearLimitOptions& options)
     : triples_(std::move(triples)), options_(options) {
-  if (!(options_.band_sine > 0.0 && options_.band_sine < 1.0))
-    throw Error(fmt::format("linear-limit band_sine must lie in (0, 1), got {}", options_.band_sine));
-  if (!(options_.step_angstrom > 0.0))
-    throw Error(fmt::format("linear-limit step_angstrom must be positive, got {}", options_.step_angstrom));
-  if (options_.attempts < 1)
-    throw Error(fmt::format("linear-limit attempts must be at least 1, got {}", options_.attempts));
+  options_.validate();
 }
 
 std::vector<int> LinearLimit::degenerate_triples(const Eigen::VectorXd& x) const {

@@ -57,6 +57,8 @@ struct LinearLimitOptions {
   // displaced geometries; the first almost always passes).
   int attempts = 16;
   unsigned seed = 20240923;
+
+  void validate() const;  // throws Error naming the field that is out of range
 };
 
 // A function value with its gradient (gradient may be null when only the value is wanted).

@@ -13,6 +13,7 @@
 
 #include "core/error.hpp"
 #include "core/molecule.hpp"
+#include "core/option_checks.hpp"
 #include "core/units.hpp"
 
 namespace overtone::detail {
@@ -632,10 +633,13 @@ void check_mmff_atom_types(OBMol& typed, const MmffParameters& parameters) {
   }
 }
 
+void MmffAssignmentOptions::validate() const {
+  option_checks::require_positive("mmff assignment", "dielectric_constant", dielectric_constant);
+}
+
 MmffTerms assign_mmff_terms(OBMol& mol, const MmffParameters& parameters,
                             const MmffAssignmentOptions& options) {
-  if (!(options.dielectric_constant > 0.0))
-    throw Error(fmt::format("dielectric_constant must be positive, got {}", options.dielectric_constant));
+  options.validate();
   const Typing typing(mol, parameters);
   MmffTerms terms;
   FOR_ATOMS_OF_MOL(atom, mol) {

@@ -93,6 +93,8 @@ struct MmffTerms {
 struct MmffAssignmentOptions {
   // Dielectric constant D of the Coulomb term (1 in the published force field).
   double dielectric_constant = 1.0;
+
+  void validate() const;  // throws Error naming the field that is out of range
 };
 
 // typed: Open Babel's MMFF94 copy of the molecule after a successful Setup (atom types

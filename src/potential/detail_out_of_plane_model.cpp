@@ -6,6 +6,7 @@
 #include <cmath>
 #include <random>
 
+#include "core/option_checks.hpp"
 #include "core/units.hpp"
 
 namespace overtone::detail {
@@ -111,10 +112,19 @@ void OutOfPlaneModel::add_gradient(const Eigen::VectorXd& x, Eigen::VectorXd& gr
   }
 }
 
+void OutOfPlaneFitOptions::validate() const {
+  option_checks::require_positive("out-of-plane fit", "displacement_amplitude_angstrom",
+                                  displacement_amplitude_angstrom);
+  option_checks::require_at_least("out-of-plane fit", "geometries_per_unknown", geometries_per_unknown, 1);
+  option_checks::require_at_least("out-of-plane fit", "check_geometries", check_geometries, 1);
+  option_checks::require_positive("out-of-plane fit", "relative_tolerance", relative_tolerance);
+}
+
 OutOfPlaneFit fit_out_of_plane_model(OutOfPlaneForm form, const std::vector<OutOfPlaneCentre>& centres,
                                      const Eigen::VectorXd& x0,
                                      const std::function<double(const Eigen::VectorXd&)>& reference,
                                      const OutOfPlaneFitOptions& options) {
+  options.validate();
   const int per_centre = OutOfPlaneModel::features_per_centre(form);
   const int unknowns = 1 + per_centre * static_cast<int>(centres.size());
   // A few rows beyond the multiple so that even one unknown has a real residual.

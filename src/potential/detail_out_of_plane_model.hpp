@@ -81,6 +81,8 @@ struct OutOfPlaneFitOptions {
   // tests/potential), while a wrong form misses by orders of magnitude more than 1e-10.
   double relative_tolerance = 1e-10;
   unsigned seed = 20240611;
+
+  void validate() const;  // throws Error naming the field that is out of range
 };
 
 struct OutOfPlaneFit {

@@ -9,6 +9,7 @@
 #include <cmath>
 
 #include "core/error.hpp"
+#include "core/option_checks.hpp"
 #include "molecule/openbabel_bridge.hpp"
 #include "potential/detail_force_field_applicability.hpp"
 #include "potential/detail_mmff_kernels.hpp"
@@ -129,15 +130,18 @@ std::string canonical_mmff_variant(const std::string& name) {
   return {};
 }
 
+void MmffOptions::validate() const {
+  option_checks::require_positive("mmff", "dielectric_constant", dielectric_constant);
+}
+
 MmffPotential::MmffPotential(const std::string& variant_name, const Molecule& molecule,
                              const MmffOptions& options)
     : options_(options) {
+  options_.validate();
   const std::string canonical = canonical_mmff_variant(variant_name);
   if (canonical.empty())
     throw Error(fmt::format("'{}' is not an MMFF variant; expected MMFF94 or MMFF94s", variant_name));
   variant_ = canonical == "MMFF94" ? detail::MmffVariant::mmff94 : detail::MmffVariant::mmff94s;
-  if (!(options_.dielectric_constant > 0.0))
-    throw Error(fmt::format("dielectric_constant must be positive, got {}", options_.dielectric_constant));
   if (molecule.atom_count() == 0) throw Error("cannot set up a force field for a molecule without atoms");
   const detail::MmffParameters& parameters = detail::MmffParameters::installed(variant_);
 

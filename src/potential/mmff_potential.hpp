@@ -39,6 +39,8 @@ struct MmffOptions {
   // Coulomb energy ∝ 1/(D (r + δ)²) instead of 1/(D (r + δ)) (Halgren I, eq. 8 with n = 2;
   // an option of the force field, off in its published default and in Open Babel).
   bool distance_dependent_dielectric = false;
+
+  void validate() const;  // throws Error naming the field that is out of range
 };
 
 // The energy of each term kind at one geometry, kcal/mol.

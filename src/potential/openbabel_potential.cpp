@@ -18,6 +18,7 @@
 #include <sstream>
 
 #include "core/error.hpp"
+#include "core/option_checks.hpp"
 #include "core/units.hpp"
 #include "molecule/openbabel_bridge.hpp"
 #include "potential/detail_force_field_applicability.hpp"
@@ -95,18 +96,24 @@ std::string canonical_openbabel_force_field(const std::string& name) {
   return {};
 }
 
+void OpenBabelPotentialOptions::validate() const {
+  option_checks::require_positive("open babel potential", "out_of_plane_difference_step_angstrom",
+                                  out_of_plane_difference_step_angstrom);
+  option_checks::require_positive("open babel potential", "linear_cusp_slope_kcal_mol_per_angstrom",
+                                  linear_cusp_slope_kcal_mol_per_angstrom);
+  linear_limit.validate();
+}
+
 OpenBabelPotential::OpenBabelPotential(const std::string& force_field_name, const Molecule& molecule,
                                        const OpenBabelPotentialOptions& options)
     : options_(options) {
+  options_.validate();
   name_ = canonical_openbabel_force_field(force_field_name);
   if (name_.empty())
     throw Error(
         fmt::format("'{}' is not a supported force field; choose one of MMFF94, MMFF94s, UFF, GAFF, "
                     "Ghemical or give a potential file",
                     force_field_name));
-  if (!(options_.out_of_plane_difference_step_angstrom > 0.0))
-    throw Error(fmt::format("out_of_plane_difference_step_angstrom must be positive, got {}",
-                            options_.out_of_plane_difference_step_angstrom));
   atom_count_ = molecule.atom_count();
   if (atom_count_ == 0) throw Error("cannot set up a force field for a molecule without atoms");
 

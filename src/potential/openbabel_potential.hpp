@@ -67,6 +67,8 @@ struct OpenBabelPotentialOptions {
   // round-off ~1e-8 for energies of 1000 kcal/mol; a reference angle 0.03° off linear
   // already gives ~0.1.
   double linear_cusp_slope_kcal_mol_per_angstrom = 1e-3;
+
+  void validate() const;  // throws Error naming the field that is out of range
 };
 
 class OpenBabelPotential final : public Potential {

@@ -12,6 +12,7 @@
 #include <sstream>
 
 #include "core/error.hpp"
+#include "core/option_checks.hpp"
 #include "core/text.hpp"
 #include "core/units.hpp"
 #include "potential/detail_toml_text.hpp"
@@ -295,19 +296,6 @@ void read_normal_section(const Reader& r, const View& top, double to_kcal, Taylo
   lists.read("normal.quartic", table["quartic"], 4, m, to_kcal);
 }
 
-void check_options(const TaylorExpansionOptions& options) {
-  if (!(options.hole_depth_cm1 > 0.0))
-    throw Error(fmt::format("taylor-expansion option hole_depth_cm1 must be positive, got {}",
-                            options.hole_depth_cm1));
-  if (!(options.superposition_tolerance_angstrom > 0.0))
-    throw Error(
-        fmt::format("taylor-expansion option superposition_tolerance_angstrom must be positive, got {}",
-                    options.superposition_tolerance_angstrom));
-  if (!(options.mode_orthogonality_tolerance > 0.0))
-    throw Error(fmt::format("taylor-expansion option mode_orthogonality_tolerance must be positive, got {}",
-                            options.mode_orthogonality_tolerance));
-}
-
 void check_same_atoms(const TaylorExpansionData& data, const Molecule& molecule, const std::string& name) {
   const int atoms = static_cast<int>(data.atomic_numbers.size());
   if (data.reference_angstrom.size() != 3 * atoms)
@@ -492,7 +480,7 @@ std::unique_ptr<Potential> load_taylor_expansion_potential(const std::string& pa
 TaylorExpansionPotential::TaylorExpansionPotential(TaylorExpansionData data, const Molecule& molecule,
                                                    const TaylorExpansionOptions& options)
     : data_(std::move(data)), options_(options) {
-  check_options(options_);
+  options_.validate();
   const int atoms = static_cast<int>(data_.atomic_numbers.size());
   const std::string name = description();
   check_same_atoms(data_, molecule, name);
@@ -627,12 +615,24 @@ Eigen::MatrixXd TaylorExpansionPotential::compute_hessian(const Eigen::VectorXd&
 // ---------------------------------------------------------------------------------------
 // Writing
 
+void TaylorExpansionOptions::validate() const {
+  option_checks::require_positive("taylor-expansion", "hole_depth_cm1", hole_depth_cm1);
+  option_checks::require_positive("taylor-expansion", "superposition_tolerance_angstrom",
+                                  superposition_tolerance_angstrom);
+  option_checks::require_positive("taylor-expansion", "mode_orthogonality_tolerance",
+                                  mode_orthogonality_tolerance);
+}
+
+void TaylorWriteOptions::validate() const {
+  energy_factor(energy_unit, "taylor-expansion writer");
+  length_factor(length_unit, "taylor-expansion writer");
+  option_checks::require_non_negative("taylor-expansion writer", "relative_threshold", relative_threshold);
+}
+
 std::string write_taylor_expansion(const TaylorExpansionData& data, const TaylorWriteOptions& options) {
+  options.validate();
   const double to_kcal = energy_factor(options.energy_unit, "taylor-expansion writer");
   const double to_angstrom = length_factor(options.length_unit, "taylor-expansion writer");
-  if (!(options.relative_threshold >= 0.0))
-    throw Error(fmt::format("taylor-expansion writer option relative_threshold must be non-negative, got {}",
-                            options.relative_threshold));
   const int atoms = static_cast<int>(data.atomic_numbers.size());
   const bool normal = data.coordinates == ExpansionCoordinates::normal;
   auto number = [](double v) { return fmt::format("{:.17g}", v); };

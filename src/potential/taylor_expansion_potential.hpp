@@ -75,6 +75,8 @@ struct TaylorExpansionOptions {
   // before they are rejected; below it they are orthonormalized (Löwdin). Files printed
   // with 5–6 significant digits stay well inside it.
   double mode_orthogonality_tolerance = 1e-3;
+
+  void validate() const;  // throws Error naming the field that is out of range
 };
 
 class TaylorExpansionPotential : public Potential {
@@ -141,6 +143,8 @@ struct TaylorWriteOptions {
   std::string length_unit = "angstrom";
   // Derivatives with |value| below this fraction of the largest of their order are left out.
   double relative_threshold = 1e-12;
+
+  void validate() const;  // throws Error naming the field that is out of range
 };
 
 // The file text for the data. Throws Error for an unknown unit.

@@ -10,6 +10,7 @@
 #include <sstream>
 
 #include "core/error.hpp"
+#include "core/option_checks.hpp"
 #include "core/text.hpp"
 #include "molecule/read_records.hpp"
 #include "screen/hashing.hpp"
@@ -205,7 +206,14 @@ std::string file_content_hash(const std::string& format, const std::string& cont
   return sha256_hex(format_family(format) + "\n" + content);
 }
 
+void InputOptions::validate() const {
+  option_checks::require(!smiles_column.empty(), "screen input", "smiles_column", "a column name",
+                         "an empty name");
+  option_checks::require(!id_column.empty(), "screen input", "id_column", "a column name", "an empty name");
+}
+
 CollectedInputs collect_records(const std::vector<std::string>& inputs, const InputOptions& options) {
+  options.validate();
   CollectedInputs collected;
   std::set<std::string> seen;
   auto add = [&](std::vector<ScreenRecord> records) {

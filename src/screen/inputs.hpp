@@ -37,6 +37,8 @@ struct InputOptions {
   std::string format;                    // Open Babel format of every file input; empty: from the extension
   std::string smiles_column = "smiles";  // CSV column names (compared without case)
   std::string id_column = "id";
+
+  void validate() const;  // throws Error naming the field that is out of range
 };
 
 struct CollectedInputs {

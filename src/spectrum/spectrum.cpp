@@ -6,6 +6,7 @@
 #include <cmath>
 
 #include "core/error.hpp"
+#include "core/option_checks.hpp"
 #include "core/units.hpp"
 
 namespace overtone {
@@ -72,13 +73,14 @@ std::string to_string(LineShape shape) {
   return "";
 }
 
-void validate(const SpectrumOptions& options) {
-  if (!(std::isfinite(options.fwhm_cm1) && options.fwhm_cm1 > 0.0))
-    throw Error(fmt::format("spectrum width (fwhm_cm1) must be a positive number, got {}", options.fwhm_cm1));
-  if (!(std::isfinite(options.step_cm1) && options.step_cm1 > 0.0))
-    throw Error(fmt::format("spectrum step (step_cm1) must be a positive number, got {}", options.step_cm1));
-  for (const auto& end : {options.min_cm1, options.max_cm1})
-    if (end && !std::isfinite(*end)) throw Error("spectrum range ends must be finite numbers");
+void SpectrumOptions::validate() const {
+  option_checks::require_positive("spectrum", "fwhm_cm1", fwhm_cm1);
+  option_checks::require_positive("spectrum", "step_cm1", step_cm1);
+  if (min_cm1)
+    option_checks::require(std::isfinite(*min_cm1), "spectrum", "min_cm1", "a finite number", *min_cm1);
+  if (max_cm1)
+    option_checks::require(std::isfinite(*max_cm1), "spectrum", "max_cm1", "a finite number", *max_cm1);
+  option_checks::require(max_points >= 2, "spectrum", "max_points", "a whole number >= 2", max_points);
 }
 
 double line_shape_value(LineShape shape, double fwhm_cm1, double offset_cm1) {
@@ -97,7 +99,7 @@ double line_shape_value(LineShape shape, double fwhm_cm1, double offset_cm1) {
 }
 
 SpectrumResult broaden_lines(const std::vector<SpectrumLine>& lines, const SpectrumOptions& options) {
-  validate(options);
+  options.validate();
   for (const SpectrumLine& line : lines)
     if (!std::isfinite(line.position_cm1) || !std::isfinite(line.intensity))
       throw Error("spectrum line '" + line.label + "' has a position or intensity that is not finite");

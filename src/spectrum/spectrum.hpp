@@ -45,10 +45,9 @@ struct SpectrumOptions {
   std::optional<double> max_cm1;
   // A grid larger than this is refused (a typing slip such as --step 1e-9).
   std::size_t max_points = 2000000;
-};
 
-// Throws Error naming the first invalid field.
-void validate(const SpectrumOptions& options);
+  void validate() const;  // throws Error naming the field that is out of range
+};
 
 struct SpectrumResult {
   Eigen::VectorXd wavenumber_cm1;

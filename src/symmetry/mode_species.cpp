@@ -5,6 +5,7 @@
 #include <sstream>
 
 #include "core/error.hpp"
+#include "core/option_checks.hpp"
 #include "core/units.hpp"
 #include "harmonic/inertia.hpp"
 #include "symmetry/geometry.hpp"
@@ -38,6 +39,14 @@ std::string format_number(double v, int precision) {
 }
 
 }  // namespace
+
+void ModeSpeciesOptions::validate() const {
+  option_checks::require_non_negative("mode-species", "degeneracy_tolerance_cm1", degeneracy_tolerance_cm1);
+  option_checks::require_in_open("mode-species", "purity_tolerance", purity_tolerance, 0.0, 0.5);
+  option_checks::require(std::isfinite(frame_check_tolerance_angstrom), "mode-species",
+                         "frame_check_tolerance_angstrom", "a finite number (negative: the default)",
+                         frame_check_tolerance_angstrom);
+}
 
 std::vector<double> vibrational_characters(const PointGroupResult& group) {
   const PointGroup& pg = group.group;
@@ -286,14 +295,7 @@ Eigen::MatrixXd adapt_basis(const PointGroupResult& group, const Eigen::MatrixXd
 
 // ---- Phases of the assignment -------------------------------------------------------------
 
-void check_assignment_input(const PointGroupResult& group, const HarmonicResult& harmonic,
-                            const ModeSpeciesOptions& options) {
-  if (!(options.degeneracy_tolerance_cm1 >= 0.0))
-    throw Error("ModeSpeciesOptions::degeneracy_tolerance_cm1 must be non-negative, got " +
-                std::to_string(options.degeneracy_tolerance_cm1));
-  if (!(options.purity_tolerance > 0.0 && options.purity_tolerance < 0.5))
-    throw Error("ModeSpeciesOptions::purity_tolerance must lie in (0, 0.5), got " +
-                std::to_string(options.purity_tolerance));
+void check_assignment_input(const PointGroupResult& group, const HarmonicResult& harmonic) {
   const int n = atom_count(group);
   if (harmonic.masses_da.size() != n)
     throw Error("harmonic analysis has " + std::to_string(harmonic.masses_da.size()) +
@@ -546,7 +548,8 @@ bool finish_sets(const Assignment& a, const ModeSpeciesOptions& options, ModeSym
 
 ModeSymmetryResult assign_mode_species(const PointGroupResult& group, const HarmonicResult& harmonic,
                                        const ModeSpeciesOptions& options) {
-  check_assignment_input(group, harmonic, options);
+  options.validate();
+  check_assignment_input(group, harmonic);
   const PointGroup& pg = group.group;
   ModeSymmetryResult result;
   result.frame = harmonic_frame(group, harmonic, options);

@@ -213,6 +213,8 @@ struct ModeSpeciesOptions {
   // geometry and its image, when checking in which frame that geometry is given;
   // negative means 2·(the group's detection tolerance).
   double frame_check_tolerance_angstrom = -1.0;
+
+  void validate() const;  // throws Error naming the field that is out of range
 };
 
 struct ModeSet {

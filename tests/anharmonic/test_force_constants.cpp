@@ -272,11 +272,11 @@ TEST(ForceConstants, NotAMinimumIsAStatus) {
 }
 
 TEST(ForceConstants, OptionsAreChecked) {
-  EXPECT_NO_THROW(validate(ForceConstantOptions{}));
+  EXPECT_NO_THROW(ForceConstantOptions{}.validate());
   ForceConstantOptions bad;
   bad.step = 0.0;
   try {
-    validate(bad);
+    bad.validate();
     FAIL() << "expected an error";
   } catch (const Error& e) {
     EXPECT_NE(std::string(e.what()).find("step"), std::string::npos);

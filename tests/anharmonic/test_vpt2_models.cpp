@@ -328,11 +328,11 @@ TEST(Vpt2Exact, FermiPolyadReproducesExactDyad) {
 }
 
 TEST(Vpt2Options, DefaultsAreValidAndBadValuesAreNamed) {
-  EXPECT_NO_THROW(validate(Vpt2Options{}));
+  EXPECT_NO_THROW(Vpt2Options{}.validate());
   Vpt2Options bad;
   bad.fermi_gap_cm1 = -1.0;
   try {
-    validate(bad);
+    bad.validate();
     FAIL() << "expected an error";
   } catch (const Error& e) {
     EXPECT_NE(std::string(e.what()).find("fermi_gap_cm1"), std::string::npos);

@@ -9,9 +9,11 @@
 #include <fstream>
 #include <functional>
 #include <string>
+#include <vector>
 
 #include "core/error.hpp"
 #include "molecule/read_molecule.hpp"
+#include "molecule/read_records.hpp"
 
 namespace overtone {
 namespace {
@@ -39,6 +41,19 @@ std::string write_temp(const std::string& name, const std::string& text) {
   const std::string path = ::testing::TempDir() + name;
   std::ofstream(path) << text;
   return path;
+}
+
+// Every structure of a multi-structure file, read as the screening does: the file split
+// into records (read_records), each record read on its own through read_molecule.
+std::vector<ReadResult> read_every_structure(const std::string& path) {
+  std::vector<ReadResult> results;
+  for (const MoleculeFileRecord& record : read_records(path)) {
+    ReadOptions options;
+    options.format = record.format;
+    results.push_back(read_molecule(
+        write_temp("record-" + std::to_string(record.number) + "." + record.format, record.text), options));
+  }
+  return results;
 }
 
 void expect_error_containing(const std::function<void()>& action, const std::string& fragment) {
@@ -179,7 +194,7 @@ TEST(ReadMolecule, FirstNciRecordIsMethylbenzoquinoneWithItsHydrogens) {
 TEST(ReadMolecule, EveryStructureOfAScreeningFileIsCompleted) {
   if (!std::filesystem::exists(nci_first_200))
     GTEST_SKIP() << nci_first_200 << " is missing (Debian package rdkit-data; tools/setup installs it)";
-  const std::vector<ReadResult> results = read_all_molecules(nci_first_200);
+  const std::vector<ReadResult> results = read_every_structure(nci_first_200);
   ASSERT_EQ(results.size(), 200u);
   int with_hydrogens = 0;
   for (const auto& result : results) {
@@ -259,7 +274,7 @@ TEST(ReadMolecule, XyzFileWithMoreAtomLinesThanItsCountIsRefused) {
   // Several structures, each with its count, remain fine, and so do trailing blank lines.
   const std::string two =
       write_temp("two.xyz", "2\nfirst\nH 0 0 0\nH 0.74 0 0\n2\nsecond\nH 0 0 0\nH 0.75 0 0\n\n\n");
-  EXPECT_EQ(read_all_molecules(two).size(), 2u);
+  EXPECT_EQ(read_every_structure(two).size(), 2u);
 }
 
 TEST(ReadMolecule, XyzAtomCountBeyondAnyIntegerIsAReadErrorNotACrash) {

@@ -88,7 +88,7 @@ TEST(Spectrum, PeakHeightsAndWidthsFollowTheClosedForms) {
 TEST(Spectrum, RefusesBadOptions) {
   SpectrumOptions options;
   options.fwhm_cm1 = 0.0;
-  EXPECT_THROW(validate(options), Error);
+  EXPECT_THROW(options.validate(), Error);
   options = {};
   options.step_cm1 = 1e-9;
   EXPECT_THROW(broaden_lines({{500.0, 1.0, "a", 0, {}, false}}, options), Error);
