@@ -10,6 +10,7 @@
 #include <sstream>
 
 #include "core/error.hpp"
+#include "core/option_checks.hpp"
 #include "core/units.hpp"
 #include "harmonic/inertia.hpp"
 #include "symmetry/geometry.hpp"
@@ -17,15 +18,12 @@
 namespace overtone {
 
 void SymmetryOptions::validate() const {
-  if (!(tolerance_angstrom > 0.0) || !(tolerance_angstrom <= max_symmetry_tolerance_angstrom))
-    throw Error(fmt::format("the symmetry tolerance must lie in (0, {}] Å, got {} Å",
-                            max_symmetry_tolerance_angstrom, tolerance_angstrom));
-  if (!(mass_tolerance_da >= 0.0) || !std::isfinite(mass_tolerance_da))
-    throw Error("SymmetryOptions::mass_tolerance_da must be non-negative, got " +
-                std::to_string(mass_tolerance_da));
-  if (linear_axis_order < 4 || linear_axis_order > 60 || linear_axis_order % 2 != 0)
-    throw Error("SymmetryOptions::linear_axis_order must be even and between 4 and 60, got " +
-                std::to_string(linear_axis_order));
+  option_checks::require_in_left_open("symmetry", "tolerance_angstrom", tolerance_angstrom, 0.0,
+                                      max_symmetry_tolerance_angstrom);
+  option_checks::require_non_negative("symmetry", "mass_tolerance_da", mass_tolerance_da);
+  option_checks::require(linear_axis_order >= 4 && linear_axis_order <= 60 && linear_axis_order % 2 == 0,
+                         "symmetry", "linear_axis_order", "an even whole number from 4 to 60",
+                         linear_axis_order);
 }
 
 Eigen::Matrix3d PointGroupResult::operation_matrix(int g, CoordinateFrame frame) const {
