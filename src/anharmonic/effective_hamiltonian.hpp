@@ -10,9 +10,17 @@
 //                 + ½ Σ_{k∉P} ⟨m|V₃|k⟩⟨k|V₃|n⟩ [1/(E_m − E_k) + 1/(E_n − E_k)]
 // V₃ is first order and V₄ second order, as in VPT2. Quartic constants that were not
 // computed count as zero.
+//
+// Cost: an intermediate k of the second-order sum differs from m by one cubic term (at
+// most three modes, one or three quanta) and from n by another, so only the terms that
+// touch a mode where m and n differ (and, when they differ by two quanta, the terms that
+// move a single quantum) can contribute; when m and n differ by four or six quanta (a
+// Darling–Dennison coupling), a term of three different modes must touch two of the modes
+// where they differ. second_order visits those terms and nothing else (O(M) of them for a
+// Darling–Dennison coupling, O(M²) for two quanta apart) and keeps no state between calls.
 #include <Eigen/Dense>
-#include <map>
-#include <set>
+#include <array>
+#include <unordered_set>
 #include <vector>
 
 #include "anharmonic/force_constants.hpp"
@@ -20,6 +28,15 @@
 namespace overtone::detail {
 
 using Quanta = std::vector<int>;  // vibrational quanta per mode
+
+struct QuantaHash {
+  std::size_t operator()(const Quanta& n) const {
+    std::size_t h = n.size();
+    for (int q : n) h ^= static_cast<std::size_t>(q) + 0x9e3779b97f4a7c15ULL + (h << 6) + (h >> 2);
+    return h;
+  }
+};
+using StateSet = std::unordered_set<Quanta, QuantaHash>;
 
 class AnharmonicOperator {
  public:
@@ -30,28 +47,34 @@ class AnharmonicOperator {
   double zeroth_order(const Quanta& n) const;
   double cubic_element(const Quanta& m, const Quanta& n) const;
   double quartic_element(const Quanta& m, const Quanta& n) const;
-  // Every |k⟩ with ⟨k|V₃|n⟩ ≠ 0 and that element.
-  const std::map<Quanta, double>& apply_cubic(const Quanta& n) const;
   // The Van Vleck second-order term between m and n, intermediates in `excluded` left out.
-  double second_order(const Quanta& m, const Quanta& n, const std::set<Quanta>& excluded) const;
+  double second_order(const Quanta& m, const Quanta& n, const StateSet& excluded) const;
   // H_eff(m, n) as in the header comment.
-  double element(const Quanta& m, const Quanta& n, const std::set<Quanta>& excluded) const;
-  // H_eff on the block, with the block itself excluded from the intermediates.
-  Eigen::MatrixXd block(const std::vector<Quanta>& states) const;
+  double element(const Quanta& m, const Quanta& n, const StateSet& excluded) const;
 
  private:
+  // One unique nonzero φ_ijk as a product of powers of distinct modes.
+  struct CubicTerm {
+    std::array<int, 3> modes{};
+    std::array<int, 3> powers{};
+    int factor_count = 0;
+    double value = 0.0;  // φ / Π power!
+  };
   double term(const std::vector<int>& counts, const Quanta& m, const Quanta& n, int rank) const;
   double constant(const std::vector<int>& indices) const;
+  // ⟨k|V₃|n⟩ where k − n is nonzero only at the given modes (by the given changes).
+  double cubic_between(const Quanta& n, const std::vector<std::pair<int, int>>& difference) const;
 
   const ForceConstantTensors& constants_;
   Eigen::VectorXd omega_;
-  struct CubicTerm {
-    std::vector<std::pair<int, int>> factors;  // (mode, power)
-    double value;                              // φ / Π power!
-  };
   std::vector<CubicTerm> cubic_terms_;
-  // apply_cubic results by state: the same states recur in many matrix elements.
-  mutable std::map<Quanta, std::map<Quanta, double>> applied_;
+  std::vector<std::vector<int>> terms_of_mode_;         // cubic terms in which each mode occurs
+  std::vector<std::vector<int>> paired_terms_of_mode_;  // ... of those, the ones with at most two modes
+  std::vector<int> single_quantum_terms_;               // terms with a squared or cubed factor
+  // Terms of three different modes by each pair of their modes (i < j): the pair (i, j)
+  // owns entries [pair_start_[i·M + j], pair_start_[i·M + j + 1]) of terms_of_pair_.
+  std::vector<int> pair_start_;
+  std::vector<int> terms_of_pair_;
 };
 
 // ⟨a|q^power|b⟩ for one harmonic oscillator, q = (a + a†)/√2.

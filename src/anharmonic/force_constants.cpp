@@ -4,6 +4,7 @@
 
 #include <algorithm>
 #include <array>
+#include <chrono>
 #include <cmath>
 #include <functional>
 #include <optional>
@@ -357,7 +358,7 @@ namespace {
 // largest change made by the average.
 double symmetrize_and_zero(ForceConstantTensors& constants, const ModeSymmetry& symmetry,
                            std::size_t& forbidden_cubic, std::size_t& forbidden_quartic) {
-  const auto sets = symmetry.sets();
+  const auto& sets = symmetry.sets();
   const int set_count = static_cast<int>(sets.size());
   const InvariantOverlap overlap(symmetry);
   double change = 0.0;
@@ -708,10 +709,18 @@ std::vector<Point> displacement_points(int m, const std::vector<std::pair<int, i
 
 // Hessians at every point, and the evaluations this took against the scheme without symmetry.
 void evaluate_points(const Potential& potential, DisplacedEvaluator& evaluator,
-                     const std::vector<Point>& points, ForceConstantResult& result) {
+                     const std::vector<Point>& points, const ProgressCallback& progress,
+                     ForceConstantResult& result) {
   const int m = static_cast<int>(result.frequencies_cm1.size());
   const EvaluationCounts before = potential.counts();
-  for (const auto& p : points) evaluator.hessian(p);
+  const auto start = std::chrono::steady_clock::now();
+  const int total = static_cast<int>(points.size());
+  for (int done = 0; done < total; ++done) {
+    evaluator.hessian(points[static_cast<std::size_t>(done)]);
+    if (progress)
+      progress({"force constants", done + 1, total, "displaced Hessians",
+                std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count()});
+  }
   const EvaluationCounts after = potential.counts();
   result.evaluations.energies = after.energies - before.energies;
   result.evaluations.gradients = after.gradients - before.gradients;
@@ -859,7 +868,7 @@ ForceConstantResult compute_force_constants(const Potential& potential, const Ha
   result.method = potential.has_analytic_hessian() ? "analytic Hessians"
                                                    : "Hessians from central differences of gradients";
   const std::vector<std::pair<int, int>> pairs = displaced_pairs(symmetry, result.full_quartic);
-  evaluate_points(potential, evaluator, displacement_points(m, pairs), result);
+  evaluate_points(potential, evaluator, displacement_points(m, pairs), options.progress, result);
 
   const HessianDifferences differences = hessian_differences(evaluator, m, options.step, pairs);
   double spread = cubic_constants(differences, result.constants);

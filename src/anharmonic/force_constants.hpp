@@ -28,6 +28,7 @@
 #include <unordered_map>
 #include <vector>
 
+#include "core/progress.hpp"
 #include "harmonic/harmonic.hpp"
 #include "harmonic/normal_coordinates.hpp"
 #include "potential/potential.hpp"
@@ -104,6 +105,8 @@ struct ForceConstantOptions {
   // Modes below this harmonic wavenumber (cm⁻¹), or imaginary ones, make the stage stop
   // with status not_a_minimum: dimensionless coordinates need ω well above zero.
   double minimum_frequency_cm1 = 5.0;
+  // Told after each displaced point's Hessian (stage "force constants", done of total points).
+  ProgressCallback progress;
 };
 
 enum class ForceConstantStatus { ok, not_a_minimum };

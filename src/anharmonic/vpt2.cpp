@@ -3,11 +3,14 @@
 #include <fmt/format.h>
 
 #include <algorithm>
+#include <chrono>
 #include <cmath>
+#include <cstdint>
 #include <map>
 #include <numeric>
 #include <set>
 #include <tuple>
+#include <unordered_map>
 
 #include "anharmonic/effective_hamiltonian.hpp"
 #include "core/error.hpp"
@@ -68,6 +71,98 @@ void validate(const Vpt2Options& options) {
   if (options.polyad_max_states < 2)
     throw Error(
         fmt::format("vpt2 option polyad_max_states must be at least 2, got {}", options.polyad_max_states));
+  positive(options.perturbation_ratio_limit, "perturbation_ratio_limit", "a ratio");
+  if (!(options.exclude_below_cm1 >= 0.0) || !std::isfinite(options.exclude_below_cm1))
+    throw Error(fmt::format("vpt2 option exclude_below_cm1 must be a wavenumber >= 0 (cm-1), got {}",
+                            options.exclude_below_cm1));
+}
+
+namespace detail {
+
+namespace {
+
+// The ratios of PerturbationCheck, for one term of mode i.
+constexpr double turning_point_q2_fundamental = 3.0;  // q² at the turning point of v = 1: 2v + 1
+struct TermRatio {
+  double ratio = 0.0;
+  std::vector<int> modes;
+};
+
+void keep_larger(TermRatio& best, double ratio, std::vector<int> modes) {
+  if (ratio > best.ratio) best = {ratio, std::move(modes)};
+}
+
+}  // namespace
+
+std::vector<PerturbationCheck> perturbation_checks(const ForceConstantTensors& constants,
+                                                   const Eigen::VectorXd& omega,
+                                                   const std::vector<DegenerateSet>& sets,
+                                                   double ratio_limit) {
+  const int m = constants.mode_count();
+  std::vector<TermRatio> per_mode(static_cast<std::size_t>(m));
+  const double root = std::sqrt(turning_point_q2_fundamental);
+  for (const auto& e : constants.cubic_entries(0.0)) {
+    const double v = std::abs(e.value);
+    if (e.i == e.j && e.j == e.k) {
+      keep_larger(per_mode[static_cast<std::size_t>(e.i)], root * v / (3.0 * omega[e.i]), {e.i, e.j, e.k});
+    } else if (e.i == e.j || e.j == e.k) {  // φ_iij: i the repeated index
+      const int i = e.j;
+      keep_larger(per_mode[static_cast<std::size_t>(i)], v / omega[i], {e.i, e.j, e.k});
+    }
+  }
+  for (const auto& e : constants.quartic_entries(0.0)) {
+    const double v = std::abs(e.value);
+    if (e.i == e.l) {
+      keep_larger(per_mode[static_cast<std::size_t>(e.i)],
+                  turning_point_q2_fundamental * v / (12.0 * omega[e.i]), {e.i, e.j, e.k, e.l});
+    } else if (e.i == e.j && e.k == e.l) {  // φ_iijj: both modes see it
+      for (int i : {e.i, e.k})
+        keep_larger(per_mode[static_cast<std::size_t>(i)], v / (2.0 * omega[i]), {e.i, e.j, e.k, e.l});
+    }
+  }
+  std::vector<PerturbationCheck> checks;
+  for (std::size_t s = 0; s < sets.size(); ++s) {
+    PerturbationCheck check;
+    check.set = static_cast<int>(s);
+    check.harmonic_cm1 = sets[s].harmonic_cm1;
+    for (int mode : sets[s].modes)
+      if (per_mode[static_cast<std::size_t>(mode)].ratio >= check.anharmonic_ratio) {
+        check.anharmonic_ratio = per_mode[static_cast<std::size_t>(mode)].ratio;
+        check.largest_term = per_mode[static_cast<std::size_t>(mode)].modes;
+      }
+    check.beyond_perturbation = check.anharmonic_ratio >= ratio_limit;
+    checks.push_back(std::move(check));
+  }
+  return checks;
+}
+
+ForceConstantTensors without_modes(const ForceConstantTensors& constants, const std::vector<bool>& excluded) {
+  auto out = [&](int mode) { return excluded[static_cast<std::size_t>(mode)]; };
+  ForceConstantTensors kept(constants.mode_count());
+  for (const auto& e : constants.cubic_entries(0.0))
+    if (!out(e.i) && !out(e.j) && !out(e.k)) kept.set_cubic(e.i, e.j, e.k, e.value);
+  for (int i = 0; i < constants.mode_count(); ++i)
+    for (int j = i; j < constants.mode_count(); ++j)
+      for (int k = j; k < constants.mode_count(); ++k)
+        for (int l = k; l < constants.mode_count(); ++l)
+          if (constants.has_quartic(i, j, k, l) && !out(i) && !out(j) && !out(k) && !out(l))
+            kept.set_quartic(i, j, k, l, constants.quartic(i, j, k, l));
+  return kept;
+}
+
+}  // namespace detail
+
+SparseQuanta sparse_quanta(const std::vector<int>& set_quanta) {
+  SparseQuanta quanta;
+  for (std::size_t s = 0; s < set_quanta.size(); ++s)
+    if (set_quanta[s] != 0) quanta.emplace_back(static_cast<int>(s), set_quanta[s]);
+  return quanta;
+}
+
+std::vector<int> dense_quanta(const SparseQuanta& quanta, std::size_t set_count) {
+  std::vector<int> set_quanta(set_count, 0);
+  for (const auto& [set, count] : quanta) set_quanta.at(static_cast<std::size_t>(set)) = count;
+  return set_quanta;
 }
 
 namespace detail {
@@ -120,8 +215,8 @@ void coriolis_constants(const HarmonicResult& harmonic, std::vector<Eigen::Matri
   const Eigen::VectorXd& x = harmonic.coordinates_angstrom;
   const Eigen::Index atoms = masses.size();
   const Eigen::SelfAdjointEigenSolver<Eigen::Matrix3d> principal(inertia_tensor(x, masses));
-  const Eigen::Vector3d moments = principal.eigenvalues();
-  const Eigen::Matrix3d axes = principal.eigenvectors();
+  const Eigen::Vector3d& moments = principal.eigenvalues();
+  const Eigen::Matrix3d& axes = principal.eigenvectors();
   // A moment this small relative to the largest is the axis of a linear molecule.
   constexpr double vanishing_moment = 1e-8;
   for (int alpha = 0; alpha < 3; ++alpha)
@@ -255,12 +350,14 @@ std::vector<std::vector<int>> cluster_eigenvalues(const Eigen::VectorXd& values,
   return clusters;
 }
 
-int total_quanta(const std::vector<int>& v) { return std::accumulate(v.begin(), v.end(), 0); }
-
+// The states of one manifold are consecutive in a group's basis, so a sublevel's vectors
+// are kept on those rows only: the work on a polyad stays proportional to its states times
+// the states of each manifold, not to the square of its size per sublevel.
 struct Sublevel {
-  int manifold = 0;         // index within the group
-  double energy = 0.0;      // deperturbed
-  Eigen::MatrixXd vectors;  // columns in the group's state basis
+  int manifold = 0;            // index within the group
+  double energy = 0.0;         // deperturbed
+  Eigen::Index first_row = 0;  // of the manifold's states in the group's basis
+  Eigen::MatrixXd vectors;     // columns on the manifold's rows (first_row onwards)
 };
 
 // ---------------------------------------------------------------------------------------
@@ -285,6 +382,14 @@ struct Vpt2Context {
   detail::AnharmonicOperator op;
   // R(g) exactly block-diagonal over the sets, for the action on oscillator states.
   std::vector<Eigen::MatrixXd> block_operations;
+  // Per set: dropped from the treatment (reduced-dimensional VPT2).
+  std::vector<bool> excluded_sets;
+
+  bool kept(std::initializer_list<int> set_indices) const {
+    for (int s : set_indices)
+      if (excluded_sets[static_cast<std::size_t>(s)]) return false;
+    return true;
+  }
 
   int set_count() const { return static_cast<int>(sets.size()); }
   std::vector<int> unit(std::initializer_list<std::pair<int, int>> entries) const {
@@ -346,7 +451,7 @@ double largest_singular_value(const Eigen::MatrixXd& block) {
 double manifold_coupling(const Vpt2Context& c, const std::vector<int>& lower, const std::vector<int>& upper,
                          bool first_order) {
   const auto a = manifold_states(lower, c.sets, c.m), b = manifold_states(upper, c.sets, c.m);
-  std::set<Quanta> excluded;
+  detail::StateSet excluded;
   if (!first_order) {
     excluded.insert(a.begin(), a.end());
     excluded.insert(b.begin(), b.end());
@@ -375,7 +480,8 @@ void resonance_candidates(const Vpt2Context& c, Vpt2Result& result) {
   auto omega = [&](int s) { return c.sets[static_cast<std::size_t>(s)].harmonic_cm1; };
   for (int s = 0; s < n; ++s)
     for (int t = 0; t < n; ++t) {
-      if (s == t || std::abs(2.0 * omega(s) - omega(t)) > c.options.fermi_gap_cm1) continue;
+      if (s == t || std::abs(2.0 * omega(s) - omega(t)) > c.options.fermi_gap_cm1 || !c.kept({s, t}))
+        continue;
       Resonance r;
       r.kind = ResonanceKind::fermi_1;
       r.sets = std::vector<int>{s, t};
@@ -388,7 +494,9 @@ void resonance_candidates(const Vpt2Context& c, Vpt2Result& result) {
   for (int s = 0; s < n; ++s)
     for (int t = s + 1; t < n; ++t)
       for (int u = 0; u < n; ++u) {
-        if (u == s || u == t || std::abs(omega(s) + omega(t) - omega(u)) > c.options.fermi_gap_cm1) continue;
+        if (u == s || u == t || std::abs(omega(s) + omega(t) - omega(u)) > c.options.fermi_gap_cm1 ||
+            !c.kept({s, t, u}))
+          continue;
         Resonance r;
         r.kind = ResonanceKind::fermi_2;
         r.sets = std::vector<int>{s, t, u};
@@ -400,7 +508,8 @@ void resonance_candidates(const Vpt2Context& c, Vpt2Result& result) {
       }
   for (int s = 0; s < n; ++s)
     for (int t = s + 1; t < n; ++t) {
-      if (std::abs(2.0 * omega(s) - 2.0 * omega(t)) > c.options.darling_dennison_gap_cm1) continue;
+      if (std::abs(2.0 * omega(s) - 2.0 * omega(t)) > c.options.darling_dennison_gap_cm1 || !c.kept({s, t}))
+        continue;
       Resonance r;
       r.kind = ResonanceKind::darling_dennison;
       r.sets = std::vector<int>{s, t};
@@ -437,39 +546,24 @@ void deperturbed_constants(const Vpt2Context& c, Vpt2Result& result) {
 
 // A move between manifolds made by a flagged resonance (set-quanta difference).
 struct Move {
-  std::vector<int> delta;
+  std::vector<std::pair<int, int>> entries;  // (set, change of quanta), ascending set
   int resonance;
   bool first_order;
 };
 
-std::vector<Move> flagged_moves(const Vpt2Context& c, const Vpt2Result& result) {
+std::vector<Move> flagged_moves(const Vpt2Result& result) {
   std::vector<Move> moves;
   for (std::size_t k = 0; k < result.resonances.size(); ++k) {
     const auto& r = result.resonances[k];
     if (!r.flagged) continue;
-    if (r.kind == ResonanceKind::fermi_1)
-      moves.push_back({c.unit({{r.sets[0], 2}, {r.sets[1], -1}}), static_cast<int>(k), true});
-    if (r.kind == ResonanceKind::fermi_2)
-      moves.push_back({c.unit({{r.sets[0], 1}, {r.sets[1], 1}, {r.sets[2], -1}}), static_cast<int>(k), true});
-    if (r.kind == ResonanceKind::darling_dennison)
-      moves.push_back({c.unit({{r.sets[0], 2}, {r.sets[1], -2}}), static_cast<int>(k), false});
+    std::map<int, int> change;
+    if (r.kind == ResonanceKind::fermi_1) change = {{r.sets[0], 2}, {r.sets[1], -1}};
+    if (r.kind == ResonanceKind::fermi_2) change = {{r.sets[0], 1}, {r.sets[1], 1}, {r.sets[2], -1}};
+    if (r.kind == ResonanceKind::darling_dennison) change = {{r.sets[0], 2}, {r.sets[1], -2}};
+    moves.push_back(
+        {{change.begin(), change.end()}, static_cast<int>(k), r.kind != ResonanceKind::darling_dennison});
   }
   return moves;
-}
-
-// The move that connects two manifolds (either direction), or none.
-const Move* connecting_move(const std::vector<Move>& moves, const std::vector<int>& a,
-                            const std::vector<int>& b) {
-  for (const auto& move : moves) {
-    bool forward = true, backward = true;
-    for (std::size_t s = 0; s < a.size(); ++s) {
-      const int d = b[s] - a[s];
-      forward = forward && d == move.delta[s];
-      backward = backward && d == -move.delta[s];
-    }
-    if (forward || backward) return &move;
-  }
-  return nullptr;
 }
 
 // Line-list manifolds: fundamentals, overtones, binary combinations, in report order.
@@ -478,75 +572,163 @@ using WantedManifolds = std::vector<std::pair<std::vector<int>, LevelKind>>;
 WantedManifolds line_list_manifolds(const Vpt2Context& c) {
   WantedManifolds wanted;
   const int n = c.set_count();
-  for (int s = 0; s < n; ++s) wanted.push_back({c.unit({{s, 1}}), LevelKind::fundamental});
-  for (int s = 0; s < n; ++s) wanted.push_back({c.unit({{s, 2}}), LevelKind::overtone});
   for (int s = 0; s < n; ++s)
-    for (int t = s + 1; t < n; ++t) wanted.push_back({c.unit({{s, 1}, {t, 1}}), LevelKind::combination});
+    if (c.kept({s})) wanted.push_back({c.unit({{s, 1}}), LevelKind::fundamental});
+  for (int s = 0; s < n; ++s)
+    if (c.kept({s})) wanted.push_back({c.unit({{s, 2}}), LevelKind::overtone});
+  for (int s = 0; s < n; ++s)
+    for (int t = s + 1; t < n; ++t)
+      if (c.kept({s, t})) wanted.push_back({c.unit({{s, 1}, {t, 1}}), LevelKind::combination});
   return wanted;
 }
 
-// Manifolds diagonalized together: the closure of each wanted manifold under the flagged
-// moves (merged where closures meet), within the polyad limits.
-struct ResonanceGroup {
-  std::vector<std::vector<int>> manifolds;
-  bool truncated = false;
+// A flagged coupling inside a group: manifold `upper` is manifold `lower` moved by the
+// move's delta.
+struct GroupCoupling {
+  int lower;
+  int upper;
+  int move;
 };
 
+// Manifolds diagonalized together: a connected component of the graph whose nodes are the
+// manifolds with at most polyad_max_quanta quanta and whose edges are the flagged moves,
+// explored from the line-list manifolds. The work is the manifolds reached times the
+// flagged moves; candidates that were not flagged cost nothing here.
+struct ResonanceGroup {
+  std::vector<std::vector<int>> manifolds;  // breadth-first from a line-list manifold
+  std::vector<GroupCoupling> couplings;
+  bool beyond_quanta = false;  // a flagged move leads to a manifold with too many quanta
+  bool beyond_states = false;  // the component was cut at polyad_max_states
+  bool truncated() const { return beyond_quanta || beyond_states; }
+};
+
+// A manifold as its nonzero (set, quanta) entries in ascending set order, packed one per
+// integer: a polyad manifold has a handful of quanta, so keys stay a few integers long
+// whatever the number of modes.
+using ManifoldKey = std::vector<std::uint32_t>;
+constexpr int quanta_bits = 8;
+
+struct ManifoldKeyHash {
+  std::size_t operator()(const ManifoldKey& key) const {
+    std::size_t h = key.size();
+    for (std::uint32_t e : key)
+      h ^= static_cast<std::size_t>(e) + 0x9e3779b97f4a7c15ULL + (h << 6) + (h >> 2);
+    return h;
+  }
+};
+template <class Value>
+using ManifoldMap = std::unordered_map<ManifoldKey, Value, ManifoldKeyHash>;
+
+ManifoldKey key_of(const std::vector<int>& manifold) {
+  ManifoldKey key;
+  for (std::size_t s = 0; s < manifold.size(); ++s)
+    if (manifold[s] != 0)
+      key.push_back(static_cast<std::uint32_t>(s) << quanta_bits | static_cast<std::uint32_t>(manifold[s]));
+  return key;
+}
+
+std::vector<int> manifold_of(const ManifoldKey& key, int set_count) {
+  std::vector<int> manifold(static_cast<std::size_t>(set_count), 0);
+  for (std::uint32_t e : key) manifold[e >> quanta_bits] = static_cast<int>(e & ((1u << quanta_bits) - 1));
+  return manifold;
+}
+
+// `from` moved by a flagged move (sign +1 or −1); false if a set would go negative.
+bool moved(const ManifoldKey& from, const Move& move, int sign, ManifoldKey& to) {
+  to.clear();
+  std::size_t f = 0;
+  for (const auto& [set, change] : move.entries) {
+    for (; f < from.size() && static_cast<int>(from[f] >> quanta_bits) < set; ++f) to.push_back(from[f]);
+    int quanta = sign * change;
+    if (f < from.size() && static_cast<int>(from[f] >> quanta_bits) == set)
+      quanta += static_cast<int>(from[f++] & ((1u << quanta_bits) - 1));
+    if (quanta < 0) return false;
+    if (quanta > 0)
+      to.push_back(static_cast<std::uint32_t>(set) << quanta_bits | static_cast<std::uint32_t>(quanta));
+  }
+  for (; f < from.size(); ++f) to.push_back(from[f]);
+  return true;
+}
+
+int key_quanta(const ManifoldKey& key) {
+  int total = 0;
+  for (std::uint32_t e : key) total += static_cast<int>(e & ((1u << quanta_bits) - 1));
+  return total;
+}
+
+// A component grows one layer of graph distance at a time, so that one larger than
+// polyad_max_states keeps whole layers nearest to the line-list manifold it started from,
+// whatever the order of the moves. A line-list manifold belongs to one group only; the
+// line-list manifolds a cut left out start groups of their own, which may share other
+// manifolds with the cut one.
 std::vector<ResonanceGroup> resonance_groups(const Vpt2Context& c, const WantedManifolds& wanted,
                                              const std::vector<Move>& moves) {
-  std::map<std::vector<int>, int> group_of;
+  ManifoldMap<int> group_of_wanted;  // the group that holds each line-list manifold
+  for (const auto& w : wanted) group_of_wanted.emplace(key_of(w.first), -1);
   std::vector<ResonanceGroup> groups;
-  auto states_in = [&](const std::vector<std::vector<int>>& manifolds) {
-    std::size_t count = 0;
-    for (const auto& v : manifolds) count += manifold_states(v, c.sets, c.m).size();
-    return count;
-  };
-  for (const auto& [seed, kind] : wanted) {
-    if (group_of.count(seed)) continue;
-    std::vector<std::vector<int>> members{seed};
-    bool truncated = false;
-    for (std::size_t head = 0; head < members.size(); ++head) {
-      const std::vector<int> current = members[head];
-      for (const auto& move : moves)
-        for (int sign : {1, -1}) {
-          std::vector<int> next = current;
-          bool valid = true;
-          for (std::size_t s = 0; s < next.size(); ++s) {
-            next[s] += sign * move.delta[s];
-            valid = valid && next[s] >= 0;
-          }
-          if (!valid || std::find(members.begin(), members.end(), next) != members.end()) continue;
-          if (total_quanta(next) > c.options.polyad_max_quanta) {
-            truncated = true;
-            continue;
-          }
-          if (group_of.count(next)) {
-            // Already part of another group (reached from a different seed): merge it in.
-            ResonanceGroup& other = groups[static_cast<std::size_t>(group_of[next])];
-            for (const auto& v : other.manifolds)
-              if (std::find(members.begin(), members.end(), v) == members.end()) members.push_back(v);
-            truncated = truncated || other.truncated;
-            for (const auto& v : other.manifolds) group_of.erase(v);
-            other.manifolds.clear();
-            continue;
-          }
-          members.push_back(next);
-          if (states_in(members) > static_cast<std::size_t>(c.options.polyad_max_states)) {
-            members.pop_back();
-            truncated = true;
-          }
-        }
-    }
+  ManifoldKey next;
+  const auto state_limit = static_cast<std::size_t>(c.options.polyad_max_states);
+  for (const auto& seed : wanted) {
+    const ManifoldKey seed_key = key_of(seed.first);
+    if (group_of_wanted.at(seed_key) >= 0) continue;
     const int id = static_cast<int>(groups.size());
-    for (const auto& v : members) group_of[v] = id;
-    groups.push_back({members, truncated});
+    ResonanceGroup group;
+    std::vector<ManifoldKey> keys{seed_key};
+    group_of_wanted[seed_key] = id;
+    ManifoldMap<int> position{{seed_key, 0}};
+    std::size_t states = manifold_states(seed.first, c.sets, c.m).size();
+    for (std::size_t layer_begin = 0; layer_begin < keys.size();) {
+      const std::size_t layer_end = keys.size();
+      std::size_t layer_states = 0;
+      for (std::size_t head = layer_begin; head < layer_end; ++head)
+        for (const auto& move : moves)
+          for (int sign : {1, -1}) {
+            if (!moved(keys[head], move, sign, next)) continue;
+            if (key_quanta(next) > c.options.polyad_max_quanta) {
+              group.beyond_quanta = true;
+              continue;
+            }
+            // A whole component is explored from its first line-list manifold, so another
+            // group can hold a line-list manifold of this one only if that group was cut.
+            const auto line_list = group_of_wanted.find(next);
+            if (line_list != group_of_wanted.end() && line_list->second >= 0 && line_list->second != id) {
+              group.beyond_states = true;
+              continue;
+            }
+            if (!position.emplace(next, static_cast<int>(keys.size())).second) continue;
+            layer_states += manifold_states(manifold_of(next, c.set_count()), c.sets, c.m).size();
+            keys.push_back(next);
+          }
+      if (states + layer_states > state_limit) {
+        group.beyond_states = true;
+        for (std::size_t k = layer_end; k < keys.size(); ++k) position.erase(keys[k]);
+        keys.resize(layer_end);
+        break;
+      }
+      states += layer_states;
+      for (std::size_t k = layer_end; k < keys.size(); ++k)
+        if (const auto line_list = group_of_wanted.find(keys[k]); line_list != group_of_wanted.end())
+          line_list->second = id;
+      layer_begin = layer_end;
+    }
+    for (std::size_t v = 0; v < keys.size(); ++v) {
+      group.manifolds.push_back(manifold_of(keys[v], c.set_count()));
+      for (std::size_t k = 0; k < moves.size(); ++k) {
+        if (!moved(keys[v], moves[k], 1, next)) continue;
+        const auto found = position.find(next);
+        if (found != position.end())
+          group.couplings.push_back({static_cast<int>(v), found->second, static_cast<int>(k)});
+      }
+    }
+    groups.push_back(std::move(group));
   }
   return groups;
 }
 
 // One group's component states, the effective Hamiltonian on them and what is derived.
 struct GroupStates {
-  std::vector<Quanta> states;
+  std::vector<Quanta> states;            // manifold by manifold
+  std::vector<std::size_t> first_state;  // of each manifold, then the end
   std::vector<int> manifold_of_state;
   Eigen::MatrixXd h;
   std::vector<Sublevel> sublevels;
@@ -564,58 +746,58 @@ struct GroupStates {
 void group_hamiltonian(const Vpt2Context& c, const ResonanceGroup& group, const std::vector<Move>& moves,
                        const Eigen::MatrixXd& x_cm1, GroupStates& g) {
   const auto& manifolds = group.manifolds;
-  for (std::size_t v = 0; v < manifolds.size(); ++v)
+  std::vector<std::size_t>& first_state = g.first_state;
+  for (std::size_t v = 0; v < manifolds.size(); ++v) {
+    first_state.push_back(g.states.size());
     for (const auto& state : manifold_states(manifolds[v], c.sets, c.m)) {
       g.states.push_back(state);
       g.manifold_of_state.push_back(static_cast<int>(v));
     }
-  const std::set<Quanta> excluded(g.states.begin(), g.states.end());
+  }
+  first_state.push_back(g.states.size());
+  const detail::StateSet excluded(g.states.begin(), g.states.end());
   const auto size = static_cast<Eigen::Index>(g.states.size());
   g.h = Eigen::MatrixXd::Zero(size, size);
-  for (Eigen::Index a = 0; a < size; ++a) {
-    g.h(a, a) = detail::term_value(c.omega, x_cm1, g.states[static_cast<std::size_t>(a)]);
-    for (Eigen::Index b = a + 1; b < size; ++b) {
-      const int va = g.manifold_of_state[static_cast<std::size_t>(a)],
-                vb = g.manifold_of_state[static_cast<std::size_t>(b)];
-      const Quanta& sa = g.states[static_cast<std::size_t>(a)];
-      const Quanta& sb = g.states[static_cast<std::size_t>(b)];
-      double value = 0.0;
-      if (va == vb) {
-        value = c.op.quartic_element(sa, sb) + c.op.second_order(sa, sb, excluded);
-      } else if (const Move* move = connecting_move(moves, manifolds[static_cast<std::size_t>(va)],
-                                                    manifolds[static_cast<std::size_t>(vb)])) {
-        value = move->first_order ? c.op.cubic_element(sa, sb)
-                                  : c.op.quartic_element(sa, sb) + c.op.second_order(sa, sb, excluded);
-      }
-      g.h(a, b) = g.h(b, a) = value;
+  auto second_order = [&](std::size_t a, std::size_t b) {
+    return c.op.quartic_element(g.states[a], g.states[b]) +
+           c.op.second_order(g.states[a], g.states[b], excluded);
+  };
+  auto set = [&](std::size_t a, std::size_t b, double value) {
+    g.h(static_cast<Eigen::Index>(a), static_cast<Eigen::Index>(b)) = value;
+    g.h(static_cast<Eigen::Index>(b), static_cast<Eigen::Index>(a)) = value;
+  };
+  for (std::size_t v = 0; v < manifolds.size(); ++v)
+    for (std::size_t a = first_state[v]; a < first_state[v + 1]; ++a) {
+      g.h(static_cast<Eigen::Index>(a), static_cast<Eigen::Index>(a)) =
+          detail::term_value(c.omega, x_cm1, g.states[a]);
+      for (std::size_t b = a + 1; b < first_state[v + 1]; ++b) set(a, b, second_order(a, b));
     }
+  for (const GroupCoupling& coupling : group.couplings) {
+    const bool first_order = moves[static_cast<std::size_t>(coupling.move)].first_order;
+    const auto lower = static_cast<std::size_t>(coupling.lower),
+               upper = static_cast<std::size_t>(coupling.upper);
+    for (std::size_t a = first_state[lower]; a < first_state[lower + 1]; ++a)
+      for (std::size_t b = first_state[upper]; b < first_state[upper + 1]; ++b)
+        set(a, b, first_order ? c.op.cubic_element(g.states[a], g.states[b]) : second_order(a, b));
   }
 }
 
 // Deperturbed sublevels: each manifold's block alone, eigenvalues clustered into levels.
 void deperturbed_sublevels(const Vpt2Context& c, std::size_t manifold_count, GroupStates& g) {
-  const Eigen::Index size = g.h.rows();
   g.sublevels_of_manifold.assign(manifold_count, {});
   for (std::size_t v = 0; v < manifold_count; ++v) {
-    std::vector<int> rows;
-    for (Eigen::Index a = 0; a < size; ++a)
-      if (g.manifold_of_state[static_cast<std::size_t>(a)] == static_cast<int>(v))
-        rows.push_back(static_cast<int>(a));
-    Eigen::MatrixXd block(static_cast<Eigen::Index>(rows.size()), static_cast<Eigen::Index>(rows.size()));
-    for (std::size_t i = 0; i < rows.size(); ++i)
-      for (std::size_t j = 0; j < rows.size(); ++j)
-        block(static_cast<Eigen::Index>(i), static_cast<Eigen::Index>(j)) = g.h(rows[i], rows[j]);
-    const Eigen::SelfAdjointEigenSolver<Eigen::MatrixXd> solver(block);
+    const auto first = static_cast<Eigen::Index>(g.first_state[v]);
+    const auto rows = static_cast<Eigen::Index>(g.first_state[v + 1] - g.first_state[v]);
+    const Eigen::SelfAdjointEigenSolver<Eigen::MatrixXd> solver(g.h.block(first, first, rows, rows));
     for (const auto& cluster :
          cluster_eigenvalues(solver.eigenvalues(), c.options.level_degeneracy_tolerance_cm1)) {
       Sublevel sub;
       sub.manifold = static_cast<int>(v);
-      sub.vectors = Eigen::MatrixXd::Zero(size, static_cast<Eigen::Index>(cluster.size()));
+      sub.first_row = first;
+      sub.vectors.resize(rows, static_cast<Eigen::Index>(cluster.size()));
       for (std::size_t k = 0; k < cluster.size(); ++k) {
         sub.energy += solver.eigenvalues()[cluster[k]] / static_cast<double>(cluster.size());
-        for (std::size_t i = 0; i < rows.size(); ++i)
-          sub.vectors(rows[i], static_cast<Eigen::Index>(k)) =
-              solver.eigenvectors()(static_cast<Eigen::Index>(i), cluster[k]);
+        sub.vectors.col(static_cast<Eigen::Index>(k)) = solver.eigenvectors().col(cluster[k]);
       }
       g.sublevels_of_manifold[v].push_back(static_cast<int>(g.sublevels.size()));
       g.sublevels.push_back(std::move(sub));
@@ -629,14 +811,19 @@ void sublevel_species(const Vpt2Context& c, GroupStates& g) {
   g.species.assign(g.sublevels.size(), "");
   g.multiplicities.assign(g.sublevels.size(), {});
   if (c.group_known && c.symmetry.has_character_table()) {
-    std::vector<Eigen::MatrixXd> representation;
-    for (const auto& r : c.block_operations) representation.push_back(state_representation(g.states, r));
-    for (std::size_t k = 0; k < g.sublevels.size(); ++k) {
-      std::vector<double> characters;
-      const Eigen::MatrixXd& basis = g.sublevels[k].vectors;
-      for (const auto& d : representation) characters.push_back((basis.transpose() * d * basis).trace());
-      g.species[k] = c.symmetry.species_label(characters);
-      g.multiplicities[k] = c.symmetry.multiplicities(characters);
+    // Each manifold spans a representation of its own (the operations keep the sets).
+    for (std::size_t v = 0; v < g.sublevels_of_manifold.size(); ++v) {
+      const std::vector<Quanta> states(g.states.begin() + static_cast<std::ptrdiff_t>(g.first_state[v]),
+                                       g.states.begin() + static_cast<std::ptrdiff_t>(g.first_state[v + 1]));
+      std::vector<Eigen::MatrixXd> representation;
+      for (const auto& r : c.block_operations) representation.push_back(state_representation(states, r));
+      for (int k : g.sublevels_of_manifold[v]) {
+        std::vector<double> characters;
+        const Eigen::MatrixXd& basis = g.sublevels[static_cast<std::size_t>(k)].vectors;
+        for (const auto& d : representation) characters.push_back((basis.transpose() * d * basis).trace());
+        g.species[static_cast<std::size_t>(k)] = c.symmetry.species_label(characters);
+        g.multiplicities[static_cast<std::size_t>(k)] = c.symmetry.multiplicities(characters);
+      }
     }
   }
   g.tags.assign(g.sublevels.size(), "");
@@ -654,9 +841,9 @@ void sublevel_species(const Vpt2Context& c, GroupStates& g) {
   }
 }
 
-// Weights below this in a resonance-corrected state are round-off of the eigenvectors'
-// squares; above coupled_weight a sublevel takes part in the resonance.
-constexpr double negligible_weight = 1e-10;
+// Above this weight in a resonance-corrected state a sublevel takes part in the
+// resonance (and is listed in the mixing): an intensity share of 1e-6 is far below
+// anything a spectrum shows.
 constexpr double coupled_weight = 1e-6;
 
 // Resonance-corrected states: the whole group diagonalized, its eigenvalue clusters
@@ -675,7 +862,9 @@ void resonance_corrected_states(const Vpt2Context& c, GroupStates& g) {
     for (std::size_t s = 0; s < count; ++s) {
       double w = 0.0;
       for (int e : clusters[k])
-        w += (g.sublevels[s].vectors.transpose() * solver.eigenvectors().col(e)).squaredNorm();
+        w += (g.sublevels[s].vectors.transpose() *
+              solver.eigenvectors().col(e).segment(g.sublevels[s].first_row, g.sublevels[s].vectors.rows()))
+                 .squaredNorm();
       overlap(static_cast<Eigen::Index>(k), static_cast<Eigen::Index>(s)) =
           w / static_cast<double>(clusters[k].size());
     }
@@ -739,12 +928,12 @@ std::vector<LevelComponent> level_mixing(const ResonanceGroup& group, const Grou
   std::vector<LevelComponent> mixing;
   const auto& weights = g.composition[index];
   for (std::size_t t = 0; t < weights.size(); ++t) {
-    if (!(weights[t] > negligible_weight)) continue;
+    if (!(weights[t] > coupled_weight)) continue;
     const Sublevel& other = g.sublevels[t];
     const auto& other_subs = g.sublevels_of_manifold[static_cast<std::size_t>(other.manifold)];
     const int other_index = static_cast<int>(
         std::find(other_subs.begin(), other_subs.end(), static_cast<int>(t)) - other_subs.begin());
-    mixing.push_back({group.manifolds[static_cast<std::size_t>(other.manifold)], other_index,
+    mixing.push_back({sparse_quanta(group.manifolds[static_cast<std::size_t>(other.manifold)]), other_index,
                       static_cast<int>(other_subs.size()), g.species[t], g.tags[t], weights[t]});
   }
   std::sort(mixing.begin(), mixing.end(),
@@ -754,15 +943,16 @@ std::vector<LevelComponent> level_mixing(const ResonanceGroup& group, const Grou
 
 // Levels of the line list in one group; returns their indices in result.levels.
 std::vector<int> add_group_levels(const Vpt2Context& c, const ResonanceGroup& group, const GroupStates& g,
-                                  const WantedManifolds& wanted, bool is_polyad, Vpt2Result& result) {
+                                  const WantedManifolds& wanted, const ManifoldMap<int>& wanted_index,
+                                  bool is_polyad, Vpt2Result& result) {
   std::vector<int> group_levels;
   for (std::size_t v = 0; v < group.manifolds.size(); ++v) {
-    const auto found = std::find_if(wanted.begin(), wanted.end(),
-                                    [&](const auto& w) { return w.first == group.manifolds[v]; });
-    if (found == wanted.end()) continue;
+    const auto found = wanted_index.find(key_of(group.manifolds[v]));
+    if (found == wanted_index.end()) continue;
+    const LevelKind kind = wanted[static_cast<std::size_t>(found->second)].second;
     const auto& subs = g.sublevels_of_manifold[v];
     for (std::size_t k = 0; k < subs.size(); ++k) {
-      VibrationalLevel level = sublevel_level(c, g, group.manifolds[v], found->second, subs, k);
+      VibrationalLevel level = sublevel_level(c, g, group.manifolds[v], kind, subs, k);
       const auto index = static_cast<std::size_t>(subs[k]);
       if (is_polyad && g.coupled[index]) {
         level.resonance_corrected_cm1 = g.corrected[index];
@@ -778,22 +968,24 @@ std::vector<int> add_group_levels(const Vpt2Context& c, const ResonanceGroup& gr
 
 // The polyad record of a group: its resonances, member levels and their partners (levels
 // that appear in each other's mixing).
-void add_polyad(const Vpt2Context& c, const ResonanceGroup& group, const std::vector<Move>& moves,
+void add_polyad(const ResonanceGroup& group, const std::vector<Move>& moves,
                 const std::vector<int>& group_levels, int state_count, Vpt2Result& result) {
   Polyad polyad;
-  polyad.manifolds = group.manifolds;
+  for (const auto& manifold : group.manifolds) polyad.manifolds.push_back(sparse_quanta(manifold));
   polyad.state_count = state_count;
-  polyad.truncated = group.truncated;
-  for (std::size_t a = 0; a < group.manifolds.size(); ++a)
-    for (std::size_t b = a + 1; b < group.manifolds.size(); ++b)
-      if (const Move* move = connecting_move(moves, group.manifolds[a], group.manifolds[b]))
-        if (std::find(polyad.resonances.begin(), polyad.resonances.end(), move->resonance) ==
-            polyad.resonances.end())
-          polyad.resonances.push_back(move->resonance);
-  std::sort(polyad.resonances.begin(), polyad.resonances.end());
+  polyad.truncated = group.truncated();
+  polyad.reached_quanta_limit = group.beyond_quanta;
+  polyad.cut_at_state_limit = group.beyond_states;
+  for (const GroupCoupling& coupling : group.couplings)
+    polyad.resonances.push_back(moves[static_cast<std::size_t>(coupling.move)].resonance);
+  polyad.resonances.erase(
+      std::unique((std::sort(polyad.resonances.begin(), polyad.resonances.end()), polyad.resonances.begin()),
+                  polyad.resonances.end()),
+      polyad.resonances.end());
   auto weight_of = [&](const VibrationalLevel& in, const VibrationalLevel& of) {
+    const SparseQuanta quanta = sparse_quanta(of.set_quanta);
     for (const auto& component : in.mixing)
-      if (component.set_quanta == of.set_quanta && component.sublevel == of.sublevel) return component.weight;
+      if (component.quanta == quanta && component.sublevel == of.sublevel) return component.weight;
     return 0.0;
   };
   for (int level : group_levels)
@@ -806,34 +998,27 @@ void add_polyad(const Vpt2Context& c, const ResonanceGroup& group, const std::ve
     }
   for (int level : group_levels)
     if (result.levels[static_cast<std::size_t>(level)].in_polyad()) polyad.levels.push_back(level);
-  if (polyad.truncated) {
-    result.status = Vpt2Status::polyad_truncated;
-    result.warnings.push_back(fmt::format(
-        "a resonance polyad reached the limit of {} quanta or {} states; states beyond it were left out",
-        c.options.polyad_max_quanta, c.options.polyad_max_states));
-  }
+  if (polyad.truncated) result.status = Vpt2Status::polyad_truncated;
   result.polyads.push_back(std::move(polyad));
 }
 
 // Line-list order: fundamentals, overtones, combinations, each by set; partner and polyad
 // indices follow the levels.
-void sort_levels(const WantedManifolds& wanted, Vpt2Result& result) {
+void sort_levels(const ManifoldMap<int>& wanted_index, Vpt2Result& result) {
   std::vector<int> order_index(result.levels.size());
   std::iota(order_index.begin(), order_index.end(), 0);
-  auto rank = [&](const VibrationalLevel& level) {
-    const auto it = std::find_if(wanted.begin(), wanted.end(),
-                                 [&](const auto& w) { return w.first == level.set_quanta; });
-    return std::make_pair(static_cast<int>(it - wanted.begin()), level.sublevel);
-  };
+  std::vector<std::pair<int, int>> rank;
+  for (const VibrationalLevel& level : result.levels)
+    rank.emplace_back(wanted_index.at(key_of(level.set_quanta)), level.sublevel);
   std::stable_sort(order_index.begin(), order_index.end(), [&](int a, int b) {
-    return rank(result.levels[static_cast<std::size_t>(a)]) <
-           rank(result.levels[static_cast<std::size_t>(b)]);
+    return rank[static_cast<std::size_t>(a)] < rank[static_cast<std::size_t>(b)];
   });
   std::vector<int> new_position(result.levels.size());
   for (std::size_t k = 0; k < order_index.size(); ++k)
     new_position[static_cast<std::size_t>(order_index[k])] = static_cast<int>(k);
   std::vector<VibrationalLevel> sorted;
-  for (int k : order_index) sorted.push_back(result.levels[static_cast<std::size_t>(k)]);
+  sorted.reserve(result.levels.size());
+  for (int k : order_index) sorted.push_back(std::move(result.levels[static_cast<std::size_t>(k)]));
   for (auto& level : sorted)
     for (int& partner : level.partners) partner = new_position[static_cast<std::size_t>(partner)];
   for (auto& polyad : result.polyads)
@@ -873,9 +1058,31 @@ void degenerate_set_constants(const Vpt2Context& c, Vpt2Result& result) {
 
 // Every resonance group: its Hamiltonian, sublevels, species, corrected states, the line-list
 // levels it holds and, for a polyad, the polyad record.
-void diagonalize_groups(const Vpt2Context& c, const WantedManifolds& wanted, Vpt2Result& result) {
-  const std::vector<Move> moves = flagged_moves(c, result);
-  for (const ResonanceGroup& group : resonance_groups(c, wanted, moves)) {
+// Tells options.progress, when set, how far the stage is.
+class Vpt2Progress {
+ public:
+  explicit Vpt2Progress(const ProgressCallback& callback) : callback_(callback) {}
+  void operator()(int done, int total, const std::string& detail) const {
+    if (!callback_) return;
+    callback_({"VPT2", done, total, detail,
+               std::chrono::duration<double>(std::chrono::steady_clock::now() - start_).count()});
+  }
+
+ private:
+  const ProgressCallback& callback_;
+  std::chrono::steady_clock::time_point start_ = std::chrono::steady_clock::now();
+};
+
+void diagonalize_groups(const Vpt2Context& c, const WantedManifolds& wanted,
+                        const ManifoldMap<int>& wanted_index, const Vpt2Progress& progress,
+                        Vpt2Result& result) {
+  const std::vector<Move> moves = flagged_moves(result);
+  std::size_t beyond_quanta = 0, beyond_states = 0;
+  const std::vector<ResonanceGroup> groups = resonance_groups(c, wanted, moves);
+  const int group_count = static_cast<int>(groups.size());
+  for (int done = 0; done < group_count; ++done) {
+    progress(done, group_count, "levels and resonance polyads");
+    const ResonanceGroup& group = groups[static_cast<std::size_t>(done)];
     if (group.manifolds.empty()) continue;
     GroupStates g;
     group_hamiltonian(c, group, moves, result.x_cm1, g);
@@ -883,9 +1090,66 @@ void diagonalize_groups(const Vpt2Context& c, const WantedManifolds& wanted, Vpt
     sublevel_species(c, g);
     const bool is_polyad = group.manifolds.size() > 1;
     if (is_polyad) resonance_corrected_states(c, g);
-    const std::vector<int> group_levels = add_group_levels(c, group, g, wanted, is_polyad, result);
-    if (is_polyad) add_polyad(c, group, moves, group_levels, static_cast<int>(g.states.size()), result);
+    const std::vector<int> group_levels =
+        add_group_levels(c, group, g, wanted, wanted_index, is_polyad, result);
+    if (!is_polyad) continue;
+    add_polyad(group, moves, group_levels, static_cast<int>(g.states.size()), result);
+    beyond_quanta += group.beyond_quanta ? 1 : 0;
+    beyond_states += group.beyond_states ? 1 : 0;
   }
+  progress(group_count, group_count, "levels and resonance polyads");
+  // One warning per limit, with a count: a molecule with many resonances reaches them often.
+  const std::size_t polyads = result.polyads.size();
+  if (beyond_quanta > 0)
+    result.warnings.push_back(fmt::format(
+        "{} of {} resonance polyads reach the limit of {} quanta: flagged couplings to states with more "
+        "quanta were left out",
+        beyond_quanta, polyads, c.options.polyad_max_quanta));
+  if (beyond_states > 0)
+    result.warnings.push_back(fmt::format(
+        "{} of {} resonance polyads were cut at {} component states (the states farthest from the line-list "
+        "level, by number of flagged couplings, were left out)",
+        beyond_states, polyads, c.options.polyad_max_states));
+}
+
+// Modes (whole sets) below exclude_below_cm1; a warning names the modes beyond
+// perturbation theory and says what excluding them would take.
+std::vector<bool> excluded_modes(const Vpt2Options& options, Vpt2Result& result) {
+  std::vector<bool> excluded(static_cast<std::size_t>(result.harmonic_cm1.size()), false);
+  result.exclude_below_cm1 = options.exclude_below_cm1;
+  result.perturbation_ratio_limit = options.perturbation_ratio_limit;
+  std::size_t kept = 0;
+  double highest_flagged = 0.0;
+  std::size_t flagged = 0;
+  for (PerturbationCheck& check : result.perturbation_checks) {
+    check.excluded = check.harmonic_cm1 < options.exclude_below_cm1;
+    for (int mode : result.sets[static_cast<std::size_t>(check.set)].modes)
+      excluded[static_cast<std::size_t>(mode)] = check.excluded;
+    kept += check.excluded ? 0 : 1;
+    if (check.beyond_perturbation && !check.excluded) {
+      ++flagged;
+      highest_flagged = std::max(highest_flagged, check.harmonic_cm1);
+    }
+  }
+  if (kept == 0)
+    throw Error(
+        fmt::format("vpt2 option exclude_below_cm1 ({} cm-1) excludes every mode (the highest is {:.2f} "
+                    "cm-1)",
+                    options.exclude_below_cm1, result.harmonic_cm1.maxCoeff()));
+  if (flagged > 0)
+    result.warnings.push_back(fmt::format(
+        "{} {} beyond perturbation theory (an anharmonic term at least {} times the harmonic one at the "
+        "turning point of the fundamental); their levels and their couplings to the others are unreliable; "
+        "reduced-dimensional VPT2 without them: --vpt2-exclude-below {:.0f}",
+        flagged, flagged == 1 ? "mode is" : "modes are", options.perturbation_ratio_limit,
+        std::floor(highest_flagged) + 1.0));
+  return excluded;
+}
+
+std::vector<bool> excluded_sets(const Vpt2Result& result) {
+  std::vector<bool> sets;
+  for (const PerturbationCheck& check : result.perturbation_checks) sets.push_back(check.excluded);
+  return sets;
 }
 
 }  // namespace
@@ -908,23 +1172,41 @@ Vpt2Result run_vpt2(const ForceConstantResult& force_constants, const HarmonicRe
   result.point_group = symmetry.point_group();
   result.set_of_mode = symmetry.degenerate_set();
   result.sets = degenerate_sets(symmetry, omega);
-  const Vpt2Context c{force_constants.constants,
+  result.perturbation_checks = detail::perturbation_checks(force_constants.constants, omega, result.sets,
+                                                           options.perturbation_ratio_limit);
+  const std::vector<bool> excluded = excluded_modes(options, result);
+  const ForceConstantTensors reduced = detail::without_modes(force_constants.constants, excluded);
+  const bool reduce = result.exclude_below_cm1 > 0.0;
+  const ForceConstantTensors& constants = reduce ? reduced : force_constants.constants;
+  const Vpt2Context c{constants,
                       symmetry,
                       options,
                       omega,
                       force_constants.symmetry_used && symmetry.has_group(),
                       m,
                       result.sets,
-                      detail::AnharmonicOperator(force_constants.constants, omega),
-                      symmetry.block_operations()};
+                      detail::AnharmonicOperator(constants, omega),
+                      symmetry.block_operations(),
+                      excluded_sets(result)};
 
+  const Vpt2Progress progress(options.progress);
+  progress(0, 0, "anharmonicity constants");
   coriolis_terms(harmonic, c, result);
-  result.x_vibrational_plain_cm1 = detail::anharmonicity_constants(force_constants.constants, omega);
+  for (int i = 0; i < m; ++i)
+    if (excluded[static_cast<std::size_t>(i)]) {
+      result.x_coriolis_cm1.row(i).setZero();
+      result.x_coriolis_cm1.col(i).setZero();
+    }
+  result.x_vibrational_plain_cm1 = detail::anharmonicity_constants(constants, omega);
+  progress(0, 0, "resonance candidates");
   resonance_candidates(c, result);
   deperturbed_constants(c, result);
   const WantedManifolds wanted = line_list_manifolds(c);
-  diagonalize_groups(c, wanted, result);
-  sort_levels(wanted, result);
+  ManifoldMap<int> wanted_index;  // position in the line-list order
+  for (std::size_t k = 0; k < wanted.size(); ++k)
+    wanted_index.emplace(key_of(wanted[k].first), static_cast<int>(k));
+  diagonalize_groups(c, wanted, wanted_index, progress, result);
+  sort_levels(wanted_index, result);
   degenerate_set_constants(c, result);
 
   std::size_t flagged = 0;

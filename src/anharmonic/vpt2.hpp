@@ -49,6 +49,7 @@
 #include <vector>
 
 #include "anharmonic/force_constants.hpp"
+#include "core/progress.hpp"
 #include "harmonic/harmonic.hpp"
 
 namespace overtone {
@@ -73,10 +74,25 @@ struct Vpt2Options {
   bool include_coriolis = true;
   // Polyad closure stops at states with more quanta in total than this.
   int polyad_max_quanta = 4;
-  // ... or when a polyad would hold more component states than this.
+  // A polyad (a connected component of the graph of flagged couplings between manifolds,
+  // explored from a line-list level) holds at most this many component states: a larger
+  // component keeps the whole layers of graph distance from that level that fit, and is
+  // reported as cut. Bounds the dense diagonalization (time ∝ states³, memory ∝ states²).
   int polyad_max_states = 200;
   // Eigenvalues closer than this (cm⁻¹) form one degenerate level.
   double level_degeneracy_tolerance_cm1 = 0.01;
+  // A mode whose anharmonic ratio (PerturbationCheck) reaches this is flagged: at the
+  // turning point of its fundamental an anharmonic term is as large as the harmonic one,
+  // where a perturbation series in those terms means nothing (common practice, no source).
+  double perturbation_ratio_limit = 1.0;
+  // Reduced-dimensional VPT2: modes (whole degenerate sets) below this harmonic wavenumber
+  // (cm⁻¹) are dropped from the force field, i.e. every constant with one of their indices
+  // and their Coriolis terms is removed; the line list, the resonances and x cover the
+  // other modes only (rows and columns of the excluded modes are 0). 0: none excluded.
+  double exclude_below_cm1 = 0.0;
+  // Told as the stage moves on (stage "VPT2": the constants and resonance candidates, then
+  // done of total resonance groups diagonalized).
+  ProgressCallback progress;
 };
 
 // Throws Error naming the first invalid field.
@@ -113,16 +129,25 @@ struct Resonance {
   bool flagged = false;  // treated (deperturbed and diagonalized in a polyad)
 };
 
+// The quanta of a manifold as its nonzero (set, quanta) entries in ascending set order: a
+// polyad holds many manifolds of a few quanta each, whatever the number of modes.
+using SparseQuanta = std::vector<std::pair<int, int>>;
+SparseQuanta sparse_quanta(const std::vector<int>& set_quanta);
+std::vector<int> dense_quanta(const SparseQuanta& quanta, std::size_t set_count);
+
 // Weight of one zeroth-order (deperturbed) level in a resonance-corrected state.
 struct LevelComponent {
-  std::vector<int> set_quanta;  // quanta per set
-  int sublevel = 0;             // which sublevel of that manifold (see VibrationalLevel)
-  int sublevel_count = 1;       // sublevels of that manifold
-  std::string species;          // of that sublevel; "" without a character table
+  SparseQuanta quanta;     // of the manifold
+  int sublevel = 0;        // which sublevel of that manifold (see VibrationalLevel)
+  int sublevel_count = 1;  // sublevels of that manifold
+  std::string species;     // of that sublevel; "" without a character table
   // Distinguishes the sublevel within its manifold: "" when there is only one, else the
   // species, with "#k" appended when that species occurs more than once, or just "k".
   std::string tag;
-  double weight = 0.0;  // squared coefficient, summed over degenerate partners; Σ = 1
+  // Squared coefficient, summed over degenerate partners. Components of weight 1e-6 or
+  // more are listed (a sublevel below that takes no part in the resonance), so the listed
+  // weights sum to 1 within 1e-6 times the polyad's sublevels.
+  double weight = 0.0;
 };
 
 struct VibrationalLevel {
@@ -147,11 +172,29 @@ struct VibrationalLevel {
 };
 
 struct Polyad {
-  std::vector<std::vector<int>> manifolds;  // set quanta of the zeroth-order levels coupled
-  std::vector<int> levels;                  // line-list levels it contains
-  std::vector<int> resonances;              // indices into Vpt2Result::resonances
-  int state_count = 0;                      // component states diagonalized
-  bool truncated = false;                   // closure stopped by a limit
+  std::vector<SparseQuanta> manifolds;  // the zeroth-order levels coupled
+  std::vector<int> levels;              // line-list levels it contains
+  std::vector<int> resonances;          // indices into Vpt2Result::resonances
+  int state_count = 0;                  // component states diagonalized
+  bool truncated = false;               // closure stopped by a limit (one of the two below)
+  bool reached_quanta_limit = false;    // a flagged coupling leads beyond polyad_max_quanta
+  bool cut_at_state_limit = false;      // the component was cut at polyad_max_states
+};
+
+// How far the force field along one degenerate set is from harmonic where its fundamental
+// lives. In dimensionless normal coordinates each anharmonic term is compared with the
+// harmonic term ½ω_i q_i² at the classical turning point of v_i = 1 (q_i² = 3), the other
+// coordinate of the term at its v = 0 turning point (q_j² = 1):
+//   φ_iii q_i³/6 → √3|φ_iii|/(3ω_i),   ½φ_iij q_i² q_j → |φ_iij|/ω_i,
+//   φ_iiii q_i⁴/24 → |φ_iiii|/(4ω_i),  ¼φ_iijj q_i² q_j² → |φ_iijj|/(2ω_i).
+// The anharmonic ratio is the largest of these (over the modes of the set).
+struct PerturbationCheck {
+  int set = 0;
+  double harmonic_cm1 = 0.0;
+  double anharmonic_ratio = 0.0;
+  std::vector<int> largest_term;     // modes (harmonic indices) of the term that gives the ratio
+  bool beyond_perturbation = false;  // ratio ≥ Vpt2Options::perturbation_ratio_limit
+  bool excluded = false;             // below Vpt2Options::exclude_below_cm1: not treated
 };
 
 // x_tt and g_tt of a doubly degenerate set (G = ω(v+1) + x_tt(v+1)² + g_tt l² + …).
@@ -182,6 +225,11 @@ struct Vpt2Result {
       Eigen::Vector3d::Zero();                 // B_α, ascending moment; 0 = skipped axis
   std::vector<Eigen::MatrixXd> coriolis_zeta;  // ζ^α (M × M), α over the principal axes
 
+  // One per set, from the full force field (also when modes are excluded).
+  std::vector<PerturbationCheck> perturbation_checks;
+  double perturbation_ratio_limit = 1.0;  // as asked (Vpt2Options)
+  double exclude_below_cm1 = 0.0;         // as asked (Vpt2Options); 0: nothing excluded
+
   std::vector<Resonance> resonances;  // all candidates within the gap thresholds
   std::vector<Polyad> polyads;
   std::vector<VibrationalLevel> levels;  // fundamentals, overtones, binary combinations
@@ -190,12 +238,21 @@ struct Vpt2Result {
 };
 
 // VPT2 on the force constants (which carry the mode symmetry) at the harmonic result they
-// were computed from. Throws Error for invalid options, a force-constant result that is not
-// ok, or sizes that disagree.
+// were computed from. Throws Error for invalid options (also an exclude_below_cm1 that
+// leaves no mode), a force-constant result that is not ok, or sizes that disagree.
 Vpt2Result run_vpt2(const ForceConstantResult& force_constants, const HarmonicResult& harmonic,
                     const Vpt2Options& options = {});
 
 namespace detail {
+
+// The anharmonic ratio of every set (PerturbationCheck), flagged against ratio_limit.
+std::vector<PerturbationCheck> perturbation_checks(const ForceConstantTensors& constants,
+                                                   const Eigen::VectorXd& omega,
+                                                   const std::vector<DegenerateSet>& sets,
+                                                   double ratio_limit);
+
+// The constants without any that has an index among the excluded modes.
+ForceConstantTensors without_modes(const ForceConstantTensors& constants, const std::vector<bool>& excluded);
 
 // Vibrational anharmonicity constants x (component form) from ω and φ; resonant(a, b, c)
 // says whether the denominator ω_a + ω_b − ω_c is to be dropped (a deperturbed term); an

@@ -12,20 +12,25 @@
 #include <cmath>
 #include <filesystem>
 #include <fstream>
+#include <functional>
 #include <iostream>
 #include <memory>
 #include <optional>
 #include <string>
 #include <vector>
 
+#include "cli/intensity_hook.hpp"
+#include "cli/spectrum_assign.hpp"
 #include "core/error.hpp"
 #include "core/text.hpp"
+#include "intensity/taylor_dipole.hpp"
 #include "pipeline/analysis.hpp"
 #include "pipeline/molecule_input.hpp"
 #include "potential/make_potential.hpp"
 #include "report/anharmonic_report.hpp"
 #include "report/document.hpp"
 #include "report/output_folder.hpp"
+#include "report/progress_text.hpp"
 #include "report/symmetry_report.hpp"
 #include "screen/progress_text.hpp"
 #include "screen/screen.hpp"
@@ -41,8 +46,71 @@ constexpr int user_error_status = 1;
 constexpr int internal_error_status = 2;
 constexpr const char* smiles_prefix = "smiles:";
 
+// On a terminal the status line is redrawn this often at most (s); on a pipe (--progress)
+// a line is written this often at most, and whenever a stage starts or ends.
+constexpr double status_redraw_interval_s = 0.1;
+constexpr double status_line_interval_s = 2.0;
+
+// Progress of the long stages on stderr: a status line redrawn in place when stderr is a
+// terminal, plain lines on a pipe only when --progress asks, nothing otherwise. The
+// library reports through the ProgressCallback fields of the stages' options.
+class StageProgressDisplay {
+ public:
+  void enable(bool forced) {
+    terminal_ = isatty(STDERR_FILENO) != 0;
+    enabled_ = forced || terminal_;
+  }
+  ProgressCallback callback() {
+    if (!enabled_) return {};
+    return [this](const ProgressEvent& event) { show(event); };
+  }
+  // Removes the status line, before other text goes to the terminal.
+  void clear() {
+    if (terminal_ && drawn_) std::cerr << "\r\033[K" << std::flush;
+    drawn_ = false;
+  }
+
+ private:
+  void show(const ProgressEvent& event) {
+    const auto now = std::chrono::steady_clock::now();
+    const bool new_stage = event.stage != stage_;
+    const bool finished = event.total > 0 && event.done >= event.total;
+    const double interval = terminal_ ? status_redraw_interval_s : status_line_interval_s;
+    if (!new_stage && !finished && std::chrono::duration<double>(now - last_).count() < interval) return;
+    const std::string line =
+        "overtone: " + stage_progress_line(event, std::chrono::duration<double>(now - start_).count());
+    if (terminal_) {
+      std::cerr << "\r" << printable_text(line) << "\033[K" << std::flush;
+      drawn_ = true;
+    } else {
+      std::cerr << printable_text(line) << "\n" << std::flush;
+    }
+    stage_ = event.stage;
+    last_ = now;
+  }
+
+  bool enabled_ = false;
+  bool terminal_ = false;
+  bool drawn_ = false;
+  std::string stage_;
+  std::chrono::steady_clock::time_point start_ = std::chrono::steady_clock::now();
+  std::chrono::steady_clock::time_point last_ = start_;
+};
+
+StageProgressDisplay& progress_display() {
+  static StageProgressDisplay display;
+  return display;
+}
+
 void warn(const std::string& message) {
+  progress_display().clear();
   std::cerr << "overtone: warning: " << printable_text(message) << "\n";
+}
+
+// Standard output gets the report only after the status line is gone.
+std::ostream& report_out() {
+  progress_display().clear();
+  return std::cout;
 }
 
 struct MoleculeArguments {
@@ -53,6 +121,8 @@ struct MoleculeArguments {
   double symmetry_tolerance_angstrom = SymmetryOptions{}.tolerance_angstrom;
   bool refuse_incomplete = false;
   bool conformer_search = false;
+  bool progress = false;          // progress lines on stderr also when it is not a terminal
+  std::string electric_response;  // atomic polar tensors for intensities (docs/intensities.md)
 };
 
 void add_molecule_arguments(CLI::App& command, MoleculeArguments& arguments) {
@@ -76,9 +146,14 @@ void add_molecule_arguments(CLI::App& command, MoleculeArguments& arguments) {
   command.add_flag("--refuse-incomplete", arguments.refuse_incomplete,
                    "refuse a 2-D drawing or a structure with implicit hydrogens instead of adding the "
                    "hydrogens and building 3-D coordinates");
+  command.add_option("--electric-response", arguments.electric_response,
+                     "atomic polar tensors (and polarizability derivatives) for intensities, a file of "
+                     "docs/intensities.md; default: the force field's partial charges");
   command.add_flag("--conformer-search", arguments.conformer_search,
                    "analyse the lowest conformer found by a quick search (general force fields) instead of "
                    "the minimum the input structure relaxes to");
+  command.add_flag("--progress", arguments.progress,
+                   "show the progress of long stages on stderr also when it is not a terminal");
 }
 
 LoadedMolecule load_input(const MoleculeArguments& arguments) {
@@ -106,15 +181,15 @@ std::unique_ptr<Potential> potential_for(const MoleculeArguments& arguments, con
 
 // A single output file, written beside its target first and renamed into place, so that
 // a failed or interrupted run never leaves a truncated file under the name.
-void write_text(const std::string& path, const std::string& text) {
+void write_output(const std::string& path, const std::function<void(std::ostream&)>& write) {
   if (path == "-") {
-    std::cout << text;
+    write(report_out());
     return;
   }
   std::error_code ec;
   if (std::filesystem::exists(path, ec) && !std::filesystem::is_regular_file(path, ec)) {
     std::ofstream out(path, std::ios::binary);  // a device or pipe, e.g. /dev/stdout
-    out << text;
+    write(out);
     if (!out) throw Error("writing '" + path + "' failed");
     return;
   }
@@ -122,7 +197,7 @@ void write_text(const std::string& path, const std::string& text) {
   {
     std::ofstream out(incomplete, std::ios::binary);
     if (!out) throw Error("cannot open '" + path + "' for writing");
-    out << text;
+    write(out);
     out.close();
     if (!out) throw Error("writing '" + path + "' failed");
   }
@@ -133,19 +208,39 @@ void write_text(const std::string& path, const std::string& text) {
   }
 }
 
+void write_text(const std::string& path, const std::string& text) {
+  write_output(path, [&](std::ostream& out) { out << text; });
+}
+
 // The molecule, its potential (which later stages evaluate again) and the analysis.
 struct AnalysedMolecule {
   std::unique_ptr<Potential> potential;
+  std::string potential_choice;  // what was named (force field or file)
   AnalysisResult analysis;
 };
 
+// Intensities of a run into the results (or the reason there are none).
+void add_intensities(const MoleculeArguments& arguments, const AnalysedMolecule& analysed,
+                     const AnharmonicResult* anharmonic, cli::IntensityOutcome& outcome,
+                     RunResults& results) {
+  outcome = cli::run_intensities(analysed.analysis, anharmonic, *analysed.potential,
+                                 analysed.potential_choice, arguments.electric_response);
+  if (!outcome.skipped.empty()) warn("intensities skipped: " + outcome.skipped);
+  results.intensities = outcome.results ? &*outcome.results : nullptr;
+  results.intensities_skipped = outcome.skipped;
+}
+
 AnalysedMolecule run_analysis(const MoleculeArguments& arguments) {
+  progress_display().enable(arguments.progress);
   const LoadedMolecule input = load_input(arguments);
   AnalysedMolecule result;
   result.potential = potential_for(arguments, input);
+  result.potential_choice =
+      arguments.potential.empty() && input.is_taylor_expansion ? arguments.molecule : arguments.potential;
   AnalysisOptions options;
   options.symmetry.tolerance_angstrom = arguments.symmetry_tolerance_angstrom;
   if (arguments.conformer_search) options.conformers = ConformerSearch::analyse_best;
+  options.progress = progress_display().callback();
   result.analysis = analyze_molecule(input.molecule, *result.potential, options);
   return result;
 }
@@ -154,15 +249,18 @@ AnalysedMolecule run_analysis(const MoleculeArguments& arguments) {
 // Returns whether the text report is still to be printed.
 bool write_document(const std::string& json_path, const RunResults& results) {
   if (json_path.empty()) return true;
-  write_text(json_path, json_text(analysis_document(results)));
+  const nlohmann::json document = analysis_document(results);
+  write_output(json_path, [&](std::ostream& out) { write_json(out, document); });
   return json_path != "-";
 }
 
 int run_modes(const MoleculeArguments& arguments, const std::string& json_path) {
-  const AnalysisResult analysis = run_analysis(arguments).analysis;
+  const AnalysedMolecule analysed = run_analysis(arguments);
   RunResults results;
-  results.analysis = &analysis;
-  if (json_path != "-") std::cout << text_report(results);
+  results.analysis = &analysed.analysis;
+  cli::IntensityOutcome intensities;
+  add_intensities(arguments, analysed, nullptr, intensities, results);
+  if (json_path != "-") report_out() << text_report(results);
   write_document(json_path, results);
   return 0;
 }
@@ -176,7 +274,8 @@ constexpr double max_family_energy_cm1 = 100000.0;
 constexpr double default_family_quanta = 3.0;  // the first overtones a spectrum usually shows
 
 struct FamilyArguments {
-  std::vector<int> fundamentals;  // ν numbers; empty: all
+  std::vector<int> fundamentals;  // ν numbers; empty: the default selection
+  bool all_modes = false;         // every family, also above the default selection's size
   double energy_max_cm1 = 0.0;
   double quanta = default_family_quanta;
   const CLI::Option* energy_option = nullptr;  // tells whether the value was given
@@ -189,6 +288,13 @@ void add_family_arguments(CLI::App& command, FamilyArguments& arguments) {
   command.add_option(
       "--mode", arguments.fundamentals,
       "continue only the families of fundamental νN (the ν column of the modes table); repeatable");
+  const FamiliesOptions defaults;
+  command
+      .add_flag("--all-modes", arguments.all_modes,
+                fmt::format("continue the families of every mode (above {} modes the default continues only "
+                            "the modes of flagged resonances and those at or above {:.0f} cm-1)",
+                            defaults.all_modes_up_to, defaults.selection_min_cm1))
+      ->excludes("--mode");
   auto* energy = command.add_option("--energy-max", arguments.energy_max_cm1,
                                     "continue every family up to this energy above the minimum (cm-1), "
                                     "0 < E <= 100000");
@@ -222,29 +328,96 @@ FamiliesOptions families_options(const AnalysisResult& analysis, const FamilyArg
   else
     options.quanta = arguments.quanta;
   options.mode_numbers = mode_numbers_of_fundamentals(analysis, arguments.fundamentals);
+  options.all_modes = arguments.all_modes;
   // One frequency window for the families' resonance threats and the perturbative Fermi
   // candidates, so that the two lists can be compared pair by pair.
   options.enumeration.resonance_window_cm1 = Vpt2Options{}.fermi_gap_cm1;
+  options.progress = progress_display().callback();
   return options;
 }
 
-int run_anharmonic(const MoleculeArguments& arguments, const std::string& json_path,
-                   const std::string& lines_path, const std::string& taylor_path) {
+AnharmonicOptions anharmonic_options(double exclude_below_cm1) {
+  AnharmonicOptions options;
+  options.progress = progress_display().callback();
+  options.vpt2.exclude_below_cm1 = exclude_below_cm1;
+  return options;
+}
+
+// Checked before any work starts, as the families' limits are.
+void check_exclusion(double exclude_below_cm1) {
+  if (!(std::isfinite(exclude_below_cm1) && exclude_below_cm1 >= 0.0))
+    throw Error(
+        fmt::format("--vpt2-exclude-below must be a wavenumber >= 0 in cm-1, got {}", exclude_below_cm1));
+}
+
+void add_exclusion_option(CLI::App& command, double& exclude_below_cm1) {
+  command.add_option("--vpt2-exclude-below", exclude_below_cm1,
+                     "reduced-dimensional VPT2: drop the modes below W cm-1 (and every force constant that "
+                     "involves them) from the perturbative treatment");
+}
+
+// Where the console summary says the full lists are, from the files this run writes.
+std::string full_lists_note(const std::vector<std::pair<std::string, std::string>>& written) {
+  std::string note;
+  for (const auto& [path, what] : written) {
+    if (path.empty() || path == "-") continue;
+    note += (note.empty() ? "" : ", ") + printable_text(path) + " (" + what + ")";
+  }
+  return note.empty() ? std::string("add --full-report PATH (full text), --lines PATH or --json PATH") : note;
+}
+
+void write_full_report(const std::string& path, const RunResults& results) {
+  if (path.empty()) return;
+  TextReportOptions full;
+  full.detail = ReportDetail::full;
+  write_text(path, text_report(results, full));
+}
+
+struct AnharmonicPaths {
+  std::string json;
+  std::string lines;
+  std::string taylor;
+  std::string full_report;
+  double exclude_below_cm1 = 0.0;
+};
+
+int run_anharmonic(const MoleculeArguments& arguments, const AnharmonicPaths& paths) {
+  const std::string& json_path = paths.json;
+  check_exclusion(paths.exclude_below_cm1);
   const AnalysedMolecule analysed = run_analysis(arguments);
-  const AnharmonicResult anharmonic = analyze_anharmonic(analysed.analysis, *analysed.potential);
+  const AnharmonicResult anharmonic =
+      analyze_anharmonic(analysed.analysis, *analysed.potential, anharmonic_options(paths.exclude_below_cm1));
   RunResults results;
   results.analysis = &analysed.analysis;
   results.anharmonic = &anharmonic;
-  if (!lines_path.empty())
-    write_text(lines_path, line_list_csv(anharmonic.vpt2, AnharmonicReportOptions{anharmonic.set_numbers}));
-  if (!taylor_path.empty()) write_text(taylor_path, taylor_expansion_text(analysed.analysis, anharmonic));
-  if (json_path != "-") std::cout << text_report(results);
+  cli::IntensityOutcome intensities;
+  add_intensities(arguments, analysed, &anharmonic, intensities, results);
+  if (!paths.lines.empty()) {
+    AnharmonicReportOptions line_options;
+    line_options.set_numbers = anharmonic.set_numbers;
+    if (intensities.results && intensities.results->levels)
+      line_options.intensities = &*intensities.results->levels;
+    write_text(paths.lines, line_list_csv(anharmonic.vpt2, line_options));
+  }
+  if (!paths.taylor.empty()) {
+    std::string text = taylor_expansion_text(analysed.analysis, anharmonic);
+    const auto source = dipole_source_for(*analysed.potential, analysed.potential_choice,
+                                          analysed.analysis.molecule, arguments.electric_response);
+    if (source) text += dipole_surface_text(anharmonic.harmonic, *source);
+    write_text(paths.taylor, text);
+  }
+  write_full_report(paths.full_report, results);
+  TextReportOptions summary;
+  summary.full_lists_note = full_lists_note(
+      {{paths.full_report, "full text"}, {paths.lines, "line list"}, {json_path, "JSON document"}});
+  if (json_path != "-") report_out() << text_report(results, summary);
   write_document(json_path, results);
   return 0;
 }
 
 int run_families(const MoleculeArguments& arguments, const FamilyArguments& family_arguments,
-                 const std::string& json_path, const std::string& csv_folder) {
+                 const std::string& json_path, const std::string& csv_folder,
+                 const std::string& full_report) {
   check_family_arguments(family_arguments);
   const AnalysedMolecule analysed = run_analysis(arguments);
   const AnalysisResult& analysis = analysed.analysis;
@@ -253,7 +426,8 @@ int run_families(const MoleculeArguments& arguments, const FamilyArguments& fami
   RunResults results;
   results.analysis = &analysis;
   results.families = &families;
-  if (json_path != "-") std::cout << text_report(results);
+  write_full_report(full_report, results);
+  if (json_path != "-") report_out() << text_report(results);
   write_document(json_path, results);
   if (!csv_folder.empty()) {
     const OutputFolderResult written =
@@ -267,16 +441,18 @@ int run_families(const MoleculeArguments& arguments, const FamilyArguments& fami
 struct AnalyzeSwitches {
   bool skip_anharmonic = false;
   bool skip_families = false;
+  double exclude_below_cm1 = 0.0;
 };
 
 int run_analyze(const MoleculeArguments& arguments, const FamilyArguments& family_arguments,
                 const AnalyzeSwitches& switches, const std::string& out_directory) {
   check_family_arguments(family_arguments);
+  check_exclusion(switches.exclude_below_cm1);
   const AnalysedMolecule analysed = run_analysis(arguments);
   const AnalysisResult& analysis = analysed.analysis;
   const Potential& potential = *analysed.potential;
   // A bad --mode is the user's mistake, not a stage that cannot run: refuse it now.
-  const FamiliesOptions options = families_options(analysis, family_arguments);
+  FamiliesOptions options = families_options(analysis, family_arguments);
 
   // A later stage that cannot run (a saddle point, say) does not discard the harmonic
   // results: the reason is printed and stored in the JSON document.
@@ -285,8 +461,10 @@ int run_analyze(const MoleculeArguments& arguments, const FamilyArguments& famil
   std::optional<AnharmonicResult> anharmonic;
   if (!switches.skip_anharmonic) {
     try {
-      anharmonic = analyze_anharmonic(analysis, potential);
+      anharmonic = analyze_anharmonic(analysis, potential, anharmonic_options(switches.exclude_below_cm1));
       results.anharmonic = &*anharmonic;
+      // The default selection for large molecules keeps the families of flagged resonances.
+      options.resonance_mode_numbers = flagged_resonance_mode_numbers(analysis, *anharmonic);
     } catch (const Error& error) {
       warn(std::string("anharmonic stage skipped: ") + error.what());
       results.anharmonic_skipped = error.what();
@@ -303,9 +481,14 @@ int run_analyze(const MoleculeArguments& arguments, const FamilyArguments& famil
     }
   }
 
+  cli::IntensityOutcome intensities;
+  add_intensities(arguments, analysed, results.anharmonic, intensities, results);
   const OutputFolderResult written = write_output_folder(out_directory, analysis_files(results));
-  std::cout << text_report(results);
-  std::cout << "\nwrote " << written.written.size() << " files (analysis.json, modes.csv"
+  TextReportOptions summary;
+  summary.full_lists_note =
+      "report.txt (full text), analysis.json and lines.csv in " + printable_text(out_directory);
+  report_out() << text_report(results, summary);
+  std::cout << "\nwrote " << written.written.size() << " files (analysis.json, report.txt, modes.csv"
             << (anharmonic ? ", lines.csv" : "") << (families ? ", families/*.csv" : "") << ") to "
             << out_directory << "\n";
   return 0;
@@ -572,6 +755,39 @@ std::string usage_error_line(const CLI::ParseError& error) {
   return "overtone: error: " + printable_text(message) + " (see overtone --help)";
 }
 
+// `screen-report` and its options.
+CLI::App* add_screen_report_command(CLI::App& app, ScreenReportArguments& report_arguments) {
+  CLI::App* screen_report_command = app.add_subcommand(
+      "screen-report", "per molecule, the flagged resonances of a store in a window, and the failures");
+  screen_report_command->add_option("STORE", report_arguments.store, "the SQLite store of a screen")
+      ->required();
+  screen_report_command->add_option("--window", report_arguments.window,
+                                    "A:B: only resonances whose upper level lies between A and B cm-1");
+  screen_report_command->add_option(
+      "--min-criterion", report_arguments.min_criterion,
+      "list every candidate whose criterion value reaches C (cm-1), flagged or not");
+  screen_report_command->add_option("--csv", report_arguments.csv_path,
+                                    "write the listed resonances (or with --table, the table) as CSV to PATH "
+                                    "('-' for standard output)");
+  screen_report_command->add_option("--run", report_arguments.run_id,
+                                    "only this run of the store (its run_id)");
+  screen_report_command->add_option("--table", report_arguments.table,
+                                    "export this table as CSV instead: runs, molecules, results, modes, "
+                                    "resonances, levels, families, failures");
+  return screen_report_command;
+}
+
+// CLI11 calls an unknown command word "a subcommand is required"; say what it was.
+bool unknown_command(CLI::App& app, int argc, char** argv) {
+  if (argc <= 1 || argv[1][0] == '-') return false;
+  for (const CLI::App* command : app.get_subcommands([](CLI::App*) { return true; }))
+    if (command->check_name(argv[1])) return false;
+  std::cerr << "overtone: error: unknown command '" << printable_text(argv[1])
+            << "' (commands: modes, analyze, anharmonic, families, symmetry, screen, screen-report, "
+               "merge-stores, spectrum, assign; see overtone --help)\n";
+  return true;
+}
+
 }  // namespace
 
 int main(int argc, char** argv) {
@@ -601,19 +817,22 @@ int main(int argc, char** argv) {
       ->capture_default_str();
   analyze->add_flag("--no-anharmonic", analyze_switches.skip_anharmonic, "leave out the anharmonic stage");
   analyze->add_flag("--no-families", analyze_switches.skip_families, "leave out the families stage");
+  add_exclusion_option(*analyze, analyze_switches.exclude_below_cm1);
 
   MoleculeArguments anharmonic_arguments;
-  std::string anharmonic_json_path;
-  std::string lines_path;
+  AnharmonicPaths anharmonic_paths;
   CLI::App* anharmonic = app.add_subcommand(
       "anharmonic", "cubic and quartic force constants, VPT2 levels, resonances and the line list");
   add_molecule_arguments(*anharmonic, anharmonic_arguments);
-  anharmonic->add_option("--json", anharmonic_json_path,
+  anharmonic->add_option("--json", anharmonic_paths.json,
                          "write the JSON document to PATH ('-' for standard output)");
-  anharmonic->add_option("--lines", lines_path, "write the line list (CSV) to PATH");
-  std::string taylor_path;
+  anharmonic->add_option("--lines", anharmonic_paths.lines, "write the line list (CSV) to PATH");
   anharmonic->add_option(
-      "--export-taylor", taylor_path,
+      "--full-report", anharmonic_paths.full_report,
+      "write the full text report (x matrices, every resonance candidate and level) to PATH");
+  add_exclusion_option(*anharmonic, anharmonic_paths.exclude_below_cm1);
+  anharmonic->add_option(
+      "--export-taylor", anharmonic_paths.taylor,
       "write the quartic force field as a Taylor-expansion potential file (normal coordinates)");
 
   MoleculeArguments families_arguments;
@@ -626,6 +845,9 @@ int main(int argc, char** argv) {
   add_family_arguments(*families, family_arguments);
   families->add_option("--json", families_json_path,
                        "write the JSON document to PATH ('-' for standard output)");
+  std::string families_full_report;
+  families->add_option("--full-report", families_full_report,
+                       "write the full text report (one section per family) to PATH");
   families->add_option("--csv", csv_folder,
                        "write one CSV of backbone points per family into this folder (replaced as a whole)");
 
@@ -643,23 +865,7 @@ int main(int argc, char** argv) {
   add_screen_arguments(*screen, screen_arguments);
 
   ScreenReportArguments report_arguments;
-  CLI::App* screen_report_command = app.add_subcommand(
-      "screen-report", "per molecule, the flagged resonances of a store in a window, and the failures");
-  screen_report_command->add_option("STORE", report_arguments.store, "the SQLite store of a screen")
-      ->required();
-  screen_report_command->add_option("--window", report_arguments.window,
-                                    "A:B: only resonances whose upper level lies between A and B cm-1");
-  screen_report_command->add_option(
-      "--min-criterion", report_arguments.min_criterion,
-      "list every candidate whose criterion value reaches C (cm-1), flagged or not");
-  screen_report_command->add_option("--csv", report_arguments.csv_path,
-                                    "write the listed resonances (or with --table, the table) as CSV to PATH "
-                                    "('-' for standard output)");
-  screen_report_command->add_option("--run", report_arguments.run_id,
-                                    "only this run of the store (its run_id)");
-  screen_report_command->add_option("--table", report_arguments.table,
-                                    "export this table as CSV instead: runs, molecules, results, modes, "
-                                    "resonances, levels, families, failures");
+  CLI::App* screen_report_command = add_screen_report_command(app, report_arguments);
 
   std::string merge_output;
   std::vector<std::string> merge_inputs;
@@ -669,20 +875,12 @@ int main(int argc, char** argv) {
   merge->add_option("OUT", merge_output, "the store to merge into (created when missing)")->required();
   merge->add_option("IN", merge_inputs, "stores to merge")->required();
 
-  // CLI11 calls an unknown command word "a subcommand is required"; say what it was.
-  const auto is_command = [&](const std::string& word) {
-    for (const CLI::App* command :
-         {modes, analyze, anharmonic, families, symmetry, screen, screen_report_command, merge})
-      if (command->check_name(word)) return true;
-    return false;
-  };
-  if (argc > 1 && argv[1][0] != '-' && !is_command(argv[1])) {
-    std::cerr << "overtone: error: unknown command '" << printable_text(argv[1])
-              << "' (commands: modes, analyze, anharmonic, families, symmetry, screen, screen-report, "
-                 "merge-stores; see "
-                 "overtone --help)\n";
-    return user_error_status;
-  }
+  cli::SpectrumArguments spectrum_arguments;
+  CLI::App* spectrum = cli::add_spectrum_command(app, spectrum_arguments);
+  cli::AssignArguments assign_arguments;
+  CLI::App* assign = cli::add_assign_command(app, assign_arguments);
+
+  if (unknown_command(app, argc, argv)) return user_error_status;
   try {
     app.parse(argc, argv);
   } catch (const CLI::Success& success) {
@@ -696,17 +894,22 @@ int main(int argc, char** argv) {
     if (*modes) return run_modes(modes_arguments, json_path);
     if (*analyze)
       return run_analyze(analyze_arguments, analyze_family_arguments, analyze_switches, out_directory);
-    if (*anharmonic)
-      return run_anharmonic(anharmonic_arguments, anharmonic_json_path, lines_path, taylor_path);
-    if (*families) return run_families(families_arguments, family_arguments, families_json_path, csv_folder);
+    if (*anharmonic) return run_anharmonic(anharmonic_arguments, anharmonic_paths);
+    if (*families)
+      return run_families(families_arguments, family_arguments, families_json_path, csv_folder,
+                          families_full_report);
     if (*symmetry) return run_symmetry(symmetry_arguments, with_modes);
     if (*screen) return run_screen_command(screen_arguments);
     if (*screen_report_command) return run_screen_report(report_arguments);
     if (*merge) return run_merge_stores(merge_output, merge_inputs);
+    if (*spectrum) return cli::run_spectrum(spectrum_arguments);
+    if (*assign) return cli::run_assign(assign_arguments);
   } catch (const overtone::Error& error) {
+    progress_display().clear();
     std::cerr << "overtone: error: " << printable_text(error.what()) << "\n";
     return user_error_status;
   } catch (const std::exception& error) {
+    progress_display().clear();
     std::cerr << "overtone: internal error: " << printable_text(error.what()) << "\n";
     return internal_error_status;
   }

@@ -26,6 +26,8 @@ inline constexpr double atomic_mass_constant_kg = 1.66053906660e-27;  // dalton 
 inline constexpr double hartree_j = 4.3597447222071e-18;
 inline constexpr double bohr_m = 0.529177210903e-10;
 inline constexpr double joule_per_thermochemical_calorie = 4.184;  // exact by definition
+inline constexpr double elementary_charge_c = 1.602176634e-19;     // exact
+inline constexpr double vacuum_electric_permittivity_f_per_m = 8.8541878128e-12;
 
 inline constexpr double hbar_j_s = planck_j_s / (2.0 * pi);
 inline constexpr double angstrom_m = 1e-10;
@@ -67,6 +69,24 @@ inline double eigenvalue_from_wavenumber_cm1(double wavenumber_cm1) {
 
 // Force constant in kcal/mol/Å² to mdyn/Å (= aJ/Å²), the unit of the trade.
 inline constexpr double mdyn_per_angstrom_per_kcal_mol_per_angstrom2 = 1.0 / kcal_mol_per_attojoule;
+
+// Dipole units: the debye is 1e-21/c C·m by definition (10⁻¹⁸ statC·cm); e·Å in debye.
+inline constexpr double debye_c_m = 1e-21 / speed_of_light_m_per_s;
+inline constexpr double debye_per_e_angstrom = elementary_charge_c * angstrom_m / debye_c_m;  // ≈ 4.8032
+// An atomic unit of dipole derivative (e·a₀ per a₀) is one elementary charge.
+
+// Integrated IR band intensity of a fundamental in the double-harmonic approximation:
+//   A = N_A π / (3 c²) · (∂μ/∂Q)² / (4π ε₀)   (SI; Q mass-weighted, μ in C·m),
+// here per (∂μ/∂Q)² in e²/Da (μ in e·Å, Q in Å·Da^{1/2}), in km/mol (≈ 974.86).
+inline constexpr double km_per_mol_per_e2_per_da =
+    avogadro_per_mol * pi * elementary_charge_c * elementary_charge_c /
+    (3.0 * speed_of_light_m_per_s * speed_of_light_m_per_s * 4.0 * pi * vacuum_electric_permittivity_f_per_m *
+     atomic_mass_constant_kg) /
+    1000.0;
+
+// Second radiation constant c₂ = hc/k_B in cm·K, for Boltzmann factors exp(−c₂ ν̃ / T).
+inline constexpr double second_radiation_constant_cm_k =
+    planck_j_s * speed_of_light_m_per_s / (boltzmann_j_per_k * centimetre_m);
 
 // ħ in internal units (kcal/mol · internal time), for actions J = (n + ½)ħ.
 inline const double hbar_internal = hbar_j_s / (joule_per_kcal_mol * internal_time_unit_s);

@@ -1,11 +1,17 @@
 #include "families/families.hpp"
 
 #include <fmt/format.h>
+#include <omp.h>
 
 #include <algorithm>
+#include <atomic>
 #include <chrono>
 #include <cmath>
+#include <exception>
+#include <mutex>
 #include <numeric>
+#include <set>
+#include <thread>
 
 #include "core/error.hpp"
 
@@ -27,6 +33,16 @@ void FamiliesOptions::validate() const {
   if (encounter_max_ratio < 1)
     throw Error(
         fmt::format("families option encounter_max_ratio = {} must be at least 1", encounter_max_ratio));
+  if (threads < 0) throw Error(fmt::format("families option threads = {} must be non-negative", threads));
+  if (all_modes && !mode_numbers.empty())
+    throw Error(
+        fmt::format("families options ask for all modes and for {} mode number(s); expected one of the two",
+                    mode_numbers.size()));
+  if (all_modes_up_to < 0)
+    throw Error(fmt::format("families option all_modes_up_to = {} must be non-negative", all_modes_up_to));
+  if (!std::isfinite(selection_min_cm1) || selection_min_cm1 < 0.0)
+    throw Error(fmt::format("families option selection_min_cm1 = {} must be a non-negative wavenumber",
+                            selection_min_cm1));
   if (!(enumeration.resonance_window_cm1 >= 0.0))
     throw Error(fmt::format("families option enumeration.resonance_window_cm1 = {} must be non-negative",
                             enumeration.resonance_window_cm1));
@@ -127,6 +143,171 @@ void add_resonance_encounters(FamiliesResult& result, int max_ratio) {
 
 }  // namespace
 
+namespace {
+
+bool block_has_mode(const ModeBlock& block, const std::vector<int>& numbers) {
+  return std::any_of(block.mode_numbers.begin(), block.mode_numbers.end(), [&](int number) {
+    return std::find(numbers.begin(), numbers.end(), number) != numbers.end();
+  });
+}
+
+void require_known_modes(const std::vector<ModeBlock>& blocks, const std::vector<int>& numbers) {
+  for (const int number : numbers) {
+    const bool known = std::any_of(blocks.begin(), blocks.end(),
+                                   [&](const ModeBlock& block) { return block_has_mode(block, {number}); });
+    if (!known) throw Error(fmt::format("mode number {} is not among the system's modes", number));
+  }
+}
+
+// Which blocks get their families continued (FamiliesOptions: mode_numbers, all_modes and
+// the default selection); records what the default selection left out.
+std::vector<bool> select_blocks(const FamiliesOptions& options, int dimension, FamiliesResult& result) {
+  const std::vector<ModeBlock>& blocks = result.blocks;
+  std::vector<bool> selected(blocks.size(), options.continue_families);
+  if (!options.continue_families || options.all_modes) return selected;
+  if (!options.mode_numbers.empty()) {
+    for (std::size_t b = 0; b < blocks.size(); ++b)
+      selected[b] = block_has_mode(blocks[b], options.mode_numbers);
+    return selected;
+  }
+  if (dimension <= options.all_modes_up_to) return selected;
+  std::set<int> left_out;
+  for (std::size_t b = 0; b < blocks.size(); ++b) {
+    const double wavenumber = blocks[b].angular_frequency * result.units.cm1_per_angular_frequency;
+    selected[b] =
+        wavenumber >= options.selection_min_cm1 || block_has_mode(blocks[b], options.resonance_mode_numbers);
+    if (!selected[b]) left_out.insert(blocks[b].mode_numbers.begin(), blocks[b].mode_numbers.end());
+  }
+  result.left_out_mode_numbers.assign(left_out.begin(), left_out.end());
+  if (!left_out.empty())
+    result.selection_note = fmt::format(
+        "the families of {} of the {} modes were not continued: above {} modes only the modes of flagged "
+        "resonances and those at or above {:.0f} {} are continued unless other modes or all modes are asked "
+        "for",
+        left_out.size(), dimension, options.all_modes_up_to, options.selection_min_cm1,
+        result.units.energy_label);
+  return selected;
+}
+
+// Serializes the progress reports of the worker threads; accepted points are reported at
+// most every report_interval.
+class ProgressReporter {
+ public:
+  ProgressReporter(const FamiliesOptions& options, const FamiliesResult& result, int total,
+                   std::chrono::steady_clock::time_point started)
+      : callback_(options.progress), result_(result), total_(total), started_(started), last_(started) {}
+
+  void point(int family, double energy) {
+    if (!callback_) return;
+    const std::lock_guard<std::mutex> lock(mutex_);
+    const auto now = std::chrono::steady_clock::now();
+    constexpr std::chrono::milliseconds report_interval{250};  // a few times per second
+    if (now - last_ < report_interval) return;
+    last_ = now;
+    emit(family, energy, "at", now);
+  }
+  void family_done(int family) {
+    if (!callback_) return;
+    const std::lock_guard<std::mutex> lock(mutex_);
+    ++done_;
+    const auto& points = result_.families[static_cast<std::size_t>(family)].backbone.points;
+    const auto now = std::chrono::steady_clock::now();
+    last_ = now;
+    emit(family, points.empty() ? 0.0 : points.back().energy, "done at", now);
+  }
+
+ private:
+  void emit(int family, double energy, const char* verb, std::chrono::steady_clock::time_point now) {
+    ProgressEvent event;
+    event.stage = "families";
+    event.done = done_;
+    event.total = total_;
+    const FamilyType& type = result_.families[static_cast<std::size_t>(family)].type;
+    event.detail =
+        fmt::format("family {} of {} (modes {}{}{}) {} {:.0f} {}", family + 1, result_.families.size(),
+                    fmt::join(type.mode_numbers, ","), type.species.empty() ? "" : " ", type.species, verb,
+                    energy * result_.units.cm1_per_energy, result_.units.energy_label);
+    event.seconds = std::chrono::duration<double>(now - started_).count();
+    callback_(event);
+  }
+
+  const ProgressCallback& callback_;
+  const FamiliesResult& result_;
+  int total_ = 0, done_ = 0;
+  std::chrono::steady_clock::time_point started_, last_;
+  std::mutex mutex_;
+};
+
+int worker_count(const VibrationalSystem& system, const FamiliesOptions& options, std::size_t jobs) {
+  if (jobs <= 1 || !system.supports_concurrent_evaluation()) return 1;
+  const int cores = static_cast<int>(std::max(1u, std::thread::hardware_concurrency()));
+  const int wanted = options.threads > 0 ? options.threads : cores;
+  return std::max(1, std::min(wanted, static_cast<int>(jobs)));
+}
+
+// Continues the families listed in `jobs` (indices into result.families, energy_max set),
+// each on one thread; every family's computation is the same whatever the thread count.
+void continue_families(const VibrationalSystem& system, const FamiliesOptions& options,
+                       const std::vector<int>& jobs, std::chrono::steady_clock::time_point started,
+                       FamiliesResult& result) {
+  ProgressReporter reporter(options, result, static_cast<int>(jobs.size()), started);
+  std::atomic<std::size_t> next{0};
+  std::atomic<bool> failed{false};
+  std::vector<std::exception_ptr> errors(jobs.size());
+  auto work = [&] {
+    for (std::size_t k = next++; k < jobs.size() && !failed; k = next++) {
+      const int index = jobs[k];
+      FamilyResult& family = result.families[static_cast<std::size_t>(index)];
+      try {
+        ContinuationOptions continuation = options.continuation;
+        continuation.energy_max = family.energy_max;
+        if (options.progress)
+          continuation.on_point = [&reporter, index](double energy) { reporter.point(index, energy); };
+        family.backbone = continue_family(system, family.type.seed, continuation);
+        family.continued = true;
+      } catch (...) {
+        errors[k] = std::current_exception();
+        failed = true;
+        continue;
+      }
+      reporter.family_done(index);
+    }
+  };
+  result.threads_used = worker_count(system, options, jobs.size());
+  // Eigen hands larger matrix products to OpenMP teams; next to the family workers those
+  // would put more threads than cores to work (and spinning), so each worker keeps to one.
+  // The setting is per thread; the calling thread gets its own back.
+  const bool parallel = result.threads_used > 1;
+  const int caller_openmp_threads = omp_get_max_threads();
+  auto worker = [&work] {
+    omp_set_num_threads(1);
+    work();
+  };
+  std::vector<std::thread> pool;
+  for (int t = 1; t < result.threads_used; ++t) pool.emplace_back(worker);
+  if (parallel) omp_set_num_threads(1);
+  work();
+  if (parallel) omp_set_num_threads(caller_openmp_threads);
+  for (std::thread& thread : pool) thread.join();
+  for (const std::exception_ptr& error : errors)
+    if (error) std::rethrow_exception(error);
+}
+
+void add_totals(FamiliesResult& result) {
+  for (const FamilyResult& family : result.families) {
+    if (!family.continued) continue;
+    result.points += static_cast<int>(family.backbone.points.size());
+    result.newton_iterations += family.backbone.newton_iterations;
+    result.variational_integrations += family.backbone.variational_integrations;
+    result.orbit_integrations += family.backbone.orbit_integrations;
+    result.gradient_evaluations += family.backbone.gradient_evaluations;
+    result.hessian_evaluations += family.backbone.hessian_evaluations;
+    result.hessian_vector_products += family.backbone.hessian_vector_products;
+  }
+}
+
+}  // namespace
+
 FamiliesResult compute_families(const VibrationalSystem& system, const std::vector<ModeBlock>& blocks,
                                 const CoordinateSymmetry& symmetry, const FamiliesOptions& options) {
   options.validate();
@@ -141,43 +322,25 @@ FamiliesResult compute_families(const VibrationalSystem& system, const std::vect
   FamilyEnumeration enumeration = enumerate_families(blocks, symmetry, result.units, options.enumeration);
   result.blocks = enumeration.blocks;
   result.warnings = enumeration.warnings;
-  if (!options.mode_numbers.empty()) {
-    for (const int number : options.mode_numbers) {
-      const bool known = std::any_of(result.blocks.begin(), result.blocks.end(), [&](const ModeBlock& block) {
-        return std::find(block.mode_numbers.begin(), block.mode_numbers.end(), number) !=
-               block.mode_numbers.end();
-      });
-      if (!known) throw Error(fmt::format("mode number {} is not among the system's modes", number));
-    }
-  }
+  require_known_modes(result.blocks, options.mode_numbers);
+  require_known_modes(result.blocks, options.resonance_mode_numbers);
+  const std::vector<bool> selected = select_blocks(options, n, result);
+  std::vector<int> jobs;
   for (FamilyType& type : enumeration.families) {
     FamilyResult family;
     family.type = std::move(type);
     const ModeBlock& block = result.blocks[family.type.block];
-    bool selected = options.continue_families;
-    if (selected && !options.mode_numbers.empty()) {
-      selected = std::any_of(block.mode_numbers.begin(), block.mode_numbers.end(), [&](int number) {
-        return std::find(options.mode_numbers.begin(), options.mode_numbers.end(), number) !=
-               options.mode_numbers.end();
-      });
-    }
-    if (selected) {
+    if (selected[static_cast<std::size_t>(family.type.block)]) {
       family.energy_max = options.energy_max_cm1 > 0.0
                               ? options.energy_max_cm1 / result.units.cm1_per_energy
                               : (options.quanta + 1.0) * result.units.hbar * block.angular_frequency;
       family.energy_max_cm1 = family.energy_max * result.units.cm1_per_energy;
-      ContinuationOptions continuation = options.continuation;
-      continuation.energy_max = family.energy_max;
-      family.backbone = continue_family(system, family.type.seed, continuation);
-      family.continued = true;
-      result.points += static_cast<int>(family.backbone.points.size());
-      result.newton_iterations += family.backbone.newton_iterations;
-      result.variational_integrations += family.backbone.variational_integrations;
-      result.orbit_integrations += family.backbone.orbit_integrations;
-      result.gradient_evaluations += family.backbone.gradient_evaluations;
+      jobs.push_back(static_cast<int>(result.families.size()));
     }
     result.families.push_back(std::move(family));
   }
+  continue_families(system, options, jobs, started, result);
+  add_totals(result);
   add_resonance_encounters(result, options.encounter_max_ratio);
   result.seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - started).count();
   return result;

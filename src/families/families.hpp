@@ -8,6 +8,7 @@
 #include <string>
 #include <vector>
 
+#include "core/progress.hpp"
 #include "families/family_types.hpp"
 #include "families/molecular_system.hpp"
 #include "families/periodic_orbits.hpp"
@@ -22,15 +23,31 @@ struct FamiliesOptions {
   // ladder to reach level `quanta` unless the mode hardens strongly.
   double energy_max_cm1 = 0.0;
   double quanta = 0.0;
-  // Continue only the families of blocks containing one of these mode numbers (empty: all).
-  // The other families are still enumerated and reported without backbones.
+  // Continue only the families of blocks containing one of these mode numbers. The other
+  // families are still enumerated and reported without backbones. Empty: the default
+  // selection below, or every block when all_modes is set.
   std::vector<int> mode_numbers;
+  bool all_modes = false;
+  // Default selection. Systems with at most all_modes_up_to coordinates: every block.
+  // Larger ones: the blocks holding one of resonance_mode_numbers (the caller's flagged
+  // resonances, e.g. the perturbative stage's) and the blocks whose harmonic wavenumber is
+  // at least selection_min_cm1 (the stretches whose overtones are measured). What is left
+  // out is listed in FamiliesResult::left_out_mode_numbers.
+  int all_modes_up_to = 36;
+  std::vector<int> resonance_mode_numbers;
+  double selection_min_cm1 = 1500.0;
   bool continue_families = true;  // false: enumeration and resonance threats only
   EnumerationOptions enumeration;
   ContinuationOptions continuation;  // energy_max is set per family from the fields above
   // Resonance encounters between two continued families: their frequency ratio passes
   // p:q with 1 ≤ p, q ≤ encounter_max_ratio (coprime) at equal energy.
   int encounter_max_ratio = 3;
+  // Threads that continue families at once (each family on one thread; the results do
+  // not depend on the number). 0: one per core. Potentials that cannot be evaluated
+  // from several threads at once (Potential::supports_concurrent_evaluation) run on one.
+  int threads = 0;
+  // Told after each family and at accepted points (stage "families", done/total families).
+  ProgressCallback progress;
 
   // Throws Error naming the field when a value is out of range (the continuation options
   // are checked per family, once energy_max is known).
@@ -52,12 +69,19 @@ struct FamiliesResult {
   std::vector<FamilyResult> families;  // by block (ascending frequency), then larger subgroups first
   std::vector<std::string> notes;      // model assumptions the report must state
   std::vector<std::string> warnings;
+  // Modes whose families the default selection left out (report numbers, ascending), and
+  // one line saying why and how to get them; both empty when nothing was left out.
+  std::vector<int> left_out_mode_numbers;
+  std::string selection_note;
+  int threads_used = 1;  // threads that continued families
   // Totals over all continued families:
   int points = 0;
   int newton_iterations = 0;
   int variational_integrations = 0;
   int orbit_integrations = 0;
   std::size_t gradient_evaluations = 0;
+  std::size_t hessian_evaluations = 0;
+  std::size_t hessian_vector_products = 0;
   double seconds = 0.0;
 };
 

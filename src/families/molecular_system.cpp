@@ -44,44 +44,74 @@ MolecularVibrationalSystem::MolecularVibrationalSystem(const Potential& potentia
   displacement_ = inverse_sqrt_mass.asDiagonal() * harmonic.mass_weighted_modes;
   linear_ = harmonic.linear;
   if (linear_) axial_generator_ = axial_rotation_generator(harmonic);
-  analytic_available_ = potential.has_analytic_hessian();
-  if (options.hessian_products == HessianProducts::analytic && !analytic_available_)
+  const bool has_hessian = potential.has_analytic_hessian();
+  const bool has_products = potential.has_analytic_hessian_vector_product();
+  if (options.hessian_products == HessianProducts::analytic && !has_hessian && !has_products)
     throw Error("analytic Hessian products were requested but the potential '" + potential.description() +
-                "' has none");
+                "' has neither an analytic Hessian nor analytic Hessian-vector products");
   // A unit normal coordinate moves no atom by more than 1/sqrt(smallest mass) Å.
   step_ = options.finite_difference_step_angstrom * std::sqrt(harmonic.masses_da.minCoeff());
-  reference_energy_ = potential.energy_and_gradient(equilibrium_, cartesian_gradient_);
-  residual_gradient_ = displacement_.transpose() * cartesian_gradient_;
-  const int n = static_cast<int>(modes);
-  if (!analytic_available_ || options.hessian_products == HessianProducts::finite_differences) {
-    analytic_threshold_ = n + 1;  // never
-  } else if (options.hessian_products == HessianProducts::analytic) {
-    analytic_threshold_ = 0;  // always
-  } else {
-    // One Hessian against 2k gradients; the best of a few repetitions damps timer noise.
+  Eigen::VectorXd cartesian_gradient;
+  reference_energy_ = potential.energy_and_gradient(equilibrium_, cartesian_gradient);
+  residual_gradient_ = displacement_.transpose() * cartesian_gradient;
+
+  // The cost of each way, as hessian_times() pays it (projections included); the best of a
+  // few repetitions damps timer noise. With only one way allowed nothing is measured.
+  const bool differences_allowed = options.hessian_products != HessianProducts::analytic;
+  const bool hessian_allowed = has_hessian && options.hessian_products != HessianProducts::finite_differences;
+  const bool products_allowed =
+      has_products && options.hessian_products != HessianProducts::finite_differences;
+  const int ways = (differences_allowed ? 1 : 0) + (hessian_allowed ? 1 : 0) + (products_allowed ? 1 : 0);
+  auto best_time = [](const auto& call) {
     using clock = std::chrono::steady_clock;
-    double gradient_seconds = std::numeric_limits<double>::infinity();
-    double hessian_seconds = std::numeric_limits<double>::infinity();
-    Eigen::VectorXd scratch;
+    double best = std::numeric_limits<double>::infinity();
     for (int repeat = 0; repeat < 3; ++repeat) {
-      auto started = clock::now();
-      for (int k = 0; k < 4; ++k) potential.energy_and_gradient(equilibrium_, scratch);
-      gradient_seconds =
-          std::min(gradient_seconds, std::chrono::duration<double>(clock::now() - started).count() / 4);
-      started = clock::now();
-      potential.hessian(equilibrium_);
-      hessian_seconds =
-          std::min(hessian_seconds, std::chrono::duration<double>(clock::now() - started).count());
+      const auto started = clock::now();
+      call();
+      best = std::min(best, std::chrono::duration<double>(clock::now() - started).count());
     }
-    const double ratio = hessian_seconds / std::max(gradient_seconds, 1e-12);
-    analytic_threshold_ = std::min(n + 1, static_cast<int>(std::ceil(0.5 * ratio)));
-  }
+    return best;
+  };
+  const Eigen::VectorXd origin = Eigen::VectorXd::Zero(static_cast<Eigen::Index>(modes));
+  const Eigen::MatrixXd one_direction = Eigen::MatrixXd::Identity(static_cast<Eigen::Index>(modes), 1);
+  Eigen::MatrixXd scratch;
+  if (differences_allowed)
+    difference_seconds_per_direction_ =
+        ways == 1 ? 0.0 : best_time([&] { difference_products(origin, one_direction, scratch); });
+  if (hessian_allowed)
+    hessian_seconds_ = ways == 1 ? 0.0 : best_time([&] { hessian_products(origin, one_direction, scratch); });
+  if (products_allowed)
+    product_seconds_per_direction_ =
+        ways == 1 ? 0.0 : best_time([&] { analytic_products(origin, one_direction, scratch); });
+}
+
+MolecularVibrationalSystem::Way MolecularVibrationalSystem::way_for(Eigen::Index directions) const {
+  const double k = static_cast<double>(directions);
+  const double differences = k * difference_seconds_per_direction_;
+  const double products = k * product_seconds_per_direction_;
+  if (hessian_seconds_ <= differences && hessian_seconds_ <= products) return Way::hessian;
+  return products <= differences ? Way::products : Way::differences;
 }
 
 std::string MolecularVibrationalSystem::hessian_method() const {
-  if (analytic_threshold_ == 0) return "analytic";
-  if (analytic_threshold_ > dimension()) return "finite differences";
-  return fmt::format("analytic for {} or more directions, else finite differences", analytic_threshold_);
+  std::vector<std::string> parts;
+  const char* names[] = {"finite differences of gradients", "analytic Hessian-vector products",
+                         "the analytic Hessian"};
+  Way previous = way_for(1);
+  int from = 1;
+  const int n = dimension();
+  for (int k = 2; k <= n + 1; ++k) {
+    const Way way = k <= n ? way_for(k) : previous;
+    if (k <= n && way == previous) continue;
+    const int to = k - 1;
+    parts.push_back(from == 1 && to == n
+                        ? names[static_cast<int>(previous)]
+                        : fmt::format("{} for {}{} directions", names[static_cast<int>(previous)],
+                                      from == to ? "" : fmt::format("{} to ", from), to));
+    previous = way;
+    from = k;
+  }
+  return fmt::format("{}", fmt::join(parts, ", "));
 }
 
 std::string MolecularVibrationalSystem::description() const {
@@ -97,21 +127,50 @@ double MolecularVibrationalSystem::compute_potential(const Eigen::VectorXd& q) c
 }
 
 void MolecularVibrationalSystem::compute_gradient(const Eigen::VectorXd& q, Eigen::VectorXd& g) const {
-  potential_.energy_and_gradient(equilibrium_ + displacement_ * q, cartesian_gradient_);
-  g.noalias() = displacement_.transpose() * cartesian_gradient_;
+  thread_local Eigen::VectorXd cartesian_gradient;  // no allocation per call, safe across threads
+  potential_.energy_and_gradient(equilibrium_ + displacement_ * q, cartesian_gradient);
+  g.noalias() = displacement_.transpose() * cartesian_gradient;
   g -= residual_gradient_;
+}
+
+void MolecularVibrationalSystem::difference_products(const Eigen::VectorXd& q,
+                                                     const Eigen::MatrixXd& directions,
+                                                     Eigen::MatrixXd& out) const {
+  VibrationalSystem::compute_hessian_times(q, directions, out);
+}
+
+void MolecularVibrationalSystem::hessian_products(const Eigen::VectorXd& q, const Eigen::MatrixXd& directions,
+                                                  Eigen::MatrixXd& out) const {
+  const Eigen::MatrixXd hessian = potential_.hessian(equilibrium_ + displacement_ * q);
+  count_hessians(1);
+  out.noalias() = displacement_.transpose() * (hessian * (displacement_ * directions));
+}
+
+void MolecularVibrationalSystem::analytic_products(const Eigen::VectorXd& q,
+                                                   const Eigen::MatrixXd& directions,
+                                                   Eigen::MatrixXd& out) const {
+  const Eigen::VectorXd x = equilibrium_ + displacement_ * q;
+  const Eigen::MatrixXd cartesian = displacement_ * directions;
+  out.resize(dimension(), directions.cols());
+  for (Eigen::Index k = 0; k < directions.cols(); ++k)
+    out.col(k).noalias() = displacement_.transpose() * potential_.hessian_vector_product(x, cartesian.col(k));
+  count_hessian_vector_products(static_cast<std::size_t>(directions.cols()));
 }
 
 void MolecularVibrationalSystem::compute_hessian_times(const Eigen::VectorXd& q,
                                                        const Eigen::MatrixXd& directions,
                                                        Eigen::MatrixXd& out) const {
-  const int k = static_cast<int>(std::min<Eigen::Index>(directions.cols(), dimension()));
-  if (k < analytic_threshold_) {
-    VibrationalSystem::compute_hessian_times(q, directions, out);
-    return;
+  switch (way_for(directions.cols())) {
+    case Way::differences:
+      difference_products(q, directions, out);
+      return;
+    case Way::products:
+      analytic_products(q, directions, out);
+      return;
+    case Way::hessian:
+      hessian_products(q, directions, out);
+      return;
   }
-  const Eigen::MatrixXd hessian = potential_.hessian(equilibrium_ + displacement_ * q);
-  out.noalias() = displacement_.transpose() * (hessian * (displacement_ * directions));
 }
 
 namespace {

@@ -25,11 +25,14 @@ namespace overtone {
 
 // How Hessian–vector products H·D (D with k columns) are formed.
 enum class HessianProducts {
-  // The cheaper of the two per call, from the cost of one analytic Hessian against
-  // 2·min(k, n) gradients measured once at construction (potentials without an
-  // analytic Hessian always use differences). Results agree to ~1e-7 relative.
+  // The cheapest per call of what the potential offers: k analytic Hessian–vector
+  // products, one analytic Hessian, or 2k gradients by central differences, from the
+  // cost of each measured once at construction. Analytic and differenced results agree
+  // to ~1e-7 relative.
   automatic,
-  analytic,            // the potential's analytic Hessian (Error if it has none)
+  // The cheaper of the potential's analytic Hessian and Hessian–vector products (Error
+  // if it has neither).
+  analytic,
   finite_differences,  // central differences of gradients
 };
 
@@ -60,11 +63,12 @@ class MolecularVibrationalSystem : public VibrationalSystem {
   // Linear molecules: the rotation about the molecular axis.
   std::vector<Eigen::MatrixXd> symmetry_generators() const override;
   Eigen::VectorXd cartesian_displacement_angstrom(const Eigen::VectorXd& q) const override;
+  bool supports_concurrent_evaluation() const override { return potential_.supports_concurrent_evaluation(); }
 
   // |g_eq projected on the vibrational coordinates|, kcal/mol/(Å·Da^½).
   double residual_gradient_norm() const { return residual_gradient_.norm(); }
-  // "analytic", "finite differences" or "analytic or finite differences, whichever is
-  // cheaper per call" (automatic with both available).
+  // How hessian_times() forms its products, e.g. "analytic Hessian-vector products for up
+  // to 5 directions, else the analytic Hessian".
   std::string hessian_method() const;
   // M^{-1/2} L, 3N × n: Cartesian displacement (Å) per unit normal coordinate.
   const Eigen::MatrixXd& displacement_matrix() const { return displacement_; }
@@ -78,6 +82,15 @@ class MolecularVibrationalSystem : public VibrationalSystem {
   double escape_energy() const override { return escape_energy_; }
 
  private:
+  enum class Way { differences, products, hessian };  // order of the names in hessian_method()
+  Way way_for(Eigen::Index directions) const;
+  void difference_products(const Eigen::VectorXd& q, const Eigen::MatrixXd& directions,
+                           Eigen::MatrixXd& out) const;
+  void analytic_products(const Eigen::VectorXd& q, const Eigen::MatrixXd& directions,
+                         Eigen::MatrixXd& out) const;
+  void hessian_products(const Eigen::VectorXd& q, const Eigen::MatrixXd& directions,
+                        Eigen::MatrixXd& out) const;
+
   const Potential& potential_;
   Eigen::VectorXd equilibrium_;
   Eigen::MatrixXd displacement_;  // C = M^{-1/2} L
@@ -86,12 +99,12 @@ class MolecularVibrationalSystem : public VibrationalSystem {
   double reference_energy_ = 0.0;
   bool linear_ = false;
   Eigen::MatrixXd axial_generator_;  // linear molecules only
-  bool analytic_available_ = false;
-  // Use the analytic Hessian for k directions when k ≥ analytic_threshold_ (measured).
-  int analytic_threshold_ = 0;
+  // Measured cost of one call, seconds (infinity: not available or not allowed).
+  double difference_seconds_per_direction_ = std::numeric_limits<double>::infinity();  // 2 gradients
+  double product_seconds_per_direction_ = std::numeric_limits<double>::infinity();     // one analytic H·v
+  double hessian_seconds_ = std::numeric_limits<double>::infinity();                   // one analytic Hessian
   double step_ = 1e-3;
   double escape_energy_ = std::numeric_limits<double>::infinity();  // system units
-  mutable Eigen::VectorXd cartesian_gradient_;
 };
 
 // The point group acting on the normal coordinates for the families: the matrices of the

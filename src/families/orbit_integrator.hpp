@@ -31,16 +31,26 @@ struct IntegrationRequest {
   Eigen::VectorXd scaled_state;                        // (â, b̂), 2m
   double duration = 0.0;                               // physical time units, > 0
   const Eigen::MatrixXd* variational_basis = nullptr;  // C; null: no variational equations
-  int sample_count = 0;  // > 0: record the state at sample_count+1 equally spaced times
+  // > 0: the state at sample_count+1 equally spaced times (interpolated between the
+  // integrator's steps, error far below the tolerance), and the state after every step.
+  int sample_count = 0;
+  // > 0: the error tolerance of this integration instead of the integrator's own (orbit
+  // integrations only; Newton iterations far from convergence need less accuracy).
+  double tolerance = 0.0;
+  // In (0, duration): also return the state at this time (a step ends there).
+  double checkpoint = 0.0;
 };
 
 struct IntegrationOutcome {
   bool ok = false;
-  std::string failure;                    // why not ok (escape, step limit, non-finite state)
-  Eigen::VectorXd scaled_state;           // (â, b̂) at the end
-  Eigen::MatrixXd transition;             // Φ̂, 2c × 2c, when requested
-  double momentum_square_integral = 0.0;  // ∫|p|² dt over the duration, physical units
-  std::vector<Eigen::VectorXd> samples;   // scaled states at the sample times (first = start)
+  std::string failure;                               // why not ok (escape, step limit, non-finite state)
+  Eigen::VectorXd scaled_state;                      // (â, b̂) at the end
+  Eigen::VectorXd checkpoint_state;                  // (â, b̂) at the requested checkpoint
+  double checkpoint_momentum_square_integral = 0.0;  // ∫|p|² dt up to the checkpoint
+  Eigen::MatrixXd transition;                        // Φ̂, 2c × 2c, when requested
+  double momentum_square_integral = 0.0;             // ∫|p|² dt over the duration, physical units
+  std::vector<Eigen::VectorXd> samples;              // scaled states at the sample times (first = start)
+  std::vector<Eigen::VectorXd> step_states;          // scaled states the integrator reached (first = start)
   std::size_t steps = 0;
   std::size_t rejected_steps = 0;
   double seconds = 0.0;

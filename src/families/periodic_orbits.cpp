@@ -5,6 +5,7 @@
 #include <algorithm>
 #include <chrono>
 #include <cmath>
+#include <memory>
 #include <numeric>
 #include <optional>
 
@@ -49,12 +50,18 @@ void validate(const ContinuationOptions& o) {
           "in (0, 1e-2)");
   require(o.closure_tolerance >= 10.0 * o.integration_tolerance, "closure_tolerance", o.closure_tolerance,
           "at least 10 times integration_tolerance (Newton cannot beat the integrator)");
+  require(o.newton_tolerance_max >= o.integration_tolerance && o.newton_tolerance_max <= 1e-6,
+          "newton_tolerance_max", o.newton_tolerance_max, "between integration_tolerance and 1e-6");
   require(o.max_newton_iterations >= 2, "max_newton_iterations", o.max_newton_iterations, "at least 2");
   require(o.min_step > 0.0, "min_step", o.min_step, "positive");
   require(o.initial_step >= o.min_step && o.initial_step <= o.max_step, "initial_step", o.initial_step,
           "between min_step and max_step");
   require(o.max_energy_step_fraction > 0.0 && o.max_energy_step_fraction <= 1.0, "max_energy_step_fraction",
           o.max_energy_step_fraction, "in (0, 1]");
+  require(o.straight_energy_step_fraction > 0.0 && o.straight_energy_step_fraction <= 1.0,
+          "straight_energy_step_fraction", o.straight_energy_step_fraction, "in (0, 1]");
+  require(o.backbone_tolerance > 0.0 && o.backbone_tolerance < 0.1, "backbone_tolerance",
+          o.backbone_tolerance, "in (0, 0.1)");
   require(o.max_points >= 2, "max_points", o.max_points, "at least 2");
   require(o.variational_nodes_per_period >= 0, "variational_nodes_per_period", o.variational_nodes_per_period,
           "non-negative");
@@ -91,6 +98,9 @@ struct CorrectorSetup {
   Eigen::VectorXd phase_direction;  // unit, 2m
   Eigen::VectorXd tangent;          // scaled (â, b̂, τ, Ê): arclength mode only
   Eigen::VectorXd predicted;
+  // Integrate the last (full-accuracy) iteration over the whole period with samples, so
+  // that a converged orbit comes with its verification pass.
+  bool verify = false;
 };
 
 struct CorrectorOutcome {
@@ -102,11 +112,16 @@ struct CorrectorOutcome {
   int iterations = 0;
   int variational_integrations = 0;
   int orbit_integrations = 0;
+  // setup.verify: the converged iteration's whole-period sampled integration and its scaling.
+  std::shared_ptr<const detail::IntegrationOutcome> verification;
+  detail::OrbitScaling verification_scaling;
 };
 
 // Everything that is computed once per accepted point beyond the corrector.
 struct PointAnalysis {
   Eigen::MatrixXd reduced_transition;  // Φ̂ on F × F over T/r
+  // Smallest distance of a non-neutral multiplier from ±1 (∞ without them).
+  double collision_distance = std::numeric_limits<double>::infinity();
   bool ok = true;
   std::string failure;
 };
@@ -194,6 +209,16 @@ Eigen::MatrixXd phase_space_block(const Eigen::MatrixXd& m) {
   return block;
 }
 
+// Where a stability event can happen: period doubling and branch points need a
+// non-neutral multiplier at −1 or +1, a real pair that returns to the unit circle meets
+// there too. (Collisions elsewhere on the circle, between multipliers of many modes, are
+// too common in a molecule to steer the step; they are still detected between points.)
+double collision_distance(const std::vector<std::complex<double>>& multipliers) {
+  double distance = std::numeric_limits<double>::infinity();
+  for (const auto& mu : multipliers) distance = std::min({distance, std::abs(mu - 1.0), std::abs(mu + 1.0)});
+  return distance;
+}
+
 class FamilySolver {
  public:
   FamilySolver(const VibrationalSystem& system, const FamilySeed& seed, const ContinuationOptions& options);
@@ -209,7 +234,7 @@ class FamilySolver {
   // Cost of the point being computed: corrector work since the last accepted point.
   struct PointCost {
     int iterations = 0, variational = 0, orbits = 0;
-    std::size_t gradients_at_start = 0;
+    SystemEvaluationCounts counts_at_start;
     std::chrono::steady_clock::time_point started;
   };
   ContinuationResult finish(ContinuationResult& result, ContinuationStatus status, std::string message);
@@ -226,15 +251,40 @@ class FamilySolver {
   // integration fails.
   bool accept(const CorrectorOutcome& corrected, const PointCost& cost, ContinuationResult& result);
   CorrectorOutcome correct(const Unknowns& guess, const CorrectorSetup& setup);
-  bool analyze_point(const Unknowns& u, OrbitPoint& point, PointAnalysis& analysis);
+  // Broyden's rank-one correction of hint_ from the shooting residual's change along the
+  // last chord step.
+  void broyden_update(const Eigen::VectorXd& shooting_change, const Eigen::VectorXd& previous_step,
+                      const Eigen::VectorXd& previous_time_column);
+  // The corrector's Jacobian: shooting rows from hint_, energy, phase and arclength rows.
+  void fill_jacobian(const Eigen::VectorXd& end_state, const Eigen::VectorXd& y0, const CorrectorSetup& setup,
+                     const detail::OrbitScaling& scaling, Eigen::MatrixXd& jacobian) const;
+  // How accurately a corrector iteration integrates, from the residual expected there.
+  struct IterationPlan {
+    double tolerance = 0.0;  // of the orbit integration
+    bool accurate = false;   // at integration_tolerance: convergence may be declared
+    bool verifying = false;  // the whole period with samples (the verification pass)
+  };
+  IterationPlan plan_iteration(bool fresh, double expected_norm, bool verify) const;
+  // One corrector iteration's integration: a 1/r period (the whole period with samples
+  // when verifying), with variational equations when the Jacobian is refreshed.
+  detail::IntegrationRequest iteration_request(const Eigen::VectorXd& y0, double period,
+                                               const IterationPlan& plan, bool fresh) const;
+  static double expected_next_norm(double norm, double previous_norm);
+  // `verified`: the corrector's whole-period sampled run of this orbit, if it made one.
+  bool analyze_point(const Unknowns& u, const CorrectorOutcome& verified, OrbitPoint& point,
+                     PointAnalysis& analysis);
   Eigen::VectorXd tangent_at(const Unknowns& u, const Eigen::MatrixXd& reduced_transition, double length,
                              double time_scale) const;
   // The period enters the unknowns relative to the current one, so that an arclength
   // step changes it by a bounded fraction even where it diverges (near a separatrix).
   static double time_scale_for(double period) { return period / (2.0 * units::pi); }
   // monodromy in scaled coordinates at the orbit's initial state (q, p).
-  void classify_multipliers(const Eigen::MatrixXd& monodromy, const Eigen::VectorXd& q,
-                            const Eigen::VectorXd& p, double length, OrbitPoint& point) const;
+  // Returns the collision distance of the non-neutral multipliers (see PointAnalysis).
+  double classify_multipliers(const Eigen::MatrixXd& monodromy, const Eigen::VectorXd& q,
+                              const Eigen::VectorXd& p, double length, OrbitPoint& point) const;
+  // The energy step allowed from the last accepted point (step control by curvature and
+  // nearby events, ContinuationOptions::straight_energy_step_fraction).
+  double energy_step_cap() const;
   void detect_events(ContinuationResult& result) const;
   void build_ladder(ContinuationResult& result);
   void fill_converted(OrbitPoint& point) const;
@@ -260,12 +310,16 @@ class FamilySolver {
   std::vector<Unknowns> accepted_;  // parallel to result points
   std::vector<Eigen::MatrixXd> accepted_transitions_;
   std::vector<double> accepted_actions_;
+  struct StepMemory {
+    double energy, angular_frequency, collision_distance;
+  };
+  std::vector<StepMemory> recent_;  // the last three accepted points, oldest first
   std::string last_integration_failure_;
   Eigen::VectorXd tangent_;  // unit tangent at the last accepted point, scaled (â, b̂, τ, Ê)
   double tangent_length_ = 1.0;
   double tangent_time_scale_ = 1.0;
   std::chrono::steady_clock::time_point started_;
-  std::size_t gradients_before_ = 0;
+  SystemEvaluationCounts counts_before_;  // this thread's counts when run() started
 };
 
 FamilySolver::FamilySolver(const VibrationalSystem& system, const FamilySeed& seed,
@@ -353,6 +407,80 @@ double FamilySolver::total_energy(const Eigen::VectorXd& y, double length) const
   return 0.5 * p.squaredNorm() + system_.potential(integrator_->positions(y, scaling));
 }
 
+FamilySolver::IterationPlan FamilySolver::plan_iteration(bool fresh, double expected_norm,
+                                                         bool verify) const {
+  IterationPlan plan;
+  const double full = options_.integration_tolerance;
+  if (fresh) {  // variational integrations run at their own tolerance
+    plan.accurate = options_.variational_tolerance <= full;
+    return plan;
+  }
+  // The residual is measured to about a tenth of itself when each step errs by a
+  // thousandth of it (a period takes tens of steps).
+  constexpr double tolerance_per_residual = 1e-3;
+  const bool final_expected = expected_norm >= 0.0 && expected_norm < options_.closure_tolerance;
+  plan.tolerance = expected_norm < 0.0 ? options_.newton_tolerance_max
+                                       : std::clamp(tolerance_per_residual * expected_norm, full,
+                                                    options_.newton_tolerance_max);
+  if (final_expected) plan.tolerance = full;
+  plan.accurate = plan.tolerance <= full;
+  plan.verifying = verify && final_expected;
+  return plan;
+}
+
+// Chord and Broyden steps converge about linearly at the rate last seen (a tenth when
+// unknown); a residual already below the target needs only the accurate confirmation.
+double FamilySolver::expected_next_norm(double norm, double previous_norm) {
+  constexpr double assumed_rate = 0.1;
+  const double rate = std::isfinite(previous_norm) && previous_norm > 0.0
+                          ? std::min(1.0, norm / previous_norm)
+                          : assumed_rate;
+  return norm * rate;
+}
+
+void FamilySolver::broyden_update(const Eigen::VectorXd& shooting_change,
+                                  const Eigen::VectorXd& previous_step,
+                                  const Eigen::VectorXd& previous_time_column) {
+  const Eigen::VectorXd state_step = previous_step.head(2 * m_);
+  const double step_norm2 = state_step.squaredNorm();
+  if (!(step_norm2 > 0.0)) return;
+  const Eigen::VectorXd predicted =
+      (hint_ - shift_phase_) * state_step + previous_time_column * previous_step(2 * m_);
+  hint_ += (shooting_change - predicted) * state_step.transpose() / step_norm2;
+}
+
+void FamilySolver::fill_jacobian(const Eigen::VectorXd& end_state, const Eigen::VectorXd& y0,
+                                 const CorrectorSetup& setup, const detail::OrbitScaling& scaling,
+                                 Eigen::MatrixXd& jacobian) const {
+  const bool arclength = !setup.fixed_energy;
+  jacobian.setZero();
+  jacobian.topLeftCorner(2 * m_, 2 * m_) = hint_ - shift_phase_;
+  jacobian.block(0, 2 * m_, 2 * m_, 1) =
+      integrator_->scaled_velocity(end_state, scaling) * setup.time_scale / r_;
+  Eigen::VectorXd gradient;
+  system_.gradient(integrator_->positions(y0, scaling), gradient);
+  jacobian.block(2 * m_, 0, 1, m_) =
+      (basis_.transpose() * gradient).transpose() / (omega_ * omega_ * setup.length);
+  jacobian.block(2 * m_, m_, 1, m_) = y0.tail(m_).transpose();
+  if (arclength) jacobian(2 * m_, 2 * m_ + 1) = -1.0;
+  jacobian.block(2 * m_ + 1, 0, 1, 2 * m_) = setup.phase_direction.transpose();
+  if (arclength) jacobian.row(2 * m_ + 2) = setup.tangent.transpose();
+}
+
+detail::IntegrationRequest FamilySolver::iteration_request(const Eigen::VectorXd& y0, double period,
+                                                           const IterationPlan& plan, bool fresh) const {
+  detail::IntegrationRequest request;
+  request.scaled_state = y0;
+  request.duration = plan.verifying ? period : period / r_;
+  request.variational_basis = fresh ? &basis_ : nullptr;
+  request.tolerance = plan.tolerance;
+  if (plan.verifying) {
+    request.sample_count = sample_count_;
+    if (r_ > 1) request.checkpoint = period / r_;
+  }
+  return request;
+}
+
 CorrectorOutcome FamilySolver::correct(const Unknowns& guess, const CorrectorSetup& setup) {
   CorrectorOutcome outcome;
   const double length = setup.length;
@@ -368,9 +496,10 @@ CorrectorOutcome FamilySolver::correct(const Unknowns& guess, const CorrectorSet
 
   bool fresh = !have_hint_;
   double previous_norm = std::numeric_limits<double>::infinity();
+  double expected_norm = -1.0;      // residual expected at this iteration; negative: unknown
+  double previous_tolerance = 0.0;  // integration tolerance of the previous iteration
   Eigen::VectorXd residual(equations);
   Eigen::MatrixXd jacobian(equations, unknowns);
-  Eigen::VectorXd gradient;
   // Broyden's update of the transition-matrix block between chord steps: the shooting
   // residual's change along the last step corrects the reused Jacobian at no extra
   // integration, which turns linear chord convergence superlinear.
@@ -385,12 +514,15 @@ CorrectorOutcome FamilySolver::correct(const Unknowns& guess, const CorrectorSet
       return outcome;
     }
     const Eigen::VectorXd y0 = u.head(2 * m_);
-    detail::IntegrationRequest request;
-    request.scaled_state = y0;
-    request.duration = period / r_;
-    request.variational_basis = fresh ? &basis_ : nullptr;
+    const IterationPlan plan = plan_iteration(fresh, expected_norm, setup.verify);
     integrator_->set_full_period(period);
-    const detail::IntegrationOutcome run = integrator_->integrate(request, scaling);
+    const auto shared_run = std::make_shared<detail::IntegrationOutcome>(
+        integrator_->integrate(iteration_request(y0, period, plan, fresh), scaling));
+    const detail::IntegrationOutcome& run = *shared_run;
+    const bool checkpointed = plan.verifying && r_ > 1;
+    const Eigen::VectorXd& end_state = checkpointed ? run.checkpoint_state : run.scaled_state;
+    const double square_integral =
+        checkpointed ? run.checkpoint_momentum_square_integral : run.momentum_square_integral;
     ++outcome.iterations;
     if (fresh)
       ++outcome.variational_integrations;
@@ -406,16 +538,9 @@ CorrectorOutcome FamilySolver::correct(const Unknowns& guess, const CorrectorSet
       hint_ = run.transition;
       have_hint_ = true;
     }
-    const Eigen::VectorXd shooting = run.scaled_state - shift_phase_ * y0;
-    if (!fresh && have_previous_step) {
-      const Eigen::VectorXd state_step = previous_step.head(2 * m_);
-      const double step_norm2 = state_step.squaredNorm();
-      if (step_norm2 > 0.0) {
-        const Eigen::VectorXd predicted =
-            (hint_ - shift_phase_) * state_step + previous_time_column * previous_step(2 * m_);
-        hint_ += ((shooting - previous_shooting) - predicted) * state_step.transpose() / step_norm2;
-      }
-    }
+    const Eigen::VectorXd shooting = end_state - shift_phase_ * y0;
+    if (!fresh && have_previous_step)
+      broyden_update(shooting - previous_shooting, previous_step, previous_time_column);
     const double energy = arclength ? u(2 * m_ + 1) * scale : setup.target_energy;
     residual.head(2 * m_) = shooting;
     residual(2 * m_) = (total_energy(y0, length) - energy) / scale;
@@ -426,37 +551,41 @@ CorrectorOutcome FamilySolver::correct(const Unknowns& guess, const CorrectorSet
       outcome.failure = "the shooting residual became non-finite";
       return outcome;
     }
-    if (norm < options_.closure_tolerance) {
+    if (norm < options_.closure_tolerance && plan.accurate) {
       outcome.converged = true;
       outcome.solution = unscaled(y0, period, energy, length);
-      outcome.action = r_ * run.momentum_square_integral / (2.0 * units::pi);
+      outcome.action = r_ * square_integral / (2.0 * units::pi);
+      if (plan.verifying) {
+        outcome.verification = shared_run;
+        outcome.verification_scaling = scaling;
+      }
       return outcome;
     }
-    if (!fresh && iteration > 0 && norm > 0.25 * previous_norm) {
+    expected_norm = expected_next_norm(norm, fresh ? std::numeric_limits<double>::infinity() : previous_norm);
+    // A residual measured loosely errs by up to about a tenth of what was expected; a
+    // ratio within that noise is no stall.
+    const bool within_noise = previous_tolerance > options_.integration_tolerance &&
+                              norm < options_.closure_tolerance + 1e2 * previous_tolerance;
+    previous_tolerance = plan.tolerance;
+    // Broyden steps still gain at this rate; a fresh Jacobian (variational equations with
+    // Hessians) costs as much as several orbit integrations.
+    constexpr double stall_ratio = 0.25;
+    if (!fresh && iteration > 0 && norm > stall_ratio * previous_norm && !within_noise) {
       // Chord steps stall: refresh the Jacobian at the current iterate.
       fresh = true;
       have_previous_step = false;
       previous_norm = std::numeric_limits<double>::infinity();
+      expected_norm = norm;
       continue;
     }
-    if (iteration > 1 && norm > 2.0 * previous_norm) {
+    if (iteration > 1 && norm > 2.0 * previous_norm && !within_noise) {
       outcome.failure = fmt::format("newton diverged (residual {:.3g} after {:.3g})", norm, previous_norm);
       return outcome;
     }
     previous_norm = norm;
     fresh = false;
 
-    jacobian.setZero();
-    jacobian.topLeftCorner(2 * m_, 2 * m_) = hint_ - shift_phase_;
-    jacobian.block(0, 2 * m_, 2 * m_, 1) =
-        integrator_->scaled_velocity(run.scaled_state, scaling) * setup.time_scale / r_;
-    system_.gradient(integrator_->positions(y0, scaling), gradient);
-    jacobian.block(2 * m_, 0, 1, m_) =
-        (basis_.transpose() * gradient).transpose() / (omega_ * omega_ * length);
-    jacobian.block(2 * m_, m_, 1, m_) = y0.tail(m_).transpose();
-    if (arclength) jacobian(2 * m_, 2 * m_ + 1) = -1.0;
-    jacobian.block(2 * m_ + 1, 0, 1, 2 * m_) = setup.phase_direction.transpose();
-    if (arclength) jacobian.row(2 * m_ + 2) = setup.tangent.transpose();
+    fill_jacobian(run.scaled_state, y0, setup, scaling, jacobian);
     const Eigen::VectorXd step = jacobian.colPivHouseholderQr().solve(-residual);
     if (!step.allFinite()) {
       outcome.failure = "the newton step was not finite";
@@ -491,8 +620,8 @@ Eigen::VectorXd FamilySolver::tangent_at(const Unknowns& point, const Eigen::Mat
   return svd.matrixV().col(2 * m_ + 1);
 }
 
-void FamilySolver::classify_multipliers(const Eigen::MatrixXd& monodromy, const Eigen::VectorXd& q,
-                                        const Eigen::VectorXd& p, double length, OrbitPoint& point) const {
+double FamilySolver::classify_multipliers(const Eigen::MatrixXd& monodromy, const Eigen::VectorXd& q,
+                                          const Eigen::VectorXd& p, double length, OrbitPoint& point) const {
   // The neutral multipliers at +1 form Jordan blocks that round-off splits by
   // ~sqrt(ε); they are removed exactly instead. In scaled phase-space coordinates
   // (q/ℓ, p/(ω₀ℓ)), with H and each conserved momentum L = pᵀGq of a continuous
@@ -576,21 +705,27 @@ void FamilySolver::classify_multipliers(const Eigen::MatrixXd& monodromy, const 
     }
   }
   point.stable = point.unstable_count == 0;
+  return collision_distance(free_multipliers);
 }
 
-bool FamilySolver::analyze_point(const Unknowns& u, OrbitPoint& point, PointAnalysis& analysis) {
-  const double length = length_for(u.energy);
+bool FamilySolver::analyze_point(const Unknowns& u, const CorrectorOutcome& verified, OrbitPoint& point,
+                                 PointAnalysis& analysis) {
+  const double length = verified.verification ? verified.verification_scaling.length : length_for(u.energy);
   const detail::OrbitScaling scaling{length, omega_};
   const Eigen::VectorXd y0 = scaled_state(u, length);
   integrator_->set_full_period(u.period);
 
-  // Whole period with samples.
-  detail::IntegrationRequest sampled;
-  sampled.scaled_state = y0;
-  sampled.duration = u.period;
-  sampled.sample_count = sample_count_;
-  const detail::IntegrationOutcome run = integrator_->integrate(sampled, scaling);
-  ++point.orbit_integrations;
+  // Whole period with samples, unless the corrector's last iteration was that integration.
+  std::shared_ptr<const detail::IntegrationOutcome> verification = verified.verification;
+  if (!verification) {
+    detail::IntegrationRequest sampled;
+    sampled.scaled_state = y0;
+    sampled.duration = u.period;
+    sampled.sample_count = sample_count_;
+    verification = std::make_shared<detail::IntegrationOutcome>(integrator_->integrate(sampled, scaling));
+    ++point.orbit_integrations;
+  }
+  const detail::IntegrationOutcome& run = *verification;
   if (!run.ok) {
     analysis.ok = false;
     analysis.failure = run.failure;
@@ -613,9 +748,11 @@ bool FamilySolver::analyze_point(const Unknowns& u, OrbitPoint& point, PointAnal
     }
     point.amplitude_angstrom = refined_maximum(x, v, h, 3);
   }
+  // Over the integrator's own states: the interpolated samples would add their
+  // interpolation error to the drift being measured.
   double lowest = std::numeric_limits<double>::infinity(), highest = -lowest;
-  for (int j = 0; j < count; ++j) {
-    const double energy = 0.5 * p[j].squaredNorm() + system_.potential(q[j]);
+  for (const Eigen::VectorXd& state : run.step_states) {
+    const double energy = total_energy(state, length);
     lowest = std::min(lowest, energy);
     highest = std::max(highest, energy);
   }
@@ -684,7 +821,7 @@ bool FamilySolver::analyze_point(const Unknowns& u, OrbitPoint& point, PointAnal
       Eigen::MatrixXd monodromy = Eigen::MatrixXd::Identity(2 * n_, 2 * n_);
       for (int k = 0; k < r_; ++k) monodromy = shift * monodromy * step;
       // monodromy = D^r (D⁻¹Φ)^r, built as D(D(…)(D⁻¹Φ))(D⁻¹Φ); equal because products associate.
-      classify_multipliers(monodromy, q[0], p[0], length, point);
+      analysis.collision_distance = classify_multipliers(monodromy, q[0], p[0], length, point);
     }
   } else {
     analysis.reduced_transition = transition;
@@ -713,7 +850,10 @@ ContinuationResult FamilySolver::finish(ContinuationResult& result, Continuation
   detect_events(result);
   if (!result.points.empty()) build_ladder(result);
   const auto& counters = integrator_->counters();
-  result.gradient_evaluations = system_.counts().gradients - gradients_before_;
+  const SystemEvaluationCounts used = VibrationalSystem::thread_counts() - counts_before_;
+  result.gradient_evaluations = used.gradients;
+  result.hessian_evaluations = used.hessians;
+  result.hessian_vector_products = used.hessian_vector_products;
   result.integration_steps = counters.steps;
   result.seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - started_).count();
   if (counters.full_variational_periods > 0.0)
@@ -736,6 +876,7 @@ CorrectorSetup FamilySolver::fixed_energy_setup(const Unknowns& reference, doubl
   setup.phase_reference = scaled_state(reference, setup.length);
   setup.phase_direction =
       integrator_->scaled_velocity(setup.phase_reference, {setup.length, omega_}).normalized();
+  setup.verify = true;  // the start and the point at energy_max are accepted points
   return setup;
 }
 
@@ -748,7 +889,7 @@ bool FamilySolver::accept(const CorrectorOutcome& corrected, const PointCost& co
   point.variational_integrations = cost.variational;
   point.orbit_integrations = cost.orbits;
   PointAnalysis analysis;
-  if (!analyze_point(corrected.solution, point, analysis)) {
+  if (!analyze_point(corrected.solution, corrected, point, analysis)) {
     last_integration_failure_ = analysis.failure;
     return false;
   }
@@ -773,13 +914,20 @@ bool FamilySolver::accept(const CorrectorOutcome& corrected, const PointCost& co
   point.energy_direction = tangent_(2 * m_ + 1) >= 0.0 ? 1 : -1;
   point.initial_positions = basis_ * corrected.solution.a;
   point.initial_momenta = basis_ * corrected.solution.b;
-  point.gradient_evaluations = system_.counts().gradients - cost.gradients_at_start;
+  const SystemEvaluationCounts used = VibrationalSystem::thread_counts() - cost.counts_at_start;
+  point.gradient_evaluations = used.gradients;
+  point.hessian_evaluations = used.hessians;
+  point.hessian_vector_products = used.hessian_vector_products;
   point.seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - cost.started).count();
   fill_converted(point);
+  const double point_energy = point.energy, point_frequency = point.angular_frequency;
   result.points.push_back(std::move(point));
   accepted_.push_back(corrected.solution);
   accepted_transitions_.push_back(analysis.reduced_transition);
   accepted_actions_.push_back(corrected.action);
+  recent_.push_back({point_energy, point_frequency, analysis.collision_distance});
+  if (recent_.size() > 3) recent_.erase(recent_.begin());
+  if (options_.on_point) options_.on_point(result.points.back().energy);
   return true;
 }
 
@@ -788,7 +936,7 @@ bool FamilySolver::start(ContinuationResult& result, std::string& failure) {
   for (int attempt = 0; attempt < 4; ++attempt, start_energy *= 0.1) {
     PointCost cost;
     cost.started = std::chrono::steady_clock::now();
-    cost.gradients_at_start = system_.counts().gradients;
+    cost.counts_at_start = VibrationalSystem::thread_counts();
     const Eigen::VectorXcd& v = seed_.linear_mode;
     const double amplitude = std::sqrt(2.0 * start_energy) / (omega_ * v.norm());
     Unknowns guess;
@@ -853,8 +1001,7 @@ CorrectorOutcome FamilySolver::continuation_step(double step, double& trial_step
   const double time_scale = tangent_time_scale_;
   const double scale = energy_scale(length);
   const double energy_rate = tangent_(2 * m_ + 1) * scale;  // dE per unit step
-  // Resolution of the backbone: cap the energy change per step.
-  const double energy_cap = options_.max_energy_step_fraction * energy_max;
+  const double energy_cap = energy_step_cap();
   trial_step = step;
   if (std::abs(energy_rate) * trial_step > energy_cap) trial_step = energy_cap / std::abs(energy_rate);
   final_step = energy_rate > 0.0 && current.energy + energy_rate * trial_step >= energy_max;
@@ -876,8 +1023,38 @@ CorrectorOutcome FamilySolver::continuation_step(double step, double& trial_step
   setup.target_energy = energy_max;
   setup.tangent = tangent_;
   setup.predicted = predicted;
+  setup.verify = true;
   if (final_step) guess.energy = energy_max;
   return correct(guess, setup);
+}
+
+double FamilySolver::energy_step_cap() const {
+  const double energy_max = options_.energy_max;
+  const double resolution = options_.max_energy_step_fraction * energy_max;
+  double cap = options_.straight_energy_step_fraction * energy_max;
+  if (recent_.size() < 3 || cap <= resolution) return resolution;
+  const StepMemory& a = recent_[0];
+  const StepMemory& b = recent_[1];
+  const StepMemory& c = recent_[2];
+  if (!(a.energy < b.energy && b.energy < c.energy)) return resolution;  // near a fold
+  // Curvature: the chord between points errs by ΔE²·|ω''|/8 at its middle.
+  const double second_derivative = 2.0 *
+                                   ((c.angular_frequency - b.angular_frequency) / (c.energy - b.energy) -
+                                    (b.angular_frequency - a.angular_frequency) / (b.energy - a.energy)) /
+                                   (c.energy - a.energy);
+  if (second_derivative != 0.0)
+    cap = std::min(cap, std::sqrt(8.0 * options_.backbone_tolerance * c.angular_frequency /
+                                  std::abs(second_derivative)));
+  // Events: where two multipliers approach each other, at most half the way to their
+  // meeting at the current rate; close to a meeting, the resolution.
+  if (std::isfinite(c.collision_distance)) {
+    constexpr double near_distance = 0.05;  // multipliers this close may meet within a step
+    if (c.collision_distance < near_distance) return resolution;
+    const double closing_rate = (b.collision_distance - c.collision_distance) / (c.energy - b.energy);
+    if (std::isfinite(closing_rate) && closing_rate > 0.0)
+      cap = std::min(cap, 0.5 * c.collision_distance / closing_rate);
+  }
+  return std::max(resolution, cap);
 }
 
 // Why the family stops after a corrector failure at the smallest step.
@@ -897,17 +1074,19 @@ ContinuationResult FamilySolver::finish_after_failure(ContinuationResult& result
       fmt::format("the corrector failed at the smallest step beyond {}: {}", energy_text(reached), failure));
 }
 
-// Step-size control from the corrector's effort: with the predictor's residual evaluation
-// and Broyden-updated chord steps a comfortable step takes about five integrations.
+// Step-size control from the corrector's effort: with the predictor's residual evaluation,
+// Broyden-updated chord steps and the accurate confirmation a comfortable step takes about
+// six integrations (most of them loose).
 double FamilySolver::next_step(double step, double trial_step, int iterations) const {
-  if (iterations <= 5) return std::min(options_.max_step, 1.5 * trial_step);
-  if (iterations >= 7) return std::max(options_.min_step, 0.6 * trial_step);
+  // One more than before: the loose iterations end with an accurate confirmation.
+  if (iterations <= 6) return std::min(options_.max_step, 1.5 * trial_step);
+  if (iterations >= 8) return std::max(options_.min_step, 0.6 * trial_step);
   return std::max(trial_step, std::min(step, options_.max_step));
 }
 
 ContinuationResult FamilySolver::run() {
   started_ = std::chrono::steady_clock::now();
-  gradients_before_ = system_.counts().gradients;
+  counts_before_ = VibrationalSystem::thread_counts();
   ContinuationResult result;
   result.reduced_dimension = m_;
   result.shift_denominator = r_;
@@ -926,7 +1105,7 @@ ContinuationResult FamilySolver::run() {
   double step = options_.initial_step;
   PointCost cost;
   cost.started = std::chrono::steady_clock::now();
-  cost.gradients_at_start = system_.counts().gradients;
+  cost.counts_at_start = VibrationalSystem::thread_counts();
   std::string last_failure;
   bool last_failure_escape = false;
   while (true) {
@@ -963,7 +1142,7 @@ ContinuationResult FamilySolver::run() {
     step = next_step(step, trial_step, corrected.iterations);
     cost = PointCost{};
     cost.started = std::chrono::steady_clock::now();
-    cost.gradients_at_start = system_.counts().gradients;
+    cost.counts_at_start = VibrationalSystem::thread_counts();
     if (final_step) return finish(result, ContinuationStatus::reached_energy_max, "reached energy_max");
     if (result.points.back().energy > energy_max) return finish_at_energy_max(result, cost);
     const double period_limit = options_.max_period_factor * 2.0 * units::pi / omega_;

@@ -14,19 +14,25 @@
 //        φ_{T/r}(y₀) = D(g) y₀        (y = (q, p), both in F).
 //  * Newton–Gauss on the consistent over-determined system {shooting equation, energy
 //    equation H(y₀) = E, phase condition ⟨y₀ − y_ref, ẏ_ref⟩ = 0}; the Jacobian of the
-//    last accepted point is reused (chord steps) and refreshed when convergence slows.
+//    last accepted point is reused with Broyden updates and refreshed when convergence
+//    stalls. Iterations integrate with a tolerance matched to the residual expected
+//    (newton_tolerance_max down to integration_tolerance); convergence is declared only on
+//    an accurate iteration, which at continuation points integrates the whole period with
+//    samples and so is the point's verification pass.
 //  * Pseudo-arclength continuation in (y₀, T, E) with a tangent predictor and step-size
-//    control, so folds in energy are passed and reported; the last point is solved at
-//    energy_max exactly with the energy fixed.
-//  * At every accepted point: one integration of the whole period with samples (closure,
-//    energy drift, amplitude, action, symmetry residuals on the trajectory) and one with
-//    the variational equations in the whole space (Floquet multipliers
+//    control by the corrector's effort, the backbone's curvature and the distance of the
+//    Floquet multipliers from ±1, so folds in energy are passed and reported; the last
+//    point is solved at energy_max exactly with the energy fixed.
+//  * At every accepted point: the whole period with samples (closure, energy drift,
+//    amplitude, action, symmetry residuals on the trajectory) and the variational
+//    equations in the whole space (Floquet multipliers
 //    M = D(g)^r (D(g)⁻¹ Φ(T/r))^r).
 //  * Semiclassical ladder: levels where J = ∮P·dQ / 2π = (n + ½)ħ, located by Hermite
 //    interpolation of E(J) (dE/dJ = ω) and refined by Newton in energy on the family.
 #include <Eigen/Dense>
 #include <complex>
 #include <cstddef>
+#include <functional>
 #include <limits>
 #include <string>
 #include <vector>
@@ -78,14 +84,27 @@ struct ContinuationOptions {
   // momenta divided by the amplitude and ω·amplitude) and the energy residual divided by
   // the harmonic energy scale ω²·amplitude² are below this. Dimensionless.
   double closure_tolerance = 1e-9;
+  // Newton iterations far from convergence integrate with a looser tolerance: a thousandth
+  // of the residual expected at that iteration, between integration_tolerance and this.
+  // Convergence is only declared on an integration at integration_tolerance, which at
+  // continuation points is also the whole-period verification pass (closure, drift,
+  // samples). Equal to integration_tolerance: every iteration at full accuracy.
+  double newton_tolerance_max = 1e-8;
   int max_newton_iterations = 10;  // per corrector, counting chord steps
   // Pseudo-arclength step in the scaled unknowns (≈ relative change of the orbit).
   double initial_step = 0.1;
   double min_step = 1e-5;
   double max_step = 0.5;
-  // Largest energy increase per step as a fraction of energy_max (sets the resolution of
-  // the backbone curve).
+  // Largest energy increase per step as a fraction of energy_max where the backbone bends
+  // or a stability event is near (the resolution of the backbone curve there).
   double max_energy_step_fraction = 0.05;
+  // Where the backbone is straight and no event is near, steps may grow up to this
+  // fraction of energy_max: the frequency, linearly interpolated between neighbouring
+  // points, stays within backbone_tolerance (relative) of the curve through the last
+  // three points, and no non-neutral Floquet multiplier is near ±1 or on course to reach
+  // it within the step. At most max_energy_step_fraction: fixed steps.
+  double straight_energy_step_fraction = 0.25;
+  double backbone_tolerance = 1e-4;
   int max_points = 400;  // accepted points per family
   // Samples per period for amplitude, energy drift and trajectory symmetry checks
   // (rounded up to a multiple of every time-shift denominator).
@@ -121,6 +140,9 @@ struct ContinuationOptions {
   // Newton in energy until |J − (n+½)ħ| < ladder_tolerance · ħ (dimensionless); 0 turns
   // refinement off (Hermite interpolation only).
   double ladder_tolerance = 1e-9;
+  // Told the energy (system units) of every accepted point, on the thread running the
+  // continuation; must not throw. Empty: nobody listens.
+  std::function<void(double energy)> on_point;
 };
 
 // Validates every field; throws Error naming the field, its value and the constraint.
@@ -172,7 +194,9 @@ struct OrbitPoint {
   int newton_iterations = 0;
   int variational_integrations = 0;
   int orbit_integrations = 0;
-  std::size_t gradient_evaluations = 0;
+  std::size_t gradient_evaluations = 0;     // including those of finite-difference Hessian products
+  std::size_t hessian_evaluations = 0;      // analytic Hessians of a molecule's potential
+  std::size_t hessian_vector_products = 0;  // analytic Hessian–vector products of a molecule's potential
   double seconds = 0.0;
 };
 
@@ -226,7 +250,10 @@ struct ContinuationResult {
   int orbit_integrations = 0;
   int rejected_steps = 0;             // continuation steps retried with a smaller step
   std::size_t integration_steps = 0;  // accepted integrator steps, all integrations
+  // Evaluations, the ladder's included (see OrbitPoint):
   std::size_t gradient_evaluations = 0;
+  std::size_t hessian_evaluations = 0;
+  std::size_t hessian_vector_products = 0;
   double seconds = 0.0;
   // Mean time of one period with whole-space variational equations (the benchmark's
   // unit of cost); 0 when none was run.

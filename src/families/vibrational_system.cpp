@@ -15,6 +15,30 @@ UnitConventions molecular_unit_conventions() {
   return conventions;
 }
 
+SystemEvaluationCounts& SystemEvaluationCounts::operator+=(const SystemEvaluationCounts& other) {
+  potentials += other.potentials;
+  gradients += other.gradients;
+  hessian_directions += other.hessian_directions;
+  hessians += other.hessians;
+  hessian_vector_products += other.hessian_vector_products;
+  return *this;
+}
+
+SystemEvaluationCounts SystemEvaluationCounts::operator-(const SystemEvaluationCounts& other) const {
+  SystemEvaluationCounts difference;
+  difference.potentials = potentials - other.potentials;
+  difference.gradients = gradients - other.gradients;
+  difference.hessian_directions = hessian_directions - other.hessian_directions;
+  difference.hessians = hessians - other.hessians;
+  difference.hessian_vector_products = hessian_vector_products - other.hessian_vector_products;
+  return difference;
+}
+
+SystemEvaluationCounts& VibrationalSystem::counters() {
+  thread_local SystemEvaluationCounts counts;
+  return counts;
+}
+
 Eigen::VectorXd VibrationalSystem::cartesian_displacement_angstrom(const Eigen::VectorXd&) const {
   return {};
 }
@@ -39,6 +63,7 @@ void VibrationalSystem::compute_hessian_times(const Eigen::VectorXd& q, const Ei
     out.noalias() = hessian * directions;
     return;
   }
+  out.resize(n, directions.cols());  // callers may pass an empty scratch matrix
   for (Eigen::Index k = 0; k < directions.cols(); ++k) {
     const double norm = directions.col(k).norm();
     if (norm == 0.0) {

@@ -35,13 +35,23 @@ struct UnitConventions {
 // The molecular internal units of core/units.hpp: kcal/mol, Å·Da^½, sqrt(Da Å²/(kcal/mol)).
 UnitConventions molecular_unit_conventions();
 
-// Counters of the expensive calls a system received (reset by the caller).
+// Counters of the expensive calls a system received.
 struct SystemEvaluationCounts {
   std::size_t potentials = 0;
   std::size_t gradients = 0;           // calls of gradient(), including those made by finite differences
   std::size_t hessian_directions = 0;  // directions passed to hessian_times()
+  // Molecules: what the potential was asked for behind hessian_times() (finite
+  // differences count as gradients above).
+  std::size_t hessians = 0;                 // analytic Hessians
+  std::size_t hessian_vector_products = 0;  // analytic Hessian–vector products
+  SystemEvaluationCounts& operator+=(const SystemEvaluationCounts& other);
+  SystemEvaluationCounts operator-(const SystemEvaluationCounts& other) const;
 };
 
+// Thread safety: the evaluations are const. A system whose
+// supports_concurrent_evaluation() is true may be evaluated from several threads at once
+// (the families stage then continues families in parallel); the counters are kept per
+// thread, so a computation running on one thread reads its own cost from thread_counts().
 class VibrationalSystem {
  public:
   virtual ~VibrationalSystem() = default;
@@ -51,19 +61,19 @@ class VibrationalSystem {
 
   // V(q) relative to the minimum. Counted.
   double potential(const Eigen::VectorXd& q) const {
-    ++counts_.potentials;
+    ++counters().potentials;
     return compute_potential(q);
   }
   // g = ∇V(q), resized to dimension(). Counted.
   void gradient(const Eigen::VectorXd& q, Eigen::VectorXd& g) const {
-    ++counts_.gradients;
+    ++counters().gradients;
     g.resize(dimension());
     compute_gradient(q, g);
   }
   // out = ∇²V(q) · directions (n × k in, n × k out). Counted by directions.
   void hessian_times(const Eigen::VectorXd& q, const Eigen::MatrixXd& directions,
                      Eigen::MatrixXd& out) const {
-    counts_.hessian_directions += static_cast<std::size_t>(directions.cols());
+    counters().hessian_directions += static_cast<std::size_t>(directions.cols());
     out.resize(dimension(), directions.cols());
     compute_hessian_times(q, directions, out);
   }
@@ -84,8 +94,11 @@ class VibrationalSystem {
   // is a molecule; an empty vector otherwise.
   virtual Eigen::VectorXd cartesian_displacement_angstrom(const Eigen::VectorXd& q) const;
 
-  const SystemEvaluationCounts& counts() const { return counts_; }
-  void reset_counts() const { counts_ = {}; }
+  // True when the evaluations may run on several threads at once (see the class comment).
+  virtual bool supports_concurrent_evaluation() const { return false; }
+
+  // Evaluations made on the calling thread so far, through every system.
+  static const SystemEvaluationCounts& thread_counts() { return counters(); }
 
  protected:
   virtual double compute_potential(const Eigen::VectorXd& q) const = 0;
@@ -99,9 +112,15 @@ class VibrationalSystem {
   // Finite-difference step along a unit vector, in the unit of q. Central differences
   // err by about step²·|V''''|/6 (truncation) plus ε·|∇V|/step (round-off).
   virtual double hessian_step() const { return 1e-4; }
+  // For implementations of compute_hessian_times that call a potential's analytic
+  // Hessian or Hessian–vector product.
+  static void count_hessians(std::size_t count) { counters().hessians += count; }
+  static void count_hessian_vector_products(std::size_t count) {
+    counters().hessian_vector_products += count;
+  }
 
  private:
-  mutable SystemEvaluationCounts counts_;
+  static SystemEvaluationCounts& counters();
 };
 
 }  // namespace overtone

@@ -163,7 +163,11 @@ void check_xyz_atom_counts(const std::string& path) {
     }
     if (!is_integer_line(lines[at])) return;  // not a count line: Open Babel reports what is wrong
     const std::size_t count_line = at;
-    const std::size_t count = std::stoul(lines[at].substr(lines[at].find_first_not_of(" \t")));
+    const std::string digits = lines[at].substr(lines[at].find_first_not_of(" \t"));
+    std::size_t count = 0;
+    const auto parsed = std::from_chars(digits.data(), digits.data() + digits.size(), count);
+    // A count beyond the file's lines (or beyond any integer) is Open Babel's to report.
+    if (parsed.ec != std::errc() || count > lines.size()) return;
     at += 2 + count;  // count, title, atoms
     if (at > lines.size()) return;
     std::size_t next = at;

@@ -232,7 +232,7 @@ MinimizeResult minimize(const Potential& potential, const Eigen::VectorXd& start
   result.gradient_evaluations = after.gradients - before.gradients;
   result.hessian_evaluations = after.hessians - before.hessians;
 
-  const double atoms = static_cast<double>(n / 3);
+  const double atoms = static_cast<double>(n) / 3.0;
   const double start_extent = extent(start_angstrom);
   const double end_extent = x.allFinite() ? extent(x) : std::numeric_limits<double>::infinity();
   const double expansion_limit = 2.0 * start_extent + options.max_expansion_angstrom;

@@ -8,6 +8,7 @@
 #include <map>
 #include <numeric>
 #include <optional>
+#include <set>
 #include <vector>
 
 #include "core/error.hpp"
@@ -96,8 +97,11 @@ std::optional<RelaxedStart> lowest_relaxed_start(const Molecule& molecule, const
 }  // namespace
 
 AnharmonicResult analyze_anharmonic(const AnalysisResult& analysis, const Potential& potential,
-                                    const AnharmonicOptions& options) {
+                                    const AnharmonicOptions& given_options) {
   require_minimum(analysis, "the anharmonic analysis");
+  AnharmonicOptions options = given_options;
+  if (!options.force_constants.progress) options.force_constants.progress = options.progress;
+  if (!options.vpt2.progress) options.vpt2.progress = options.progress;
   AnharmonicResult result;
   const auto start = std::chrono::steady_clock::now();
   if (analysis.symmetry_used) {
@@ -120,6 +124,31 @@ AnharmonicResult analyze_anharmonic(const AnalysisResult& analysis, const Potent
   return result;
 }
 
+namespace {
+
+// A scan that turns over at its first displacement found no barrier at all: along that
+// coordinate the energy falls (or cannot be evaluated) right next to the structure, which
+// is then no minimum of the potential there, whatever the Hessian said.
+void require_rise_along_every_mode(const AnalysisResult& analysis, const AmplitudeScanResult& scan,
+                                   const AmplitudeScanOptions& scan_options) {
+  for (const TurnoverFinding& finding : scan.findings) {
+    if (finding.barrier_cm1 > 0.0) continue;
+    const int fundamental = fundamental_of_mode_number(
+        analysis.modes, mode_number_of_index(analysis.modes).at(static_cast<std::size_t>(finding.mode)));
+    const double first_q = std::sqrt(2.0 * scan_options.max_quanta + 1.0) / scan_options.points;
+    throw Error(fmt::format(
+        "the structure is not a minimum of this potential along ν{}: in the {} direction the energy {} at "
+        "the "
+        "first step of the amplitude scan ({:.3g} of the dimensionless normal coordinate){}; the families of "
+        "nonlinear normal modes need a minimum",
+        fundamental, finding.direction > 0 ? "positive" : "negative",
+        finding.note.empty() ? "already falls below the structure's" : "cannot be evaluated", first_q,
+        finding.note.empty() ? "" : " (" + finding.note + ")"));
+  }
+}
+
+}  // namespace
+
 FamiliesResult analyze_families(const AnalysisResult& analysis, const Potential& potential,
                                 const FamiliesOptions& options) {
   require_minimum(analysis, "the families of nonlinear normal modes");
@@ -135,6 +164,7 @@ FamiliesResult analyze_families(const AnalysisResult& analysis, const Potential&
   AmplitudeScanOptions scan_options;
   scan_options.max_quanta = std::max(scan_options.max_quanta, top_energy_cm1 / frequencies.minCoeff());
   const AmplitudeScanResult scan = scan_normal_coordinates(potential, analysis.harmonic, scan_options);
+  require_rise_along_every_mode(analysis, scan, scan_options);
   MolecularSystemOptions system_options;
   if (scan.turns_over) system_options.escape_energy_cm1 = scan.lowest_barrier_cm1;
   FamiliesResult result =
@@ -152,6 +182,16 @@ FamiliesResult analyze_families(const AnalysisResult& analysis, const Potential&
         finding.hole ? " and falls into a hole" : ""));
   }
   return result;
+}
+
+std::vector<int> flagged_resonance_mode_numbers(const AnalysisResult& analysis,
+                                                const AnharmonicResult& anharmonic) {
+  std::set<int> fundamentals;
+  for (const Resonance& resonance : anharmonic.vpt2.resonances)
+    if (resonance.flagged)
+      for (const int set : resonance.sets)
+        fundamentals.insert(anharmonic.set_numbers.at(static_cast<std::size_t>(set)));
+  return mode_numbers_of_fundamentals(analysis, std::vector<int>(fundamentals.begin(), fundamentals.end()));
 }
 
 std::vector<ResonanceCrossCheck> cross_check_resonances(const AnalysisResult& analysis,
@@ -253,13 +293,20 @@ AnalysisResult analyze_molecule(const Molecule& molecule, const Potential& poten
   result.molecule = molecule;
   result.potential_description = potential.description();
 
+  const auto started = std::chrono::steady_clock::now();
+  const auto tell = [&](const char* step) {
+    if (options.progress) options.progress({step, 0, 0, "", seconds_since(started)});
+  };
   auto clock = std::chrono::steady_clock::now();
   if (options.optimize) {
+    tell("optimize");
     result.optimization = minimize(potential, molecule.coordinates(), options.minimize);
     if (result.optimization.diverged()) throw Error(result.optimization.message);
     result.optimized = true;
-    if (options.conformers != ConformerSearch::off && is_general_force_field(potential))
+    if (options.conformers != ConformerSearch::off && is_general_force_field(potential)) {
+      tell("conformer search");
       search_conformers(result, potential, options);
+    }
     result.molecule.set_coordinates(result.optimization.coordinates_angstrom);
     if (!result.optimization.converged()) result.warnings.push_back(result.optimization.message);
   }
@@ -284,6 +331,7 @@ AnalysisResult analyze_molecule(const Molecule& molecule, const Potential& poten
 
     clock = std::chrono::steady_clock::now();
     const Eigen::VectorXd x = result.molecule.coordinates();
+    tell("Hessian");
     result.hessian = compute_hessian(potential, x, options.hessian);
     result.timings.hessian_s += seconds_since(clock);
 
@@ -293,6 +341,7 @@ AnalysisResult analyze_molecule(const Molecule& molecule, const Potential& poten
     result.timings.symmetry_s += seconds_since(clock);
 
     clock = std::chrono::steady_clock::now();
+    tell("normal modes");
     result.harmonic =
         analyze_normal_modes(x, result.molecule.masses(), result.hessian.hessian, options.modes);
     result.timings.normal_modes_s += seconds_since(clock);

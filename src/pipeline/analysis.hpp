@@ -9,6 +9,7 @@
 #include "anharmonic/force_constants.hpp"
 #include "anharmonic/vpt2.hpp"
 #include "core/molecule.hpp"
+#include "core/progress.hpp"
 #include "families/families.hpp"
 #include "harmonic/harmonic.hpp"
 #include "molecule/conformer_starts.hpp"
@@ -47,6 +48,9 @@ struct AnalysisOptions {
   bool use_symmetry = true;
   SymmetryOptions symmetry;
   ModeSpeciesOptions species;
+  // Told when each step starts (stage "optimize", "conformer search", "Hessian", "normal
+  // modes"; no counts: these steps are short next to the later stages).
+  ProgressCallback progress;
 };
 
 struct StageTimings {
@@ -106,6 +110,8 @@ inline std::vector<int> mode_numbers_of_fundamentals(const AnalysisResult& analy
 struct AnharmonicOptions {
   ForceConstantOptions force_constants;
   Vpt2Options vpt2;
+  // Given to the force constants and VPT2 where their own progress fields are empty.
+  ProgressCallback progress;
 };
 
 struct AnharmonicResult {
@@ -131,6 +137,12 @@ AnharmonicResult analyze_anharmonic(const AnalysisResult& analysis, const Potent
 // reports why in its result.
 FamiliesResult analyze_families(const AnalysisResult& analysis, const Potential& potential,
                                 const FamiliesOptions& options);
+
+// The mode numbers (report numbering) of every set taking part in a resonance the
+// perturbative stage flagged: FamiliesOptions::resonance_mode_numbers, so that the default
+// selection for large molecules keeps the families that resonances involve.
+std::vector<int> flagged_resonance_mode_numbers(const AnalysisResult& analysis,
+                                                const AnharmonicResult& anharmonic);
 
 // A Fermi resonance 2ν_lower ≈ ν_upper as the two stages see it: the perturbative
 // symmetry rule (Γ_upper in the symmetric square of Γ_lower) against the families'

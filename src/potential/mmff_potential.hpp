@@ -66,6 +66,8 @@ class MmffPotential final : public Potential {
   std::size_t atom_count() const override { return terms_.atom_types.size(); }
   bool has_analytic_hessian() const override { return true; }
   bool has_analytic_hessian_vector_product() const override { return true; }
+  // The evaluation reads only the terms assigned at construction.
+  bool supports_concurrent_evaluation() const override { return true; }
   // Where the molecule lies outside what MMFF94 was parameterized for (radicals, ions).
   std::vector<std::string> warnings() const override { return applicability_warnings_; }
 

@@ -5,8 +5,11 @@
 // Molecule the potential was built for); energies are in kcal/mol relative to an
 // arbitrary zero; gradients in kcal/mol/Å are dE/dx (not forces); Hessians in
 // kcal/mol/Å² are symmetric. Every public evaluation is counted so that stages can
-// report how many evaluations they used.
+// report how many evaluations they used (the counters are atomic, so counting is safe
+// from several threads; whether the evaluations themselves are, says
+// supports_concurrent_evaluation()).
 #include <Eigen/Dense>
+#include <atomic>
 #include <cstddef>
 #include <memory>
 #include <string>
@@ -37,23 +40,27 @@ class Potential {
   // as evaluations find something; empty by default.
   virtual std::vector<std::string> warnings() const { return {}; }
   virtual bool has_analytic_hessian_vector_product() const { return false; }
+  // True when energy, gradient, Hessian and Hessian–vector product may be called from
+  // several threads at once on this object (no mutable state in the evaluation). False
+  // by default; the Open Babel force fields keep their state in Open Babel objects.
+  virtual bool supports_concurrent_evaluation() const { return false; }
 
   double energy(const Eigen::VectorXd& x) const {
     check_size(x);
-    ++counts_.energies;
+    counts_.energies.fetch_add(1, std::memory_order_relaxed);
     return compute_energy(x);
   }
   // Returns the energy; writes dE/dx into gradient (resized to 3N).
   double energy_and_gradient(const Eigen::VectorXd& x, Eigen::VectorXd& gradient) const {
     check_size(x);
-    ++counts_.gradients;
+    counts_.gradients.fetch_add(1, std::memory_order_relaxed);
     gradient.resize(x.size());
     return compute_energy_and_gradient(x, gradient);
   }
   // Analytic Hessian; throws Error when has_analytic_hessian() is false.
   Eigen::MatrixXd hessian(const Eigen::VectorXd& x) const {
     check_size(x);
-    ++counts_.hessians;
+    counts_.hessians.fetch_add(1, std::memory_order_relaxed);
     return compute_hessian(x);
   }
 
@@ -62,12 +69,25 @@ class Potential {
   Eigen::VectorXd hessian_vector_product(const Eigen::VectorXd& x, const Eigen::VectorXd& direction) const {
     check_size(x);
     check_size(direction);
-    ++counts_.hessian_vector_products;
+    counts_.hessian_vector_products.fetch_add(1, std::memory_order_relaxed);
     return compute_hessian_vector_product(x, direction);
   }
 
-  const EvaluationCounts& counts() const { return counts_; }
-  void reset_counts() const { counts_ = {}; }
+  // A snapshot of the counters.
+  EvaluationCounts counts() const {
+    EvaluationCounts snapshot;
+    snapshot.energies = counts_.energies.load(std::memory_order_relaxed);
+    snapshot.gradients = counts_.gradients.load(std::memory_order_relaxed);
+    snapshot.hessians = counts_.hessians.load(std::memory_order_relaxed);
+    snapshot.hessian_vector_products = counts_.hessian_vector_products.load(std::memory_order_relaxed);
+    return snapshot;
+  }
+  void reset_counts() const {
+    counts_.energies = 0;
+    counts_.gradients = 0;
+    counts_.hessians = 0;
+    counts_.hessian_vector_products = 0;
+  }
 
  protected:
   virtual double compute_energy(const Eigen::VectorXd& x) const = 0;
@@ -78,7 +98,10 @@ class Potential {
 
  private:
   void check_size(const Eigen::VectorXd& x) const;
-  mutable EvaluationCounts counts_;
+  struct AtomicCounts {
+    std::atomic<std::size_t> energies{0}, gradients{0}, hessians{0}, hessian_vector_products{0};
+  };
+  mutable AtomicCounts counts_;
 };
 
 }  // namespace overtone

@@ -87,6 +87,8 @@ class TaylorExpansionPotential : public Potential {
   std::string description() const override;
   std::size_t atom_count() const override { return static_cast<std::size_t>(data_.atomic_numbers.size()); }
   bool has_analytic_hessian() const override { return true; }
+  // The evaluation reads only the expansion loaded at construction.
+  bool supports_concurrent_evaluation() const override { return true; }
 
   const TaylorExpansionData& data() const { return data_; }
   // Energy (kcal/mol) below which evaluations throw: the estimated minimum minus the depth.

@@ -277,6 +277,8 @@ class ValenceForceField final : public Potential {
   std::string description() const override { return description_; }
   std::size_t atom_count() const override { return atom_count_; }
   bool has_analytic_hessian() const override { return true; }
+  // The evaluation reads only the terms parsed at construction.
+  bool supports_concurrent_evaluation() const override { return true; }
 
  protected:
   double compute_energy(const Eigen::VectorXd& x) const override {
@@ -517,12 +519,29 @@ void check_reference_range(const Reader& reader, const toml::node& node, const C
   }
 }
 
+// Optional fixed partial charges (elementary charges, one per element entry) for the
+// dipole of intensities (docs/valence-force-field.md, "Charges").
+void read_charges(const Reader& reader, const toml::table& root, ParsedFile& parsed) {
+  const toml::node* node = root.get("charges");
+  if (node == nullptr) return;
+  parsed.source.partial_charges = reader.numbers(*node, "charges");
+  if (parsed.source.partial_charges.size() != parsed.elements.size())
+    reader.fail(node, "key 'charges' must list one charge per element (" +
+                          std::to_string(parsed.elements.size()) + "), got " +
+                          std::to_string(parsed.source.partial_charges.size()));
+  for (const double charge : parsed.source.partial_charges)
+    if (!std::isfinite(charge) || std::abs(charge) > max_partial_charge_e)
+      reader.fail(node, "charges must be finite and at most " + std::to_string(max_partial_charge_e) +
+                            " in magnitude (elementary charges)");
+}
+
 ParsedFile parse_file(const std::string& text, const std::string& origin) {
   const toml::table root = parse_toml(text, origin);
   const Reader reader(origin);
   ParsedFile parsed;
-  reader.check_keys(root, "the top level",
-                    {"format_version", "title", "elements", "units", "source", "coordinates", "terms"});
+  reader.check_keys(
+      root, "the top level",
+      {"format_version", "title", "elements", "charges", "units", "source", "coordinates", "terms"});
 
   const toml::node& version = reader.require(root, "format_version", "the top level");
   if (version.value<int64_t>() != int64_t{1})
@@ -536,6 +555,7 @@ ParsedFile parse_file(const std::string& text, const std::string& origin) {
   if (parsed.elements.empty())
     reader.fail(root.get("elements"), "key 'elements' must list at least one element");
   parsed.source.elements = parsed.elements;
+  read_charges(reader, root, parsed);
 
   // Units.
   const toml::table* units_table = &reader.table(root, "units");

@@ -38,7 +38,14 @@ struct ValenceForceFieldSource {
   std::string notes;
   std::string isotopologue;  // the isotopologue reported wavenumbers refer to, e.g. "1H2-16O"
   std::vector<double> reported_harmonic_wavenumbers_cm1;  // as published for this force field; may be empty
+  // Fixed partial charges (elementary charges, atom order) for dipole intensities; empty
+  // when the file lists none (optional top-level key `charges`).
+  std::vector<double> partial_charges;
 };
+
+// Largest partial charge a file may give (elementary charges): no atom in a neutral or
+// singly charged molecule carries more than a few (common practice, no source).
+inline constexpr double max_partial_charge_e = 4.0;
 
 // Reads and validates the file without binding it to a molecule; throws Error like
 // load_valence_force_field.

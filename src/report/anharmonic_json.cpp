@@ -51,8 +51,8 @@ json force_constants_to_json(const AnharmonicResult& anharmonic, const std::vect
           {"evaluations_without_symmetry", counts_to_json(result.naive_evaluations)},
           {"seconds", anharmonic.force_constants_s},
           {"warnings", result.warnings},
-          {"cubic", cubic},
-          {"quartic", quartic}};
+          {"cubic", std::move(cubic)},
+          {"quartic", std::move(quartic)}};
 }
 
 // A per-mode matrix (harmonic order) rearranged into report order.
@@ -98,6 +98,19 @@ json quanta_by_fundamental(const std::vector<int>& set_quanta, const std::vector
   return quanta;
 }
 
+// [[ν number, quanta], ...] in ascending ν number: a component of a large polyad has a few
+// quanta whatever the number of modes, and a dense list per component would make the
+// document grow as the cube of the mode count.
+json sparse_quanta_by_fundamental(const SparseQuanta& quanta, const std::vector<int>& set_numbers) {
+  std::vector<std::pair<int, int>> pairs;
+  for (const auto& [set, count] : quanta)
+    pairs.emplace_back(set_numbers[static_cast<std::size_t>(set)], count);
+  std::sort(pairs.begin(), pairs.end());
+  json list = json::array();
+  for (const auto& [number, count] : pairs) list.push_back({number, count});
+  return list;
+}
+
 json levels_to_json(const AnharmonicResult& anharmonic) {
   const Vpt2Result& vpt2 = anharmonic.vpt2;
   const std::vector<int>& numbers = anharmonic.set_numbers;
@@ -108,8 +121,8 @@ json levels_to_json(const AnharmonicResult& anharmonic) {
       partners.push_back(level_label(vpt2.levels[static_cast<std::size_t>(partner)].set_quanta, numbers));
     json mixing = json::array();
     for (const LevelComponent& component : level.mixing)
-      mixing.push_back({{"label", level_label(component.set_quanta, numbers)},
-                        {"quanta", quanta_by_fundamental(component.set_quanta, numbers)},
+      mixing.push_back({{"label", level_label(dense_quanta(component.quanta, numbers.size()), numbers)},
+                        {"quanta", sparse_quanta_by_fundamental(component.quanta, numbers)},
                         {"sublevel", component.tag},
                         {"species", component.species},
                         {"weight", component.weight}});
@@ -152,6 +165,44 @@ json resonances_to_json(const AnharmonicResult& anharmonic) {
   return resonances;
 }
 
+json polyads_to_json(const AnharmonicResult& anharmonic) {
+  const Vpt2Result& vpt2 = anharmonic.vpt2;
+  const std::vector<int>& numbers = anharmonic.set_numbers;
+  json polyads = json::array();
+  for (const Polyad& polyad : vpt2.polyads) {
+    json manifolds = json::array(), levels = json::array(), resonances = json::array();
+    for (const auto& manifold : polyad.manifolds)
+      manifolds.push_back(level_label(dense_quanta(manifold, numbers.size()), numbers));
+    for (const int level : polyad.levels)
+      levels.push_back(level_label(vpt2.levels[static_cast<std::size_t>(level)].set_quanta, numbers));
+    for (const int resonance : polyad.resonances)
+      resonances.push_back(resonance_label(vpt2.resonances[static_cast<std::size_t>(resonance)], numbers));
+    polyads.push_back({{"number", polyads.size() + 1},
+                       {"levels", levels},
+                       {"manifolds", manifolds},
+                       {"resonances", resonances},
+                       {"state_count", polyad.state_count},
+                       {"reached_quanta_limit", polyad.reached_quanta_limit},
+                       {"cut_at_state_limit", polyad.cut_at_state_limit}});
+  }
+  return polyads;
+}
+
+json validity_to_json(const AnharmonicResult& anharmonic) {
+  const Vpt2Result& vpt2 = anharmonic.vpt2;
+  json modes = json::array();
+  for (const PerturbationCheck& check : vpt2.perturbation_checks)
+    modes.push_back({{"fundamental", anharmonic.set_numbers[static_cast<std::size_t>(check.set)]},
+                     {"harmonic_cm1", check.harmonic_cm1},
+                     {"anharmonic_ratio", check.anharmonic_ratio},
+                     {"largest_term", term_label(check.largest_term, vpt2, anharmonic.set_numbers)},
+                     {"beyond_perturbation", check.beyond_perturbation},
+                     {"excluded", check.excluded}});
+  return {{"ratio_limit", vpt2.perturbation_ratio_limit},
+          {"exclude_below_cm1", vpt2.exclude_below_cm1},
+          {"modes", modes}};
+}
+
 }  // namespace
 
 nlohmann::json anharmonic_to_json(const AnalysisResult& analysis, const AnharmonicResult& anharmonic) {
@@ -161,6 +212,8 @@ nlohmann::json anharmonic_to_json(const AnalysisResult& analysis, const Anharmon
   document["anharmonicity"] = anharmonicity_to_json(analysis, anharmonic);
   document["levels"] = levels_to_json(anharmonic);
   document["resonances"] = resonances_to_json(anharmonic);
+  document["polyads"] = polyads_to_json(anharmonic);
+  document["vpt2_validity"] = validity_to_json(anharmonic);
   document["anharmonic_summary"] = {{"status", to_string(anharmonic.vpt2.status)},
                                     {"message", anharmonic.vpt2.message},
                                     {"warnings", anharmonic.vpt2.warnings},

@@ -2,6 +2,8 @@
 
 #include <fmt/format.h>
 
+#include <memory>
+
 #include "anharmonic/taylor_export.hpp"
 #include "core/error.hpp"
 #include "core/text.hpp"
@@ -10,6 +12,7 @@
 #include "report/families_json.hpp"
 #include "report/families_report.hpp"
 #include "report/harmonic_report.hpp"
+#include "report/intensity_json.hpp"
 
 namespace overtone {
 
@@ -19,11 +22,12 @@ using nlohmann::json;
 
 // Adds the sections of one stage writer; a key written twice is a programming error of
 // the report stage, not something a user could cause.
-void merge_sections(json& document, const json& sections) {
+// Sections are moved in: a document of a large molecule holds tens of megabytes.
+void merge_sections(json& document, json sections) {
   for (auto item = sections.begin(); item != sections.end(); ++item) {
     if (document.contains(item.key()))
       throw Error("the report would write the JSON key '" + item.key() + "' twice");
-    document[item.key()] = item.value();
+    document[item.key()] = std::move(item.value());
   }
 }
 
@@ -41,10 +45,36 @@ const AnalysisResult& analysis_of(const RunResults& results) {
   return *results.analysis;
 }
 
-AnharmonicReportOptions anharmonic_options(const AnharmonicResult& anharmonic) {
+AnharmonicReportOptions anharmonic_options(const AnharmonicResult& anharmonic,
+                                           const IntensityResults* intensities = nullptr) {
   AnharmonicReportOptions options;
   options.set_numbers = anharmonic.set_numbers;
+  if (intensities && intensities->levels) options.intensities = &*intensities->levels;
   return options;
+}
+
+// Every cross-checked pair (full), or the pairs where the stages disagree and a count.
+std::string cross_check_text(const AnalysisResult& analysis, const RunResults& results, bool full) {
+  std::string lines;
+  int agreeing = 0;
+  for (const ResonanceCrossCheck& check :
+       cross_check_resonances(analysis, *results.anharmonic, *results.families)) {
+    if (!full && (!check.compared || check.agree)) {
+      agreeing += check.compared ? 1 : 0;
+      continue;
+    }
+    lines += "  " + resonance_cross_check_line(check) + "\n";
+  }
+  if (!full) {
+    if (lines.empty() && agreeing == 0) return "";
+    return fmt::format(
+               "\nFermi 1:2 resonances, perturbative rule against the families: pairs listed by both that "
+               "agree: {}{}\n",
+               agreeing, lines.empty() ? "" : "; these disagree:") +
+           lines;
+  }
+  if (lines.empty()) return "";
+  return "\nFermi 1:2 resonances, perturbative rule against the families:\n" + lines;
 }
 
 }  // namespace
@@ -96,6 +126,8 @@ nlohmann::json analysis_document(const RunResults& results) {
   if (results.anharmonic && results.families)
     merge_sections(document, resonance_cross_check_to_json(
                                  cross_check_resonances(analysis, *results.anharmonic, *results.families)));
+  if (results.intensities || !results.intensities_skipped.empty())
+    add_intensity_fields(document, analysis, results.intensities, results.intensities_skipped);
   make_strings_valid(document);
   return document;
 }
@@ -104,20 +136,29 @@ std::string json_text(const nlohmann::json& document) {
   return document.dump(2, ' ', false, json::error_handler_t::replace) + "\n";
 }
 
-std::string text_report(const RunResults& results) {
+void write_json(std::ostream& out, const nlohmann::json& document) {
+  // What dump() does, into the stream instead of a string.
+  nlohmann::detail::serializer<json> serializer(nlohmann::detail::output_adapter<char>(out), ' ',
+                                                json::error_handler_t::replace);
+  serializer.dump(document, true, false, 2);
+  out << "\n";
+}
+
+std::string text_report(const RunResults& results, const TextReportOptions& options) {
   const AnalysisResult& analysis = analysis_of(results);
+  const bool full = options.detail == ReportDetail::full;
   std::string text = modes_table(analysis);
-  if (results.anharmonic)
-    text += "\n" + anharmonic_report(results.anharmonic->force_constants, results.anharmonic->vpt2,
-                                     anharmonic_options(*results.anharmonic));
-  if (results.families) text += "\n" + families_text_report(*results.families, analysis.modes);
-  if (results.anharmonic && results.families) {
-    std::string lines;
-    for (const ResonanceCrossCheck& check :
-         cross_check_resonances(analysis, *results.anharmonic, *results.families))
-      lines += "  " + resonance_cross_check_line(check) + "\n";
-    if (!lines.empty()) text += "\nFermi 1:2 resonances, perturbative rule against the families:\n" + lines;
+  if (results.anharmonic) {
+    AnharmonicReportOptions anharmonic = anharmonic_options(*results.anharmonic);
+    anharmonic.detail = options.detail;
+    anharmonic.full_lists_note = options.full_lists_note;
+    text +=
+        "\n" + anharmonic_report(results.anharmonic->force_constants, results.anharmonic->vpt2, anharmonic);
   }
+  if (results.families)
+    text += "\n" + (full ? families_text_report(*results.families, analysis.modes)
+                         : families_summary_text(*results.families, analysis.modes));
+  if (results.anharmonic && results.families) text += cross_check_text(analysis, results, full);
   return text;
 }
 
@@ -137,11 +178,16 @@ std::vector<OutputFile> family_backbone_files(const AnalysisResult& analysis, co
 std::vector<OutputFile> analysis_files(const RunResults& results) {
   const AnalysisResult& analysis = analysis_of(results);
   std::vector<OutputFile> files;
-  files.push_back({"analysis.json", json_text(analysis_document(results))});
+  auto document = std::make_shared<const json>(analysis_document(results));
+  files.push_back({"analysis.json", "", [document](std::ostream& out) { write_json(out, *document); }});
+  TextReportOptions full;
+  full.detail = ReportDetail::full;
+  files.push_back({"report.txt", text_report(results, full)});
   files.push_back({"modes.csv", modes_csv(analysis)});
   if (results.anharmonic)
     files.push_back(
-        {"lines.csv", line_list_csv(results.anharmonic->vpt2, anharmonic_options(*results.anharmonic))});
+        {"lines.csv", line_list_csv(results.anharmonic->vpt2,
+                                    anharmonic_options(*results.anharmonic, results.intensities))});
   if (results.families)
     for (OutputFile& file : family_backbone_files(analysis, *results.families, "families"))
       files.push_back(std::move(file));

@@ -8,10 +8,13 @@
 // document; analysis_document merges them and refuses a key written twice. Every string
 // in the document is valid UTF-8 (text from input files passes through valid_utf8).
 #include <nlohmann/json.hpp>
+#include <ostream>
 #include <string>
 #include <vector>
 
 #include "pipeline/analysis.hpp"
+#include "pipeline/intensities.hpp"
+#include "report/anharmonic_report.hpp"
 #include "report/output_folder.hpp"
 
 namespace overtone {
@@ -24,6 +27,10 @@ struct RunResults {
   std::string anharmonic_skipped;
   const FamiliesResult* families = nullptr;
   std::string families_skipped;
+  // Intensities (src/pipeline/intensities.hpp); null with a reason, or null and empty when
+  // not requested (then the document has no intensity fields).
+  const IntensityResults* intensities = nullptr;
+  std::string intensities_skipped;
 };
 
 // Top-level key resonance_cross_check: one entry per Fermi 1:2 pair listed by either
@@ -40,10 +47,21 @@ nlohmann::json analysis_document(const RunResults& results);
 // The document as text: two-space indentation, a final newline; any string that is not
 // valid UTF-8 is replaced rather than refused.
 std::string json_text(const nlohmann::json& document);
+// The same text written to a stream as it is produced (no copy of the whole text).
+void write_json(std::ostream& out, const nlohmann::json& document);
+
+struct TextReportOptions {
+  // summary: what the console shows (fits a few screens at fifty modes: the anharmonic
+  // summary of AnharmonicReportOptions, one line per family, only the cross-check pairs
+  // where the stages disagree); full: every list and matrix (report.txt, --full-report).
+  ReportDetail detail = ReportDetail::summary;
+  // Where the full lists were written, said in the summary (AnharmonicReportOptions).
+  std::string full_lists_note;
+};
 
 // The console report: the modes table, then each later stage that ran, then (when both
 // ran) the resonance cross-check.
-std::string text_report(const RunResults& results);
+std::string text_report(const RunResults& results, const TextReportOptions& options = {});
 
 // The files of `overtone analyze`: analysis.json, modes.csv, lines.csv (when the
 // anharmonic stage ran) and families/family-NN-nuK.csv (one per continued family).

@@ -124,7 +124,10 @@ nlohmann::json families_to_json(const AnalysisResult& analysis, const FamiliesRe
                   {"variational_integrations", families.variational_integrations},
                   {"orbit_integrations", families.orbit_integrations},
                   {"gradient_evaluations", families.gradient_evaluations},
-                  {"seconds", families.seconds}};
+                  {"seconds", families.seconds},
+                  {"threads_used", families.threads_used},
+                  {"left_out_mode_numbers", families.left_out_mode_numbers},
+                  {"selection_note", families.selection_note}};
   return {{"families", list}, {"families_summary", summary}};
 }
 

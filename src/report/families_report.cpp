@@ -77,12 +77,14 @@ std::string families_summary(const FamiliesResult& result, const std::vector<Mod
   return out.str();
 }
 
-std::string families_text_report(const FamiliesResult& result, const std::vector<ModeLabel>& modes) {
+std::string families_summary_text(const FamiliesResult& result, const std::vector<ModeLabel>& modes) {
   const std::string& unit = result.units.energy_label;
   std::ostringstream out;
   out << "Families of nonlinear normal modes\n";
   out << "  system: " << printable_text(result.system_description) << "\n";
   for (const auto& note : result.notes) out << "  note: " << note << "\n";
+  if (!result.selection_note.empty())
+    out << "  note: " << result.selection_note << " (--mode N for one, --all-modes for every one)\n";
   out << fmt::format("  energies and wavenumbers in {}; periods in {}; actions in units of hbar\n", unit,
                      result.units.energy_label == "cm-1" ? "fs" : "time units");
   for (const auto& warning : result.warnings) out << "  warning: " << warning << "\n";
@@ -109,7 +111,13 @@ std::string families_text_report(const FamiliesResult& result, const std::vector
                          points.back().frequency_cm1, points.back().energy_cm1, status);
     }
   }
+  return out.str();
+}
 
+std::string families_text_report(const FamiliesResult& result, const std::vector<ModeLabel>& modes) {
+  const std::string& unit = result.units.energy_label;
+  std::ostringstream out;
+  out << families_summary_text(result, modes);
   for (std::size_t i = 0; i < result.families.size(); ++i) {
     const FamilyResult& family = result.families[i];
     const FamilyType& type = family.type;

@@ -19,7 +19,12 @@ namespace overtone {
 // status.
 std::string families_summary(const FamiliesResult& result, const std::vector<ModeLabel>& modes = {});
 
-// The table of families, then one section per family: its exact symmetry (subgroup
+// The heading, notes and warnings and the table of families (one line per family: its
+// fundamental, species, motion, points, frequency at the start and the end, energy reached,
+// status): the console summary.
+std::string families_summary_text(const FamiliesResult& result, const std::vector<ModeLabel>& modes = {});
+
+// The summary text, then one section per family: its exact symmetry (subgroup
 // operations and phases), resonance threats, backbone summary, stability and other
 // events, the semiclassical ladder next to the harmonic one, and the cost per point.
 std::string families_text_report(const FamiliesResult& result, const std::vector<ModeLabel>& modes = {});

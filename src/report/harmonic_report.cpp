@@ -110,7 +110,12 @@ nlohmann::json harmonic_to_json(const AnalysisResult& analysis) {
                           {"linear", harmonic.linear},
                           {"rigid_body_count", harmonic.rigid_body_count},
                           {"rigid_body_wavenumbers_cm1", rigid},
-                          {"rotation_vibration_coupling", "neglected"}};
+                          {"rotation_vibration_coupling", "neglected"},
+                          {"stage_seconds",
+                           {{"optimize", analysis.timings.optimize_s},
+                            {"hessian", analysis.timings.hessian_s},
+                            {"normal_modes", analysis.timings.normal_modes_s},
+                            {"symmetry", analysis.timings.symmetry_s}}}};
 
   json modes = json::array();
   for (const ModeLabel& label : analysis.modes) {

@@ -18,7 +18,7 @@ namespace {
 // replaced by a new run.
 bool is_own_file_name(const std::string& name) {
   const bool csv = name.size() > 4 && name.compare(name.size() - 4, 4, ".csv") == 0;
-  return name == "analysis.json" || name == "modes.csv" || name == "lines.csv" ||
+  return name == "analysis.json" || name == "modes.csv" || name == "lines.csv" || name == "report.txt" ||
          (csv && name.rfind("family-", 0) == 0);
 }
 
@@ -66,13 +66,16 @@ void check_relative(const std::string& relative) {
     throw Error("the output file name '" + relative + "' must be a relative path inside the folder");
 }
 
-void write_file(const fs::path& path, const std::string& content) {
+void write_file(const fs::path& path, const OutputFile& file) {
   std::error_code ec;
   fs::create_directories(path.parent_path(), ec);
   if (ec) throw Error("cannot create folder '" + path.parent_path().string() + "': " + ec.message());
   std::ofstream out(path, std::ios::binary);
   if (!out) throw Error("cannot open '" + path.string() + "' for writing");
-  out << content;
+  if (file.write)
+    file.write(out);
+  else
+    out << file.content;
   out.close();
   if (!out) throw Error("writing '" + path.string() + "' failed");
 }
@@ -103,7 +106,7 @@ OutputFolderResult write_output_folder(const std::string& folder, const std::vec
   result.folder = folder;
   try {
     for (const OutputFile& file : files) {
-      write_file(incomplete / file.relative_path, file.content);
+      write_file(incomplete / file.relative_path, file);
       result.written.push_back(file.relative_path);
     }
     const fs::path previous = sibling(target, "previous");

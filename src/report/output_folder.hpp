@@ -4,6 +4,8 @@
 // of them are written is that folder renamed to the target. A failed run removes its
 // temporary folder; an interrupted one leaves only that hidden, plainly named folder,
 // never a folder under the target name with part of the files.
+#include <functional>
+#include <ostream>
 #include <string>
 #include <vector>
 
@@ -12,6 +14,9 @@ namespace overtone {
 struct OutputFile {
   std::string relative_path;  // inside the folder, e.g. "analysis.json", "families/family-01-nu1.csv"
   std::string content;
+  // When set, writes the file instead of `content`: a large document goes straight to the
+  // file rather than through one string of its whole text.
+  std::function<void(std::ostream&)> write = nullptr;
 };
 
 struct OutputFolderResult {
@@ -21,7 +26,7 @@ struct OutputFolderResult {
 };
 
 // Writes the files into folder. An existing folder is replaced only when it is empty or
-// holds nothing but what this program writes (analysis.json, modes.csv, lines.csv, *.csv
+// holds nothing but what this program writes (analysis.json, report.txt, modes.csv, lines.csv, *.csv
 // backbones, a families/ folder of them); anything else there is left alone and Error is
 // thrown, as it is for a relative path that leaves the folder or a file that cannot be
 // written (the message names the path and the reason).

@@ -219,7 +219,7 @@ ProcessPool::~ProcessPool() {
 int ProcessPool::slots() const { return impl_->slots; }
 std::size_t ProcessPool::running() const { return impl_->children.size(); }
 
-void ProcessPool::start(std::size_t task, ChildWork work) {
+void ProcessPool::start(std::size_t task, const ChildWork& work) {
   if (!has_free_slot()) throw Error("no free slot in the process pool");
   int fds[2];
   if (pipe2(fds, O_CLOEXEC) != 0) throw Error(std::string("cannot create a pipe: ") + std::strerror(errno));

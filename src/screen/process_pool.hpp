@@ -51,7 +51,7 @@ class ProcessPool {
   bool has_free_slot() const { return running() < static_cast<std::size_t>(slots()); }
 
   // Starts the work in a new child. Throws Error when no slot is free or fork fails.
-  void start(std::size_t task, ChildWork work);
+  void start(std::size_t task, const ChildWork& work);
 
   // Waits up to max_wait_s for children to end (or to pass their time limit) and returns
   // those that did; returns early as soon as one ends.

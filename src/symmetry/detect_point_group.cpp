@@ -509,7 +509,7 @@ bool identify_cubic(const std::vector<FittedOperation>& ops, const GroupStructur
     return false;
   const bool octahedral = id.family == PointGroupFamily::O || id.family == PointGroupFamily::Oh;
   const std::vector<Eigen::Vector3d> axes = axes_of_order(ops, s, octahedral ? 4 : 2, true);
-  const Eigen::Vector3d x = axes.front();
+  const Eigen::Vector3d& x = axes.front();
   Eigen::Vector3d y = Eigen::Vector3d::Zero();
   for (const auto& a : axes)
     if (std::abs(a.dot(x)) < 0.1) {

@@ -90,8 +90,8 @@ std::string superscript_digits(const std::string& ascii) {
 
 Eigen::Matrix3d orthogonal_procrustes(const Eigen::Matrix3d& covariance_q_pt, int determinant_sign) {
   Eigen::JacobiSVD<Eigen::Matrix3d> svd(covariance_q_pt, Eigen::ComputeFullU | Eigen::ComputeFullV);
-  const Eigen::Matrix3d u = svd.matrixU();
-  const Eigen::Matrix3d v = svd.matrixV();
+  const Eigen::Matrix3d& u = svd.matrixU();
+  const Eigen::Matrix3d& v = svd.matrixV();
   Eigen::Vector3d signs(1.0, 1.0, 1.0);
   const double current = (u * v.transpose()).determinant();
   // Flip the direction of the smallest singular value when the determinant has the wrong sign.

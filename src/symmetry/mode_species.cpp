@@ -180,7 +180,7 @@ Eigen::MatrixXd common_eigenvectors(const std::vector<Eigen::MatrixXd>& blocks,
   }
   Eigen::SelfAdjointEigenSolver<Eigen::MatrixXd> solver(combination);
   Eigen::MatrixXd u = solver.eigenvectors();
-  const Eigen::VectorXd values = solver.eigenvalues();
+  const Eigen::VectorXd& values = solver.eigenvalues();
   constexpr double equal_eigenvalues = 1e-6;  // eigenvalues are sums of ±2^k: distinct ones differ by ≥ 2
   for (Eigen::Index start = 0; start < d;) {
     Eigen::Index end = start + 1;

@@ -4,6 +4,7 @@
 #include <gtest/gtest.h>
 
 #include <cmath>
+#include <vector>
 
 #include "anharmonic/force_constants.hpp"
 #include "core/error.hpp"
@@ -77,6 +78,28 @@ TEST(ForceConstants, AnalyticAndGradientRoutesAgree) {
   // Gradients at the distinct points p ± e_j of those displacements (no symmetry given).
   EXPECT_EQ(from_gradients.evaluations.gradients, from_gradients.naive_evaluations.gradients);
   EXPECT_EQ(from_gradients.evaluations.hessians, 0u);
+}
+
+TEST(ForceConstants, ProgressCountsEveryPointOfTheDifferenceScheme) {
+  // Central differences of Hessians for all quartic constants: the reference, ±h along each
+  // of the M modes and four mixed points per pair, 1 + 2M + 4·M(M−1)/2 = 1 + 2M² points
+  // (the scheme of Schneider and Thiel, Chem. Phys. Lett. 157, 367 (1989), from memory).
+  const auto water = prepare("water.xyz", "water.toml", h2_16o);
+  std::vector<ProgressEvent> events;
+  ForceConstantOptions options;
+  options.progress = [&](const ProgressEvent& event) { events.push_back(event); };
+  const ForceConstantResult result = compute_force_constants(*water.potential, water.harmonic, options);
+  ASSERT_TRUE(result.ok());
+  const int m = 3;
+  ASSERT_EQ(events.size(), static_cast<std::size_t>(1 + 2 * m * m));
+  for (std::size_t k = 0; k < events.size(); ++k) {
+    EXPECT_EQ(events[k].stage, "force constants");
+    EXPECT_EQ(events[k].done, static_cast<int>(k) + 1);
+    EXPECT_EQ(events[k].total, 1 + 2 * m * m);
+    if (k > 0) {
+      EXPECT_GE(events[k].seconds, events[k - 1].seconds);
+    }
+  }
 }
 
 TEST(ForceConstants, StepHalvingChangesLittle) {

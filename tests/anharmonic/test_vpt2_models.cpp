@@ -143,7 +143,7 @@ TEST(Vpt2ClosedForm, DeperturbedConstantsEqualSumsWithoutResonantPartners) {
   const detail::AnharmonicOperator op(fc.constants, w);
   const std::vector<detail::Quanta> moves{{2, 0, -1}, {1, 1, -1}};
   auto partners = [&](const detail::Quanta& n) {
-    std::set<detail::Quanta> excluded{n};
+    detail::StateSet excluded{n};
     for (const auto& d : moves)
       for (int sign : {1, -1}) {
         detail::Quanta p = n;
@@ -167,6 +167,50 @@ TEST(Vpt2ClosedForm, DeperturbedConstantsEqualSumsWithoutResonantPartners) {
                                                              {2, 1, 1}})
     EXPECT_NEAR(op.element(n, n, partners(n)) - e0, detail::term_value(w, x, n), algebra_tolerance_cm1)
         << "state " << n[0] << n[1] << n[2];
+}
+
+TEST(Vpt2ClosedForm, SecondOrderCouplingsEqualSumsOverTheDenseBasis) {
+  // The Van Vleck term ½ Σ_k ⟨m|V₃|k⟩⟨k|V₃|n⟩ [1/(E_m − E_k) + 1/(E_n − E_k)] between every
+  // pair of states with up to 3 quanta (0 to 6 quanta apart) of a four-mode field with every
+  // cubic constant nonzero, against the same sum over the whole dense basis (DenseModel,
+  // independent of the operator code; 7 states per mode hold every intermediate, at most
+  // 3 quanta above a state). The operator visits only the terms that can connect m and n.
+  const std::vector<double> omega{730.0, 1190.0, 1655.0, 2430.0};
+  const int modes = 4;
+  ForceConstantTensors t(modes);
+  int counter = 1;
+  for (int i = 0; i < modes; ++i)
+    for (int j = i; j < modes; ++j)
+      for (int k = j; k < modes; ++k) t.set_cubic(i, j, k, 40.0 * std::sin(1.9 * counter++));
+  const DenseModel dense(omega, 7);
+  const Eigen::MatrixXd v = dense.anharmonic(t);
+  const Eigen::Map<const Eigen::VectorXd> w(omega.data(), modes);
+  const detail::AnharmonicOperator op(t, w);
+  std::vector<detail::Quanta> states;
+  for (int a = 0; a <= 3; ++a)
+    for (int b = 0; a + b <= 3; ++b)
+      for (int c = 0; a + b + c <= 3; ++c)
+        for (int d = 0; a + b + c + d <= 3; ++d) states.push_back({a, b, c, d});
+  std::vector<detail::Quanta> basis;
+  for (int a = 0; a < 7; ++a)
+    for (int b = 0; b < 7; ++b)
+      for (int c = 0; c < 7; ++c)
+        for (int d = 0; d < 7; ++d) basis.push_back({a, b, c, d});
+  for (const auto& m : states)
+    for (const auto& n : states) {
+      const detail::StateSet excluded{m, n};
+      const double em = op.zeroth_order(m), en = op.zeroth_order(n);
+      double brute = 0.0;
+      for (const auto& k : basis) {
+        if (excluded.count(k)) continue;
+        const double product = v(dense.index(m), dense.index(k)) * v(dense.index(k), dense.index(n));
+        if (product == 0.0) continue;
+        const double ek = op.zeroth_order(k);
+        brute += 0.5 * product * (1.0 / (em - ek) + 1.0 / (en - ek));
+      }
+      EXPECT_NEAR(op.second_order(m, n, excluded), brute, algebra_tolerance_cm1)
+          << "states " << m[0] << m[1] << m[2] << m[3] << " and " << n[0] << n[1] << n[2] << n[3];
+    }
 }
 
 // Two-mode field scaled by λ: cubic constants ∝ λ, quartic ∝ λ², so VPT2 errs by O(λ⁴)

@@ -13,49 +13,24 @@
 #include <utility>
 #include <vector>
 
+#include "support/program_run.hpp"
+
 namespace {
 
 const std::string source_dir = OVERTONE_SOURCE_DIR;
-const std::string program = OVERTONE_BINARY;
 
-struct ProgramRun {
-  int status = -1;
-  std::string out;
-  std::string err;
-};
-
-std::string slurp(const std::string& path) {
-  std::ifstream in(path);
-  std::stringstream buffer;
-  buffer << in.rdbuf();
-  return buffer.str();
-}
+using overtone::testing::expect_one_line_error;
+using overtone::testing::ProgramRun;
+using overtone::testing::slurp;
 
 ProgramRun run(const std::string& arguments) {
-  // CTest runs tests as parallel processes: give every run its own files.
-  static int counter = 0;
-  const std::string base =
-      ::testing::TempDir() + "overtone-cli-" + std::to_string(getpid()) + "-" + std::to_string(++counter);
-  const std::string command = program + " " + arguments + " >" + base + ".out 2>" + base + ".err";
-  ProgramRun result;
-  const int raw = std::system(command.c_str());
-  result.status = WIFEXITED(raw) ? WEXITSTATUS(raw) : -1;
-  result.out = slurp(base + ".out");
-  result.err = slurp(base + ".err");
-  return result;
+  return overtone::testing::run_program_line(arguments, "overtone-cli-");
 }
 
 std::string write_temp(const std::string& name, const std::string& text) {
   const std::string path = ::testing::TempDir() + std::to_string(getpid()) + "-" + name;
   std::ofstream(path) << text;
   return path;
-}
-
-void expect_one_line_error(const ProgramRun& result, const std::string& fragment) {
-  EXPECT_EQ(result.status, 1) << result.err;
-  EXPECT_EQ(result.err.rfind("overtone: error: ", 0), 0u) << result.err;
-  EXPECT_EQ(std::count(result.err.begin(), result.err.end(), '\n'), 1) << result.err;
-  EXPECT_NE(result.err.find(fragment), std::string::npos) << result.err;
 }
 
 TEST(Cli, AnalyzeWritesJsonAndCsvWithTheDocumentedFields) {
@@ -198,6 +173,52 @@ TEST(Cli, AnalyzeIncludesTheAnharmonicAndFamiliesStages) {
   EXPECT_TRUE(std::filesystem::exists(out + "/lines.csv"));
   EXPECT_TRUE(std::filesystem::exists(out + "/families"));
   EXPECT_NE(result.out.find("2ν2 / ν1"), std::string::npos) << result.out;
+  // The console shows the summary and says where the full lists went; report.txt has them.
+  EXPECT_NE(result.out.find("report.txt (full text)"), std::string::npos) << result.out;
+  EXPECT_EQ(result.out.find("Anharmonicity constants x"), std::string::npos) << result.out;
+  const std::string full = slurp(out + "/report.txt");
+  EXPECT_NE(full.find("Anharmonicity constants x"), std::string::npos);
+  EXPECT_NE(full.find("semiclassical ladder"), std::string::npos);
+}
+
+TEST(Cli, ProgressGoesToStderrOnlyWhenAskedOnAPipe) {
+  const ProgramRun quiet = run("anharmonic " + example_arguments("water"));
+  ASSERT_EQ(quiet.status, 0) << quiet.err;
+  EXPECT_EQ(quiet.err.find("force constants"), std::string::npos) << quiet.err;
+  const ProgramRun shown = run("anharmonic " + example_arguments("water") + " --progress");
+  ASSERT_EQ(shown.status, 0) << shown.err;
+  EXPECT_NE(shown.err.find("overtone: force constants 19/19 (100%)"), std::string::npos) << shown.err;
+  EXPECT_NE(shown.err.find("overtone: VPT2"), std::string::npos) << shown.err;
+  EXPECT_EQ(shown.out.find("overtone: VPT2"), std::string::npos);
+}
+
+TEST(Cli, Vpt2ExclusionDropsTheLowModesAndRefusesBadValues) {
+  // Water's bend (about 1600 cm⁻¹) lies below 2000 cm⁻¹, its stretches above.
+  const ProgramRun reduced =
+      run("anharmonic " + example_arguments("water") + " --vpt2-exclude-below 2000 --json -");
+  ASSERT_EQ(reduced.status, 0) << reduced.err;
+  const auto document = nlohmann::json::parse(reduced.out);
+  EXPECT_EQ(document["vpt2_validity"]["exclude_below_cm1"].get<double>(), 2000.0);
+  int excluded = 0;
+  for (const auto& mode : document["vpt2_validity"]["modes"])
+    excluded += mode["excluded"].get<bool>() ? 1 : 0;
+  EXPECT_EQ(excluded, 1);
+  EXPECT_EQ(document["levels"].size(), 5u);  // 2 fundamentals, 2 overtones, 1 combination
+  const ProgramRun text = run("anharmonic " + example_arguments("water") + " --vpt2-exclude-below 2000");
+  EXPECT_NE(text.out.find("excluded from VPT2"), std::string::npos) << text.out;
+  expect_one_line_error(run("anharmonic " + example_arguments("water") + " --vpt2-exclude-below -3"),
+                        "--vpt2-exclude-below");
+  expect_one_line_error(run("anharmonic " + example_arguments("water") + " --vpt2-exclude-below 9000"),
+                        "excludes every mode");
+}
+
+TEST(Cli, AnharmonicFullReportGoesToTheNamedFile) {
+  const std::string full = write_temp("full-report.txt", "");
+  const ProgramRun result = run("anharmonic " + example_arguments("water") + " --full-report " + full);
+  ASSERT_EQ(result.status, 0) << result.err;
+  EXPECT_NE(result.out.find(full + " (full text)"), std::string::npos) << result.out;
+  EXPECT_NE(slurp(full).find("Levels (cm⁻¹"), std::string::npos);
+  EXPECT_EQ(result.out.find("Levels (cm⁻¹"), std::string::npos);
 }
 
 TEST(Cli, ExportedTaylorExpansionIsAPotentialForEveryCommand) {

@@ -372,6 +372,101 @@ TEST(MolecularFamilies, SmallAmplitudeSlopesMatchTheAnharmonicityConstants) {
   }
 }
 
+// Families are independent: continued on one thread or several, every number must be the
+// same (each family runs the same deterministic computation on whichever thread takes it).
+// One system object for all runs, so that the Hessian-product method chosen at its
+// construction is shared.
+TEST(MolecularFamilies, ResultsDoNotDependOnTheNumberOfThreads) {
+  const Prepared p = prepare("ammonia.xyz", "ammonia.toml");
+  const MolecularVibrationalSystem system(*p.potential, p.harmonic);
+  ASSERT_TRUE(system.supports_concurrent_evaluation());
+  const ModeSymmetry symmetry_of_modes = mode_symmetry(p.group, p.species, p.harmonic.mass_weighted_modes);
+  const std::vector<ModeBlock> blocks = molecular_mode_blocks(symmetry_of_modes, p.harmonic, {});
+  const CoordinateSymmetry symmetry = molecular_coordinate_symmetry(p.group, symmetry_of_modes, p.harmonic);
+  FamiliesOptions options = quick_options();
+  options.continuation.compute_floquet = true;
+  options.continuation.ladder_max_level = 1;
+  std::vector<ProgressEvent> events;
+  options.progress = [&events](const ProgressEvent& event) { events.push_back(event); };
+  options.threads = 1;
+  const FamiliesResult serial = compute_families(system, blocks, symmetry, options);
+  EXPECT_EQ(serial.threads_used, 1);
+  int continued = 0;
+  for (const FamilyResult& family : serial.families) continued += family.continued ? 1 : 0;
+  ASSERT_GE(continued, 4);  // NH3: two A1 families and three E types
+  // One report per family at least, counting up to the total.
+  int finished = 0;
+  for (const ProgressEvent& event : events) {
+    EXPECT_EQ(event.stage, "families");
+    EXPECT_EQ(event.total, continued);
+    finished = std::max(finished, event.done);
+  }
+  EXPECT_EQ(finished, continued);
+  for (const int threads : {2, 3}) {
+    options.threads = threads;
+    options.progress = nullptr;
+    const FamiliesResult parallel = compute_families(system, blocks, symmetry, options);
+    EXPECT_EQ(parallel.threads_used, threads);
+    ASSERT_EQ(parallel.families.size(), serial.families.size());
+    EXPECT_EQ(parallel.gradient_evaluations, serial.gradient_evaluations);
+    for (std::size_t f = 0; f < serial.families.size(); ++f) {
+      const ContinuationResult& a = serial.families[f].backbone;
+      const ContinuationResult& b = parallel.families[f].backbone;
+      EXPECT_EQ(a.status, b.status);
+      ASSERT_EQ(a.points.size(), b.points.size());
+      for (std::size_t i = 0; i < a.points.size(); ++i) {
+        EXPECT_EQ(a.points[i].energy, b.points[i].energy);
+        EXPECT_EQ(a.points[i].period, b.points[i].period);
+        EXPECT_EQ(a.points[i].action, b.points[i].action);
+        EXPECT_EQ(a.points[i].closure_error, b.points[i].closure_error);
+        EXPECT_EQ(a.points[i].floquet_moduli, b.points[i].floquet_moduli);
+      }
+      ASSERT_EQ(a.ladder.size(), b.ladder.size());
+      for (std::size_t i = 0; i < a.ladder.size(); ++i) EXPECT_EQ(a.ladder[i].energy, b.ladder[i].energy);
+      EXPECT_EQ(a.events.size(), b.events.size());
+    }
+  }
+}
+
+// The default selection above all_modes_up_to coordinates. Methane's fundamentals (Herzberg,
+// Infrared and Raman Spectra, 1945: ν4 1306, ν2 1534, ν1 2917, ν3 3019 cm⁻¹; this force field
+// puts them within a few percent) fall on both sides of 2000 cm⁻¹, so the stretches are
+// selected by wavenumber, the bend ν2 by a flagged resonance and ν4 is left out.
+TEST(MolecularFamilies, LargeSystemsContinueStretchesAndResonantModesByDefault) {
+  const Prepared p = prepare("methane.xyz", "methane.toml");
+  FamiliesOptions options = quick_options();
+  options.all_modes_up_to = 4;
+  options.selection_min_cm1 = 2000.0;
+  std::vector<int> e_block, lower_t2;
+  for (const ModeSet& set : p.species.sets) {
+    if (set.species == "E") e_block = set.modes;
+    if (set.species == "T2" && lower_t2.empty()) lower_t2 = set.modes;
+  }
+  ASSERT_EQ(e_block.size(), 2u);
+  ASSERT_EQ(lower_t2.size(), 3u);
+  options.resonance_mode_numbers = {e_block.front() + 1};
+  const FamiliesResult result =
+      compute_molecular_families(*p.potential, p.harmonic, p.group, p.species, {}, options);
+  std::vector<int> expected_left_out;
+  for (const int mode : lower_t2) expected_left_out.push_back(mode + 1);
+  EXPECT_EQ(result.left_out_mode_numbers, expected_left_out);
+  EXPECT_NE(result.selection_note.find("3 of the 9 modes"), std::string::npos) << result.selection_note;
+  for (const FamilyResult& family : result.families) {
+    const double wavenumber =
+        result.blocks[family.type.block].angular_frequency * result.units.cm1_per_angular_frequency;
+    const bool resonant = family.type.mode_numbers.front() == e_block.front() + 1;
+    EXPECT_EQ(family.continued, wavenumber >= 2000.0 || resonant) << family.type.description;
+  }
+  expect_orbits_keep_their_symmetry(result);
+
+  options.continue_families = false;  // the selection alone: everything when asked for all
+  options.all_modes = true;
+  EXPECT_TRUE(compute_molecular_families(*p.potential, p.harmonic, p.group, p.species, {}, options)
+                  .left_out_mode_numbers.empty());
+  options.mode_numbers = {1};
+  EXPECT_THROW(options.validate(), Error);  // all modes and a list
+}
+
 TEST(MolecularFamilies, OptionsAreChecked) {
   FamiliesOptions options;
   EXPECT_THROW(options.validate(), Error);  // neither energy nor quanta

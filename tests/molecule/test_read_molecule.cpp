@@ -262,6 +262,15 @@ TEST(ReadMolecule, XyzFileWithMoreAtomLinesThanItsCountIsRefused) {
   EXPECT_EQ(read_all_molecules(two).size(), 2u);
 }
 
+TEST(ReadMolecule, XyzAtomCountBeyondAnyIntegerIsAReadErrorNotACrash) {
+  // Found by the XYZ fuzz target: a count line of 23 digits threw std::out_of_range from
+  // the atom-count check instead of a read error.
+  const std::string huge = write_temp("huge-count.xyz", "99999999999999999999999\ntitle\nH 0 0 0\n");
+  expect_error_containing([&] { read_molecule(huge); }, "no molecule could be read");
+  const std::string beyond_file = write_temp("long-count.xyz", "1000000\ntitle\nH 0 0 0\n");
+  expect_error_containing([&] { read_molecule(beyond_file); }, "no molecule could be read");
+}
+
 TEST(ReadMolecule, IsotopeChoicesAreParsedStrictlyAndBounded) {
   const IsotopeChoice choice = parse_isotope_choice("12=13");
   EXPECT_EQ(choice.atom_number, 12);

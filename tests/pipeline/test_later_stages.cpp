@@ -52,6 +52,25 @@ const ResonanceCrossCheck* find_pair(const std::vector<ResonanceCrossCheck>& che
   return nullptr;
 }
 
+TEST(LaterStages, ProgressReachesEveryStageThroughTheOptions) {
+  std::vector<std::string> stages;
+  AnalysisOptions analysis_options;
+  analysis_options.progress = [&](const ProgressEvent& event) { stages.push_back(event.stage); };
+  const Analysed water = run("water", analysis_options);
+  for (const char* step : {"optimize", "Hessian", "normal modes"})
+    EXPECT_NE(std::find(stages.begin(), stages.end(), step), stages.end()) << step;
+  std::vector<ProgressEvent> events;
+  AnharmonicOptions options;
+  options.progress = [&](const ProgressEvent& event) { events.push_back(event); };
+  const AnharmonicResult anharmonic = analyze_anharmonic(water.analysis, *water.potential, options);
+  ASSERT_FALSE(events.empty());
+  EXPECT_EQ(events.front().stage, "force constants");
+  // The last event closes the VPT2 stage: every resonance group done.
+  EXPECT_EQ(events.back().stage, "VPT2");
+  EXPECT_GT(events.back().total, 0);
+  EXPECT_EQ(events.back().done, events.back().total);
+}
+
 TEST(LaterStages, CarbonDioxideFermiDyadSeenByBothStages) {
   const Analysed co2 = run("carbon-dioxide");
   const AnharmonicResult anharmonic = analyze_anharmonic(co2.analysis, *co2.potential);
@@ -78,6 +97,10 @@ TEST(LaterStages, CarbonDioxideFermiDyadSeenByBothStages) {
   EXPECT_EQ(dyad->families_of_lower, 2);
   EXPECT_EQ(dyad->families_allowed, 1);
   EXPECT_TRUE(dyad->agree);
+  // The default selection of large molecules keeps the dyad's modes: ν1 and both ν2 modes
+  // (the bend is doubly degenerate), not ν3.
+  std::vector<int> expected = mode_numbers_of_fundamentals(co2.analysis, {1, 2});
+  EXPECT_EQ(flagged_resonance_mode_numbers(co2.analysis, anharmonic), expected);
 }
 
 TEST(LaterStages, MethaneAndAmmoniaResonanceRulesAgree) {
@@ -190,6 +213,43 @@ TEST(LaterStages, ATurnedOverExpansionStopsTheFamilyWithAClearReason) {
   for (const std::string& warning : families.warnings)
     warned = warned || warning.find("turns over along ν1") != std::string::npos;
   EXPECT_TRUE(warned);
+}
+
+// An expansion whose cubic term is so strong that the barrier, (2/3)ω³/φ₃² (closed form, as
+// above), lies below the amplitude scan's first step: the structure is no minimum of this
+// potential at the scan's resolution. The stage must say so in plain words, not name an
+// internal option.
+TEST(LaterStages, AStructureThatIsNoMinimumAlongAModeIsRefusedPlainly) {
+  ReadOptions read;
+  read.isotopes = {{1, 1}, {2, 35}};
+  const Molecule molecule = read_molecule(source_dir + "/molecules/hcl.xyz", read).molecule;
+  const auto morse = make_potential(source_dir + "/potentials/hcl-morse.toml", molecule);
+  const AnalysisResult morse_analysis = analyze_molecule(molecule, *morse);
+  const AnharmonicResult anharmonic = analyze_anharmonic(morse_analysis, *morse);
+  TaylorExpansionData data = taylor_expansion_from_force_constants(
+      anharmonic.force_constants, anharmonic.harmonic, morse_analysis.molecule, ExpansionCoordinates::normal);
+  const double omega = anharmonic.force_constants.frequencies_cm1[0];
+  const double phi3 = anharmonic.force_constants.constants.cubic(0, 0, 0);
+  // φ₃ = 40ω: the barrier sits at |q| = 0.05 and is 4e-4 ω high; the scan's first step is
+  // |q| = sqrt(2·10 + 1)/40 ≈ 0.11, where the cubic term already wins.
+  constexpr double kCubicOverOmega = 40.0;
+  data.derivatives.erase(std::remove_if(data.derivatives.begin(), data.derivatives.end(),
+                                        [](const ExpansionDerivative& d) { return d.indices.size() == 4; }),
+                         data.derivatives.end());
+  for (ExpansionDerivative& d : data.derivatives)
+    if (d.indices.size() == 3) d.value *= kCubicOverOmega * omega / std::abs(phi3);
+  const TaylorExpansionPotential steep(data, morse_analysis.molecule);
+  const AnalysisResult analysis = analyze_molecule(morse_analysis.molecule, steep);
+  FamiliesOptions options;
+  options.quanta = 1.0;
+  try {
+    analyze_families(analysis, steep, options);
+    FAIL() << "expected an error";
+  } catch (const Error& error) {
+    const std::string message = error.what();
+    EXPECT_NE(message.find("not a minimum of this potential along ν1"), std::string::npos) << message;
+    EXPECT_EQ(message.find("escape_energy"), std::string::npos) << message;
+  }
 }
 
 }  // namespace

@@ -19,10 +19,12 @@ namespace {
 
 // Titles a file could carry: Latin-1 bytes, control characters, quotes, backslashes,
 // newlines, and text that would be TOML keys if it were not escaped.
+constexpr char control_title[] = "bell\x07 nul\0 esc\x1B[2J del\x7F";  // NUL inside
+
 const std::vector<std::string> hostile_titles = {
     "eau liquide \xE9t\xE9 \xB0"
     "C",
-    std::string("bell\x07 nul\0 esc\x1B[2J del\x7F", 27),
+    std::string(control_title, sizeof control_title - 1),
     "a \"quoted\" \\back\\slash\\",
     "line one\nline two\r\ncoordinates = \"cartesian\"\n[units]\nenergy = \"hartree\"",
     "\xC3\x28 broken \xF0\x9F\x98 tail \xE2\x82",

@@ -79,6 +79,15 @@ TEST(StageJson, AnharmonicDocumentOfCarbonDioxide) {
       found_corrected_fundamental = !level.at("resonance_corrected_cm1").is_null();
       ASSERT_EQ(level.at("partners").size(), 1u);
       EXPECT_EQ(level.at("partners")[0], "2ν2");
+      // The Fermi dyad ν1 / 2ν2 (Fermi 1931): the state is a mixture of ν1 and 2ν2, whose
+      // components carry their quanta as sparse [ν number, quanta] pairs.
+      bool mixes_overtone = false;
+      for (const auto& component : level.at("mixing"))
+        if (component.at("label") == "2ν2") {
+          mixes_overtone = true;
+          EXPECT_EQ(component.at("quanta"), nlohmann::json::parse("[[2, 2]]"));
+        }
+      EXPECT_TRUE(mixes_overtone);
     }
   }
   EXPECT_TRUE(found_corrected_fundamental);
