@@ -20,6 +20,7 @@
 #include <vector>
 
 #include "cli/intensity_hook.hpp"
+#include "cli/report_command.hpp"
 #include "cli/spectrum_assign.hpp"
 #include "core/error.hpp"
 #include "core/text.hpp"
@@ -442,12 +443,14 @@ struct AnalyzeSwitches {
   bool skip_anharmonic = false;
   bool skip_families = false;
   double exclude_below_cm1 = 0.0;
+  std::vector<double> orbit_energies_cm1;  // --orbit-energy
 };
 
 int run_analyze(const MoleculeArguments& arguments, const FamilyArguments& family_arguments,
                 const AnalyzeSwitches& switches, const std::string& out_directory) {
   check_family_arguments(family_arguments);
   check_exclusion(switches.exclude_below_cm1);
+  const OrbitFramesOptions orbit_options = cli::orbit_frames_options(switches.orbit_energies_cm1);
   const AnalysedMolecule analysed = run_analysis(arguments);
   const AnalysisResult& analysis = analysed.analysis;
   const Potential& potential = *analysed.potential;
@@ -480,6 +483,11 @@ int run_analyze(const MoleculeArguments& arguments, const FamilyArguments& famil
       results.families_skipped = error.what();
     }
   }
+  std::optional<OrbitFramesResult> orbits;
+  if (families) {
+    orbits = sample_family_orbits(analysis, potential, *families, orbit_options);
+    results.family_orbits = &*orbits;
+  }
 
   cli::IntensityOutcome intensities;
   add_intensities(arguments, analysed, results.anharmonic, intensities, results);
@@ -488,9 +496,11 @@ int run_analyze(const MoleculeArguments& arguments, const FamilyArguments& famil
   summary.full_lists_note =
       "report.txt (full text), analysis.json and lines.csv in " + printable_text(out_directory);
   report_out() << text_report(results, summary);
-  std::cout << "\nwrote " << written.written.size() << " files (analysis.json, report.txt, modes.csv"
+  std::cout << "\nwrote " << written.written.size() << " files (analysis.json, report.txt, report.html, animations/*.xyz, modes.csv"
             << (anharmonic ? ", lines.csv" : "") << (families ? ", families/*.csv" : "") << ") to "
             << out_directory << "\n";
+  std::cout << "open " << (std::filesystem::path(out_directory) / "report.html").string()
+            << " in a web browser for plots and animations\n";
   return 0;
 }
 
@@ -784,7 +794,7 @@ bool unknown_command(CLI::App& app, int argc, char** argv) {
     if (command->check_name(argv[1])) return false;
   std::cerr << "overtone: error: unknown command '" << printable_text(argv[1])
             << "' (commands: modes, analyze, anharmonic, families, symmetry, screen, screen-report, "
-               "merge-stores, spectrum, assign; see overtone --help)\n";
+               "merge-stores, spectrum, assign, report; see overtone --help)\n";
   return true;
 }
 
@@ -818,6 +828,7 @@ int main(int argc, char** argv) {
   analyze->add_flag("--no-anharmonic", analyze_switches.skip_anharmonic, "leave out the anharmonic stage");
   analyze->add_flag("--no-families", analyze_switches.skip_families, "leave out the families stage");
   add_exclusion_option(*analyze, analyze_switches.exclude_below_cm1);
+  cli::add_orbit_energy_option(*analyze, analyze_switches.orbit_energies_cm1);
 
   MoleculeArguments anharmonic_arguments;
   AnharmonicPaths anharmonic_paths;
@@ -879,6 +890,8 @@ int main(int argc, char** argv) {
   CLI::App* spectrum = cli::add_spectrum_command(app, spectrum_arguments);
   cli::AssignArguments assign_arguments;
   CLI::App* assign = cli::add_assign_command(app, assign_arguments);
+  cli::ReportArguments html_arguments;
+  CLI::App* html_report = cli::add_report_command(app, html_arguments);
 
   if (unknown_command(app, argc, argv)) return user_error_status;
   try {
@@ -904,6 +917,7 @@ int main(int argc, char** argv) {
     if (*merge) return run_merge_stores(merge_output, merge_inputs);
     if (*spectrum) return cli::run_spectrum(spectrum_arguments);
     if (*assign) return cli::run_assign(assign_arguments);
+    if (*html_report) return cli::run_report_command(html_arguments);
   } catch (const overtone::Error& error) {
     progress_display().clear();
     std::cerr << "overtone: error: " << printable_text(error.what()) << "\n";
