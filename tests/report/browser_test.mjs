@@ -104,7 +104,7 @@ async function checkReport(browser, name, folder, observedCount, screenshotDir) 
   const drawn = await viewerDrawnFraction(page, '#mode-viewer');
   check(drawn >= MIN_DRAWN_FRACTION, prefix + `mode viewer blank (drawn fraction ${drawn})`);
   if ((document.family_orbits || []).length) {
-    const orbitDrawn = await viewerDrawnFraction(page, `[data-viewer=orbit-${document.family_orbits[0].family}]`);
+    const orbitDrawn = await viewerDrawnFraction(page, '[data-viewer=orbit]');
     check(orbitDrawn >= MIN_DRAWN_FRACTION, prefix + `orbit viewer blank (drawn fraction ${orbitDrawn})`);
   }
   await page.screenshot({ path: path.join(screenshotDir, `${name}.png`), fullPage: true });

@@ -113,7 +113,10 @@
     return found;
   }
 
-  function seconds(value) { return isNumber(value) ? value.toFixed(3) + ' s' : '—'; }
+  function seconds(value) {
+    if (!isNumber(value)) return '—';
+    return value < 1 ? (1000 * value).toPrecision(3) + ' ms' : value.toFixed(2) + ' s';
+  }
 
   function buildSummary(body) {
     var molecule = data.molecule || {};
@@ -126,7 +129,7 @@
       ['potential', (data.potential || {}).description || '—'],
       ['point group', ((data.symmetry || {}).display_name || data.point_group || '—') +
         ((data.symmetry || {}).vibrational_representation_display ? ', Γvib = ' + data.symmetry.vibrational_representation_display : '')],
-      ['optimization', (opt.status || '—') + (opt.message ? ': ' + opt.message : '')],
+      ['optimization', opt.message || opt.status || '—'],
       ['Hessian', (harmonic.hessian_method || '—') + (harmonic.linear ? ', linear molecule' : '')],
       ['anharmonic stage', data.anharmonic_summary ? data.anharmonic_summary.message : (data.anharmonic_skipped || 'not run')],
       ['families stage', data.families_summary ? list(data.families).length + ' families, ' + data.families_summary.points + ' orbits' : (data.families_skipped || 'not run')],
@@ -377,14 +380,15 @@
   function backboneOverview(families) {
     var points = [];
     families.forEach(function (f) {
-      list(f.points).forEach(function (p) { points.push({ family: familyName(f), energy: p.energy_cm1, frequency: p.frequency_cm1 }); });
+      var origin = vpt2Slope(f) ? vpt2Slope(f).omega : (list(f.points)[0] || {}).frequency_cm1;
+      list(f.points).forEach(function (p) { points.push({ family: familyName(f), energy: p.energy_cm1, shift: p.frequency_cm1 - origin }); });
     });
     var plot = Plot.plot({
       width: 1080, height: 320, color: { legend: true },
-      x: { label: 'energy above the minimum / cm⁻¹', grid: true }, y: { label: 'frequency / cm⁻¹', grid: true },
-      marks: [Plot.line(points, { x: 'energy', y: 'frequency', z: 'family', stroke: 'family', strokeWidth: 2, className: 'mk-backbone' })]
+      x: { label: 'energy above the minimum / cm⁻¹', grid: true }, y: { label: 'frequency − harmonic wavenumber / cm⁻¹', grid: true },
+      marks: [Plot.ruleY([0]), Plot.line(points, { x: 'energy', y: 'shift', z: 'family', stroke: 'family', strokeWidth: 2, className: 'mk-backbone' })]
     });
-    return figure(plot, 'backbones', 'One backbone per continued family.');
+    return figure(plot, 'backbones', 'One backbone per continued family: shift of the orbit frequency from the harmonic wavenumber of its mode (or from its first orbit).');
   }
 
   function familyBackbone(f) {
@@ -458,20 +462,29 @@
     return figure(plot, 'ladder-' + f.family, 'Quantized orbits (E_n − E_0) against the VPT2 overtones nν of the same mode.');
   }
 
-  function orbitViewer(f) {
-    var orbits = list(data.family_orbits).filter(function (o) { return o.family === f.family; });
-    if (!orbits.length) return el('p', { className: 'absent', text: 'No orbit animation for this family.' });
-    var box = el('div', { className: 'viewer', 'data-viewer': 'orbit-' + f.family });
+  // One viewer for every family's orbits (a page holds few WebGL contexts, and each one
+  // animates in software where there is no GPU).
+  function orbitViewer(families) {
+    var orbits = list(data.family_orbits);
+    if (!orbits.length) return el('p', { className: 'absent', text: 'No orbit animation in this document.' });
+    var nameOf = {};
+    families.forEach(function (f) { nameOf[f.family] = familyName(f); });
+    var box = el('div', { className: 'viewer', 'data-viewer': 'orbit' });
     var caption = el('div', { className: 'viewer-caption' });
-    var select = el('select', { 'aria-label': 'orbit energy' }, orbits.map(function (o, i) { return el('option', { value: String(i), text: fixed(o.energy_cm1, 0) + ' cm⁻¹' }); }));
-    var wrapper = el('div', {}, [el('p', {}, ['Periodic orbit at ', select]), box, caption]);
+    var select = el('select', { 'aria-label': 'orbit' }, orbits.map(function (o, i) {
+      return el('option', { value: String(i), text: (nameOf[o.family] || 'family ' + o.family) + ' at ' + fixed(o.energy_cm1, 0) + ' cm⁻¹' });
+    }));
+    var wrapper = el('div', { className: 'split' }, [el('div', {}, [el('p', {}, ['Periodic orbit: ', select]), caption]), box]);
     var viewer = null;
     function draw() {
       var o = orbits[Number(select.value)];
       if (!viewer) viewer = makeViewer(box);
-      showFrames(viewer, o.frames_angstrom, 'family ' + f.family);
-      caption.textContent = 'One period at ' + fixed(o.energy_cm1, 1) + ' cm⁻¹ (asked: ' + fixed(o.requested_energy_cm1, 1) + (o.outside_backbone ? ', beyond the computed backbone' : '') +
-        '), frequency ' + fixed(o.frequency_cm1, 2) + ' cm⁻¹, period ' + fixed(o.period_fs, 2) + ' fs, largest atom amplitude ' + fixed(o.amplitude_angstrom, 3) + ' Å.';
+      showFrames(viewer, o.frames_angstrom, 'family ' + o.family);
+      caption.textContent = 'One period at ' + fixed(o.energy_cm1, 1) + ' cm⁻¹ above the minimum (asked: ' + fixed(o.requested_energy_cm1, 1) +
+        (o.outside_backbone ? ', beyond the computed backbone, whose nearest end is drawn' : '') + '), frequency ' + fixed(o.frequency_cm1, 2) +
+        ' cm⁻¹, period ' + fixed(o.period_fs, 2) + ' fs, largest atom amplitude ' + fixed(o.amplitude_angstrom, 3) +
+        ' Å, closure after one period ' + (isNumber(o.closure_angstrom) ? o.closure_angstrom.toExponential(1) : '—') + ' Å. The same frames are in animations/family-' +
+        String(o.family).padStart(2, '0') + '.xyz.';
     }
     select.addEventListener('change', draw);
     // Drawn once the box is laid out (the viewer sizes its canvas from it).
@@ -484,17 +497,15 @@
     if (!families.length) return absent(body, 'No families: the families stage ' + (data.families_skipped ? 'was skipped: ' + data.families_skipped : 'did not run') + '.');
     var continued = families.filter(function (f) { return f.continued && list(f.points).length; });
     if (continued.length) body.appendChild(backboneOverview(continued));
+    body.appendChild(el('h3', { text: 'Orbit animation' }));
+    body.appendChild(orbitViewer(families));
     families.forEach(function (f) {
       var part = el('div', { className: 'family', 'data-family': String(f.family) }, [el('h3', { text: familyName(f) + ' — ' + (f.description || '') })]);
       part.appendChild(el('p', { className: 'note', text: 'status: ' + f.status + (f.message ? ' (' + f.message + ')' : '') + ', ' + list(f.points).length + ' orbits' }));
       body.appendChild(part);
       if (!f.continued || !list(f.points).length) return;
       part.appendChild(familyBackbone(f));
-      var side = el('div', { className: 'split' });
-      var ladderBox = el('div', {}, [ladderPlot(f), ladderTable(f)]);
-      side.appendChild(ladderBox);
-      side.appendChild(orbitViewer(f));
-      part.appendChild(side);
+      part.appendChild(el('div', { className: 'split' }, [ladderPlot(f), ladderTable(f)]));
     });
   }
 
