@@ -161,15 +161,54 @@ std::string mode_label(const json& mode) {
                      species.empty() ? "" : " " + species);
 }
 
+// Resonance candidates listed on the page: every flagged one, then the strongest by
+// criterion up to this many (a fifty-mode molecule has thousands; all are in analysis.json).
+constexpr std::size_t page_resonance_limit = 300;
+// Significant digits of the numbers on the page: the tables show at most 3 decimals of
+// quantities below 10^5, and 8 digits halve the page of a fifty-mode molecule.
+constexpr int page_significant_digits = 8;
+
+void round_numbers(json& value) {
+  if (value.is_number_float()) {
+    const double number = value.get<double>();
+    if (std::isfinite(number)) value = std::stod(fmt::format("{:.{}g}", number, page_significant_digits));
+  } else if (value.is_structured()) {
+    for (json& item : value) round_numbers(item);
+  }
+}
+
+json page_resonances(const json& resonances) {
+  std::vector<const json*> kept;
+  for (const json& resonance : resonances) kept.push_back(&resonance);
+  std::stable_sort(kept.begin(), kept.end(), [](const json* a, const json* b) {
+    const bool flagged_a = a->value("flagged", false);
+    const bool flagged_b = b->value("flagged", false);
+    if (flagged_a != flagged_b) return flagged_a;
+    return number_or(a->value("criterion_value", json()), 0.0) > number_or(b->value("criterion_value", json()), 0.0);
+  });
+  json page = json::array();
+  for (const json* resonance : kept)
+    if (page.size() < page_resonance_limit || resonance->value("flagged", false)) page.push_back(*resonance);
+  return page;
+}
+
 // The page's copy of the document: what the sections draw, without the force constants
-// (the largest part at fifty modes, and not drawn) nor per-point Floquet moduli.
+// (the largest part at fifty modes, and not drawn), the x matrices other than the
+// vibrational one, per-point Floquet moduli and the weakest resonance candidates.
 json page_document(const json& document) {
   json page = document;
   page.erase("force_constants");
+  if (page.contains("anharmonicity") && page["anharmonicity"].is_object())
+    for (const char* key : {"x_cm1", "x_coriolis_cm1", "x_vibrational_undeperturbed_cm1"}) page["anharmonicity"].erase(key);
+  if (page.contains("resonances") && page["resonances"].is_array()) {
+    page["resonance_candidates_total"] = page["resonances"].size();
+    page["resonances"] = page_resonances(page["resonances"]);
+  }
   if (page.contains("families") && page["families"].is_array())
     for (json& family : page["families"])
       if (family.contains("points") && family["points"].is_array())
         for (json& point : family["points"]) point.erase("floquet_moduli");
+  round_numbers(page);
   return page;
 }
 

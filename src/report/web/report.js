@@ -276,6 +276,8 @@
     else absent(body, 'No polyad: no resonance passed the criteria.');
     body.appendChild(el('h3', { text: 'Resonance candidates' }));
     var resonances = list(data.resonances);
+    if (isNumber(data.resonance_candidates_total) && data.resonance_candidates_total > resonances.length)
+      body.appendChild(el('p', { className: 'note', text: 'Showing the ' + resonances.length + ' flagged and strongest of ' + data.resonance_candidates_total + ' candidates; all are in analysis.json.' }));
     if (resonances.length) body.appendChild(table(['pair', 'kind', 'gap Δ / cm⁻¹', 'coupling W / cm⁻¹', 'criterion (W⁴/|Δ|³ or W) / cm⁻¹', 'symmetry', 'flagged'],
       resonances.map(function (r) { return [r.label, r.kind, fixed(r.gap_cm1, 2), fixed(r.coupling_cm1, 2), fixed(r.criterion_value, 3), r.symmetry_allowed ? 'allowed' : 'forbidden', r.flagged ? 'yes' : 'no']; }), { name: 'resonances' }));
     else absent(body, 'No resonance candidate within the gap windows.');
