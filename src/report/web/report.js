@@ -543,7 +543,8 @@
    ['symmetry', 'Symmetry', 'Operations, character table and Γvib.', buildSymmetry]].forEach(function (s) {
     try { section(s[0], s[1], s[2], s[3]); } catch (error) { failures.push(s[0] + ': ' + error.message); }
   });
-  window.overtoneReport = { data: data, viewers: viewers, failures: failures };
+  // Time from the start of navigation to a drawn page (tools/bench-report reads it).
+  window.overtoneReport = { data: data, viewers: viewers, failures: failures, readyMs: performance.now() };
   if (failures.length) console.error('overtone report: sections failed: ' + failures.join('; '));
   document.body.setAttribute('data-ready', 'true');
 })();
