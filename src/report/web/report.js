@@ -8,7 +8,7 @@
   var root = document.getElementById('page');
   var STICK_FWHM_CM1 = 10; // width of the broadened curves: a typical condensed-phase band
   var SLOPE_RANGE_FRACTION = 0.35; // the VPT2 line is drawn over this part of the backbone
-  var palette = ['#1f6f78', '#b5542c', '#6b4c9a', '#2f7d3a', '#8a6d1d', '#2b5797', '#a8322d', '#4d7f8a'];
+  var VIEWER_ZOOM = 1.4; // zoomTo leaves room for the whole bounding sphere; the swing fits in less
 
   function el(tag, attributes, children) {
     var node = document.createElement(tag);
@@ -155,7 +155,29 @@
   // ---------- 3-D viewers ----------
   var viewers = [];
   function atoms() { return list(data.atoms); }
+  // The viewer looks down z: the molecule is turned so that its largest extent lies along x
+  // and its smallest along z (a linear or planar molecule is then seen side on). An odd
+  // permutation of the axes would mirror it; flipping the last axis undoes that.
+  var viewAxes = null;
+  function axesForView() {
+    if (viewAxes) return viewAxes;
+    var extents = [0, 1, 2].map(function (k) {
+      var values = atoms().map(function (atom) { return atom.position_angstrom[k]; });
+      return Math.max.apply(null, values) - Math.min.apply(null, values);
+    });
+    var order = [0, 1, 2].sort(function (a, b) { return extents[b] - extents[a] || a - b; });
+    var inversions = (order[0] > order[1]) + (order[0] > order[2]) + (order[1] > order[2]);
+    viewAxes = { order: order, lastSign: inversions % 2 ? -1 : 1 };
+    return viewAxes;
+  }
   function xyzFrames(frames, comment) {
+    var axes = axesForView();
+    frames = frames.map(function (positions) {
+      var turned = [];
+      for (var a = 0; a < positions.length; a += 3)
+        turned.push(positions[a + axes.order[0]], positions[a + axes.order[1]], axes.lastSign * positions[a + axes.order[2]]);
+      return turned;
+    });
     var text = '';
     frames.forEach(function (positions, f) {
       text += atoms().length + '\n' + comment + ' frame ' + (f + 1) + '\n';
@@ -176,6 +198,7 @@
     viewer.addModelsAsFrames(xyzFrames(frames, comment), 'xyz');
     viewer.setStyle({}, { stick: { radius: 0.14 }, sphere: { scale: 0.3 } });
     viewer.zoomTo();
+    viewer.zoom(VIEWER_ZOOM);
     viewer.render();
     viewer.animate({ loop: 'forward', reps: 0, interval: 70 });
   }
@@ -211,8 +234,9 @@
     var ir = intensityKnown(modes, 'ir_intensity_km_per_mol');
     var raman = intensityKnown(modes, 'raman_activity_a4_per_u');
     var headers = ['mode', 'ν', 'species', 'wavenumber / cm⁻¹', 'IR', 'Raman'];
-    if (ir) headers.push('IR intensity / km mol⁻¹');
-    if (raman) headers.push('Raman activity / Å⁴ u⁻¹');
+    // Activities by the selection rules; the intensities (when computed) after them.
+    if (ir) headers.push('IR / km mol⁻¹');
+    if (raman) headers.push('Raman / Å⁴ u⁻¹');
     var rows = modes.map(function (m) {
       var row = [m.number, m.fundamental ? 'ν' + m.fundamental : '', m.species || '',
         (m.imaginary ? 'i' : '') + fixed(m.frequency_cm1, 2), m.ir_active ? 'active' : 'inactive', m.raman_active ? 'active' : 'inactive'];
@@ -236,7 +260,7 @@
           fixed(list(pageInfo.mode_turning_point_angstrom)[index], 3) + ' Å). Click a row to animate another mode.';
       }
     });
-    body.appendChild(el('div', { className: 'split' }, [el('div', { className: 'tablebox' }, [t]), el('div', {}, [viewerBox, caption])]));
+    body.appendChild(el('div', { className: 'split wide-first' }, [el('div', { className: 'tablebox' }, [t]), el('div', {}, [viewerBox, caption])]));
     var viewer = makeViewer(viewerBox);
     var first = modes.findIndex(function (m) { return !m.imaginary && m.mass_weighted_vector; });
     if (first >= 0) t.querySelectorAll('tbody tr')[first].click();
