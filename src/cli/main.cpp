@@ -496,7 +496,8 @@ int run_analyze(const MoleculeArguments& arguments, const FamilyArguments& famil
   summary.full_lists_note =
       "report.txt (full text), analysis.json and lines.csv in " + printable_text(out_directory);
   report_out() << text_report(results, summary);
-  std::cout << "\nwrote " << written.written.size() << " files (analysis.json, report.txt, report.html, animations/*.xyz, modes.csv"
+  std::cout << "\nwrote " << written.written.size()
+            << " files (analysis.json, report.txt, report.html, animations/*.xyz, modes.csv"
             << (anharmonic ? ", lines.csv" : "") << (families ? ", families/*.csv" : "") << ") to "
             << out_directory << "\n";
   std::cout << "open " << (std::filesystem::path(out_directory) / "report.html").string()

@@ -54,11 +54,13 @@ int run_report_command(const ReportArguments& arguments) {
   try {
     document = nlohmann::json::parse(file_text(json_path, "the analysis document"));
   } catch (const nlohmann::json::parse_error& error) {
-    throw Error("expected a JSON document in '" + printable_text(json_path.string()) + "', found: " + error.what());
+    throw Error("expected a JSON document in '" + printable_text(json_path.string()) +
+                "', found: " + error.what());
   }
   HtmlReportOptions options;
   if (!arguments.observed.empty())
-    options.observed = parse_observed_csv(file_text(arguments.observed, "the observed spectrum"), arguments.observed);
+    options.observed =
+        parse_observed_csv(file_text(arguments.observed, "the observed spectrum"), arguments.observed);
   const std::vector<OutputFile> files = report_files(document, options);
   for (const OutputFile& file : files) replace_file(folder / file.relative_path, file.content);
   std::cout << "wrote " << files.size() << " files (report.html, animations/*.xyz); open "
@@ -67,10 +69,11 @@ int run_report_command(const ReportArguments& arguments) {
 }
 
 void add_orbit_energy_option(CLI::App& command, std::vector<double>& energies_cm1) {
-  command.add_option("--orbit-energy", energies_cm1,
-                     "energy above the minimum (cm-1) at which each family's periodic orbit is animated in "
-                     "report.html and animations/family-NN.xyz (repeatable; default: two quanta of the family's "
-                     "mode)");
+  command.add_option(
+      "--orbit-energy", energies_cm1,
+      "energy above the minimum (cm-1) at which each family's periodic orbit is animated in "
+      "report.html and animations/family-NN.xyz (repeatable; default: two quanta of the family's "
+      "mode)");
 }
 
 OrbitFramesOptions orbit_frames_options(const std::vector<double>& energies_cm1) {

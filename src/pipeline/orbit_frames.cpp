@@ -24,8 +24,8 @@ const OrbitPoint& nearest_point(const std::vector<OrbitPoint>& points, double en
 
 // Positions Q at frames_per_period + 1 equally spaced times over one period (the last
 // one closes the orbit and serves the closure figure).
-std::vector<Eigen::VectorXd> integrate_period(const MolecularVibrationalSystem& system, const OrbitPoint& point,
-                                              const OrbitFramesOptions& options) {
+std::vector<Eigen::VectorXd> integrate_period(const MolecularVibrationalSystem& system,
+                                              const OrbitPoint& point, const OrbitFramesOptions& options) {
   namespace odeint = boost::numeric::odeint;
   const int n = system.dimension();
   // Scaled so that one tolerance suits every amplitude: q̂ = Q/ℓ, p̂ = P/(ωℓ).
@@ -94,12 +94,14 @@ OrbitFramesResult sample_family_orbits(const AnalysisResult& analysis, const Pot
     const FamilyResult& family = families.families[index];
     const std::vector<OrbitPoint>& points = family.backbone.points;
     if (!family.continued || points.empty()) continue;
-    const double harmonic_cm1 = families.units.cm1_per_angular_frequency *
-                                families.blocks[static_cast<std::size_t>(family.type.block)].angular_frequency;
+    const double harmonic_cm1 =
+        families.units.cm1_per_angular_frequency *
+        families.blocks[static_cast<std::size_t>(family.type.block)].angular_frequency;
     std::vector<double> energies = options.energies_cm1;
     if (energies.empty()) energies.push_back(options.default_quanta * harmonic_cm1);
-    auto [lowest, highest] = std::minmax_element(
-        points.begin(), points.end(), [](const OrbitPoint& a, const OrbitPoint& b) { return a.energy < b.energy; });
+    auto [lowest, highest] =
+        std::minmax_element(points.begin(), points.end(),
+                            [](const OrbitPoint& a, const OrbitPoint& b) { return a.energy < b.energy; });
     for (double energy : energies) {
       const OrbitPoint& point = nearest_point(points, energy);
       FamilyOrbitFrames orbit;
@@ -114,10 +116,12 @@ OrbitFramesResult sample_family_orbits(const AnalysisResult& analysis, const Pot
         for (std::size_t k = 0; k < positions.size(); ++k) {
           const Eigen::VectorXd displacement = system.cartesian_displacement_angstrom(positions[k]);
           if (k + 1 < positions.size()) {
-            orbit.amplitude_angstrom = std::max(orbit.amplitude_angstrom, largest_atom_distance(displacement));
+            orbit.amplitude_angstrom =
+                std::max(orbit.amplitude_angstrom, largest_atom_distance(displacement));
             orbit.frames_angstrom.push_back(equilibrium + displacement);
           } else {
-            orbit.closure_angstrom = largest_atom_distance(displacement + equilibrium - orbit.frames_angstrom[0]);
+            orbit.closure_angstrom =
+                largest_atom_distance(displacement + equilibrium - orbit.frames_angstrom[0]);
           }
         }
       } catch (const Error& error) {

@@ -31,15 +31,15 @@ struct OrbitFramesOptions {
 };
 
 struct FamilyOrbitFrames {
-  int family = 0;                      // 1-based, as in families[] of the JSON document
-  double requested_energy_cm1 = 0.0;   // what was asked for
-  double energy_cm1 = 0.0;             // energy of the backbone point drawn
-  double frequency_cm1 = 0.0;          // its frequency 1/(cT)
+  int family = 0;                     // 1-based, as in families[] of the JSON document
+  double requested_energy_cm1 = 0.0;  // what was asked for
+  double energy_cm1 = 0.0;            // energy of the backbone point drawn
+  double frequency_cm1 = 0.0;         // its frequency 1/(cT)
   double period_fs = 0.0;
-  double amplitude_angstrom = 0.0;     // largest displacement of an atom over the frames
-  double closure_angstrom = 0.0;       // largest |x(T) − x(0)| of an atom after one period
-  bool outside_backbone = false;       // the requested energy lies beyond the computed backbone, whose
-                                       // nearest end is drawn instead
+  double amplitude_angstrom = 0.0;  // largest displacement of an atom over the frames
+  double closure_angstrom = 0.0;    // largest |x(T) − x(0)| of an atom after one period
+  bool outside_backbone = false;    // the requested energy lies beyond the computed backbone, whose
+                                    // nearest end is drawn instead
   std::vector<Eigen::VectorXd> frames_angstrom;  // 3N Cartesian positions per frame, atom-major
 };
 
@@ -51,6 +51,7 @@ struct OrbitFramesResult {
 // One entry per continued family (with points) and requested energy. Throws Error for
 // invalid options; an orbit that cannot be integrated is left out with a warning.
 OrbitFramesResult sample_family_orbits(const AnalysisResult& analysis, const Potential& potential,
-                                       const FamiliesResult& families, const OrbitFramesOptions& options = {});
+                                       const FamiliesResult& families,
+                                       const OrbitFramesOptions& options = {});
 
 }  // namespace overtone

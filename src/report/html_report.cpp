@@ -64,8 +64,8 @@ ObservedColumns observed_columns(std::string_view header, const std::string& sou
   ObservedColumns columns;
   const auto wavenumber = std::find(names.begin(), names.end(), "wavenumber_cm1");
   if (wavenumber == names.end())
-    throw Error(fmt::format("{} line {}: expected a header with the column wavenumber_cm1, found '{}'", source,
-                            line, printable_text(header)));
+    throw Error(fmt::format("{} line {}: expected a header with the column wavenumber_cm1, found '{}'",
+                            source, line, printable_text(header)));
   columns.wavenumber = static_cast<std::size_t>(wavenumber - names.begin());
   const auto intensity = std::find(names.begin(), names.end(), "intensity");
   if (intensity != names.end()) columns.intensity = static_cast<std::size_t>(intensity - names.begin());
@@ -77,7 +77,8 @@ ObservedSpectrum::Band observed_band(std::string_view line_text, const ObservedC
   const std::vector<std::string_view> cells = split_cells(line_text);
   const std::size_t needed = std::max(columns.wavenumber, columns.intensity.value_or(0)) + 1;
   if (cells.size() < needed)
-    throw Error(fmt::format("{} line {}: expected at least {} cells, found {}", source, line, needed, cells.size()));
+    throw Error(
+        fmt::format("{} line {}: expected at least {} cells, found {}", source, line, needed, cells.size()));
   ObservedSpectrum::Band band;
   band.wavenumber_cm1 = number_cell(cells[columns.wavenumber], source, line, "wavenumber_cm1");
   if (!(band.wavenumber_cm1 > 0.0 && band.wavenumber_cm1 <= max_observed_wavenumber_cm1))
@@ -86,7 +87,8 @@ ObservedSpectrum::Band observed_band(std::string_view line_text, const ObservedC
   if (columns.intensity && !cells[*columns.intensity].empty()) {
     band.intensity = number_cell(cells[*columns.intensity], source, line, "intensity");
     if (!std::isfinite(*band.intensity))
-      throw Error(fmt::format("{} line {}: expected a finite intensity, found {}", source, line, *band.intensity));
+      throw Error(
+          fmt::format("{} line {}: expected a finite intensity, found {}", source, line, *band.intensity));
   }
   return band;
 }
@@ -97,7 +99,9 @@ const json& required_array(const json& document, const char* key) {
   return document[key];
 }
 
-double number_or(const json& value, double fallback) { return value.is_number() ? value.get<double>() : fallback; }
+double number_or(const json& value, double fallback) {
+  return value.is_number() ? value.get<double>() : fallback;
+}
 
 // Equilibrium positions (Å) and element symbols of the document's atoms.
 struct AtomList {
@@ -110,7 +114,8 @@ AtomList atom_list(const json& document) {
   for (const json& atom : required_array(document, "atoms")) {
     const json& position = atom.at("position_angstrom");
     atoms.elements.push_back(atom.at("element").get<std::string>());
-    atoms.positions.push_back({position.at(0).get<double>(), position.at(1).get<double>(), position.at(2).get<double>()});
+    atoms.positions.push_back(
+        {position.at(0).get<double>(), position.at(1).get<double>(), position.at(2).get<double>()});
   }
   return atoms;
 }
@@ -121,7 +126,8 @@ std::vector<std::array<double, 3>> cartesian_direction(const json& document, con
   const json& atoms = document.at("atoms");
   const json& vector = mode.at("mass_weighted_vector");
   if (vector.size() != atoms.size())
-    throw Error(fmt::format("expected a mass-weighted vector of {} atoms, found {}", atoms.size(), vector.size()));
+    throw Error(
+        fmt::format("expected a mass-weighted vector of {} atoms, found {}", atoms.size(), vector.size()));
   std::vector<std::array<double, 3>> direction;
   for (std::size_t a = 0; a < atoms.size(); ++a) {
     const double root_mass = std::sqrt(atoms[a].at("mass_da").get<double>());
@@ -144,8 +150,8 @@ bool animatable(const json& mode) {
          !mode.value("imaginary", false) && number_or(mode.value("frequency_cm1", json()), 0.0) > 0.0;
 }
 
-void append_frame(std::string& text, const AtomList& atoms, const std::vector<std::array<double, 3>>& positions,
-                  const std::string& comment) {
+void append_frame(std::string& text, const AtomList& atoms,
+                  const std::vector<std::array<double, 3>>& positions, const std::string& comment) {
   text += fmt::format("{}\n{}\n", atoms.elements.size(), comment);
   for (std::size_t a = 0; a < atoms.elements.size(); ++a)
     text += fmt::format("{:<2} {:12.{}f} {:12.{}f} {:12.{}f}\n", atoms.elements[a], positions[a][0],
@@ -184,7 +190,8 @@ json page_resonances(const json& resonances) {
     const bool flagged_a = a->value("flagged", false);
     const bool flagged_b = b->value("flagged", false);
     if (flagged_a != flagged_b) return flagged_a;
-    return number_or(a->value("criterion_value", json()), 0.0) > number_or(b->value("criterion_value", json()), 0.0);
+    return number_or(a->value("criterion_value", json()), 0.0) >
+           number_or(b->value("criterion_value", json()), 0.0);
   });
   json page = json::array();
   for (const json* resonance : kept)
@@ -199,7 +206,8 @@ json page_document(const json& document) {
   json page = document;
   page.erase("force_constants");
   if (page.contains("anharmonicity") && page["anharmonicity"].is_object())
-    for (const char* key : {"x_cm1", "x_coriolis_cm1", "x_vibrational_undeperturbed_cm1"}) page["anharmonicity"].erase(key);
+    for (const char* key : {"x_cm1", "x_coriolis_cm1", "x_vibrational_undeperturbed_cm1"})
+      page["anharmonicity"].erase(key);
   if (page.contains("resonances") && page["resonances"].is_array()) {
     page["resonance_candidates_total"] = page["resonances"].size();
     page["resonances"] = page_resonances(page["resonances"]);
@@ -238,11 +246,20 @@ std::string html_escaped(std::string_view text) {
   std::string escaped;
   for (char c : text) {
     switch (c) {
-      case '&': escaped += "&amp;"; break;
-      case '<': escaped += "&lt;"; break;
-      case '>': escaped += "&gt;"; break;
-      case '"': escaped += "&quot;"; break;
-      default: escaped += c;
+      case '&':
+        escaped += "&amp;";
+        break;
+      case '<':
+        escaped += "&lt;";
+        break;
+      case '>':
+        escaped += "&gt;";
+        break;
+      case '"':
+        escaped += "&quot;";
+        break;
+      default:
+        escaped += c;
     }
   }
   return escaped;
@@ -282,8 +299,10 @@ ObservedSpectrum parse_observed_csv(const std::string& text, const std::string& 
       throw Error(fmt::format("{}: expected at most {} data rows, found more", source, max_observed_rows));
     observed.bands.push_back(observed_band(content, *columns, source, line));
   }
-  if (!columns) throw Error(fmt::format("{}: expected a header with the column wavenumber_cm1, found no line", source));
-  if (observed.bands.empty()) throw Error(fmt::format("{}: expected at least one data row, found none", source));
+  if (!columns)
+    throw Error(fmt::format("{}: expected a header with the column wavenumber_cm1, found no line", source));
+  if (observed.bands.empty())
+    throw Error(fmt::format("{}: expected at least one data row, found none", source));
   return observed;
 }
 
@@ -321,8 +340,8 @@ std::string mode_animation_xyz(const json& document, std::size_t mode_index, int
     for (std::size_t a = 0; a < positions.size(); ++a)
       for (int k = 0; k < 3; ++k) positions[a][k] += q * std::sin(phase) * direction[a][k];
     append_frame(text, atoms, positions,
-                 fmt::format("{} {:.2f} cm-1, frame {} of {}, Q = {:.5f} sqrt(Da) A", mode_label(mode), frequency,
-                             frame + 1, frames, q * std::sin(phase)));
+                 fmt::format("{} {:.2f} cm-1, frame {} of {}, Q = {:.5f} sqrt(Da) A", mode_label(mode),
+                             frequency, frame + 1, frames, q * std::sin(phase)));
   }
   return text;
 }
@@ -336,15 +355,16 @@ std::string family_animation_xyz(const json& document, int family) {
     const json& frames = orbit.at("frames_angstrom");
     for (std::size_t frame = 0; frame < frames.size(); ++frame) {
       if (frames[frame].size() != 3 * atoms.elements.size())
-        throw Error(fmt::format("expected {} coordinates per orbit frame, found {}", 3 * atoms.elements.size(),
-                                frames[frame].size()));
+        throw Error(fmt::format("expected {} coordinates per orbit frame, found {}",
+                                3 * atoms.elements.size(), frames[frame].size()));
       std::vector<std::array<double, 3>> positions(atoms.elements.size());
       for (std::size_t a = 0; a < positions.size(); ++a)
         for (std::size_t k = 0; k < 3; ++k) positions[a][k] = frames[frame][3 * a + k].get<double>();
-      append_frame(text, atoms, positions,
-                   fmt::format("family {} at {:.1f} cm-1 ({:.2f} cm-1), frame {} of {}", family,
-                               number_or(orbit.value("energy_cm1", json()), 0.0),
-                               number_or(orbit.value("frequency_cm1", json()), 0.0), frame + 1, frames.size()));
+      append_frame(
+          text, atoms, positions,
+          fmt::format("family {} at {:.1f} cm-1 ({:.2f} cm-1), frame {} of {}", family,
+                      number_or(orbit.value("energy_cm1", json()), 0.0),
+                      number_or(orbit.value("frequency_cm1", json()), 0.0), frame + 1, frames.size()));
     }
   }
   return text;
@@ -367,8 +387,9 @@ std::string html_report(const json& document, const HtmlReportOptions& options) 
   html += "<meta name=\"viewport\" content=\"width=device-width, initial-scale=1\">\n";
   html += "<title>" + html_escaped(page_title(document)) + "</title>\n";
   html += "<style>\n" + asset("report.css") + "\n</style>\n</head>\n<body>\n";
-  html += "<div id=\"page\"><noscript>This report draws its sections with JavaScript; the numbers are in "
-          "analysis.json beside it.</noscript></div>\n";
+  html +=
+      "<div id=\"page\"><noscript>This report draws its sections with JavaScript; the numbers are in "
+      "analysis.json beside it.</noscript></div>\n";
   html += "<script type=\"application/json\" id=\"overtone-data\">" + script_safe_json(data) + "</script>\n";
   for (const char* library : {"d3.min.js", "plot.umd.min.js", "3Dmol-min.js"})
     html += "<script>\n" + asset(library) + "\n</script>\n";
@@ -383,13 +404,15 @@ std::vector<OutputFile> report_files(const json& document, const HtmlReportOptio
   for (std::size_t k = 0; k < modes.size(); ++k) {
     std::string text = mode_animation_xyz(document, k, options.mode_frames);
     if (!text.empty())
-      files.push_back({fmt::format("animations/mode-{:02d}.xyz", modes[k].value("number", 0)), std::move(text)});
+      files.push_back(
+          {fmt::format("animations/mode-{:02d}.xyz", modes[k].value("number", 0)), std::move(text)});
   }
   if (document.contains("families") && document["families"].is_array())
     for (const json& family : document["families"]) {
       const int number = family.value("family", 0);
       std::string text = family_animation_xyz(document, number);
-      if (!text.empty()) files.push_back({fmt::format("animations/family-{:02d}.xyz", number), std::move(text)});
+      if (!text.empty())
+        files.push_back({fmt::format("animations/family-{:02d}.xyz", number), std::move(text)});
     }
   return files;
 }

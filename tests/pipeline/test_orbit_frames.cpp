@@ -45,7 +45,9 @@ HclOrbits hcl_families() {
   return run;
 }
 
-double bond_length(const Eigen::VectorXd& frame) { return (frame.segment<3>(0) - frame.segment<3>(3)).norm(); }
+double bond_length(const Eigen::VectorXd& frame) {
+  return (frame.segment<3>(0) - frame.segment<3>(3)).norm();
+}
 
 TEST(OrbitFrames, MorseTurningPointsAndClosure) {
   const HclOrbits run = hcl_families();

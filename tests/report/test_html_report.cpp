@@ -1,7 +1,5 @@
 // The HTML report's C++ side: the measured-spectrum CSV, the mode and orbit animations
 // (checked against the closed form of the harmonic oscillator) and the page's inlining.
-#include "report/html_report.hpp"
-
 #include <gtest/gtest.h>
 
 #include <cmath>
@@ -13,6 +11,7 @@
 #include "core/error.hpp"
 #include "core/units.hpp"
 #include "report/document.hpp"
+#include "report/html_report.hpp"
 
 namespace overtone {
 namespace {
@@ -38,7 +37,8 @@ std::string error_of(const std::string& text) {
 
 TEST(ObservedCsv, ColumnsInAnyOrderCommentsAndUnknownIntensity) {
   const ObservedSpectrum observed = parse_observed_csv(
-      "# measured in a 10 cm cell\nassignment,intensity,wavenumber_cm1\n\nnu2,1.5,1594.7\nnu1,,3657.1\r\n", "bands.csv");
+      "# measured in a 10 cm cell\nassignment,intensity,wavenumber_cm1\n\nnu2,1.5,1594.7\nnu1,,3657.1\r\n",
+      "bands.csv");
   ASSERT_EQ(observed.bands.size(), 2U);
   EXPECT_DOUBLE_EQ(observed.bands[0].wavenumber_cm1, 1594.7);
   EXPECT_DOUBLE_EQ(observed.bands[0].intensity.value(), 1.5);
@@ -49,15 +49,18 @@ TEST(ObservedCsv, ColumnsInAnyOrderCommentsAndUnknownIntensity) {
 }
 
 TEST(ObservedCsv, BadInputNamesTheLineAndWhatWasExpected) {
-  EXPECT_NE(error_of("position,intensity\n1000,1\n").find("line 1: expected a header with the column wavenumber_cm1"),
+  EXPECT_NE(error_of("position,intensity\n1000,1\n")
+                .find("line 1: expected a header with the column wavenumber_cm1"),
             std::string::npos);
-  EXPECT_NE(error_of("wavenumber_cm1,intensity\n1000,1\nabc,2\n").find("line 3: expected a number in column "
-                                                                       "wavenumber_cm1, found 'abc'"),
+  EXPECT_NE(error_of("wavenumber_cm1,intensity\n1000,1\nabc,2\n")
+                .find("line 3: expected a number in column "
+                      "wavenumber_cm1, found 'abc'"),
             std::string::npos);
   EXPECT_NE(error_of("wavenumber_cm1\n-5\n").find("line 2: expected a wavenumber in (0, 100000] cm-1"),
             std::string::npos);
   EXPECT_NE(error_of("wavenumber_cm1\n200000\n").find("line 2"), std::string::npos);
-  EXPECT_NE(error_of("wavenumber_cm1,intensity\n1000,nan\n").find("expected a finite intensity"), std::string::npos);
+  EXPECT_NE(error_of("wavenumber_cm1,intensity\n1000,nan\n").find("expected a finite intensity"),
+            std::string::npos);
   EXPECT_NE(error_of("wavenumber_cm1,intensity\n1000\n").find("expected at least 2 cells, found 1"),
             std::string::npos);
   EXPECT_NE(error_of("wavenumber_cm1\n").find("expected at least one data row"), std::string::npos);
@@ -114,16 +117,18 @@ TEST(ModeAnimation, TurningPointOfTheFirstLevelAndOnePeriod) {
     ASSERT_EQ(xyz.size(), static_cast<std::size_t>(frames));
     // Closed form of the harmonic oscillator: the v = 1 level E = (3/2)ħω has its classical
     // turning point where ½ω²Q² = E; the animation reaches it a quarter period in.
-    const double omega = 2.0 * units::pi * units::speed_of_light_m_per_s * mode["frequency_cm1"].get<double>() /
-                         units::centimetre_m;
+    const double omega = 2.0 * units::pi * units::speed_of_light_m_per_s *
+                         mode["frequency_cm1"].get<double>() / units::centimetre_m;
     const double q_si = normal_coordinate(document, mode, xyz[frames / 4]) *
                         std::sqrt(units::atomic_mass_constant_kg) * units::angstrom_m;
-    EXPECT_NEAR(0.5 * omega * omega * q_si * q_si / (1.5 * units::hbar_j_s * omega), 1.0, animation_energy_tolerance);
+    EXPECT_NEAR(0.5 * omega * omega * q_si * q_si / (1.5 * units::hbar_j_s * omega), 1.0,
+                animation_energy_tolerance);
     // One period: the start and the half period at equilibrium, frame F−j mirrors frame j,
     // so that the frame after the last is the first again.
     for (int j = 0; j < frames; ++j) {
       const double q = normal_coordinate(document, mode, xyz[static_cast<std::size_t>(j)]);
-      const double mirrored = normal_coordinate(document, mode, xyz[static_cast<std::size_t>((frames - j) % frames)]);
+      const double mirrored =
+          normal_coordinate(document, mode, xyz[static_cast<std::size_t>((frames - j) % frames)]);
       EXPECT_NEAR(q, -mirrored, 10 * coordinate_rounding_angstrom) << "mode " << k << " frame " << j;
     }
     EXPECT_NEAR(normal_coordinate(document, mode, xyz[0]), 0.0, 10 * coordinate_rounding_angstrom);
@@ -142,7 +147,9 @@ TEST(FamilyAnimation, FramesOfTheDocumentInOrder) {
       frame_a.push_back(atom["position_angstrom"][k].get<double>());
       frame_b.push_back(atom["position_angstrom"][k].get<double>() + 0.01);
     }
-  document["family_orbits"] = json::array({{{"family", 2}, {"energy_cm1", 3000.0}, {"frequency_cm1", 3700.0},
+  document["family_orbits"] = json::array({{{"family", 2},
+                                            {"energy_cm1", 3000.0},
+                                            {"frequency_cm1", 3700.0},
                                             {"frames_angstrom", {frame_a, frame_b}}}});
   const std::vector<std::vector<double>> frames = xyz_frames(family_animation_xyz(document, 2));
   ASSERT_EQ(frames.size(), 2U);
@@ -175,8 +182,9 @@ TEST(HtmlReport, EverythingInlinedAndTheDocumentIntact) {
   EXPECT_EQ(page["molecule"]["title"], hostile);
   ASSERT_EQ(page["modes"].size(), document["modes"].size());
   for (std::size_t k = 0; k < page["modes"].size(); ++k)
-    EXPECT_NEAR(page["modes"][k]["frequency_cm1"].get<double>() / document["modes"][k]["frequency_cm1"].get<double>(),
-                1.0, page_number_relative_tolerance);
+    EXPECT_NEAR(
+        page["modes"][k]["frequency_cm1"].get<double>() / document["modes"][k]["frequency_cm1"].get<double>(),
+        1.0, page_number_relative_tolerance);
   EXPECT_EQ(page["page"]["observed"]["source"], "</script>.csv");
   EXPECT_EQ(page["page"]["mode_turning_point_angstrom"].size(), document["modes"].size());
   EXPECT_THROW(html_report(json::object()), Error);
