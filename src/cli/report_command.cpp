@@ -43,7 +43,7 @@ CLI::App* add_report_command(CLI::App& app, ReportArguments& arguments) {
   command->add_option("OUTDIR", arguments.out_directory, "output folder of `overtone analyze`")->required();
   command->add_option("--observed", arguments.observed,
                       "measured band list or spectrum to overlay: CSV with a header naming the column "
-                      "wavenumber_cm1 and optionally intensity");
+                      "wavenumber_cm1 and optionally intensity or relative_intensity (docs/html-report.md)");
   return command;
 }
 

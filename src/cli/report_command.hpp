@@ -15,7 +15,7 @@ namespace overtone::cli {
 
 struct ReportArguments {
   std::string out_directory;
-  std::string observed;  // CSV with wavenumber_cm1 and optionally intensity
+  std::string observed;  // CSV with wavenumber_cm1 and optionally intensity or relative_intensity
 };
 
 CLI::App* add_report_command(CLI::App& app, ReportArguments& arguments);

@@ -67,8 +67,13 @@ ObservedColumns observed_columns(std::string_view header, const std::string& sou
     throw Error(fmt::format("{} line {}: expected a header with the column wavenumber_cm1, found '{}'",
                             source, line, printable_text(header)));
   columns.wavenumber = static_cast<std::size_t>(wavenumber - names.begin());
-  const auto intensity = std::find(names.begin(), names.end(), "intensity");
-  if (intensity != names.end()) columns.intensity = static_cast<std::size_t>(intensity - names.begin());
+  // relative_intensity: the column of the band lists of `overtone assign` (docs/assignment.md),
+  // so that one file serves both commands.
+  for (const char* name : {"intensity", "relative_intensity"}) {
+    const auto intensity = std::find(names.begin(), names.end(), name);
+    if (intensity != names.end() && !columns.intensity)
+      columns.intensity = static_cast<std::size_t>(intensity - names.begin());
+  }
   return columns;
 }
 

@@ -33,11 +33,11 @@ struct ObservedSpectrum {
 inline constexpr std::size_t max_observed_rows = 200000;
 inline constexpr double max_observed_wavenumber_cm1 = 100000.0;
 
-// CSV text with a header row naming the column wavenumber_cm1 and optionally intensity
-// (other columns are ignored; comma-separated; lines starting with '#' and blank lines
-// skipped; an empty intensity cell is an unknown intensity). Throws Error (with the line
-// number) for a missing column, a cell that is not a number, a wavenumber outside
-// (0, 100000] cm⁻¹, a non-finite intensity, no data row, or more than max_observed_rows.
+// CSV text with a header row naming the column wavenumber_cm1 and optionally intensity or
+// relative_intensity (the band lists of `overtone assign` read as they are; other columns are ignored;
+// comma-separated; lines starting with '#' and blank lines skipped; an empty intensity cell is an unknown
+// intensity). Throws Error (with the line number) for a missing column, a cell that is not a number, a
+// wavenumber outside (0, 100000] cm⁻¹, a non-finite intensity, no data row, or more than max_observed_rows.
 ObservedSpectrum parse_observed_csv(const std::string& text, const std::string& source);
 
 struct HtmlReportOptions {

@@ -46,6 +46,10 @@ TEST(ObservedCsv, ColumnsInAnyOrderCommentsAndUnknownIntensity) {
   EXPECT_EQ(observed.source, "bands.csv");
   const ObservedSpectrum positions = parse_observed_csv("wavenumber_cm1\n1000\n", "list.csv");
   EXPECT_FALSE(positions.bands[0].intensity.has_value());
+  // The band lists of `overtone assign` name the column relative_intensity.
+  const ObservedSpectrum assign_list =
+      parse_observed_csv("wavenumber_cm1,relative_intensity,technique\n1000,0.5,ir\n", "assign.csv");
+  EXPECT_DOUBLE_EQ(assign_list.bands[0].intensity.value(), 0.5);
 }
 
 TEST(ObservedCsv, BadInputNamesTheLineAndWhatWasExpected) {
