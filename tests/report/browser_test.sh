@@ -10,8 +10,10 @@ build_dir=$(cd "$2" && pwd)
 chromium=${OVERTONE_CHROMIUM:-/usr/bin/chromium}
 modules=${OVERTONE_BROWSER_MODULES:-$source_dir/tools/browser-test/node_modules}
 
+# CI sets OVERTONE_REQUIRE_BROWSER=1: there a missing browser is a failure, not a skip.
 skip() {
   echo "SKIPPED: $* (tools/setup installs chromium and playwright-core into tools/browser-test)"
+  [ "${OVERTONE_REQUIRE_BROWSER:-0}" = 1 ] && exit 1
   exit 77
 }
 [ -x "$chromium" ] || skip "no Chromium at $chromium"
