@@ -22,6 +22,8 @@ const MIN_DRAWN_FRACTION = 0.005;
 // Wavenumbers in the modes table are printed with two decimals (half a unit of the last
 // place) of the page's numbers, which keep 8 significant digits (1e-4 at 10^4 cm-1).
 const TABLE_ROUNDING_CM1 = 0.005 + 1e-4;
+// Stick positions in the tooltips have one decimal.
+const LEVEL_ROUNDING_CM1 = 0.05 + 1e-4;
 const SECTIONS = ['summary', 'modes', 'levels', 'spectrum', 'families', 'symmetry'];
 
 const failures = [];
@@ -85,6 +87,11 @@ async function checkReport(browser, name, folder, observedCount, screenshotDir) 
   if (document.levels) {
     check(await count('[data-plot=spectrum] g.mk-anharmonic-stick line') === levels.length, prefix + 'anharmonic sticks != levels');
     check(await count('[data-plot=levels] g.mk-level line') === levels.length, prefix + 'level ticks != levels');
+    // Each stick's tooltip gives its position to 0.1 cm-1: the document's levels, in order.
+    const titles = await page.locator('[data-plot=spectrum] g.mk-anharmonic-stick line title').allTextContents();
+    check(titles.length === levels.length, prefix + `${titles.length} stick tooltips for ${levels.length} levels`);
+    titles.forEach((title, i) => check(Math.abs(parseFloat(title.split(' ').slice(-2)[0]) - levelPosition(levels[i])) <= LEVEL_ROUNDING_CM1,
+      prefix + `level ${i + 1}: stick at ${title}, document ${levelPosition(levels[i])}`));
     const flaggedPolyads = new Set(levels.filter((l) => l.polyad !== null && l.polyad !== undefined).map((l) => l.polyad));
     check(await count('[data-plot=levels] g.mk-polyad path') === flaggedPolyads.size, prefix + 'polyad lines != polyads with levels');
   } else {
