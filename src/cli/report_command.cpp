@@ -61,7 +61,14 @@ int run_report_command(const ReportArguments& arguments) {
   if (!arguments.observed.empty())
     options.observed =
         parse_observed_csv(file_text(arguments.observed, "the observed spectrum"), arguments.observed);
-  const std::vector<OutputFile> files = report_files(document, options);
+  std::vector<OutputFile> files;
+  try {
+    files = report_files(document, options);
+  } catch (const nlohmann::json::exception& error) {
+    // A document edited by hand or written by something else: a field of the wrong kind.
+    throw Error("expected an analysis document of overtone analyze in '" +
+                printable_text(json_path.string()) + "', found a field of another shape: " + error.what());
+  }
   for (const OutputFile& file : files) replace_file(folder / file.relative_path, file.content);
   std::cout << "wrote " << files.size() << " files (report.html, animations/*.xyz); open "
             << (folder / "report.html").string() << " in a web browser\n";

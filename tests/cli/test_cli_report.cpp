@@ -65,6 +65,11 @@ TEST(CliReport, BadInputGivesOneClearLine) {
   expect_one_line_error(run("report " + out), "expected a JSON document");
   std::ofstream(out + "/analysis.json") << "{\"atoms\": []}";
   expect_one_line_error(run("report " + out), "non-empty 'atoms' array");
+  // A document edited by hand: a field of the wrong kind.
+  std::ofstream(out + "/analysis.json")
+      << R"({"atoms": [{"element": "H", "mass_da": "heavy", "position_angstrom": [0, 0, 0]}],
+            "modes": [{"number": 1, "frequency_cm1": 100, "mass_weighted_vector": [[1, 0, 0]]}]})";
+  expect_one_line_error(run("report " + out), "found a field of another shape");
   const std::string bands = temp_path("bad-bands.csv");
   std::ofstream(bands) << "wavenumber,intensity\n1595,1\n";
   expect_one_line_error(run("report " + out + " --observed " + bands), "wavenumber_cm1");
