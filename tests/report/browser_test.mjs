@@ -98,6 +98,12 @@ async function checkReport(browser, name, folder, observedCount, screenshotDir) 
     check(await page.locator('section[data-section=levels] p.absent').count() === 1, prefix + 'levels section does not say why it is empty');
   }
   check(await count('[data-plot=spectrum] g.mk-harmonic-stick line') === realModes.length, prefix + 'harmonic sticks != modes');
+  // Without intensities (or chosen so) every stick has the same height.
+  await page.selectOption('section[data-section=spectrum] select', '');
+  const heights = await page.locator('[data-plot=spectrum] g.mk-harmonic-stick line').evaluateAll(
+    (lines) => lines.map((line) => Math.abs(line.y2.baseVal.value - line.y1.baseVal.value)));
+  check(heights.length === realModes.length && heights.every((h) => Math.abs(h - heights[0]) < 0.5 && h > 1),
+    prefix + 'equal-height sticks differ: ' + heights.join(' '));
   const continued = (document.families || []).filter((f) => f.continued && f.points.length);
   if (continued.length) {
     check(await count('[data-plot=backbones] g.mk-backbone path') === continued.length, prefix + 'backbones != continued families');
