@@ -8,6 +8,8 @@
   var root = document.getElementById('page');
   var STICK_FWHM_CM1 = 10; // width of the broadened curves: a typical condensed-phase band
   var SLOPE_RANGE_FRACTION = 0.35; // the VPT2 line is drawn over this part of the backbone
+  var MIXING_SHOWN = 4;
+  var LABELLED_LEVELS = 40; // more level names than this overlap on the axis: tooltips only
   var VIEWER_ZOOM = 1.4; // zoomTo leaves room for the whole bounding sphere; the swing fits in less
 
   function el(tag, attributes, children) {
@@ -33,7 +35,7 @@
     var body = rows.map(function (cells, index) {
       var row = el('tr', {}, cells.map(function (cell) {
         var text = cell === null || cell === undefined ? '—' : String(cell);
-        return el('td', { text: text, className: isNaN(parseFloat(text)) ? 'text' : '' });
+        return el('td', { text: text, className: /^[-+]?[0-9][0-9.e+-]*$/.test(text) || text === '—' ? '' : 'text' });
       }));
       if (options.onPick) {
         row.className = 'pick';
@@ -45,6 +47,8 @@
     if (options.name) t.setAttribute('data-table', options.name);
     return t;
   }
+
+  function scrolled(node) { return el('div', { className: 'tablebox' }, [node]); }
 
   // A plot with its caption and an SVG download button (the plot's own SVG, styles inlined
   // by the plotting library).
@@ -271,7 +275,10 @@
     return isNumber(level.resonance_corrected_cm1) ? level.resonance_corrected_cm1 : level.anharmonic_cm1;
   }
   function mixingText(level) {
-    return list(level.mixing).map(function (c) { return Math.round(100 * c.weight) + '% ' + c.label; }).join(' + ');
+    // Components of at least 1 %, at most MIXING_SHOWN of them (all are in analysis.json).
+    var shown = list(level.mixing).filter(function (c) { return c.weight >= 0.005; });
+    var text = shown.slice(0, MIXING_SHOWN).map(function (c) { return Math.round(100 * c.weight) + '% ' + c.label; }).join(' + ');
+    return shown.length > MIXING_SHOWN ? text + ' + …' : text;
   }
 
   function buildLevels(body) {
@@ -281,7 +288,7 @@
     var inPolyad = rows.filter(function (r) { return r.polyad !== null && r.polyad !== undefined; });
     var marks = [
       Plot.tickX(rows, { x: 'position', y: 'kind', stroke: 'kind', strokeWidth: 2, className: 'mk-level', title: function (r) { return r.label + ': ' + r.position.toFixed(1) + ' cm⁻¹'; } }),
-      Plot.text(rows, { x: 'position', y: 'kind', text: 'label', dy: -14, fontSize: 10, fill: '#1d2430' }),
+      Plot.text(rows.length <= LABELLED_LEVELS ? rows : [], { x: 'position', y: 'kind', text: 'label', dy: -14, fontSize: 10, fill: '#1d2430' }),
       Plot.line(inPolyad, { x: 'position', y: 'kind', z: 'polyad', stroke: '#b5542c', strokeDasharray: '4,3', strokeWidth: 1.5, curve: 'linear', className: 'mk-polyad', sort: 'position' }),
       Plot.dot(inPolyad, { x: 'position', y: 'kind', r: 5, stroke: '#b5542c', fill: 'none' })
     ];
@@ -295,15 +302,15 @@
     body.appendChild(figure(plot, 'levels', 'One tick per level (resonance-corrected where a polyad holds it); dashed lines join the levels of one polyad (circled).'));
     var mixed = levels.filter(function (l) { return list(l.mixing).length; });
     body.appendChild(el('h3', { text: 'Polyads and mixing' }));
-    if (mixed.length) body.appendChild(table(['polyad', 'level', 'deperturbed / cm⁻¹', 'in the polyad / cm⁻¹', 'mixing'],
-      mixed.map(function (l) { return [l.polyad, l.label, fixed(l.anharmonic_cm1, 1), fixed(l.resonance_corrected_cm1, 1), mixingText(l)]; }), { name: 'polyads' }));
+    if (mixed.length) body.appendChild(scrolled(table(['polyad', 'level', 'deperturbed / cm⁻¹', 'in the polyad / cm⁻¹', 'mixing'],
+      mixed.map(function (l) { return [l.polyad, l.label, fixed(l.anharmonic_cm1, 1), fixed(l.resonance_corrected_cm1, 1), mixingText(l)]; }), { name: 'polyads' })));
     else absent(body, 'No polyad: no resonance passed the criteria.');
     body.appendChild(el('h3', { text: 'Resonance candidates' }));
     var resonances = list(data.resonances);
     if (isNumber(data.resonance_candidates_total) && data.resonance_candidates_total > resonances.length)
       body.appendChild(el('p', { className: 'note', text: 'Showing the ' + resonances.length + ' flagged and strongest of ' + data.resonance_candidates_total + ' candidates; all are in analysis.json.' }));
-    if (resonances.length) body.appendChild(table(['pair', 'kind', 'gap Δ / cm⁻¹', 'coupling W / cm⁻¹', 'criterion (W⁴/|Δ|³ or W) / cm⁻¹', 'symmetry', 'flagged'],
-      resonances.map(function (r) { return [r.label, r.kind, fixed(r.gap_cm1, 2), fixed(r.coupling_cm1, 2), fixed(r.criterion_value, 3), r.symmetry_allowed ? 'allowed' : 'forbidden', r.flagged ? 'yes' : 'no']; }), { name: 'resonances' }));
+    if (resonances.length) body.appendChild(scrolled(table(['pair', 'kind', 'gap Δ / cm⁻¹', 'coupling W / cm⁻¹', 'criterion (W⁴/|Δ|³ or W) / cm⁻¹', 'symmetry', 'flagged'],
+      resonances.map(function (r) { return [r.label, r.kind, fixed(r.gap_cm1, 2), fixed(r.coupling_cm1, 2), fixed(r.criterion_value, 3), r.symmetry_allowed ? 'allowed' : 'forbidden', r.flagged ? 'yes' : 'no']; }), { name: 'resonances' })));
     else absent(body, 'No resonance candidate within the gap windows.');
   }
 
