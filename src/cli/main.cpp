@@ -20,6 +20,7 @@
 #include <vector>
 
 #include "cli/intensity_hook.hpp"
+#include "cli/report_command.hpp"
 #include "cli/spectrum_assign.hpp"
 #include "core/error.hpp"
 #include "core/text.hpp"
@@ -444,12 +445,14 @@ struct AnalyzeSwitches {
   bool skip_anharmonic = false;
   bool skip_families = false;
   double exclude_below_cm1 = 0.0;
+  std::vector<double> orbit_energies_cm1;  // --orbit-energy
 };
 
 int run_analyze(const MoleculeArguments& arguments, const FamilyArguments& family_arguments,
                 const AnalyzeSwitches& switches, const std::string& out_directory) {
   check_family_arguments(family_arguments);
   check_exclusion(switches.exclude_below_cm1);
+  const OrbitFramesOptions orbit_options = cli::orbit_frames_options(switches.orbit_energies_cm1);
   const AnalysedMolecule analysed = run_analysis(arguments);
   const AnalysisResult& analysis = analysed.analysis;
   const Potential& potential = *analysed.potential;
@@ -484,6 +487,11 @@ int run_analyze(const MoleculeArguments& arguments, const FamilyArguments& famil
       results.families_skipped = error.what();
     }
   }
+  std::optional<OrbitFramesResult> orbits;
+  if (families) {
+    orbits = sample_family_orbits(analysis, potential, *families, orbit_options);
+    results.family_orbits = &*orbits;
+  }
 
   cli::IntensityOutcome intensities;
   add_intensities(arguments, analysed, results.anharmonic, intensities, results);
@@ -492,9 +500,12 @@ int run_analyze(const MoleculeArguments& arguments, const FamilyArguments& famil
   summary.full_lists_note =
       "report.txt (full text), analysis.json and lines.csv in " + printable_text(out_directory);
   report_out() << text_report(results, summary);
-  std::cout << "\nwrote " << written.written.size() << " files (analysis.json, report.txt, modes.csv"
+  std::cout << "\nwrote " << written.written.size()
+            << " files (analysis.json, report.txt, report.html, animations/*.xyz, modes.csv"
             << (anharmonic ? ", lines.csv" : "") << (families ? ", families/*.csv" : "") << ") to "
             << out_directory << "\n";
+  std::cout << "open " << (std::filesystem::path(out_directory) / "report.html").string()
+            << " in a web browser for plots and animations\n";
   return 0;
 }
 
@@ -789,7 +800,7 @@ bool unknown_command(CLI::App& app, int argc, char** argv) {
     if (command->check_name(argv[1])) return false;
   std::cerr << "overtone: error: unknown command '" << printable_text(argv[1])
             << "' (commands: modes, analyze, anharmonic, families, symmetry, screen, screen-report, "
-               "merge-stores, spectrum, assign; see overtone --help)\n";
+               "merge-stores, spectrum, assign, report; see overtone --help)\n";
   return true;
 }
 
@@ -835,6 +846,7 @@ Command add_analyze_command(CLI::App& app) {
   analyze->add_flag("--no-anharmonic", arguments->switches.skip_anharmonic, "leave out the anharmonic stage");
   analyze->add_flag("--no-families", arguments->switches.skip_families, "leave out the families stage");
   add_exclusion_option(*analyze, arguments->switches.exclude_below_cm1);
+  cli::add_orbit_energy_option(*analyze, arguments->switches.orbit_energies_cm1);
   return {analyze, [arguments] {
             return run_analyze(arguments->molecule, arguments->families, arguments->switches,
                                arguments->out_directory);
@@ -936,6 +948,12 @@ Command add_spectrum(CLI::App& app) {
   return {command, [arguments] { return cli::run_spectrum(*arguments); }};
 }
 
+Command add_html_report(CLI::App& app) {
+  auto arguments = std::make_shared<cli::ReportArguments>();
+  CLI::App* command = cli::add_report_command(app, *arguments);
+  return {command, [arguments] { return cli::run_report_command(*arguments); }};
+}
+
 Command add_assign(CLI::App& app) {
   auto arguments = std::make_shared<cli::AssignArguments>();
   CLI::App* command = cli::add_assign_command(app, *arguments);
@@ -944,11 +962,10 @@ Command add_assign(CLI::App& app) {
 
 // Every command, in the order of the help text.
 std::vector<Command> add_commands(CLI::App& app) {
-  return {add_modes_command(app),      add_analyze_command(app),
-          add_anharmonic_command(app), add_families_command(app),
-          add_symmetry_command(app),   add_screen_command(app),
-          add_screen_report(app),      add_merge_command(app),
-          add_spectrum(app),           add_assign(app)};
+  return {add_modes_command(app),    add_analyze_command(app),  add_anharmonic_command(app),
+          add_families_command(app), add_symmetry_command(app), add_screen_command(app),
+          add_screen_report(app),    add_merge_command(app),    add_spectrum(app),
+          add_assign(app),           add_html_report(app)};
 }
 
 // The chosen command, with an Error turned into one line and a non-zero status.
