@@ -25,6 +25,8 @@ void FamiliesOptions::validate() const {
         fmt::format("families option energy_max_cm1 = {} must be a non-negative energy", energy_max_cm1));
   if (!std::isfinite(quanta) || quanta < 0.0)
     throw Error(fmt::format("families option quanta = {} must be non-negative", quanta));
+  if (orbit_count.bands < 1)
+    throw Error(fmt::format("families option orbit_count.bands = {} must be at least 1", orbit_count.bands));
   if (continue_families && by_energy == by_quanta)
     throw Error(
         fmt::format("families options need exactly one of energy_max_cm1 (got {}) and quanta (got {}) to be "
@@ -342,6 +344,9 @@ FamiliesResult compute_families(const VibrationalSystem& system, const std::vect
   continue_families(system, options, jobs, started, result);
   add_totals(result);
   add_resonance_encounters(result, options.encounter_max_ratio);
+  if (options.continue_families)
+    result.orbit_count = count_orbits(result.families, n, result.units.cm1_per_energy, result.units.energy_label,
+                                      options.orbit_count, result.warnings);
   result.seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - started).count();
   return result;
 }

@@ -11,6 +11,7 @@
 #include "core/progress.hpp"
 #include "families/family_types.hpp"
 #include "families/molecular_system.hpp"
+#include "families/orbit_count.hpp"
 #include "families/periodic_orbits.hpp"
 #include "families/vibrational_system.hpp"
 
@@ -46,6 +47,8 @@ struct FamiliesOptions {
   // not depend on the number). 0: one per core. Potentials that cannot be evaluated
   // from several threads at once (Potential::supports_concurrent_evaluation) run on one.
   int threads = 0;
+  // Bands of the orbit count per energy (FamiliesResult::orbit_count).
+  OrbitCountOptions orbit_count;
   // Told after each family and at accepted points (stage "families", done/total families).
   ProgressCallback progress;
 
@@ -60,6 +63,11 @@ struct FamilyResult {
   double energy_max = 0.0;  // system units, the range it was continued to
   double energy_max_cm1 = 0.0;
   ContinuationResult backbone;  // empty unless continued
+  // A family born at a bifurcation of another: that family's index in
+  // FamiliesResult::families and the birth energy; −1 for families from the minimum.
+  int parent_family = -1;
+  double birth_energy = 0.0;  // system units
+  double birth_energy_cm1 = 0.0;
 };
 
 struct FamiliesResult {
@@ -73,6 +81,9 @@ struct FamiliesResult {
   // one line saying why and how to get them; both empty when nothing was left out.
   std::vector<int> left_out_mode_numbers;
   std::string selection_note;
+  // Distinct periodic orbits per energy band against the degrees of freedom
+  // (orbit_count.hpp); a band below the bound adds a warning.
+  OrbitCount orbit_count;
   int threads_used = 1;  // threads that continued families
   // Totals over all continued families:
   int points = 0;

@@ -110,6 +110,20 @@ json family_to_json(const AnalysisResult& analysis, const FamilyResult& family, 
   return entry;
 }
 
+json orbit_count_to_json(const OrbitCount& count) {
+  json bands = json::array();
+  for (const OrbitCountBand& band : count.bands)
+    bands.push_back({{"energy_low_cm1", band.energy_low_cm1},
+                     {"energy_high_cm1", band.energy_high_cm1},
+                     {"families_present", band.families_present},
+                     {"fewest_orbits", band.fewest},
+                     {"fewest_at_cm1", band.fewest_energy_cm1},
+                     {"most_orbits", band.most},
+                     {"continuous_families", band.continuous_families},
+                     {"meets_lower_bound", band.meets_lower_bound}});
+  return {{"degrees_of_freedom", count.degrees_of_freedom}, {"complete", count.complete}, {"bands", bands}};
+}
+
 }  // namespace
 
 nlohmann::json families_to_json(const AnalysisResult& analysis, const FamiliesResult& families) {
@@ -127,7 +141,8 @@ nlohmann::json families_to_json(const AnalysisResult& analysis, const FamiliesRe
                   {"seconds", families.seconds},
                   {"threads_used", families.threads_used},
                   {"left_out_mode_numbers", families.left_out_mode_numbers},
-                  {"selection_note", families.selection_note}};
+                  {"selection_note", families.selection_note},
+                  {"orbit_count", orbit_count_to_json(families.orbit_count)}};
   return {{"families", list}, {"families_summary", summary}};
 }
 

@@ -61,6 +61,25 @@ double largest(const ContinuationResult& backbone, Field field) {
   return value;
 }
 
+// The orbit count per band (see families/orbit_count.hpp).
+std::string orbit_count_text(const OrbitCount& count, const std::string& unit) {
+  if (count.bands.empty()) return {};
+  std::ostringstream out;
+  out << fmt::format("\nDistinct periodic orbits per energy band (lower bound: {} degrees of freedom{})\n",
+                     count.degrees_of_freedom, count.complete ? "" : "; partial, some families not continued");
+  out << fmt::format("  {:>23}  {:>8}  {:>6}  {:>10}  {}\n", "energy (" + unit + ")", "families", "fewest",
+                     "most", "bound");
+  for (const OrbitCountBand& band : count.bands) {
+    const std::string continuous =
+        band.continuous_families > 0 ? fmt::format(" + {} continuous", band.continuous_families) : "";
+    const char* verdict = !count.complete ? "-" : band.meets_lower_bound ? "met" : "BELOW";
+    out << fmt::format("  {:>11.1f}-{:<11.1f}  {:>8}  {:>6}  {:>10}  {}\n", band.energy_low_cm1,
+                       band.energy_high_cm1, band.families_present, fmt::format("{}{}", band.fewest, continuous),
+                       band.most, verdict);
+  }
+  return out.str();
+}
+
 }  // namespace
 
 std::string families_summary(const FamiliesResult& result, const std::vector<ModeLabel>& modes) {
@@ -111,6 +130,7 @@ std::string families_summary_text(const FamiliesResult& result, const std::vecto
                          points.back().frequency_cm1, points.back().energy_cm1, status);
     }
   }
+  out << orbit_count_text(result.orbit_count, unit);
   return out.str();
 }
 
