@@ -345,8 +345,8 @@ FamiliesResult compute_families(const VibrationalSystem& system, const std::vect
   add_totals(result);
   add_resonance_encounters(result, options.encounter_max_ratio);
   if (options.continue_families)
-    result.orbit_count = count_orbits(result.families, n, result.units.cm1_per_energy, result.units.energy_label,
-                                      options.orbit_count, result.warnings);
+    result.orbit_count = count_orbits(result.families, n, result.units.cm1_per_energy,
+                                      result.units.energy_label, options.orbit_count, result.warnings);
   result.seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - started).count();
   return result;
 }

@@ -42,8 +42,8 @@ struct LevelCount {
   int continuous = 0;
 };
 
-LevelCount count_at(const std::vector<FamilyResult>& families, const std::vector<std::vector<double>>& energies,
-                    double energy) {
+LevelCount count_at(const std::vector<FamilyResult>& families,
+                    const std::vector<std::vector<double>>& energies, double energy) {
   LevelCount count;
   for (std::size_t f = 0; f < families.size(); ++f) {
     const int segments = crossings(energies[f], energy);
@@ -99,7 +99,8 @@ OrbitCountBand count_band(const std::vector<FamilyResult>& families,
 OrbitCount count_orbits(const std::vector<FamilyResult>& families, int degrees_of_freedom,
                         double cm1_per_energy, const std::string& energy_label,
                         const OrbitCountOptions& options, std::vector<std::string>& warnings) {
-  if (options.bands < 1) throw Error(fmt::format("orbit count bands must be at least 1, got {}", options.bands));
+  if (options.bands < 1)
+    throw Error(fmt::format("orbit count bands must be at least 1, got {}", options.bands));
   if (degrees_of_freedom < 1)
     throw Error(fmt::format("degrees of freedom must be at least 1, got {}", degrees_of_freedom));
   OrbitCount result;

@@ -66,7 +66,8 @@ std::string orbit_count_text(const OrbitCount& count, const std::string& unit) {
   if (count.bands.empty()) return {};
   std::ostringstream out;
   out << fmt::format("\nDistinct periodic orbits per energy band (lower bound: {} degrees of freedom{})\n",
-                     count.degrees_of_freedom, count.complete ? "" : "; partial, some families not continued");
+                     count.degrees_of_freedom,
+                     count.complete ? "" : "; partial, some families not continued");
   out << fmt::format("  {:>23}  {:>8}  {:>6}  {:>10}  {}\n", "energy (" + unit + ")", "families", "fewest",
                      "most", "bound");
   for (const OrbitCountBand& band : count.bands) {
@@ -74,8 +75,8 @@ std::string orbit_count_text(const OrbitCount& count, const std::string& unit) {
         band.continuous_families > 0 ? fmt::format(" + {} continuous", band.continuous_families) : "";
     const char* verdict = !count.complete ? "-" : band.meets_lower_bound ? "met" : "BELOW";
     out << fmt::format("  {:>11.1f}-{:<11.1f}  {:>8}  {:>6}  {:>10}  {}\n", band.energy_low_cm1,
-                       band.energy_high_cm1, band.families_present, fmt::format("{}{}", band.fewest, continuous),
-                       band.most, verdict);
+                       band.energy_high_cm1, band.families_present,
+                       fmt::format("{}{}", band.fewest, continuous), band.most, verdict);
   }
   return out.str();
 }
