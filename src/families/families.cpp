@@ -25,6 +25,7 @@ void FamiliesOptions::validate() const {
         fmt::format("families option energy_max_cm1 = {} must be a non-negative energy", energy_max_cm1));
   if (!std::isfinite(quanta) || quanta < 0.0)
     throw Error(fmt::format("families option quanta = {} must be non-negative", quanta));
+  overtone::validate(branches);
   if (orbit_count.bands < 1)
     throw Error(fmt::format("families option orbit_count.bands = {} must be at least 1", orbit_count.bands));
   if (continue_families && by_energy == by_quanta)
@@ -295,6 +296,56 @@ void continue_families(const VibrationalSystem& system, const FamiliesOptions& o
     if (error) std::rethrow_exception(error);
 }
 
+// Families born at the period doublings and branch points of the families `parents`
+// (indices into result.families, continued); returns the indices of those appended.
+std::vector<int> add_born_families(const VibrationalSystem& system, const CoordinateSymmetry& symmetry,
+                                   const FamiliesOptions& options, const std::vector<int>& parents,
+                                   FamiliesResult& result) {
+  const auto started = std::chrono::steady_clock::now();
+  std::vector<int> born;
+  for (const int index : parents) {
+    const FamilyResult parent = result.families[static_cast<std::size_t>(index)];
+    if (!parent.continued) continue;
+    ContinuationOptions continuation = options.continuation;
+    continuation.energy_max = parent.energy_max;
+    int births = 0;
+    for (const FamilyEvent& event : parent.backbone.events) {
+      if (event.kind != FamilyEventKind::period_doubling && event.kind != FamilyEventKind::branch_point)
+        continue;
+      if (births >= options.branches.max_births_per_family) break;
+      std::string failure;
+      const std::optional<BirthSite> site = locate_bifurcation(
+          system, parent.type.seed, continuation, parent.backbone, event, options.branches, failure);
+      std::optional<FamilyType> type;
+      if (site) {
+        result.birth_probes += site->probes;
+        type = born_family_type(parent.type, index + 1, result.blocks, symmetry, *site, result.units,
+                                options.branches, failure);
+      }
+      if (!type) {
+        result.birth_failures.push_back(fmt::format("family {}, {} near {:.6g} {}: {}", index + 1,
+                                                    to_string(event.kind), event.energy_cm1,
+                                                    result.units.energy_label, failure));
+        continue;
+      }
+      FamilyResult family;
+      family.type = std::move(*type);
+      family.energy_max = parent.energy_max;
+      family.energy_max_cm1 = parent.energy_max_cm1;
+      family.parent_family = index;
+      family.birth_kind = event.kind;
+      family.birth_energy = site->point.energy;
+      family.birth_energy_cm1 = site->point.energy_cm1;
+      family.generation = parent.generation + 1;
+      born.push_back(static_cast<int>(result.families.size()));
+      result.families.push_back(std::move(family));
+      ++births;
+    }
+  }
+  result.birth_seconds += std::chrono::duration<double>(std::chrono::steady_clock::now() - started).count();
+  return born;
+}
+
 void add_totals(FamiliesResult& result) {
   for (const FamilyResult& family : result.families) {
     if (!family.continued) continue;
@@ -342,6 +393,11 @@ FamiliesResult compute_families(const VibrationalSystem& system, const std::vect
     result.families.push_back(std::move(family));
   }
   continue_families(system, options, jobs, started, result);
+  if (options.branches.enabled)
+    for (int generation = 0; generation < options.branches.depth && !jobs.empty(); ++generation) {
+      jobs = add_born_families(system, symmetry, options, jobs, result);
+      continue_families(system, options, jobs, started, result);
+    }
   add_totals(result);
   add_resonance_encounters(result, options.encounter_max_ratio);
   if (options.continue_families)

@@ -9,6 +9,7 @@
 #include <vector>
 
 #include "core/progress.hpp"
+#include "families/branch_switching.hpp"
 #include "families/family_types.hpp"
 #include "families/molecular_system.hpp"
 #include "families/orbit_count.hpp"
@@ -47,6 +48,9 @@ struct FamiliesOptions {
   // not depend on the number). 0: one per core. Potentials that cannot be evaluated
   // from several threads at once (Potential::supports_concurrent_evaluation) run on one.
   int threads = 0;
+  // Families born where a continued family period-doubles or passes a symmetry-breaking
+  // branch point (branch_switching.hpp); continued to their parent's energy_max.
+  BranchSwitchingOptions branches;
   // Bands of the orbit count per energy (FamiliesResult::orbit_count).
   OrbitCountOptions orbit_count;
   // Told after each family and at accepted points (stage "families", done/total families).
@@ -66,8 +70,10 @@ struct FamilyResult {
   // A family born at a bifurcation of another: that family's index in
   // FamiliesResult::families and the birth energy; −1 for families from the minimum.
   int parent_family = -1;
-  double birth_energy = 0.0;  // system units
+  FamilyEventKind birth_kind = FamilyEventKind::period_doubling;  // period_doubling or branch_point
+  double birth_energy = 0.0;                                      // system units
   double birth_energy_cm1 = 0.0;
+  int generation = 0;  // 0 from the minimum, 1 born of such a family, ...
 };
 
 struct FamiliesResult {
@@ -81,6 +87,12 @@ struct FamiliesResult {
   // one line saying why and how to get them; both empty when nothing was left out.
   std::vector<int> left_out_mode_numbers;
   std::string selection_note;
+  // Bifurcations where no family could be born (event, reason), one line each.
+  std::vector<std::string> birth_failures;
+  // Branch switching's own cost: the orbits solved to locate the bifurcations (the born
+  // families' continuation is counted with theirs).
+  int birth_probes = 0;
+  double birth_seconds = 0.0;
   // Distinct periodic orbits per energy band against the degrees of freedom
   // (orbit_count.hpp); a band below the bound adds a warning.
   OrbitCount orbit_count;

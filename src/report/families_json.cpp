@@ -81,6 +81,14 @@ json family_to_json(const AnalysisResult& analysis, const FamilyResult& family, 
                 {"generators", phased_elements(type.generators, group)},
                 {"resonance_threats", threats_to_json(type.resonance_threats, analysis.modes)},
                 {"continued", family.continued}};
+  if (family.parent_family >= 0) {
+    entry["born_from_family"] = family.parent_family + 1;
+    entry["birth_energy_cm1"] = family.birth_energy_cm1;
+    entry["birth_kind"] = to_string(family.birth_kind);
+    entry["generation"] = family.generation;
+  } else {
+    entry["born_from_family"] = nullptr;
+  }
   json points = json::array();
   json events = json::array();
   json ladder = json::array();
@@ -142,6 +150,9 @@ nlohmann::json families_to_json(const AnalysisResult& analysis, const FamiliesRe
                   {"threads_used", families.threads_used},
                   {"left_out_mode_numbers", families.left_out_mode_numbers},
                   {"selection_note", families.selection_note},
+                  {"birth_failures", families.birth_failures},
+                  {"birth_probes", families.birth_probes},
+                  {"birth_seconds", families.birth_seconds},
                   {"orbit_count", orbit_count_to_json(families.orbit_count)}};
   return {{"families", list}, {"families_summary", summary}};
 }

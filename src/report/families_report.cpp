@@ -88,7 +88,8 @@ std::string families_summary(const FamiliesResult& result, const std::vector<Mod
   for (std::size_t i = 0; i < result.families.size(); ++i) {
     const FamilyResult& family = result.families[i];
     const FamilyType& type = family.type;
-    const std::string species = species_text(type.mode_numbers, type.species, modes);
+    const std::string species =
+        family.parent_family >= 0 ? std::string() : species_text(type.mode_numbers, type.species, modes);
     out << fmt::format("{:>3}  {:<14} {:<8} {:<9} copies {:<12} {}\n", i + 1,
                        modes_text(type.mode_numbers, modes), species.empty() ? "-" : species,
                        type.standing ? "standing" : "rotating", copies_text(type, true),
@@ -118,7 +119,8 @@ std::string families_summary_text(const FamiliesResult& result, const std::vecto
     const auto& points = family.backbone.points;
     const std::string status = family.continued ? to_string(family.backbone.status) : "not continued";
     const std::string name = modes_text(type.mode_numbers, modes);
-    const std::string species = species_text(type.mode_numbers, type.species, modes);
+    const std::string species =
+        family.parent_family >= 0 ? std::string() : species_text(type.mode_numbers, type.species, modes);
     if (points.empty()) {
       out << fmt::format("{:>3}  {:<14} {:<8} {:<9} {:>5}  {:<18} {:>6}  {:>10} {:>10} {:>10}  {}\n", i + 1,
                          name, species.empty() ? "-" : species, type.standing ? "standing" : "rotating",
@@ -131,6 +133,14 @@ std::string families_summary_text(const FamiliesResult& result, const std::vecto
                          points.back().frequency_cm1, points.back().energy_cm1, status);
     }
   }
+  for (std::size_t i = 0; i < result.families.size(); ++i) {
+    const FamilyResult& family = result.families[i];
+    if (family.parent_family >= 0)
+      out << fmt::format("  family {} born from family {} at {:.6g} {} ({})\n", i + 1,
+                         family.parent_family + 1, family.birth_energy_cm1, unit,
+                         to_string(family.birth_kind));
+  }
+  for (const std::string& failure : result.birth_failures) out << "  no family born: " << failure << "\n";
   out << orbit_count_text(result.orbit_count, unit);
   return out.str();
 }
@@ -143,7 +153,8 @@ std::string families_text_report(const FamiliesResult& result, const std::vector
     const FamilyResult& family = result.families[i];
     const FamilyType& type = family.type;
     const ContinuationResult& backbone = family.backbone;
-    const std::string species = species_text(type.mode_numbers, type.species, modes);
+    const std::string species =
+        family.parent_family >= 0 ? std::string() : species_text(type.mode_numbers, type.species, modes);
     out << fmt::format("\nFamily {} - {}{}: {}\n", i + 1, modes_text(type.mode_numbers, modes),
                        species.empty() ? "" : " (" + species + ")", type.description);
     std::vector<std::string> generators;
@@ -154,6 +165,9 @@ std::string families_text_report(const FamiliesResult& result, const std::vector
         generators.empty() ? std::string("the identity") : fmt::format("{}", fmt::join(generators, ", ")),
         type.ellipticity);
     out << fmt::format("  copies: {}; time reversal: {}\n", copies_text(type), to_string(type.time_reversal));
+    if (family.parent_family >= 0)
+      out << fmt::format("  born from family {} at {:.6g} {} ({})\n", family.parent_family + 1,
+                         family.birth_energy_cm1, unit, to_string(family.birth_kind));
     for (const ResonanceThreat& threat : type.resonance_threats)
       out << fmt::format(
           "  resonance threat: {}{} near {}x this frequency (detuning {:+.1f} {}): {}\n",

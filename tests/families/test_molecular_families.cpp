@@ -93,6 +93,7 @@ FamiliesOptions quick_options() {
   options.continuation.max_step = 1.0;
   options.continuation.compute_floquet = false;
   options.continuation.ladder_max_level = 0;
+  options.branches.enabled = false;  // the families from the minimum only (births: test_branch_switching.cpp)
   return options;
 }
 

@@ -19,9 +19,10 @@ CoordinateSymmetry henon_heiles_symmetry() {
   return symmetry_from_matrices({matrices[1], matrices[3]}, {"C3", "σ"});
 }
 
-FamiliesResult henon_heiles_families(double energy_max) {
+FamiliesResult henon_heiles_families(double energy_max, bool branches) {
   const HenonHeiles system;
   FamiliesOptions options;
+  options.branches.enabled = branches;
   options.energy_max_cm1 = energy_max;  // model units: the factor to "cm⁻¹" is 1
   options.threads = 1;
   return compute_families(system, blocks_by_frequency(system.harmonic_angular_frequencies(), system.units()),
@@ -35,7 +36,7 @@ FamiliesResult henon_heiles_families(double energy_max) {
 // senses are one curve: 3 + 3 + 1 = 7 distinct orbits, at least the 2 degrees of freedom.
 TEST(OrbitCount, HenonHeilesBelowTheSaddleMeetsTheBoundWithEveryFamily) {
   const double below_saddle = 0.16;
-  const FamiliesResult result = henon_heiles_families(below_saddle);
+  const FamiliesResult result = henon_heiles_families(below_saddle, false);
   const OrbitCount& count = result.orbit_count;
   EXPECT_EQ(count.degrees_of_freedom, 2);
   EXPECT_TRUE(count.complete);
@@ -53,6 +54,20 @@ TEST(OrbitCount, HenonHeilesBelowTheSaddleMeetsTheBoundWithEveryFamily) {
     EXPECT_EQ(warning.find("periodic orbits"), std::string::npos);
 }
 
+// With the families born at bifurcations below the saddle the count only grows: each
+// birth adds its copies where it exists, and the bound stays met.
+TEST(OrbitCount, HenonHeilesBornFamiliesAddToTheCount) {
+  const FamiliesResult result = henon_heiles_families(0.16, true);
+  int born = 0;
+  for (const FamilyResult& family : result.families) born += family.parent_family >= 0 ? 1 : 0;
+  EXPECT_GE(born, 1);
+  for (const OrbitCountBand& band : result.orbit_count.bands) {
+    EXPECT_GE(band.fewest, 3 + 3 + 1) << band.energy_low;
+    EXPECT_TRUE(band.meets_lower_bound);
+  }
+  EXPECT_GT(result.orbit_count.bands.back().most, 3 + 3 + 1);
+}
+
 // Counting rules: copies that are time reverses of each other are one curve.
 TEST(OrbitCount, TimeReversedCopiesCountOnce) {
   FamilyType rotating;
@@ -67,7 +82,7 @@ TEST(OrbitCount, TimeReversedCopiesCountOnce) {
 // A family lost on the way (here: one ended at a third of the range by hand) drops the
 // count below the bound; the result says so.
 TEST(OrbitCount, LostFamilyWarnsBelowTheBound) {
-  FamiliesResult result = henon_heiles_families(0.1);
+  FamiliesResult result = henon_heiles_families(0.1, false);
   ASSERT_EQ(result.families.size(), 3u);
   // Keep only the rotating family (1 distinct orbit) and cut it short.
   std::vector<FamilyResult> families;
