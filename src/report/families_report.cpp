@@ -239,14 +239,18 @@ std::string family_points_csv(const FamiliesResult& result, int family_index) {
   out << "energy_cm1,frequency_cm1,period_fs,action_hbar,amplitude_q,amplitude_angstrom,closure_error,"
          "energy_drift,symmetry_residual,largest_floquet_modulus,unstable_multipliers,stable,newton_"
          "iterations,"
-         "variational_integrations,orbit_integrations\n";
+         "variational_integrations,orbit_integrations,born_from_family,birth_energy_cm1\n";
+  // Every row of a born family names its parent and birth energy; empty for the others.
+  const std::string birth = family.parent_family >= 0 ? fmt::format(",{},{:.10g}", family.parent_family + 1,
+                                                                    family.birth_energy_cm1)
+                                                      : std::string(",,");
   for (const OrbitPoint& p : family.backbone.points) {
     out << fmt::format(
-        "{:.10g},{:.10g},{:.10g},{:.10g},{:.8g},{},{:.3e},{:.3e},{:.3e},{:.10g},{},{},{},{},{}\n",
+        "{:.10g},{:.10g},{:.10g},{:.10g},{:.8g},{},{:.3e},{:.3e},{:.3e},{:.10g},{},{},{},{},{}{}\n",
         p.energy_cm1, p.frequency_cm1, p.period_fs, p.action_hbar, p.amplitude,
         std::isnan(p.amplitude_angstrom) ? std::string() : fmt::format("{:.8g}", p.amplitude_angstrom),
         p.closure_error, p.energy_drift, p.symmetry_residual, p.largest_modulus, p.unstable_count,
-        p.stable ? 1 : 0, p.newton_iterations, p.variational_integrations, p.orbit_integrations);
+        p.stable ? 1 : 0, p.newton_iterations, p.variational_integrations, p.orbit_integrations, birth);
   }
   return out.str();
 }
