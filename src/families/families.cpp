@@ -14,6 +14,7 @@
 #include <thread>
 
 #include "core/error.hpp"
+#include "families/bond_amplitudes.hpp"
 
 namespace overtone {
 
@@ -346,6 +347,59 @@ std::vector<int> add_born_families(const VibrationalSystem& system, const Coordi
   return born;
 }
 
+// The share of the stretch among equivalent bonds along every born family of a molecule.
+void add_bond_amplitude_ratios(const MolecularVibrationalSystem& system, const HarmonicResult& harmonic,
+                               FamiliesResult& result) {
+  const auto bonds = nearest_neighbour_bonds(harmonic.coordinates_angstrom);
+  for (FamilyResult& family : result.families) {
+    if (family.parent_family < 0 || !family.continued) continue;
+    for (const OrbitPoint& point : family.backbone.points) {
+      const Eigen::VectorXd amplitudes =
+          bond_stretch_amplitudes(system, harmonic.coordinates_angstrom, bonds, point.initial_positions,
+                                  point.initial_momenta, point.period);
+      family.bond_amplitude_ratio.push_back(equivalent_bond_ratio(amplitudes, bonds, harmonic.masses_da));
+    }
+  }
+}
+
+// A born family that returns onto its parent (a bubble between two bifurcations of the
+// parent, or a fold that leads back) would continue along the parent: its backbone ends
+// at the first point that lies in the parent's invariant subspace again.
+void end_at_return_to_parent(FamilyResult& family, const FamilyResult& parent,
+                             const std::string& energy_label) {
+  const Eigen::MatrixXd& basis = parent.type.seed.invariant_basis;
+  auto& points = family.backbone.points;
+  if (basis.size() == 0 || basis.cols() == basis.rows() || points.size() < 2) return;
+  constexpr double on_parent = 1e-6;  // relative distance; born orbits differ at O(step) = O(1e-2)
+  for (std::size_t k = 1; k < points.size(); ++k) {
+    const OrbitPoint& point = points[k];
+    const Eigen::VectorXd q = point.initial_positions, p = point.initial_momenta / point.angular_frequency;
+    const double outside =
+        (q - basis * (basis.transpose() * q)).norm() + (p - basis * (basis.transpose() * p)).norm();
+    if (outside > on_parent * (q.norm() + p.norm())) continue;
+    ContinuationResult& backbone = family.backbone;
+    const double energy_cm1 = point.energy_cm1;
+    points.erase(points.begin() + static_cast<std::ptrdiff_t>(k), points.end());
+    const int kept = static_cast<int>(k);
+    backbone.events.erase(std::remove_if(backbone.events.begin(), backbone.events.end(),
+                                         [kept](const FamilyEvent& e) { return e.point_index >= kept; }),
+                          backbone.events.end());
+    double low = points.front().energy, high = low;
+    for (const OrbitPoint& kept_point : points) {
+      low = std::min(low, kept_point.energy);
+      high = std::max(high, kept_point.energy);
+    }
+    backbone.ladder.erase(
+        std::remove_if(backbone.ladder.begin(), backbone.ladder.end(),
+                       [&](const LadderLevel& l) { return l.energy < low || l.energy > high; }),
+        backbone.ladder.end());
+    backbone.status = ContinuationStatus::rejoined_parent;
+    backbone.message = fmt::format("returned onto family {} near {:.6g} {}", family.parent_family + 1,
+                                   energy_cm1, energy_label);
+    return;
+  }
+}
+
 void add_totals(FamiliesResult& result) {
   for (const FamilyResult& family : result.families) {
     if (!family.continued) continue;
@@ -397,6 +451,11 @@ FamiliesResult compute_families(const VibrationalSystem& system, const std::vect
     for (int generation = 0; generation < options.branches.depth && !jobs.empty(); ++generation) {
       jobs = add_born_families(system, symmetry, options, jobs, result);
       continue_families(system, options, jobs, started, result);
+      for (const int index : jobs) {
+        FamilyResult& family = result.families[static_cast<std::size_t>(index)];
+        end_at_return_to_parent(family, result.families[static_cast<std::size_t>(family.parent_family)],
+                                result.units.energy_label);
+      }
     }
   add_totals(result);
   add_resonance_encounters(result, options.encounter_max_ratio);
@@ -428,6 +487,7 @@ FamiliesResult compute_molecular_families(const Potential& potential, const Harm
     symmetry = trivial_symmetry(system.dimension());
   }
   FamiliesResult result = compute_families(system, blocks, symmetry, options);
+  add_bond_amplitude_ratios(system, harmonic, result);
   if (!fallback.empty())
     result.warnings.push_back("the point group was not used for the families (" + fallback +
                               "); degenerate modes get no predicted families");

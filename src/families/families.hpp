@@ -74,6 +74,11 @@ struct FamilyResult {
   double birth_energy = 0.0;                                      // system units
   double birth_energy_cm1 = 0.0;
   int generation = 0;  // 0 from the minimum, 1 born of such a family, ...
+  // Molecules, born families: per backbone point, among the bonds equivalent to the one
+  // that stretches most, the smallest stretch amplitude over the largest (1: they stretch
+  // alike, as in a normal mode; → 0: one bond alone, a local mode; bond_amplitudes.hpp).
+  // Empty otherwise.
+  std::vector<double> bond_amplitude_ratio;
 };
 
 struct FamiliesResult {

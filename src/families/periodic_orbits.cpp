@@ -18,7 +18,8 @@ namespace overtone {
 // Names in the order of the enumerations.
 const char* to_string(ContinuationStatus status) {
   static constexpr const char* names[] = {"reached_energy_max", "escaped",      "step_too_small",
-                                          "point_limit",        "start_failed", "turned_back"};
+                                          "point_limit",        "start_failed", "turned_back",
+                                          "rejoined_parent"};
   return names[static_cast<std::size_t>(status)];
 }
 

@@ -174,6 +174,7 @@ enum class ContinuationStatus {
   point_limit,         // max_points reached before energy_max
   start_failed,        // no periodic orbit found near the linear orbit
   turned_back,         // after a fold the family returned below its first energy
+  rejoined_parent,     // a born family returned onto the family it was born of (branch_switching.hpp)
 };
 const char* to_string(ContinuationStatus status);
 

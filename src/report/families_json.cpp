@@ -97,7 +97,11 @@ json family_to_json(const AnalysisResult& analysis, const FamilyResult& family, 
     entry["energy_max_cm1"] = family.energy_max_cm1;
     entry["status"] = to_string(backbone.status);
     entry["message"] = backbone.message;
-    for (const OrbitPoint& point : backbone.points) points.push_back(point_to_json(point));
+    for (std::size_t k = 0; k < backbone.points.size(); ++k) {
+      points.push_back(point_to_json(backbone.points[k]));
+      if (k < family.bond_amplitude_ratio.size())
+        points.back()["bond_amplitude_ratio"] = number_or_null(family.bond_amplitude_ratio[k]);
+    }
     for (const FamilyEvent& event : backbone.events) events.push_back(event_to_json(event));
     for (const LadderLevel& level : backbone.ladder)
       ladder.push_back({{"n", level.n},

@@ -168,6 +168,13 @@ std::string families_text_report(const FamiliesResult& result, const std::vector
     if (family.parent_family >= 0)
       out << fmt::format("  born from family {} at {:.6g} {} ({})\n", family.parent_family + 1,
                          family.birth_energy_cm1, unit, to_string(family.birth_kind));
+    if (!family.bond_amplitude_ratio.empty() && !backbone.points.empty())
+      out << fmt::format(
+          "  equivalent bonds' stretch, smallest over largest amplitude: {:.3f} at {:.6g} {} -> {:.3f} at "
+          "{:.6g} "
+          "{} (1: alike, 0: one bond alone)\n",
+          family.bond_amplitude_ratio.front(), backbone.points.front().energy_cm1, unit,
+          family.bond_amplitude_ratio.back(), backbone.points.back().energy_cm1, unit);
     for (const ResonanceThreat& threat : type.resonance_threats)
       out << fmt::format(
           "  resonance threat: {}{} near {}x this frequency (detuning {:+.1f} {}): {}\n",
