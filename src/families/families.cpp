@@ -442,6 +442,21 @@ FamiliesResult compute_families(const VibrationalSystem& system, const std::vect
                               ? options.energy_max_cm1 / result.units.cm1_per_energy
                               : (options.quanta + 1.0) * result.units.hbar * block.angular_frequency;
       family.energy_max_cm1 = family.energy_max * result.units.cm1_per_energy;
+      std::vector<ResonantFamily> mixed =
+          options.continue_families
+              ? resonant_families(system, result.blocks, family.type,
+                                  options.continuation.start_energy_fraction * family.energy_max,
+                                  options.resonant_seeds)
+              : std::vector<ResonantFamily>{};
+      for (ResonantFamily& seeded : mixed) {
+        FamilyResult replacement = family;
+        replacement.type = std::move(seeded.type);
+        replacement.resonance_note = std::move(seeded.note);
+        replacement.resonance_shift_coefficient = seeded.shift_coefficient;
+        jobs.push_back(static_cast<int>(result.families.size()));
+        result.families.push_back(std::move(replacement));
+      }
+      if (!mixed.empty()) continue;
       jobs.push_back(static_cast<int>(result.families.size()));
     }
     result.families.push_back(std::move(family));

@@ -14,6 +14,7 @@
 #include "families/molecular_system.hpp"
 #include "families/orbit_count.hpp"
 #include "families/periodic_orbits.hpp"
+#include "families/resonant_seeds.hpp"
 #include "families/vibrational_system.hpp"
 
 namespace overtone {
@@ -51,6 +52,9 @@ struct FamiliesOptions {
   // Families born where a continued family period-doubles or passes a symmetry-breaking
   // branch point (branch_switching.hpp); continued to their parent's energy_max.
   BranchSwitchingOptions branches;
+  // Near an exact 1:2 resonance the lower mode's family is replaced by the two mixed
+  // families of the normal form (resonant_seeds.hpp).
+  ResonantSeedOptions resonant_seeds;
   // Bands of the orbit count per energy (FamiliesResult::orbit_count).
   OrbitCountOptions orbit_count;
   // Told after each family and at accepted points (stage "families", done/total families).
@@ -79,6 +83,11 @@ struct FamilyResult {
   // alike, as in a normal mode; → 0: one bond alone, a local mode; bond_amplitudes.hpp).
   // Empty otherwise.
   std::vector<double> bond_amplitude_ratio;
+  // A mixed family of a 1:2 resonance seeded from the normal form: which family it
+  // replaces and why, and its predicted frequency shift / √E at exact resonance (system
+  // units); empty and 0 otherwise.
+  std::string resonance_note;
+  double resonance_shift_coefficient = 0.0;
 };
 
 struct FamiliesResult {

@@ -89,6 +89,10 @@ json family_to_json(const AnalysisResult& analysis, const FamilyResult& family, 
   } else {
     entry["born_from_family"] = nullptr;
   }
+  if (!family.resonance_note.empty()) {
+    entry["resonance_note"] = family.resonance_note;
+    entry["resonance_shift_coefficient"] = family.resonance_shift_coefficient;
+  }
   json points = json::array();
   json events = json::array();
   json ladder = json::array();

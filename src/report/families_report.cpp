@@ -140,6 +140,9 @@ std::string families_summary_text(const FamiliesResult& result, const std::vecto
                          family.parent_family + 1, family.birth_energy_cm1, unit,
                          to_string(family.birth_kind));
   }
+  for (std::size_t i = 0; i < result.families.size(); ++i)
+    if (!result.families[i].resonance_note.empty())
+      out << fmt::format("  family {}: {}\n", i + 1, result.families[i].resonance_note);
   for (const std::string& failure : result.birth_failures) out << "  no family born: " << failure << "\n";
   out << orbit_count_text(result.orbit_count, unit);
   return out.str();
@@ -168,6 +171,7 @@ std::string families_text_report(const FamiliesResult& result, const std::vector
     if (family.parent_family >= 0)
       out << fmt::format("  born from family {} at {:.6g} {} ({})\n", family.parent_family + 1,
                          family.birth_energy_cm1, unit, to_string(family.birth_kind));
+    if (!family.resonance_note.empty()) out << "  resonant seed: " << family.resonance_note << "\n";
     if (!family.bond_amplitude_ratio.empty() && !backbone.points.empty())
       out << fmt::format(
           "  equivalent bonds' stretch, smallest over largest amplitude: {:.3f} at {:.6g} {} -> {:.3f} at "

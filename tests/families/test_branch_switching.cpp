@@ -3,6 +3,7 @@
 #include <gtest/gtest.h>
 
 #include <cmath>
+#include <vector>
 
 #include "core/error.hpp"
 #include "families/branch_switching.hpp"
@@ -114,6 +115,75 @@ TEST(BranchSwitching, BirthEnergyScalesWithTheSquareOfTheDetuning) {
   Detuned model;
   model.detuning = 0.01;
   expect_birth_as_predicted(model);
+}
+
+// Least-squares slope of log|y| against log x.
+double log_log_slope(const std::vector<double>& x, const std::vector<double>& y) {
+  double sx = 0.0, sy = 0.0, sxx = 0.0, sxy = 0.0;
+  const double count = static_cast<double>(x.size());
+  for (std::size_t k = 0; k < x.size(); ++k) {
+    const double lx = std::log(x[k]), ly = std::log(std::abs(y[k]));
+    sx += lx;
+    sy += ly;
+    sxx += lx * lx;
+    sxy += lx * ly;
+  }
+  return (count * sxy - sx * sy) / (count * sxx - sx * sx);
+}
+
+// Exactly at 1:2 resonance (ω₂ = 2ω₁) the same normal form has, with I₁ = 4I₂ and
+// cos ψ = ±1, the two mixed families with frequency ω₁ ± κ√I₂ and E ≈ 6ω₁I₂: shifts
+// ±κ√(E/(6ω₁)), growing like √E with opposite signs; the lower mode has no family of its
+// own; the q₂ family is a quartic oscillator, ω₂ + 3bE/ω₂³ (a shift ∝ E).
+TEST(ResonantSeeds, ExactOneToTwoResonanceGivesTheTwoMixedFamiliesAndNoLoneLowerMode) {
+  const double omega1 = 1.0, cubic = 0.1, quartic = 1e-3, energy_max = 4e-3;
+  const ResonantPair system(omega1, 2.0 * omega1, cubic, quartic);
+  FamiliesOptions options;
+  options.energy_max_cm1 = energy_max;
+  // From E = 2e-4: below it the q₂ orbit is harmonic to 1e-9 and its shooting Newton
+  // does not resolve the period's shift.
+  options.continuation.start_energy_fraction = 0.05;
+  options.threads = 1;
+  const FamiliesResult result = compute_families(
+      system, blocks_by_frequency(system.harmonic_angular_frequencies(), system.units()),
+      symmetry_from_matrices(ResonantPair::symmetry_matrices(), ResonantPair::symmetry_labels()), options);
+  const double kappa = cubic / (omega1 * std::sqrt(2.0 * 2.0 * omega1));
+  const double predicted_coefficient = kappa / std::sqrt(6.0 * omega1);
+  // The next order of the normal form adds O(a²E/ω⁴) to the shift, ~5% of it at
+  // energy_max: the exponent within 0.05, the prefactor at the lowest points within 5%.
+  constexpr double kExponent = 0.05, kPrefactorRelative = 0.05;
+  int mixed = 0, smooth = 0;
+  std::vector<double> signs;
+  for (const FamilyResult& family : result.families) {
+    ASSERT_NE(family.type.mode_numbers, std::vector<int>{1}) << "a family of the lower mode alone";
+    if (family.parent_family >= 0) continue;
+    const auto& points = family.backbone.points;
+    ASSERT_EQ(family.backbone.status, ContinuationStatus::reached_energy_max)
+        << family.type.description << ": " << family.backbone.message;
+    ASSERT_GE(points.size(), 5u);
+    std::vector<double> energies, shifts;
+    for (const OrbitPoint& point : points) {
+      energies.push_back(point.energy);
+      shifts.push_back(point.angular_frequency -
+                       (family.type.mode_numbers.size() == 2 ? omega1 : 2.0 * omega1));
+    }
+    if (family.type.mode_numbers == std::vector<int>{2}) {
+      ++smooth;
+      EXPECT_NEAR(log_log_slope(energies, shifts), 1.0, kExponent);
+      continue;
+    }
+    ++mixed;
+    EXPECT_FALSE(family.resonance_note.empty());
+    EXPECT_NEAR(log_log_slope(energies, shifts), 0.5, kExponent) << family.type.description;
+    const double coefficient = shifts.front() / std::sqrt(energies.front());
+    EXPECT_NEAR(std::abs(coefficient) / predicted_coefficient, 1.0, kPrefactorRelative);
+    signs.push_back(coefficient);
+    for (const OrbitPoint& point : points) EXPECT_LT(point.symmetry_residual, kSymmetryResidual);
+  }
+  EXPECT_EQ(mixed, 2);
+  EXPECT_EQ(smooth, 1);
+  ASSERT_EQ(signs.size(), 2u);
+  EXPECT_LT(signs[0] * signs[1], 0.0);  // opposite shifts
 }
 
 TEST(BranchSwitching, OptionsAreChecked) {
