@@ -303,9 +303,9 @@ std::vector<int> add_born_families(const VibrationalSystem& system, const Coordi
                                    const FamiliesOptions& options, const std::vector<int>& parents,
                                    FamiliesResult& result) {
   const auto started = std::chrono::steady_clock::now();
-  std::vector<int> born;
+  std::vector<FamilyResult> newborn;
   for (const int index : parents) {
-    const FamilyResult parent = result.families[static_cast<std::size_t>(index)];
+    const FamilyResult& parent = result.families[static_cast<std::size_t>(index)];
     if (!parent.continued) continue;
     ContinuationOptions continuation = options.continuation;
     continuation.energy_max = parent.energy_max;
@@ -338,10 +338,14 @@ std::vector<int> add_born_families(const VibrationalSystem& system, const Coordi
       family.birth_energy = site->point.energy;
       family.birth_energy_cm1 = site->point.energy_cm1;
       family.generation = parent.generation + 1;
-      born.push_back(static_cast<int>(result.families.size()));
-      result.families.push_back(std::move(family));
+      newborn.push_back(std::move(family));
       ++births;
     }
+  }
+  std::vector<int> born;
+  for (FamilyResult& family : newborn) {
+    born.push_back(static_cast<int>(result.families.size()));
+    result.families.push_back(std::move(family));
   }
   result.birth_seconds += std::chrono::duration<double>(std::chrono::steady_clock::now() - started).count();
   return born;
