@@ -324,8 +324,8 @@ class FamilySolver {
   double tangent_length_ = 1.0;
   double tangent_time_scale_ = 1.0;
   std::chrono::steady_clock::time_point started_;
-  SystemEvaluationCounts counts_before_;  // this thread's counts when run() started
-  Eigen::MatrixXd last_monodromy_;        // scaled, of the last analysed point (probe())
+  SystemEvaluationCounts counts_before_;    // this thread's counts when run() started
+  mutable Eigen::MatrixXd last_monodromy_;  // scaled, of the last classified point (probe())
 };
 
 FamilySolver::FamilySolver(const VibrationalSystem& system, const FamilySeed& seed,
@@ -712,6 +712,7 @@ double FamilySolver::classify_multipliers(const Eigen::MatrixXd& monodromy, cons
   }
   point.stable = point.unstable_count == 0;
   point.nonneutral_multipliers = free_multipliers;
+  last_monodromy_ = monodromy;
   return collision_distance(free_multipliers);
 }
 
@@ -829,7 +830,6 @@ bool FamilySolver::analyze_point(const Unknowns& u, const CorrectorOutcome& veri
       for (int k = 0; k < r_; ++k) monodromy = shift * monodromy * step;
       // monodromy = D^r (D⁻¹Φ)^r, built as D(D(…)(D⁻¹Φ))(D⁻¹Φ); equal because products associate.
       analysis.collision_distance = classify_multipliers(monodromy, q[0], p[0], length, point);
-      last_monodromy_ = monodromy;
     }
   } else {
     analysis.reduced_transition = transition;
