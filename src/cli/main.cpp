@@ -279,13 +279,27 @@ struct FamilyArguments {
   bool all_modes = false;         // every family, also above the default selection's size
   double energy_max_cm1 = 0.0;
   double quanta = default_family_quanta;
+  bool branches = true;  // follow the families born at period doublings and branch points
+  int branch_depth = 1;
   const CLI::Option* energy_option = nullptr;  // tells whether the value was given
   const CLI::Option* quanta_option = nullptr;
   bool energy_given() const { return energy_option && energy_option->count() > 0; }
   bool quanta_given() const { return quanta_option && quanta_option->count() > 0; }
 };
 
-void add_family_arguments(CLI::App& command, FamilyArguments& arguments) {
+// Generations of born families the command line follows at most: each costs as much as
+// the families it is born of, and beyond the third the births are rarely resolved.
+constexpr int max_branch_depth = 3;
+
+void add_family_arguments(CLI::App& command, FamilyArguments& arguments, bool branches_by_default) {
+  arguments.branches = branches_by_default;
+  command.add_flag("--branches,!--no-branches", arguments.branches,
+                   fmt::format("follow the families born where a family period-doubles or breaks a symmetry "
+                               "(default: {})",
+                               branches_by_default ? "on" : "off"));
+  command.add_option(
+      "--branch-depth", arguments.branch_depth,
+      fmt::format("generations of born families to follow, 1 <= n <= {} (default 1)", max_branch_depth));
   command.add_option(
       "--mode", arguments.fundamentals,
       "continue only the families of fundamental νN (the ν column of the modes table); repeatable");
@@ -318,6 +332,9 @@ void check_range(double value, double largest, const std::string& option, const 
 
 // Checked before any work starts, so that a typing mistake costs no computing time.
 void check_family_arguments(const FamilyArguments& arguments) {
+  if (arguments.branch_depth < 1 || arguments.branch_depth > max_branch_depth)
+    throw Error(fmt::format("--branch-depth must be a whole number in the range 1 <= n <= {}, got {}",
+                            max_branch_depth, arguments.branch_depth));
   if (arguments.quanta_given())
     check_range(arguments.quanta, max_family_quanta, "--quanta", "a number of quanta");
   if (arguments.energy_given())
@@ -332,6 +349,8 @@ FamiliesOptions families_options(const AnalysisResult& analysis, const FamilyArg
     options.quanta = arguments.quanta;
   options.mode_numbers = mode_numbers_of_fundamentals(analysis, arguments.fundamentals);
   options.all_modes = arguments.all_modes;
+  options.branches.enabled = arguments.branches;
+  options.branches.depth = arguments.branch_depth;
   // One frequency window for the families' resonance threats and the perturbative Fermi
   // candidates, so that the two lists can be compared pair by pair.
   options.enumeration.resonance_window_cm1 = Vpt2Options{}.fermi_gap_cm1;
@@ -837,7 +856,7 @@ Command add_analyze_command(CLI::App& app) {
       "the full analysis: modes, anharmonic levels, families; writes analysis.json, modes.csv, lines.csv and "
       "families/*.csv");
   add_molecule_arguments(*analyze, arguments->molecule);
-  add_family_arguments(*analyze, arguments->families);
+  add_family_arguments(*analyze, arguments->families, false);
   analyze
       ->add_option("-o,--out", arguments->out_directory,
                    "output folder (replaced as a whole when complete; an existing one may hold only "
@@ -887,7 +906,7 @@ Command add_families_command(CLI::App& app) {
   CLI::App* families = app.add_subcommand(
       "families", "symmetry-predicted families of nonlinear normal modes and their backbone curves");
   add_molecule_arguments(*families, arguments->molecule);
-  add_family_arguments(*families, arguments->families);
+  add_family_arguments(*families, arguments->families, true);
   families->add_option("--json", arguments->json_path,
                        "write the JSON document to PATH ('-' for standard output)");
   families->add_option("--full-report", arguments->full_report,
