@@ -13,6 +13,13 @@ namespace overtone {
 
 namespace {
 
+template <typename Points>
+double highest_energy_cm1(const Points& points) {
+  double highest = points.front().energy_cm1;
+  for (const auto& point : points) highest = std::max(highest, point.energy_cm1);
+  return highest;
+}
+
 // "ν2" (or "ν2,ν3") with the labels of an analysed molecule; "modes 2,3" without.
 std::string modes_text(const std::vector<int>& numbers, const std::vector<ModeLabel>& modes) {
   if (modes.empty()) return fmt::format("modes {}", fmt::join(numbers, ","));
@@ -130,7 +137,7 @@ std::string families_summary_text(const FamiliesResult& result, const std::vecto
                          i + 1, name, species.empty() ? "-" : species,
                          type.standing ? "standing" : "rotating", type.subgroup.size(),
                          copies_text(type, true), points.size(), points.front().frequency_cm1,
-                         points.back().frequency_cm1, points.back().energy_cm1, status);
+                         points.back().frequency_cm1, highest_energy_cm1(points), status);
     }
   }
   for (std::size_t i = 0; i < result.families.size(); ++i) {
@@ -196,10 +203,16 @@ std::string families_text_report(const FamiliesResult& result, const std::vector
     for (const auto& warning : backbone.warnings) out << "  warning: " << warning << "\n";
     const auto& points = backbone.points;
     if (points.empty()) continue;
+    // A family that folds (a born family rising and coming back onto its parent) ends below
+    // its highest point: say how high it went.
+    const double highest = highest_energy_cm1(points);
+    const std::string highest_text = highest > std::max(points.front().energy_cm1, points.back().energy_cm1)
+                                         ? fmt::format(" (highest {:.6g} {})", highest, unit)
+                                         : std::string();
     out << fmt::format(
-        "    {} points from {:.4g} to {:.6g} {}; frequency {:.2f} -> {:.2f} {}; largest amplitude "
+        "    {} points from {:.4g} to {:.6g} {}{}; frequency {:.2f} -> {:.2f} {}; largest amplitude "
         "{:.4g}{}\n",
-        points.size(), points.front().energy_cm1, points.back().energy_cm1, unit,
+        points.size(), points.front().energy_cm1, points.back().energy_cm1, unit, highest_text,
         points.front().frequency_cm1, points.back().frequency_cm1, unit, points.back().amplitude,
         std::isnan(points.back().amplitude_angstrom)
             ? std::string()
