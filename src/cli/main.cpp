@@ -20,6 +20,7 @@
 #include <vector>
 
 #include "cli/intensity_hook.hpp"
+#include "cli/report_command.hpp"
 #include "cli/spectrum_assign.hpp"
 #include "core/error.hpp"
 #include "core/text.hpp"
@@ -278,13 +279,27 @@ struct FamilyArguments {
   bool all_modes = false;         // every family, also above the default selection's size
   double energy_max_cm1 = 0.0;
   double quanta = default_family_quanta;
+  bool branches = true;  // follow the families born at period doublings and branch points
+  int branch_depth = 1;
   const CLI::Option* energy_option = nullptr;  // tells whether the value was given
   const CLI::Option* quanta_option = nullptr;
   bool energy_given() const { return energy_option && energy_option->count() > 0; }
   bool quanta_given() const { return quanta_option && quanta_option->count() > 0; }
 };
 
-void add_family_arguments(CLI::App& command, FamilyArguments& arguments) {
+// Generations of born families the command line follows at most: each costs as much as
+// the families it is born of, and beyond the third the births are rarely resolved.
+constexpr int max_branch_depth = 3;
+
+void add_family_arguments(CLI::App& command, FamilyArguments& arguments, bool branches_by_default) {
+  arguments.branches = branches_by_default;
+  command.add_flag("--branches,!--no-branches", arguments.branches,
+                   fmt::format("follow the families born where a family period-doubles or breaks a symmetry "
+                               "(default: {})",
+                               branches_by_default ? "on" : "off"));
+  command.add_option(
+      "--branch-depth", arguments.branch_depth,
+      fmt::format("generations of born families to follow, 1 <= n <= {} (default 1)", max_branch_depth));
   command.add_option(
       "--mode", arguments.fundamentals,
       "continue only the families of fundamental νN (the ν column of the modes table); repeatable");
@@ -317,6 +332,9 @@ void check_range(double value, double largest, const std::string& option, const 
 
 // Checked before any work starts, so that a typing mistake costs no computing time.
 void check_family_arguments(const FamilyArguments& arguments) {
+  if (arguments.branch_depth < 1 || arguments.branch_depth > max_branch_depth)
+    throw Error(fmt::format("--branch-depth must be a whole number in the range 1 <= n <= {}, got {}",
+                            max_branch_depth, arguments.branch_depth));
   if (arguments.quanta_given())
     check_range(arguments.quanta, max_family_quanta, "--quanta", "a number of quanta");
   if (arguments.energy_given())
@@ -331,6 +349,8 @@ FamiliesOptions families_options(const AnalysisResult& analysis, const FamilyArg
     options.quanta = arguments.quanta;
   options.mode_numbers = mode_numbers_of_fundamentals(analysis, arguments.fundamentals);
   options.all_modes = arguments.all_modes;
+  options.branches.enabled = arguments.branches;
+  options.branches.depth = arguments.branch_depth;
   // One frequency window for the families' resonance threats and the perturbative Fermi
   // candidates, so that the two lists can be compared pair by pair.
   options.enumeration.resonance_window_cm1 = Vpt2Options{}.fermi_gap_cm1;
@@ -444,12 +464,14 @@ struct AnalyzeSwitches {
   bool skip_anharmonic = false;
   bool skip_families = false;
   double exclude_below_cm1 = 0.0;
+  std::vector<double> orbit_energies_cm1;  // --orbit-energy
 };
 
 int run_analyze(const MoleculeArguments& arguments, const FamilyArguments& family_arguments,
                 const AnalyzeSwitches& switches, const std::string& out_directory) {
   check_family_arguments(family_arguments);
   check_exclusion(switches.exclude_below_cm1);
+  const OrbitFramesOptions orbit_options = cli::orbit_frames_options(switches.orbit_energies_cm1);
   const AnalysedMolecule analysed = run_analysis(arguments);
   const AnalysisResult& analysis = analysed.analysis;
   const Potential& potential = *analysed.potential;
@@ -484,6 +506,11 @@ int run_analyze(const MoleculeArguments& arguments, const FamilyArguments& famil
       results.families_skipped = error.what();
     }
   }
+  std::optional<OrbitFramesResult> orbits;
+  if (families) {
+    orbits = sample_family_orbits(analysis, potential, *families, orbit_options);
+    results.family_orbits = &*orbits;
+  }
 
   cli::IntensityOutcome intensities;
   add_intensities(arguments, analysed, results.anharmonic, intensities, results);
@@ -492,9 +519,12 @@ int run_analyze(const MoleculeArguments& arguments, const FamilyArguments& famil
   summary.full_lists_note =
       "report.txt (full text), analysis.json and lines.csv in " + printable_text(out_directory);
   report_out() << text_report(results, summary);
-  std::cout << "\nwrote " << written.written.size() << " files (analysis.json, report.txt, modes.csv"
+  std::cout << "\nwrote " << written.written.size()
+            << " files (analysis.json, report.txt, report.html, animations/*.xyz, modes.csv"
             << (anharmonic ? ", lines.csv" : "") << (families ? ", families/*.csv" : "") << ") to "
             << out_directory << "\n";
+  std::cout << "open " << (std::filesystem::path(out_directory) / "report.html").string()
+            << " in a web browser for plots and animations\n";
   return 0;
 }
 
@@ -789,7 +819,7 @@ bool unknown_command(CLI::App& app, int argc, char** argv) {
     if (command->check_name(argv[1])) return false;
   std::cerr << "overtone: error: unknown command '" << printable_text(argv[1])
             << "' (commands: modes, analyze, anharmonic, families, symmetry, screen, screen-report, "
-               "merge-stores, spectrum, assign; see overtone --help)\n";
+               "merge-stores, spectrum, assign, report; see overtone --help)\n";
   return true;
 }
 
@@ -826,7 +856,7 @@ Command add_analyze_command(CLI::App& app) {
       "the full analysis: modes, anharmonic levels, families; writes analysis.json, modes.csv, lines.csv and "
       "families/*.csv");
   add_molecule_arguments(*analyze, arguments->molecule);
-  add_family_arguments(*analyze, arguments->families);
+  add_family_arguments(*analyze, arguments->families, false);
   analyze
       ->add_option("-o,--out", arguments->out_directory,
                    "output folder (replaced as a whole when complete; an existing one may hold only "
@@ -835,6 +865,7 @@ Command add_analyze_command(CLI::App& app) {
   analyze->add_flag("--no-anharmonic", arguments->switches.skip_anharmonic, "leave out the anharmonic stage");
   analyze->add_flag("--no-families", arguments->switches.skip_families, "leave out the families stage");
   add_exclusion_option(*analyze, arguments->switches.exclude_below_cm1);
+  cli::add_orbit_energy_option(*analyze, arguments->switches.orbit_energies_cm1);
   return {analyze, [arguments] {
             return run_analyze(arguments->molecule, arguments->families, arguments->switches,
                                arguments->out_directory);
@@ -875,7 +906,7 @@ Command add_families_command(CLI::App& app) {
   CLI::App* families = app.add_subcommand(
       "families", "symmetry-predicted families of nonlinear normal modes and their backbone curves");
   add_molecule_arguments(*families, arguments->molecule);
-  add_family_arguments(*families, arguments->families);
+  add_family_arguments(*families, arguments->families, true);
   families->add_option("--json", arguments->json_path,
                        "write the JSON document to PATH ('-' for standard output)");
   families->add_option("--full-report", arguments->full_report,
@@ -936,6 +967,12 @@ Command add_spectrum(CLI::App& app) {
   return {command, [arguments] { return cli::run_spectrum(*arguments); }};
 }
 
+Command add_html_report(CLI::App& app) {
+  auto arguments = std::make_shared<cli::ReportArguments>();
+  CLI::App* command = cli::add_report_command(app, *arguments);
+  return {command, [arguments] { return cli::run_report_command(*arguments); }};
+}
+
 Command add_assign(CLI::App& app) {
   auto arguments = std::make_shared<cli::AssignArguments>();
   CLI::App* command = cli::add_assign_command(app, *arguments);
@@ -944,11 +981,10 @@ Command add_assign(CLI::App& app) {
 
 // Every command, in the order of the help text.
 std::vector<Command> add_commands(CLI::App& app) {
-  return {add_modes_command(app),      add_analyze_command(app),
-          add_anharmonic_command(app), add_families_command(app),
-          add_symmetry_command(app),   add_screen_command(app),
-          add_screen_report(app),      add_merge_command(app),
-          add_spectrum(app),           add_assign(app)};
+  return {add_modes_command(app),    add_analyze_command(app),  add_anharmonic_command(app),
+          add_families_command(app), add_symmetry_command(app), add_screen_command(app),
+          add_screen_report(app),    add_merge_command(app),    add_spectrum(app),
+          add_assign(app),           add_html_report(app)};
 }
 
 // The chosen command, with an Error turned into one line and a non-zero status.

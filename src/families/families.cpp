@@ -14,6 +14,7 @@
 #include <thread>
 
 #include "core/error.hpp"
+#include "families/bond_amplitudes.hpp"
 
 namespace overtone {
 
@@ -25,6 +26,9 @@ void FamiliesOptions::validate() const {
         fmt::format("families option energy_max_cm1 = {} must be a non-negative energy", energy_max_cm1));
   if (!std::isfinite(quanta) || quanta < 0.0)
     throw Error(fmt::format("families option quanta = {} must be non-negative", quanta));
+  overtone::validate(branches);
+  if (orbit_count.bands < 1)
+    throw Error(fmt::format("families option orbit_count.bands = {} must be at least 1", orbit_count.bands));
   if (continue_families && by_energy == by_quanta)
     throw Error(
         fmt::format("families options need exactly one of energy_max_cm1 (got {}) and quanta (got {}) to be "
@@ -298,6 +302,113 @@ void continue_families(const VibrationalSystem& system, const FamiliesOptions& o
     if (error) std::rethrow_exception(error);
 }
 
+// Families born at the period doublings and branch points of the families `parents`
+// (indices into result.families, continued); returns the indices of those appended.
+std::vector<int> add_born_families(const VibrationalSystem& system, const CoordinateSymmetry& symmetry,
+                                   const FamiliesOptions& options, const std::vector<int>& parents,
+                                   FamiliesResult& result) {
+  const auto started = std::chrono::steady_clock::now();
+  std::vector<FamilyResult> newborn;
+  for (const int index : parents) {
+    const FamilyResult& parent = result.families[static_cast<std::size_t>(index)];
+    if (!parent.continued) continue;
+    ContinuationOptions continuation = options.continuation;
+    continuation.energy_max = parent.energy_max;
+    int births = 0;
+    for (const FamilyEvent& event : parent.backbone.events) {
+      if (event.kind != FamilyEventKind::period_doubling && event.kind != FamilyEventKind::branch_point)
+        continue;
+      if (births >= options.branches.max_births_per_family) break;
+      std::string failure;
+      const std::optional<BirthSite> site = locate_bifurcation(
+          system, parent.type.seed, continuation, parent.backbone, event, options.branches, failure);
+      std::optional<FamilyType> type;
+      if (site) {
+        result.birth_probes += site->probes;
+        type = born_family_type(parent.type, index + 1, result.blocks, symmetry, *site, result.units,
+                                options.branches, failure);
+      }
+      if (!type) {
+        result.birth_failures.push_back(fmt::format("family {}, {} near {:.6g} {}: {}", index + 1,
+                                                    to_string(event.kind), event.energy_cm1,
+                                                    result.units.energy_label, failure));
+        continue;
+      }
+      FamilyResult family;
+      family.type = std::move(*type);
+      family.energy_max = parent.energy_max;
+      family.energy_max_cm1 = parent.energy_max_cm1;
+      family.parent_family = index;
+      family.birth_kind = event.kind;
+      family.birth_energy = site->point.energy;
+      family.birth_energy_cm1 = site->point.energy_cm1;
+      family.generation = parent.generation + 1;
+      newborn.push_back(std::move(family));
+      ++births;
+    }
+  }
+  std::vector<int> born;
+  for (FamilyResult& family : newborn) {
+    born.push_back(static_cast<int>(result.families.size()));
+    result.families.push_back(std::move(family));
+  }
+  result.birth_seconds += std::chrono::duration<double>(std::chrono::steady_clock::now() - started).count();
+  return born;
+}
+
+// The share of the stretch among equivalent bonds along every born family of a molecule.
+void add_bond_amplitude_ratios(const MolecularVibrationalSystem& system, const HarmonicResult& harmonic,
+                               FamiliesResult& result) {
+  const auto bonds = nearest_neighbour_bonds(harmonic.coordinates_angstrom);
+  for (FamilyResult& family : result.families) {
+    if (family.parent_family < 0 || !family.continued) continue;
+    for (const OrbitPoint& point : family.backbone.points) {
+      const Eigen::VectorXd amplitudes =
+          bond_stretch_amplitudes(system, harmonic.coordinates_angstrom, bonds, point.initial_positions,
+                                  point.initial_momenta, point.period);
+      family.bond_amplitude_ratio.push_back(equivalent_bond_ratio(amplitudes, bonds, harmonic.masses_da));
+    }
+  }
+}
+
+// A born family that returns onto its parent (a bubble between two bifurcations of the
+// parent, or a fold that leads back) would continue along the parent: its backbone ends
+// at the first point that lies in the parent's invariant subspace again.
+void end_at_return_to_parent(FamilyResult& family, const FamilyResult& parent,
+                             const std::string& energy_label) {
+  const Eigen::MatrixXd& basis = parent.type.seed.invariant_basis;
+  auto& points = family.backbone.points;
+  if (basis.size() == 0 || basis.cols() == basis.rows() || points.size() < 2) return;
+  constexpr double on_parent = 1e-6;  // relative distance; born orbits differ at O(step) = O(1e-2)
+  for (std::size_t k = 1; k < points.size(); ++k) {
+    const OrbitPoint& point = points[k];
+    const Eigen::VectorXd q = point.initial_positions, p = point.initial_momenta / point.angular_frequency;
+    const double outside =
+        (q - basis * (basis.transpose() * q)).norm() + (p - basis * (basis.transpose() * p)).norm();
+    if (outside > on_parent * (q.norm() + p.norm())) continue;
+    ContinuationResult& backbone = family.backbone;
+    const double energy_cm1 = point.energy_cm1;
+    points.erase(points.begin() + static_cast<std::ptrdiff_t>(k), points.end());
+    const int kept = static_cast<int>(k);
+    backbone.events.erase(std::remove_if(backbone.events.begin(), backbone.events.end(),
+                                         [kept](const FamilyEvent& e) { return e.point_index >= kept; }),
+                          backbone.events.end());
+    double low = points.front().energy, high = low;
+    for (const OrbitPoint& kept_point : points) {
+      low = std::min(low, kept_point.energy);
+      high = std::max(high, kept_point.energy);
+    }
+    backbone.ladder.erase(
+        std::remove_if(backbone.ladder.begin(), backbone.ladder.end(),
+                       [&](const LadderLevel& l) { return l.energy < low || l.energy > high; }),
+        backbone.ladder.end());
+    backbone.status = ContinuationStatus::rejoined_parent;
+    backbone.message = fmt::format("returned onto family {} near {:.6g} {}", family.parent_family + 1,
+                                   energy_cm1, energy_label);
+    return;
+  }
+}
+
 void add_totals(FamiliesResult& result) {
   for (const FamilyResult& family : result.families) {
     if (!family.continued) continue;
@@ -340,13 +451,41 @@ FamiliesResult compute_families(const VibrationalSystem& system, const std::vect
                               ? options.energy_max_cm1 / result.units.cm1_per_energy
                               : (options.quanta + 1.0) * result.units.hbar * block.angular_frequency;
       family.energy_max_cm1 = family.energy_max * result.units.cm1_per_energy;
+      std::vector<ResonantFamily> mixed =
+          options.continue_families
+              ? resonant_families(system, result.blocks, family.type,
+                                  options.continuation.start_energy_fraction * family.energy_max,
+                                  options.resonant_seeds)
+              : std::vector<ResonantFamily>{};
+      for (ResonantFamily& seeded : mixed) {
+        FamilyResult replacement = family;
+        replacement.type = std::move(seeded.type);
+        replacement.resonance_note = std::move(seeded.note);
+        replacement.resonance_shift_coefficient = seeded.shift_coefficient;
+        jobs.push_back(static_cast<int>(result.families.size()));
+        result.families.push_back(std::move(replacement));
+      }
+      if (!mixed.empty()) continue;
       jobs.push_back(static_cast<int>(result.families.size()));
     }
     result.families.push_back(std::move(family));
   }
   continue_families(system, options, jobs, started, result);
+  if (options.branches.enabled)
+    for (int generation = 0; generation < options.branches.depth && !jobs.empty(); ++generation) {
+      jobs = add_born_families(system, symmetry, options, jobs, result);
+      continue_families(system, options, jobs, started, result);
+      for (const int index : jobs) {
+        FamilyResult& family = result.families[static_cast<std::size_t>(index)];
+        end_at_return_to_parent(family, result.families[static_cast<std::size_t>(family.parent_family)],
+                                result.units.energy_label);
+      }
+    }
   add_totals(result);
   add_resonance_encounters(result, options.encounter_max_ratio);
+  if (options.continue_families)
+    result.orbit_count = count_orbits(result.families, n, result.units.cm1_per_energy,
+                                      result.units.energy_label, options.orbit_count, result.warnings);
   result.seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - started).count();
   return result;
 }
@@ -372,6 +511,7 @@ FamiliesResult compute_molecular_families(const Potential& potential, const Harm
     symmetry = trivial_symmetry(system.dimension());
   }
   FamiliesResult result = compute_families(system, blocks, symmetry, options);
+  add_bond_amplitude_ratios(system, harmonic, result);
   if (!fallback.empty())
     result.warnings.push_back("the point group was not used for the families (" + fallback +
                               "); degenerate modes get no predicted families");

@@ -9,9 +9,12 @@
 #include <vector>
 
 #include "core/progress.hpp"
+#include "families/branch_switching.hpp"
 #include "families/family_types.hpp"
 #include "families/molecular_system.hpp"
+#include "families/orbit_count.hpp"
 #include "families/periodic_orbits.hpp"
+#include "families/resonant_seeds.hpp"
 #include "families/vibrational_system.hpp"
 
 namespace overtone {
@@ -52,6 +55,14 @@ struct FamiliesOptions {
   // not depend on the number). 0: one per core. Potentials that cannot be evaluated
   // from several threads at once (Potential::supports_concurrent_evaluation) run on one.
   int threads = 0;
+  // Families born where a continued family period-doubles or passes a symmetry-breaking
+  // branch point (branch_switching.hpp); continued to their parent's energy_max.
+  BranchSwitchingOptions branches;
+  // Near an exact 1:2 resonance the lower mode's family is replaced by the two mixed
+  // families of the normal form (resonant_seeds.hpp).
+  ResonantSeedOptions resonant_seeds;
+  // Bands of the orbit count per energy (FamiliesResult::orbit_count).
+  OrbitCountOptions orbit_count;
   // Told after each family and at accepted points (stage "families", done/total families).
   ProgressCallback progress;
 
@@ -66,6 +77,23 @@ struct FamilyResult {
   double energy_max = 0.0;  // system units, the range it was continued to
   double energy_max_cm1 = 0.0;
   ContinuationResult backbone;  // empty unless continued
+  // A family born at a bifurcation of another: that family's index in
+  // FamiliesResult::families and the birth energy; −1 for families from the minimum.
+  int parent_family = -1;
+  FamilyEventKind birth_kind = FamilyEventKind::period_doubling;  // period_doubling or branch_point
+  double birth_energy = 0.0;                                      // system units
+  double birth_energy_cm1 = 0.0;
+  int generation = 0;  // 0 from the minimum, 1 born of such a family, ...
+  // Molecules, born families: per backbone point, among the bonds equivalent to the one
+  // that stretches most, the smallest stretch amplitude over the largest (1: they stretch
+  // alike, as in a normal mode; → 0: one bond alone, a local mode; bond_amplitudes.hpp).
+  // Empty otherwise.
+  std::vector<double> bond_amplitude_ratio;
+  // A mixed family of a 1:2 resonance seeded from the normal form: which family it
+  // replaces and why, and its predicted frequency shift / √E at exact resonance (system
+  // units); empty and 0 otherwise.
+  std::string resonance_note;
+  double resonance_shift_coefficient = 0.0;
 };
 
 struct FamiliesResult {
@@ -79,6 +107,15 @@ struct FamiliesResult {
   // one line saying why and how to get them; both empty when nothing was left out.
   std::vector<int> left_out_mode_numbers;
   std::string selection_note;
+  // Bifurcations where no family could be born (event, reason), one line each.
+  std::vector<std::string> birth_failures;
+  // Branch switching's own cost: the orbits solved to locate the bifurcations (the born
+  // families' continuation is counted with theirs).
+  int birth_probes = 0;
+  double birth_seconds = 0.0;
+  // Distinct periodic orbits per energy band against the degrees of freedom
+  // (orbit_count.hpp); a band below the bound adds a warning.
+  OrbitCount orbit_count;
   int threads_used = 1;  // threads that continued families
   // Totals over all continued families:
   int points = 0;

@@ -18,7 +18,8 @@ namespace overtone {
 // Names in the order of the enumerations.
 const char* to_string(ContinuationStatus status) {
   static constexpr const char* names[] = {"reached_energy_max", "escaped",      "step_too_small",
-                                          "point_limit",        "start_failed", "turned_back"};
+                                          "point_limit",        "start_failed", "turned_back",
+                                          "rejoined_parent"};
   return names[static_cast<std::size_t>(status)];
 }
 
@@ -224,6 +225,7 @@ class FamilySolver {
  public:
   FamilySolver(const VibrationalSystem& system, const FamilySeed& seed, const ContinuationOptions& options);
   ContinuationResult run();
+  OrbitProbe probe(const OrbitPoint& near, double energy);
 
  private:
   double length_for(double energy) const { return std::sqrt(2.0 * energy) / omega_; }
@@ -246,6 +248,9 @@ class FamilySolver {
   CorrectorSetup fixed_energy_setup(const Unknowns& reference, double energy) const;
   // First point: Newton from the linear orbit at a small energy (smaller on each retry).
   bool start(ContinuationResult& result, std::string& failure);
+  // First point of a born family: the corrector at a fixed distance along the branch
+  // direction from the bifurcation (FamilySeed::branch), energy free.
+  bool start_on_branch(ContinuationResult& result, std::string& failure);
   CorrectorOutcome continuation_step(double step, double& trial_step, bool& final_step);
   double next_step(double step, double trial_step, int iterations) const;
   // Records a converged orbit: analysis, point, oriented tangent. False when the analysis
@@ -320,7 +325,8 @@ class FamilySolver {
   double tangent_length_ = 1.0;
   double tangent_time_scale_ = 1.0;
   std::chrono::steady_clock::time_point started_;
-  SystemEvaluationCounts counts_before_;  // this thread's counts when run() started
+  SystemEvaluationCounts counts_before_;    // this thread's counts when run() started
+  mutable Eigen::MatrixXd last_monodromy_;  // scaled, of the last classified point (probe())
 };
 
 FamilySolver::FamilySolver(const VibrationalSystem& system, const FamilySeed& seed,
@@ -706,6 +712,8 @@ double FamilySolver::classify_multipliers(const Eigen::MatrixXd& monodromy, cons
     }
   }
   point.stable = point.unstable_count == 0;
+  point.nonneutral_multipliers = free_multipliers;
+  last_monodromy_ = monodromy;
   return collision_distance(free_multipliers);
 }
 
@@ -932,7 +940,97 @@ bool FamilySolver::accept(const CorrectorOutcome& corrected, const PointCost& co
   return true;
 }
 
+bool FamilySolver::start_on_branch(ContinuationResult& result, std::string& failure) {
+  const BranchStart& branch = *seed_.branch;
+  if (branch.positions.size() != n_ || branch.momenta.size() != n_ || branch.direction.size() != 2 * n_)
+    throw Error(
+        fmt::format("branch start needs positions and momenta of length {} and a direction of length "
+                    "{}, got {}, {} and {}",
+                    n_, 2 * n_, branch.positions.size(), branch.momenta.size(), branch.direction.size()));
+  Unknowns birth{basis_.transpose() * branch.positions, basis_.transpose() * branch.momenta, branch.period,
+                 branch.energy};
+  const double length = length_for(branch.energy);
+  const double time_scale = time_scale_for(branch.period);
+  const Unknowns direction{basis_.transpose() * branch.direction.head(n_),
+                           basis_.transpose() * branch.direction.tail(n_), 0.0, 0.0};
+  Eigen::VectorXd along = Eigen::VectorXd::Zero(2 * m_ + 2);
+  along.head(2 * m_) = scaled_state(direction, length);
+  if (!(along.norm() > 0.0)) {
+    failure = "the branch direction lies outside the family's invariant subspace";
+    return false;
+  }
+  along.normalize();
+  Eigen::VectorXd birth_scaled(2 * m_ + 2);
+  birth_scaled << scaled_state(birth, length), branch.period / time_scale,
+      branch.energy / energy_scale(length);
+  const double size = birth_scaled.head(2 * m_).norm();
+  double step = branch.step;
+  for (int attempt = 0; attempt < 3; ++attempt, step *= 0.5) {
+    PointCost cost;
+    cost.started = std::chrono::steady_clock::now();
+    cost.counts_at_start = VibrationalSystem::thread_counts();
+    CorrectorSetup setup;
+    setup.length = length;
+    setup.time_scale = time_scale;
+    setup.fixed_energy = false;
+    setup.predicted = birth_scaled + step * size * along;
+    setup.tangent = along;
+    setup.phase_reference = setup.predicted.head(2 * m_);
+    setup.phase_direction =
+        integrator_->scaled_velocity(birth_scaled.head(2 * m_), {length, omega_}).normalized();
+    setup.verify = true;
+    const Unknowns guess = unscaled(setup.predicted.head(2 * m_), branch.period, branch.energy, length);
+    have_hint_ = false;
+    const CorrectorOutcome corrected = correct(guess, setup);
+    if (!corrected.converged) {
+      failure = corrected.failure;
+      continue;
+    }
+    cost.iterations = corrected.iterations;
+    cost.variational = corrected.variational_integrations;
+    cost.orbits = corrected.orbit_integrations;
+    if (accept(corrected, cost, result)) return true;
+    failure = last_integration_failure_;
+  }
+  return false;
+}
+
+OrbitProbe FamilySolver::probe(const OrbitPoint& near, double energy) {
+  OrbitProbe out;
+  // Scaled to the target energy as a harmonic orbit would be.
+  const double stretch = near.energy > 0.0 ? std::sqrt(energy / near.energy) : 1.0;
+  const Unknowns guess{stretch * (basis_.transpose() * near.initial_positions),
+                       stretch * (basis_.transpose() * near.initial_momenta), near.period, energy};
+  have_hint_ = false;
+  const CorrectorOutcome corrected = correct(guess, fixed_energy_setup(guess, energy));
+  if (!corrected.converged) {
+    out.failure = corrected.failure;
+    return out;
+  }
+  OrbitPoint& point = out.point;
+  point.energy = corrected.solution.energy;
+  point.period = corrected.solution.period;
+  PointAnalysis analysis;
+  last_monodromy_.resize(0, 0);
+  if (!analyze_point(corrected.solution, corrected, point, analysis)) {
+    out.failure = analysis.failure;
+    return out;
+  }
+  point.initial_positions = basis_ * corrected.solution.a;
+  point.initial_momenta = basis_ * corrected.solution.b;
+  fill_converted(point);
+  out.converged = true;
+  if (last_monodromy_.size() > 0) {
+    // From the scaled (Q/ℓ, P/(ωℓ)) to (Q, P): the length cancels, the momenta keep ω.
+    Eigen::VectorXd scale = Eigen::VectorXd::Ones(2 * n_);
+    scale.tail(n_).setConstant(omega_);
+    out.monodromy = scale.asDiagonal() * last_monodromy_ * scale.cwiseInverse().asDiagonal();
+  }
+  return out;
+}
+
 bool FamilySolver::start(ContinuationResult& result, std::string& failure) {
+  if (seed_.branch) return start_on_branch(result, failure);
   double start_energy = options_.start_energy_fraction * options_.energy_max;
   for (int attempt = 0; attempt < 4; ++attempt, start_energy *= 0.1) {
     PointCost cost;
@@ -1336,6 +1434,12 @@ ContinuationResult continue_family(const VibrationalSystem& system, const Family
                                    const ContinuationOptions& options) {
   FamilySolver solver(system, seed, options);
   return solver.run();
+}
+
+OrbitProbe solve_orbit_at_energy(const VibrationalSystem& system, const FamilySeed& seed,
+                                 const ContinuationOptions& options, const OrbitPoint& near, double energy) {
+  FamilySolver solver(system, seed, options);
+  return solver.probe(near, energy);
 }
 
 }  // namespace overtone

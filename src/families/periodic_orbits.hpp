@@ -34,6 +34,7 @@
 #include <cstddef>
 #include <functional>
 #include <limits>
+#include <optional>
 #include <string>
 #include <vector>
 
@@ -48,6 +49,21 @@ struct TrajectorySymmetry {
   Eigen::MatrixXd matrix;  // n × n orthogonal, acting on the system's coordinates
   int numerator = 0;       // time shift as a fraction of the period, in [0, denominator)
   int denominator = 1;     // ≥ 1
+};
+
+// Where a family born at a bifurcation of another starts (branch_switching.hpp).
+struct BranchStart {
+  Eigen::VectorXd positions;  // Q(0) of the parent's orbit at the bifurcation, full space
+  Eigen::VectorXd momenta;    // P(0)
+  double period = 0.0;        // the new family's period at birth (twice the parent's after a doubling)
+  double energy = 0.0;        // birth energy, system units
+  // (δQ, δP), length 2n: the new branch's direction at birth (a kernel vector of the
+  // parent's monodromy minus ±1).
+  Eigen::VectorXd direction;
+  // The first point lies this far along the direction, relative to the orbit's size in
+  // the scaled coordinates (positions / amplitude); the corrector keeps that distance
+  // along the direction and frees the energy, so it cannot fall back onto the parent.
+  double step = 0.05;
 };
 
 // What to continue: the linear orbit q(t) = Re(v e^{iωt}) of one family and the
@@ -65,6 +81,9 @@ struct FamilySeed {
   // the partner motions start with multipliers at +1, whose stability at the smallest
   // energies is below numerical resolution (see ContinuationOptions::partner_resolution).
   int block_dimension = 1;
+  // Set for a family born at a bifurcation: start there instead of from the linear orbit
+  // (linear_mode and angular_frequency then only set the scaling: ω of the new family).
+  std::optional<BranchStart> branch;
 };
 
 struct ContinuationOptions {
@@ -155,6 +174,7 @@ enum class ContinuationStatus {
   point_limit,         // max_points reached before energy_max
   start_failed,        // no periodic orbit found near the linear orbit
   turned_back,         // after a fold the family returned below its first energy
+  rejoined_parent,     // a born family returned onto the family it was born of (branch_switching.hpp)
 };
 const char* to_string(ContinuationStatus status);
 
@@ -180,6 +200,9 @@ struct OrbitPoint {
   // by decreasing modulus; the 2 + 2·(continuous symmetries) closest to +1 are neutral.
   std::vector<std::complex<double>> floquet_multipliers;
   std::vector<double> floquet_moduli;
+  // The non-neutral multipliers alone (those of the quotient by the flow, the energy and
+  // the continuous symmetries), in the order computed.
+  std::vector<std::complex<double>> nonneutral_multipliers;
   double largest_modulus = 1.0;    // among the non-neutral multipliers
   int unstable_count = 0;          // non-neutral multipliers with modulus > 1 + tolerance
   int unstable_negative_real = 0;  // of those: real and negative (period-doubling side)
@@ -266,5 +289,19 @@ struct ContinuationResult {
 // a linear mode outside the invariant subspace, r < 1).
 ContinuationResult continue_family(const VibrationalSystem& system, const FamilySeed& seed,
                                    const ContinuationOptions& options);
+
+// One orbit of a family at a given energy, Newton from a nearby point of it, with its
+// analysis and its whole-space monodromy (the bifurcation search of branch_switching.hpp).
+struct OrbitProbe {
+  bool converged = false;
+  std::string failure;
+  OrbitPoint point;
+  Eigen::MatrixXd monodromy;  // 2n × 2n on (Q, P); empty unless converged and compute_floquet
+};
+
+// Throws Error like continue_family (options.energy_max must be set; it sets the escape
+// radius).
+OrbitProbe solve_orbit_at_energy(const VibrationalSystem& system, const FamilySeed& seed,
+                                 const ContinuationOptions& options, const OrbitPoint& near, double energy);
 
 }  // namespace overtone

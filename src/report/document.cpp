@@ -2,6 +2,7 @@
 
 #include <fmt/format.h>
 
+#include <cmath>
 #include <memory>
 
 #include "anharmonic/taylor_export.hpp"
@@ -12,6 +13,7 @@
 #include "report/families_json.hpp"
 #include "report/families_report.hpp"
 #include "report/harmonic_report.hpp"
+#include "report/html_report.hpp"
 #include "report/intensity_json.hpp"
 
 namespace overtone {
@@ -113,6 +115,33 @@ std::string resonance_cross_check_line(const ResonanceCrossCheck& check) {
          (check.compared ? (check.agree ? "; agree" : "; DISAGREE") : "");
 }
 
+nlohmann::json family_orbits_to_json(const OrbitFramesResult& orbits) {
+  // 1e-5 Å: far below what a viewer shows; keeps a fifty-mode document small.
+  constexpr double frame_resolution_angstrom = 1e-5;
+  json entries = json::array();
+  for (const FamilyOrbitFrames& orbit : orbits.orbits) {
+    json frames = json::array();
+    for (const Eigen::VectorXd& frame : orbit.frames_angstrom) {
+      json coordinates = json::array();
+      for (Eigen::Index k = 0; k < frame.size(); ++k)
+        coordinates.push_back(std::round(frame(k) / frame_resolution_angstrom) * frame_resolution_angstrom);
+      frames.push_back(std::move(coordinates));
+    }
+    entries.push_back({{"family", orbit.family},
+                       {"requested_energy_cm1", orbit.requested_energy_cm1},
+                       {"energy_cm1", orbit.energy_cm1},
+                       {"frequency_cm1", orbit.frequency_cm1},
+                       {"period_fs", orbit.period_fs},
+                       {"amplitude_angstrom", orbit.amplitude_angstrom},
+                       {"closure_angstrom", orbit.closure_angstrom},
+                       {"outside_backbone", orbit.outside_backbone},
+                       {"frames_angstrom", std::move(frames)}});
+  }
+  json section = {{"family_orbits", std::move(entries)}};
+  if (!orbits.warnings.empty()) section["family_orbit_warnings"] = orbits.warnings;
+  return section;
+}
+
 nlohmann::json analysis_document(const RunResults& results) {
   const AnalysisResult& analysis = analysis_of(results);
   json document = json::object();
@@ -123,6 +152,7 @@ nlohmann::json analysis_document(const RunResults& results) {
   if (results.families) merge_sections(document, families_to_json(analysis, *results.families));
   if (!results.families_skipped.empty())
     merge_sections(document, {{"families_skipped", results.families_skipped}});
+  if (results.family_orbits) merge_sections(document, family_orbits_to_json(*results.family_orbits));
   if (results.anharmonic && results.families)
     merge_sections(document, resonance_cross_check_to_json(
                                  cross_check_resonances(analysis, *results.anharmonic, *results.families)));
@@ -191,6 +221,7 @@ std::vector<OutputFile> analysis_files(const RunResults& results) {
   if (results.families)
     for (OutputFile& file : family_backbone_files(analysis, *results.families, "families"))
       files.push_back(std::move(file));
+  for (OutputFile& file : report_files(*document)) files.push_back(std::move(file));
   return files;
 }
 

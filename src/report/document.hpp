@@ -14,6 +14,7 @@
 
 #include "pipeline/analysis.hpp"
 #include "pipeline/intensities.hpp"
+#include "pipeline/orbit_frames.hpp"
 #include "report/anharmonic_report.hpp"
 #include "report/output_folder.hpp"
 
@@ -31,7 +32,13 @@ struct RunResults {
   // not requested (then the document has no intensity fields).
   const IntensityResults* intensities = nullptr;
   std::string intensities_skipped;
+  // Frames of the families' periodic orbits for the animations (top-level key
+  // family_orbits); null: none drawn.
+  const OrbitFramesResult* family_orbits = nullptr;
 };
+
+// Top-level key family_orbits: one entry per family and energy, with its frames.
+nlohmann::json family_orbits_to_json(const OrbitFramesResult& orbits);
 
 // Top-level key resonance_cross_check: one entry per Fermi 1:2 pair listed by either
 // stage (docs/output-fields.md).
@@ -64,7 +71,8 @@ struct TextReportOptions {
 std::string text_report(const RunResults& results, const TextReportOptions& options = {});
 
 // The files of `overtone analyze`: analysis.json, modes.csv, lines.csv (when the
-// anharmonic stage ran) and families/family-NN-nuK.csv (one per continued family).
+// anharmonic stage ran), families/family-NN-nuK.csv (one per continued family), report.html
+// and animations/*.xyz (report/html_report.hpp).
 std::vector<OutputFile> analysis_files(const RunResults& results);
 
 // One backbone CSV per continued family, named with the ν numbers (family_csv_file_name).

@@ -81,6 +81,18 @@ json family_to_json(const AnalysisResult& analysis, const FamilyResult& family, 
                 {"generators", phased_elements(type.generators, group)},
                 {"resonance_threats", threats_to_json(type.resonance_threats, analysis.modes)},
                 {"continued", family.continued}};
+  if (family.parent_family >= 0) {
+    entry["born_from_family"] = family.parent_family + 1;
+    entry["birth_energy_cm1"] = family.birth_energy_cm1;
+    entry["birth_kind"] = to_string(family.birth_kind);
+    entry["generation"] = family.generation;
+  } else {
+    entry["born_from_family"] = nullptr;
+  }
+  if (!family.resonance_note.empty()) {
+    entry["resonance_note"] = family.resonance_note;
+    entry["resonance_shift_coefficient"] = family.resonance_shift_coefficient;
+  }
   json points = json::array();
   json events = json::array();
   json ladder = json::array();
@@ -89,7 +101,11 @@ json family_to_json(const AnalysisResult& analysis, const FamilyResult& family, 
     entry["energy_max_cm1"] = family.energy_max_cm1;
     entry["status"] = to_string(backbone.status);
     entry["message"] = backbone.message;
-    for (const OrbitPoint& point : backbone.points) points.push_back(point_to_json(point));
+    for (std::size_t k = 0; k < backbone.points.size(); ++k) {
+      points.push_back(point_to_json(backbone.points[k]));
+      if (k < family.bond_amplitude_ratio.size())
+        points.back()["bond_amplitude_ratio"] = number_or_null(family.bond_amplitude_ratio[k]);
+    }
     for (const FamilyEvent& event : backbone.events) events.push_back(event_to_json(event));
     for (const LadderLevel& level : backbone.ladder)
       ladder.push_back({{"n", level.n},
@@ -110,6 +126,20 @@ json family_to_json(const AnalysisResult& analysis, const FamilyResult& family, 
   return entry;
 }
 
+json orbit_count_to_json(const OrbitCount& count) {
+  json bands = json::array();
+  for (const OrbitCountBand& band : count.bands)
+    bands.push_back({{"energy_low_cm1", band.energy_low_cm1},
+                     {"energy_high_cm1", band.energy_high_cm1},
+                     {"families_present", band.families_present},
+                     {"fewest_orbits", band.fewest},
+                     {"fewest_at_cm1", band.fewest_energy_cm1},
+                     {"most_orbits", band.most},
+                     {"continuous_families", band.continuous_families},
+                     {"meets_lower_bound", band.meets_lower_bound}});
+  return {{"degrees_of_freedom", count.degrees_of_freedom}, {"complete", count.complete}, {"bands", bands}};
+}
+
 }  // namespace
 
 nlohmann::json families_to_json(const AnalysisResult& analysis, const FamiliesResult& families) {
@@ -127,7 +157,11 @@ nlohmann::json families_to_json(const AnalysisResult& analysis, const FamiliesRe
                   {"seconds", families.seconds},
                   {"threads_used", families.threads_used},
                   {"left_out_mode_numbers", families.left_out_mode_numbers},
-                  {"selection_note", families.selection_note}};
+                  {"selection_note", families.selection_note},
+                  {"birth_failures", families.birth_failures},
+                  {"birth_probes", families.birth_probes},
+                  {"birth_seconds", families.birth_seconds},
+                  {"orbit_count", orbit_count_to_json(families.orbit_count)}};
   return {{"families", list}, {"families_summary", summary}};
 }
 

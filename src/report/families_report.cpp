@@ -13,6 +13,13 @@ namespace overtone {
 
 namespace {
 
+template <typename Points>
+double highest_energy_cm1(const Points& points) {
+  double highest = points.front().energy_cm1;
+  for (const auto& point : points) highest = std::max(highest, point.energy_cm1);
+  return highest;
+}
+
 // "ν2" (or "ν2,ν3") with the labels of an analysed molecule; "modes 2,3" without.
 std::string modes_text(const std::vector<int>& numbers, const std::vector<ModeLabel>& modes) {
   if (modes.empty()) return fmt::format("modes {}", fmt::join(numbers, ","));
@@ -61,6 +68,26 @@ double largest(const ContinuationResult& backbone, Field field) {
   return value;
 }
 
+// The orbit count per band (see families/orbit_count.hpp).
+std::string orbit_count_text(const OrbitCount& count, const std::string& unit) {
+  if (count.bands.empty()) return {};
+  std::ostringstream out;
+  out << fmt::format("\nDistinct periodic orbits per energy band (lower bound: {} degrees of freedom{})\n",
+                     count.degrees_of_freedom,
+                     count.complete ? "" : "; partial, some families not continued");
+  out << fmt::format("  {:>23}  {:>8}  {:>6}  {:>10}  {}\n", "energy (" + unit + ")", "families", "fewest",
+                     "most", "bound");
+  for (const OrbitCountBand& band : count.bands) {
+    const std::string continuous =
+        band.continuous_families > 0 ? fmt::format(" + {} continuous", band.continuous_families) : "";
+    const char* verdict = !count.complete ? "-" : band.meets_lower_bound ? "met" : "BELOW";
+    out << fmt::format("  {:>11.1f}-{:<11.1f}  {:>8}  {:>6}  {:>10}  {}\n", band.energy_low_cm1,
+                       band.energy_high_cm1, band.families_present,
+                       fmt::format("{}{}", band.fewest, continuous), band.most, verdict);
+  }
+  return out.str();
+}
+
 }  // namespace
 
 std::string families_summary(const FamiliesResult& result, const std::vector<ModeLabel>& modes) {
@@ -68,7 +95,8 @@ std::string families_summary(const FamiliesResult& result, const std::vector<Mod
   for (std::size_t i = 0; i < result.families.size(); ++i) {
     const FamilyResult& family = result.families[i];
     const FamilyType& type = family.type;
-    const std::string species = species_text(type.mode_numbers, type.species, modes);
+    const std::string species =
+        family.parent_family >= 0 ? std::string() : species_text(type.mode_numbers, type.species, modes);
     out << fmt::format("{:>3}  {:<14} {:<8} {:<9} copies {:<12} {}\n", i + 1,
                        modes_text(type.mode_numbers, modes), species.empty() ? "-" : species,
                        type.standing ? "standing" : "rotating", copies_text(type, true),
@@ -98,7 +126,8 @@ std::string families_summary_text(const FamiliesResult& result, const std::vecto
     const auto& points = family.backbone.points;
     const std::string status = family.continued ? to_string(family.backbone.status) : "not continued";
     const std::string name = modes_text(type.mode_numbers, modes);
-    const std::string species = species_text(type.mode_numbers, type.species, modes);
+    const std::string species =
+        family.parent_family >= 0 ? std::string() : species_text(type.mode_numbers, type.species, modes);
     if (points.empty()) {
       out << fmt::format("{:>3}  {:<14} {:<8} {:<9} {:>5}  {:<18} {:>6}  {:>10} {:>10} {:>10}  {}\n", i + 1,
                          name, species.empty() ? "-" : species, type.standing ? "standing" : "rotating",
@@ -108,9 +137,21 @@ std::string families_summary_text(const FamiliesResult& result, const std::vecto
                          i + 1, name, species.empty() ? "-" : species,
                          type.standing ? "standing" : "rotating", type.subgroup.size(),
                          copies_text(type, true), points.size(), points.front().frequency_cm1,
-                         points.back().frequency_cm1, points.back().energy_cm1, status);
+                         points.back().frequency_cm1, highest_energy_cm1(points), status);
     }
   }
+  for (std::size_t i = 0; i < result.families.size(); ++i) {
+    const FamilyResult& family = result.families[i];
+    if (family.parent_family >= 0)
+      out << fmt::format("  family {} born from family {} at {:.6g} {} ({})\n", i + 1,
+                         family.parent_family + 1, family.birth_energy_cm1, unit,
+                         to_string(family.birth_kind));
+  }
+  for (std::size_t i = 0; i < result.families.size(); ++i)
+    if (!result.families[i].resonance_note.empty())
+      out << fmt::format("  family {}: {}\n", i + 1, result.families[i].resonance_note);
+  for (const std::string& failure : result.birth_failures) out << "  no family born: " << failure << "\n";
+  out << orbit_count_text(result.orbit_count, unit);
   return out.str();
 }
 
@@ -122,7 +163,8 @@ std::string families_text_report(const FamiliesResult& result, const std::vector
     const FamilyResult& family = result.families[i];
     const FamilyType& type = family.type;
     const ContinuationResult& backbone = family.backbone;
-    const std::string species = species_text(type.mode_numbers, type.species, modes);
+    const std::string species =
+        family.parent_family >= 0 ? std::string() : species_text(type.mode_numbers, type.species, modes);
     out << fmt::format("\nFamily {} - {}{}: {}\n", i + 1, modes_text(type.mode_numbers, modes),
                        species.empty() ? "" : " (" + species + ")", type.description);
     std::vector<std::string> generators;
@@ -133,6 +175,17 @@ std::string families_text_report(const FamiliesResult& result, const std::vector
         generators.empty() ? std::string("the identity") : fmt::format("{}", fmt::join(generators, ", ")),
         type.ellipticity);
     out << fmt::format("  copies: {}; time reversal: {}\n", copies_text(type), to_string(type.time_reversal));
+    if (family.parent_family >= 0)
+      out << fmt::format("  born from family {} at {:.6g} {} ({})\n", family.parent_family + 1,
+                         family.birth_energy_cm1, unit, to_string(family.birth_kind));
+    if (!family.resonance_note.empty()) out << "  resonant seed: " << family.resonance_note << "\n";
+    if (!family.bond_amplitude_ratio.empty() && !backbone.points.empty())
+      out << fmt::format(
+          "  equivalent bonds' stretch, smallest over largest amplitude: {:.3f} at {:.6g} {} -> {:.3f} at "
+          "{:.6g} "
+          "{} (1: alike, 0: one bond alone)\n",
+          family.bond_amplitude_ratio.front(), backbone.points.front().energy_cm1, unit,
+          family.bond_amplitude_ratio.back(), backbone.points.back().energy_cm1, unit);
     for (const ResonanceThreat& threat : type.resonance_threats)
       out << fmt::format(
           "  resonance threat: {}{} near {}x this frequency (detuning {:+.1f} {}): {}\n",
@@ -150,10 +203,16 @@ std::string families_text_report(const FamiliesResult& result, const std::vector
     for (const auto& warning : backbone.warnings) out << "  warning: " << warning << "\n";
     const auto& points = backbone.points;
     if (points.empty()) continue;
+    // A family that folds (a born family rising and coming back onto its parent) ends below
+    // its highest point: say how high it went.
+    const double highest = highest_energy_cm1(points);
+    const std::string highest_text = highest > std::max(points.front().energy_cm1, points.back().energy_cm1)
+                                         ? fmt::format(" (highest {:.6g} {})", highest, unit)
+                                         : std::string();
     out << fmt::format(
-        "    {} points from {:.4g} to {:.6g} {}; frequency {:.2f} -> {:.2f} {}; largest amplitude "
+        "    {} points from {:.4g} to {:.6g} {}{}; frequency {:.2f} -> {:.2f} {}; largest amplitude "
         "{:.4g}{}\n",
-        points.size(), points.front().energy_cm1, points.back().energy_cm1, unit,
+        points.size(), points.front().energy_cm1, points.back().energy_cm1, unit, highest_text,
         points.front().frequency_cm1, points.back().frequency_cm1, unit, points.back().amplitude,
         std::isnan(points.back().amplitude_angstrom)
             ? std::string()
@@ -204,14 +263,18 @@ std::string family_points_csv(const FamiliesResult& result, int family_index) {
   out << "energy_cm1,frequency_cm1,period_fs,action_hbar,amplitude_q,amplitude_angstrom,closure_error,"
          "energy_drift,symmetry_residual,largest_floquet_modulus,unstable_multipliers,stable,newton_"
          "iterations,"
-         "variational_integrations,orbit_integrations\n";
+         "variational_integrations,orbit_integrations,born_from_family,birth_energy_cm1\n";
+  // Every row of a born family names its parent and birth energy; empty for the others.
+  const std::string birth = family.parent_family >= 0 ? fmt::format(",{},{:.10g}", family.parent_family + 1,
+                                                                    family.birth_energy_cm1)
+                                                      : std::string(",,");
   for (const OrbitPoint& p : family.backbone.points) {
     out << fmt::format(
-        "{:.10g},{:.10g},{:.10g},{:.10g},{:.8g},{},{:.3e},{:.3e},{:.3e},{:.10g},{},{},{},{},{}\n",
+        "{:.10g},{:.10g},{:.10g},{:.10g},{:.8g},{},{:.3e},{:.3e},{:.3e},{:.10g},{},{},{},{},{}{}\n",
         p.energy_cm1, p.frequency_cm1, p.period_fs, p.action_hbar, p.amplitude,
         std::isnan(p.amplitude_angstrom) ? std::string() : fmt::format("{:.8g}", p.amplitude_angstrom),
         p.closure_error, p.energy_drift, p.symmetry_residual, p.largest_modulus, p.unstable_count,
-        p.stable ? 1 : 0, p.newton_iterations, p.variational_integrations, p.orbit_integrations);
+        p.stable ? 1 : 0, p.newton_iterations, p.variational_integrations, p.orbit_integrations, birth);
   }
   return out.str();
 }

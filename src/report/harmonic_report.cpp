@@ -4,6 +4,7 @@
 
 #include "core/text.hpp"
 #include "core/units.hpp"
+#include "report/symmetry_json.hpp"
 #include "report/symmetry_report.hpp"
 
 namespace overtone {
@@ -63,6 +64,7 @@ nlohmann::json harmonic_to_json(const AnalysisResult& analysis) {
         {"species_status",
          analysis.mode_symmetry.status == ModeSymmetryStatus::Assigned ? "assigned" : "ambiguous"},
         {"notes", group.notes}};
+    document["symmetry"].update(symmetry_tables_to_json(group, analysis.mode_symmetry));
   } else {
     document["point_group"] = nullptr;
   }

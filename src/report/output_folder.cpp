@@ -17,16 +17,22 @@ namespace {
 // What this program puts into an output folder; a folder holding only these may be
 // replaced by a new run.
 bool is_own_file_name(const std::string& name) {
-  const bool csv = name.size() > 4 && name.compare(name.size() - 4, 4, ".csv") == 0;
+  const auto ends_with = [&](const std::string& suffix) {
+    return name.size() > suffix.size() &&
+           name.compare(name.size() - suffix.size(), suffix.size(), suffix) == 0;
+  };
+  const bool family = name.rfind("family-", 0) == 0;
   return name == "analysis.json" || name == "modes.csv" || name == "lines.csv" || name == "report.txt" ||
-         (csv && name.rfind("family-", 0) == 0);
+         name == "report.html" || (family && ends_with(".csv")) ||
+         ((family || name.rfind("mode-", 0) == 0) && ends_with(".xyz"));
 }
 
 bool holds_only_own_files(const fs::path& folder, bool nested) {
   for (const fs::directory_entry& entry : fs::directory_iterator(folder)) {
     const std::string name = entry.path().filename().string();
     if (entry.is_directory() && !entry.is_symlink()) {
-      if (nested || name != "families" || !holds_only_own_files(entry.path(), true)) return false;
+      if (nested || (name != "families" && name != "animations") || !holds_only_own_files(entry.path(), true))
+        return false;
     } else if (!entry.is_regular_file() || entry.is_symlink() || !is_own_file_name(name)) {
       return false;
     }

@@ -26,10 +26,10 @@ struct OutputFolderResult {
 };
 
 // Writes the files into folder. An existing folder is replaced only when it is empty or
-// holds nothing but what this program writes (analysis.json, report.txt, modes.csv, lines.csv, *.csv
-// backbones, a families/ folder of them); anything else there is left alone and Error is
-// thrown, as it is for a relative path that leaves the folder or a file that cannot be
-// written (the message names the path and the reason).
+// holds nothing but what this program writes (analysis.json, report.txt, report.html, modes.csv, lines.csv,
+// *.csv backbones, a families/ folder of them, an animations/ folder of mode-*.xyz and family-*.xyz);
+// anything else there is left alone and Error is thrown, as it is for a relative path that leaves the folder
+// or a file that cannot be written (the message names the path and the reason).
 OutputFolderResult write_output_folder(const std::string& folder, const std::vector<OutputFile>& files);
 
 }  // namespace overtone

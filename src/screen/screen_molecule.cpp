@@ -365,6 +365,8 @@ FamiliesOptions screen_families_options(const AnalysisResult& analysis, const An
   // As `analyze`: one frequency window for the families' resonance threats and the
   // perturbative Fermi candidates, so that the two lists can be compared pair by pair.
   options.enumeration.resonance_window_cm1 = Vpt2Options{}.fermi_gap_cm1;
+  // As `analyze`: the families from the minimum only (born families cost 2-3 times more).
+  options.branches.enabled = false;
   if (settings.all_families) return options;
   std::set<int> fundamentals;
   for (const Resonance& resonance : anharmonic.vpt2.resonances)

@@ -153,12 +153,27 @@ TEST(Cli, FamiliesWorksOnEveryShippedExampleAndWritesBackbones) {
       run("families " + example_arguments("carbon-dioxide") + " --quanta 1 --json - --csv " + folder);
   ASSERT_EQ(json.status, 0) << json.err;
   const auto document = nlohmann::json::parse(json.out);
-  // CO2: one family each for ν1 and ν3; the bend's standing and rotating families.
-  ASSERT_EQ(document["families"].size(), 4u);
+  // CO2: one family each for ν1 and ν3; the bend's standing and rotating families; and the
+  // family born where ν1's family period-doubles (it lies 8 cm⁻¹ from twice the bend).
+  ASSERT_EQ(document["families"].size(), 5u);
+  int born = 0;
+  for (const auto& family : document["families"])
+    if (!family["born_from_family"].is_null()) {
+      ++born;
+      EXPECT_EQ(family["birth_kind"], "period_doubling");
+    }
+  EXPECT_EQ(born, 1);
+  EXPECT_TRUE(document["families_summary"].contains("orbit_count"));
   int files = 0;
   for (const auto& entry : std::filesystem::directory_iterator(folder))
     files += entry.path().extension() == ".csv";
-  EXPECT_EQ(files, 4);
+  EXPECT_EQ(files, 5);
+  const ProgramRun without =
+      run("families " + example_arguments("carbon-dioxide") + " --quanta 1 --no-branches --json -");
+  ASSERT_EQ(without.status, 0) << without.err;
+  EXPECT_EQ(nlohmann::json::parse(without.out)["families"].size(), 4u);
+  expect_one_line_error(run("families " + example_arguments("carbon-dioxide") + " --branch-depth 0"),
+                        "--branch-depth");
 }
 
 TEST(Cli, AnalyzeIncludesTheAnharmonicAndFamiliesStages) {

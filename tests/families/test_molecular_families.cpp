@@ -5,6 +5,7 @@
 
 #include <algorithm>
 #include <cmath>
+#include <limits>
 #include <map>
 #include <tuple>
 
@@ -12,6 +13,7 @@
 #include "anharmonic/vpt2.hpp"
 #include "core/error.hpp"
 #include "families/families.hpp"
+#include "families/molecular_system.hpp"
 #include "harmonic/harmonic.hpp"
 #include "molecule/read_molecule.hpp"
 #include "potential/make_potential.hpp"
@@ -94,6 +96,7 @@ FamiliesOptions quick_options() {
   options.continuation.max_step = 1.0;
   options.continuation.compute_floquet = false;
   options.continuation.ladder_max_level = 0;
+  options.branches.enabled = false;  // the families from the minimum only (births: test_branch_switching.cpp)
   return options;
 }
 
@@ -490,6 +493,104 @@ TEST(MolecularFamilies, OptionsAreChecked) {
   options.energy_max_cm1 = 0.0;
   options.encounter_max_ratio = 0;
   EXPECT_THROW(options.validate(), Error);
+}
+
+// Water: the symmetric-stretch family loses stability at a branch point where a family
+// that breaks the exchange of the two hydrogens is born (two mirror-image copies); along
+// it the stretch moves into one O–H bond, the normal-to-local transition of equivalent
+// X–H bonds (M. S. Child and L. Halonen, Adv. Chem. Phys. 57, 1 (1984); from memory).
+TEST(MolecularFamilies, WaterSymmetricStretchGivesBirthToLocalModeFamilies) {
+  const Prepared p = prepare("water.xyz", "water.toml");
+  FamiliesOptions options;
+  options.quanta = 3.0;
+  const FamiliesResult result =
+      compute_molecular_families(*p.potential, p.harmonic, p.group, p.species, {}, options);
+  const FamilyResult* born = nullptr;
+  for (const FamilyResult& family : result.families)
+    if (family.parent_family >= 0 && born == nullptr) born = &family;
+  ASSERT_NE(born, nullptr);
+  const FamilyResult& parent = result.families[static_cast<std::size_t>(born->parent_family)];
+  EXPECT_EQ(parent.type.mode_numbers, std::vector<int>{2});  // ν1, the symmetric stretch (ascending order)
+  EXPECT_EQ(born->birth_kind, FamilyEventKind::branch_point);
+  EXPECT_EQ(born->type.copies, 2);
+  EXPECT_EQ(born->type.subgroup.size(), parent.type.subgroup.size() / 2);  // the molecular plane and E
+  EXPECT_EQ(born->type.mode_numbers, (std::vector<int>{2, 3}));            // both stretches
+  // The parent's stability changes where the birth was located.
+  bool bracketed = false;
+  for (const FamilyEvent& event : parent.backbone.events)
+    if (event.kind == FamilyEventKind::branch_point) {
+      const auto& points = parent.backbone.points;
+      const double low = points[static_cast<std::size_t>(event.point_index - 1)].energy;
+      const double high = points[static_cast<std::size_t>(event.point_index)].energy;
+      bracketed = bracketed || (born->birth_energy > low && born->birth_energy < high);
+    }
+  EXPECT_TRUE(bracketed);
+  ASSERT_EQ(born->bond_amplitude_ratio.size(), born->backbone.points.size());
+  ASSERT_GE(born->backbone.points.size(), 5u);
+  // Near the birth both bonds stretch almost alike; higher up one carries the motion.
+  constexpr double near_normal = 0.8, local = 0.5;
+  EXPECT_GT(born->bond_amplitude_ratio.front(), near_normal);
+  EXPECT_LT(*std::min_element(born->bond_amplitude_ratio.begin(), born->bond_amplitude_ratio.end()), local);
+  for (const OrbitPoint& point : born->backbone.points) {
+    EXPECT_LT(point.closure_error, kClosure);
+    EXPECT_LT(point.symmetry_residual, kSymmetryResidual);
+  }
+}
+
+// Carbon dioxide: the symmetric-stretch family period-doubles a few cm⁻¹ above the
+// minimum (it lies 8 cm⁻¹ from twice the bend); the family born there moves the bend at
+// half the stretch frequency in one plane through the axis: the isotropy of the standing
+// bend, no vibrational angular momentum. Quantized, the born family and the standing
+// bend give the two levels of the Fermi dyad, observed at 1285.4 and 1388.2 cm⁻¹
+// (G. Herzberg, Infrared and Raman Spectra (1945); values from memory).
+TEST(MolecularFamilies, CarbonDioxideStretchPeriodDoublesIntoTheStandingBendSpace) {
+  const Prepared p = prepare("carbon-dioxide.xyz", "carbon-dioxide.toml");
+  FamiliesOptions options;
+  options.quanta = 3.0;
+  const FamiliesResult result =
+      compute_molecular_families(*p.potential, p.harmonic, p.group, p.species, {}, options);
+  const FamilyResult* born = nullptr;
+  const FamilyResult* standing_bend = nullptr;
+  for (const FamilyResult& family : result.families) {
+    if (family.parent_family >= 0 && born == nullptr) born = &family;
+    if (family.parent_family < 0 && family.type.mode_numbers.size() == 2 && family.type.standing)
+      standing_bend = &family;
+  }
+  ASSERT_NE(born, nullptr);
+  ASSERT_NE(standing_bend, nullptr);
+  const FamilyResult& parent = result.families[static_cast<std::size_t>(born->parent_family)];
+  EXPECT_EQ(parent.type.mode_numbers, std::vector<int>{3});  // ν1 (bend pair 1,2 first)
+  EXPECT_EQ(born->birth_kind, FamilyEventKind::period_doubling);
+  constexpr double few_cm1 = 20.0;  // the doubling lies far below one quantum of anything
+  EXPECT_LT(born->birth_energy_cm1, few_cm1);
+  EXPECT_TRUE(born->type.continuous_copies);
+  auto phased_labels = [](const FamilyType& type) {
+    std::vector<std::pair<std::string, int>> labels;
+    for (const PhasedElement& e : type.subgroup) labels.emplace_back(e.label, e.numerator);
+    std::sort(labels.begin(), labels.end());
+    return labels;
+  };
+  EXPECT_EQ(phased_labels(born->type), phased_labels(standing_bend->type));
+  const MolecularVibrationalSystem system(*p.potential, p.harmonic);
+  const Eigen::MatrixXd axis = system.symmetry_generators().at(0);
+  for (const OrbitPoint& point : born->backbone.points) {
+    EXPECT_LT(point.symmetry_residual, kSymmetryResidual);
+    const Eigen::VectorXd& q = point.initial_positions;
+    const Eigen::VectorXd& m = point.initial_momenta;
+    // Conserved angular momentum about the axis: zero for a motion in one plane.
+    constexpr double planar = 1e-8;
+    EXPECT_LE(std::abs(m.dot(axis * q)), planar * (q.norm() * m.norm() + 1e-300));
+  }
+  auto level = [](const FamilyResult& family, int n) {
+    for (const LadderLevel& l : family.backbone.ladder)
+      if (l.n == n) return l.transition_cm1;
+    return std::numeric_limits<double>::quiet_NaN();
+  };
+  // One family per level, no tunnelling between them: ~1% of the level (common practice,
+  // no source); the potential's Fermi coupling is tuned to the observed dyad.
+  constexpr double dyad_cm1 = 15.0;
+  EXPECT_NEAR(level(*born, 2), 1388.2, dyad_cm1);
+  EXPECT_NEAR(level(*standing_bend, 2), 1285.4, dyad_cm1);
 }
 
 }  // namespace

@@ -173,4 +173,57 @@ std::vector<std::string> HenonHeiles::symmetry_labels() {
   return {"E", "C3", "C3^2", "sigma", "sigma C3", "sigma C3^2"};
 }
 
+// ---- Resonant pair -------------------------------------------------------------------
+
+ResonantPair::ResonantPair(double omega1, double omega2, double cubic, double quartic)
+    : omega1_(omega1), omega2_(omega2), cubic_(cubic), quartic_(quartic) {
+  require_positive(omega1, "resonant pair omega1");
+  require_positive(omega2, "resonant pair omega2");
+  if (!std::isfinite(cubic))
+    throw Error(fmt::format("resonant pair cubic coefficient must be finite, got {}", cubic));
+  if (!(quartic >= 0.0) || !std::isfinite(quartic))
+    throw Error(fmt::format("resonant pair quartic coefficient must be non-negative, got {}", quartic));
+}
+
+std::string ResonantPair::description() const {
+  return fmt::format("resonant pair, omega = {:.6g}, {:.6g}, a = {:.6g}, b = {:.6g}", omega1_, omega2_,
+                     cubic_, quartic_);
+}
+
+Eigen::VectorXd ResonantPair::harmonic_angular_frequencies() const {
+  Eigen::VectorXd w(2);
+  w << omega1_, omega2_;
+  return w;
+}
+
+std::vector<Eigen::MatrixXd> ResonantPair::symmetry_matrices() {
+  Eigen::MatrixXd flip = Eigen::MatrixXd::Identity(2, 2);
+  flip(0, 0) = -1.0;
+  return {flip};
+}
+
+std::vector<std::string> ResonantPair::symmetry_labels() { return {"flip"}; }
+
+double ResonantPair::compute_potential(const Eigen::VectorXd& q) const {
+  const double x = q(0), y = q(1), r2 = x * x + y * y;
+  return 0.5 * omega1_ * omega1_ * x * x + 0.5 * omega2_ * omega2_ * y * y + cubic_ * x * x * y +
+         quartic_ * r2 * r2;
+}
+
+void ResonantPair::compute_gradient(const Eigen::VectorXd& q, Eigen::VectorXd& g) const {
+  const double x = q(0), y = q(1), r2 = x * x + y * y;
+  g(0) = omega1_ * omega1_ * x + 2.0 * cubic_ * x * y + 4.0 * quartic_ * r2 * x;
+  g(1) = omega2_ * omega2_ * y + cubic_ * x * x + 4.0 * quartic_ * r2 * y;
+}
+
+void ResonantPair::compute_hessian_times(const Eigen::VectorXd& q, const Eigen::MatrixXd& directions,
+                                         Eigen::MatrixXd& out) const {
+  const double x = q(0), y = q(1), r2 = x * x + y * y;
+  Eigen::Matrix2d h;
+  h(0, 0) = omega1_ * omega1_ + 2.0 * cubic_ * y + 4.0 * quartic_ * (r2 + 2.0 * x * x);
+  h(1, 1) = omega2_ * omega2_ + 4.0 * quartic_ * (r2 + 2.0 * y * y);
+  h(0, 1) = h(1, 0) = 2.0 * cubic_ * x + 8.0 * quartic_ * x * y;
+  out = h * directions;
+}
+
 }  // namespace overtone

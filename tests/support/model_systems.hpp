@@ -104,4 +104,28 @@ class HenonHeiles : public VibrationalSystem {
                              Eigen::MatrixXd& out) const override;
 };
 
+// Two oscillators near 1:2 resonance with the cubic coupling that resonance makes secular:
+//   V = ½ω₁²q₁² + ½ω₂²q₂² + a q₁²q₂ + b (q₁² + q₂²)²,
+// b > 0 keeping the potential bounded below. Invariant under q₁ → −q₁
+// (symmetry_matrices()); on q₁ = 0 the motion is the q₂ oscillator alone. Throws Error
+// unless ω₁, ω₂ > 0, b ≥ 0 and a is finite.
+class ResonantPair : public VibrationalSystem {
+ public:
+  ResonantPair(double omega1, double omega2, double cubic, double quartic);
+  std::string description() const override;
+  int dimension() const override { return 2; }
+  Eigen::VectorXd harmonic_angular_frequencies() const override;
+  static std::vector<Eigen::MatrixXd> symmetry_matrices();  // {diag(−1, 1)}
+  static std::vector<std::string> symmetry_labels();        // {"flip"}
+
+ protected:
+  double compute_potential(const Eigen::VectorXd& q) const override;
+  void compute_gradient(const Eigen::VectorXd& q, Eigen::VectorXd& g) const override;
+  void compute_hessian_times(const Eigen::VectorXd& q, const Eigen::MatrixXd& directions,
+                             Eigen::MatrixXd& out) const override;
+
+ private:
+  double omega1_, omega2_, cubic_, quartic_;
+};
+
 }  // namespace overtone

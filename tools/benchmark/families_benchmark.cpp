@@ -215,6 +215,46 @@ void run_stage(const Case& c, const Prepared& p) {
                              family.backbone.seconds));
 }
 
+// What branch switching costs: the whole stage on one thread without and with the born
+// families, in the same process; the bifurcation search (probes) and the born families'
+// continuation separately.
+void run_branch_cost(const Case& c, const Prepared& p) {
+  const AnalysisResult& analysis = p.analysis;
+  auto run = [&](bool branches, double& wall, double& cpu) {
+    FamiliesOptions options = default_options();
+    options.threads = 1;
+    options.branches.enabled = branches;
+    const auto started = Clock::now();
+    const double cpu_started = process_cpu_seconds();
+    FamiliesResult result =
+        compute_molecular_families(*p.potential, analysis.harmonic, analysis.point_group,
+                                   analysis.mode_symmetry, report_mode_order(analysis), options);
+    wall = seconds_since(started);
+    cpu = process_cpu_seconds() - cpu_started;
+    return result;
+  };
+  double wall_off = 0.0, cpu_off = 0.0, wall_on = 0.0, cpu_on = 0.0;
+  const FamiliesResult without = run(false, wall_off, cpu_off);
+  const FamiliesResult with = run(true, wall_on, cpu_on);
+  int born = 0, born_points = 0;
+  double born_seconds = 0.0;
+  for (const FamilyResult& family : with.families)
+    if (family.parent_family >= 0) {
+      ++born;
+      born_points += static_cast<int>(family.backbone.points.size());
+      born_seconds += family.backbone.seconds;
+    }
+  print_line(fmt::format(
+      "   branch switching ({}): {} born families ({} points, {} not born), {:.2f} s CPU with against {:.2f} "
+      "s "
+      "without = {:.2f}x; bifurcation search {} orbits, {:.2f} s; born families' continuation {:.2f} s; "
+      "gradients {:.2f}x",
+      c.name, born, born_points, with.birth_failures.size(), cpu_on, cpu_off,
+      cpu_on / std::max(cpu_off, 1e-9), with.birth_probes, with.birth_seconds, born_seconds,
+      static_cast<double>(with.gradient_evaluations) /
+          static_cast<double>(std::max<std::size_t>(without.gradient_evaluations, 1))));
+}
+
 void run_case(const Case& c, int threads) {
   const Prepared p = prepare(c);
   if (c.stage_only) {
@@ -237,6 +277,7 @@ void run_case(const Case& c, int threads) {
                   "Hessian-vector product (CPU time ratios measured here)",
                   weights.hessian, weights.product));
   print_line("   settings: defaults, to 3 quanta");
+  run_branch_cost(c, p);
 
   // The stage's own enumeration, then each family continued as compute_families does
   // (continue_family with energy_max = (quanta + 1)·ħω of its block) on this thread.
@@ -395,6 +436,7 @@ void run_case(const Case& c, int threads) {
 int main(int argc, char** argv) {
   const std::vector<Case> cases = {
       {"water", "water.xyz", false, "water.toml"},
+      {"carbon-dioxide", "carbon-dioxide.xyz", false, "carbon-dioxide.toml"},
       {"ammonia", "ammonia.xyz", false, "ammonia.toml"},
       {"methane", "methane.xyz", false, "methane.toml"},
       {"benzene", "c1ccccc1", true, "MMFF94"},
@@ -410,7 +452,8 @@ int main(int argc, char** argv) {
       continue;
     }
     if (std::none_of(cases.begin(), cases.end(), [&](const Case& c) { return c.name == argument; })) {
-      std::fprintf(stderr, "unknown molecule '%s' (water, ammonia, methane, benzene, paracetamol)\n",
+      std::fprintf(stderr,
+                   "unknown molecule '%s' (water, carbon-dioxide, ammonia, methane, benzene, paracetamol)\n",
                    argument.c_str());
       return 2;
     }
