@@ -104,7 +104,7 @@ struct ForceConstantOptions {
   double reuse_tolerance = 1e-8;
   // Modes below this harmonic wavenumber (cm⁻¹), or imaginary ones, make the stage stop
   // with status not_a_minimum: dimensionless coordinates need ω well above zero.
-  double minimum_frequency_cm1 = 5.0;
+  double minimum_frequency_cm1 = smallest_expanded_wavenumber_cm1;
   // Told after each displaced point's Hessian (stage "force constants", done of total points).
   ProgressCallback progress;
 

@@ -22,6 +22,13 @@ namespace overtone {
 // linear structure (~1e-16), far below the ratio of any bent one.
 inline constexpr double default_linearity_tolerance = 1e-8;
 
+// The softest harmonic wavenumber (cm⁻¹) that the stages expanding the potential about a
+// minimum (force constants, VPT2, families) accept: the dimensionless normal coordinate
+// q = Q·√(ω/ħ) of a softer mode spans so much of the surface per unit that a quartic
+// expansion about the structure says nothing, and such a mode is a nearly free motion
+// (an internal rotor, a floppy complex) rather than a vibration about a minimum.
+inline constexpr double smallest_expanded_wavenumber_cm1 = 5.0;
+
 struct HessianOptions {
   // Use the potential's analytic Hessian when it has one.
   bool prefer_analytic = true;

@@ -34,8 +34,9 @@ double seconds_since(std::chrono::steady_clock::time_point start) {
 }
 
 // The anharmonic and families stages expand the potential about a minimum; anywhere
-// else their numbers would be meaningless.
-void require_minimum(const AnalysisResult& analysis, const std::string& stage) {
+// else their numbers would be meaningless. A minimum: converged, and every harmonic
+// wavenumber at least smallest_cm1 (the force-constant stage's own limit).
+void require_minimum(const AnalysisResult& analysis, const std::string& stage, double smallest_cm1) {
   if (analysis.optimized && !analysis.optimization.converged())
     throw Error(stage + " needs a minimum, but the optimization did not converge (" +
                 analysis.optimization.message + "); try another potential or a better starting structure");
@@ -46,6 +47,12 @@ void require_minimum(const AnalysisResult& analysis, const std::string& stage) {
         fmt::format("{} needs a minimum, but the structure has an imaginary frequency ({:.1f}i cm-1): "
                     "it is a saddle point of the potential",
                     stage, std::abs(frequencies.minCoeff())));
+  if (frequencies.minCoeff() < smallest_cm1)
+    throw Error(
+        fmt::format("{} needs a minimum with every harmonic wavenumber at or above {} cm-1, but the "
+                    "softest mode is at {:.2f} cm-1: a nearly free motion, not a vibration about a "
+                    "minimum",
+                    stage, smallest_cm1, frequencies.minCoeff()));
 }
 
 double seconds_between(std::chrono::steady_clock::time_point start,
@@ -98,7 +105,7 @@ std::optional<RelaxedStart> lowest_relaxed_start(const Molecule& molecule, const
 
 AnharmonicResult analyze_anharmonic(const AnalysisResult& analysis, const Potential& potential,
                                     const AnharmonicOptions& given_options) {
-  require_minimum(analysis, "the anharmonic analysis");
+  require_minimum(analysis, "the anharmonic analysis", given_options.force_constants.minimum_frequency_cm1);
   AnharmonicOptions options = given_options;
   if (!options.force_constants.progress) options.force_constants.progress = options.progress;
   if (!options.vpt2.progress) options.vpt2.progress = options.progress;
@@ -151,7 +158,7 @@ void require_rise_along_every_mode(const AnalysisResult& analysis, const Amplitu
 
 FamiliesResult analyze_families(const AnalysisResult& analysis, const Potential& potential,
                                 const FamiliesOptions& options) {
-  require_minimum(analysis, "the families of nonlinear normal modes");
+  require_minimum(analysis, "the families of nonlinear normal modes", smallest_expanded_wavenumber_cm1);
   if (!analysis.symmetry_used)
     throw Error(
         "the families of nonlinear normal modes need the point group; run the analysis with symmetry");

@@ -126,8 +126,23 @@ const VibrationalLevel* level_with_quanta(const Vpt2Result& vpt2, const std::vec
   return nullptr;
 }
 
-void add_anharmonic_rows(const AnalysisResult& analysis, const AnharmonicResult& anharmonic, bool with_levels,
-                         VariantOutcome& outcome) {
+// A resonance candidate worth a row of the store: flagged, or symmetry-allowed and within
+// a factor stored_candidate_fraction of its flag threshold (a near miss that another
+// potential or isotopologue could flag). A drug-sized molecule has tens of thousands of
+// candidates, nearly all orders of magnitude below the threshold; storing every one made
+// the store grow by megabytes per molecule and the single writer the bottleneck of a
+// screen on several workers.
+bool worth_storing(const Resonance& resonance, const Vpt2Options& vpt2_options) {
+  if (resonance.flagged) return true;
+  if (!resonance.symmetry_allowed) return false;
+  const double threshold = resonance.kind == ResonanceKind::darling_dennison
+                               ? vpt2_options.darling_dennison_coupling_cm1
+                               : vpt2_options.fermi_criterion_cm1;
+  return resonance.criterion_value >= stored_candidate_fraction * threshold;
+}
+
+void add_anharmonic_rows(const AnalysisResult& analysis, const AnharmonicResult& anharmonic,
+                         const Vpt2Options& vpt2_options, bool with_levels, VariantOutcome& outcome) {
   const Vpt2Result& vpt2 = anharmonic.vpt2;
   const std::vector<int>& numbers = anharmonic.set_numbers;
   const std::size_t set_count = vpt2.sets.size();
@@ -149,8 +164,10 @@ void add_anharmonic_rows(const AnalysisResult& analysis, const AnharmonicResult&
   }
   int counter = 0;
   for (const Resonance& resonance : vpt2.resonances) {
+    ++counter;  // the candidate's number in the analysis document, stored or not
+    if (!worth_storing(resonance, vpt2_options)) continue;
     ScreenResonanceRow row;
-    row.resonance = ++counter;
+    row.resonance = counter;
     row.kind = to_string(resonance.kind);
     row.label = resonance_label(resonance, numbers, true);
     const auto set = [&](std::size_t k) { return resonance.sets.at(k); };
@@ -323,7 +340,7 @@ class MoleculeScreen {
       anharmonic_options.vpt2.exclude_below_cm1 = settings_.vpt2_exclude_below_cm1;
       const AnharmonicResult anharmonic = analyze_anharmonic(analysis, potential, anharmonic_options);
       for (const std::string& warning : anharmonic.vpt2.warnings) outcome.warnings.push_back(warning);
-      add_anharmonic_rows(analysis, anharmonic, settings_.levels, outcome);
+      add_anharmonic_rows(analysis, anharmonic, anharmonic_options.vpt2, settings_.levels, outcome);
       if (settings_.stages == ScreenStages::families) {
         enter(screen_stage::families);
         const FamiliesResult families =

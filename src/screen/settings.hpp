@@ -21,7 +21,14 @@ ScreenStages screen_stages_from_string(const std::string& name);
 
 // Version of what a result holds (tables and their meaning); part of the settings, so
 // results computed by a program that stores something else are a different run.
-inline constexpr int screen_results_version = 1;
+// 2: the resonances table holds the flagged candidates and the symmetry-allowed ones
+// within stored_candidate_fraction of their threshold, not every candidate.
+inline constexpr int screen_results_version = 2;
+
+// Unflagged resonance candidates are stored when their criterion reaches this fraction of
+// the flag threshold (W⁴/|Δ|³ against the Fermi criterion, W against the Darling–Dennison
+// coupling): one order of magnitude of near misses.
+inline constexpr double stored_candidate_fraction = 0.1;
 
 struct ScreenSettings {
   std::string potential = "MMFF94";  // force-field name or potential file (its content is hashed)

@@ -182,6 +182,29 @@ TEST(LaterStages, AnUnconvergedStructureIsRefusedWithItsReason) {
   EXPECT_THROW(analyze_families(water.analysis, *water.potential, enumeration_only()), Error);
 }
 
+// Both expanding stages and the force-constant stage share one limit on the softest mode
+// (common practice, no source: a mode of a few cm⁻¹ is a nearly free motion).
+TEST(LaterStages, AModeTooSoftForAnExpansionIsRefusedByBothStagesAlike) {
+  Analysed water = run("water");
+  EXPECT_EQ(ForceConstantOptions{}.minimum_frequency_cm1, smallest_expanded_wavenumber_cm1);
+  const double softest_cm1 = 0.5 * smallest_expanded_wavenumber_cm1;
+  Eigen::Index softest = 0;
+  water.analysis.harmonic.frequencies_cm1.minCoeff(&softest);
+  water.analysis.harmonic.frequencies_cm1[softest] = softest_cm1;
+  for (const bool families : {false, true}) {
+    try {
+      if (families)
+        analyze_families(water.analysis, *water.potential, enumeration_only());
+      else
+        analyze_anharmonic(water.analysis, *water.potential);
+      FAIL() << "expected an error";
+    } catch (const Error& error) {
+      EXPECT_NE(std::string(error.what()).find("softest mode is at 2.50 cm-1"), std::string::npos)
+          << error.what();
+    }
+  }
+}
+
 TEST(LaterStages, ATurnedOverExpansionStopsTheFamilyWithAClearReason) {
   // The H³⁵Cl Morse oscillator expanded to third order only, V(q) = ½ωq² + φ₃q³/6 in
   // dimensionless q, has a barrier of height (2/3)ω³/φ₃² at q = −2ω/φ₃ (closed form) and
