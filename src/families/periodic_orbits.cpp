@@ -256,6 +256,10 @@ class FamilySolver {
   // Records a converged orbit: analysis, point, oriented tangent. False when the analysis
   // integration fails.
   bool accept(const CorrectorOutcome& corrected, const PointCost& cost, ContinuationResult& result);
+  // The first point of a family (from the minimum or from a birth): recorded when the
+  // corrector converged and its analysis integrates; otherwise failure says why.
+  bool accept_first(const CorrectorOutcome& corrected, PointCost& cost, ContinuationResult& result,
+                    std::string& failure);
   CorrectorOutcome correct(const Unknowns& guess, const CorrectorSetup& setup);
   // Broyden's rank-one correction of hint_ from the shooting residual's change along the
   // last chord step.
@@ -982,15 +986,7 @@ bool FamilySolver::start_on_branch(ContinuationResult& result, std::string& fail
     const Unknowns guess = unscaled(setup.predicted.head(2 * m_), branch.period, branch.energy, length);
     have_hint_ = false;
     const CorrectorOutcome corrected = correct(guess, setup);
-    if (!corrected.converged) {
-      failure = corrected.failure;
-      continue;
-    }
-    cost.iterations = corrected.iterations;
-    cost.variational = corrected.variational_integrations;
-    cost.orbits = corrected.orbit_integrations;
-    if (accept(corrected, cost, result)) return true;
-    failure = last_integration_failure_;
+    if (accept_first(corrected, cost, result, failure)) return true;
   }
   return false;
 }
@@ -1029,6 +1025,20 @@ OrbitProbe FamilySolver::probe(const OrbitPoint& near, double energy) {
   return out;
 }
 
+bool FamilySolver::accept_first(const CorrectorOutcome& corrected, PointCost& cost,
+                                ContinuationResult& result, std::string& failure) {
+  if (!corrected.converged) {
+    failure = corrected.failure;
+    return false;
+  }
+  cost.iterations = corrected.iterations;
+  cost.variational = corrected.variational_integrations;
+  cost.orbits = corrected.orbit_integrations;
+  if (accept(corrected, cost, result)) return true;
+  failure = last_integration_failure_;
+  return false;
+}
+
 bool FamilySolver::start(ContinuationResult& result, std::string& failure) {
   if (seed_.branch) return start_on_branch(result, failure);
   double start_energy = options_.start_energy_fraction * options_.energy_max;
@@ -1045,15 +1055,7 @@ bool FamilySolver::start(ContinuationResult& result, std::string& failure) {
     guess.energy = start_energy;
     have_hint_ = false;
     const CorrectorOutcome corrected = correct(guess, fixed_energy_setup(guess, start_energy));
-    if (!corrected.converged) {
-      failure = corrected.failure;
-      continue;
-    }
-    cost.iterations = corrected.iterations;
-    cost.variational = corrected.variational_integrations;
-    cost.orbits = corrected.orbit_integrations;
-    if (accept(corrected, cost, result)) return true;
-    failure = last_integration_failure_;
+    if (accept_first(corrected, cost, result, failure)) return true;
   }
   return false;
 }
