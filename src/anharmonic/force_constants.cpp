@@ -65,18 +65,31 @@ std::vector<ForceConstantTensors::CubicEntry> ForceConstantTensors::cubic_entrie
   return entries;
 }
 
-std::vector<ForceConstantTensors::QuarticEntry> ForceConstantTensors::quartic_entries(
-    double threshold_cm1) const {
-  std::vector<QuarticEntry> entries;
-  for (const auto& [key, value] : quartic_) {
-    if (!(std::abs(value) > threshold_cm1)) continue;
+namespace {
+
+std::vector<ForceConstantTensors::QuarticEntry> sorted_quartic_entries(
+    const std::unordered_map<std::uint64_t, double>& quartic, double threshold_cm1, bool keep_all) {
+  std::vector<ForceConstantTensors::QuarticEntry> entries;
+  for (const auto& [key, value] : quartic) {
+    if (!keep_all && !(std::abs(value) > threshold_cm1)) continue;
     entries.push_back({static_cast<int>(key >> 48), static_cast<int>((key >> 32) & 0xffff),
                        static_cast<int>((key >> 16) & 0xffff), static_cast<int>(key & 0xffff), value});
   }
-  std::sort(entries.begin(), entries.end(), [](const QuarticEntry& a, const QuarticEntry& b) {
+  std::sort(entries.begin(), entries.end(), [](const auto& a, const auto& b) {
     return std::tie(a.i, a.j, a.k, a.l) < std::tie(b.i, b.j, b.k, b.l);
   });
   return entries;
+}
+
+}  // namespace
+
+std::vector<ForceConstantTensors::QuarticEntry> ForceConstantTensors::quartic_entries(
+    double threshold_cm1) const {
+  return sorted_quartic_entries(quartic_, threshold_cm1, false);
+}
+
+std::vector<ForceConstantTensors::QuarticEntry> ForceConstantTensors::computed_quartic_entries() const {
+  return sorted_quartic_entries(quartic_, 0.0, true);
 }
 
 std::string to_string(ForceConstantStatus status) {
@@ -343,6 +356,25 @@ bool cubic_must_vanish(const ModeSymmetry& symmetry, int i, int j, int k) {
 
 namespace {
 
+// The blocks of sets (sorted set ids) that hold a computed quartic constant: a block
+// without one has nothing to average or zero, and they are most of the m⁴/24 blocks of a
+// large molecule.
+std::vector<std::array<int, 4>> computed_quartic_blocks(const ForceConstantTensors& constants,
+                                                        const ModeSymmetry& symmetry) {
+  const std::vector<int>& set_of_mode = symmetry.degenerate_set();
+  std::vector<std::array<int, 4>> blocks;
+  for (const auto& e : constants.computed_quartic_entries()) {
+    std::array<int, 4> block{};
+    const std::array<int, 4> modes{e.i, e.j, e.k, e.l};
+    for (std::size_t a = 0; a < 4; ++a) block[a] = set_of_mode[static_cast<std::size_t>(modes[a])];
+    std::sort(block.begin(), block.end());
+    blocks.push_back(block);
+  }
+  std::sort(blocks.begin(), blocks.end());
+  blocks.erase(std::unique(blocks.begin(), blocks.end()), blocks.end());
+  return blocks;
+}
+
 // The stage's group average and zeroing, block by block (blocks are disjoint, so this is
 // the same as averaging everything over the group and then zeroing every cubic and
 // computed quartic constant that symmetry forbids), but blocks without invariants — most
@@ -368,12 +400,9 @@ double symmetrize_and_zero(ForceConstantTensors& constants, const ModeSymmetry& 
   auto put4 = [&](const std::array<int, 4>& x, double v) {
     constants.set_quartic(x[0], x[1], x[2], x[3], v);
   };
-  for (int a = 0; a < set_count; ++a)
-    for (int b = a; b < set_count; ++b)
-      for (int c = b; c < set_count; ++c)
-        for (int d = c; d < set_count; ++d)
-          change = std::max(change, symmetrize_and_zero_block<4>(symmetry, sets, overlap, {a, b, c, d}, has4,
-                                                                 get4, put4, forbidden_quartic));
+  for (const std::array<int, 4>& block : computed_quartic_blocks(constants, symmetry))
+    change = std::max(change, symmetrize_and_zero_block<4>(symmetry, sets, overlap, block, has4, get4, put4,
+                                                           forbidden_quartic));
   return change;
 }
 
@@ -813,21 +842,40 @@ Estimate quartic_estimate(const HessianDifferences& d, int m, const std::array<i
   return e;
 }
 
+// The index sets (sorted) of the quartic constants some displacement gives: the ones
+// that hold a displaced index twice (a single displacement) or a displaced pair. Listing
+// them costs O(m³ + pairs·m²) instead of testing all m⁴/24.
+std::vector<std::array<int, 4>> estimable_quartic_indices(int m,
+                                                          const std::vector<std::pair<int, int>>& pairs) {
+  std::vector<std::array<int, 4>> indices;
+  const auto add_with = [&](int first, int second) {
+    for (int a = 0; a < m; ++a)
+      for (int b = a; b < m; ++b) {
+        std::array<int, 4> idx{first, second, a, b};
+        std::sort(idx.begin(), idx.end());
+        indices.push_back(idx);
+      }
+  };
+  for (int k = 0; k < m; ++k) add_with(k, k);
+  for (const auto& [k, l] : pairs) add_with(k, l);
+  std::sort(indices.begin(), indices.end());
+  indices.erase(std::unique(indices.begin(), indices.end()), indices.end());
+  return indices;
+}
+
 // Quartic constants that some displacement gives; returns how many unique ones, and
 // widens spread by their estimates' spread.
-std::size_t quartic_constants(const HessianDifferences& d, ForceConstantTensors& constants, double& spread) {
+std::size_t quartic_constants(const HessianDifferences& d, const std::vector<std::pair<int, int>>& pairs,
+                              ForceConstantTensors& constants, double& spread) {
   const int m = constants.mode_count();
   std::size_t computed = 0;
-  for (int i = 0; i < m; ++i)
-    for (int j = i; j < m; ++j)
-      for (int k = j; k < m; ++k)
-        for (int l = k; l < m; ++l) {
-          const Estimate e = quartic_estimate(d, m, {i, j, k, l});
-          if (e.count == 0) continue;
-          spread = std::max(spread, e.spread());
-          constants.set_quartic(i, j, k, l, e.mean());
-          ++computed;
-        }
+  for (const std::array<int, 4>& idx : estimable_quartic_indices(m, pairs)) {
+    const Estimate e = quartic_estimate(d, m, idx);
+    if (e.count == 0) continue;
+    spread = std::max(spread, e.spread());
+    constants.set_quartic(idx[0], idx[1], idx[2], idx[3], e.mean());
+    ++computed;
+  }
   return computed;
 }
 
@@ -865,7 +913,7 @@ ForceConstantResult compute_force_constants(const Potential& potential, const Ha
 
   const HessianDifferences differences = hessian_differences(evaluator, m, options.step, pairs);
   double spread = cubic_constants(differences, result.constants);
-  const std::size_t computed_quartics = quartic_constants(differences, result.constants, spread);
+  const std::size_t computed_quartics = quartic_constants(differences, pairs, result.constants, spread);
   result.permutation_spread_cm1 = spread;
 
   if (result.symmetry_used)

@@ -64,6 +64,8 @@ class ForceConstantTensors {
   // Unique constants with |value| > threshold (cm⁻¹), sorted by indices.
   std::vector<CubicEntry> cubic_entries(double threshold_cm1 = 0.0) const;
   std::vector<QuarticEntry> quartic_entries(double threshold_cm1 = 0.0) const;
+  // Every computed quartic constant, zeros included (has_quartic is true for each), sorted.
+  std::vector<QuarticEntry> computed_quartic_entries() const;
 
   static std::uint64_t quartic_key(int i, int j, int k, int l);
 

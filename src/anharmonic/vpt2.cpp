@@ -134,12 +134,8 @@ ForceConstantTensors without_modes(const ForceConstantTensors& constants, const 
   ForceConstantTensors kept(constants.mode_count());
   for (const auto& e : constants.cubic_entries(0.0))
     if (!out(e.i) && !out(e.j) && !out(e.k)) kept.set_cubic(e.i, e.j, e.k, e.value);
-  for (int i = 0; i < constants.mode_count(); ++i)
-    for (int j = i; j < constants.mode_count(); ++j)
-      for (int k = j; k < constants.mode_count(); ++k)
-        for (int l = k; l < constants.mode_count(); ++l)
-          if (constants.has_quartic(i, j, k, l) && !out(i) && !out(j) && !out(k) && !out(l))
-            kept.set_quartic(i, j, k, l, constants.quartic(i, j, k, l));
+  for (const auto& e : constants.computed_quartic_entries())
+    if (!out(e.i) && !out(e.j) && !out(e.k) && !out(e.l)) kept.set_quartic(e.i, e.j, e.k, e.l, e.value);
   return kept;
 }
 
@@ -559,7 +555,8 @@ std::vector<Move> flagged_moves(const Vpt2Result& result) {
   return moves;
 }
 
-// Line-list manifolds: fundamentals, overtones, binary combinations, in report order.
+// Line-list manifolds: fundamentals, overtones, binary combinations (when asked), in
+// report order.
 using WantedManifolds = std::vector<std::pair<std::vector<int>, LevelKind>>;
 
 WantedManifolds line_list_manifolds(const Vpt2Context& c) {
@@ -569,6 +566,7 @@ WantedManifolds line_list_manifolds(const Vpt2Context& c) {
     if (c.kept({s})) wanted.push_back({c.unit({{s, 1}}), LevelKind::fundamental});
   for (int s = 0; s < n; ++s)
     if (c.kept({s})) wanted.push_back({c.unit({{s, 2}}), LevelKind::overtone});
+  if (!c.options.include_combination_levels) return wanted;
   for (int s = 0; s < n; ++s)
     for (int t = s + 1; t < n; ++t)
       if (c.kept({s, t})) wanted.push_back({c.unit({{s, 1}, {t, 1}}), LevelKind::combination});
@@ -1168,8 +1166,9 @@ Vpt2Result run_vpt2(const ForceConstantResult& force_constants, const HarmonicRe
   result.perturbation_checks = detail::perturbation_checks(force_constants.constants, omega, result.sets,
                                                            options.perturbation_ratio_limit);
   const std::vector<bool> excluded = excluded_modes(options, result);
-  const ForceConstantTensors reduced = detail::without_modes(force_constants.constants, excluded);
   const bool reduce = result.exclude_below_cm1 > 0.0;
+  const ForceConstantTensors reduced =
+      reduce ? detail::without_modes(force_constants.constants, excluded) : ForceConstantTensors();
   const ForceConstantTensors& constants = reduce ? reduced : force_constants.constants;
   const Vpt2Context c{constants,
                       symmetry,

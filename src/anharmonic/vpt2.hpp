@@ -74,6 +74,12 @@ struct Vpt2Options {
   bool include_coriolis = true;
   // Polyad closure stops at states with more quanta in total than this.
   int polyad_max_quanta = 4;
+  // The line list holds the binary combination levels ν_i + ν_j. false: fundamentals and
+  // overtones only, and only the polyads that hold one of them are diagonalized. The
+  // fundamentals' and overtones' values do not change (a polyad is explored from its
+  // first line-list level, and those come first), but the work falls from about m²/2
+  // explored levels to 2m: what a screen that stores no line list needs.
+  bool include_combination_levels = true;
   // A polyad (a connected component of the graph of flagged couplings between manifolds,
   // explored from a line-list level) holds at most this many component states: a larger
   // component keeps the whole layers of graph distance from that level that fit, and is
@@ -231,7 +237,8 @@ struct Vpt2Result {
 
   std::vector<Resonance> resonances;  // all candidates within the gap thresholds
   std::vector<Polyad> polyads;
-  std::vector<VibrationalLevel> levels;  // fundamentals, overtones, binary combinations
+  // Fundamentals, overtones, binary combinations (unless include_combination_levels is false).
+  std::vector<VibrationalLevel> levels;
 
   bool ok() const { return status == Vpt2Status::ok; }
 };

@@ -338,6 +338,9 @@ class MoleculeScreen {
       enter(screen_stage::anharmonic);
       AnharmonicOptions anharmonic_options;
       anharmonic_options.vpt2.exclude_below_cm1 = settings_.vpt2_exclude_below_cm1;
+      // Without a stored line list only the fundamentals and the resonances' upper levels
+      // (fundamentals, overtones) are read; the combination levels were most of the work.
+      anharmonic_options.vpt2.include_combination_levels = settings_.levels;
       const AnharmonicResult anharmonic = analyze_anharmonic(analysis, potential, anharmonic_options);
       for (const std::string& warning : anharmonic.vpt2.warnings) outcome.warnings.push_back(warning);
       add_anharmonic_rows(analysis, anharmonic, anharmonic_options.vpt2, settings_.levels, outcome);

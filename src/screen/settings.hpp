@@ -23,7 +23,9 @@ ScreenStages screen_stages_from_string(const std::string& name);
 // results computed by a program that stores something else are a different run.
 // 2: the resonances table holds the flagged candidates and the symmetry-allowed ones
 // within stored_candidate_fraction of their threshold, not every candidate.
-inline constexpr int screen_results_version = 2;
+// 3: without a stored line list, the polyads explored from combination levels are not
+// diagonalized (their count no longer enters the polyad-limit warnings).
+inline constexpr int screen_results_version = 3;
 
 // Unflagged resonance candidates are stored when their criterion reaches this fraction of
 // the flag threshold (W⁴/|Δ|³ against the Fermi criterion, W against the Darling–Dennison
