@@ -421,9 +421,17 @@ void AnharmonicOptions::validate() const {
   vpt2.validate();
 }
 
+AnalysisOptions options_for_steps(const AnalysisOptions& options) {
+  AnalysisOptions steps = options;
+  steps.hessian.linearity_tolerance = options.modes.linearity_tolerance;
+  steps.minimize.linearity_tolerance = options.modes.linearity_tolerance;
+  return steps;
+}
+
 AnalysisResult analyze_molecule(const Molecule& molecule, const Potential& potential,
-                                const AnalysisOptions& options) {
-  options.validate();
+                                const AnalysisOptions& given_options) {
+  given_options.validate();
+  const AnalysisOptions options = options_for_steps(given_options);
   if (molecule.atom_count() != potential.atom_count())
     throw Error("the potential was set up for a different molecule (atom counts differ)");
   AnalysisResult result;

@@ -42,6 +42,8 @@ struct AnalysisOptions {
   // force fields do not order conformers that close reliably.
   double conformer_energy_margin_kcal_mol = 0.1;
   HessianOptions hessian;
+  // modes.linearity_tolerance governs the whole run: it replaces the Hessian's and the
+  // optimizer's own (options_for_steps).
   NormalModeOptions modes;
   // Detect the point group of the optimized structure, symmetrize geometry and
   // Hessian (exactly degenerate frequencies) and assign mode species.
@@ -106,6 +108,11 @@ struct AnalysisResult {
 
   bool ok() const { return status == AnalysisStatus::ok; }
 };
+
+// The options each step of analyze_molecule runs with: these, with the one linearity
+// tolerance of the run (modes.linearity_tolerance) in the optimizer's and the Hessian's
+// options as well, so that every step agrees on which molecules are linear.
+AnalysisOptions options_for_steps(const AnalysisOptions& options);
 
 // Throws Error for bad input (sizes, options); numerical outcomes (optimization not
 // converged, saddle point, imaginary frequencies) are reported in the result.

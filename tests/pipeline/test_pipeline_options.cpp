@@ -43,5 +43,21 @@ TEST(PipelineOptions, TheOptionsOfTheStagesHeldAreChecked) {
   expect_refused_naming(bad_force_constants, "minimum_frequency_cm1");
 }
 
+// One linearity tolerance governs the run: the normal-mode analysis's reaches the optimizer
+// and the Hessian, and the defaults are unchanged by it (numbers do not move).
+TEST(PipelineOptions, TheLinearityToleranceOfTheModesReachesEveryStep) {
+  const AnalysisOptions defaults = options_for_steps(AnalysisOptions{});
+  EXPECT_EQ(defaults.minimize.linearity_tolerance, MinimizeOptions{}.linearity_tolerance);
+  EXPECT_EQ(defaults.hessian.linearity_tolerance, HessianOptions{}.linearity_tolerance);
+  AnalysisOptions looser;
+  constexpr double kLooserTolerance = 1e-2;  // any valid value other than the default
+  looser.modes.linearity_tolerance = kLooserTolerance;
+  looser.hessian.linearity_tolerance = 0.5;  // overridden: the modes' value governs
+  const AnalysisOptions steps = options_for_steps(looser);
+  EXPECT_EQ(steps.minimize.linearity_tolerance, kLooserTolerance);
+  EXPECT_EQ(steps.hessian.linearity_tolerance, kLooserTolerance);
+  EXPECT_EQ(steps.modes.linearity_tolerance, kLooserTolerance);
+}
+
 }  // namespace
 }  // namespace overtone
