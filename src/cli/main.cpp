@@ -761,8 +761,10 @@ int run_screen_report(const ScreenReportArguments& arguments) {
       throw Error(fmt::format("--window A:B needs A <= B, got {}:{}", *options.window_min_cm1,
                               *options.window_max_cm1));
   }
-  if (arguments.min_criterion && !(std::isfinite(*arguments.min_criterion) && *arguments.min_criterion >= 0.0))
-    throw Error(fmt::format("--min-criterion must be a number >= 0 (cm-1), got {}", *arguments.min_criterion));
+  if (arguments.min_criterion &&
+      !(std::isfinite(*arguments.min_criterion) && *arguments.min_criterion >= 0.0))
+    throw Error(
+        fmt::format("--min-criterion must be a number >= 0 (cm-1), got {}", *arguments.min_criterion));
   options.min_criterion = arguments.min_criterion;
   options.run_id = arguments.run_id;
   const ScreenReport report = screen_report(arguments.store, options);

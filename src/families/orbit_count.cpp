@@ -97,7 +97,9 @@ OrbitCountBand count_band(const std::vector<FamilyResult>& families,
 
 }  // namespace
 
-void OrbitCountOptions::validate() const { option_checks::require_at_least("orbit count", "bands", bands, 1); }
+void OrbitCountOptions::validate() const {
+  option_checks::require_at_least("orbit count", "bands", bands, 1);
+}
 
 OrbitCount count_orbits(const std::vector<FamilyResult>& families, int degrees_of_freedom,
                         double cm1_per_energy, const std::string& energy_label,

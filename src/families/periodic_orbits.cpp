@@ -58,13 +58,14 @@ void ContinuationOptions::validate() const {
   require(partner_resolution >= 0.0 && partner_resolution < 0.5, owner, "partner_resolution",
           "a number in [0, 0.5)", partner_resolution);
   require_in_open(owner, "stability_tolerance", stability_tolerance, 0.0, 0.1);
-  require(escape_radius_factor > 1.0, owner, "escape_radius_factor", "a number above 1", escape_radius_factor);
+  require(escape_radius_factor > 1.0, owner, "escape_radius_factor", "a number above 1",
+          escape_radius_factor);
   require(max_period_factor > 1.0, owner, "max_period_factor", "a number above 1", max_period_factor);
   require(max_integration_steps >= 100, owner, "max_integration_steps", "a whole number >= 100",
           max_integration_steps);
   require_at_least(owner, "ladder_max_level", ladder_max_level, 0);
-  require(ladder_tolerance >= 0.0 && ladder_tolerance < 0.1, owner, "ladder_tolerance", "a number in [0, 0.1)",
-          ladder_tolerance);
+  require(ladder_tolerance >= 0.0 && ladder_tolerance < 0.1, owner, "ladder_tolerance",
+          "a number in [0, 0.1)", ladder_tolerance);
 }
 
 namespace {

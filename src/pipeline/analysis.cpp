@@ -51,10 +51,11 @@ MinimumVerdict check_minimum(const AnalysisResult& analysis, const std::string& 
   if (analysis.optimized && !analysis.optimization.converged())
     return {analysis.optimization.status == MinimizeStatus::saddle_point ? Unfit::not_a_minimum
                                                                          : Unfit::not_converged,
-            stage + " needs a minimum, but the optimization did not converge (" + analysis.optimization.message +
-                "); try another potential or a better starting structure"};
+            stage + " needs a minimum, but the optimization did not converge (" +
+                analysis.optimization.message + "); try another potential or a better starting structure"};
   const Eigen::VectorXd& frequencies = analysis.harmonic.frequencies_cm1;
-  if (frequencies.size() == 0) return {Unfit::no_modes, stage + " needs vibrational modes, and this molecule has none"};
+  if (frequencies.size() == 0)
+    return {Unfit::no_modes, stage + " needs vibrational modes, and this molecule has none"};
   if (frequencies.minCoeff() <= 0.0)
     return {Unfit::not_a_minimum,
             fmt::format("{} needs a minimum, but the structure has an imaginary frequency ({:.1f}i cm-1): "
@@ -230,14 +231,16 @@ MinimumVerdict check_rise_along_every_mode(const AnalysisResult& analysis, const
     const int fundamental = fundamental_of_mode_number(
         analysis.modes, mode_number_of_index(analysis.modes).at(static_cast<std::size_t>(finding.mode)));
     const double first_q = std::sqrt(2.0 * scan_options.max_quanta + 1.0) / scan_options.points;
-    return {Unfit::not_a_minimum, fmt::format(
-        "the structure is not a minimum of this potential along ν{}: in the {} direction the energy {} at "
-        "the "
-        "first step of the amplitude scan ({:.3g} of the dimensionless normal coordinate){}; the families of "
-        "nonlinear normal modes need a minimum",
-        fundamental, finding.direction > 0 ? "positive" : "negative",
-        finding.note.empty() ? "already falls below the structure's" : "cannot be evaluated", first_q,
-        finding.note.empty() ? "" : " (" + finding.note + ")")};
+    return {Unfit::not_a_minimum,
+            fmt::format("the structure is not a minimum of this potential along ν{}: in the {} direction the "
+                        "energy {} at "
+                        "the "
+                        "first step of the amplitude scan ({:.3g} of the dimensionless normal coordinate){}; "
+                        "the families of "
+                        "nonlinear normal modes need a minimum",
+                        fundamental, finding.direction > 0 ? "positive" : "negative",
+                        finding.note.empty() ? "already falls below the structure's" : "cannot be evaluated",
+                        first_q, finding.note.empty() ? "" : " (" + finding.note + ")")};
   }
   return {};
 }
@@ -248,12 +251,14 @@ FamiliesResult analyze_families(const AnalysisResult& analysis, const Potential&
                                 const FamiliesOptions& options) {
   options.validate();
   FamiliesResult refusal;
-  if (refused(check_minimum(analysis, "the families of nonlinear normal modes", smallest_expanded_wavenumber_cm1),
-              refusal))
+  if (refused(
+          check_minimum(analysis, "the families of nonlinear normal modes", smallest_expanded_wavenumber_cm1),
+          refusal))
     return refusal;
   if (!analysis.symmetry_used) {
     refusal.status = FamiliesStatus::no_point_group;
-    refusal.message = "the families of nonlinear normal modes need the point group; run the analysis with symmetry";
+    refusal.message =
+        "the families of nonlinear normal modes need the point group; run the analysis with symmetry";
     return refusal;
   }
   // Quartic force fields and Taylor expansions often turn over at large amplitude; a
@@ -394,13 +399,15 @@ void search_conformers(AnalysisResult& result, const Potential& potential, const
 void set_status(AnalysisResult& result) {
   const std::string harmonic = "harmonic analysis: " + result.harmonic.message;
   if (result.optimized && !result.optimization.converged()) {
-    result.status = result.optimization.status == MinimizeStatus::saddle_point ? AnalysisStatus::not_a_minimum
-                                                                               : AnalysisStatus::not_converged;
+    result.status = result.optimization.status == MinimizeStatus::saddle_point
+                        ? AnalysisStatus::not_a_minimum
+                        : AnalysisStatus::not_converged;
     result.message = "optimization: " + result.optimization.message + "; " + harmonic;
     return;
   }
   result.status = result.harmonic.ok() ? AnalysisStatus::ok : AnalysisStatus::not_a_minimum;
-  result.message = result.optimized ? "optimization: " + result.optimization.message + "; " + harmonic : harmonic;
+  result.message =
+      result.optimized ? "optimization: " + result.optimization.message + "; " + harmonic : harmonic;
 }
 
 }  // namespace

@@ -8,8 +8,8 @@
 #include <filesystem>
 
 #include "core/error.hpp"
-#include "core/warnings.hpp"
 #include "core/text.hpp"
+#include "core/warnings.hpp"
 
 namespace overtone {
 

@@ -411,8 +411,8 @@ void AnharmonicReportOptions::validate() const {
   using namespace option_checks;
   const char* owner = "anharmonic report";
   for (const int number : set_numbers) require_at_least(owner, "set_numbers", number, 1);
-  require(detail == ReportDetail::summary || detail == ReportDetail::full, owner, "detail",
-          "summary or full", static_cast<int>(detail));
+  require(detail == ReportDetail::summary || detail == ReportDetail::full, owner, "detail", "summary or full",
+          static_cast<int>(detail));
 }
 
 std::string line_list_csv(const Vpt2Result& vpt2, const AnharmonicReportOptions& options) {

@@ -356,7 +356,8 @@ class MoleculeScreen {
     outcome.warnings = analysis.warnings;
     add_harmonic_rows(analysis, outcome);
     check_minimum(analysis, outcome);
-    if (outcome.status == status_failed || harmonic_only || settings_.stages == ScreenStages::harmonic) return;
+    if (outcome.status == status_failed || harmonic_only || settings_.stages == ScreenStages::harmonic)
+      return;
     enter(screen_stage::anharmonic);
     AnharmonicOptions anharmonic_options;
     anharmonic_options.vpt2.exclude_below_cm1 = settings_.vpt2_exclude_below_cm1;

@@ -460,13 +460,15 @@ TEST(Cli, AStageThatCannotRunIsSkippedByAnalyzeAndRefusedAlone) {
   std::filesystem::remove_all(out);
   const ProgramRun analyze = run("analyze " + expansion + " --quanta 1 --out " + out);
   ASSERT_EQ(analyze.status, 0) << analyze.err;
-  EXPECT_NE(analyze.err.find("families stage skipped: the structure is not a minimum of this potential along ν1"),
-            std::string::npos)
+  EXPECT_NE(
+      analyze.err.find("families stage skipped: the structure is not a minimum of this potential along ν1"),
+      std::string::npos)
       << analyze.err;
   const nlohmann::json document = nlohmann::json::parse(slurp(out + "/analysis.json"));
   EXPECT_NE(document["families_skipped"].get<std::string>().find("not a minimum"), std::string::npos);
   EXPECT_TRUE(document.contains("levels"));  // the anharmonic stage ran
-  expect_one_line_error(run("families " + expansion + " --quanta 1"), "not a minimum of this potential along ν1");
+  expect_one_line_error(run("families " + expansion + " --quanta 1"),
+                        "not a minimum of this potential along ν1");
 }
 
 }  // namespace
