@@ -233,11 +233,8 @@ MinimumVerdict check_rise_along_every_mode(const AnalysisResult& analysis, const
     const double first_q = std::sqrt(2.0 * scan_options.max_quanta + 1.0) / scan_options.points;
     return {Unfit::not_a_minimum,
             fmt::format("the structure is not a minimum of this potential along ν{}: in the {} direction the "
-                        "energy {} at "
-                        "the "
-                        "first step of the amplitude scan ({:.3g} of the dimensionless normal coordinate){}; "
-                        "the families of "
-                        "nonlinear normal modes need a minimum",
+                        "energy {} at the first step of the amplitude scan ({:.3g} of the dimensionless "
+                        "normal coordinate){}; the families of nonlinear normal modes need a minimum",
                         fundamental, finding.direction > 0 ? "positive" : "negative",
                         finding.note.empty() ? "already falls below the structure's" : "cannot be evaluated",
                         first_q, finding.note.empty() ? "" : " (" + finding.note + ")")};
