@@ -143,7 +143,7 @@ struct AnharmonicOptions {
 // Why the expansion did not run (the message says it in the user's words): the optimization
 // did not converge (not_converged); a saddle point, an imaginary or too soft mode, or force
 // constants refused for the same reason (not_a_minimum); a molecule without vibrations
-// (no_modes). Nothing else of the result is filled then.
+// (no_modes). VPT2 has not run then; only refused force constants leave theirs filled.
 enum class AnharmonicStatus { ok, not_converged, not_a_minimum, no_modes };
 std::string to_string(AnharmonicStatus status);
 
