@@ -403,12 +403,19 @@ struct AnharmonicPaths {
   double exclude_below_cm1 = 0.0;
 };
 
+// A later stage that cannot run (the structure is no minimum, say) ends a command that
+// asked for that stage alone, with its reason as the error line.
+void require_stage_ran(bool ran, const std::string& reason) {
+  if (!ran) throw Error(reason);
+}
+
 int run_anharmonic(const MoleculeArguments& arguments, const AnharmonicPaths& paths) {
   const std::string& json_path = paths.json;
   check_exclusion(paths.exclude_below_cm1);
   const AnalysedMolecule analysed = run_analysis(arguments);
   const AnharmonicResult anharmonic =
       analyze_anharmonic(analysed.analysis, *analysed.potential, anharmonic_options(paths.exclude_below_cm1));
+  require_stage_ran(anharmonic.ok(), anharmonic.message);
   RunResults results;
   results.analysis = &analysed.analysis;
   results.anharmonic = &anharmonic;
@@ -445,6 +452,7 @@ int run_families(const MoleculeArguments& arguments, const FamilyArguments& fami
   const AnalysisResult& analysis = analysed.analysis;
   const FamiliesResult families =
       analyze_families(analysis, *analysed.potential, families_options(analysis, family_arguments));
+  require_stage_ran(families.ok(), families.message);
   RunResults results;
   results.analysis = &analysis;
   results.families = &families;
@@ -484,26 +492,28 @@ int run_analyze(const MoleculeArguments& arguments, const FamilyArguments& famil
   results.analysis = &analysis;
   std::optional<AnharmonicResult> anharmonic;
   if (!switches.skip_anharmonic) {
-    try {
-      anharmonic = analyze_anharmonic(analysis, potential, anharmonic_options(switches.exclude_below_cm1));
+    anharmonic = analyze_anharmonic(analysis, potential, anharmonic_options(switches.exclude_below_cm1));
+    if (anharmonic->ok()) {
       results.anharmonic = &*anharmonic;
       // The default selection for large molecules keeps the families of flagged resonances
       // with the stretches it continues anyway.
       options.resonance_mode_numbers =
           flagged_resonance_mode_numbers(analysis, *anharmonic, options.selection_min_cm1);
-    } catch (const Error& error) {
-      warn(std::string("anharmonic stage skipped: ") + error.what());
-      results.anharmonic_skipped = error.what();
+    } else {
+      warn("anharmonic stage skipped: " + anharmonic->message);
+      results.anharmonic_skipped = anharmonic->message;
+      anharmonic.reset();
     }
   }
   std::optional<FamiliesResult> families;
   if (!switches.skip_families) {
-    try {
-      families = analyze_families(analysis, potential, options);
+    families = analyze_families(analysis, potential, options);
+    if (families->ok()) {
       results.families = &*families;
-    } catch (const Error& error) {
-      warn(std::string("families stage skipped: ") + error.what());
-      results.families_skipped = error.what();
+    } else {
+      warn("families stage skipped: " + families->message);
+      results.families_skipped = families->message;
+      families.reset();
     }
   }
   std::optional<OrbitFramesResult> orbits;
@@ -747,7 +757,14 @@ int run_screen_report(const ScreenReportArguments& arguments) {
                   printable_text(arguments.window) + "'");
     options.window_min_cm1 = window_end(arguments.window.substr(0, colon), arguments.window);
     options.window_max_cm1 = window_end(arguments.window.substr(colon + 1), arguments.window);
+    if (options.window_min_cm1 && options.window_max_cm1 && *options.window_min_cm1 > *options.window_max_cm1)
+      throw Error(fmt::format("--window A:B needs A <= B, got {}:{}", *options.window_min_cm1,
+                              *options.window_max_cm1));
   }
+  if (arguments.min_criterion &&
+      !(std::isfinite(*arguments.min_criterion) && *arguments.min_criterion >= 0.0))
+    throw Error(
+        fmt::format("--min-criterion must be a number >= 0 (cm-1), got {}", *arguments.min_criterion));
   options.min_criterion = arguments.min_criterion;
   options.run_id = arguments.run_id;
   const ScreenReport report = screen_report(arguments.store, options);

@@ -1,5 +1,8 @@
 #include "cli/report_command.hpp"
 
+#include <fmt/format.h>
+
+#include <cmath>
 #include <filesystem>
 #include <fstream>
 #include <iostream>
@@ -84,6 +87,10 @@ void add_orbit_energy_option(CLI::App& command, std::vector<double>& energies_cm
 }
 
 OrbitFramesOptions orbit_frames_options(const std::vector<double>& energies_cm1) {
+  // In the words of the command line (the options' own check names their field).
+  for (const double energy : energies_cm1)
+    if (!(std::isfinite(energy) && energy > 0.0))
+      throw Error(fmt::format("orbit energies must be positive numbers of cm-1, got {}", energy));
   OrbitFramesOptions options;
   options.energies_cm1 = energies_cm1;
   options.validate();

@@ -82,6 +82,8 @@ nlohmann::json analysed_document(const PredictionArguments& arguments,
   std::optional<AnharmonicResult> anharmonic;
   if (!arguments.harmonic) {
     anharmonic = analyze_anharmonic(analysis, *potential);
+    // A prediction asked for anharmonic positions: without them there is none to give.
+    if (!anharmonic->ok()) throw Error(anharmonic->message);
     results.anharmonic = &*anharmonic;
   }
   const IntensityOutcome intensities =

@@ -5,20 +5,23 @@
 #include <cmath>
 
 #include "core/error.hpp"
+#include "core/option_checks.hpp"
 #include "core/units.hpp"
 #include "harmonic/normal_coordinates.hpp"
 
 namespace overtone {
 
+void AmplitudeScanOptions::validate() const {
+  using namespace option_checks;
+  const char* owner = "amplitude scan";
+  require_positive(owner, "max_quanta", max_quanta);
+  require_at_least(owner, "points", points, 2);
+  require_non_negative(owner, "tolerance_cm1", tolerance_cm1);
+}
+
 AmplitudeScanResult scan_normal_coordinates(const Potential& potential, const HarmonicResult& harmonic,
                                             const AmplitudeScanOptions& options) {
-  if (!(options.max_quanta > 0.0))
-    throw Error(fmt::format("amplitude-scan option max_quanta must be positive, got {}", options.max_quanta));
-  if (options.points < 2)
-    throw Error(fmt::format("amplitude-scan option points must be at least 2, got {}", options.points));
-  if (!(options.tolerance_cm1 >= 0.0))
-    throw Error(fmt::format("amplitude-scan option tolerance_cm1 must be non-negative, got {}",
-                            options.tolerance_cm1));
+  options.validate();
   if (harmonic.coordinates_angstrom.size() != static_cast<Eigen::Index>(3 * potential.atom_count()))
     throw Error(fmt::format("the harmonic result has {} coordinates but the potential '{}' has {} atoms",
                             harmonic.coordinates_angstrom.size(), potential.description(),

@@ -20,6 +20,8 @@ struct AmplitudeScanOptions {
   // The energy may dip by this much (cm⁻¹) between successive points before the mode counts
   // as turned over (numerical noise and genuinely flat regions stay below it).
   double tolerance_cm1 = 1.0;
+
+  void validate() const;  // throws Error naming the field that is out of range
 };
 
 struct TurnoverFinding {

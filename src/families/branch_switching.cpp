@@ -8,29 +8,21 @@
 #include <set>
 
 #include "core/error.hpp"
+#include "core/option_checks.hpp"
 #include "core/units.hpp"
 
 namespace overtone {
 
-void validate(const BranchSwitchingOptions& options) {
-  if (options.depth < 0)
-    throw Error(fmt::format("branch switching depth must be non-negative, got {}", options.depth));
-  if (!(options.energy_resolution > 0.0 && options.energy_resolution < 1.0))
-    throw Error(fmt::format("branch switching energy_resolution must lie in (0, 1), got {}",
-                            options.energy_resolution));
-  if (!(options.test_tolerance > 0.0))
-    throw Error(
-        fmt::format("branch switching test_tolerance must be positive, got {}", options.test_tolerance));
-  if (options.max_probes < 2)
-    throw Error(fmt::format("branch switching max_probes must be at least 2, got {}", options.max_probes));
-  if (!(options.kernel_tolerance > 0.0 && options.kernel_tolerance < 1.0))
-    throw Error(fmt::format("branch switching kernel_tolerance must lie in (0, 1), got {}",
-                            options.kernel_tolerance));
-  if (!(options.first_step > 0.0 && options.first_step < 1.0))
-    throw Error(fmt::format("branch switching first_step must lie in (0, 1), got {}", options.first_step));
-  if (options.max_births_per_family < 0)
-    throw Error(fmt::format("branch switching max_births_per_family must be non-negative, got {}",
-                            options.max_births_per_family));
+void BranchSwitchingOptions::validate() const {
+  using namespace option_checks;
+  const char* owner = "branch switching";
+  require_at_least(owner, "depth", depth, 0);
+  require_in_open(owner, "energy_resolution", energy_resolution, 0.0, 1.0);
+  require_positive(owner, "test_tolerance", test_tolerance);
+  require_at_least(owner, "max_probes", max_probes, 2);
+  require_in_open(owner, "kernel_tolerance", kernel_tolerance, 0.0, 1.0);
+  require_in_open(owner, "first_step", first_step, 0.0, 1.0);
+  require_at_least(owner, "max_births_per_family", max_births_per_family, 0);
 }
 
 double bifurcation_test_value(const OrbitPoint& point, FamilyEventKind kind) {
@@ -48,6 +40,7 @@ std::optional<BirthSite> locate_bifurcation(const VibrationalSystem& system, con
                                             const ContinuationOptions& continuation,
                                             const ContinuationResult& backbone, const FamilyEvent& event,
                                             const BranchSwitchingOptions& options, std::string& failure) {
+  options.validate();
   const auto& points = backbone.points;
   if (event.point_index < 1 || event.point_index >= static_cast<int>(points.size())) {
     failure = "the event lies outside the backbone";
@@ -286,6 +279,7 @@ std::optional<FamilyType> born_family_type(const FamilyType& parent, int parent_
                                            const CoordinateSymmetry& symmetry, const BirthSite& site,
                                            const UnitConventions& units,
                                            const BranchSwitchingOptions& options, std::string& failure) {
+  options.validate();
   const OrbitPoint& point = site.point;
   const Eigen::Index n = point.initial_positions.size();
   const double omega = point.angular_frequency;

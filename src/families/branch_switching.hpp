@@ -48,10 +48,9 @@ struct BranchSwitchingOptions {
   double kernel_tolerance = 1e-4;
   double first_step = 0.05;  // BranchStart::step
   int max_births_per_family = 4;
-};
 
-// Throws Error naming the field when a value is out of range.
-void validate(const BranchSwitchingOptions& options);
+  void validate() const;  // throws Error naming the field that is out of range
+};
 
 // The parent's orbit at a located bifurcation.
 struct BirthSite {

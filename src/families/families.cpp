@@ -14,48 +14,50 @@
 #include <thread>
 
 #include "core/error.hpp"
+#include "core/option_checks.hpp"
 #include "families/bond_amplitudes.hpp"
 
 namespace overtone {
 
 void FamiliesOptions::validate() const {
-  const bool by_energy = energy_max_cm1 > 0.0;
-  const bool by_quanta = quanta > 0.0;
-  if (!std::isfinite(energy_max_cm1) || energy_max_cm1 < 0.0)
-    throw Error(
-        fmt::format("families option energy_max_cm1 = {} must be a non-negative energy", energy_max_cm1));
-  if (!std::isfinite(quanta) || quanta < 0.0)
-    throw Error(fmt::format("families option quanta = {} must be non-negative", quanta));
-  overtone::validate(branches);
-  if (orbit_count.bands < 1)
-    throw Error(fmt::format("families option orbit_count.bands = {} must be at least 1", orbit_count.bands));
-  if (continue_families && by_energy == by_quanta)
-    throw Error(
-        fmt::format("families options need exactly one of energy_max_cm1 (got {}) and quanta (got {}) to be "
-                    "positive",
-                    energy_max_cm1, quanta));
-  if (encounter_max_ratio < 1)
-    throw Error(
-        fmt::format("families option encounter_max_ratio = {} must be at least 1", encounter_max_ratio));
-  if (threads < 0) throw Error(fmt::format("families option threads = {} must be non-negative", threads));
-  if (all_modes && !mode_numbers.empty())
-    throw Error(
-        fmt::format("families options ask for all modes and for {} mode number(s); expected one of the two",
-                    mode_numbers.size()));
-  if (all_modes_up_to < 0)
-    throw Error(fmt::format("families option all_modes_up_to = {} must be non-negative", all_modes_up_to));
-  if (!std::isfinite(selection_min_cm1) || selection_min_cm1 < 0.0)
-    throw Error(fmt::format("families option selection_min_cm1 = {} must be a non-negative wavenumber",
-                            selection_min_cm1));
-  if (!std::isfinite(selection_floor_cm1) || selection_floor_cm1 < 0.0)
-    throw Error(fmt::format("families option selection_floor_cm1 = {} must be a non-negative wavenumber",
-                            selection_floor_cm1));
-  if (!(enumeration.resonance_window_cm1 >= 0.0))
-    throw Error(fmt::format("families option enumeration.resonance_window_cm1 = {} must be non-negative",
-                            enumeration.resonance_window_cm1));
-  for (const int k : enumeration.resonance_orders)
-    if (k < 1)
-      throw Error(fmt::format("families option enumeration.resonance_orders contains {}, expected >= 1", k));
+  using namespace option_checks;
+  const char* owner = "families";
+  require_non_negative(owner, "energy_max_cm1", energy_max_cm1);
+  require_non_negative(owner, "quanta", quanta);
+  if (continue_families)
+    require((energy_max_cm1 > 0.0) != (quanta > 0.0), owner, "energy_max_cm1 and quanta",
+            "exactly one of the two positive", fmt::format("{} and {}", energy_max_cm1, quanta));
+  require(!all_modes || mode_numbers.empty(), owner, "mode_numbers", "none with all_modes set",
+          fmt::format("{} mode number(s)", mode_numbers.size()));
+  require_at_least(owner, "all_modes_up_to", all_modes_up_to, 0);
+  require_non_negative(owner, "selection_min_cm1", selection_min_cm1);
+  require_non_negative(owner, "selection_floor_cm1", selection_floor_cm1);
+  require_at_least(owner, "encounter_max_ratio", encounter_max_ratio, 1);
+  require_at_least(owner, "threads", threads, 0);
+  enumeration.validate();
+  // energy_max is set per family; any positive value lets the other fields be checked now.
+  ContinuationOptions per_family = continuation;
+  per_family.energy_max = 1.0;
+  per_family.validate();
+  branches.validate();
+  resonant_seeds.validate();
+  orbit_count.validate();
+}
+
+std::string to_string(FamiliesStatus status) {
+  switch (status) {
+    case FamiliesStatus::ok:
+      return "ok";
+    case FamiliesStatus::not_converged:
+      return "not_converged";
+    case FamiliesStatus::not_a_minimum:
+      return "not_a_minimum";
+    case FamiliesStatus::no_modes:
+      return "no_modes";
+    case FamiliesStatus::no_point_group:
+      return "no_point_group";
+  }
+  return "unknown";
 }
 
 namespace {
@@ -487,6 +489,9 @@ FamiliesResult compute_families(const VibrationalSystem& system, const std::vect
     result.orbit_count = count_orbits(result.families, n, result.units.cm1_per_energy,
                                       result.units.energy_label, options.orbit_count, result.warnings);
   result.seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - started).count();
+  const auto continued = std::count_if(result.families.begin(), result.families.end(),
+                                       [](const FamilyResult& family) { return family.continued; });
+  result.message = fmt::format("{} families, {} continued", result.families.size(), continued);
   return result;
 }
 
@@ -494,6 +499,8 @@ FamiliesResult compute_molecular_families(const Potential& potential, const Harm
                                           const PointGroupResult& group, const ModeSymmetryResult& species,
                                           const std::vector<int>& mode_order, const FamiliesOptions& options,
                                           const MolecularSystemOptions& system_options) {
+  options.validate();
+  system_options.validate();
   const MolecularVibrationalSystem system(potential, harmonic, system_options);
   const ModeSymmetry mode_symmetry_of_modes = mode_symmetry(group, species, harmonic.mass_weighted_modes);
   const std::vector<ModeBlock> blocks = molecular_mode_blocks(mode_symmetry_of_modes, harmonic, mode_order);

@@ -66,8 +66,8 @@ struct FamiliesOptions {
   // Told after each family and at accepted points (stage "families", done/total families).
   ProgressCallback progress;
 
-  // Throws Error naming the field when a value is out of range (the continuation options
-  // are checked per family, once energy_max is known).
+  // Throws Error naming the field when a value is out of range, in these options or the
+  // ones they hold (continuation's energy_max, set per family, is checked per family).
   void validate() const;
 };
 
@@ -96,7 +96,17 @@ struct FamilyResult {
   double resonance_shift_coefficient = 0.0;
 };
 
+// Why the families were not computed (the message says it in the user's words), for the
+// callers that check the expansion point first (the pipeline's analyze_families): the
+// optimization did not converge (not_converged); a saddle point or a mode too soft or
+// falling along its coordinate (not_a_minimum); a molecule without vibrations (no_modes);
+// an analysis without the point group (no_point_group). Nothing else is filled then.
+enum class FamiliesStatus { ok, not_converged, not_a_minimum, no_modes, no_point_group };
+std::string to_string(FamiliesStatus status);
+
 struct FamiliesResult {
+  FamiliesStatus status = FamiliesStatus::ok;
+  std::string message;  // ok: how many families were found and continued
   std::string system_description;
   UnitConventions units;
   std::vector<ModeBlock> blocks;
@@ -126,6 +136,8 @@ struct FamiliesResult {
   std::size_t hessian_evaluations = 0;
   std::size_t hessian_vector_products = 0;
   double seconds = 0.0;
+
+  bool ok() const { return status == FamiliesStatus::ok; }
 };
 
 // Throws Error for invalid options or inconsistent system, blocks and symmetry (see

@@ -10,6 +10,7 @@
 #include <set>
 
 #include "core/error.hpp"
+#include "core/option_checks.hpp"
 #include "core/units.hpp"
 
 namespace overtone {
@@ -630,8 +631,17 @@ std::vector<FamilyType> block_families(const std::vector<ModeBlock>& blocks,
 
 }  // namespace
 
+void EnumerationOptions::validate() const {
+  using namespace option_checks;
+  const char* owner = "enumeration";
+  require_non_negative(owner, "resonance_window_cm1", resonance_window_cm1);
+  for (const int order : resonance_orders) require_at_least(owner, "resonance_orders", order, 1);
+  require_positive(owner, "invariance_tolerance", invariance_tolerance);
+}
+
 FamilyEnumeration enumerate_families(const std::vector<ModeBlock>& blocks, const CoordinateSymmetry& symmetry,
                                      const UnitConventions& units, const EnumerationOptions& options) {
+  options.validate();
   const std::vector<std::string> labels = checked_labels(symmetry);
   const int n = static_cast<int>(symmetry.matrices.front().rows());
   FamilyEnumeration enumeration;

@@ -118,6 +118,8 @@ struct EnumerationOptions {
   // ~1e-12; an optimized geometry with a finite-difference Hessian leaves ~1e-6 to 1e-5
   // (the degenerate partners mix slightly with neighbouring modes).
   double invariance_tolerance = 1e-4;
+
+  void validate() const;  // throws Error naming the field that is out of range
 };
 
 struct FamilyEnumeration {

@@ -8,13 +8,24 @@
 #include <limits>
 
 #include "core/error.hpp"
+#include "core/option_checks.hpp"
 
 namespace overtone {
+
+void MolecularSystemOptions::validate() const {
+  using namespace option_checks;
+  const char* owner = "molecular system";
+  require_positive(owner, "finite_difference_step_angstrom", finite_difference_step_angstrom);
+  // Infinity is the default: no barrier known.
+  require(escape_energy_cm1 > 0.0, owner, "escape_energy_cm1", "a positive energy or infinity",
+          escape_energy_cm1);
+}
 
 MolecularVibrationalSystem::MolecularVibrationalSystem(const Potential& potential,
                                                        const HarmonicResult& harmonic,
                                                        const MolecularSystemOptions& options)
     : potential_(potential) {
+  options.validate();
   const Eigen::Index cartesian = harmonic.coordinates_angstrom.size();
   if (cartesian != static_cast<Eigen::Index>(3 * potential.atom_count()) ||
       harmonic.masses_da.size() * 3 != cartesian || harmonic.mass_weighted_modes.rows() != cartesian)
@@ -24,17 +35,12 @@ MolecularVibrationalSystem::MolecularVibrationalSystem(const Potential& potentia
   if (modes < 1 || harmonic.eigenvalues.size() != modes)
     throw Error(
         fmt::format("harmonic data have {} modes and {} eigenvalues", modes, harmonic.eigenvalues.size()));
-  if (!(options.finite_difference_step_angstrom > 0.0))
-    throw Error(fmt::format("finite_difference_step_angstrom must be positive, got {}",
-                            options.finite_difference_step_angstrom));
   for (Eigen::Index k = 0; k < modes; ++k)
     if (!(harmonic.eigenvalues(k) > 0.0))
       throw Error(
           fmt::format("mode {} has a non-positive force constant (wavenumber {:.2f} cm-1): periodic-orbit "
                       "families need a minimum",
                       k + 1, harmonic.frequencies_cm1(k)));
-  if (!(options.escape_energy_cm1 > 0.0))
-    throw Error(fmt::format("escape_energy_cm1 must be positive, got {}", options.escape_energy_cm1));
   escape_energy_ = options.escape_energy_cm1 / molecular_unit_conventions().cm1_per_energy;
   equilibrium_ = harmonic.coordinates_angstrom;
   frequencies_ = harmonic.eigenvalues.cwiseSqrt();

@@ -46,6 +46,8 @@ struct MolecularSystemOptions {
   // e.g. from scan_normal_coordinates; a continuation that fails close below it is
   // reported as an escape over that barrier. Infinity: none known.
   double escape_energy_cm1 = std::numeric_limits<double>::infinity();
+
+  void validate() const;  // throws Error naming the field that is out of range
 };
 
 class MolecularVibrationalSystem : public VibrationalSystem {

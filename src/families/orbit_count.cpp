@@ -7,6 +7,7 @@
 #include <limits>
 
 #include "core/error.hpp"
+#include "core/option_checks.hpp"
 #include "families/families.hpp"
 
 namespace overtone {
@@ -96,11 +97,14 @@ OrbitCountBand count_band(const std::vector<FamilyResult>& families,
 
 }  // namespace
 
+void OrbitCountOptions::validate() const {
+  option_checks::require_at_least("orbit count", "bands", bands, 1);
+}
+
 OrbitCount count_orbits(const std::vector<FamilyResult>& families, int degrees_of_freedom,
                         double cm1_per_energy, const std::string& energy_label,
                         const OrbitCountOptions& options, std::vector<std::string>& warnings) {
-  if (options.bands < 1)
-    throw Error(fmt::format("orbit count bands must be at least 1, got {}", options.bands));
+  options.validate();
   if (degrees_of_freedom < 1)
     throw Error(fmt::format("degrees of freedom must be at least 1, got {}", degrees_of_freedom));
   OrbitCount result;

@@ -46,6 +46,8 @@ struct OrbitCountOptions {
   // Equal bands from 0 to the smallest energy_max of the continued families (the range
   // every family was asked to cover).
   int bands = 8;
+
+  void validate() const;  // throws Error naming the field that is out of range
 };
 
 // Geometrically distinct orbits one orbit of the family stands for (see OrbitCountBand).

@@ -10,6 +10,7 @@
 #include <optional>
 
 #include "core/error.hpp"
+#include "core/option_checks.hpp"
 #include "core/units.hpp"
 #include "families/orbit_integrator.hpp"
 
@@ -30,54 +31,41 @@ const char* to_string(FamilyEventKind kind) {
   return names[static_cast<std::size_t>(kind)];
 }
 
-namespace {
-
-void require(bool condition, const std::string& field, double value, const char* constraint) {
-  if (!condition)
-    throw Error(fmt::format("continuation option {} = {} must be {}", field, value, constraint));
-}
-
-}  // namespace
-
-void validate(const ContinuationOptions& o) {
-  require(std::isfinite(o.energy_max) && o.energy_max > 0.0, "energy_max", o.energy_max, "a positive energy");
-  require(o.start_energy_fraction > 0.0 && o.start_energy_fraction < 1.0, "start_energy_fraction",
-          o.start_energy_fraction, "in (0, 1)");
-  require(o.integration_tolerance >= 1e-15 && o.integration_tolerance <= 1e-6, "integration_tolerance",
-          o.integration_tolerance, "in [1e-15, 1e-6]");
-  require(o.variational_tolerance >= o.integration_tolerance && o.variational_tolerance <= 1e-6,
-          "variational_tolerance", o.variational_tolerance, "between integration_tolerance and 1e-6");
-  require(o.closure_tolerance > 0.0 && o.closure_tolerance < 1e-2, "closure_tolerance", o.closure_tolerance,
-          "in (0, 1e-2)");
-  require(o.closure_tolerance >= 10.0 * o.integration_tolerance, "closure_tolerance", o.closure_tolerance,
-          "at least 10 times integration_tolerance (Newton cannot beat the integrator)");
-  require(o.newton_tolerance_max >= o.integration_tolerance && o.newton_tolerance_max <= 1e-6,
-          "newton_tolerance_max", o.newton_tolerance_max, "between integration_tolerance and 1e-6");
-  require(o.max_newton_iterations >= 2, "max_newton_iterations", o.max_newton_iterations, "at least 2");
-  require(o.min_step > 0.0, "min_step", o.min_step, "positive");
-  require(o.initial_step >= o.min_step && o.initial_step <= o.max_step, "initial_step", o.initial_step,
-          "between min_step and max_step");
-  require(o.max_energy_step_fraction > 0.0 && o.max_energy_step_fraction <= 1.0, "max_energy_step_fraction",
-          o.max_energy_step_fraction, "in (0, 1]");
-  require(o.straight_energy_step_fraction > 0.0 && o.straight_energy_step_fraction <= 1.0,
-          "straight_energy_step_fraction", o.straight_energy_step_fraction, "in (0, 1]");
-  require(o.backbone_tolerance > 0.0 && o.backbone_tolerance < 0.1, "backbone_tolerance",
-          o.backbone_tolerance, "in (0, 0.1)");
-  require(o.max_points >= 2, "max_points", o.max_points, "at least 2");
-  require(o.variational_nodes_per_period >= 0, "variational_nodes_per_period", o.variational_nodes_per_period,
-          "non-negative");
-  require(o.samples_per_period >= 16, "samples_per_period", o.samples_per_period, "at least 16");
-  require(o.partner_resolution >= 0.0 && o.partner_resolution < 0.5, "partner_resolution",
-          o.partner_resolution, "in [0, 0.5)");
-  require(o.stability_tolerance > 0.0 && o.stability_tolerance < 0.1, "stability_tolerance",
-          o.stability_tolerance, "in (0, 0.1)");
-  require(o.escape_radius_factor > 1.0, "escape_radius_factor", o.escape_radius_factor, "above 1");
-  require(o.max_period_factor > 1.0, "max_period_factor", o.max_period_factor, "above 1");
-  require(o.max_integration_steps >= 100, "max_integration_steps",
-          static_cast<double>(o.max_integration_steps), "at least 100");
-  require(o.ladder_max_level >= 0, "ladder_max_level", o.ladder_max_level, "non-negative");
-  require(o.ladder_tolerance >= 0.0 && o.ladder_tolerance < 0.1, "ladder_tolerance", o.ladder_tolerance,
-          "in [0, 0.1)");
+void ContinuationOptions::validate() const {
+  using namespace option_checks;
+  const char* owner = "continuation";
+  require_positive(owner, "energy_max", energy_max);
+  require_in_open(owner, "start_energy_fraction", start_energy_fraction, 0.0, 1.0);
+  require(integration_tolerance >= 1e-15 && integration_tolerance <= 1e-6, owner, "integration_tolerance",
+          "a number in [1e-15, 1e-6]", integration_tolerance);
+  require(variational_tolerance >= integration_tolerance && variational_tolerance <= 1e-6, owner,
+          "variational_tolerance", "a number between integration_tolerance and 1e-6", variational_tolerance);
+  require_in_open(owner, "closure_tolerance", closure_tolerance, 0.0, 1e-2);
+  require(closure_tolerance >= 10.0 * integration_tolerance, owner, "closure_tolerance",
+          "at least 10 times integration_tolerance (Newton cannot beat the integrator)", closure_tolerance);
+  require(newton_tolerance_max >= integration_tolerance && newton_tolerance_max <= 1e-6, owner,
+          "newton_tolerance_max", "a number between integration_tolerance and 1e-6", newton_tolerance_max);
+  require_at_least(owner, "max_newton_iterations", max_newton_iterations, 2);
+  require_positive(owner, "min_step", min_step);
+  require(initial_step >= min_step && initial_step <= max_step, owner, "initial_step",
+          "a number between min_step and max_step", initial_step);
+  require_in_left_open(owner, "max_energy_step_fraction", max_energy_step_fraction, 0.0, 1.0);
+  require_in_left_open(owner, "straight_energy_step_fraction", straight_energy_step_fraction, 0.0, 1.0);
+  require_in_open(owner, "backbone_tolerance", backbone_tolerance, 0.0, 0.1);
+  require_at_least(owner, "max_points", max_points, 2);
+  require_at_least(owner, "variational_nodes_per_period", variational_nodes_per_period, 0);
+  require_at_least(owner, "samples_per_period", samples_per_period, 16);
+  require(partner_resolution >= 0.0 && partner_resolution < 0.5, owner, "partner_resolution",
+          "a number in [0, 0.5)", partner_resolution);
+  require_in_open(owner, "stability_tolerance", stability_tolerance, 0.0, 0.1);
+  require(escape_radius_factor > 1.0, owner, "escape_radius_factor", "a number above 1",
+          escape_radius_factor);
+  require(max_period_factor > 1.0, owner, "max_period_factor", "a number above 1", max_period_factor);
+  require(max_integration_steps >= 100, owner, "max_integration_steps", "a whole number >= 100",
+          max_integration_steps);
+  require_at_least(owner, "ladder_max_level", ladder_max_level, 0);
+  require(ladder_tolerance >= 0.0 && ladder_tolerance < 0.1, owner, "ladder_tolerance",
+          "a number in [0, 0.1)", ladder_tolerance);
 }
 
 namespace {
@@ -336,7 +324,7 @@ class FamilySolver {
 FamilySolver::FamilySolver(const VibrationalSystem& system, const FamilySeed& seed,
                            const ContinuationOptions& options)
     : system_(system), seed_(seed), options_(options), units_(system.units()) {
-  validate(options);
+  options.validate();
   n_ = system.dimension();
   if (n_ < 1) throw Error(fmt::format("vibrational system dimension must be at least 1, got {}", n_));
   if (seed.linear_mode.size() != n_)

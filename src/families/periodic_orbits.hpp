@@ -162,10 +162,11 @@ struct ContinuationOptions {
   // Told the energy (system units) of every accepted point, on the thread running the
   // continuation; must not throw. Empty: nobody listens.
   std::function<void(double energy)> on_point;
-};
 
-// Validates every field; throws Error naming the field, its value and the constraint.
-void validate(const ContinuationOptions& options);
+  // Throws Error naming the field, what it may be and what it was. energy_max has no
+  // valid default: it must be set first.
+  void validate() const;
+};
 
 enum class ContinuationStatus {
   reached_energy_max,  // the last point is at energy_max

@@ -4,6 +4,7 @@
 
 #include <cmath>
 
+#include "core/option_checks.hpp"
 #include "core/units.hpp"
 
 namespace overtone {
@@ -27,9 +28,14 @@ double cubic_coupling(const VibrationalSystem& system, int lower, int partner, d
 
 }  // namespace
 
+void ResonantSeedOptions::validate() const {
+  option_checks::require_non_negative("resonant seed", "relative_detuning", relative_detuning);
+}
+
 std::vector<ResonantFamily> resonant_families(const VibrationalSystem& system,
                                               const std::vector<ModeBlock>& blocks, const FamilyType& lower,
                                               double start_energy, const ResonantSeedOptions& options) {
+  options.validate();
   std::vector<ResonantFamily> result;
   if (!(options.relative_detuning > 0.0) || lower.block < 0) return result;
   const ModeBlock& block = blocks[static_cast<std::size_t>(lower.block)];

@@ -24,6 +24,8 @@ struct ResonantSeedOptions {
   // Further off resonance the lower mode's family exists down to the minimum and the
   // other mixed family is born by period doubling of the partner's (branch switching).
   double relative_detuning = 1e-3;
+
+  void validate() const;  // throws Error naming the field that is out of range
 };
 
 // One mixed family of a 1:2 resonance: its type (symmetry of the lower mode's family,

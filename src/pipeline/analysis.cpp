@@ -12,7 +12,9 @@
 #include <vector>
 
 #include "core/error.hpp"
+#include "core/option_checks.hpp"
 #include "core/units.hpp"
+#include "core/warnings.hpp"
 #include "families/amplitude_scan.hpp"
 #include "potential/mmff_potential.hpp"
 #include "potential/openbabel_potential.hpp"
@@ -33,26 +35,64 @@ double seconds_since(std::chrono::steady_clock::time_point start) {
   return std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count();
 }
 
+// Why a structure cannot be expanded about (fit: it can). The values are those every
+// expanding stage's status shares.
+enum class Unfit { fit, not_converged, not_a_minimum, no_modes };
+
+struct MinimumVerdict {
+  Unfit reason = Unfit::fit;
+  std::string message;  // what the user reads; empty when fit
+};
+
 // The anharmonic and families stages expand the potential about a minimum; anywhere
 // else their numbers would be meaningless. A minimum: converged, and every harmonic
 // wavenumber at least smallest_cm1 (the force-constant stage's own limit).
-void require_minimum(const AnalysisResult& analysis, const std::string& stage, double smallest_cm1) {
+MinimumVerdict check_minimum(const AnalysisResult& analysis, const std::string& stage, double smallest_cm1) {
   if (analysis.optimized && !analysis.optimization.converged())
-    throw Error(stage + " needs a minimum, but the optimization did not converge (" +
-                analysis.optimization.message + "); try another potential or a better starting structure");
+    return {analysis.optimization.status == MinimizeStatus::saddle_point ? Unfit::not_a_minimum
+                                                                         : Unfit::not_converged,
+            stage + " needs a minimum, but the optimization did not converge (" +
+                analysis.optimization.message + "); try another potential or a better starting structure"};
   const Eigen::VectorXd& frequencies = analysis.harmonic.frequencies_cm1;
-  if (frequencies.size() == 0) throw Error(stage + " needs vibrational modes, and this molecule has none");
+  if (frequencies.size() == 0)
+    return {Unfit::no_modes, stage + " needs vibrational modes, and this molecule has none"};
   if (frequencies.minCoeff() <= 0.0)
-    throw Error(
-        fmt::format("{} needs a minimum, but the structure has an imaginary frequency ({:.1f}i cm-1): "
-                    "it is a saddle point of the potential",
-                    stage, std::abs(frequencies.minCoeff())));
+    return {Unfit::not_a_minimum,
+            fmt::format("{} needs a minimum, but the structure has an imaginary frequency ({:.1f}i cm-1): "
+                        "it is a saddle point of the potential",
+                        stage, std::abs(frequencies.minCoeff()))};
   if (frequencies.minCoeff() < smallest_cm1)
-    throw Error(
-        fmt::format("{} needs a minimum with every harmonic wavenumber at or above {} cm-1, but the "
-                    "softest mode is at {:.2f} cm-1: a nearly free motion, not a vibration about a "
-                    "minimum",
-                    stage, smallest_cm1, frequencies.minCoeff()));
+    return {Unfit::not_a_minimum,
+            fmt::format("{} needs a minimum with every harmonic wavenumber at or above {} cm-1, but the "
+                        "softest mode is at {:.2f} cm-1: a nearly free motion, not a vibration about a "
+                        "minimum",
+                        stage, smallest_cm1, frequencies.minCoeff())};
+  return {};
+}
+
+// The status of an expanding stage (AnharmonicStatus, FamiliesStatus) for a verdict.
+template <typename Status>
+Status status_for(Unfit reason) {
+  switch (reason) {
+    case Unfit::fit:
+      return Status::ok;
+    case Unfit::not_converged:
+      return Status::not_converged;
+    case Unfit::not_a_minimum:
+      return Status::not_a_minimum;
+    case Unfit::no_modes:
+      return Status::no_modes;
+  }
+  return Status::not_a_minimum;
+}
+
+// The verdict as the result of a stage that did not run; false when it may run.
+template <typename Result>
+bool refused(const MinimumVerdict& verdict, Result& result) {
+  if (verdict.reason == Unfit::fit) return false;
+  result.status = status_for<decltype(result.status)>(verdict.reason);
+  result.message = verdict.message;
+  return true;
 }
 
 double seconds_between(std::chrono::steady_clock::time_point start,
@@ -101,15 +141,55 @@ std::optional<RelaxedStart> lowest_relaxed_start(const Molecule& molecule, const
   return lowest;
 }
 
+// The expansion's warnings through one channel: each stage's list with repeats merged,
+// and the two gathered in the result.
+void gather_warnings(AnharmonicResult& result) {
+  std::vector<std::string> all = result.force_constants.warnings;
+  all.insert(all.end(), result.vpt2.warnings.begin(), result.vpt2.warnings.end());
+  result.warnings = merge_repeated_warnings(all);
+  result.force_constants.warnings = merge_repeated_warnings(result.force_constants.warnings);
+  result.vpt2.warnings = merge_repeated_warnings(result.vpt2.warnings);
+}
+
 }  // namespace
+
+std::string to_string(AnalysisStatus status) {
+  switch (status) {
+    case AnalysisStatus::ok:
+      return "ok";
+    case AnalysisStatus::not_converged:
+      return "not_converged";
+    case AnalysisStatus::not_a_minimum:
+      return "not_a_minimum";
+  }
+  return "unknown";
+}
+
+std::string to_string(AnharmonicStatus status) {
+  switch (status) {
+    case AnharmonicStatus::ok:
+      return "ok";
+    case AnharmonicStatus::not_converged:
+      return "not_converged";
+    case AnharmonicStatus::not_a_minimum:
+      return "not_a_minimum";
+    case AnharmonicStatus::no_modes:
+      return "no_modes";
+  }
+  return "unknown";
+}
 
 AnharmonicResult analyze_anharmonic(const AnalysisResult& analysis, const Potential& potential,
                                     const AnharmonicOptions& given_options) {
-  require_minimum(analysis, "the anharmonic analysis", given_options.force_constants.minimum_frequency_cm1);
+  given_options.validate();
+  AnharmonicResult result;
+  if (refused(check_minimum(analysis, "the anharmonic analysis",
+                            given_options.force_constants.minimum_frequency_cm1),
+              result))
+    return result;
   AnharmonicOptions options = given_options;
   if (!options.force_constants.progress) options.force_constants.progress = options.progress;
   if (!options.vpt2.progress) options.vpt2.progress = options.progress;
-  AnharmonicResult result;
   const auto start = std::chrono::steady_clock::now();
   if (analysis.symmetry_used) {
     SymmetryAdaptedHarmonic adapted =
@@ -121,13 +201,21 @@ AnharmonicResult analyze_anharmonic(const AnalysisResult& analysis, const Potent
     result.harmonic = analysis.harmonic;
     result.force_constants = compute_force_constants(potential, result.harmonic, options.force_constants);
   }
-  if (!result.force_constants.ok())
-    throw Error("the force constants could not be computed: " + result.force_constants.message);
+  if (!result.force_constants.ok()) {
+    // The same limit as check_minimum's, so this is only reached through a caller's own
+    // force-constant options.
+    result.status = AnharmonicStatus::not_a_minimum;
+    result.message = "the force constants could not be computed: " + result.force_constants.message;
+    return result;
+  }
   const auto middle = std::chrono::steady_clock::now();
   result.vpt2 = run_vpt2(result.force_constants, result.harmonic, options.vpt2);
   result.force_constants_s = seconds_between(start, middle);
   result.vpt2_s = seconds_since(middle);
   result.set_numbers = set_numbers_from_mode_order(result.vpt2, report_mode_order(analysis));
+  gather_warnings(result);
+  result.message = fmt::format("{} levels, {} resonance candidates", result.vpt2.levels.size(),
+                               result.vpt2.resonances.size());
   return result;
 }
 
@@ -136,32 +224,40 @@ namespace {
 // A scan that turns over at its first displacement found no barrier at all: along that
 // coordinate the energy falls (or cannot be evaluated) right next to the structure, which
 // is then no minimum of the potential there, whatever the Hessian said.
-void require_rise_along_every_mode(const AnalysisResult& analysis, const AmplitudeScanResult& scan,
-                                   const AmplitudeScanOptions& scan_options) {
+MinimumVerdict check_rise_along_every_mode(const AnalysisResult& analysis, const AmplitudeScanResult& scan,
+                                           const AmplitudeScanOptions& scan_options) {
   for (const TurnoverFinding& finding : scan.findings) {
     if (finding.barrier_cm1 > 0.0) continue;
     const int fundamental = fundamental_of_mode_number(
         analysis.modes, mode_number_of_index(analysis.modes).at(static_cast<std::size_t>(finding.mode)));
     const double first_q = std::sqrt(2.0 * scan_options.max_quanta + 1.0) / scan_options.points;
-    throw Error(fmt::format(
-        "the structure is not a minimum of this potential along ν{}: in the {} direction the energy {} at "
-        "the "
-        "first step of the amplitude scan ({:.3g} of the dimensionless normal coordinate){}; the families of "
-        "nonlinear normal modes need a minimum",
-        fundamental, finding.direction > 0 ? "positive" : "negative",
-        finding.note.empty() ? "already falls below the structure's" : "cannot be evaluated", first_q,
-        finding.note.empty() ? "" : " (" + finding.note + ")"));
+    return {Unfit::not_a_minimum,
+            fmt::format("the structure is not a minimum of this potential along ν{}: in the {} direction the "
+                        "energy {} at the first step of the amplitude scan ({:.3g} of the dimensionless "
+                        "normal coordinate){}; the families of nonlinear normal modes need a minimum",
+                        fundamental, finding.direction > 0 ? "positive" : "negative",
+                        finding.note.empty() ? "already falls below the structure's" : "cannot be evaluated",
+                        first_q, finding.note.empty() ? "" : " (" + finding.note + ")")};
   }
+  return {};
 }
 
 }  // namespace
 
 FamiliesResult analyze_families(const AnalysisResult& analysis, const Potential& potential,
                                 const FamiliesOptions& options) {
-  require_minimum(analysis, "the families of nonlinear normal modes", smallest_expanded_wavenumber_cm1);
-  if (!analysis.symmetry_used)
-    throw Error(
-        "the families of nonlinear normal modes need the point group; run the analysis with symmetry");
+  options.validate();
+  FamiliesResult refusal;
+  if (refused(
+          check_minimum(analysis, "the families of nonlinear normal modes", smallest_expanded_wavenumber_cm1),
+          refusal))
+    return refusal;
+  if (!analysis.symmetry_used) {
+    refusal.status = FamiliesStatus::no_point_group;
+    refusal.message =
+        "the families of nonlinear normal modes need the point group; run the analysis with symmetry";
+    return refusal;
+  }
   // Quartic force fields and Taylor expansions often turn over at large amplitude; a
   // scan along every normal coordinate says where, before a backbone runs into it, and
   // lets a continuation that fails just below the lowest barrier be called an escape.
@@ -171,7 +267,7 @@ FamiliesResult analyze_families(const AnalysisResult& analysis, const Potential&
   AmplitudeScanOptions scan_options;
   scan_options.max_quanta = std::max(scan_options.max_quanta, top_energy_cm1 / frequencies.minCoeff());
   const AmplitudeScanResult scan = scan_normal_coordinates(potential, analysis.harmonic, scan_options);
-  require_rise_along_every_mode(analysis, scan, scan_options);
+  if (refused(check_rise_along_every_mode(analysis, scan, scan_options), refusal)) return refusal;
   MolecularSystemOptions system_options;
   if (scan.turns_over) system_options.escape_energy_cm1 = scan.lowest_barrier_cm1;
   FamiliesResult result =
@@ -188,6 +284,9 @@ FamiliesResult analyze_families(const AnalysisResult& analysis, const Potential&
         fundamental, finding.direction > 0 ? "positive" : "negative", finding.barrier_cm1,
         finding.hole ? " and falls into a hole" : ""));
   }
+  result.warnings = merge_repeated_warnings(result.warnings);
+  for (FamilyResult& family : result.families)
+    family.backbone.warnings = merge_repeated_warnings(family.backbone.warnings);
   return result;
 }
 
@@ -259,9 +358,6 @@ namespace {
 // and, for ConformerSearch::analyse_best, replaces that optimization with one from the
 // lowest structure found.
 void search_conformers(AnalysisResult& result, const Potential& potential, const AnalysisOptions& options) {
-  if (!(options.conformer_energy_margin_kcal_mol >= 0.0))
-    throw Error(fmt::format("analysis option conformer_energy_margin_kcal_mol must be non-negative, got {}",
-                            options.conformer_energy_margin_kcal_mol));
   ConformerFindings& findings = result.conformers;
   findings.searched = true;
   findings.input_minimum_kcal_mol = result.optimization.energy_kcal_mol;
@@ -296,10 +392,50 @@ void search_conformers(AnalysisResult& result, const Potential& potential, const
                   gap, gap * units::cm1_per_kcal_mol, findings.best_origin, findings.starts));
 }
 
+// The verdicts of the optimization and the harmonic analysis on the structure reached.
+void set_status(AnalysisResult& result) {
+  const std::string harmonic = "harmonic analysis: " + result.harmonic.message;
+  if (result.optimized && !result.optimization.converged()) {
+    result.status = result.optimization.status == MinimizeStatus::saddle_point
+                        ? AnalysisStatus::not_a_minimum
+                        : AnalysisStatus::not_converged;
+    result.message = "optimization: " + result.optimization.message + "; " + harmonic;
+    return;
+  }
+  result.status = result.harmonic.ok() ? AnalysisStatus::ok : AnalysisStatus::not_a_minimum;
+  result.message =
+      result.optimized ? "optimization: " + result.optimization.message + "; " + harmonic : harmonic;
+}
+
 }  // namespace
 
+void AnalysisOptions::validate() const {
+  option_checks::require_non_negative("analysis", "conformer_energy_margin_kcal_mol",
+                                      conformer_energy_margin_kcal_mol);
+  minimize.validate();
+  conformer_starts.validate();
+  hessian.validate();
+  modes.validate();
+  symmetry.validate();
+  species.validate();
+}
+
+void AnharmonicOptions::validate() const {
+  force_constants.validate();
+  vpt2.validate();
+}
+
+AnalysisOptions options_for_steps(const AnalysisOptions& options) {
+  AnalysisOptions steps = options;
+  steps.hessian.linearity_tolerance = options.modes.linearity_tolerance;
+  steps.minimize.linearity_tolerance = options.modes.linearity_tolerance;
+  return steps;
+}
+
 AnalysisResult analyze_molecule(const Molecule& molecule, const Potential& potential,
-                                const AnalysisOptions& options) {
+                                const AnalysisOptions& given_options) {
+  given_options.validate();
+  const AnalysisOptions options = options_for_steps(given_options);
   if (molecule.atom_count() != potential.atom_count())
     throw Error("the potential was set up for a different molecule (atom counts differ)");
   AnalysisResult result;
@@ -385,6 +521,8 @@ AnalysisResult analyze_molecule(const Molecule& molecule, const Potential& poten
   for (const auto& warning : potential.warnings()) result.warnings.push_back(warning);
   result.modes = number_modes(result.harmonic, result.symmetry_used ? &result.mode_symmetry : nullptr,
                               result.molecule.atom_count());
+  result.warnings = merge_repeated_warnings(result.warnings);
+  set_status(result);
   return result;
 }
 

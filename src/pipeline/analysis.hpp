@@ -42,6 +42,8 @@ struct AnalysisOptions {
   // force fields do not order conformers that close reliably.
   double conformer_energy_margin_kcal_mol = 0.1;
   HessianOptions hessian;
+  // modes.linearity_tolerance governs the whole run: it replaces the Hessian's and the
+  // optimizer's own (options_for_steps).
   NormalModeOptions modes;
   // Detect the point group of the optimized structure, symmetrize geometry and
   // Hessian (exactly degenerate frequencies) and assign mode species.
@@ -51,6 +53,9 @@ struct AnalysisOptions {
   // Told when each step starts (stage "optimize", "conformer search", "Hessian", "normal
   // modes"; no counts: these steps are short next to the later stages).
   ProgressCallback progress;
+
+  // Throws Error naming the field that is out of range, here or in the options held.
+  void validate() const;
 };
 
 struct StageTimings {
@@ -73,8 +78,18 @@ struct ConformerFindings {
   bool analysed_lowest_found = true;  // false: a lower conformer was found and not analysed
 };
 
+// Whether the analysed structure is a minimum the later stages can expand about.
+// not_converged: the optimization stopped short of its criterion; not_a_minimum: it ended on
+// a saddle point, or the harmonic analysis found an imaginary mode beyond
+// NormalModeOptions::imaginary_warning_cm1. The harmonic results are still those of the
+// structure reached.
+enum class AnalysisStatus { ok, not_converged, not_a_minimum };
+std::string to_string(AnalysisStatus status);
+
 struct AnalysisResult {
-  Molecule molecule;  // at the analysed (optimized) geometry
+  AnalysisStatus status = AnalysisStatus::ok;
+  std::string message;  // the optimization's and the harmonic analysis's verdicts
+  Molecule molecule;    // at the analysed (optimized) geometry
   std::string potential_description;
   bool optimized = false;
   MinimizeResult optimization;  // filled when optimized
@@ -87,8 +102,17 @@ struct AnalysisResult {
   // Reported modes in report order (numbering rule: pipeline/mode_numbering.hpp).
   std::vector<ModeLabel> modes;
   StageTimings timings;
+  // Of every step and the potential, a repeated warning once with its count
+  // (merge_repeated_warnings).
   std::vector<std::string> warnings;
+
+  bool ok() const { return status == AnalysisStatus::ok; }
 };
+
+// The options each step of analyze_molecule runs with: these, with the one linearity
+// tolerance of the run (modes.linearity_tolerance) in the optimizer's and the Hessian's
+// options as well, so that every step agrees on which molecules are linear.
+AnalysisOptions options_for_steps(const AnalysisOptions& options);
 
 // Throws Error for bad input (sizes, options); numerical outcomes (optimization not
 // converged, saddle point, imaginary frequencies) are reported in the result.
@@ -112,9 +136,20 @@ struct AnharmonicOptions {
   Vpt2Options vpt2;
   // Given to the force constants and VPT2 where their own progress fields are empty.
   ProgressCallback progress;
+
+  void validate() const;  // throws Error naming the field that is out of range in the options held
 };
 
+// Why the expansion did not run (the message says it in the user's words): the optimization
+// did not converge (not_converged); a saddle point, an imaginary or too soft mode, or force
+// constants refused for the same reason (not_a_minimum); a molecule without vibrations
+// (no_modes). VPT2 has not run then; only refused force constants leave theirs filled.
+enum class AnharmonicStatus { ok, not_converged, not_a_minimum, no_modes };
+std::string to_string(AnharmonicStatus status);
+
 struct AnharmonicResult {
+  AnharmonicStatus status = AnharmonicStatus::ok;
+  std::string message;
   // The harmonic result the constants refer to: the analysis's, with degenerate modes
   // rotated into symmetry-adapted partners when the point group is known.
   HarmonicResult harmonic;
@@ -123,18 +158,23 @@ struct AnharmonicResult {
   std::vector<int> set_numbers;  // ν number of each Vpt2Result::sets entry (report numbering)
   double force_constants_s = 0.0;
   double vpt2_s = 0.0;
+  // Of the force constants and VPT2, a repeated warning once with its count.
+  std::vector<std::string> warnings;
+
+  bool ok() const { return status == AnharmonicStatus::ok; }
 };
 
 // Cubic and quartic force constants at the analysed minimum, then VPT2 with resonances.
-// Throws Error when the structure is not a minimum (imaginary or near-zero frequencies,
-// optimization not converged) or the force constants cannot be computed, with the reason.
+// A structure that is not a minimum (optimization not converged, imaginary or near-zero
+// frequencies) is a status with the reason; throws Error for invalid options.
 AnharmonicResult analyze_anharmonic(const AnalysisResult& analysis, const Potential& potential,
                                     const AnharmonicOptions& options = {});
 
 // The symmetry-predicted families of nonlinear normal modes of every mode (or of
-// options.mode_numbers, report numbering) and their backbone curves. Throws Error when the
-// structure is not a minimum or the options are invalid; a family whose continuation stops
-// reports why in its result.
+// options.mode_numbers, report numbering) and their backbone curves. A structure that is
+// not a minimum (also along a mode, by the amplitude scan) or an analysis without the point
+// group is a status with the reason; throws Error for invalid options. A family whose
+// continuation stops reports why in its result.
 FamiliesResult analyze_families(const AnalysisResult& analysis, const Potential& potential,
                                 const FamiliesOptions& options);
 

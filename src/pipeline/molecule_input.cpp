@@ -9,6 +9,7 @@
 
 #include "core/error.hpp"
 #include "core/text.hpp"
+#include "core/warnings.hpp"
 
 namespace overtone {
 
@@ -78,6 +79,7 @@ LoadedMolecule load_molecule(const MoleculeInput& input) {
       loaded.molecule.title = std::filesystem::path(input.path_or_smiles).stem().string();
     apply_isotopes(loaded.molecule, input.isotopes);
     loaded.is_taylor_expansion = true;
+    loaded.warnings = merge_repeated_warnings(loaded.warnings);
     return loaded;
   }
   ReadOptions options;
@@ -87,7 +89,7 @@ LoadedMolecule load_molecule(const MoleculeInput& input) {
   options.incomplete_structures = input.incomplete_structures;
   ReadResult read = read_molecule(input.path_or_smiles, options);
   loaded.molecule = std::move(read.molecule);
-  loaded.warnings = std::move(read.warnings);
+  loaded.warnings = merge_repeated_warnings(read.warnings);
   return loaded;
 }
 

@@ -7,6 +7,7 @@
 #include <cmath>
 
 #include "core/error.hpp"
+#include "core/option_checks.hpp"
 #include "families/molecular_system.hpp"
 
 namespace overtone {
@@ -73,15 +74,13 @@ double largest_atom_distance(const Eigen::VectorXd& displacement) {
 }  // namespace
 
 void OrbitFramesOptions::validate() const {
-  for (double energy : energies_cm1)
-    if (!(std::isfinite(energy) && energy > 0.0))
-      throw Error(fmt::format("orbit energies must be positive numbers of cm-1, got {}", energy));
-  if (!(std::isfinite(default_quanta) && default_quanta > 0.0))
-    throw Error(fmt::format("default_quanta must be positive, got {}", default_quanta));
-  if (frames_per_period < 4 || frames_per_period > 1000)
-    throw Error(fmt::format("frames_per_period must be between 4 and 1000, got {}", frames_per_period));
-  if (!(integration_tolerance > 0.0 && integration_tolerance < 1e-3))
-    throw Error(fmt::format("integration_tolerance must be in (0, 1e-3), got {}", integration_tolerance));
+  using namespace option_checks;
+  const char* owner = "orbit frames";
+  for (const double energy : energies_cm1) require_positive(owner, "energies_cm1", energy);
+  require_positive(owner, "default_quanta", default_quanta);
+  require(frames_per_period >= 4 && frames_per_period <= 1000, owner, "frames_per_period",
+          "a whole number in [4, 1000]", frames_per_period);
+  require_in_open(owner, "integration_tolerance", integration_tolerance, 0.0, 1e-3);
 }
 
 OrbitFramesResult sample_family_orbits(const AnalysisResult& analysis, const Potential& potential,

@@ -9,6 +9,7 @@
 #include <numeric>
 
 #include "core/error.hpp"
+#include "core/option_checks.hpp"
 
 namespace overtone {
 
@@ -17,6 +18,7 @@ namespace {
 const char* nu(bool ascii) { return ascii ? "v" : "ν"; }
 
 std::vector<int> numbers_for(const Vpt2Result& vpt2, const AnharmonicReportOptions& options) {
+  options.validate();
   if (options.set_numbers.empty()) return default_set_numbers(vpt2);
   if (options.set_numbers.size() != vpt2.sets.size())
     throw Error(fmt::format("the report needs one number per degenerate set ({}), got {}", vpt2.sets.size(),
@@ -404,6 +406,14 @@ std::string intensity_columns(const LevelIntensityResult* intensities, int index
 }
 
 }  // namespace
+
+void AnharmonicReportOptions::validate() const {
+  using namespace option_checks;
+  const char* owner = "anharmonic report";
+  for (const int number : set_numbers) require_at_least(owner, "set_numbers", number, 1);
+  require(detail == ReportDetail::summary || detail == ReportDetail::full, owner, "detail", "summary or full",
+          static_cast<int>(detail));
+}
 
 std::string line_list_csv(const Vpt2Result& vpt2, const AnharmonicReportOptions& options) {
   const std::vector<int> numbers = numbers_for(vpt2, options);

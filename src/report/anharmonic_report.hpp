@@ -31,6 +31,8 @@ struct AnharmonicReportOptions {
   // Line-list intensities (per Vpt2Result level) for the CSV's intensity columns; null:
   // the columns stay empty.
   const LevelIntensityResult* intensities = nullptr;
+
+  void validate() const;  // throws Error naming the field that is out of range
 };
 
 // "ν1", "2ν2", "ν1+ν3" (numbers in ascending order); ASCII uses "v".

@@ -7,6 +7,7 @@
 
 #include "anharmonic/taylor_export.hpp"
 #include "core/error.hpp"
+#include "core/option_checks.hpp"
 #include "core/text.hpp"
 #include "report/anharmonic_json.hpp"
 #include "report/anharmonic_report.hpp"
@@ -174,7 +175,13 @@ void write_json(std::ostream& out, const nlohmann::json& document) {
   out << "\n";
 }
 
+void TextReportOptions::validate() const {
+  option_checks::require(detail == ReportDetail::summary || detail == ReportDetail::full, "text report",
+                         "detail", "summary or full", static_cast<int>(detail));
+}
+
 std::string text_report(const RunResults& results, const TextReportOptions& options) {
+  options.validate();
   const AnalysisResult& analysis = analysis_of(results);
   const bool full = options.detail == ReportDetail::full;
   std::string text = modes_table(analysis);

@@ -64,6 +64,8 @@ struct TextReportOptions {
   ReportDetail detail = ReportDetail::summary;
   // Where the full lists were written, said in the summary (AnharmonicReportOptions).
   std::string full_lists_note;
+
+  void validate() const;  // throws Error naming the field that is out of range
 };
 
 // The console report: the modes table, then each later stage that ran, then (when both

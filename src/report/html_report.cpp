@@ -9,6 +9,7 @@
 #include <string_view>
 
 #include "core/error.hpp"
+#include "core/option_checks.hpp"
 #include "core/text.hpp"
 #include "core/units.hpp"
 
@@ -375,11 +376,25 @@ std::string family_animation_xyz(const json& document, int family) {
   return text;
 }
 
+void HtmlReportOptions::validate() const {
+  using namespace option_checks;
+  const char* owner = "html report";
+  require_at_least(owner, "mode_frames", mode_frames, 2);
+  if (!observed) return;
+  // The limits parse_observed_csv keeps, for a spectrum built in code.
+  for (const ObservedSpectrum::Band& band : observed->bands) {
+    require_in_left_open(owner, "observed.bands.wavenumber_cm1", band.wavenumber_cm1, 0.0,
+                         max_observed_wavenumber_cm1);
+    if (band.intensity)
+      require(std::isfinite(*band.intensity), owner, "observed.bands.intensity", "a finite number",
+              *band.intensity);
+  }
+}
+
 std::string html_report(const json& document, const HtmlReportOptions& options) {
+  options.validate();
   required_array(document, "atoms");
   required_array(document, "modes");
-  if (options.mode_frames < 2)
-    throw Error(fmt::format("expected at least 2 animation frames, found {}", options.mode_frames));
   json data = page_document(document);
   json scales = json::array();
   for (double scale : mode_animation_scales_angstrom(document))

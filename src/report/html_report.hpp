@@ -44,6 +44,9 @@ struct HtmlReportOptions {
   std::optional<ObservedSpectrum> observed;
   // Frames of one period in the page's mode animations and in animations/mode-NN.xyz.
   int mode_frames = 20;
+
+  // Throws Error naming the field that is out of range (mode_frames, a band of observed).
+  void validate() const;
 };
 
 // The page. Throws Error when the document lacks what every run writes (atoms, modes).

@@ -4,6 +4,8 @@
 #include <cmath>
 #include <sstream>
 
+#include "core/option_checks.hpp"
+
 namespace overtone {
 
 std::size_t display_width(const std::string& utf8) {
@@ -95,8 +97,13 @@ std::string atom_list(const std::vector<int>& atoms) {
 
 }  // namespace
 
+void SymmetryReportOptions::validate() const {
+  option_checks::require_at_least("symmetry report", "max_operations_listed", max_operations_listed, 0);
+}
+
 std::string format_symmetry_report(const PointGroupResult& result, const ModeSymmetryResult* modes,
                                    const SymmetryReportOptions& options) {
+  options.validate();
   const PointGroup& g = result.group;
   const CharacterTable& table = g.character_table;
   std::ostringstream out;

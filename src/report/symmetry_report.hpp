@@ -18,9 +18,12 @@ struct SymmetryReportOptions {
   // Operations tables are long for large groups; beyond this many operations only the
   // classes are listed.
   int max_operations_listed = 48;
+
+  void validate() const;  // throws Error naming the field that is out of range
 };
 
-// Never throws for a result produced by detect_point_group / assign_mode_species.
+// Never throws for a result produced by detect_point_group / assign_mode_species, with
+// valid options.
 std::string format_symmetry_report(const PointGroupResult& group, const ModeSymmetryResult* modes = nullptr,
                                    const SymmetryReportOptions& options = {});
 

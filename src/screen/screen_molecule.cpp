@@ -14,6 +14,7 @@
 #include <set>
 
 #include "core/error.hpp"
+#include "core/warnings.hpp"
 #include "molecule/read_molecule.hpp"
 #include "potential/make_potential.hpp"
 #include "report/anharmonic_report.hpp"
@@ -323,51 +324,64 @@ class MoleculeScreen {
     outcome.variant = variant;
     const auto start = std::chrono::steady_clock::now();
     try {
-      enter(screen_stage::harmonic);
-      AnalysisOptions options;
-      options.symmetry.tolerance_angstrom = settings_.symmetry_tolerance_angstrom;
-      run.analysis = analyze_molecule(molecule, potential, options);
-      const AnalysisResult& analysis = *run.analysis;
-      outcome.warnings = analysis.warnings;
-      add_harmonic_rows(analysis, outcome);
-      check_minimum(analysis, outcome);
-      if (outcome.status == status_failed || harmonic_only || settings_.stages == ScreenStages::harmonic) {
-        outcome.seconds = seconds_since(start);
-        return run;
-      }
-      enter(screen_stage::anharmonic);
-      AnharmonicOptions anharmonic_options;
-      anharmonic_options.vpt2.exclude_below_cm1 = settings_.vpt2_exclude_below_cm1;
-      // Without a stored line list only the fundamentals and the resonances' upper levels
-      // (fundamentals, overtones) are read; the combination levels were most of the work.
-      anharmonic_options.vpt2.include_combination_levels = settings_.levels;
-      const AnharmonicResult anharmonic = analyze_anharmonic(analysis, potential, anharmonic_options);
-      for (const std::string& warning : anharmonic.vpt2.warnings) outcome.warnings.push_back(warning);
-      add_anharmonic_rows(analysis, anharmonic, anharmonic_options.vpt2, settings_.levels, outcome);
-      if (settings_.stages == ScreenStages::families) {
-        enter(screen_stage::families);
-        const FamiliesResult families =
-            analyze_families(analysis, potential, screen_families_options(analysis, anharmonic, settings_));
-        add_family_rows(analysis, families, outcome);
-      }
+      run_stages(molecule, potential, harmonic_only, run);
     } catch (const Error& error) {
-      outcome.status = status_failed;
-      outcome.failed_stage = stage_;
-      outcome.message = error.what();
+      fail(outcome, error.what());
     } catch (const std::bad_alloc&) {
-      outcome.status = status_failed;
-      outcome.failed_stage = stage_;
-      outcome.message = "ran out of memory (the worker's memory limit, or the machine's, was reached)";
+      fail(outcome, "ran out of memory (the worker's memory limit, or the machine's, was reached)");
     } catch (const std::exception& error) {
-      outcome.status = status_failed;
-      outcome.failed_stage = stage_;
-      outcome.message = std::string("internal error: ") + error.what();
+      fail(outcome, std::string("internal error: ") + error.what());
     }
+    outcome.warnings = merge_repeated_warnings(outcome.warnings);
     outcome.seconds = seconds_since(start);
     return run;
   }
 
  private:
+  void fail(VariantOutcome& outcome, const std::string& message) const {
+    outcome.status = status_failed;
+    outcome.failed_stage = stage_;
+    outcome.message = message;
+  }
+
+  // The stages up to the settings' last; a stage that cannot run for this molecule (not a
+  // minimum, say) fails the variant with its reason.
+  void run_stages(const Molecule& molecule, const Potential& potential, bool harmonic_only, VariantRun& run) {
+    VariantOutcome& outcome = run.outcome;
+    enter(screen_stage::harmonic);
+    AnalysisOptions options;
+    options.symmetry.tolerance_angstrom = settings_.symmetry_tolerance_angstrom;
+    run.analysis = analyze_molecule(molecule, potential, options);
+    const AnalysisResult& analysis = *run.analysis;
+    outcome.warnings = analysis.warnings;
+    add_harmonic_rows(analysis, outcome);
+    check_minimum(analysis, outcome);
+    if (outcome.status == status_failed || harmonic_only || settings_.stages == ScreenStages::harmonic)
+      return;
+    enter(screen_stage::anharmonic);
+    AnharmonicOptions anharmonic_options;
+    anharmonic_options.vpt2.exclude_below_cm1 = settings_.vpt2_exclude_below_cm1;
+    // Without a stored line list only the fundamentals and the resonances' upper levels
+    // (fundamentals, overtones) are read; the combination levels were most of the work.
+    anharmonic_options.vpt2.include_combination_levels = settings_.levels;
+    const AnharmonicResult anharmonic = analyze_anharmonic(analysis, potential, anharmonic_options);
+    if (!anharmonic.ok()) {
+      fail(outcome, anharmonic.message);
+      return;
+    }
+    for (const std::string& warning : anharmonic.warnings) outcome.warnings.push_back(warning);
+    add_anharmonic_rows(analysis, anharmonic, anharmonic_options.vpt2, settings_.levels, outcome);
+    if (settings_.stages != ScreenStages::families) return;
+    enter(screen_stage::families);
+    const FamiliesResult families =
+        analyze_families(analysis, potential, screen_families_options(analysis, anharmonic, settings_));
+    if (!families.ok()) {
+      fail(outcome, families.message);
+      return;
+    }
+    add_family_rows(analysis, families, outcome);
+  }
+
   const ScreenSettings& settings_;
   const StageListener& on_stage_;
   std::string stage_ = screen_stage::read;

@@ -8,6 +8,7 @@
 #include <cmath>
 
 #include "core/error.hpp"
+#include "core/option_checks.hpp"
 #include "core/text.hpp"
 #include "screen/store.hpp"
 
@@ -45,14 +46,17 @@ std::string window_text(const ScreenReportOptions& options) {
 }  // namespace
 
 void ScreenReportOptions::validate() const {
-  if (window_min_cm1 && !std::isfinite(*window_min_cm1))
-    throw Error("the window's lower end must be a number of cm-1");
-  if (window_max_cm1 && !std::isfinite(*window_max_cm1))
-    throw Error("the window's upper end must be a number of cm-1");
-  if (window_min_cm1 && window_max_cm1 && *window_min_cm1 > *window_max_cm1)
-    throw Error(fmt::format("--window A:B needs A <= B, got {}:{}", *window_min_cm1, *window_max_cm1));
-  if (min_criterion && !(std::isfinite(*min_criterion) && *min_criterion >= 0.0))
-    throw Error(fmt::format("--min-criterion must be a number >= 0 (cm-1), got {}", *min_criterion));
+  using namespace option_checks;
+  const char* owner = "screen report";
+  if (window_min_cm1)
+    require(std::isfinite(*window_min_cm1), owner, "window_min_cm1", "a finite wavenumber", *window_min_cm1);
+  if (window_max_cm1) {
+    require(std::isfinite(*window_max_cm1), owner, "window_max_cm1", "a finite wavenumber", *window_max_cm1);
+    if (window_min_cm1)
+      require(*window_min_cm1 <= *window_max_cm1, owner, "window_max_cm1",
+              fmt::format("a wavenumber >= window_min_cm1 ({})", *window_min_cm1), *window_max_cm1);
+  }
+  if (min_criterion) require_non_negative(owner, "min_criterion", *min_criterion);
 }
 
 ScreenReport screen_report(const std::string& store_path, const ScreenReportOptions& options) {

@@ -17,7 +17,7 @@ struct ScreenReportOptions {
   // (Fermi W⁴/|Δ|³, overtone-overtone W, both cm⁻¹) is at least this, flagged or not.
   std::optional<double> min_criterion;
   std::optional<long long> run_id;  // empty: every run of the store
-  void validate() const;            // throws Error for an empty or reversed window, a negative criterion
+  void validate() const;            // throws Error naming the field: a reversed window, a negative criterion
 };
 
 struct ReportedResonance {

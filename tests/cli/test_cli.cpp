@@ -438,4 +438,37 @@ TEST(Cli, ConformerSearchAnalysesTheLowerConformer) {
   EXPECT_NE(searched.out.find("point group C₂h"), std::string::npos) << searched.out;
 }
 
+// The H³⁵Cl expansion to third order with a cubic constant of 40ω: the barrier
+// (2/3)ω³/φ₃² (closed form) lies below the amplitude scan's first step, so the structure
+// is no minimum for the families. `analyze` reports the families stage as skipped, stores
+// the reason and carries on; `families`, which asked for that stage alone, ends with it.
+TEST(Cli, AStageThatCannotRunIsSkippedByAnalyzeAndRefusedAlone) {
+  constexpr double kOmegaCm1 = 2990.946;  // H35Cl harmonic wavenumber of potentials/hcl-morse.toml
+  constexpr double kCubicOverOmega = 40.0;
+  const std::string expansion = write_temp(
+      "steep-hcl.toml",
+      "format = \"overtone-taylor-expansion\"\nversion = 1\ntitle = \"steep\"\ncoordinates = \"normal\"\n"
+      "[units]\nenergy = \"cm-1\"\nlength = \"angstrom\"\n"
+      "[reference]\nelements = [\"H\", \"Cl\"]\nmasses_da = [1.007825032, 34.96885268]\n"
+      "positions = [[0, 0, 0], [0, 0, 1.27455]]\nenergy = 0\n"
+      "[normal]\ncubic = [[1, 1, 1, " +
+          std::to_string(kCubicOverOmega * kOmegaCm1) +
+          "]]\n"
+          "[[normal.modes]]\nfrequency_cm1 = " +
+          std::to_string(kOmegaCm1) + "\ndisplacement = [[0, 0, 0.104266922], [0, 0, -0.00300504037]]\n");
+  const std::string out = ::testing::TempDir() + "overtone-steep-" + std::to_string(getpid());
+  std::filesystem::remove_all(out);
+  const ProgramRun analyze = run("analyze " + expansion + " --quanta 1 --out " + out);
+  ASSERT_EQ(analyze.status, 0) << analyze.err;
+  EXPECT_NE(
+      analyze.err.find("families stage skipped: the structure is not a minimum of this potential along ν1"),
+      std::string::npos)
+      << analyze.err;
+  const nlohmann::json document = nlohmann::json::parse(slurp(out + "/analysis.json"));
+  EXPECT_NE(document["families_skipped"].get<std::string>().find("not a minimum"), std::string::npos);
+  EXPECT_TRUE(document.contains("levels"));  // the anharmonic stage ran
+  expect_one_line_error(run("families " + expansion + " --quanta 1"),
+                        "not a minimum of this potential along ν1");
+}
+
 }  // namespace

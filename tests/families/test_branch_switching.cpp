@@ -189,13 +189,13 @@ TEST(ResonantSeeds, ExactOneToTwoResonanceGivesTheTwoMixedFamiliesAndNoLoneLower
 TEST(BranchSwitching, OptionsAreChecked) {
   BranchSwitchingOptions options;
   options.depth = -1;
-  EXPECT_THROW(validate(options), Error);
+  EXPECT_THROW(options.validate(), Error);
   options = {};
   options.first_step = 0.0;
-  EXPECT_THROW(validate(options), Error);
+  EXPECT_THROW(options.validate(), Error);
   options = {};
   options.max_probes = 1;
-  EXPECT_THROW(validate(options), Error);
+  EXPECT_THROW(options.validate(), Error);
 }
 
 }  // namespace

@@ -163,11 +163,11 @@ TEST(PeriodicOrbits, CountersAreConsistent) {
 
 TEST(PeriodicOrbits, DefaultOptionsAreValidOnceEnergyIsSet) {
   ContinuationOptions options;
-  EXPECT_THROW(validate(options), Error);  // energy_max is required
+  EXPECT_THROW(options.validate(), Error);  // energy_max is required
   options.energy_max = 1.0;
-  EXPECT_NO_THROW(validate(options));
+  EXPECT_NO_THROW(options.validate());
   options.closure_tolerance = 1e-13;
-  EXPECT_THROW(validate(options), Error);
+  EXPECT_THROW(options.validate(), Error);
 }
 
 TEST(PeriodicOrbits, InconsistentSeedsAreRejected) {
